@@ -1,0 +1,334 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"text/tabwriter"
+
+	"golang.org/x/term"
+
+	"gapflux/pipeline"
+	"gapflux/scan/synth"
+)
+
+func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
+	fs := newFlags("analyze", "analyze PAN [--hob HOB] [--job JOB.toml] [--out DIR] [--json]", stderr)
+	jf := addJobFlags(fs)
+	hob := fs.String("hob", "", "hob top: a scan (STL, PLY, XYZ/CSV) or a radial profile CSV (r_mm,z_mm); default an ideal flat hob")
+	out := fs.String("out", "", "write report.json, rings.csv, maps and fields.vti into this folder")
+	asJSON := fs.Bool("json", false, "also print report.json to stdout")
+	quiet := fs.Bool("quiet", false, "print nothing but errors (and --json)")
+	if err := parse(fs, args); err != nil {
+		return exitUsage, err
+	}
+	if fs.NArg() != 1 {
+		fs.Usage()
+		return exitUsage, usagef("want exactly one scan file, got %d arguments", fs.NArg())
+	}
+	job, err := jf.job()
+	if err != nil {
+		return exitUsage, err
+	}
+	pan := fs.Arg(0)
+	res, err := pipeline.Analyze(ctx, pipeline.ScanInput{PanPath: pan, Name: filepath.Base(pan), HobPath: *hob, Job: job})
+	if err != nil {
+		return exitFail, err
+	}
+	if *out != "" {
+		if err := pipeline.WriteOutputs(res, *out); err != nil {
+			return exitFail, err
+		}
+	}
+	if !*quiet {
+		w := stdout
+		if *asJSON {
+			w = stderr
+		}
+		fmt.Fprint(w, pipeline.HumanSummary(res))
+		if *out != "" {
+			fmt.Fprintf(w, "  outputs in %s\n", *out)
+		}
+	}
+	if *asJSON {
+		b, err := pipeline.MarshalReport(res.Report)
+		if err != nil {
+			return exitFail, err
+		}
+		stdout.Write(b)
+	}
+	if v := res.Report.Verdict; v != nil && !v.Pass {
+		return exitFail, nil
+	}
+	return exitOK, nil
+}
+
+func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
+	fs := newFlags("batch", "batch DIR --out OUT [--job JOB.toml] [--workers N] [--shard K/N] [--force]", stderr)
+	jobPath := fs.String("job", "", "job file (default: DIR/job.toml when present, else the built-in defaults)")
+	out := fs.String("out", "", "output folder (required)")
+	workers := fs.Int("workers", runtime.NumCPU(), "scans analysed at once")
+	shard := fs.String("shard", "", "run only slice K of N of the sorted scan list (default: from the scheduler's array-job variables when set)")
+	force := fs.Bool("force", false, "re-run scans whose outputs are already current")
+	quiet := fs.Bool("quiet", false, "print nothing but errors (for cron)")
+	progress := fs.String("progress", "auto", "auto (bar on a terminal, lines otherwise), bar, lines or none")
+	if err := parse(fs, args); err != nil {
+		return exitUsage, err
+	}
+	if fs.NArg() != 1 || *out == "" {
+		fs.Usage()
+		return exitUsage, usagef("want one scan folder and --out")
+	}
+	dir := fs.Arg(0)
+	job, err := batchJob(dir, *jobPath)
+	if err != nil {
+		return exitUsage, err
+	}
+	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force}
+	if *shard != "" {
+		if opt.Shard, err = pipeline.ParseShard(*shard); err != nil {
+			return exitUsage, usageError{err}
+		}
+	} else if s, src, ok, err := pipeline.ShardFromEnv(os.Getenv); err != nil {
+		return exitUsage, usageError{err}
+	} else if ok {
+		opt.Shard = s
+		if !*quiet {
+			fmt.Fprintf(stderr, "shard %s from the %s array-job variables\n", s, src)
+		}
+	}
+	if err := os.MkdirAll(*out, 0o755); err != nil {
+		return exitUsage, usageError{err}
+	}
+	logf, err := os.OpenFile(filepath.Join(*out, "run.log"), os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o644)
+	if err != nil {
+		return exitUsage, usageError{err}
+	}
+	defer logf.Close()
+	opt.Log = logf
+	if !*quiet {
+		switch *progress {
+		case "auto":
+			if f, ok := stderr.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
+				opt.Progress = &pipeline.BarProgress{W: stderr}
+			} else {
+				opt.Progress = &pipeline.LineProgress{W: stderr}
+			}
+		case "bar":
+			opt.Progress = &pipeline.BarProgress{W: stderr}
+		case "lines":
+			opt.Progress = &pipeline.LineProgress{W: stderr}
+		case "none":
+		default:
+			return exitUsage, usagef("--progress %q: want auto, bar, lines or none", *progress)
+		}
+	}
+	res, err := pipeline.RunBatch(ctx, opt)
+	if err != nil {
+		return exitUsage, err
+	}
+	if !*quiet {
+		c := res.Summary.Counts
+		fmt.Fprintf(stdout, "%d scans: %d ok, %d out of tolerance, %d failed, %d not run (analysed %d, outputs current %d)\n",
+			res.Total, c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
+		fmt.Fprintf(stdout, "summary: %s\n", filepath.Join(*out, "summary.csv"))
+		if res.Interrupted {
+			fmt.Fprintf(stdout, "interrupted: run the same command again to finish the remaining scans\n")
+		}
+	}
+	return res.ExitCode(), nil
+}
+
+// batchJob picks the batch's job: --job, else DIR/job.toml, else defaults.
+func batchJob(dir, path string) (pipeline.Job, error) {
+	if path == "" {
+		p := filepath.Join(dir, pipeline.JobName)
+		if _, err := os.Stat(p); err == nil {
+			path = p
+		}
+	}
+	if path == "" {
+		return pipeline.DefaultJob(), nil
+	}
+	job, err := pipeline.ReadJobFile(path)
+	if err != nil {
+		return job, usageError{err}
+	}
+	return job, nil
+}
+
+func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
+	fs := newFlags("merge", "merge OUT1 OUT2 ... --out OUT", stderr)
+	out := fs.String("out", "", "folder for the merged summary (required)")
+	if err := parse(fs, args); err != nil {
+		return exitUsage, err
+	}
+	if fs.NArg() < 1 || *out == "" {
+		fs.Usage()
+		return exitUsage, usagef("want shard output folders and --out")
+	}
+	s, err := pipeline.Merge(fs.Args(), *out)
+	if err != nil {
+		return exitUsage, err
+	}
+	fmt.Fprintf(stdout, "merged %d scans into %s\n", len(s.Rows), filepath.Join(*out, "summary.csv"))
+	for _, r := range s.Rows {
+		if r.Status != pipeline.StatusOK {
+			return exitFail, nil
+		}
+	}
+	return exitOK, nil
+}
+
+func cmdSynth(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("synth", "synth [flags] --out FILE", stderr)
+	shape := fs.String("shape", "dish", "base form: flat, dish, dome, saddle, tilt or bend")
+	diam := fs.Float64("diameter-mm", 200, "base diameter, mm")
+	sag := fs.Float64("sag-mm", 0.4, "form amplitude, mm (dish/dome: centre height against the rim)")
+	noise := fs.Float64("noise-um", 8, "scanner noise σ, µm")
+	spikes := fs.Float64("spikes", 0, "fraction of points turned into spikes")
+	holes := fs.Int("holes", 0, "number of unmeasured holes")
+	corner := fs.Float64("corner-mm", 0, "corner radius, mm (0 = base only)")
+	wall := fs.Float64("wall-mm", 0, "wall height above the base, mm")
+	spacing := fs.Float64("spacing-mm", 0.5, "point spacing, mm")
+	mesh := fs.Bool("mesh", false, "triangulated surface instead of a point cloud (STL always meshes)")
+	normals := fs.Bool("normals", false, "write normals (PLY, CSV)")
+	face := fs.String("face", "up", "outer face toward scanner +z (up) or -z (down)")
+	rot := fs.String("rotate-deg", "0,0,0", "scanner-frame rotation about x,y,z, degrees")
+	off := fs.String("shift-mm", "0,0,0", "scanner-frame offset x,y,z, mm")
+	seed := fs.Uint64("seed", 1, "random seed")
+	format := fs.String("format", "", "stl, ply, xyz or csv (default from --out's extension)")
+	binary := fs.Bool("binary", true, "binary STL/PLY")
+	bigEndian := fs.Bool("big-endian", false, "binary_big_endian PLY")
+	unit := fs.String("unit", "mm", "unit of the numbers written: mm, m, um or in")
+	hobTop := fs.Bool("hob-top", false, "write a hob top (300 mm glass plate, top up) instead of a pan base")
+	out := fs.String("out", "", "scan file to write; a .truth.json sidecar is written beside it (required)")
+	if err := parse(fs, args); err != nil {
+		return err
+	}
+	if *out == "" {
+		fs.Usage()
+		return usagef("--out is required")
+	}
+	r, err := parseFloats(*rot, 3)
+	if err != nil {
+		return usagef("--rotate-deg: %v", err)
+	}
+	o, err := parseFloats(*off, 3)
+	if err != nil {
+		return usagef("--shift-mm: %v", err)
+	}
+	name := filepath.Base(*out)
+	gz := strings.HasSuffix(strings.ToLower(name), ".gz")
+	base := strings.TrimSuffix(name, filepath.Ext(name))
+	if gz {
+		base = strings.TrimSuffix(base, filepath.Ext(base))
+	}
+	enc := synth.Encoding{Format: *format, Binary: *binary, BigEndian: *bigEndian, Gzip: gz, Unit: *unit}
+	if enc.Format == "" {
+		ext := strings.ToLower(filepath.Ext(strings.TrimSuffix(name, ".gz")))
+		enc.Format = strings.TrimPrefix(ext, ".")
+	}
+	if enc.Format == "xyz" || enc.Format == "csv" {
+		enc.Binary = false
+	}
+	var sc *synth.Scan
+	if *hobTop {
+		sc, err = synth.GenerateHob(synth.HobSpec{Name: base, Shape: synth.Shape(*shape), SagM: *sag / 1e3,
+			NoiseM: *noise / 1e6, SpikeFraction: *spikes, Mesh: *mesh || enc.Format == "stl", Normals: *normals,
+			RotationDeg: [3]float64{r[0], r[1], r[2]}, OffsetM: [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}, Seed: *seed})
+	} else {
+		sc, err = synth.Generate(synth.Spec{Name: base, Shape: synth.Shape(*shape), DiameterM: *diam / 1e3,
+			SagM: *sag / 1e3, NoiseM: *noise / 1e6, SpikeFraction: *spikes, Holes: *holes,
+			CornerRadiusM: *corner / 1e3, WallHeightM: *wall / 1e3, SpacingM: *spacing / 1e3,
+			Mesh: *mesh || enc.Format == "stl", Normals: *normals, Face: *face,
+			RotationDeg: [3]float64{r[0], r[1], r[2]}, OffsetM: [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}, Seed: *seed})
+	}
+	if err != nil {
+		return usageError{err}
+	}
+	scanPath, truthPath, err := synth.WriteFiles(filepath.Dir(*out), base, sc, enc)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "wrote %s (%d points) and %s\n", scanPath, sc.Truth.Points, truthPath)
+	return nil
+}
+
+func cmdMaterials(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("materials", "materials [--job JOB.toml]", stderr)
+	jobPath := fs.String("job", "", "include the materials a job file adds or overrides")
+	if err := parse(fs, args); err != nil {
+		return err
+	}
+	job := pipeline.DefaultJob()
+	if *jobPath != "" {
+		var err error
+		if job, err = pipeline.ReadJobFile(*jobPath); err != nil {
+			return usageError{err}
+		}
+	}
+	lib, err := job.MaterialLibrary()
+	if err != nil {
+		return usageError{err}
+	}
+	tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "name\tk_w_mk\tdensity_kg_m3\tcp_j_kgk\tyoung_gpa\tpoisson\texpansion_um_mk\thardness_mpa\temissivity\tsource")
+	for _, m := range lib {
+		fmt.Fprintf(tw, "%s\t%.4g\t%.4g\t%.4g\t%.4g\t%.3g\t%.3g\t%.4g\t%.3g\t%s\n", m.Name, m.ConductivityWMK,
+			m.DensityKgM3, m.CpJKgK, m.YoungPa/1e9, m.Poisson, m.ExpansionPerK*1e6, m.HardnessPa/1e6, m.Emissivity,
+			firstSentence(m.Source))
+	}
+	return tw.Flush()
+}
+
+func firstSentence(s string) string {
+	if i := strings.Index(s, ". "); i > 0 {
+		return s[:i]
+	}
+	return s
+}
+
+func cmdJob(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("job", "job", stderr)
+	if err := parse(fs, args); err != nil {
+		return err
+	}
+	_, err := io.WriteString(stdout, pipeline.DefaultJobTOML)
+	return err
+}
+
+func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
+	fs := newFlags("demo", "demo [--out DIR]", stderr)
+	out := fs.String("out", "gapflux-demo", "folder for the demo's scans and results")
+	workers := fs.Int("workers", runtime.NumCPU(), "scans analysed at once")
+	if err := parse(fs, args); err != nil {
+		return exitUsage, err
+	}
+	scans := filepath.Join(*out, "scans")
+	results := filepath.Join(*out, "results")
+	fmt.Fprintf(stdout, "gapflux demo: synthesising an invented product line into %s\n", scans)
+	if err := pipeline.WriteDemoScans(scans); err != nil {
+		return exitFail, err
+	}
+	job, err := batchJob(scans, "")
+	if err != nil {
+		return exitUsage, err
+	}
+	fmt.Fprintf(stdout, "running the batch into %s\n", results)
+	res, err := pipeline.RunBatch(ctx, pipeline.BatchOptions{Dir: scans, Out: results, Job: job, Workers: *workers,
+		Progress: &pipeline.LineProgress{W: stderr}})
+	if err != nil {
+		return exitFail, err
+	}
+	fmt.Fprintln(stdout)
+	fmt.Fprint(stdout, res.Summary.Table())
+	fmt.Fprintf(stdout, "\nsummary table: %s\n", filepath.Join(results, "summary.csv"))
+	fmt.Fprintf(stdout, "per scan (maps gap.png and flux.png, ring chart rings.png, rings.csv, report.json, fields.vti): %s/<scan>/\n", results)
+	fmt.Fprintf(stdout, "the demo's pans, hob and numbers are invented; one file is deliberately broken to show a failed row.\n")
+	return exitOK, nil
+}

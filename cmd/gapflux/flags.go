@@ -1,0 +1,145 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/pflag"
+
+	"gapflux/pipeline"
+)
+
+// errHelp is returned when a command printed its help on request.
+var errHelp = errors.New("help requested")
+
+// newFlags returns a flag set that reports errors instead of exiting.
+func newFlags(name, usage string, stderr io.Writer) *pflag.FlagSet {
+	fs := pflag.NewFlagSet(name, pflag.ContinueOnError)
+	fs.SortFlags = false
+	fs.SetOutput(stderr)
+	fs.Usage = func() {
+		fmt.Fprintf(stderr, "usage: gapflux %s\n\nflags:\n%s", usage, fs.FlagUsages())
+	}
+	return fs
+}
+
+// parse parses args, mapping -h to errHelp and flag errors to usage errors.
+func parse(fs *pflag.FlagSet, args []string) error {
+	err := fs.Parse(args)
+	if errors.Is(err, pflag.ErrHelp) {
+		return errHelp
+	}
+	if err != nil {
+		return usageError{err}
+	}
+	return nil
+}
+
+// jobFlags are the flags that override job keys.
+type jobFlags struct {
+	fs         *pflag.FlagSet
+	jobPath    string
+	units      string
+	face       string
+	cellMM     float64
+	cutoffMM   float64
+	ringMM     float64
+	rockMM     float64
+	diameterMM float64
+	offsetMM   string
+	mode       string
+	waterC     float64
+	maxPoints  int
+}
+
+func addJobFlags(fs *pflag.FlagSet) *jobFlags {
+	d := pipeline.DefaultJob()
+	j := &jobFlags{fs: fs}
+	fs.StringVar(&j.jobPath, "job", "", "job file (TOML); `gapflux job` prints every key with its default")
+	fs.StringVar(&j.units, "units", "", "unit of the scan's numbers: mm, m, um or in (default: header hint, else mm)")
+	fs.StringVar(&j.face, "face", "", "which way the base's outer face looks in the scan: up (toward scanner +z) or down (default: detect)")
+	fs.Float64Var(&j.cellMM, "cell-mm", d.Grid.CellMM, "grid cell size, mm")
+	fs.Float64Var(&j.cutoffMM, "cutoff-mm", d.Grid.CutoffMM, "ISO 16610-61 Gaussian form-filter cut-off, mm (0 = off)")
+	fs.Float64Var(&j.ringMM, "ring-mm", d.Grid.RingMM, "ring width of the ring table, mm")
+	fs.Float64Var(&j.rockMM, "rock-mm", d.Grid.RockMM, "the pan rocks when the pressed rim drops more than this, mm")
+	fs.Float64Var(&j.diameterMM, "diameter-mm", 0, "base diameter, mm (default: circle fit to the base boundary)")
+	fs.StringVar(&j.offsetMM, "offset-mm", "", "pan centre relative to the hob centre, X,Y in mm (default 0,0)")
+	fs.StringVar(&j.mode, "mode", "", "hob model: heater or temperature (default from the job: heater)")
+	fs.Float64Var(&j.waterC, "water-c", d.Water.SteadyC, "water temperature of the steady heat figures, °C")
+	fs.IntVar(&j.maxPoints, "max-points", d.Limits.MaxPoints, "refuse scans with more points than this")
+	return j
+}
+
+// job reads the job file (or the defaults) and applies the flags that were
+// given on the command line.
+func (j *jobFlags) job() (pipeline.Job, error) {
+	job := pipeline.DefaultJob()
+	if j.jobPath != "" {
+		var err error
+		if job, err = pipeline.ReadJobFile(j.jobPath); err != nil {
+			return job, usageError{err}
+		}
+	}
+	set := func(name string) bool { return j.fs.Changed(name) }
+	if set("units") {
+		job.Grid.Units = j.units
+	}
+	if set("face") {
+		job.Grid.Face = j.face
+	}
+	if set("cell-mm") {
+		job.Grid.CellMM = j.cellMM
+	}
+	if set("cutoff-mm") {
+		job.Grid.CutoffMM = j.cutoffMM
+	}
+	if set("ring-mm") {
+		job.Grid.RingMM = j.ringMM
+	}
+	if set("rock-mm") {
+		job.Grid.RockMM = j.rockMM
+	}
+	if set("diameter-mm") {
+		job.Grid.DiameterMM = j.diameterMM
+	}
+	if set("offset-mm") {
+		xy, err := parseFloats(j.offsetMM, 2)
+		if err != nil {
+			return job, usagef("--offset-mm: %v", err)
+		}
+		job.Pan.OffsetMM = [2]float64{xy[0], xy[1]}
+	}
+	if set("mode") {
+		job.Hob.Mode = j.mode
+	}
+	if set("water-c") {
+		job.Water.SteadyC = j.waterC
+	}
+	if set("max-points") {
+		job.Limits.MaxPoints = j.maxPoints
+	}
+	if err := job.Validate(); err != nil {
+		return job, usageError{err}
+	}
+	return job, nil
+}
+
+// parseFloats parses n comma-separated numbers.
+func parseFloats(s string, n int) ([]float64, error) {
+	parts := strings.Split(s, ",")
+	if len(parts) != n {
+		return nil, fmt.Errorf("%q: want %d comma-separated numbers", s, n)
+	}
+	out := make([]float64, n)
+	for i, p := range parts {
+		v, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+		if err != nil {
+			return nil, fmt.Errorf("%q: %q is not a number", s, p)
+		}
+		out[i] = v
+	}
+	return out, nil
+}

@@ -1,0 +1,335 @@
+package pipeline
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strings"
+
+	"gapflux/contact"
+	"gapflux/scan"
+	"gapflux/thermal"
+)
+
+const (
+	kelvin        = 273.15
+	gravityMS2    = 9.80665 // standard gravity (CODATA; PHYSICS-REFERENCES 0)
+	restSeed      = 0x9e3779b97f4a7c15
+	heatupSamples = 4
+)
+
+// ScanInput names one analysis.
+type ScanInput struct {
+	PanPath string // scan file on disk
+	Name    string // how the scan is named in reports and errors (relative path in a batch)
+	HobPath string // hob scan, or radial hob profile CSV (.csv with r_mm,z_mm); "" = job's hob
+	Job     Job
+	// InputSHA and JobSHA are the hashes to record; empty means compute.
+	InputSHA, JobSHA string
+	// Stage stops the chain early: "geometry", "pose" or "" (everything).
+	Stage string
+}
+
+// Result holds a scan's report and the per-cell fields its maps and field
+// file are drawn from. All slices are indexed like Surface.ZM.
+type Result struct {
+	Report   *Report
+	Name     string
+	Raw      *scan.Surface // gridded heights before the form filter
+	Form     *scan.Surface // form-filtered heights (padded grid)
+	Hob      *scan.Surface // hob top on the same grid
+	Pose     *contact.Pose
+	GapM     []float64
+	Contact  []bool
+	Scan     *thermal.Solution
+	Flat     *thermal.Solution
+	Rings    []thermal.Ring
+	RadiusM  float64
+	HeaterOn bool
+}
+
+// AnalyzeScan is the batch's AnalyzeFunc: it analyses task's scan and
+// writes every output into task.OutDir.
+func AnalyzeScan(ctx context.Context, task ScanTask, inputSHA, jobSHA string) (*Report, error) {
+	res, err := Analyze(ctx, ScanInput{PanPath: task.Path, Name: task.Rel, HobPath: task.HobPath,
+		Job: task.Job, InputSHA: inputSHA, JobSHA: jobSHA})
+	if err != nil {
+		return nil, err
+	}
+	if err := WriteOutputs(res, task.OutDir); err != nil {
+		return nil, err
+	}
+	return res.Report, nil
+}
+
+// Analyze runs the whole chain on one scan.
+func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
+	job := in.Job
+	if err := job.Validate(); err != nil {
+		return nil, fmt.Errorf("job: %w", err)
+	}
+	if in.Name == "" {
+		in.Name = in.PanPath
+	}
+	lib, err := job.MaterialLibrary()
+	if err != nil {
+		return nil, err
+	}
+	rep := &Report{Schema: SchemaReport, Warnings: []string{}}
+	res := &Result{Report: rep, Name: in.Name}
+	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
+
+	// Read and level the pan scan.
+	cloud, fileRep, err := readScan(in.PanPath, in.Name, job)
+	if err != nil {
+		return nil, err
+	}
+	if in.InputSHA != "" {
+		fileRep.SHA256 = in.InputSHA
+	}
+	rep.Input.Pan = fileRep
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	lev, err := scan.Level(cloud, scan.LevelOptions{
+		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg})
+	if err != nil {
+		return nil, fmt.Errorf("%s: levelling: %w", in.Name, err)
+	}
+	rep.Warnings = append(rep.Warnings, lev.Warnings...)
+	cloud = nil
+	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK})
+	if err != nil {
+		return nil, fmt.Errorf("%s: gridding: %w", in.Name, err)
+	}
+	filt, err := scan.FormFilter(grid.Raw, job.Grid.CutoffMM/1e3)
+	if err != nil {
+		return nil, fmt.Errorf("%s: form filter: %w", in.Name, err)
+	}
+	form, err := scan.MeasureForm(filt.Form, lev.RadiusM)
+	if err != nil {
+		return nil, fmt.Errorf("%s: form: %w", in.Name, err)
+	}
+	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
+	rep.Geometry = geometryReport(form, grid, filt, lev, job)
+	if rep.Geometry.CoveragePct < 80 {
+		warn("only %.1f %% of the base was measured; the rest is interpolated", rep.Geometry.CoveragePct)
+	}
+	jobSHA := in.JobSHA
+	if jobSHA == "" {
+		hobSHA := ""
+		if in.HobPath != "" {
+			if hobSHA, err = FileSHA256(in.HobPath); err != nil {
+				return nil, fmt.Errorf("hob: %w", err)
+			}
+		}
+		jobSHA = JobHash(job, hobSHA)
+	}
+	rep.Input.JobSHA256 = jobSHA
+	if in.Stage == "geometry" {
+		res.Form = filt.Form
+		return res, nil
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+
+	// Pad the grid to cover the glass of a heater zone (DESIGN 5.3).
+	offsetM := [2]float64{job.Pan.OffsetMM[0] / 1e3, job.Pan.OffsetMM[1] / 1e3}
+	heater := job.Hob.Mode == "heater"
+	res.HeaterOn = heater
+	glassRadiusM := 0.0
+	surf := filt.Form
+	if heater {
+		off := math.Hypot(offsetM[0], offsetM[1])
+		glassRadiusM = math.Max(job.Hob.ZoneDiameterMM/2e3, off+lev.RadiusM) + job.Hob.MarginMM/1e3
+		surf = padSurface(surf, off+glassRadiusM)
+	}
+	res.Form = surf
+
+	// Hob top on the pan grid.
+	hob, hobRep, err := hobSurface(in.HobPath, surf, offsetM, job)
+	if err != nil {
+		return nil, err
+	}
+	rep.Input.Hob = hobRep
+	res.Hob = hob
+
+	// Rest pose, gap and contact.
+	comM := [2]float64{job.Pan.CentreOfMassMM[0] / 1e3, job.Pan.CentreOfMassMM[1] / 1e3}
+	pose, err := contact.Rest(surf, hob, contact.RestOptions{
+		CentreOfMassM: comM, RockLimitM: job.Grid.RockMM / 1e3, Seed: restSeed})
+	if err != nil {
+		return nil, fmt.Errorf("%s: rest pose: %w", in.Name, err)
+	}
+	res.Pose = pose
+	rep.Pose = poseReport(pose, comM, job)
+	gap := contact.Gap(surf, hob, pose)
+	res.GapM = gap
+
+	ip, err := interfaceParams(job, lib)
+	if err != nil {
+		return nil, err
+	}
+	inBase := make([]bool, len(surf.State))
+	for k := range inBase {
+		inBase[k] = surf.InBase(k)
+	}
+	cellA := surf.CellM * surf.CellM
+	loadN := (job.Pan.MassKg + job.Water.MassKg) * gravityMS2
+	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
+	res.Contact = mask
+	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
+	if in.Stage == "pose" {
+		return res, nil
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+
+	// Heat: the scan and its flat twin.
+	flatMask := append([]bool(nil), inBase...)
+	flatGap := make([]float64, len(gap))
+	baseArea := 0.0
+	for k := range flatGap {
+		if !inBase[k] {
+			flatGap[k] = math.NaN()
+		} else {
+			baseArea += cellA
+		}
+	}
+	scanField := &contact.Field{Params: ip, GapM: gap, Contact: mask, PressurePa: pressurePa}
+	flatField := &contact.Field{Params: ip, GapM: flatGap, Contact: flatMask, PressurePa: loadN / baseArea}
+	prob, err := plateProblem(job, lib, surf, inBase, offsetM, glassRadiusM)
+	if err != nil {
+		return nil, err
+	}
+	solve := func(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
+		p := *prob
+		p.Interface, p.TWaterK = iface, tWaterK
+		return thermal.Solve(&p)
+	}
+	steadyK := job.Water.SteadyC + kelvin
+	solScan, err := solve(scanField, steadyK)
+	if err != nil {
+		return nil, fmt.Errorf("%s: plate solve: %w", in.Name, err)
+	}
+	solFlat, err := solve(flatField, steadyK)
+	if err != nil {
+		return nil, fmt.Errorf("%s: plate solve (flat twin): %w", in.Name, err)
+	}
+	res.Scan, res.Flat = solScan, solFlat
+	rep.Warnings = append(rep.Warnings, prefixed("scan: ", solScan.Warnings)...)
+	rep.Warnings = append(rep.Warnings, prefixed("flat twin: ", solFlat.Warnings)...)
+	rep.Heat = heatReport(job, solScan, solFlat, baseArea)
+	if job.Hob.Mode == "temperature" {
+		rated := job.Hob.RatedPowerDensityKW
+		if rated == 0 {
+			rated = job.Hob.HeaterPowerW / (math.Pi * math.Pow(job.Hob.ZoneDiameterMM/2e3, 2)) / 1e3
+		}
+		if rep.Heat.FlatMeanFluxKWM2 > rated {
+			warn("temperature mode: the flat twin draws %.0f kW/m², beyond the rated %.0f kW/m² of a %.0f W, %.0f mm zone; a real zone could not hold the hob at %.0f °C, so losses are overstated",
+				rep.Heat.FlatMeanFluxKWM2, rated, job.Hob.HeaterPowerW, job.Hob.ZoneDiameterMM, job.Hob.TemperatureC)
+		}
+	}
+
+	rings, err := thermal.Rings(thermal.RingInput{Grid: prob.Grid, InBase: inBase, WidthM: job.Grid.RingMM / 1e3,
+		GapM: gap, Contact: mask, Scan: solScan, Flat: solFlat})
+	if err != nil {
+		return nil, fmt.Errorf("%s: rings: %w", in.Name, err)
+	}
+	res.Rings = rings
+	rep.Rings = ringReports(rings)
+
+	// Heat-up of the water load.
+	hu, err := heatupReport(ctx, job, lib, lev.RadiusM, func(iface thermal.Interface) thermal.PowerFunc {
+		return func(tWaterK float64) (float64, float64, error) {
+			s, err := solve(iface, tWaterK)
+			if err != nil {
+				return 0, 0, err
+			}
+			src := s.PowerW
+			if s.HeaterW > 0 {
+				src = s.HeaterW
+			}
+			return s.PowerW, src, nil
+		}
+	}, scanField, flatField)
+	if err != nil {
+		return nil, fmt.Errorf("%s: heat-up: %w", in.Name, err)
+	}
+	rep.Heatup = hu.report
+	rep.Warnings = append(rep.Warnings, hu.warnings...)
+
+	rep.Verdict = verdict(job, rep)
+	return res, nil
+}
+
+func prefixed(p string, ws []string) []string {
+	out := make([]string, len(ws))
+	for i, w := range ws {
+		out[i] = p + w
+	}
+	return out
+}
+
+// readScan opens, hashes and decodes a scan, bounded by the job's limits.
+func readScan(path, name string, job Job) (*scan.Cloud, FileReport, error) {
+	var fr FileReport
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fr, fmt.Errorf("%s: %w", name, errors.Unwrap(err))
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return nil, fr, fmt.Errorf("%s: %w", name, err)
+	}
+	if mb := float64(st.Size()) / (1 << 20); mb > job.Limits.MaxFileMB {
+		return nil, fr, fmt.Errorf("%s: file is %.0f MB, above limits.max_file_mb = %.0f", name, mb, job.Limits.MaxFileMB)
+	}
+	h := sha256.New()
+	size := st.Size()
+	if strings.HasSuffix(strings.ToLower(path), ".gz") {
+		size = -1
+	}
+	cloud, err := scan.Read(io.TeeReader(f, h), scan.ReadOptions{Name: name, SizeBytes: size,
+		Unit: job.Grid.Units, MaxPoints: job.Limits.MaxPoints})
+	if err != nil {
+		return nil, fr, err
+	}
+	if _, err := io.Copy(h, f); err != nil {
+		return nil, fr, fmt.Errorf("%s: %w", name, err)
+	}
+	fr = FileReport{Path: name, Format: cloud.Format, SHA256: hex.EncodeToString(h.Sum(nil)),
+		Points: len(cloud.Points), Unit: cloud.Unit, UnitSource: cloud.UnitSource}
+	return cloud, fr, nil
+}
+
+// padSurface embeds s in a larger grid, on the same cell lattice, covering
+// at least [−halfM, halfM]² about the base centre; new cells are Outside.
+func padSurface(s *scan.Surface, halfM float64) *scan.Surface {
+	extra := func(lo, hi float64) (int, int) {
+		a := int(math.Ceil((lo + halfM) / s.CellM))
+		b := int(math.Ceil((halfM - hi) / s.CellM))
+		return max(a, 0), max(b, 0)
+	}
+	x0, x1 := extra(s.X0M, s.X(s.Nx-1))
+	y0, y1 := extra(s.Y0M, s.Y(s.Ny-1))
+	if x0+x1+y0+y1 == 0 {
+		return s
+	}
+	p := scan.NewSurface(s.Nx+x0+x1, s.Ny+y0+y1, s.CellM, s.X0M-float64(x0)*s.CellM, s.Y0M-float64(y0)*s.CellM)
+	for j := 0; j < s.Ny; j++ {
+		for i := 0; i < s.Nx; i++ {
+			k, q := s.Index(i, j), p.Index(i+x0, j+y0)
+			p.ZM[q], p.State[q] = s.ZM[k], s.State[k]
+		}
+	}
+	return p
+}

@@ -1,0 +1,455 @@
+package pipeline
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/debug"
+	"strings"
+	"sync"
+	"time"
+)
+
+// SchemaError names the version of the error record a failed scan leaves.
+const SchemaError = "gapflux.error/1"
+
+// ErrorRecord is written as error.json in a failed scan's output folder, so
+// a re-run can tell a known failure from new work.
+type ErrorRecord struct {
+	Schema    string `json:"schema"`
+	Path      string `json:"path"`
+	SHA256    string `json:"sha256"`
+	JobSHA256 string `json:"job_sha256"`
+	Error     string `json:"error"`
+}
+
+// ScanTask is one scan of a batch with its effective settings.
+type ScanTask struct {
+	Path    string // file on disk
+	Rel     string // slash path relative to the batch folder
+	OutDir  string // the scan's output folder
+	HobPath string // hob scan or profile on disk, "" for the job's hob
+	Job     Job
+	Meta    ManifestRow
+}
+
+// AnalyzeFunc analyses one scan and writes its outputs into task.OutDir.
+// inputSHA and jobSHA are the hashes the report must carry.
+type AnalyzeFunc func(ctx context.Context, task ScanTask, inputSHA, jobSHA string) (*Report, error)
+
+// BatchOptions configures RunBatch.
+type BatchOptions struct {
+	Dir     string // folder of scans
+	Out     string // output folder
+	Job     Job    // defaults for every scan
+	Workers int    // 0 = number of CPUs
+	Force   bool   // re-run scans whose outputs are current
+	Shard   Shard
+	// Progress receives one call per finished scan; nil prints nothing.
+	Progress Progress
+	// Log receives the run log (timestamps, durations, host); nil discards.
+	Log io.Writer
+	// Analyze runs one scan; nil means AnalyzeScan.
+	Analyze AnalyzeFunc
+	// SummaryEvery bounds how often the summary is rewritten while running.
+	SummaryEvery time.Duration
+}
+
+// BatchResult tells what a batch did.
+type BatchResult struct {
+	Summary     *Summary
+	Total       int // scans in this shard
+	Ran         int // analysed in this run
+	Skipped     int // outputs already current
+	Interrupted bool
+}
+
+// ExitCode is 0 when every scan passed, 1 when any failed, was out of
+// tolerance or was not run.
+func (r *BatchResult) ExitCode() int {
+	for _, row := range r.Summary.Rows {
+		if row.Status != StatusOK {
+			return 1
+		}
+	}
+	if r.Interrupted {
+		return 1
+	}
+	return 0
+}
+
+// JobHash is the hash of the effective settings of one scan: the job and the
+// hob file's content hash.
+func JobHash(job Job, hobSHA string) string {
+	b, err := json.Marshal(struct {
+		Job Job
+		Hob string
+	}{job, hobSHA})
+	if err != nil {
+		panic(err) // Job holds only plain values
+	}
+	sum := sha256.Sum256(b)
+	return hex.EncodeToString(sum[:])
+}
+
+// FileSHA256 hashes a file's bytes.
+func FileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// ScanOutDir is where a scan's outputs go: the scan's relative path (with
+// its extension, so pan.stl and pan.ply do not collide) under out.
+func ScanOutDir(out, rel string) string { return filepath.Join(out, filepath.FromSlash(rel)) }
+
+// RunBatch analyses every scan under opt.Dir into opt.Out, skipping scans
+// whose outputs already match their input and job hashes, and writes
+// summary.csv and summary.json. One bad scan never stops the others. When ctx
+// is cancelled no new scan starts; running ones finish, and the summary lists
+// the rest as not-run.
+func RunBatch(ctx context.Context, opt BatchOptions) (*BatchResult, error) {
+	if opt.Analyze == nil {
+		opt.Analyze = AnalyzeScan
+	}
+	if opt.Workers <= 0 {
+		opt.Workers = runtime.NumCPU()
+	}
+	if opt.SummaryEvery <= 0 {
+		opt.SummaryEvery = 5 * time.Second
+	}
+	logw := opt.Log
+	if logw == nil {
+		logw = io.Discard
+	}
+	dir, err := filepath.Abs(opt.Dir)
+	if err != nil {
+		return nil, err
+	}
+	out, err := filepath.Abs(opt.Out)
+	if err != nil {
+		return nil, err
+	}
+	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+		return nil, fmt.Errorf("batch folder %s: not a readable folder", opt.Dir)
+	}
+	if err := os.MkdirAll(out, 0o755); err != nil {
+		return nil, fmt.Errorf("output folder: %w", err)
+	}
+	manifest, err := readManifestFile(dir)
+	if err != nil {
+		return nil, err
+	}
+	exclude := map[string]bool{}
+	for _, m := range manifest {
+		if m.Hob != "" {
+			exclude[m.Hob] = true
+		}
+		if m.Job != "" {
+			exclude[m.Job] = true
+		}
+	}
+	skipOut := func(p string) bool { return p == out }
+	rels, err := DiscoverScans(dir, skipOut, exclude)
+	if err != nil {
+		return nil, fmt.Errorf("listing %s: %w", opt.Dir, err)
+	}
+	known := map[string]bool{}
+	for _, r := range rels {
+		known[r] = true
+	}
+	for p := range manifest {
+		if !known[p] && !exclude[p] {
+			fmt.Fprintf(logw, "manifest lists %s, which is not a scan under the folder\n", p)
+		}
+	}
+
+	var tasks []ScanTask
+	for i, rel := range rels {
+		if !opt.Shard.Has(i) {
+			continue
+		}
+		meta := manifest[rel]
+		meta.Path = rel
+		tasks = append(tasks, ScanTask{
+			Path:   filepath.Join(dir, filepath.FromSlash(rel)),
+			Rel:    rel,
+			OutDir: ScanOutDir(out, rel),
+			Meta:   meta,
+		})
+	}
+	res := &BatchResult{Total: len(tasks)}
+	rows := make([]SummaryRow, len(tasks))
+	for i, t := range tasks {
+		rows[i] = SummaryRow{Path: t.Rel, Status: StatusNotRun, PartNumber: t.Meta.PartNumber, Lot: t.Meta.Lot}
+	}
+	host, _ := os.Hostname()
+	fmt.Fprintf(logw, "%s batch start: %d scans (shard %s) from %s on %s, %d workers\n",
+		time.Now().Format(time.RFC3339), len(tasks), opt.Shard, dir, host, opt.Workers)
+	if opt.Progress != nil {
+		opt.Progress.Start(len(tasks))
+	}
+
+	var mu sync.Mutex
+	lastWrite := time.Now()
+	writeSummary := func(force bool) error {
+		if !force && time.Since(lastWrite) < opt.SummaryEvery {
+			return nil
+		}
+		lastWrite = time.Now()
+		return writeSummaryFiles(out, NewSummary(rows))
+	}
+
+	jobs := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < opt.Workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				t0 := time.Now()
+				row, skipped := runOne(ctx, opt, tasks[i], dir)
+				mu.Lock()
+				rows[i] = row
+				if skipped {
+					res.Skipped++
+				} else {
+					res.Ran++
+				}
+				if err := writeSummary(false); err != nil {
+					fmt.Fprintf(logw, "writing summary: %v\n", err)
+				}
+				fmt.Fprintf(logw, "%s %s %s %.2fs%s\n", time.Now().Format(time.RFC3339), row.Status, row.Path,
+					time.Since(t0).Seconds(), map[bool]string{true: " (current, skipped)", false: ""}[skipped])
+				if opt.Progress != nil {
+					opt.Progress.Done(row, skipped)
+				}
+				mu.Unlock()
+			}
+		}()
+	}
+dispatch:
+	for i := range tasks {
+		select {
+		case <-ctx.Done():
+			res.Interrupted = true
+			break dispatch
+		case jobs <- i:
+		}
+	}
+	close(jobs)
+	wg.Wait()
+	if opt.Progress != nil {
+		opt.Progress.Finish()
+	}
+	res.Summary = NewSummary(rows)
+	if err := writeSummaryFiles(out, res.Summary); err != nil {
+		return res, fmt.Errorf("writing summary: %w", err)
+	}
+	fmt.Fprintf(logw, "%s batch end: ran %d, skipped %d, not run %d, interrupted %v\n",
+		time.Now().Format(time.RFC3339), res.Ran, res.Skipped, res.Summary.Counts[StatusNotRun], res.Interrupted)
+	return res, nil
+}
+
+// runOne analyses one task, or reuses its outputs when they are current. It
+// never panics: a panic in the analysis becomes a failed row.
+func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string) (row SummaryRow, skipped bool) {
+	row = SummaryRow{Path: t.Rel, Status: StatusFailed, PartNumber: t.Meta.PartNumber, Lot: t.Meta.Lot}
+	fail := func(err error, sha, jobSHA string) (SummaryRow, bool) {
+		// Paths in the summary are relative to the batch folder.
+		msg := strings.ReplaceAll(err.Error(), dir+string(filepath.Separator), "")
+		row.Status, row.Error = StatusFailed, oneLine(msg)
+		rec := ErrorRecord{Schema: SchemaError, Path: t.Rel, SHA256: sha, JobSHA256: jobSHA, Error: row.Error}
+		if b, jerr := json.MarshalIndent(rec, "", "  "); jerr == nil {
+			_ = os.Remove(filepath.Join(t.OutDir, "report.json"))
+			_ = WriteBytesAtomic(filepath.Join(t.OutDir, "error.json"), append(b, '\n'))
+		}
+		return row, false
+	}
+	job := opt.Job
+	if t.Meta.Job != "" {
+		j, err := ReadJobFile(filepath.Join(dir, filepath.FromSlash(t.Meta.Job)))
+		if err != nil {
+			return fail(err, "", "")
+		}
+		job = j
+	}
+	job, err := t.Meta.Apply(job)
+	if err != nil {
+		return fail(err, "", "")
+	}
+	t.Job = job
+	if t.Meta.Hob != "" {
+		t.HobPath = filepath.Join(dir, filepath.FromSlash(t.Meta.Hob))
+	}
+	sha, err := FileSHA256(t.Path)
+	if err != nil {
+		return fail(err, "", "")
+	}
+	hobSHA := ""
+	if t.HobPath != "" {
+		if hobSHA, err = FileSHA256(t.HobPath); err != nil {
+			return fail(fmt.Errorf("hob: %w", err), sha, "")
+		}
+	}
+	jobSHA := JobHash(job, hobSHA)
+	if !opt.Force {
+		if r, ok := currentRow(t, sha, jobSHA); ok {
+			return r, true
+		}
+	}
+	rep, stack, err := safeAnalyze(ctx, opt.Analyze, t, sha, jobSHA)
+	if stack != "" && opt.Log != nil {
+		fmt.Fprintf(opt.Log, "panic while analysing %s:\n%s\n", t.Rel, stack)
+	}
+	if err != nil {
+		return fail(err, sha, jobSHA)
+	}
+	_ = os.Remove(filepath.Join(t.OutDir, "error.json"))
+	r := RowFromReport(t.Rel, rep)
+	r.PartNumber, r.Lot = t.Meta.PartNumber, t.Meta.Lot
+	return r, false
+}
+
+// safeAnalyze runs f, turning a panic into an error; the stack goes to the
+// run log, not into the summary.
+func safeAnalyze(ctx context.Context, f AnalyzeFunc, t ScanTask, sha, jobSHA string) (rep *Report, stack string, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			err = fmt.Errorf("internal error (please report it with the scan): %v", p)
+			stack = firstLines(string(debug.Stack()), 40)
+		}
+	}()
+	rep, err = f(ctx, t, sha, jobSHA)
+	return rep, "", err
+}
+
+// currentRow returns the summary row of a scan whose outputs already match
+// its hashes: a report (ok or out of tolerance) or a recorded failure.
+func currentRow(t ScanTask, sha, jobSHA string) (SummaryRow, bool) {
+	if b, err := os.ReadFile(filepath.Join(t.OutDir, "report.json")); err == nil {
+		var rep Report
+		if json.Unmarshal(b, &rep) == nil && rep.Schema == SchemaReport &&
+			rep.Input.Pan.SHA256 == sha && rep.Input.JobSHA256 == jobSHA {
+			r := RowFromReport(t.Rel, &rep)
+			r.PartNumber, r.Lot = t.Meta.PartNumber, t.Meta.Lot
+			return r, true
+		}
+	}
+	if b, err := os.ReadFile(filepath.Join(t.OutDir, "error.json")); err == nil {
+		var rec ErrorRecord
+		if json.Unmarshal(b, &rec) == nil && rec.Schema == SchemaError && rec.SHA256 == sha && rec.JobSHA256 == jobSHA {
+			return SummaryRow{Path: t.Rel, Status: StatusFailed, Error: rec.Error,
+				PartNumber: t.Meta.PartNumber, Lot: t.Meta.Lot}, true
+		}
+	}
+	return SummaryRow{}, false
+}
+
+func writeSummaryFiles(out string, s *Summary) error {
+	if err := WriteFileAtomic(filepath.Join(out, "summary.csv"), s.WriteCSV); err != nil {
+		return err
+	}
+	return WriteFileAtomic(filepath.Join(out, "summary.json"), s.WriteJSON)
+}
+
+// Merge combines the summaries of shard output folders into one summary in
+// out, identical to a single run over the whole folder, and copies the
+// shards' per-scan folders into out when it is a different folder.
+func Merge(inputs []string, out string) (*Summary, error) {
+	if len(inputs) == 0 {
+		return nil, errors.New("merge: no input folders")
+	}
+	outAbs, err := filepath.Abs(out)
+	if err != nil {
+		return nil, err
+	}
+	var rows []SummaryRow
+	seen := map[string]string{}
+	for _, in := range inputs {
+		f, err := os.Open(filepath.Join(in, "summary.json"))
+		if err != nil {
+			return nil, fmt.Errorf("merge: %w", err)
+		}
+		s, err := ReadSummaryJSON(f, filepath.Join(in, "summary.json"))
+		f.Close()
+		if err != nil {
+			return nil, fmt.Errorf("merge: %w", err)
+		}
+		inAbs, err := filepath.Abs(in)
+		if err != nil {
+			return nil, err
+		}
+		for _, r := range s.Rows {
+			if prev, dup := seen[r.Path]; dup {
+				return nil, fmt.Errorf("merge: %s appears in both %s and %s (overlapping shards?)", r.Path, prev, in)
+			}
+			seen[r.Path] = in
+			rows = append(rows, r)
+			if inAbs != outAbs {
+				if err := copyTree(ScanOutDir(inAbs, r.Path), ScanOutDir(outAbs, r.Path)); err != nil {
+					return nil, fmt.Errorf("merge: copying %s: %w", r.Path, err)
+				}
+			}
+		}
+	}
+	s := NewSummary(rows)
+	return s, writeSummaryFiles(outAbs, s)
+}
+
+// copyTree copies the regular files of src into dst (atomically each);
+// a missing src is not an error (a scan not run has no folder).
+func copyTree(src, dst string) error {
+	return filepath.WalkDir(src, func(path string, d fs.DirEntry, err error) error {
+		if errors.Is(err, fs.ErrNotExist) && path == src {
+			return nil
+		}
+		if err != nil {
+			return err
+		}
+		if d.IsDir() || !d.Type().IsRegular() || strings.HasPrefix(d.Name(), ".") {
+			return nil
+		}
+		rel, err := filepath.Rel(src, path)
+		if err != nil {
+			return err
+		}
+		in, err := os.Open(path)
+		if err != nil {
+			return err
+		}
+		defer in.Close()
+		return WriteFileAtomic(filepath.Join(dst, rel), func(w io.Writer) error {
+			_, err := io.Copy(w, in)
+			return err
+		})
+	})
+}
+
+func oneLine(s string) string {
+	s = strings.ReplaceAll(s, "\r", " ")
+	return strings.ReplaceAll(s, "\n", " | ")
+}
+
+func firstLines(s string, n int) string {
+	lines := strings.SplitN(s, "\n", n+1)
+	if len(lines) > n {
+		lines = lines[:n]
+	}
+	return strings.Join(lines, "\n")
+}

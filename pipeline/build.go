@@ -1,0 +1,377 @@
+package pipeline
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"gapflux/contact"
+	"gapflux/scan"
+	"gapflux/thermal"
+)
+
+// MaterialLibrary returns the built-in materials with the job's additions
+// and overrides. An override changes only the values it sets.
+func (j *Job) MaterialLibrary() ([]contact.Material, error) {
+	lib := contact.Materials()
+	for _, m := range j.Materials {
+		i := -1
+		for k := range lib {
+			if lib[k].Name == m.Name {
+				i = k
+			}
+		}
+		if i < 0 {
+			lib = append(lib, contact.Material{Name: m.Name, Source: "job file"})
+			i = len(lib) - 1
+		}
+		mat := &lib[i]
+		set := func(dst *float64, v, scale float64) {
+			if v != 0 {
+				*dst = v * scale
+			}
+		}
+		set(&mat.ConductivityWMK, m.ConductivityWMK, 1)
+		set(&mat.DensityKgM3, m.DensityKgM3, 1)
+		set(&mat.CpJKgK, m.CpJKgK, 1)
+		set(&mat.YoungPa, m.YoungGPa, 1e9)
+		set(&mat.Poisson, m.Poisson, 1)
+		set(&mat.ExpansionPerK, m.ExpansionUMMK, 1e-6)
+		set(&mat.HardnessPa, m.HardnessMPa, 1e6)
+		set(&mat.Emissivity, m.Emissivity, 1)
+		if m.Source != "" {
+			mat.Source = m.Source
+		} else if mat.Source != "job file" {
+			mat.Source += "; overridden by the job file"
+		}
+		if err := mat.Validate(); err != nil {
+			return nil, fmt.Errorf("job: material %s: %w", m.Name, err)
+		}
+	}
+	return lib, nil
+}
+
+// interfaceParams builds the pan–hob interface from the job (DESIGN 5.2).
+func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, error) {
+	var p contact.InterfaceParams
+	panMat, err := contact.LookupMaterial(lib, job.Pan.Layers[0].Material)
+	if err != nil {
+		return p, fmt.Errorf("job: pan.layers[0]: %w", err)
+	}
+	hobMat, err := contact.LookupMaterial(lib, job.Hob.Material)
+	if err != nil {
+		return p, fmt.Errorf("job: hob.material: %w", err)
+	}
+	ij := job.Interface
+	corr, err := contact.ParseSlopeCorrelation(ij.SlopeCorrelation)
+	if err != nil {
+		return p, fmt.Errorf("job: interface.slope_correlation: %w", err)
+	}
+	slope := func(given, sqUM float64) float64 {
+		if given > 0 {
+			return given
+		}
+		if sqUM == 0 {
+			return 0
+		}
+		m, _ := corr.Slope(sqUM * 1e-6)
+		return m
+	}
+	p = contact.InterfaceParams{
+		SigmaM:         contact.CombinedRoughnessM(ij.PanSqUM*1e-6, ij.HobSqUM*1e-6),
+		Slope:          contact.CombinedSlope(slope(ij.PanSlope, ij.PanSqUM), slope(ij.HobSlope, ij.HobSqUM)),
+		KSolidWMK:      contact.HarmonicConductivityWMK(panMat.ConductivityWMK, hobMat.ConductivityWMK),
+		HardnessPa:     ij.MicrohardnessMPa * 1e6,
+		EPrimePa:       contact.EffectiveModulusPa(panMat.YoungPa, panMat.Poisson, hobMat.YoungPa, hobMat.Poisson),
+		Model:          ij.Model,
+		Accommodation1: ij.HobAccommodation,
+		Accommodation2: ij.PanAccommodation,
+		GasPressurePa:  ij.GasPressureKPa * 1e3,
+		Gamma:          1.4,
+		Emissivity1:    job.Hob.Emissivity,
+		Emissivity2:    job.Pan.Emissivity,
+	}
+	if err := p.Validate(); err != nil {
+		return p, fmt.Errorf("job: %w", err)
+	}
+	return p, nil
+}
+
+// baseLayers converts the job's pan layers.
+func baseLayers(job Job, lib []contact.Material) ([]thermal.Layer, error) {
+	var out []thermal.Layer
+	for i, l := range job.Pan.Layers {
+		m, err := contact.LookupMaterial(lib, l.Material)
+		if err != nil {
+			return nil, fmt.Errorf("job: pan.layers[%d]: %w", i, err)
+		}
+		out = append(out, thermal.Layer{ThicknessM: l.ThicknessMM / 1e3, ConductivityWMK: m.ConductivityWMK})
+	}
+	return out, nil
+}
+
+// waterSide builds the water-side model of the job.
+func waterSide(job Job, diameterM float64) thermal.WaterSide {
+	switch job.Water.Side {
+	case "natural":
+		return thermal.NaturalWater{DiameterM: diameterM}
+	case "boiling":
+		return thermal.BoilingWater{Csf: job.Water.RohsenowCsf, N: job.Water.RohsenowN, DiameterM: diameterM}
+	}
+	return thermal.FixedWater{HWM2K: job.Water.HWM2K}
+}
+
+// plateProblem builds the plate problem of the job on the surface's grid,
+// without its interface and water temperature.
+func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []bool, offsetM [2]float64, glassRadiusM float64) (*thermal.Problem, error) {
+	layers, err := baseLayers(job, lib)
+	if err != nil {
+		return nil, err
+	}
+	baseD := 0.0
+	for _, in := range inBase {
+		if in {
+			baseD += s.CellM * s.CellM
+		}
+	}
+	baseD = 2 * math.Sqrt(baseD/math.Pi)
+	p := &thermal.Problem{
+		Grid:          thermal.Grid{Nx: s.Nx, Ny: s.Ny, CellM: s.CellM, X0M: s.X0M, Y0M: s.Y0M},
+		InBase:        inBase,
+		BaseLayers:    layers,
+		Water:         waterSide(job, baseD),
+		PanEmissivity: job.Pan.Emissivity,
+	}
+	roomK := job.Hob.RoomC + kelvin
+	zoneCentre := [2]float64{-offsetM[0], -offsetM[1]}
+	switch job.Hob.Mode {
+	case "temperature":
+		top := make([]float64, len(inBase))
+		prof, err := readProfile(job.Hob.TemperatureProfile, "t_c")
+		if err != nil {
+			return nil, err
+		}
+		for k := range top {
+			top[k] = job.Hob.TemperatureC + kelvin
+			if prof != nil {
+				x, y := cellCentre(s, k)
+				top[k] = prof.at(math.Hypot(x-zoneCentre[0], y-zoneCentre[1])) + kelvin
+			}
+		}
+		p.Temperature = &thermal.TemperatureHob{TopK: top}
+	default:
+		glass, err := contact.LookupMaterial(lib, job.Hob.Material)
+		if err != nil {
+			return nil, fmt.Errorf("job: hob.material: %w", err)
+		}
+		h := &thermal.HeaterHob{
+			PowerW:              job.Hob.HeaterPowerW,
+			ZoneDiameterM:       job.Hob.ZoneDiameterMM / 1e3,
+			ZoneCentreM:         zoneCentre,
+			Glass:               thermal.Layer{ThicknessM: job.Hob.ThicknessMM / 1e3, ConductivityWMK: glass.ConductivityWMK},
+			GlassEmissivity:     job.Hob.Emissivity,
+			GlassRadiusM:        glassRadiusM,
+			DownHWM2K:           job.Hob.DownLossWM2K,
+			RoomK:               roomK,
+			TransmittedFraction: job.Hob.TransmittedFraction,
+			LimiterK:            job.Hob.LimiterC + kelvin,
+		}
+		prof, err := readProfile(job.Hob.PowerProfile, "relative")
+		if err != nil {
+			return nil, err
+		}
+		if prof != nil {
+			h.PowerProfile = prof.at
+		}
+		p.Heater = h
+	}
+	return p, nil
+}
+
+func cellCentre(s *scan.Surface, k int) (x, y float64) { return s.X(k % s.Nx), s.Y(k / s.Nx) }
+
+// radialProfile is a piecewise-linear function of radius (m).
+type radialProfile struct{ rM, v []float64 }
+
+func (p *radialProfile) at(rM float64) float64 {
+	n := len(p.rM)
+	if rM <= p.rM[0] {
+		return p.v[0]
+	}
+	if rM >= p.rM[n-1] {
+		return p.v[n-1]
+	}
+	i := 1
+	for p.rM[i] < rM {
+		i++
+	}
+	t := (rM - p.rM[i-1]) / (p.rM[i] - p.rM[i-1])
+	return p.v[i-1] + t*(p.v[i]-p.v[i-1])
+}
+
+// readProfile reads a two-column CSV "r_mm,<col>" (any header names), r in
+// mm, strictly increasing. An empty path returns nil.
+func readProfile(path, col string) (*radialProfile, error) {
+	if path == "" {
+		return nil, nil
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("job: %w", err)
+	}
+	defer f.Close()
+	rM, v, err := contact.ReadRadialProfile(f, path)
+	if err != nil {
+		return nil, fmt.Errorf("job: profile %s (r_mm,%s): %w", path, col, err)
+	}
+	// ReadRadialProfile converts its second column from mm to m; undo it.
+	for i := range v {
+		v[i] *= 1e3
+	}
+	return &radialProfile{rM: rM, v: v}, nil
+}
+
+// hobSurface returns the hob top on the pan grid: from a hob scan, a radial
+// height profile (CSV), or an ideal flat hob.
+func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*scan.Surface, *FileReport, error) {
+	if path == "" && job.Hob.Profile == "" {
+		return contact.FlatHob(like), nil, nil
+	}
+	if path == "" || strings.EqualFold(filepath.Ext(path), ".csv") && isProfileCSV(path) {
+		if path == "" {
+			path = job.Hob.Profile
+		}
+		f, err := os.Open(path)
+		if err != nil {
+			return nil, nil, fmt.Errorf("hob profile: %w", err)
+		}
+		defer f.Close()
+		rM, zM, err := contact.ReadRadialProfile(f, path)
+		if err != nil {
+			return nil, nil, fmt.Errorf("hob profile: %w", err)
+		}
+		s, err := contact.RadialHob(like, rM, zM, offsetM)
+		if err != nil {
+			return nil, nil, fmt.Errorf("hob profile: %w", err)
+		}
+		sha, err := FileSHA256(path)
+		if err != nil {
+			return nil, nil, err
+		}
+		return s, &FileReport{Path: filepath.Base(path), Format: "radial-profile-csv", SHA256: sha,
+			Points: len(rM), Unit: "mm", UnitSource: "header"}, nil
+	}
+	hj := job
+	hj.Grid.Face, hj.Grid.DiameterMM = "", 0
+	cloud, fr, err := readScan(path, filepath.Base(path), hj)
+	if err != nil {
+		return nil, nil, fmt.Errorf("hob: %w", err)
+	}
+	lev, err := scan.Level(cloud, scan.LevelOptions{Face: "up"})
+	if err != nil {
+		return nil, nil, fmt.Errorf("hob %s: levelling: %w", fr.Path, err)
+	}
+	// The hob frame has its top face up: flip the base frame about x.
+	for i := range lev.Cloud.Points {
+		lev.Cloud.Points[i].Y = -lev.Cloud.Points[i].Y
+		lev.Cloud.Points[i].Z = -lev.Cloud.Points[i].Z
+	}
+	g, err := scan.Grid(lev, scan.GridOptions{CellM: like.CellM, OutlierK: job.Grid.OutlierK})
+	if err != nil {
+		return nil, nil, fmt.Errorf("hob %s: gridding: %w", fr.Path, err)
+	}
+	filt, err := scan.FormFilter(g.Raw, job.Grid.CutoffMM/1e3)
+	if err != nil {
+		return nil, nil, fmt.Errorf("hob %s: filter: %w", fr.Path, err)
+	}
+	s, err := contact.ResampleHob(filt.Form, like, offsetM)
+	if err != nil {
+		return nil, nil, fmt.Errorf("hob %s: %w", fr.Path, err)
+	}
+	return s, &fr, nil
+}
+
+// isProfileCSV reports whether a CSV's header names a radial profile.
+func isProfileCSV(path string) bool {
+	f, err := os.Open(path)
+	if err != nil {
+		return false
+	}
+	defer f.Close()
+	buf := make([]byte, 256)
+	n, _ := f.Read(buf)
+	first, _, _ := strings.Cut(string(buf[:n]), "\n")
+	first = strings.ToLower(strings.TrimSpace(first))
+	return strings.HasPrefix(first, "r_mm") || strings.HasPrefix(first, "r,")
+}
+
+type heatupOut struct {
+	report   *HeatupReport
+	warnings []string
+}
+
+// heatupReport integrates the heat-up of the water load for the scan and
+// its flat twin (DESIGN 5.4; quasi-steady, see thermal.Heatup).
+func heatupReport(ctx context.Context, job Job, lib []contact.Material, radiusM float64,
+	power func(thermal.Interface) thermal.PowerFunc, scanIf, flatIf thermal.Interface) (*heatupOut, error) {
+	panCp := job.Pan.CpJKgK
+	if panCp == 0 {
+		m, err := contact.LookupMaterial(lib, job.Pan.Layers[0].Material)
+		if err != nil {
+			return nil, err
+		}
+		panCp = m.CpJKgK
+	}
+	innerD := job.Pan.InnerDiameterMM / 1e3
+	if innerD == 0 {
+		innerD = 2 * radiusM
+	}
+	// Wetted wall height from the water volume (density at 20 °C, 998.2
+	// kg/m³, Incropera Table A.6 interpolated; a geometric estimate).
+	depthM := job.Water.MassKg / 998.2 / (math.Pi * innerD * innerD / 4)
+	load := thermal.Load{
+		WaterKg: job.Water.MassKg, FromK: job.Water.FromC + kelvin, ToK: job.Water.ToC + kelvin,
+		PanKg: job.Pan.MassKg, PanCpJKgK: panCp,
+		WaterSurfaceDiameterM: innerD, WallHeightM: depthM, WallDiameterM: innerD,
+		WallEmissivity: job.Pan.WallEmissivity, WaterEmissivity: job.Water.Emissivity,
+		RoomK: job.Hob.RoomC + kelvin, Evaporation: job.Water.Evaporation, RoomHumidity: 0.5,
+	}
+	opt := thermal.HeatupOptions{PowerSamples: heatupSamples}
+	run := func(iface thermal.Interface) (*thermal.HeatupResult, error) {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		return thermal.Heatup(load, power(iface), opt)
+	}
+	s, err := run(scanIf)
+	if err != nil {
+		var stall *thermal.StallError
+		if errors.As(err, &stall) {
+			return nil, fmt.Errorf("the water never reaches %.0f °C on this base: heat in equals losses at %.1f °C", job.Water.ToC, stall.StallK-kelvin)
+		}
+		return nil, err
+	}
+	f, err := run(flatIf)
+	if err != nil {
+		return nil, fmt.Errorf("flat twin: %w", err)
+	}
+	kg := job.Water.MassKg
+	hr := &HeatupReport{
+		WaterKg: kg, FromC: job.Water.FromC, ToC: job.Water.ToC,
+		TimeS: roundTo(s.TimeS, 2), FlatTimeS: roundTo(f.TimeS, 2),
+		EnergyKJ: roundTo(s.SourceEnergyJ/1e3, 3), FlatEnergyKJ: roundTo(f.SourceEnergyJ/1e3, 3),
+		ExtraEnergyKJ: roundTo((s.SourceEnergyJ-f.SourceEnergyJ)/1e3, 3),
+		WhPerKg:       roundTo(s.SourceEnergyJ/3600/kg, 3), FlatWhPerKg: roundTo(f.SourceEnergyJ/3600/kg, 3),
+		QuasiSteady: true,
+	}
+	if f.TimeS > 0 {
+		hr.ExtraTimePct = roundTo(100*(s.TimeS/f.TimeS-1), 3)
+	}
+	out := &heatupOut{report: hr}
+	out.warnings = append(out.warnings, prefixed("heat-up: ", s.Warnings)...)
+	return out, nil
+}

@@ -1,0 +1,95 @@
+package pipeline
+
+import (
+	"errors"
+	"reflect"
+	"strings"
+	"testing"
+)
+
+func TestDefaultJobTOMLDecodesToDefaultJob(t *testing.T) {
+	got, err := ReadJob(strings.NewReader(DefaultJobTOML), "default.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := DefaultJob(); !reflect.DeepEqual(got, want) {
+		t.Errorf("DefaultJobTOML decodes to\n%+v\nwant DefaultJob()\n%+v", got, want)
+	}
+}
+
+func TestReadJob(t *testing.T) {
+	tests := []struct {
+		name    string
+		in      string
+		check   func(Job) bool
+		wantErr string // substring; "" = no error
+		line    int    // expected error line when > 0
+	}{
+		{name: "empty keeps defaults", in: "", check: func(j Job) bool { return reflect.DeepEqual(j, DefaultJob()) }},
+		{name: "override one key", in: "[water]\nmass_kg = 2.5\n",
+			check: func(j Job) bool { return j.Water.MassKg == 2.5 && j.Pan.MassKg == 1.0 }},
+		{name: "layers replace the default", in: "[[pan.layers]]\nmaterial = \"ss-430\"\nthickness_mm = 0.6\n[[pan.layers]]\nmaterial = \"alu-1050\"\nthickness_mm = 3\n",
+			check: func(j Job) bool {
+				return len(j.Pan.Layers) == 2 && j.Pan.Layers[0].Material == "ss-430" && j.Pan.Layers[1].ThicknessMM == 3
+			}},
+		{name: "temperature mode", in: "[hob]\nmode = \"temperature\"\ntemperature_c = 200\n",
+			check: func(j Job) bool { return j.Hob.Mode == "temperature" && j.Hob.TemperatureC == 200 }},
+		{name: "unknown key named", in: "[water]\nmass_kgs = 2\n", wantErr: `unknown key "water.mass_kgs"`, line: 2},
+		{name: "unknown section", in: "[oven]\nx = 1\n", wantErr: `unknown key "oven"`, line: 1},
+		{name: "syntax error has a position", in: "[water\nmass_kg = 1\n", wantErr: "job.toml:1:"},
+		{name: "wrong type", in: "[water]\nmass_kg = \"heavy\"\n", wantErr: "job.toml:2"},
+		{name: "negative mass", in: "[pan]\nmass_kg = -1\n", wantErr: "pan.mass_kg must be > 0"},
+		{name: "bad mode", in: "[hob]\nmode = \"gas\"\n", wantErr: "hob.mode must be one of heater, temperature"},
+		{name: "reversed heat-up", in: "[water]\nfrom_c = 90\nto_c = 15\n", wantErr: "from_c < to_c"},
+		{name: "emissivity above 1", in: "[pan]\nemissivity = 1.2\n", wantErr: "pan.emissivity must be in (0, 1]"},
+		{name: "no layers", in: "[pan]\nlayers = []\n", wantErr: "at least one layer"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			j, err := ReadJob(strings.NewReader(tc.in), "job.toml")
+			if tc.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.wantErr) {
+					t.Fatalf("error %v, want it to contain %q", err, tc.wantErr)
+				}
+				var je *JobError
+				if !errors.As(err, &je) {
+					t.Fatalf("error %T is not a *JobError", err)
+				}
+				if tc.line > 0 && je.Line != tc.line {
+					t.Errorf("error line %d, want %d (%v)", je.Line, tc.line, err)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !tc.check(j) {
+				t.Errorf("decoded job %+v fails the check", j)
+			}
+		})
+	}
+}
+
+func TestMaterialLibraryOverride(t *testing.T) {
+	j := DefaultJob()
+	j.Materials = []MaterialJob{
+		{Name: "alu-1050", ConductivityWMK: 200},
+		{Name: "alu-3004", ConductivityWMK: 162, DensityKgM3: 2720, CpJKgK: 893, Emissivity: 0.2},
+	}
+	lib, err := j.MaterialLibrary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got1050, got3004 bool
+	for _, m := range lib {
+		switch m.Name {
+		case "alu-1050":
+			got1050 = m.ConductivityWMK == 200 && m.DensityKgM3 > 2000 // only k overridden
+		case "alu-3004":
+			got3004 = m.ConductivityWMK == 162 && m.CpJKgK == 893
+		}
+	}
+	if !got1050 || !got3004 {
+		t.Errorf("override/addition not applied: 1050 %v, 3004 %v", got1050, got3004)
+	}
+}

@@ -1,0 +1,253 @@
+package pipeline
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"path/filepath"
+	"strconv"
+	"strings"
+)
+
+// MarshalReport encodes a report as indented JSON.
+func MarshalReport(rep *Report) ([]byte, error) {
+	b, err := json.MarshalIndent(rep, "", "  ")
+	if err != nil {
+		return nil, err
+	}
+	return append(b, '\n'), nil
+}
+
+// ringColumns are the columns of rings.csv: one row per ring, fixed
+// decimals, no timestamps, so two scans' tables diff line by line.
+var ringColumns = []string{"ring", "r_in_mm", "r_out_mm", "area_mm2", "contact_pct", "mean_gap_mm", "max_gap_mm",
+	"h_w_m2k", "h_solid_w_m2k", "h_gas_w_m2k", "h_rad_w_m2k", "flux_kw_m2", "flat_flux_kw_m2",
+	"power_w", "flat_power_w", "power_lost_w"}
+
+// WriteRingsCSV writes the ring table.
+func WriteRingsCSV(w io.Writer, rings []RingReport) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(ringColumns); err != nil {
+		return err
+	}
+	f := func(v float64, p int) string { return strconv.FormatFloat(roundTo(v, p), 'f', p, 64) }
+	for i, r := range rings {
+		rec := []string{strconv.Itoa(i + 1), f(r.RInMM, 2), f(r.ROutMM, 2), f(r.AreaMM2, 1), f(r.ContactPct, 2),
+			f(r.MeanGapMM, 4), f(r.MaxGapMM, 4), f(r.HWM2K, 2), f(r.HSolidWM2K, 4), f(r.HGasWM2K, 2), f(r.HRadWM2K, 3),
+			f(r.FluxKWM2, 3), f(r.FlatFluxKWM2, 3), f(r.PowerW, 3), f(r.FlatPowerW, 3), f(r.PowerLostW, 3)}
+		if err := cw.Write(rec); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// WriteOutputs writes every output of one scan into dir: the maps, the ring
+// table and chart, the field file, and report.json last, so a report's
+// presence means the rest is there.
+func WriteOutputs(res *Result, dir string) error {
+	rep := res.Report
+	title := res.Name
+	if res.Form != nil && res.GapM != nil {
+		s := res.Form
+		gapUM := make([]float64, len(res.GapM))
+		for k, g := range res.GapM {
+			gapUM[k] = g * 1e6
+			if !s.InBase(k) {
+				gapUM[k] = math.NaN()
+			}
+		}
+		spec := &MapSpec{Title: "gap under " + title, Unit: "gap (µm)", Nx: s.Nx, Ny: s.Ny,
+			X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, CellMM: s.CellM * 1e3, Values: gapUM, Controls: gapControls,
+			MarkLabel: "support points"}
+		if res.Pose != nil {
+			for _, c := range res.Pose.ContactPointsM {
+				spec.MarksMM = append(spec.MarksMM, [2]float64{c[0] * 1e3, c[1] * 1e3})
+			}
+		}
+		if err := writeMapFiles(dir, "gap", spec); err != nil {
+			return err
+		}
+		if res.Scan != nil {
+			flux := make([]float64, len(res.Scan.FluxWM2))
+			for k, q := range res.Scan.FluxWM2 {
+				flux[k] = q / 1e3
+				if !s.InBase(k) {
+					flux[k] = math.NaN()
+				}
+			}
+			fspec := *spec
+			fspec.Title, fspec.Unit, fspec.Values, fspec.Controls = "heat flux into "+title, "flux (kW/m²)", flux, fluxControls
+			if err := writeMapFiles(dir, "flux", &fspec); err != nil {
+				return err
+			}
+		}
+	}
+	if len(rep.Rings) > 0 {
+		if err := WriteFileAtomic(filepath.Join(dir, "rings.csv"), func(w io.Writer) error {
+			return WriteRingsCSV(w, rep.Rings)
+		}); err != nil {
+			return err
+		}
+		for _, ext := range []string{"png", "svg"} {
+			spec := &RingChartSpec{Title: "heat flux by ring: " + title, Rings: rep.Rings}
+			if err := WriteFileAtomic(filepath.Join(dir, "rings."+ext), func(w io.Writer) error {
+				return WriteRingChart(w, spec, ext)
+			}); err != nil {
+				return err
+			}
+		}
+	}
+	if res.Form != nil {
+		if err := WriteFileAtomic(filepath.Join(dir, "fields.vti"), func(w io.Writer) error {
+			return WriteVTI(w, res.vtiGrid(), res.vtiFields())
+		}); err != nil {
+			return err
+		}
+	}
+	b, err := MarshalReport(rep)
+	if err != nil {
+		return err
+	}
+	return WriteBytesAtomic(filepath.Join(dir, "report.json"), b)
+}
+
+func writeMapFiles(dir, name string, spec *MapSpec) error {
+	for _, ext := range []string{"png", "svg"} {
+		if err := WriteFileAtomic(filepath.Join(dir, name+"."+ext), func(w io.Writer) error {
+			return WriteMap(w, spec, ext)
+		}); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (res *Result) vtiGrid() VTIGrid {
+	s := res.Form
+	return VTIGrid{Nx: s.Nx, Ny: s.Ny, X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, SpacingMM: s.CellM * 1e3}
+}
+
+// vtiFields lists the per-cell fields, in display units.
+func (res *Result) vtiFields() []VTIField {
+	s := res.Form
+	n := len(s.ZM)
+	scaled := func(src []float64, f func(float64) float64) []float64 {
+		out := make([]float64, n)
+		for k := range out {
+			if src == nil || !s.InBase(k) || math.IsNaN(src[k]) {
+				out[k] = math.NaN()
+			} else {
+				out[k] = f(src[k])
+			}
+		}
+		return out
+	}
+	id := func(v float64) float64 { return v }
+	state := make([]float64, n)
+	for k, st := range s.State {
+		state[k] = float64(st)
+	}
+	fields := []VTIField{
+		{Name: "height_um", Values: scaled(s.ZM, func(v float64) float64 { return v * 1e6 })},
+		{Name: "cell_state", Values: state, UInt8: true},
+	}
+	if res.GapM != nil {
+		fields = append(fields, VTIField{Name: "gap_um", Values: scaled(res.GapM, func(v float64) float64 { return v * 1e6 })})
+		c := make([]float64, n)
+		for k, in := range res.Contact {
+			if in {
+				c[k] = 1
+			}
+		}
+		fields = append(fields, VTIField{Name: "contact", Values: c, UInt8: true})
+	}
+	if sol := res.Scan; sol != nil {
+		total := make([]float64, n)
+		for k := range total {
+			total[k] = sol.SolidWM2K[k] + sol.GasWM2K[k] + sol.RadWM2K[k]
+		}
+		toC := func(v float64) float64 { return v - kelvin }
+		kw := func(v float64) float64 { return v / 1e3 }
+		fields = append(fields,
+			VTIField{Name: "h_w_m2k", Values: scaled(total, id)},
+			VTIField{Name: "h_solid_w_m2k", Values: scaled(sol.SolidWM2K, id)},
+			VTIField{Name: "h_gas_w_m2k", Values: scaled(sol.GasWM2K, id)},
+			VTIField{Name: "h_rad_w_m2k", Values: scaled(sol.RadWM2K, id)},
+			VTIField{Name: "base_c", Values: scaled(sol.TPanK, toC)},
+			VTIField{Name: "flux_kw_m2", Values: scaled(sol.FluxWM2, kw)},
+		)
+		if res.Flat != nil {
+			fields = append(fields, VTIField{Name: "flat_flux_kw_m2", Values: scaled(res.Flat.FluxWM2, kw)})
+		}
+		if sol.TGlassK != nil {
+			g := make([]float64, n)
+			for k, t := range sol.TGlassK {
+				g[k] = t - kelvin
+			}
+			fields = append(fields, VTIField{Name: "glass_c", Values: g})
+		}
+	}
+	return fields
+}
+
+// HumanSummary is the short plain-words summary printed after analyze.
+func HumanSummary(res *Result) string {
+	rep := res.Report
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s (%s, %d points)\n", res.Name, rep.Input.Pan.Format, rep.Input.Pan.Points)
+	if g := rep.Geometry; g != nil {
+		word := map[string]string{
+			"concave": "concave (dished: centre raised, stands on its rim)",
+			"convex":  "convex (domed: centre lower, rocks on its centre)",
+			"flat":    "flat within the noise of the form terms",
+		}[g.Shape]
+		fmt.Fprintf(&b, "  base: diameter %.1f mm, minimum-zone flatness %.3f mm (least squares %.3f mm)\n",
+			g.DiameterMM, g.FlatnessMZMM, g.FlatnessLSMM)
+		fmt.Fprintf(&b, "  concavity %+.3f mm = %+.3f %% of diameter: %s\n", g.ConcavityMM, g.ConcavityPctOfDiameter, word)
+		fmt.Fprintf(&b, "  measured %.1f %% of the base, %d outliers removed, scanner noise %.1f µm (filter cut-off %.1f mm)\n",
+			g.CoveragePct, g.OutliersRemoved, g.NoiseUM, g.CutoffMM)
+	}
+	if p := rep.Pose; p != nil {
+		rock := "stands firm"
+		if p.Rocks {
+			rock = fmt.Sprintf("ROCKS: the rim drops %.3f mm when pressed", p.RockMM)
+		}
+		fmt.Fprintf(&b, "  on the hob: %s support at %d point(s), tilt %.3f°, %s\n", p.Support, len(p.ContactPointsMM), p.TiltDeg, rock)
+	}
+	if g := rep.Gap; g != nil {
+		fmt.Fprintf(&b, "  gap: %.1f %% of the base in contact, mean gap %.3f mm, largest %.3f mm\n",
+			g.ContactAreaPct, g.MeanGapMM, g.MaxGapMM)
+	}
+	if h := rep.Heat; h != nil {
+		fmt.Fprintf(&b, "  heat (%s mode, water at %.0f °C): %.0f W into the pan against %.0f W for a flat twin: %.1f %% of the heating power lost\n",
+			h.Mode, h.WaterC, h.PowerW, h.FlatPowerW, h.LossPct)
+		fmt.Fprintf(&b, "  heat crossing the interface: gas %.1f %%, radiation %.1f %%, solid contact %.3f %%\n",
+			h.GasPct, h.RadiationPct, h.SolidPct)
+		if h.GlassMaxC != nil {
+			fmt.Fprintf(&b, "  glass top up to %.0f °C (flat twin %.0f °C), heater duty %.0f %% (flat twin %.0f %%)\n",
+				*h.GlassMaxC, *h.FlatGlassMaxC, *h.HeaterDutyPct, *h.FlatHeaterDutyPct)
+		}
+	}
+	if h := rep.Heatup; h != nil {
+		fmt.Fprintf(&b, "  heat-up of %.2f kg water %.0f→%.0f °C: %.0f s against %.0f s flat (+%.1f %%), %.1f kJ more energy\n",
+			h.WaterKg, h.FromC, h.ToC, h.TimeS, h.FlatTimeS, h.ExtraTimePct, h.ExtraEnergyKJ)
+	}
+	if v := rep.Verdict; v != nil {
+		if v.Pass {
+			fmt.Fprintf(&b, "  verdict: PASS\n")
+		} else {
+			fmt.Fprintf(&b, "  verdict: FAIL\n")
+			for _, r := range v.Reasons {
+				fmt.Fprintf(&b, "    - %s\n", r)
+			}
+		}
+	}
+	for _, w := range rep.Warnings {
+		fmt.Fprintf(&b, "  warning: %s\n", w)
+	}
+	return b.String()
+}

@@ -1,0 +1,240 @@
+package pipeline
+
+import (
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/palette"
+	"gonum.org/v1/plot/palette/moreland"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
+)
+
+// Colour scales of our own: control colours with strictly increasing CIE L*,
+// interpolated by gonum's luminance map so that lightness is linear in the
+// value (perceptually ordered, readable when printed in grey).
+var (
+	// gapScale runs from deep indigo (contact) through teal to pale sand
+	// (wide gap).
+	gapControls = []color.Color{
+		color.NRGBA{R: 0x1b, G: 0x10, B: 0x3a, A: 0xff},
+		color.NRGBA{R: 0x2e, G: 0x3f, B: 0x8f, A: 0xff},
+		color.NRGBA{R: 0x1f, G: 0x7f, B: 0x94, A: 0xff},
+		color.NRGBA{R: 0x5c, G: 0xb8, B: 0x8a, A: 0xff},
+		color.NRGBA{R: 0xf4, G: 0xee, B: 0xc8, A: 0xff},
+	}
+	// fluxScale runs from near black through oxblood and amber to pale
+	// yellow (high flux).
+	fluxControls = []color.Color{
+		color.NRGBA{R: 0x12, G: 0x0a, B: 0x12, A: 0xff},
+		color.NRGBA{R: 0x6a, G: 0x12, B: 0x2a, A: 0xff},
+		color.NRGBA{R: 0xc2, G: 0x44, B: 0x1c, A: 0xff},
+		color.NRGBA{R: 0xf0, G: 0xa2, B: 0x2e, A: 0xff},
+		color.NRGBA{R: 0xfc, G: 0xf4, B: 0xc4, A: 0xff},
+	}
+)
+
+func newScale(controls []color.Color, lo, hi float64) palette.ColorMap {
+	cm, err := moreland.NewLuminance(controls)
+	if err != nil {
+		panic(err) // the control colours are fixed above
+	}
+	if !(hi > lo) {
+		hi = lo + 1
+	}
+	cm.SetMin(lo)
+	cm.SetMax(hi)
+	return cm
+}
+
+// fieldGrid adapts a cell field to plotter.GridXYZ, in mm.
+type fieldGrid struct {
+	nx, ny   int
+	x0, y0   float64 // mm
+	cell     float64 // mm
+	v        []float64
+	clampLo  float64
+	clampHi  float64
+	i0, j0   int // crop origin
+	cnx, cny int // crop size
+}
+
+func (g *fieldGrid) Dims() (c, r int) { return g.cnx, g.cny }
+func (g *fieldGrid) X(c int) float64  { return g.x0 + float64(c+g.i0)*g.cell }
+func (g *fieldGrid) Y(r int) float64  { return g.y0 + float64(r+g.j0)*g.cell }
+func (g *fieldGrid) Z(c, r int) float64 {
+	v := g.v[(r+g.j0)*g.nx+c+g.i0]
+	if math.IsNaN(v) {
+		return v
+	}
+	return math.Min(math.Max(v, g.clampLo), g.clampHi)
+}
+
+// MapSpec describes one colour map picture of a cell field.
+type MapSpec struct {
+	Title     string
+	Unit      string // colour bar label, e.g. "gap (µm)"
+	Nx, Ny    int
+	X0MM      float64 // centre of cell (0, 0)
+	Y0MM      float64
+	CellMM    float64
+	Values    []float64 // NaN where there is nothing to show
+	Controls  []color.Color
+	Lo, Hi    float64      // colour range; equal means from the data
+	MarksMM   [][2]float64 // points to mark (contact points)
+	MarkLabel string
+}
+
+// crop returns the bounding box of the finite values.
+func (m *MapSpec) crop() (i0, j0, nx, ny int) {
+	imin, jmin, imax, jmax := m.Nx, m.Ny, -1, -1
+	for j := 0; j < m.Ny; j++ {
+		for i := 0; i < m.Nx; i++ {
+			if !math.IsNaN(m.Values[j*m.Nx+i]) {
+				imin, imax = min(imin, i), max(imax, i)
+				jmin, jmax = min(jmin, j), max(jmax, j)
+			}
+		}
+	}
+	if imax < 0 {
+		return 0, 0, m.Nx, m.Ny
+	}
+	return imin, jmin, imax - imin + 1, jmax - jmin + 1
+}
+
+// WriteMap renders the map as "png" or "svg".
+func WriteMap(w io.Writer, m *MapSpec, format string) error {
+	lo, hi := m.Lo, m.Hi
+	if !(hi > lo) {
+		lo, hi = math.Inf(1), math.Inf(-1)
+		for _, v := range m.Values {
+			if !math.IsNaN(v) {
+				lo, hi = math.Min(lo, v), math.Max(hi, v)
+			}
+		}
+		if math.IsInf(lo, 0) {
+			lo, hi = 0, 1
+		}
+		if hi-lo < 1e-12*math.Max(1, math.Abs(hi)) {
+			hi = lo + math.Max(1e-9, math.Abs(lo)*1e-3)
+		}
+	}
+	cm := newScale(m.Controls, lo, hi)
+	i0, j0, cnx, cny := m.crop()
+	g := &fieldGrid{nx: m.Nx, ny: m.Ny, x0: m.X0MM, y0: m.Y0MM, cell: m.CellMM, v: m.Values,
+		clampLo: lo, clampHi: hi, i0: i0, j0: j0, cnx: cnx, cny: cny}
+
+	p := plot.New()
+	p.Title.Text = m.Title
+	p.X.Label.Text = "x (mm)"
+	p.Y.Label.Text = "y (mm)"
+	hm := plotter.NewHeatMap(g, cm.Palette(256))
+	hm.Rasterized = true
+	hm.NaN = color.Transparent
+	hm.Min, hm.Max = lo, hi
+	p.Add(hm)
+	if len(m.MarksMM) > 0 {
+		pts := make(plotter.XYs, len(m.MarksMM))
+		for i, c := range m.MarksMM {
+			pts[i].X, pts[i].Y = c[0], c[1]
+		}
+		sc, err := plotter.NewScatter(pts)
+		if err != nil {
+			return err
+		}
+		sc.GlyphStyle.Shape = draw.CrossGlyph{}
+		sc.GlyphStyle.Radius = vg.Points(5)
+		sc.GlyphStyle.Color = color.NRGBA{R: 0xe8, G: 0x1e, B: 0x63, A: 0xff}
+		p.Add(sc)
+		if m.MarkLabel != "" {
+			p.Legend.Add(m.MarkLabel, sc)
+			p.Legend.Top = true
+		}
+	}
+	// Equal scales on both axes.
+	xmin, xmax := g.X(0)-m.CellMM/2, g.X(cnx-1)+m.CellMM/2
+	ymin, ymax := g.Y(0)-m.CellMM/2, g.Y(cny-1)+m.CellMM/2
+	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xmin, xmax, ymin, ymax
+
+	cb := plot.New()
+	cb.HideX()
+	cb.Y.Label.Text = m.Unit
+	cb.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true, Colors: 256})
+
+	const plotW, barW = 14 * vg.Centimeter, 3.2 * vg.Centimeter
+	aspect := (ymax - ymin) / (xmax - xmin)
+	height := vg.Length(float64(plotW-2*vg.Centimeter)*aspect) + 2.5*vg.Centimeter
+	width := plotW + barW
+	var c vg.CanvasWriterTo
+	switch format {
+	case "png":
+		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}
+	case "svg":
+		c = vgsvg.NewWith(vgsvg.UseWH(width, height))
+	default:
+		return fmt.Errorf("map format %q: want png or svg", format)
+	}
+	dc := draw.New(c)
+	left := draw.Crop(dc, 0, -barW, 0, 0)
+	right := draw.Crop(dc, plotW+0.6*vg.Centimeter, 0, 1.3*vg.Centimeter, -1.3*vg.Centimeter)
+	p.Draw(left)
+	cb.Draw(right)
+	_, err := c.WriteTo(w)
+	return err
+}
+
+// RingChartSpec is the ring chart: flux per ring of the scan and its flat
+// twin against the ring's mid radius.
+type RingChartSpec struct {
+	Title string
+	Rings []RingReport
+}
+
+// WriteRingChart renders the ring chart as "png" or "svg".
+func WriteRingChart(w io.Writer, s *RingChartSpec, format string) error {
+	p := plot.New()
+	p.Title.Text = s.Title
+	p.X.Label.Text = "ring mid radius (mm)"
+	p.Y.Label.Text = "heat flux into the pan (kW/m²)"
+	p.Add(plotter.NewGrid())
+	scanXY := make(plotter.XYs, len(s.Rings))
+	flatXY := make(plotter.XYs, len(s.Rings))
+	for i, r := range s.Rings {
+		mid := (r.RInMM + r.ROutMM) / 2
+		scanXY[i] = plotter.XY{X: mid, Y: r.FluxKWM2}
+		flatXY[i] = plotter.XY{X: mid, Y: r.FlatFluxKWM2}
+	}
+	fl, fp, err := plotter.NewLinePoints(flatXY)
+	if err != nil {
+		return err
+	}
+	fl.Color = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
+	fl.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+	fp.Shape = draw.CircleGlyph{}
+	fp.Color = fl.Color
+	sl, sp, err := plotter.NewLinePoints(scanXY)
+	if err != nil {
+		return err
+	}
+	sl.Color = color.NRGBA{R: 0xb0, G: 0x30, B: 0x1c, A: 0xff}
+	sl.Width = vg.Points(1.5)
+	sp.Shape = draw.BoxGlyph{}
+	sp.Color = sl.Color
+	p.Add(fl, fp, sl, sp)
+	p.Legend.Add("flat twin", fl, fp)
+	p.Legend.Add("scan", sl, sp)
+	p.Legend.Top = true
+	p.Y.Min = 0
+	wt, err := p.WriterTo(16*vg.Centimeter, 10*vg.Centimeter, format)
+	if err != nil {
+		return err
+	}
+	_, err = wt.WriteTo(w)
+	return err
+}

@@ -1,0 +1,166 @@
+package pipeline
+
+// SchemaReport names the version of the report contract (DESIGN 7).
+const SchemaReport = "gapflux.report/1"
+
+// Report is the per-scan report written to report.json. Units are in every
+// key; lengths in mm, temperatures in °C, powers in W.
+type Report struct {
+	Schema   string          `json:"schema"`
+	Input    ReportInput     `json:"input"`
+	Geometry *GeometryReport `json:"geometry,omitempty"`
+	Pose     *PoseReport     `json:"pose,omitempty"`
+	Gap      *GapReport      `json:"gap,omitempty"`
+	Heat     *HeatReport     `json:"heat,omitempty"`
+	Heatup   *HeatupReport   `json:"heatup,omitempty"`
+	Verdict  *VerdictReport  `json:"verdict,omitempty"`
+	Rings    []RingReport    `json:"rings,omitempty"`
+	Warnings []string        `json:"warnings"`
+}
+
+// ReportInput identifies what was analysed.
+type ReportInput struct {
+	Pan FileReport  `json:"pan"`
+	Hob *FileReport `json:"hob,omitempty"`
+	// JobSHA256 is the hash of the effective settings (job file and flags).
+	JobSHA256 string `json:"job_sha256"`
+}
+
+// FileReport describes one input file.
+type FileReport struct {
+	Path       string `json:"path"`
+	Format     string `json:"format"`
+	SHA256     string `json:"sha256"`
+	Points     int    `json:"points"`
+	Unit       string `json:"unit"`
+	UnitSource string `json:"unit_source"`
+}
+
+// GeometryReport is the base's form, on the form-filtered surface.
+type GeometryReport struct {
+	DiameterMM             float64       `json:"diameter_mm"`
+	FlatnessMZMM           float64       `json:"flatness_mz_mm"`
+	FlatnessLSMM           float64       `json:"flatness_ls_mm"`
+	ConcavityMM            float64       `json:"concavity_mm"`
+	ConcavityPctOfDiameter float64       `json:"concavity_pct_of_diameter"`
+	Shape                  string        `json:"shape"` // "concave", "convex" or "flat"
+	CoveragePct            float64       `json:"coverage_pct"`
+	OutliersRemoved        int           `json:"outliers_removed"`
+	CutoffMM               float64       `json:"cutoff_mm"`
+	NoiseUM                float64       `json:"noise_um"`
+	CellMM                 float64       `json:"cell_mm"`
+	Filter                 string        `json:"filter"`
+	FaceSource             string        `json:"face_source"`
+	PointsUsed             int           `json:"points_used"`
+	PointsDropped          int           `json:"points_dropped"`
+	Zernike                ZernikeReport `json:"zernike"`
+}
+
+// ZernikeReport lists the form terms.
+type ZernikeReport struct {
+	Ordering      string        `json:"ordering"`
+	Normalisation string        `json:"normalisation"`
+	RadiusMM      float64       `json:"radius_mm"`
+	Terms         []ZernikeTerm `json:"terms"`
+}
+
+// ZernikeTerm is one Zernike coefficient, µm.
+type ZernikeTerm struct {
+	J      int     `json:"j"`
+	N      int     `json:"n"`
+	M      int     `json:"m"`
+	Name   string  `json:"name"`
+	CoefUM float64 `json:"coef_um"`
+}
+
+// PoseReport is how the pan rests on the hob.
+type PoseReport struct {
+	TiltDeg         float64      `json:"tilt_deg"`
+	Rocks           bool         `json:"rocks"`
+	RockMM          float64      `json:"rock_mm"`
+	Support         string       `json:"support"`
+	ContactPointsMM [][2]float64 `json:"contact_points_mm"`
+	CentreOfMassMM  [2]float64   `json:"centre_of_mass_mm"`
+	RockLimitMM     float64      `json:"rock_limit_mm"`
+}
+
+// GapReport summarises the gap field over the base.
+type GapReport struct {
+	ContactAreaPct    float64 `json:"contact_area_pct"`
+	MeanGapMM         float64 `json:"mean_gap_mm"`
+	MaxGapMM          float64 `json:"max_gap_mm"`
+	ContactBandUM     float64 `json:"contact_band_um"`
+	ContactPressurePa float64 `json:"contact_pressure_pa"`
+	PressureRatio     float64 `json:"pressure_over_microhardness"`
+	MeanHSolidWM2K    float64 `json:"mean_h_solid_w_m2k"`
+	MeanHGasWM2K      float64 `json:"mean_h_gas_w_m2k"`
+	MeanHRadWM2K      float64 `json:"mean_h_rad_w_m2k"`
+}
+
+// HeatReport holds the steady heat figures against the flat twin.
+type HeatReport struct {
+	Mode              string   `json:"mode"`
+	WaterC            float64  `json:"water_c"`
+	PowerW            float64  `json:"power_w"`
+	FlatPowerW        float64  `json:"flat_power_w"`
+	LossPct           float64  `json:"loss_pct"`
+	MeanFluxKWM2      float64  `json:"mean_flux_kw_m2"`
+	FlatMeanFluxKWM2  float64  `json:"flat_mean_flux_kw_m2"`
+	SolidPct          float64  `json:"solid_pct"`
+	GasPct            float64  `json:"gas_pct"`
+	RadiationPct      float64  `json:"radiation_pct"`
+	TransmittedPct    float64  `json:"transmitted_pct"`
+	GlassMaxC         *float64 `json:"glass_max_c,omitempty"`
+	FlatGlassMaxC     *float64 `json:"flat_glass_max_c,omitempty"`
+	HeaterDutyPct     *float64 `json:"heater_duty_pct,omitempty"`
+	FlatHeaterDutyPct *float64 `json:"flat_heater_duty_pct,omitempty"`
+	HeaterW           *float64 `json:"heater_w,omitempty"`
+	DownLossW         *float64 `json:"down_loss_w,omitempty"`
+	UncoveredLossW    *float64 `json:"uncovered_glass_loss_w,omitempty"`
+	BaseMaxC          float64  `json:"base_max_c"`
+	BaseMinC          float64  `json:"base_min_c"`
+	SolverIterations  int      `json:"solver_iterations"`
+	OuterIterations   int      `json:"outer_iterations"`
+	SolverResidual    float64  `json:"solver_rel_residual"`
+}
+
+// HeatupReport holds the heat-up of the water load.
+type HeatupReport struct {
+	WaterKg       float64 `json:"water_kg"`
+	FromC         float64 `json:"from_c"`
+	ToC           float64 `json:"to_c"`
+	TimeS         float64 `json:"time_s"`
+	FlatTimeS     float64 `json:"flat_time_s"`
+	ExtraTimePct  float64 `json:"extra_time_pct"`
+	EnergyKJ      float64 `json:"energy_kj"`
+	FlatEnergyKJ  float64 `json:"flat_energy_kj"`
+	ExtraEnergyKJ float64 `json:"extra_energy_kj"`
+	WhPerKg       float64 `json:"wh_per_kg"`
+	FlatWhPerKg   float64 `json:"flat_wh_per_kg"`
+	QuasiSteady   bool    `json:"quasi_steady"`
+}
+
+// VerdictReport is pass/fail against the job's tolerances.
+type VerdictReport struct {
+	Pass    bool     `json:"pass"`
+	Reasons []string `json:"reasons"`
+}
+
+// RingReport is one row of the ring table.
+type RingReport struct {
+	RInMM        float64 `json:"r_in_mm"`
+	ROutMM       float64 `json:"r_out_mm"`
+	AreaMM2      float64 `json:"area_mm2"`
+	ContactPct   float64 `json:"contact_pct"`
+	MeanGapMM    float64 `json:"mean_gap_mm"`
+	MaxGapMM     float64 `json:"max_gap_mm"`
+	HWM2K        float64 `json:"h_w_m2k"`
+	HSolidWM2K   float64 `json:"h_solid_w_m2k"`
+	HGasWM2K     float64 `json:"h_gas_w_m2k"`
+	HRadWM2K     float64 `json:"h_rad_w_m2k"`
+	FluxKWM2     float64 `json:"flux_kw_m2"`
+	FlatFluxKWM2 float64 `json:"flat_flux_kw_m2"`
+	PowerW       float64 `json:"power_w"`
+	FlatPowerW   float64 `json:"flat_power_w"`
+	PowerLostW   float64 `json:"power_lost_w"`
+}

@@ -1,0 +1,192 @@
+package pipeline
+
+import (
+	"fmt"
+	"math"
+
+	"gapflux/contact"
+	"gapflux/scan"
+	"gapflux/thermal"
+)
+
+// shapeTolPct is the concavity, in % of the diameter, below which a base is
+// called flat in the report's shape word (our own choice).
+const shapeTolPct = 0.02
+
+func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev *scan.Levelled, job Job) *GeometryReport {
+	shape := "flat"
+	switch {
+	case f.ConcavityPctOfDiameter >= shapeTolPct:
+		shape = "concave"
+	case f.ConcavityPctOfDiameter <= -shapeTolPct:
+		shape = "convex"
+	}
+	filter := "none"
+	if filt.CutoffM > 0 {
+		filter = fmt.Sprintf("ISO 16610-61 areal Gaussian, cut-off %.3g mm, edge-corrected", filt.CutoffM*1e3)
+	}
+	gr := &GeometryReport{
+		DiameterMM:             roundTo(f.DiameterM*1e3, 3),
+		FlatnessMZMM:           roundTo(f.FlatnessMZM*1e3, 4),
+		FlatnessLSMM:           roundTo(f.FlatnessLSM*1e3, 4),
+		ConcavityMM:            roundTo(f.ConcavityM*1e3, 4),
+		ConcavityPctOfDiameter: roundTo(f.ConcavityPctOfDiameter, 4),
+		Shape:                  shape,
+		CoveragePct:            roundTo(g.CoveragePct, 2),
+		OutliersRemoved:        g.OutliersRemoved,
+		CutoffMM:               roundTo(filt.CutoffM*1e3, 3),
+		NoiseUM:                roundTo(filt.NoiseM*1e6, 2),
+		CellMM:                 roundTo(g.Raw.CellM*1e3, 4),
+		Filter:                 filter,
+		FaceSource:             lev.FaceSource,
+		PointsUsed:             len(lev.Cloud.Points),
+		PointsDropped:          lev.PointsDropped,
+		Zernike: ZernikeReport{
+			Ordering:      "ANSI Z80.28 / ISO 24157 single index j = (n(n+2)+m)/2 from 0; m < 0 sine terms",
+			Normalisation: "orthonormal over the unit disc: N = sqrt(2(n+1)/(1+δm0)); ρ = r / base radius",
+			RadiusMM:      roundTo(lev.RadiusM*1e3, 3),
+		},
+	}
+	for _, t := range f.Zernike {
+		gr.Zernike.Terms = append(gr.Zernike.Terms, ZernikeTerm{J: t.Index, N: t.N, M: t.M, Name: t.Name,
+			CoefUM: roundTo(t.CoefM*1e6, 3)})
+	}
+	return gr
+}
+
+func poseReport(p *contact.Pose, comM [2]float64, job Job) *PoseReport {
+	pr := &PoseReport{
+		TiltDeg:         roundTo(p.TiltDeg, 5),
+		Rocks:           p.Rocks,
+		RockMM:          roundTo(p.RockM*1e3, 4),
+		Support:         p.Support,
+		ContactPointsMM: [][2]float64{},
+		CentreOfMassMM:  [2]float64{roundTo(comM[0]*1e3, 3), roundTo(comM[1]*1e3, 3)},
+		RockLimitMM:     job.Grid.RockMM,
+	}
+	for _, c := range p.ContactPointsM {
+		pr.ContactPointsMM = append(pr.ContactPointsMM, [2]float64{roundTo(c[0]*1e3, 3), roundTo(c[1]*1e3, 3)})
+	}
+	return pr
+}
+
+func gapReport(gap []float64, mask, inBase []bool, pressurePa, areaM2 float64, ip contact.InterfaceParams) *GapReport {
+	n, nc := 0, 0
+	sum, mx := 0.0, 0.0
+	for k, in := range inBase {
+		if !in {
+			continue
+		}
+		n++
+		if mask[k] {
+			nc++
+		}
+		sum += gap[k]
+		mx = math.Max(mx, gap[k])
+	}
+	gr := &GapReport{
+		ContactBandUM:     roundTo(3*ip.SigmaM*1e6, 3),
+		ContactPressurePa: roundTo(pressurePa, 3),
+		PressureRatio:     pressurePa / ip.HardnessPa,
+	}
+	if n > 0 {
+		gr.ContactAreaPct = roundTo(100*float64(nc)/float64(n), 3)
+		gr.MeanGapMM = roundTo(sum/float64(n)*1e3, 5)
+		gr.MaxGapMM = roundTo(mx*1e3, 5)
+	}
+	return gr
+}
+
+func heatReport(job Job, s, f *thermal.Solution, baseAreaM2 float64) *HeatReport {
+	hr := &HeatReport{
+		Mode:             job.Hob.Mode,
+		WaterC:           job.Water.SteadyC,
+		PowerW:           roundTo(s.PowerW, 3),
+		FlatPowerW:       roundTo(f.PowerW, 3),
+		MeanFluxKWM2:     roundTo(s.PowerW/baseAreaM2/1e3, 4),
+		FlatMeanFluxKWM2: roundTo(f.PowerW/baseAreaM2/1e3, 4),
+		SolverIterations: s.LinearIterations,
+		OuterIterations:  s.OuterIterations,
+		SolverResidual:   s.RelResidual,
+	}
+	if f.PowerW > 0 {
+		hr.LossPct = roundTo(100*(1-s.PowerW/f.PowerW), 3)
+	}
+	if tot := s.SolidW + s.GasW + s.RadW; tot > 0 {
+		hr.SolidPct = roundTo(100*s.SolidW/tot, 4)
+		hr.GasPct = roundTo(100*s.GasW/tot, 4)
+		hr.RadiationPct = roundTo(100*s.RadW/tot, 4)
+	}
+	if s.PowerW > 0 {
+		hr.TransmittedPct = roundTo(100*s.TransmittedW/s.PowerW, 4)
+	}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, t := range s.TPanK {
+		if !math.IsNaN(t) {
+			lo, hi = math.Min(lo, t), math.Max(hi, t)
+		}
+	}
+	hr.BaseMinC, hr.BaseMaxC = roundTo(lo-kelvin, 3), roundTo(hi-kelvin, 3)
+	if job.Hob.Mode == "heater" {
+		p := func(v float64) *float64 { v = roundTo(v, 3); return &v }
+		hr.GlassMaxC, hr.FlatGlassMaxC = p(s.GlassMaxK-kelvin), p(f.GlassMaxK-kelvin)
+		hr.HeaterDutyPct, hr.FlatHeaterDutyPct = p(s.DutyPct), p(f.DutyPct)
+		hr.HeaterW, hr.DownLossW, hr.UncoveredLossW = p(s.HeaterW), p(s.DownLossW), p(s.UncoveredLossW)
+	}
+	return hr
+}
+
+func ringReports(rings []thermal.Ring) []RingReport {
+	out := make([]RingReport, 0, len(rings))
+	for _, r := range rings {
+		out = append(out, RingReport{
+			RInMM:        roundTo(r.RInM*1e3, 3),
+			ROutMM:       roundTo(r.ROutM*1e3, 3),
+			AreaMM2:      roundTo(r.AreaM2*1e6, 2),
+			ContactPct:   roundTo(100*r.ContactFrac, 3),
+			MeanGapMM:    roundTo(r.MeanGapM*1e3, 5),
+			MaxGapMM:     roundTo(r.MaxGapM*1e3, 5),
+			HWM2K:        roundTo(r.HWM2K, 3),
+			HSolidWM2K:   roundTo(r.SolidWM2K, 5),
+			HGasWM2K:     roundTo(r.GasWM2K, 3),
+			HRadWM2K:     roundTo(r.RadWM2K, 3),
+			FluxKWM2:     roundTo(r.FluxWM2/1e3, 4),
+			FlatFluxKWM2: roundTo(r.FlatFluxWM2/1e3, 4),
+			PowerW:       roundTo(r.PowerW, 4),
+			FlatPowerW:   roundTo(r.FlatPowerW, 4),
+			PowerLostW:   roundTo(r.FlatPowerW-r.PowerW, 4),
+		})
+	}
+	return out
+}
+
+// verdict judges the report against the job's tolerances.
+func verdict(job Job, rep *Report) *VerdictReport {
+	t := job.Tolerances
+	v := &VerdictReport{Pass: true, Reasons: []string{}}
+	fail := func(format string, a ...any) {
+		v.Pass = false
+		v.Reasons = append(v.Reasons, fmt.Sprintf(format, a...))
+	}
+	if g := rep.Geometry; g != nil {
+		c := g.ConcavityPctOfDiameter
+		switch {
+		case c < t.ConcavityMinPct && c < 0:
+			fail("convex base: concavity %.3f mm (%.3f %% of diameter) is below the minimum %.3f %%", g.ConcavityMM, c, t.ConcavityMinPct)
+		case c < t.ConcavityMinPct:
+			fail("concavity %.3f %% of diameter is below the minimum %.3f %%", c, t.ConcavityMinPct)
+		case c > t.ConcavityMaxPct:
+			fail("concavity %.3f mm (%.3f %% of diameter) is above the maximum %.3f %%", g.ConcavityMM, c, t.ConcavityMaxPct)
+		}
+		if g.FlatnessMZMM > t.FlatnessMZMaxMM {
+			fail("minimum-zone flatness %.3f mm is above the maximum %.3f mm", g.FlatnessMZMM, t.FlatnessMZMaxMM)
+		}
+	}
+	if p := rep.Pose; p != nil && p.Rocks && !t.RockingAllowed {
+		fail("the pan rocks: the rim drops %.3f mm when pressed (limit %.3f mm, support: %s)", p.RockMM, job.Grid.RockMM, p.Support)
+	}
+	if h := rep.Heat; h != nil && h.LossPct > t.LossMaxPct {
+		fail("the base loses %.1f %% of the flat twin's heating power (limit %.1f %%)", h.LossPct, t.LossMaxPct)
+	}
+	return v
+}

@@ -1,0 +1,225 @@
+package pipeline
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+)
+
+// SchemaSummary names the version of the batch summary contract.
+const SchemaSummary = "gapflux.summary/1"
+
+// Row statuses of a batch summary.
+const (
+	StatusOK     = "ok"
+	StatusFailed = "failed"
+	StatusOut    = "out-of-tolerance"
+	StatusNotRun = "not-run"
+)
+
+// SummaryRow is one scan's line in the batch summary. Figures are pointers so
+// that a failed scan leaves them empty rather than zero.
+type SummaryRow struct {
+	Path                   string   `json:"path"`
+	Status                 string   `json:"status"`
+	Error                  string   `json:"error"`
+	PartNumber             string   `json:"part_number"`
+	Lot                    string   `json:"lot"`
+	DiameterMM             *float64 `json:"diameter_mm"`
+	FlatnessMZMM           *float64 `json:"flatness_mz_mm"`
+	FlatnessLSMM           *float64 `json:"flatness_ls_mm"`
+	ConcavityMM            *float64 `json:"concavity_mm"`
+	ConcavityPctOfDiameter *float64 `json:"concavity_pct_of_diameter"`
+	Shape                  string   `json:"shape"`
+	NoiseUM                *float64 `json:"noise_um"`
+	CoveragePct            *float64 `json:"coverage_pct"`
+	TiltDeg                *float64 `json:"tilt_deg"`
+	Rocks                  *bool    `json:"rocks"`
+	RockMM                 *float64 `json:"rock_mm"`
+	ContactAreaPct         *float64 `json:"contact_area_pct"`
+	MeanGapMM              *float64 `json:"mean_gap_mm"`
+	MaxGapMM               *float64 `json:"max_gap_mm"`
+	PowerW                 *float64 `json:"power_w"`
+	FlatPowerW             *float64 `json:"flat_power_w"`
+	LossPct                *float64 `json:"loss_pct"`
+	GlassMaxC              *float64 `json:"glass_max_c"`
+	TimeS                  *float64 `json:"time_s"`
+	FlatTimeS              *float64 `json:"flat_time_s"`
+	ExtraTimePct           *float64 `json:"extra_time_pct"`
+	ExtraEnergyKJ          *float64 `json:"extra_energy_kj"`
+	Pass                   *bool    `json:"pass"`
+	Reasons                string   `json:"reasons"`
+}
+
+// Summary is the batch summary: rows sorted by path, and counts derived from
+// them. It holds no timestamps, durations or machine names, so the same
+// folder gives the same bytes wherever it ran.
+type Summary struct {
+	Schema string         `json:"schema"`
+	Counts map[string]int `json:"counts"`
+	Rows   []SummaryRow   `json:"rows"`
+}
+
+// NewSummary sorts rows by path and counts them by status.
+func NewSummary(rows []SummaryRow) *Summary {
+	rows = append([]SummaryRow(nil), rows...)
+	sort.Slice(rows, func(i, j int) bool { return rows[i].Path < rows[j].Path })
+	counts := map[string]int{StatusOK: 0, StatusFailed: 0, StatusOut: 0, StatusNotRun: 0, "total": len(rows)}
+	for _, r := range rows {
+		counts[r.Status]++
+	}
+	return &Summary{Schema: SchemaSummary, Counts: counts, Rows: rows}
+}
+
+// RowFromReport builds a summary row from a scan's report.
+func RowFromReport(rel string, rep *Report) SummaryRow {
+	row := SummaryRow{Path: rel, Status: StatusOK}
+	f := func(v float64) *float64 { return &v }
+	b := func(v bool) *bool { return &v }
+	if g := rep.Geometry; g != nil {
+		row.DiameterMM, row.FlatnessMZMM, row.FlatnessLSMM = f(g.DiameterMM), f(g.FlatnessMZMM), f(g.FlatnessLSMM)
+		row.ConcavityMM, row.ConcavityPctOfDiameter = f(g.ConcavityMM), f(g.ConcavityPctOfDiameter)
+		row.Shape, row.NoiseUM, row.CoveragePct = g.Shape, f(g.NoiseUM), f(g.CoveragePct)
+	}
+	if p := rep.Pose; p != nil {
+		row.TiltDeg, row.Rocks, row.RockMM = f(p.TiltDeg), b(p.Rocks), f(p.RockMM)
+	}
+	if g := rep.Gap; g != nil {
+		row.ContactAreaPct, row.MeanGapMM, row.MaxGapMM = f(g.ContactAreaPct), f(g.MeanGapMM), f(g.MaxGapMM)
+	}
+	if h := rep.Heat; h != nil {
+		row.PowerW, row.FlatPowerW, row.LossPct = f(h.PowerW), f(h.FlatPowerW), f(h.LossPct)
+		row.GlassMaxC = h.GlassMaxC
+	}
+	if h := rep.Heatup; h != nil {
+		row.TimeS, row.FlatTimeS = f(h.TimeS), f(h.FlatTimeS)
+		row.ExtraTimePct, row.ExtraEnergyKJ = f(h.ExtraTimePct), f(h.ExtraEnergyKJ)
+	}
+	if v := rep.Verdict; v != nil {
+		row.Pass = b(v.Pass)
+		row.Reasons = strings.Join(v.Reasons, "; ")
+		if !v.Pass {
+			row.Status = StatusOut
+		}
+	}
+	return row
+}
+
+// summaryColumns are the CSV columns, in order.
+var summaryColumns = []string{
+	"path", "status", "error", "part_number", "lot",
+	"diameter_mm", "flatness_mz_mm", "flatness_ls_mm", "concavity_mm", "concavity_pct_of_diameter", "shape",
+	"noise_um", "coverage_pct", "tilt_deg", "rocks", "rock_mm",
+	"contact_area_pct", "mean_gap_mm", "max_gap_mm",
+	"power_w", "flat_power_w", "loss_pct", "glass_max_c",
+	"time_s", "flat_time_s", "extra_time_pct", "extra_energy_kj",
+	"pass", "reasons",
+}
+
+// WriteCSV writes the summary as CSV with a header row.
+func (s *Summary) WriteCSV(w io.Writer) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(summaryColumns); err != nil {
+		return err
+	}
+	for _, r := range s.Rows {
+		rec := []string{r.Path, r.Status, r.Error, r.PartNumber, r.Lot,
+			fnum(r.DiameterMM, 3), fnum(r.FlatnessMZMM, 4), fnum(r.FlatnessLSMM, 4), fnum(r.ConcavityMM, 4),
+			fnum(r.ConcavityPctOfDiameter, 4), r.Shape,
+			fnum(r.NoiseUM, 2), fnum(r.CoveragePct, 2), fnum(r.TiltDeg, 4), fbool(r.Rocks), fnum(r.RockMM, 4),
+			fnum(r.ContactAreaPct, 3), fnum(r.MeanGapMM, 4), fnum(r.MaxGapMM, 4),
+			fnum(r.PowerW, 2), fnum(r.FlatPowerW, 2), fnum(r.LossPct, 3), fnum(r.GlassMaxC, 2),
+			fnum(r.TimeS, 1), fnum(r.FlatTimeS, 1), fnum(r.ExtraTimePct, 3), fnum(r.ExtraEnergyKJ, 3),
+			fbool(r.Pass), r.Reasons,
+		}
+		if err := cw.Write(rec); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// WriteJSON writes the summary as indented JSON.
+func (s *Summary) WriteJSON(w io.Writer) error {
+	b, err := json.MarshalIndent(s, "", "  ")
+	if err != nil {
+		return err
+	}
+	_, err = w.Write(append(b, '\n'))
+	return err
+}
+
+// ReadSummaryJSON decodes a summary written by WriteJSON.
+func ReadSummaryJSON(r io.Reader, name string) (*Summary, error) {
+	var s Summary
+	dec := json.NewDecoder(r)
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&s); err != nil {
+		return nil, fmt.Errorf("%s: %w", name, err)
+	}
+	if s.Schema != SchemaSummary {
+		return nil, fmt.Errorf("%s: schema %q, want %q", name, s.Schema, SchemaSummary)
+	}
+	return &s, nil
+}
+
+// Table renders the summary as a fixed-width text table for a terminal.
+func (s *Summary) Table() string {
+	var buf bytes.Buffer
+	fmt.Fprintf(&buf, "%-28s %-16s %8s %9s %8s %6s %8s %7s %9s %s\n",
+		"scan", "status", "diam_mm", "concav_mm", "mz_mm", "rocks", "loss_pct", "glass_c", "extra_pct", "note")
+	for _, r := range s.Rows {
+		note := r.Reasons
+		if r.Status == StatusFailed {
+			note = r.Error
+		}
+		if len(note) > 70 {
+			note = note[:67] + "..."
+		}
+		fmt.Fprintf(&buf, "%-28s %-16s %8s %9s %8s %6s %8s %7s %9s %s\n",
+			clip(r.Path, 28), r.Status, fnum(r.DiameterMM, 1), fnum(r.ConcavityMM, 3), fnum(r.FlatnessMZMM, 3),
+			fbool(r.Rocks), fnum(r.LossPct, 1), fnum(r.GlassMaxC, 0), fnum(r.ExtraTimePct, 1), note)
+	}
+	return buf.String()
+}
+
+func clip(s string, n int) string {
+	if len(s) <= n {
+		return s
+	}
+	return "…" + s[len(s)-n+1:]
+}
+
+func fnum(v *float64, prec int) string {
+	if v == nil || math.IsNaN(*v) || math.IsInf(*v, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(roundTo(*v, prec), 'f', prec, 64)
+}
+
+func fbool(v *bool) string {
+	if v == nil {
+		return ""
+	}
+	return strconv.FormatBool(*v)
+}
+
+// roundTo rounds x to prec decimals, turning -0 into 0.
+func roundTo(x float64, prec int) float64 {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return x
+	}
+	p := math.Pow(10, float64(prec))
+	r := math.Round(x*p) / p
+	if r == 0 {
+		return 0
+	}
+	return r
+}

@@ -1,0 +1,1192 @@
+package scan
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// DefaultMaxSlopeDeg is the default rim slope limit, degrees: the base ends
+// where the surface's slope departs from the base's own trend by more. A
+// corner of radius r_c reaches 3° a distance r_c·sin 3° ≈ 0.05·r_c past
+// where it starts, having risen r_c·(1 − cos 3°) ≈ 0.0014·r_c (8 µm for a
+// 6 mm corner). Our choice; no standard sets it.
+const DefaultMaxSlopeDeg = 3.0
+
+// Face values for LevelOptions.Face.
+const (
+	// FaceUp: the base's outer face points to scanner +z (the pan lay
+	// upside down under the scanner).
+	FaceUp = "up"
+	// FaceDown: the outer face points to scanner −z.
+	FaceDown = "down"
+)
+
+// Face sources reported in Levelled.FaceSource.
+const (
+	FaceFromOption  = "option"
+	FaceFromNormals = "normals"
+	FaceFromWall    = "wall"
+	FaceAssumed     = "assumed"
+)
+
+// minLevelPoints is the fewest points Level works with.
+const minLevelPoints = 100
+
+// LevelOptions sets up Level.
+type LevelOptions struct {
+	// Face is "" (detect), FaceUp or FaceDown.
+	Face string
+	// DiameterM overrides the fitted base diameter when positive, m.
+	DiameterM float64
+	// MaxSlopeDeg is the rim slope limit, degrees; 0 means
+	// DefaultMaxSlopeDeg. The base ends where the surface's radial slope
+	// departs by more from the base's own trend (the corner radius starts).
+	MaxSlopeDeg float64
+}
+
+// Levelled is a scan moved to the base frame and cut to the base.
+type Levelled struct {
+	// Cloud holds the base's points in the base frame, m, without the
+	// corner, wall and far outliers. Triangles whose three vertices are
+	// kept are kept (re-indexed), with their facet normals; point and
+	// facet normals are rotated into the base frame.
+	Cloud *Cloud
+	// RadiusM is the base radius, m: from the rim circle fit, or
+	// LevelOptions.DiameterM/2.
+	RadiusM float64
+	// FittedRadiusM is the radius of the rim circle fit, m.
+	FittedRadiusM float64
+	// FaceSource says how the outer face was told: FaceFromOption,
+	// FaceFromNormals, FaceFromWall or FaceAssumed.
+	FaceSource string
+	// Rotation and OriginM map the scan frame to the base frame:
+	// p_base = Rotation·(p_scan − OriginM). Rotation's rows are the base
+	// axes in scan coordinates; the base x axis is the scanner x axis
+	// projected on the base plane (the scanner y axis if x is nearly
+	// normal to the plane).
+	Rotation [3][3]float64
+	// OriginM is the centre of the base footprint on the base plane, in
+	// scan coordinates, m.
+	OriginM r3.Vec
+	// RimSectors and RimSectorsUsed count the angular sectors searched for
+	// the rim and those whose rim point the circle fit kept.
+	RimSectors, RimSectorsUsed int
+	// PointsDropped counts the input points that are not part of the base
+	// (corner, wall, far outliers).
+	PointsDropped int
+	// Warnings holds notes for the report.
+	Warnings []string
+}
+
+// frame is an orthonormal frame: e[0], e[1] span the base plane, e[2] is
+// its normal, o its origin, all in scan coordinates.
+type frame struct {
+	o r3.Vec
+	e [3]r3.Vec
+}
+
+func (f *frame) coords(p r3.Vec) (u, v, w float64) {
+	d := r3.Sub(p, f.o)
+	return r3.Dot(d, f.e[0]), r3.Dot(d, f.e[1]), r3.Dot(d, f.e[2])
+}
+
+// newFrame returns the frame with origin o, normal n and first axis the
+// scanner x axis projected on the plane (scanner y if x is nearly normal).
+func newFrame(o, n r3.Vec) frame {
+	n = r3.Unit(n)
+	ax := r3.Vec{X: 1}
+	if math.Abs(n.X) > 0.9 {
+		ax = r3.Vec{Y: 1}
+	}
+	e0 := r3.Unit(r3.Sub(ax, r3.Scale(r3.Dot(ax, n), n)))
+	return frame{o: o, e: [3]r3.Vec{e0, r3.Cross(n, e0), n}}
+}
+
+// Level finds the base plane and footprint of a scan, moves the scan to
+// the base frame (base plane z = 0, +z into the pan, origin at the centre
+// of the footprint) and keeps the base only.
+//
+// Steps:
+//  1. A first plane by principal components (the smallest-eigenvalue
+//     eigenvector of the covariance) of up to 150 000 points.
+//  2. Coarse cells (about 64 across) each get a least-squares plane. The
+//     dominant cell slope (the peak of their 2-D slope histogram) tilts the
+//     normal onto the base, which stays flat while a wall or corner spreads
+//     its slopes out.
+//  3. Cells within max(2·MaxSlopeDeg, 8°) of the base plane whose heights
+//     agree with their neighbours are flood-filled from the centre: the
+//     base candidate. The plane is refitted to its inner 90 % by principal
+//     components, trimming points beyond 3.5 robust standard deviations.
+//  4. The rim: in 24 to 72 angular sectors about the candidate's centre,
+//     the median height profile along the radius (bins of R/400 or wider)
+//     is walked outward from 0.6 R until its slope (least squares over
+//     five bins) departs from the base's own trend (a quadratic fitted to
+//     the profile between 0.6 R and 0.9 R) by more than MaxSlopeDeg, or
+//     the data end. A circle is fitted to these rim points (algebraic fit
+//     of Kåsa 1976, then geometric least squares by Gauss-Newton),
+//     trimming rim points off by more than 3 robust standard deviations.
+//  5. The plane is refitted to the points inside the rim circle.
+//  6. The outer face: Face if given; else facet or point normals (the
+//     outer face's normals point to the hob, −z); else the wall or corner,
+//     which rises into the pan (+z); else the outer face is assumed to
+//     face scanner +z, with a warning.
+//
+// Points beyond the rim circle or further than a tenth of the radius from
+// the base plane are dropped.
+func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
+	if c == nil {
+		return nil, errors.New("scan: level: nil cloud")
+	}
+	switch opt.Face {
+	case "", FaceUp, FaceDown:
+	default:
+		return nil, fmt.Errorf("scan: level: face %q is not %q or %q", opt.Face, FaceUp, FaceDown)
+	}
+	if math.IsNaN(opt.DiameterM) || math.IsInf(opt.DiameterM, 0) || opt.DiameterM < 0 {
+		return nil, fmt.Errorf("scan: level: diameter %g m is not a finite non-negative length", opt.DiameterM)
+	}
+	slopeDeg := opt.MaxSlopeDeg
+	if slopeDeg == 0 {
+		slopeDeg = DefaultMaxSlopeDeg
+	}
+	if !(slopeDeg > 0 && slopeDeg <= 30) {
+		return nil, fmt.Errorf("scan: level: slope limit %g° is not in (0°, 30°]", opt.MaxSlopeDeg)
+	}
+	tanMax := math.Tan(slopeDeg * math.Pi / 180)
+	// The coarse stage only separates the base from the corner and wall;
+	// it allows a strongly warped base (a 3.5 % dish slopes 8° at the rim).
+	tanCoarse := math.Tan(max(2*slopeDeg, 8) * math.Pi / 180)
+	pts := c.Points
+	if len(pts) < minLevelPoints {
+		return nil, fmt.Errorf("scan: level: %d points; need at least %d to find the base", len(pts), minLevelPoints)
+	}
+	for i, p := range pts {
+		if !finite3(p) {
+			return nil, fmt.Errorf("scan: level: point %d has a non-finite coordinate (%g, %g, %g)", i, p.X, p.Y, p.Z)
+		}
+	}
+	if len(c.Normals) != 0 && len(c.Normals) != len(pts) {
+		return nil, fmt.Errorf("scan: level: %d normals for %d points", len(c.Normals), len(pts))
+	}
+	if len(c.FacetNormals) != 0 && len(c.FacetNormals) != len(c.Triangles) {
+		return nil, fmt.Errorf("scan: level: %d facet normals for %d triangles", len(c.FacetNormals), len(c.Triangles))
+	}
+	for t, tri := range c.Triangles {
+		for _, v := range tri {
+			if v < 0 || int(v) >= len(pts) {
+				return nil, fmt.Errorf("scan: level: triangle %d refers to vertex %d of %d", t, v, len(pts))
+			}
+		}
+	}
+	out := &Levelled{}
+
+	// 1. First plane from a subsample.
+	stride := max(1, (len(pts)+149999)/150000)
+	sub := make([]r3.Vec, 0, len(pts)/stride+1)
+	for i := 0; i < len(pts); i += stride {
+		sub = append(sub, pts[i])
+	}
+	c0, n0, ok := pcaPlane(sub)
+	if !ok {
+		return nil, errors.New("scan: level: points are degenerate (all on a line or a point)")
+	}
+	if n0.Z < 0 {
+		n0 = r3.Scale(-1, n0)
+	}
+	f := newFrame(c0, n0)
+
+	// 2. Tilt the normal onto the dominant cell slope.
+	uvw := make([][3]float64, len(sub))
+	project := func() {
+		for i, p := range sub {
+			u, v, w := f.coords(p)
+			uvw[i] = [3]float64{u, v, w}
+		}
+	}
+	project()
+	g := coarseCellSize(uvw)
+	cg := newCoarseGrid(uvw, g)
+	a, b, ok := cg.dominantSlope(tanCoarse)
+	if !ok {
+		return nil, errors.New("scan: level: no flat region found (is this a scan of a base?)")
+	}
+	n1 := r3.Unit(r3.Add(f.e[2], r3.Add(r3.Scale(-a, f.e[0]), r3.Scale(-b, f.e[1]))))
+	if n1.Z < 0 {
+		n1 = r3.Scale(-1, n1)
+	}
+	f = newFrame(c0, n1)
+	project()
+	cg = newCoarseGrid(uvw, g)
+
+	// 3. Base candidate by flood fill; plane on its inner part.
+	comp := cg.baseComponent(tanCoarse)
+	if len(comp) < 4 {
+		return nil, errors.New("scan: level: no flat base found (fewer than 4 flat cells connected to the centre)")
+	}
+	var uc, vc float64
+	for _, q := range comp {
+		u, v := cg.centre(q)
+		uc += u
+		vc += v
+	}
+	uc /= float64(len(comp))
+	vc /= float64(len(comp))
+	r0 := math.Sqrt(float64(len(comp)) * g * g / math.Pi)
+	inComp := make([]bool, cg.nu*cg.nv)
+	for _, q := range comp {
+		inComp[q] = true
+	}
+	inner := make([]r3.Vec, 0, len(sub))
+	for i, p := range sub {
+		du, dv := uvw[i][0]-uc, uvw[i][1]-vc
+		if du*du+dv*dv <= 0.81*r0*r0 && inComp[cg.cellOfPt[i]] {
+			inner = append(inner, p)
+		}
+	}
+	centre := r3.Add(f.o, r3.Add(r3.Scale(uc, f.e[0]), r3.Scale(vc, f.e[1])))
+	c1, n2, ok := robustPlane(inner)
+	if !ok {
+		return nil, errors.New("scan: level: base candidate is degenerate")
+	}
+	if n2.Z < 0 {
+		n2 = r3.Scale(-1, n2)
+	}
+	f = newFrame(c1, n2)
+	uc, vc, _ = f.coords(centre)
+
+	// 4. Rim circle.
+	rim, err := fitRim(pts, &f, uc, vc, r0, tanMax)
+	if err != nil {
+		return nil, err
+	}
+	out.RimSectors, out.RimSectorsUsed = rim.sectors, rim.used
+	if rim.used < rim.sectors/2 {
+		out.Warnings = append(out.Warnings, fmt.Sprintf("base rim found in only %d of %d sectors; the footprint may be uncertain", rim.used, rim.sectors))
+	}
+	radius := rim.r
+	out.FittedRadiusM = rim.r
+	if opt.DiameterM > 0 {
+		radius = opt.DiameterM / 2
+		if d := math.Abs(radius-rim.r) / rim.r; d > 0.05 {
+			out.Warnings = append(out.Warnings, fmt.Sprintf("diameter option %.1f mm differs from the fitted rim %.1f mm by %.0f %%",
+				opt.DiameterM*1e3, 2e3*rim.r, 100*d))
+		}
+	}
+	centre = r3.Add(f.o, r3.Add(r3.Scale(rim.u, f.e[0]), r3.Scale(rim.v, f.e[1])))
+
+	// 5. Plane refit on the base inside the rim.
+	stride2 := max(1, (len(pts)+199999)/200000)
+	basePts := make([]r3.Vec, 0, len(pts)/stride2+1)
+	for i := 0; i < len(pts); i += stride2 {
+		u, v, _ := f.coords(pts[i])
+		du, dv := u-rim.u, v-rim.v
+		if du*du+dv*dv <= radius*radius {
+			basePts = append(basePts, pts[i])
+		}
+	}
+	if c2, n3, ok := robustPlane(basePts); ok {
+		if n3.Z < 0 {
+			n3 = r3.Scale(-1, n3)
+		}
+		// Keep the footprint centre; move it onto the new plane.
+		centre = r3.Sub(centre, r3.Scale(r3.Dot(r3.Sub(centre, c2), n3), n3))
+		f = newFrame(centre, n3)
+	} else {
+		f = newFrame(r3.Sub(centre, r3.Scale(r3.Dot(r3.Sub(centre, c1), n2), n2)), n2)
+	}
+
+	// 6. Outer face. up is the base normal oriented to scanner +z.
+	up := f.e[2]
+	if math.Abs(up.Z) < 0.5 {
+		out.Warnings = append(out.Warnings, fmt.Sprintf("the base plane is %.0f° from the scanner's x-y plane; face up/down refers to scanner +z",
+			math.Acos(math.Abs(up.Z))*180/math.Pi))
+	}
+	nSign, nDetail := normalsFace(c, &f, radius)
+	wSign := wallFace(pts, &f, radius, rim.dr)
+	var zSign float64 // +1: base +z along up, −1: against up
+	switch {
+	case opt.Face != "":
+		out.FaceSource = FaceFromOption
+		zSign = -1
+		if opt.Face == FaceDown {
+			zSign = 1
+		}
+		if nSign != 0 && nSign != zSign {
+			out.Warnings = append(out.Warnings, fmt.Sprintf("face option %q disagrees with the %s", opt.Face, nDetail))
+		} else if nSign == 0 && wSign != 0 && wSign != zSign {
+			out.Warnings = append(out.Warnings, fmt.Sprintf("face option %q disagrees with the wall, which rises on the other side", opt.Face))
+		}
+	case nSign != 0:
+		out.FaceSource = FaceFromNormals
+		zSign = nSign
+		if wSign != 0 && wSign != nSign {
+			out.Warnings = append(out.Warnings, fmt.Sprintf("the %s disagree with the wall; the normals were followed", nDetail))
+		}
+	case wSign != 0:
+		out.FaceSource = FaceFromWall
+		zSign = wSign
+	default:
+		out.FaceSource = FaceAssumed
+		zSign = -1
+		out.Warnings = append(out.Warnings, "outer face assumed to face the scanner (+z); use --face to override")
+	}
+	if nDetail != "" && nSign == 0 {
+		out.Warnings = append(out.Warnings, nDetail)
+	}
+	ez := r3.Scale(zSign, up)
+	bf := newFrame(f.o, ez)
+	out.Rotation = [3][3]float64{
+		{bf.e[0].X, bf.e[0].Y, bf.e[0].Z},
+		{bf.e[1].X, bf.e[1].Y, bf.e[1].Z},
+		{bf.e[2].X, bf.e[2].Y, bf.e[2].Z},
+	}
+	out.OriginM = bf.o
+	out.RadiusM = radius
+
+	// 7. Keep the base.
+	far := 0.1 * radius
+	keep := make([]int32, len(pts))
+	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
+	r2 := radius * radius
+	nKeep := int32(0)
+	for i, p := range pts {
+		u, v, w := bf.coords(p)
+		if u*u+v*v > r2 || math.Abs(w) > far {
+			keep[i] = -1
+			continue
+		}
+		keep[i] = nKeep
+		nKeep++
+	}
+	lc.Points = make([]r3.Vec, 0, nKeep)
+	if len(c.Normals) != 0 {
+		lc.Normals = make([]r3.Vec, 0, nKeep)
+	}
+	for i, p := range pts {
+		if keep[i] < 0 {
+			continue
+		}
+		lc.Points = append(lc.Points, bf.rotate(r3.Sub(p, bf.o)))
+		if len(c.Normals) != 0 {
+			lc.Normals = append(lc.Normals, bf.rotate(c.Normals[i]))
+		}
+	}
+	for t, tri := range c.Triangles {
+		a, b, d := keep[tri[0]], keep[tri[1]], keep[tri[2]]
+		if a < 0 || b < 0 || d < 0 {
+			continue
+		}
+		lc.Triangles = append(lc.Triangles, [3]int32{a, b, d})
+		if len(c.FacetNormals) != 0 {
+			lc.FacetNormals = append(lc.FacetNormals, bf.rotate(c.FacetNormals[t]))
+		}
+	}
+	out.Cloud = lc
+	out.PointsDropped = len(pts) - len(lc.Points)
+	if len(lc.Points) < 3 {
+		return nil, errors.New("scan: level: fewer than 3 points left on the base")
+	}
+	return out, nil
+}
+
+// rotate expresses the direction d in the frame's axes.
+func (f *frame) rotate(d r3.Vec) r3.Vec {
+	return r3.Vec{X: r3.Dot(d, f.e[0]), Y: r3.Dot(d, f.e[1]), Z: r3.Dot(d, f.e[2])}
+}
+
+// pcaPlane returns the centroid of pts and the unit eigenvector of their
+// covariance with the smallest eigenvalue. ok is false when the points do
+// not span a plane.
+func pcaPlane(pts []r3.Vec) (c, n r3.Vec, ok bool) {
+	if len(pts) < 3 {
+		return c, n, false
+	}
+	for _, p := range pts {
+		c = r3.Add(c, p)
+	}
+	c = r3.Scale(1/float64(len(pts)), c)
+	var sxx, sxy, sxz, syy, syz, szz float64
+	for _, p := range pts {
+		d := r3.Sub(p, c)
+		sxx += d.X * d.X
+		sxy += d.X * d.Y
+		sxz += d.X * d.Z
+		syy += d.Y * d.Y
+		syz += d.Y * d.Z
+		szz += d.Z * d.Z
+	}
+	cov := mat.NewSymDense(3, []float64{sxx, sxy, sxz, sxy, syy, syz, sxz, syz, szz})
+	var es mat.EigenSym
+	if !es.Factorize(cov, true) {
+		return c, n, false
+	}
+	vals := es.Values(nil)
+	if !(vals[1] > 1e-12*vals[2]) {
+		return c, n, false
+	}
+	var vec mat.Dense
+	es.VectorsTo(&vec)
+	n = r3.Unit(r3.Vec{X: vec.At(0, 0), Y: vec.At(1, 0), Z: vec.At(2, 0)})
+	return c, n, true
+}
+
+// robustPlane fits a plane by principal components, then refits without
+// the points further than 3.5 robust standard deviations (1.4826 × median
+// absolute deviation) from it, up to five times.
+func robustPlane(pts []r3.Vec) (c, n r3.Vec, ok bool) {
+	c, n, ok = pcaPlane(pts)
+	if !ok {
+		return c, n, false
+	}
+	d := make([]float64, len(pts))
+	work := make([]float64, len(pts))
+	kept := make([]r3.Vec, 0, len(pts))
+	for range 5 {
+		for i, p := range pts {
+			d[i] = r3.Dot(r3.Sub(p, c), n)
+		}
+		copy(work, d)
+		med := medianInPlace(work)
+		for i := range work {
+			work[i] = math.Abs(d[i] - med)
+		}
+		lim := 3.5 * 1.4826 * medianInPlace(work)
+		kept = kept[:0]
+		for i, p := range pts {
+			if math.Abs(d[i]-med) <= lim {
+				kept = append(kept, p)
+			}
+		}
+		if len(kept) == len(pts) || len(kept) < 3 {
+			break
+		}
+		c2, n2, ok2 := pcaPlane(kept)
+		if !ok2 {
+			break
+		}
+		if r3.Dot(n2, n) < 0 {
+			n2 = r3.Scale(-1, n2)
+		}
+		moved := r3.Norm(r3.Sub(n2, n))
+		c, n = c2, n2
+		if moved < 1e-12 {
+			break
+		}
+	}
+	return c, n, true
+}
+
+// coarseCellSize picks the coarse cell edge: about 64 cells across the
+// larger extent, but large enough for some 20 points per cell.
+func coarseCellSize(uvw [][3]float64) float64 {
+	umin, umax := math.Inf(1), math.Inf(-1)
+	vmin, vmax := math.Inf(1), math.Inf(-1)
+	for _, p := range uvw {
+		umin, umax = min(umin, p[0]), max(umax, p[0])
+		vmin, vmax = min(vmin, p[1]), max(vmax, p[1])
+	}
+	ext := max(umax-umin, vmax-vmin)
+	area := (umax - umin) * (vmax - vmin)
+	return max(ext/64, math.Sqrt(20*area/float64(len(uvw))))
+}
+
+// coarseGrid holds least-squares planes w = h + a·du + b·dv fitted per
+// coarse cell, du and dv measured from the cell centre.
+type coarseGrid struct {
+	nu, nv   int
+	u0, v0   float64 // lower corner
+	g        float64
+	n        []int
+	h, a, b  []float64
+	rms      []float64
+	fitted   []bool
+	cellOfPt []int32
+}
+
+func newCoarseGrid(uvw [][3]float64, g float64) *coarseGrid {
+	umin, umax := math.Inf(1), math.Inf(-1)
+	vmin, vmax := math.Inf(1), math.Inf(-1)
+	for _, p := range uvw {
+		umin, umax = min(umin, p[0]), max(umax, p[0])
+		vmin, vmax = min(vmin, p[1]), max(vmax, p[1])
+	}
+	cg := &coarseGrid{g: g, u0: umin, v0: vmin}
+	cg.nu = int((umax-umin)/g) + 1
+	cg.nv = int((vmax-vmin)/g) + 1
+	nc := cg.nu * cg.nv
+	type acc struct{ su, sv, sw, suu, suv, svv, suw, svw, sww float64 }
+	sums := make([]acc, nc)
+	cg.n = make([]int, nc)
+	cg.cellOfPt = make([]int32, len(uvw))
+	for i, p := range uvw {
+		q := cg.cell(p[0], p[1])
+		cg.cellOfPt[i] = int32(q)
+		uc, vc := cg.centre(q)
+		// Offsets in cell units keep the normal equations well scaled.
+		du, dv, w := (p[0]-uc)/g, (p[1]-vc)/g, p[2]
+		s := &sums[q]
+		cg.n[q]++
+		s.su += du
+		s.sv += dv
+		s.sw += w
+		s.suu += du * du
+		s.suv += du * dv
+		s.svv += dv * dv
+		s.suw += du * w
+		s.svw += dv * w
+		s.sww += w * w
+	}
+	cg.h = make([]float64, nc)
+	cg.a = make([]float64, nc)
+	cg.b = make([]float64, nc)
+	cg.rms = make([]float64, nc)
+	cg.fitted = make([]bool, nc)
+	for q := range nc {
+		cnt := float64(cg.n[q])
+		if cg.n[q] < 6 {
+			continue
+		}
+		s := sums[q]
+		cuu := s.suu/cnt - (s.su/cnt)*(s.su/cnt)
+		cvv := s.svv/cnt - (s.sv/cnt)*(s.sv/cnt)
+		cuv := s.suv/cnt - (s.su/cnt)*(s.sv/cnt)
+		if cuu < 0.01 || cvv < 0.01 || cuu*cvv-cuv*cuv < 1e-4 {
+			continue
+		}
+		x, ok := solveSmall(3, []float64{cnt, s.su, s.sv, s.su, s.suu, s.suv, s.sv, s.suv, s.svv}, []float64{s.sw, s.suw, s.svw})
+		if !ok {
+			continue
+		}
+		cg.h[q], cg.a[q], cg.b[q] = x[0], x[1]/g, x[2]/g
+		ssr := s.sww - x[0]*s.sw - x[1]*s.suw - x[2]*s.svw
+		cg.rms[q] = math.Sqrt(max(ssr, 0) / cnt)
+		cg.fitted[q] = true
+	}
+	return cg
+}
+
+func (cg *coarseGrid) cell(u, v float64) int {
+	i := min(cg.nu-1, max(0, int((u-cg.u0)/cg.g)))
+	j := min(cg.nv-1, max(0, int((v-cg.v0)/cg.g)))
+	return j*cg.nu + i
+}
+
+func (cg *coarseGrid) centre(q int) (u, v float64) {
+	return cg.u0 + (float64(q%cg.nu)+0.5)*cg.g, cg.v0 + (float64(q/cg.nu)+0.5)*cg.g
+}
+
+// dominantSlope returns the cell slope (a, b) at the peak of the slope
+// histogram: bins of tanMax/4, summed over 3×3 bins, then the mean slope
+// of the cells within tanMax of the peak, twice.
+func (cg *coarseGrid) dominantSlope(tanMax float64) (a, b float64, ok bool) {
+	d := tanMax / 4
+	nb := int(math.Ceil(2/d)) + 1
+	hist := make([]int, nb*nb)
+	bin := func(s float64) int { return int(math.Floor((s + 1) / d)) }
+	any := false
+	for q, f := range cg.fitted {
+		if !f || math.Abs(cg.a[q]) >= 1 || math.Abs(cg.b[q]) >= 1 {
+			continue
+		}
+		hist[bin(cg.b[q])*nb+bin(cg.a[q])]++
+		any = true
+	}
+	if !any {
+		return 0, 0, false
+	}
+	best, bi, bj := -1, 0, 0
+	for j := 1; j < nb-1; j++ {
+		for i := 1; i < nb-1; i++ {
+			s := 0
+			for dj := -1; dj <= 1; dj++ {
+				for di := -1; di <= 1; di++ {
+					s += hist[(j+dj)*nb+i+di]
+				}
+			}
+			if s > best {
+				best, bi, bj = s, i, j
+			}
+		}
+	}
+	a = (float64(bi)+0.5)*d - 1
+	b = (float64(bj)+0.5)*d - 1
+	for range 3 {
+		var sa, sb float64
+		cnt := 0
+		for q, f := range cg.fitted {
+			if !f {
+				continue
+			}
+			da, db := cg.a[q]-a, cg.b[q]-b
+			if da*da+db*db <= tanMax*tanMax {
+				sa += cg.a[q]
+				sb += cg.b[q]
+				cnt++
+			}
+		}
+		if cnt == 0 {
+			return 0, 0, false
+		}
+		a, b = sa/float64(cnt), sb/float64(cnt)
+	}
+	return a, b, true
+}
+
+// baseComponent returns the flat cells connected to the centre of the
+// flat cells: cells with slope within tanMax whose centre heights differ
+// from a 4-neighbour's by at most tanMax·g plus twice their summed RMS
+// residuals.
+func (cg *coarseGrid) baseComponent(tanMax float64) []int {
+	nc := cg.nu * cg.nv
+	flat := make([]bool, nc)
+	var su, sv float64
+	cnt := 0
+	for q := range nc {
+		if cg.fitted[q] && cg.a[q]*cg.a[q]+cg.b[q]*cg.b[q] <= tanMax*tanMax {
+			flat[q] = true
+			u, v := cg.centre(q)
+			su += u
+			sv += v
+			cnt++
+		}
+	}
+	if cnt == 0 {
+		return nil
+	}
+	su /= float64(cnt)
+	sv /= float64(cnt)
+	seed, seedInner := -1, false
+	bestD := math.Inf(1)
+	for q := range nc {
+		if !flat[q] {
+			continue
+		}
+		i, j := q%cg.nu, q/cg.nu
+		inner := i > 0 && j > 0 && i < cg.nu-1 && j < cg.nv-1 &&
+			flat[q-1] && flat[q+1] && flat[q-cg.nu] && flat[q+cg.nu]
+		u, v := cg.centre(q)
+		dd := (u-su)*(u-su) + (v-sv)*(v-sv)
+		if (inner && !seedInner) || (inner == seedInner && dd < bestD) {
+			seed, seedInner, bestD = q, inner, dd
+		}
+	}
+	in := make([]bool, nc)
+	in[seed] = true
+	queue := []int{seed}
+	for t := 0; t < len(queue); t++ {
+		q := queue[t]
+		i, j := q%cg.nu, q/cg.nu
+		for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
+			ii, jj := i+d[0], j+d[1]
+			if ii < 0 || jj < 0 || ii >= cg.nu || jj >= cg.nv {
+				continue
+			}
+			p := jj*cg.nu + ii
+			if in[p] || !flat[p] {
+				continue
+			}
+			if math.Abs(cg.h[p]-cg.h[q]) > tanMax*cg.g+2*(cg.rms[p]+cg.rms[q]) {
+				continue
+			}
+			in[p] = true
+			queue = append(queue, p)
+		}
+	}
+	return queue
+}
+
+// rimFit is the result of fitRim.
+type rimFit struct {
+	u, v, r       float64 // circle centre in the frame's (u, v) and radius, m
+	dr            float64 // radial bin width, m
+	sectors, used int
+}
+
+// fitRim finds the base rim along radial profiles in angular sectors about
+// (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
+func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) {
+	rlo, rhi := 0.55*r0, 1.35*r0
+	// Density from the inner disc.
+	nInner, nAnn := 0, 0
+	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
+	for _, p := range pts {
+		u, v, _ := f.coords(p)
+		du, dv := u-uc, v-vc
+		rr := du*du + dv*dv
+		if rr < in2 {
+			nInner++
+		}
+		if rr >= lo2 && rr < hi2 {
+			nAnn++
+		}
+	}
+	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
+	// denser scans.
+	step := max(1, nAnn/(30*72*int(400*(rhi-rlo)/r0)))
+	nAnn = nAnn/step + 1
+	ar, aa, aw := make([]float64, 0, nAnn), make([]float64, 0, nAnn), make([]float64, 0, nAnn)
+	for i := 0; i < len(pts); i += step {
+		u, v, w := f.coords(pts[i])
+		du, dv := u-uc, v-vc
+		rr := du*du + dv*dv
+		if rr >= lo2 && rr < hi2 {
+			ar = append(ar, math.Sqrt(rr))
+			aa = append(aa, math.Atan2(dv, du))
+			aw = append(aw, w)
+		}
+	}
+	rho := float64(nInner/step) / (math.Pi * 0.81 * r0 * r0) // points per m²
+	ring := rho * 2 * math.Pi * r0                           // points per m of radius, all sectors
+	ns := min(72, max(24, int(ring*r0/400/20)))
+	dr := max(r0/400, 20*float64(ns)/ring)
+	const minCount = 4
+	var nb, nsb int
+	var start []int32
+	var ws []float64
+	key := make([]int32, len(ar))
+	// Bin into (sector, radial bin); widen the bins while more than a
+	// fifth of the inner ones are empty (structured meshes and scan lines
+	// leave regular gaps).
+	for try := 0; ; try++ {
+		nb = int(math.Ceil((rhi - rlo) / dr))
+		if nb < 8 {
+			return rimFit{}, errors.New("scan: level: too few points near the rim")
+		}
+		nsb = ns * nb
+		start = make([]int32, nsb+1)
+		for i := range ar {
+			s := int((aa[i] + math.Pi) / (2 * math.Pi) * float64(ns))
+			s = min(ns-1, max(0, s))
+			bb := min(nb-1, int((ar[i]-rlo)/dr))
+			key[i] = int32(s*nb + bb)
+			start[key[i]+1]++
+		}
+		k0, k1 := int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)
+		full, all := 0, 0
+		for s := range ns {
+			for bb := k0; bb < k1; bb++ {
+				all++
+				if start[s*nb+bb+1] >= minCount {
+					full++
+				}
+			}
+		}
+		for k := range nsb {
+			start[k+1] += start[k]
+		}
+		if 5*full >= 4*all || try == 5 {
+			break
+		}
+		dr *= 1.5
+	}
+	ws = make([]float64, len(ar))
+	rs := make([]float64, len(ar))
+	fill := append([]int32(nil), start[:nsb]...)
+	for i, k := range key {
+		ws[fill[k]] = aw[i]
+		rs[fill[k]] = ar[i]
+		fill[k]++
+	}
+	prof := make([]float64, nb) // median height per bin
+	pos := make([]float64, nb)  // mean radius per bin
+	valid := make([]bool, nb)
+	var eu, ev []float64
+	kStart := int((0.6*r0 - rlo) / dr)
+	for s := range ns {
+		for bb := range nb {
+			lo, hi := start[s*nb+bb], start[s*nb+bb+1]
+			valid[bb] = hi-lo >= minCount
+			if !valid[bb] {
+				continue
+			}
+			prof[bb] = medianInPlace(ws[lo:hi])
+			m := 0.0
+			for _, r := range rs[lo:hi] {
+				m += r
+			}
+			pos[bb] = m / float64(hi-lo)
+		}
+		// slope is the least-squares slope of the profile over bins
+		// k−2 … k+2, against the bins' mean radii.
+		slope := func(k int) (float64, bool) {
+			var sx, sy, sxx, sxy float64
+			m := 0
+			for t := k - 2; t <= k+2; t++ {
+				if t < 0 || t >= nb || !valid[t] {
+					continue
+				}
+				x := pos[t] - pos[k]
+				sx += x
+				sy += prof[t]
+				sxx += x * x
+				sxy += x * prof[t]
+				m++
+			}
+			if m < 4 || !valid[k] {
+				return 0, false
+			}
+			fm := float64(m)
+			den := sxx - sx*sx/fm
+			if !(den > 0) {
+				return 0, false
+			}
+			return (sxy - sx*sy/fm) / den, true
+		}
+		trend := profileTrend(prof, pos, valid, 0.6*r0, 0.9*r0)
+		edge := -1.0
+		good, prevK := 0, -1
+		prevS := 0.0
+		for k := kStart; k < nb; k++ {
+			if !valid[k] {
+				more := false
+				for t := k + 1; t < min(nb, k+4); t++ {
+					more = more || valid[t]
+				}
+				if !more {
+					// Data end: the last bin holding points. For points
+					// spread evenly up to the edge their mean radius lies
+					// halfway between the bin's inner bound and the edge.
+					if good >= 3 {
+						last := k - 1
+						for !valid[last] {
+							last--
+						}
+						binLo := rlo + float64(last)*dr
+						edge = min(2*pos[last]-binLo, binLo+dr)
+					}
+					break
+				}
+				continue
+			}
+			sl, okS := slope(k)
+			if !okS {
+				continue
+			}
+			sl -= trend[1] + 2*trend[2]*pos[k]
+			if math.Abs(sl) > tanMax {
+				if good >= 3 {
+					// Interpolate where the slope crosses the limit.
+					a, b := math.Abs(prevS), math.Abs(sl)
+					edge = pos[prevK] + (tanMax-a)/(b-a)*(pos[k]-pos[prevK])
+				}
+				break
+			}
+			good, prevK, prevS = good+1, k, sl
+		}
+		if edge < 0 {
+			continue
+		}
+		th := -math.Pi + (float64(s)+0.5)*2*math.Pi/float64(ns)
+		eu = append(eu, uc+edge*math.Cos(th))
+		ev = append(ev, vc+edge*math.Sin(th))
+	}
+	res := rimFit{sectors: ns, dr: dr}
+	if len(eu) < 3 {
+		return res, fmt.Errorf("scan: level: base rim found in %d of %d sectors; cannot fit the footprint circle", len(eu), ns)
+	}
+	cu, cv, r, used, ok := robustCircle(eu, ev, dr)
+	if !ok {
+		return res, errors.New("scan: level: rim circle fit failed")
+	}
+	res.u, res.v, res.r, res.used = cu, cv, r, used
+	return res, nil
+}
+
+// profileTrend fits w = t0 + t1·r + t2·r² by least squares to the valid
+// profile bins with mean radius in [r1, r2]: the base's own trend, which the
+// rim search subtracts from the profile's slope. It falls back to a line,
+// then to zero, when the bins are too few.
+func profileTrend(prof, pos []float64, valid []bool, r1, r2 float64) [3]float64 {
+	var idx []int
+	for k := range prof {
+		if valid[k] && pos[k] >= r1 && pos[k] <= r2 {
+			idx = append(idx, k)
+		}
+	}
+	for terms := 3; terms >= 2; terms-- {
+		if len(idx) < 2*terms {
+			continue
+		}
+		a := make([]float64, terms*terms)
+		b := make([]float64, terms)
+		for _, k := range idx {
+			f := [3]float64{1, pos[k], pos[k] * pos[k]}
+			for p := range terms {
+				b[p] += f[p] * prof[k]
+				for q := range terms {
+					a[p*terms+q] += f[p] * f[q]
+				}
+			}
+		}
+		x, ok := solveSmall(terms, a, b)
+		if !ok {
+			continue
+		}
+		var t [3]float64
+		copy(t[:], x)
+		return t
+	}
+	return [3]float64{}
+}
+
+// robustCircle fits a circle to (u, v) by the algebraic method of Kåsa
+// (1976), trims points off by more than max(3 robust standard deviations,
+// floor) and refits, then refines the centre and radius by geometric
+// least squares (Gauss-Newton). It returns the number of points used.
+func robustCircle(u, v []float64, floor float64) (cu, cv, r float64, used int, ok bool) {
+	keep := make([]bool, len(u))
+	for i := range keep {
+		keep[i] = true
+	}
+	for range 4 {
+		cu, cv, r, ok = kasaCircle(u, v, keep)
+		if !ok {
+			return 0, 0, 0, 0, false
+		}
+		d := make([]float64, 0, len(u))
+		for i := range u {
+			if keep[i] {
+				d = append(d, math.Abs(math.Hypot(u[i]-cu, v[i]-cv)-r))
+			}
+		}
+		lim := max(3*1.4826*medianInPlace(d), floor)
+		changed := false
+		for i := range u {
+			k := math.Abs(math.Hypot(u[i]-cu, v[i]-cv)-r) <= lim
+			if k != keep[i] {
+				changed = true
+				keep[i] = k
+			}
+		}
+		if !changed {
+			break
+		}
+	}
+	used = 0
+	for _, k := range keep {
+		if k {
+			used++
+		}
+	}
+	if used < 3 {
+		return 0, 0, 0, used, false
+	}
+	// Gauss-Newton on Σ (|p − c| − r)².
+	for range 10 {
+		var jtj [9]float64
+		var jtr [3]float64
+		for i := range u {
+			if !keep[i] {
+				continue
+			}
+			dx, dy := u[i]-cu, v[i]-cv
+			d := math.Hypot(dx, dy)
+			if d == 0 {
+				continue
+			}
+			j := [3]float64{-dx / d, -dy / d, -1}
+			res := d - r
+			for p := range 3 {
+				jtr[p] += j[p] * res
+				for q := range 3 {
+					jtj[p*3+q] += j[p] * j[q]
+				}
+			}
+		}
+		step, okS := solveSmall(3, jtj[:], jtr[:])
+		if !okS {
+			break
+		}
+		cu -= step[0]
+		cv -= step[1]
+		r -= step[2]
+		if math.Abs(step[0])+math.Abs(step[1])+math.Abs(step[2]) < 1e-12*r {
+			break
+		}
+	}
+	return cu, cv, r, used, r > 0
+}
+
+// kasaCircle fits u² + v² + D·u + E·v + F = 0 by linear least squares over
+// the kept points (Kåsa 1976, IEEE Trans. Instrum. Meas. 25:8, from
+// memory).
+func kasaCircle(u, v []float64, keep []bool) (cu, cv, r float64, ok bool) {
+	var mu, mv float64
+	n := 0
+	for i := range u {
+		if keep[i] {
+			mu += u[i]
+			mv += v[i]
+			n++
+		}
+	}
+	if n < 3 {
+		return 0, 0, 0, false
+	}
+	mu /= float64(n)
+	mv /= float64(n)
+	// Scale to unit size for the normal equations.
+	sc := 0.0
+	for i := range u {
+		if keep[i] {
+			sc = max(sc, math.Abs(u[i]-mu), math.Abs(v[i]-mv))
+		}
+	}
+	if sc == 0 {
+		return 0, 0, 0, false
+	}
+	var a [9]float64
+	var b [3]float64
+	for i := range u {
+		if !keep[i] {
+			continue
+		}
+		x, y := (u[i]-mu)/sc, (v[i]-mv)/sc
+		row := [3]float64{x, y, 1}
+		rhs := -(x*x + y*y)
+		for p := range 3 {
+			b[p] += row[p] * rhs
+			for q := range 3 {
+				a[p*3+q] += row[p] * row[q]
+			}
+		}
+	}
+	x, ok := solveSmall(3, a[:], b[:])
+	if !ok {
+		return 0, 0, 0, false
+	}
+	cu, cv = -x[0]/2, -x[1]/2
+	r2 := cu*cu + cv*cv - x[2]
+	if !(r2 > 0) {
+		return 0, 0, 0, false
+	}
+	return cu*sc + mu, cv*sc + mv, math.Sqrt(r2) * sc, true
+}
+
+// normalsFace tells the outer face from facet normals, point normals or,
+// for STL meshes without facet normals, the facet winding (counter-
+// clockwise seen from outside): the outer face's normals point to the hob,
+// against base +z. It returns +1 when base +z is along the frame's normal,
+// −1 against it, 0 when there are no normals or they do not agree; detail
+// names the evidence (or why it was not used).
+func normalsFace(c *Cloud, f *frame, radius float64) (sign float64, detail string) {
+	r2 := radius * radius
+	inBase := func(p r3.Vec) bool {
+		u, v, _ := f.coords(p)
+		du, dv := u, v
+		return du*du+dv*dv <= r2
+	}
+	var sum float64
+	n := 0
+	what := ""
+	add := func(d r3.Vec) {
+		l := r3.Norm(d)
+		if l == 0 || math.IsNaN(l) || math.IsInf(l, 0) {
+			return
+		}
+		sum += r3.Dot(d, f.e[2]) / l
+		n++
+	}
+	switch {
+	case len(c.FacetNormals) != 0 && hasNonZero(c.FacetNormals):
+		what = "facet normals"
+		for t, tri := range c.Triangles {
+			if inBase(c.Points[tri[0]]) {
+				add(c.FacetNormals[t])
+			}
+		}
+	case len(c.Normals) != 0:
+		what = "point normals"
+		step := max(1, len(c.Points)/200000)
+		for i := 0; i < len(c.Points); i += step {
+			if inBase(c.Points[i]) {
+				add(c.Normals[i])
+			}
+		}
+	case len(c.Triangles) != 0 && strings.HasPrefix(c.Format, "stl"):
+		what = "STL facet winding"
+		for _, tri := range c.Triangles {
+			p0 := c.Points[tri[0]]
+			if inBase(p0) {
+				add(r3.Cross(r3.Sub(c.Points[tri[1]], p0), r3.Sub(c.Points[tri[2]], p0)))
+			}
+		}
+	default:
+		return 0, ""
+	}
+	if n == 0 {
+		return 0, ""
+	}
+	mean := sum / float64(n)
+	switch {
+	case mean >= 0.5:
+		return -1, what
+	case mean <= -0.5:
+		return 1, what
+	}
+	return 0, fmt.Sprintf("the %s on the base do not point one way (mean cosine %.2f); not used", what, mean)
+}
+
+func hasNonZero(v []r3.Vec) bool {
+	for _, d := range v {
+		if d != (r3.Vec{}) {
+			return true
+		}
+	}
+	return false
+}
+
+// wallFace tells the outer face from the points beyond the rim that rise
+// clear of the base (the corner and the wall rise into the pan). It
+// returns +1 when they lie along the frame's normal, −1 against it, 0 when
+// there are too few or they lie on both sides.
+func wallFace(pts []r3.Vec, f *frame, radius, dr float64) float64 {
+	step := max(1, len(pts)/500000)
+	var rimW []float64
+	var outer []float64
+	nBase := 0
+	for i := 0; i < len(pts); i += step {
+		u, v, w := f.coords(pts[i])
+		rr := math.Sqrt(u*u + v*v)
+		switch {
+		case rr <= radius:
+			nBase++
+			if rr >= 0.9*radius {
+				rimW = append(rimW, math.Abs(w))
+			}
+		case rr > radius+2*dr && rr < 2*radius:
+			outer = append(outer, w)
+		}
+	}
+	if len(rimW) == 0 || len(outer) == 0 {
+		return 0
+	}
+	k := min(len(rimW)-1, int(0.99*float64(len(rimW))))
+	hb := quickSelect(rimW, k)
+	lim := hb + 0.01*radius
+	pos, neg := 0, 0
+	for _, w := range outer {
+		switch {
+		case w > lim:
+			pos++
+		case w < -lim:
+			neg++
+		}
+	}
+	tot := pos + neg
+	if tot < max(20, nBase/1000) {
+		return 0
+	}
+	switch {
+	case float64(pos) >= 0.8*float64(tot):
+		return 1
+	case float64(neg) >= 0.8*float64(tot):
+		return -1
+	}
+	return 0
+}

@@ -1,0 +1,102 @@
+// Package stl reads and writes STL triangle meshes, binary and ASCII.
+//
+// A binary file is an 80-byte header, a little-endian uint32 facet count
+// and 50 bytes per facet (normal, three vertices, all float32, and a uint16
+// attribute), 84 + 50·N bytes in all. An ASCII file is a sequence of
+// "solid name ... endsolid name" blocks of "facet normal / outer loop /
+// vertex ×3 / endloop / endfacet" records.
+//
+// Many binary files start their header with "solid". Decode therefore
+// trusts the size (84 + 50·N) when it is known, and otherwise the content:
+// a file is ASCII only when "solid" is followed on a later line by "facet"
+// or "endsolid".
+//
+// STL carries no units; coordinates are returned in file units.
+package stl
+
+import (
+	"errors"
+	"strconv"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// Mesh is a triangle soup as stored in an STL file.
+type Mesh struct {
+	// Vertices holds three vertices per facet, in file units.
+	Vertices []r3.Vec
+	// Normals holds one normal per facet as stored (it may be zero).
+	Normals []r3.Vec
+	// Header is the binary file's 80-byte header with trailing NULs
+	// removed, or the name after "solid" in an ASCII file.
+	Header string
+	// Binary reports whether the mesh was read from (or is to be
+	// written as) a binary file.
+	Binary bool
+}
+
+// Facets returns the number of facets, len(m.Vertices)/3.
+func (m *Mesh) Facets() int { return len(m.Vertices) / 3 }
+
+// Options controls Decode.
+type Options struct {
+	// Name names the input in error messages, e.g. "pan.stl".
+	Name string
+	// SizeBytes is the size of the input when known (> 0); it decides
+	// between binary and ASCII and bounds allocations. Zero or negative
+	// means unknown (a pipe or a decompressed stream).
+	SizeBytes int64
+	// MaxPoints caps the number of vertices (3 per facet);
+	// 0 means DefaultMaxPoints.
+	MaxPoints int
+}
+
+// DefaultMaxPoints is the vertex cap used when Options.MaxPoints is 0.
+const DefaultMaxPoints = 50_000_000
+
+// Errors wrapped in a *ParseError.
+var (
+	// ErrTooManyPoints means the file holds more vertices than
+	// Options.MaxPoints allows.
+	ErrTooManyPoints = errors.New("too many points")
+	// ErrNotFinite means a coordinate is NaN or infinite.
+	ErrNotFinite = errors.New("coordinate is not finite")
+	// ErrSizeMismatch means a binary file's size disagrees with its
+	// facet count.
+	ErrSizeMismatch = errors.New("file size does not match facet count")
+	// ErrFacetVertices means an ASCII facet does not have three vertices.
+	ErrFacetVertices = errors.New("facet does not have 3 vertices")
+)
+
+// FormatError reports that the input is not valid STL.
+type FormatError string
+
+func (e FormatError) Error() string { return "stl: invalid format: " + string(e) }
+
+// ParseError locates a decoding error in the input.
+type ParseError struct {
+	Name   string // Options.Name
+	Line   int    // 1-based line for ASCII input; 0 for binary
+	Column int    // 1-based byte column within Line; 0 if not known
+	Offset int64  // byte offset from the start of the input; -1 if not known
+	Err    error
+}
+
+func (e *ParseError) Error() string {
+	s := e.Name
+	if s == "" {
+		s = "stl"
+	}
+	switch {
+	case e.Line > 0:
+		s += ": line " + strconv.Itoa(e.Line)
+		if e.Column > 0 {
+			s += ", column " + strconv.Itoa(e.Column)
+		}
+	case e.Offset >= 0:
+		s += ": byte " + strconv.FormatInt(e.Offset, 10)
+	}
+	return s + ": " + e.Err.Error()
+}
+
+func (e *ParseError) Unwrap() error { return e.Err }

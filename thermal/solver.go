@@ -1,0 +1,252 @@
+package thermal
+
+// The files solver*.go hold the matrix-free linear algebra of the plate
+// solve: a conductance operator on a grid with one or two node layers and its
+// Gauss–Seidel smoother (this file), a geometric multigrid V-cycle built on
+// it (solver_multigrid.go), and conjugate gradients preconditioned by that
+// V-cycle (solver_pcg.go).
+//
+// The operator is that of a thermal network. Node (l, p) is layer l of cell
+// p; its row reads
+//
+//	(A x)_lp = Σ_faces k_f (x_lp − x_lq) + s_lp x_lp + c_p (x_lp − x_l'p)
+//
+// with face conductances k_f ≥ 0 to the four grid neighbours in the same
+// layer, a sink s ≥ 0 to fixed temperatures and a coupling c ≥ 0 to the other
+// layer of the same cell (W/K). A is symmetric, and positive definite when
+// every connected set of active nodes has some sink. Inactive nodes (no pan
+// or no glass in that cell) keep an identity row, zero right-hand side and
+// zero value, so the grid stays rectangular on every level.
+
+// level is one grid of the multigrid hierarchy.
+type level struct {
+	nx, ny, n int
+	nl        int // node layers: 1 or 2
+
+	kx, ky [2][]float64 // kx[l][p]: face (i,j)–(i+1,j); ky[l][p]: face (i,j)–(i,j+1); W/K
+	sink   [2][]float64 // W/K
+	cpl    []float64    // layer coupling, W/K (nil when nl == 1)
+	act    [2][]bool
+	diag   [2][]float64 // full diagonal; 1 on inactive nodes
+
+	fx, fy int // agglomeration factors to the next coarser level (1 or 2)
+
+	x, b, r []float64 // V-cycle work vectors, length nl·n
+}
+
+func newLevel(nx, ny, nl int) *level {
+	n := nx * ny
+	lv := &level{nx: nx, ny: ny, n: n, nl: nl}
+	for l := 0; l < nl; l++ {
+		lv.kx[l] = make([]float64, n)
+		lv.ky[l] = make([]float64, n)
+		lv.sink[l] = make([]float64, n)
+		lv.act[l] = make([]bool, n)
+		lv.diag[l] = make([]float64, n)
+	}
+	if nl == 2 {
+		lv.cpl = make([]float64, n)
+	}
+	lv.x = make([]float64, nl*n)
+	lv.b = make([]float64, nl*n)
+	lv.r = make([]float64, nl*n)
+	return lv
+}
+
+// setDiag computes the diagonal from faces, sinks and couplings.
+func (lv *level) setDiag() {
+	nx, ny := lv.nx, lv.ny
+	for l := 0; l < lv.nl; l++ {
+		kx, ky, s, act, d := lv.kx[l], lv.ky[l], lv.sink[l], lv.act[l], lv.diag[l]
+		for j := 0; j < ny; j++ {
+			for i := 0; i < nx; i++ {
+				p := j*nx + i
+				if !act[p] {
+					d[p] = 1
+					continue
+				}
+				v := s[p] + kx[p] + ky[p]
+				if i > 0 {
+					v += kx[p-1]
+				}
+				if j > 0 {
+					v += ky[p-nx]
+				}
+				if lv.nl == 2 {
+					v += lv.cpl[p]
+				}
+				d[p] = v
+			}
+		}
+	}
+}
+
+// apply sets dst = A x.
+func (lv *level) apply(dst, x []float64) {
+	nx, ny, n := lv.nx, lv.ny, lv.n
+	for l := 0; l < lv.nl; l++ {
+		kx, ky, d := lv.kx[l], lv.ky[l], lv.diag[l]
+		xl := x[l*n : (l+1)*n]
+		dl := dst[l*n : (l+1)*n]
+		for j := 0; j < ny; j++ {
+			row := j * nx
+			if j == 0 || j == ny-1 || nx < 3 {
+				for i := 0; i < nx; i++ {
+					p := row + i
+					dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, i, j, p, 0)
+				}
+				continue
+			}
+			dl[row] = d[row]*xl[row] - nbSum(kx, ky, xl, nx, ny, 0, j, row, 0)
+			xr, xn, xs := xl[row:row+nx], xl[row-nx:row], xl[row+nx:row+2*nx]
+			kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
+			dr, or := d[row:row+nx], dl[row:row+nx]
+			for i := 1; i < nx-1; i++ {
+				or[i] = dr[i]*xr[i] - kr[i-1]*xr[i-1] - kr[i]*xr[i+1] - kn[i]*xn[i] - ks[i]*xs[i]
+			}
+			p := row + nx - 1
+			dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
+		}
+	}
+	if lv.nl == 2 {
+		c := lv.cpl
+		x0, x1 := x[:n], x[n:2*n]
+		d0, d1 := dst[:n], dst[n:2*n]
+		for p, cp := range c {
+			if cp != 0 {
+				d0[p] -= cp * x1[p]
+				d1[p] -= cp * x0[p]
+			}
+		}
+	}
+}
+
+// residual sets r = b − A x.
+func (lv *level) residual(r, x, b []float64) {
+	lv.apply(r, x)
+	for i := range r {
+		r[i] = b[i] - r[i]
+	}
+}
+
+// nbSum returns b_p + Σ k x_q over the in-layer neighbours q of cell (i, j).
+func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
+	v := bp
+	if i > 0 {
+		v += kx[p-1] * x[p-1]
+	}
+	if i < nx-1 {
+		v += kx[p] * x[p+1]
+	}
+	if j > 0 {
+		v += ky[p-nx] * x[p-nx]
+	}
+	if j < ny-1 {
+		v += ky[p] * x[p+nx]
+	}
+	return v
+}
+
+// sweep does one red–black Gauss–Seidel sweep, cells of colour first
+// ((i+j) mod 2 == first) before the others, solving the 2×2 block of both
+// layers of a cell together. The two half-sweeps are fused row by row (row
+// j of the first colour, then row j−1 of the second, whose neighbours are
+// then final), so the grid streams through the cache once per sweep. The
+// result is the same as two separate half-sweeps.
+func (lv *level) sweep(x, b []float64, first int) {
+	second := 1 - first
+	for j := 0; j < lv.ny; j++ {
+		lv.relaxRow(x, b, j, first)
+		if j > 0 {
+			lv.relaxRow(x, b, j-1, second)
+		}
+	}
+	lv.relaxRow(x, b, lv.ny-1, second)
+}
+
+// relaxRow updates the cells of one colour in row j.
+func (lv *level) relaxRow(x, b []float64, j, colour int) {
+	nx, ny, n := lv.nx, lv.ny, lv.n
+	i0 := (j + colour) & 1
+	row := j * nx
+	if lv.nl == 1 {
+		kx, ky, d := lv.kx[0], lv.ky[0], lv.diag[0]
+		if j == 0 || j == ny-1 || nx < 3 {
+			for i := i0; i < nx; i += 2 {
+				p := row + i
+				x[p] = nbSum(kx, ky, x, nx, ny, i, j, p, b[p]) / d[p]
+			}
+			return
+		}
+		// Interior row: the ends by nbSum, the rest without tests.
+		if i0 == 0 {
+			x[row] = nbSum(kx, ky, x, nx, ny, 0, j, row, b[row]) / d[row]
+		}
+		xr, xn, xs := x[row:row+nx], x[row-nx:row], x[row+nx:row+2*nx]
+		kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
+		br, dr := b[row:row+nx], d[row:row+nx]
+		i := i0
+		if i == 0 {
+			i = 2
+		}
+		for ; i < nx-1; i += 2 {
+			xr[i] = (br[i] + kr[i-1]*xr[i-1] + kr[i]*xr[i+1] + kn[i]*xn[i] + ks[i]*xs[i]) / dr[i]
+		}
+		if (nx-1-i0)&1 == 0 {
+			p := row + nx - 1
+			x[p] = nbSum(kx, ky, x, nx, ny, nx-1, j, p, b[p]) / d[p]
+		}
+		return
+	}
+	kx0, ky0, d0 := lv.kx[0], lv.ky[0], lv.diag[0]
+	kx1, ky1, d1 := lv.kx[1], lv.ky[1], lv.diag[1]
+	x0, x1 := x[:n], x[n:2*n]
+	b0, b1 := b[:n], b[n:2*n]
+	c := lv.cpl
+	// block solves [d0 −c; −c d1] [x0; x1] = [r0; r1] at cell p.
+	block := func(p int, r0, r1 float64) {
+		cp := c[p]
+		if cp == 0 {
+			x0[p] = r0 / d0[p]
+			x1[p] = r1 / d1[p]
+			return
+		}
+		det := d0[p]*d1[p] - cp*cp
+		x0[p] = (d1[p]*r0 + cp*r1) / det
+		x1[p] = (cp*r0 + d0[p]*r1) / det
+	}
+	edge := func(i int) {
+		p := row + i
+		block(p, nbSum(kx0, ky0, x0, nx, ny, i, j, p, b0[p]), nbSum(kx1, ky1, x1, nx, ny, i, j, p, b1[p]))
+	}
+	if j == 0 || j == ny-1 || nx < 3 {
+		for i := i0; i < nx; i += 2 {
+			edge(i)
+		}
+		return
+	}
+	if i0 == 0 {
+		edge(0)
+	}
+	xr0, xn0, xs0 := x0[row:row+nx], x0[row-nx:row], x0[row+nx:row+2*nx]
+	kr0, kn0, ks0 := kx0[row:row+nx], ky0[row-nx:row], ky0[row:row+nx]
+	xr1, xn1, xs1 := x1[row:row+nx], x1[row-nx:row], x1[row+nx:row+2*nx]
+	kr1, kn1, ks1 := kx1[row:row+nx], ky1[row-nx:row], ky1[row:row+nx]
+	br0, br1 := b0[row:row+nx], b1[row:row+nx]
+	dr0, dr1, cr := d0[row:row+nx], d1[row:row+nx], c[row:row+nx]
+	i := i0
+	if i == 0 {
+		i = 2
+	}
+	for ; i < nx-1; i += 2 {
+		r0 := br0[i] + kr0[i-1]*xr0[i-1] + kr0[i]*xr0[i+1] + kn0[i]*xn0[i] + ks0[i]*xs0[i]
+		r1 := br1[i] + kr1[i-1]*xr1[i-1] + kr1[i]*xr1[i+1] + kn1[i]*xn1[i] + ks1[i]*xs1[i]
+		cp := cr[i]
+		det := dr0[i]*dr1[i] - cp*cp
+		xr0[i] = (dr1[i]*r0 + cp*r1) / det
+		xr1[i] = (cp*r0 + dr0[i]*r1) / det
+	}
+	if (nx-1-i0)&1 == 0 {
+		edge(nx - 1)
+	}
+}
