@@ -13,6 +13,9 @@ import (
 
 	"gapflux/contact"
 	"gapflux/scan"
+	"gapflux/scan/ply"
+	"gapflux/scan/stl"
+	"gapflux/scan/xyz"
 	"gapflux/thermal"
 )
 
@@ -185,6 +188,9 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
 	res.Contact = mask
 	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
+	if noise := rep.Geometry.NoiseUM / 1e3; rep.Gap.MeanGapMM > 0 && noise > rep.Gap.MeanGapMM/5 {
+		warn("the scanner noise removed by the form filter (%.1f µm RMS) is more than a fifth of the mean gap (%.1f µm): the gap map is near the noise floor", rep.Geometry.NoiseUM, rep.Gap.MeanGapMM*1e3)
+	}
 	if in.Stage == "pose" {
 		return res, nil
 	}
@@ -227,6 +233,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Warnings = append(rep.Warnings, prefixed("scan: ", solScan.Warnings)...)
 	rep.Warnings = append(rep.Warnings, prefixed("flat twin: ", solFlat.Warnings)...)
 	rep.Heat = heatReport(job, solScan, solFlat, baseArea)
+	fillGapConductance(rep.Gap, solScan, inBase)
+	hobT := solScan.TGlassK
+	if prob.Temperature != nil {
+		hobT = prob.Temperature.TopK
+	}
+	rep.Warnings = append(rep.Warnings, interfaceWarnings(scanField, hobT, solScan.TPanK, rep.Heat.SolidPct)...)
 	if job.Hob.Mode == "temperature" {
 		rated := job.Hob.RatedPowerDensityKW
 		if rated == 0 {
@@ -300,6 +312,9 @@ func readScan(path, name string, job Job) (*scan.Cloud, FileReport, error) {
 	}
 	cloud, err := scan.Read(io.TeeReader(f, h), scan.ReadOptions{Name: name, SizeBytes: size,
 		Unit: job.Grid.Units, MaxPoints: job.Limits.MaxPoints})
+	if errors.Is(err, stl.ErrTooManyPoints) || errors.Is(err, ply.ErrTooManyPoints) || errors.Is(err, xyz.ErrTooManyPoints) {
+		return nil, fr, fmt.Errorf("%w (the limit is limits.max_points = %d, or --max-points)", err, job.Limits.MaxPoints)
+	}
 	if err != nil {
 		return nil, fr, err
 	}

@@ -2,11 +2,14 @@ package pipeline
 
 import (
 	"context"
+	"encoding/csv"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"gapflux/contact"
@@ -71,19 +74,16 @@ func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, 
 	if err != nil {
 		return p, fmt.Errorf("job: interface.slope_correlation: %w", err)
 	}
-	slope := func(given, sqUM float64) float64 {
-		if given > 0 {
-			return given
-		}
-		if sqUM == 0 {
-			return 0
-		}
-		m, _ := corr.Slope(sqUM * 1e-6)
-		return m
+	sigmaM := contact.CombinedRoughnessM(ij.PanSqUM*1e-6, ij.HobSqUM*1e-6)
+	// The slope correlations are for the combined (sum) surface: use them
+	// on the combined σ unless both slopes are given.
+	slope := contact.CombinedSlope(ij.PanSlope, ij.HobSlope)
+	if ij.PanSlope == 0 || ij.HobSlope == 0 {
+		slope, _ = corr.Slope(sigmaM)
 	}
 	p = contact.InterfaceParams{
-		SigmaM:         contact.CombinedRoughnessM(ij.PanSqUM*1e-6, ij.HobSqUM*1e-6),
-		Slope:          contact.CombinedSlope(slope(ij.PanSlope, ij.PanSqUM), slope(ij.HobSlope, ij.HobSqUM)),
+		SigmaM:         sigmaM,
+		Slope:          slope,
 		KSolidWMK:      contact.HarmonicConductivityWMK(panMat.ConductivityWMK, hobMat.ConductivityWMK),
 		HardnessPa:     ij.MicrohardnessMPa * 1e6,
 		EPrimePa:       contact.EffectiveModulusPa(panMat.YoungPa, panMat.Poisson, hobMat.YoungPa, hobMat.Poisson),
@@ -213,8 +213,9 @@ func (p *radialProfile) at(rM float64) float64 {
 	return p.v[i-1] + t*(p.v[i]-p.v[i-1])
 }
 
-// readProfile reads a two-column CSV "r_mm,<col>" (any header names), r in
-// mm, strictly increasing. An empty path returns nil.
+// readProfile reads a two-column radial profile CSV with the header
+// "r_mm,<col>", r in mm and strictly increasing; '#' lines are comments. An
+// empty path returns nil.
 func readProfile(path, col string) (*radialProfile, error) {
 	if path == "" {
 		return nil, nil
@@ -224,15 +225,40 @@ func readProfile(path, col string) (*radialProfile, error) {
 		return nil, fmt.Errorf("job: %w", err)
 	}
 	defer f.Close()
-	rM, v, err := contact.ReadRadialProfile(f, path)
-	if err != nil {
-		return nil, fmt.Errorf("job: profile %s (r_mm,%s): %w", path, col, err)
+	cr := csv.NewReader(f)
+	cr.Comment = '#'
+	cr.TrimLeadingSpace = true
+	cr.FieldsPerRecord = 2
+	p := &radialProfile{}
+	for line := 0; ; line++ {
+		rec, err := cr.Read()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", path, err)
+		}
+		ln, _ := cr.FieldPos(0)
+		if line == 0 {
+			if !strings.EqualFold(rec[0], "r_mm") || !strings.EqualFold(rec[1], col) {
+				return nil, fmt.Errorf("%s:%d: header %q, want \"r_mm,%s\"", path, ln, strings.Join(rec, ","), col)
+			}
+			continue
+		}
+		r, err1 := strconv.ParseFloat(rec[0], 64)
+		v, err2 := strconv.ParseFloat(rec[1], 64)
+		if err1 != nil || err2 != nil || math.IsNaN(r+v) || math.IsInf(r+v, 0) || r < 0 {
+			return nil, fmt.Errorf("%s:%d: %q is not a pair of finite numbers with r >= 0", path, ln, strings.Join(rec, ","))
+		}
+		if n := len(p.rM); n > 0 && r/1e3 <= p.rM[n-1] {
+			return nil, fmt.Errorf("%s:%d: r_mm %g does not increase", path, ln, r)
+		}
+		p.rM, p.v = append(p.rM, r/1e3), append(p.v, v)
 	}
-	// ReadRadialProfile converts its second column from mm to m; undo it.
-	for i := range v {
-		v[i] *= 1e3
+	if len(p.rM) == 0 {
+		return nil, fmt.Errorf("%s: profile has no points", path)
 	}
-	return &radialProfile{rM: rM, v: v}, nil
+	return p, nil
 }
 
 // hobSurface returns the hob top on the pan grid: from a hob scan, a radial

@@ -18,6 +18,7 @@ type demoPan struct {
 	spec  synth.Spec
 	enc   synth.Encoding
 	hob   string // hob scan of the manifest row, "" for the job's hob
+	face  string // the manifest's face column, "" to detect
 	mass  float64
 	water float64
 }
@@ -39,7 +40,7 @@ func demoLine() []demoPan {
 		{file: "line-a/frypan-200-deep-dish", part: "FP-200", lot: "A2",
 			spec: synth.Spec{Shape: synth.Dish, DiameterM: mm(200), SagM: mm(1.6), NoiseM: um(10), SpacingM: mm(1),
 				Face: "down", RotationDeg: [3]float64{2, -1, 30}, OffsetM: [3]float64{0.05, -0.02, 0.3}, Seed: 13},
-			enc: synth.Encoding{Format: "xyz"}, mass: 1.1, water: 1.0},
+			enc: synth.Encoding{Format: "xyz"}, face: "down", mass: 1.1, water: 1.0},
 		{file: "line-a/frypan-200-dome", part: "FP-200", lot: "A3",
 			spec: synth.Spec{Shape: synth.Dome, DiameterM: mm(200), SagM: mm(0.3), NoiseM: um(8), Mesh: true, SpacingM: mm(1), Seed: 14},
 			enc:  synth.Encoding{Format: "stl", Binary: true}, mass: 1.1, water: 1.0},
@@ -55,7 +56,7 @@ func demoLine() []demoPan {
 			enc: synth.Encoding{Format: "xyz", Gzip: true}, mass: 1.8, water: 2.0},
 		{file: "line-b/stockpot-220-handheld", part: "ST-220", lot: "B2",
 			spec: synth.Spec{Shape: synth.Dish, DiameterM: mm(220), SagM: mm(0.45), NoiseM: um(60), SpikeFraction: 0.002,
-				Holes: 4, SpacingM: mm(1), Seed: 18},
+				Holes: 4, SpacingM: mm(0.5), Seed: 18},
 			enc: synth.Encoding{Format: "xyz"}, mass: 1.8, water: 2.0},
 		{file: "line-c/milkpan-160-on-domed-hob", part: "MP-160", lot: "C1",
 			spec: synth.Spec{Shape: synth.Dish, DiameterM: mm(160), SagM: mm(0.2), NoiseM: um(8), Mesh: true, SpacingM: mm(1), Seed: 19},
@@ -78,23 +79,30 @@ func WriteDemoScans(dir string) error {
 		return err
 	}
 	var manifest strings.Builder
-	manifest.WriteString("path,part_number,lot,hob,pan_mass_kg,water_mass_kg\n")
+	manifest.WriteString("path,part_number,lot,hob,face,pan_mass_kg,water_mass_kg\n")
 	for _, p := range demoLine() {
 		p.spec.Name = filepath.Base(p.file)
 		sc, err := synth.Generate(p.spec)
 		if err != nil {
 			return fmt.Errorf("demo %s: %w", p.file, err)
 		}
-		path, _, err := synth.WriteFiles(filepath.Join(dir, filepath.Dir(p.file)), filepath.Base(p.file), sc, p.enc)
+		sub := filepath.Join(dir, filepath.Dir(p.file))
+		if err := os.MkdirAll(sub, 0o755); err != nil {
+			return err
+		}
+		path, _, err := synth.WriteFiles(sub, filepath.Base(p.file), sc, p.enc)
 		if err != nil {
 			return fmt.Errorf("demo %s: %w", p.file, err)
 		}
 		rel, _ := filepath.Rel(dir, path)
-		fmt.Fprintf(&manifest, "%s,%s,%s,%s,%g,%g\n", filepath.ToSlash(rel), p.part, p.lot, p.hob, p.mass, p.water)
+		fmt.Fprintf(&manifest, "%s,%s,%s,%s,%s,%g,%g\n", filepath.ToSlash(rel), p.part, p.lot, p.hob, p.face, p.mass, p.water)
 	}
 	hob, err := synth.GenerateHob(synth.HobSpec{Name: "zone-domed", Shape: synth.Dome, SagM: 0.15e-3, NoiseM: 6e-6,
 		SpacingM: 1e-3, Seed: 21})
 	if err != nil {
+		return err
+	}
+	if err := os.MkdirAll(filepath.Join(dir, "hobs"), 0o755); err != nil {
 		return err
 	}
 	if _, _, err := synth.WriteFiles(filepath.Join(dir, "hobs"), "zone-domed", hob, synth.Encoding{Format: "xyz"}); err != nil {
@@ -114,7 +122,7 @@ func WriteDemoScans(dir string) error {
 	if err := WriteBytesAtomic(filepath.Join(dir, "line-c", "frypan-200-truncated.stl"), []byte(cut)); err != nil {
 		return err
 	}
-	manifest.WriteString("line-c/frypan-200-truncated.stl,FP-200,C2,,1.1,1.0\n")
+	manifest.WriteString("line-c/frypan-200-truncated.stl,FP-200,C2,,,1.1,1.0\n")
 	if err := WriteBytesAtomic(filepath.Join(dir, ManifestName), []byte(manifest.String())); err != nil {
 		return err
 	}

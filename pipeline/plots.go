@@ -5,6 +5,7 @@ import (
 	"image/color"
 	"io"
 	"math"
+	"sort"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/palette"
@@ -111,18 +112,12 @@ func (m *MapSpec) crop() (i0, j0, nx, ny int) {
 // WriteMap renders the map as "png" or "svg".
 func WriteMap(w io.Writer, m *MapSpec, format string) error {
 	lo, hi := m.Lo, m.Hi
+	unit := m.Unit
 	if !(hi > lo) {
-		lo, hi = math.Inf(1), math.Inf(-1)
-		for _, v := range m.Values {
-			if !math.IsNaN(v) {
-				lo, hi = math.Min(lo, v), math.Max(hi, v)
-			}
-		}
-		if math.IsInf(lo, 0) {
-			lo, hi = 0, 1
-		}
-		if hi-lo < 1e-12*math.Max(1, math.Abs(hi)) {
-			hi = lo + math.Max(1e-9, math.Abs(lo)*1e-3)
+		var clipped bool
+		lo, hi, clipped = robustRange(m.Values)
+		if clipped {
+			unit += ", top 0.5 % clipped"
 		}
 	}
 	cm := newScale(m.Controls, lo, hi)
@@ -164,12 +159,18 @@ func WriteMap(w io.Writer, m *MapSpec, format string) error {
 
 	cb := plot.New()
 	cb.HideX()
-	cb.Y.Label.Text = m.Unit
+	cb.Y.Label.Text = unit
 	cb.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true, Colors: 256})
 
 	const plotW, barW = 14 * vg.Centimeter, 3.2 * vg.Centimeter
+	// Size the canvas so the data area has the data's aspect ratio: measure
+	// the data area on a trial canvas, then grow or shrink the height.
 	aspect := (ymax - ymin) / (xmax - xmin)
-	height := vg.Length(float64(plotW-2*vg.Centimeter)*aspect) + 2.5*vg.Centimeter
+	trialH := vg.Length(float64(plotW) * aspect)
+	trial := draw.New(vgimg.New(plotW, trialH))
+	da := p.DataCanvas(trial)
+	dw, dh := da.Max.X-da.Min.X, da.Max.Y-da.Min.Y
+	height := trialH + vg.Length(float64(dw)*aspect) - dh
 	width := plotW + barW
 	var c vg.CanvasWriterTo
 	switch format {
@@ -237,4 +238,28 @@ func WriteRingChart(w io.Writer, s *RingChartSpec, format string) error {
 	}
 	_, err = wt.WriteTo(w)
 	return err
+}
+
+// robustRange returns the colour range of a field: from its minimum to its
+// maximum, or to its 99.5th percentile when a few extreme cells (a contact
+// line, say) would otherwise wash out the rest of the map.
+func robustRange(values []float64) (lo, hi float64, clipped bool) {
+	v := make([]float64, 0, len(values))
+	for _, x := range values {
+		if !math.IsNaN(x) && !math.IsInf(x, 0) {
+			v = append(v, x)
+		}
+	}
+	if len(v) == 0 {
+		return 0, 1, false
+	}
+	sort.Float64s(v)
+	lo, hi = v[0], v[len(v)-1]
+	if p := v[int(0.995*float64(len(v)-1))]; p-lo < 0.5*(hi-lo) {
+		hi, clipped = p, true
+	}
+	if hi-lo < 1e-12*math.Max(1, math.Abs(hi)) {
+		hi = lo + math.Max(1e-9, math.Abs(lo)*1e-3)
+	}
+	return lo, hi, clipped
 }

@@ -32,14 +32,15 @@ func (p *LineProgress) Start(total int) { p.total, p.t0 = total, time.Now() }
 // Done implements Progress.
 func (p *LineProgress) Done(row SummaryRow, skipped bool) {
 	p.n++
-	note := ""
 	switch {
-	case skipped:
-		note = " (outputs current, skipped)"
 	case row.Status == StatusFailed:
-		note = ": " + row.Error
+		// Errors name the scan themselves.
+		fmt.Fprintf(p.W, "[%d/%d] failed: %s\n", p.n, p.total, row.Error)
+	case skipped:
+		fmt.Fprintf(p.W, "[%d/%d] %s %s (outputs current, skipped)\n", p.n, p.total, row.Status, row.Path)
+	default:
+		fmt.Fprintf(p.W, "[%d/%d] %s %s\n", p.n, p.total, row.Status, row.Path)
 	}
-	fmt.Fprintf(p.W, "[%d/%d] %s %s%s\n", p.n, p.total, row.Status, row.Path, note)
 }
 
 // Finish implements Progress.

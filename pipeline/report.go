@@ -78,6 +78,7 @@ type PoseReport struct {
 	TiltDeg         float64      `json:"tilt_deg"`
 	Rocks           bool         `json:"rocks"`
 	RockMM          float64      `json:"rock_mm"`
+	TipMM           float64      `json:"tip_mm"`
 	Support         string       `json:"support"`
 	ContactPointsMM [][2]float64 `json:"contact_points_mm"`
 	CentreOfMassMM  [2]float64   `json:"centre_of_mass_mm"`
@@ -95,6 +96,9 @@ type GapReport struct {
 	MeanHSolidWM2K    float64 `json:"mean_h_solid_w_m2k"`
 	MeanHGasWM2K      float64 `json:"mean_h_gas_w_m2k"`
 	MeanHRadWM2K      float64 `json:"mean_h_rad_w_m2k"`
+	// GasOverSolid is how many times the gas term exceeds the solid-spot
+	// term over the base: at cooking loads, orders of magnitude.
+	GasOverSolid float64 `json:"gas_over_solid"`
 }
 
 // HeatReport holds the steady heat figures against the flat twin.

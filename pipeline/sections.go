@@ -59,6 +59,7 @@ func poseReport(p *contact.Pose, comM [2]float64, job Job) *PoseReport {
 		TiltDeg:         roundTo(p.TiltDeg, 5),
 		Rocks:           p.Rocks,
 		RockMM:          roundTo(p.RockM*1e3, 4),
+		TipMM:           roundTo(p.TipM*1e3, 4),
 		Support:         p.Support,
 		ContactPointsMM: [][2]float64{},
 		CentreOfMassMM:  [2]float64{roundTo(comM[0]*1e3, 3), roundTo(comM[1]*1e3, 3)},
@@ -189,4 +190,52 @@ func verdict(job Job, rep *Report) *VerdictReport {
 		fail("the base loses %.1f %% of the flat twin's heating power (limit %.1f %%)", h.LossPct, t.LossMaxPct)
 	}
 	return v
+}
+
+// interfaceWarnings turns the interface models' range flags into report
+// warnings, at the solved hob and pan temperatures (K, per cell).
+func interfaceWarnings(f *contact.Field, hobK, panK []float64, solidPct float64) []string {
+	var ws []string
+	band := f.Band()
+	switch {
+	case band.Flags&contact.NoLoad != 0:
+		ws = append(ws, "no cell lies in the contact band: the solid-spot term is zero")
+	case band.Flags&contact.OutOfRangeLow != 0:
+		ws = append(ws, fmt.Sprintf("relative contact pressure P/H_c = %.2g is below the range of the solid-spot and separation correlations (1e-6 to 2e-2): they were evaluated as they are, not clamped; solid contact carries %.3g %% of the heat, so the result hardly depends on it", band.Ratio, solidPct))
+	case band.Flags&contact.OutOfRangeHigh != 0:
+		ws = append(ws, fmt.Sprintf("relative contact pressure P/H_c = %.2g is above the correlations' range (2e-2)", band.Ratio))
+	}
+	if hobK != nil && panK != nil {
+		fl := f.Flags(hobK, panK)
+		if fl&contact.Convective != 0 {
+			ws = append(ws, "the gap is wide enough for the air layer to convect (Rayleigh number above 1708): the Hollands et al. (1975) correlation was applied there")
+		}
+		if fl&contact.FilmClamped != 0 {
+			ws = append(ws, "the gap's film temperature left the air table (250–1000 K): air properties were taken at the table's end")
+		}
+	}
+	return ws
+}
+
+// fillGapConductance adds the base-mean interface conductance parts of the
+// solved scan to the gap section.
+func fillGapConductance(g *GapReport, s *thermal.Solution, inBase []bool) {
+	var n, hs, hg, hr float64
+	for k, in := range inBase {
+		if in {
+			n++
+			hs += s.SolidWM2K[k]
+			hg += s.GasWM2K[k]
+			hr += s.RadWM2K[k]
+		}
+	}
+	if n == 0 {
+		return
+	}
+	g.MeanHSolidWM2K = roundTo(hs/n, 6)
+	g.MeanHGasWM2K = roundTo(hg/n, 3)
+	g.MeanHRadWM2K = roundTo(hr/n, 3)
+	if hs > 0 {
+		g.GasOverSolid = roundTo(hg/hs, 1)
+	}
 }

@@ -251,6 +251,9 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return usageError{err}
 	}
+	if err := os.MkdirAll(filepath.Dir(*out), 0o755); err != nil {
+		return err
+	}
 	scanPath, truthPath, err := synth.WriteFiles(filepath.Dir(*out), base, sc, enc)
 	if err != nil {
 		return err
