@@ -247,10 +247,10 @@ func ReadManifest(r io.Reader, name string) (map[string]ManifestRow, error) {
 		if errors.Is(err, io.EOF) {
 			break
 		}
-		line, _ := cr.FieldPos(0)
 		if err != nil {
 			return nil, fmt.Errorf("%s: %w", name, err)
 		}
+		line, _ := cr.FieldPos(0)
 		get := func(c string) string {
 			if i, ok := col[c]; ok && i < len(rec) {
 				return strings.TrimSpace(rec[i])

@@ -170,13 +170,16 @@ func verdict(job Job, rep *Report) *VerdictReport {
 		v.Reasons = append(v.Reasons, fmt.Sprintf(format, a...))
 	}
 	if g := rep.Geometry; g != nil {
+		// Within ±shapeTolPct a base is flat (the shape word says so); the
+		// limits are judged outside that band so that scanner noise alone
+		// cannot make a flat base "convex".
 		c := g.ConcavityPctOfDiameter
 		switch {
-		case c < t.ConcavityMinPct && c < 0:
+		case c < t.ConcavityMinPct-shapeTolPct && c < 0:
 			fail("convex base: concavity %.3f mm (%.3f %% of diameter) is below the minimum %.3f %%", g.ConcavityMM, c, t.ConcavityMinPct)
-		case c < t.ConcavityMinPct:
+		case c < t.ConcavityMinPct-shapeTolPct:
 			fail("concavity %.3f %% of diameter is below the minimum %.3f %%", c, t.ConcavityMinPct)
-		case c > t.ConcavityMaxPct:
+		case c > t.ConcavityMaxPct+shapeTolPct:
 			fail("concavity %.3f mm (%.3f %% of diameter) is above the maximum %.3f %%", g.ConcavityMM, c, t.ConcavityMaxPct)
 		}
 		if g.FlatnessMZMM > t.FlatnessMZMaxMM {

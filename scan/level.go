@@ -262,7 +262,15 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	// 4. Rim circle.
 	rim, err := fitRim(pts, &f, uc, vc, r0, tanMax)
 	if err != nil {
-		return nil, err
+		// Sparse scans (a few points per millimetre of rim) defeat the
+		// profile search: fall back to a circle through the outline of
+		// the points near the base plane.
+		fb, ok := outlineRim(pts, &f, uc, vc, r0)
+		if !ok {
+			return nil, err
+		}
+		rim = fb
+		out.Warnings = append(out.Warnings, fmt.Sprintf("too few points for the rim profile search (%v); the footprint circle was fitted to the outline of the points near the base plane", err))
 	}
 	out.RimSectors, out.RimSectorsUsed = rim.sectors, rim.used
 	if rim.used < rim.sectors/2 {
@@ -1189,4 +1197,52 @@ func wallFace(pts []r3.Vec, f *frame, radius, dr float64) float64 {
 		return -1
 	}
 	return 0
+}
+
+// outlineRim fits the footprint circle to the outermost point near the base
+// plane in each of 36 angular sectors about (uc, vc): the fallback for scans
+// too sparse for fitRim. Near the plane means within max(0.03·r0, 3 × the
+// 95th percentile of |w| inside 0.8·r0), which keeps a warped base and
+// drops a wall.
+func outlineRim(pts []r3.Vec, f *frame, uc, vc, r0 float64) (rimFit, bool) {
+	const ns = 36
+	var inner []float64
+	for _, p := range pts {
+		u, v, w := f.coords(p)
+		if du, dv := u-uc, v-vc; du*du+dv*dv < 0.64*r0*r0 {
+			inner = append(inner, math.Abs(w))
+		}
+	}
+	if len(inner) < 10 {
+		return rimFit{}, false
+	}
+	band := max(0.03*r0, 3*quickSelect(inner, int(0.95*float64(len(inner)-1))))
+	best := make([]float64, ns)
+	bu, bv := make([]float64, ns), make([]float64, ns)
+	for _, p := range pts {
+		u, v, w := f.coords(p)
+		du, dv := u-uc, v-vc
+		rr := math.Hypot(du, dv)
+		if math.Abs(w) > band || rr > 1.5*r0 {
+			continue
+		}
+		s := min(ns-1, int((math.Atan2(dv, du)+math.Pi)/(2*math.Pi)*ns))
+		if rr > best[s] {
+			best[s], bu[s], bv[s] = rr, u, v
+		}
+	}
+	var eu, ev []float64
+	for s := range ns {
+		if best[s] > 0.5*r0 {
+			eu, ev = append(eu, bu[s]), append(ev, bv[s])
+		}
+	}
+	if len(eu) < ns/2 {
+		return rimFit{}, false
+	}
+	cu, cv, r, used, ok := robustCircle(eu, ev, 0.01*r0)
+	if !ok {
+		return rimFit{}, false
+	}
+	return rimFit{u: cu, v: cv, r: r, dr: r0 / 50, sectors: ns, used: used}, true
 }

@@ -549,3 +549,25 @@ func BenchmarkLevel2M(b *testing.B) {
 	}
 	b.ReportMetric(float64(len(c.Points)), "points")
 }
+
+// TestLevelSparseFallsBackToOutline: a 40 mm base with about one point per
+// 1.3 mm is too sparse for the rim profile search; the outline fallback
+// still finds the footprint (radius within two point spacings) and says so.
+func TestLevelSparseFallsBackToOutline(t *testing.T) {
+	sb := &synthBase{R: 0.02, Shape: dish(0.1e-3, 0.02), NoiseM: 5e-6, N: 700, Seed: 9}
+	c := newScanner(FaceUp, 2, 10, 30, r3.Vec{X: 0.01, Y: -0.004, Z: 0.25}).apply(sb.build())
+	l, err := Level(c, LevelOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(l.RadiusM-sb.R) > 2*1.34e-3 {
+		t.Errorf("radius %.2f mm, want %.2f mm within two spacings", l.RadiusM*1e3, sb.R*1e3)
+	}
+	found := false
+	for _, w := range l.Warnings {
+		found = found || strings.Contains(w, "outline")
+	}
+	if !found {
+		t.Errorf("no warning about the outline fallback: %v", l.Warnings)
+	}
+}

@@ -1,6 +1,8 @@
 package ply
 
 import (
+	"gapflux/internal/decimal"
+
 	"bufio"
 	"bytes"
 	"encoding/binary"
@@ -702,7 +704,7 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 				if k < 0 {
 					continue
 				}
-				f, ok := parseFloat(tok)
+				f, ok := decimal.ParseFloat(tok, false)
 				if !ok {
 					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("property %q: %q is not a number", p.name, clip(string(tok))))
 				}
@@ -712,7 +714,7 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 				v[k] = f
 				continue
 			}
-			n, ok := parseInt(tok)
+			n, ok := decimal.ParseInt(tok)
 			if !ok || n < 0 {
 				return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: bad length %q", p.name, clip(string(tok))))
 			}
@@ -727,7 +729,7 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 				if !isFace {
 					continue
 				}
-				x, ok := parseInt(tok)
+				x, ok := decimal.ParseInt(tok)
 				if !ok {
 					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: %q is not an integer", p.name, clip(string(tok))))
 				}

@@ -1,6 +1,8 @@
 package stl
 
 import (
+	"gapflux/internal/decimal"
+
 	"bytes"
 	"errors"
 	"fmt"
@@ -84,7 +86,7 @@ func (p *asciiParser) vec(what string) (r3.Vec, error) {
 		if err != nil {
 			return r3.Vec{}, err
 		}
-		f, ok := parseFloat(t)
+		f, ok := decimal.ParseFloat(t, false)
 		if !ok {
 			return r3.Vec{}, p.fail(FormatError(fmt.Sprintf("%s: %q is not a number", what, clip(t))))
 		}

@@ -1,6 +1,8 @@
 package stl
 
 import (
+	"gapflux/internal/decimal"
+
 	"bytes"
 	"encoding/binary"
 	"errors"
@@ -404,3 +406,6 @@ func TestHugeCountSmallFile(t *testing.T) {
 		t.Errorf("allocated %d bytes for a %d-byte file", d, len(in))
 	}
 }
+
+// parseFloat is the number parser the ASCII reader uses.
+func parseFloat(b []byte) (float64, bool) { return decimal.ParseFloat(b, false) }

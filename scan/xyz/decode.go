@@ -1,6 +1,8 @@
 package xyz
 
 import (
+	"gapflux/internal/decimal"
+
 	"bufio"
 	"bytes"
 	"fmt"
@@ -263,7 +265,7 @@ func split(line []byte, delim byte, pos []int) []int {
 func numeric(line []byte, pos []int, comma bool) int {
 	n := 0
 	for k := 0; k+1 < len(pos) && n < 3; k += 2 {
-		if _, ok := parseFloat(line[pos[k]:pos[k+1]], comma); !ok {
+		if _, ok := decimal.ParseFloat(line[pos[k]:pos[k+1]], comma); !ok {
 			break
 		}
 		n++
@@ -294,7 +296,7 @@ func (d *decoder) point(line []byte) error {
 	var v [6]float64
 	for k := 0; k < d.nc; k++ {
 		a, b := d.pos[2*d.col[k]], d.pos[2*d.col[k]+1]
-		f, ok := parseFloat(line[a:b], d.comma)
+		f, ok := decimal.ParseFloat(line[a:b], d.comma)
 		if !ok {
 			return d.errAt(a+1, fmt.Errorf("%w: %q", ErrSyntax, clip(line[a:b])))
 		}

@@ -1,6 +1,8 @@
 package xyz
 
 import (
+	"gapflux/internal/decimal"
+
 	"bytes"
 	"errors"
 	"io"
@@ -305,3 +307,6 @@ func TestAllocBound(t *testing.T) {
 		}
 	}
 }
+
+// parseFloat is the number parser the reader uses.
+func parseFloat(b []byte, comma bool) (float64, bool) { return decimal.ParseFloat(b, comma) }

@@ -1,4 +1,6 @@
-package xyz
+// Package decimal parses decimal numbers from byte slices without
+// allocating, for the scan readers' hot loops.
+package decimal
 
 import (
 	"strconv"
@@ -9,12 +11,12 @@ import (
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
-// parseFloat parses the decimal number in b, with ',' as the decimal
+// ParseFloat parses the decimal number in b, with ',' as the decimal
 // separator too when comma is set. It takes the exact fast path (mantissa
 // below 2^53, power of ten at most 22; Clinger 1990) when it can and falls
 // back to strconv.ParseFloat, which also accepts "nan" and "inf"; the
 // caller checks finiteness. ok is false when b is not a number.
-func parseFloat(b []byte, comma bool) (f float64, ok bool) {
+func ParseFloat(b []byte, comma bool) (f float64, ok bool) {
 	i := 0
 	neg := false
 	if i < len(b) && (b[i] == '+' || b[i] == '-') {
@@ -106,4 +108,36 @@ func parseSlow(b []byte, comma bool) (float64, bool) {
 		return 0, false
 	}
 	return f, true
+}
+
+// ParseInt parses a decimal integer with an optional sign. ok is false
+// when b is not an integer or does not fit in an int64.
+func ParseInt(b []byte) (n int64, ok bool) {
+	i := 0
+	neg := false
+	if len(b) > 0 && (b[0] == '+' || b[0] == '-') {
+		neg = b[0] == '-'
+		i++
+	}
+	if i == len(b) {
+		return 0, false
+	}
+	var u uint64
+	for ; i < len(b); i++ {
+		c := b[i] - '0'
+		if c > 9 || u > (1<<63)/10 {
+			return 0, false
+		}
+		u = u*10 + uint64(c)
+	}
+	if neg {
+		if u > 1<<63 {
+			return 0, false
+		}
+		return -int64(u), true
+	}
+	if u > 1<<63-1 {
+		return 0, false
+	}
+	return int64(u), true
 }

@@ -1,0 +1,146 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"gapflux/pipeline"
+)
+
+// gapflux runs the command line in-process.
+func gapflux(t *testing.T, args ...string) (code int, stdout, stderr string) {
+	t.Helper()
+	var o, e bytes.Buffer
+	code = run(context.Background(), args, &o, &e)
+	return code, o.String(), e.String()
+}
+
+func TestUsageAndHelp(t *testing.T) {
+	tests := []struct {
+		args []string
+		code int
+		out  string // expected in stdout+stderr
+	}{
+		{nil, exitUsage, "usage: gapflux"},
+		{[]string{"help"}, exitOK, "analyze PAN"},
+		{[]string{"version"}, exitOK, "gapflux "},
+		{[]string{"frobnicate"}, exitUsage, `unknown command "frobnicate"`},
+		{[]string{"analyze"}, exitUsage, "want exactly one scan file"},
+		{[]string{"analyze", "--cell-mm", "-1", "x.stl"}, exitUsage, "grid.cell_mm must be > 0"},
+		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag: --nope"},
+		{[]string{"analyze", "--offset-mm", "3", "x.stl"}, exitUsage, "want 2 comma-separated numbers"},
+		{[]string{"analyze", "--help"}, exitOK, "--cell-mm"},
+		{[]string{"analyze", "no-such-file.stl"}, exitFail, "no-such-file.stl"},
+		{[]string{"batch", "somewhere"}, exitUsage, "want one scan folder and --out"},
+		{[]string{"batch", "no-such-dir", "--out", "x", "--shard", "4/3"}, exitUsage, "1 <= K <= N"},
+		{[]string{"merge", "--out", "x"}, exitUsage, "want shard output folders"},
+		{[]string{"synth"}, exitUsage, "--out is required"},
+		{[]string{"synth", "--shape", "blob", "--out", filepath.Join(t.TempDir(), "a.xyz")}, exitUsage, "shape"},
+		{[]string{"job"}, exitOK, "[interface]"},
+		{[]string{"materials"}, exitOK, "glass-ceramic"},
+	}
+	for _, tc := range tests {
+		t.Run(strings.Join(tc.args, " "), func(t *testing.T) {
+			code, out, errOut := gapflux(t, tc.args...)
+			if code != tc.code {
+				t.Errorf("exit %d, want %d\nstdout: %s\nstderr: %s", code, tc.code, out, errOut)
+			}
+			if !strings.Contains(out+errOut, tc.out) {
+				t.Errorf("output lacks %q:\n%s%s", tc.out, out, errOut)
+			}
+		})
+	}
+}
+
+func TestJobCommandRoundTrips(t *testing.T) {
+	code, out, _ := gapflux(t, "job")
+	if code != exitOK {
+		t.Fatal(code)
+	}
+	path := filepath.Join(t.TempDir(), "job.toml")
+	if err := os.WriteFile(path, []byte(out), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := pipeline.ReadJobFile(path); err != nil {
+		t.Errorf("the printed job does not read back: %v", err)
+	}
+	bad := filepath.Join(t.TempDir(), "bad.toml")
+	os.WriteFile(bad, []byte("[pan]\nmas_kg = 1\n"), 0o644)
+	code, _, errOut := gapflux(t, "analyze", "--job", bad, "x.stl")
+	if code != exitUsage || !strings.Contains(errOut, `unknown key "pan.mas_kg"`) {
+		t.Errorf("bad job: exit %d, %s", code, errOut)
+	}
+}
+
+// TestAnalyzeJSON runs analyze on a committed sample (a 40 mm dish made by
+// our generator, truth in testdata/dish.truth.json) and reads the report.
+func TestAnalyzeJSON(t *testing.T) {
+	if testing.Short() {
+		t.Skip("whole chain")
+	}
+	out := t.TempDir()
+	code, stdout, stderr := gapflux(t, "analyze", "../../testdata/dish.stl", "--cell-mm", "0.5", "--cutoff-mm", "4",
+		"--mode", "temperature", "--json", "--out", out)
+	if code != exitOK && code != exitFail {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var rep pipeline.Report
+	if err := json.Unmarshal([]byte(stdout), &rep); err != nil {
+		t.Fatalf("stdout is not the report: %v\n%s", err, stdout)
+	}
+	// The generator's truth: a 0.1 mm dish on a 40 mm base.
+	if g := rep.Geometry; math.Abs(g.ConcavityMM-0.1) > 0.02*0.1+3*0.005 || g.Shape != "concave" {
+		t.Errorf("concavity %.4f mm (%s), want 0.1 mm concave", g.ConcavityMM, g.Shape)
+	}
+	if !strings.Contains(stderr, "concave (dished") {
+		t.Errorf("the human summary went missing or lacks the shape word:\n%s", stderr)
+	}
+	for _, f := range []string{"report.json", "rings.csv", "gap.png", "flux.png", "rings.png", "gap.svg", "fields.vti"} {
+		if st, err := os.Stat(filepath.Join(out, f)); err != nil || st.Size() == 0 {
+			t.Errorf("%s: %v", f, err)
+		}
+	}
+}
+
+// TestBatchCommand checks the batch's exit codes and summary, and that a
+// second run does no work.
+func TestBatchCommand(t *testing.T) {
+	if testing.Short() {
+		t.Skip("whole chain")
+	}
+	dir := t.TempDir()
+	for _, f := range []string{"dish.stl", "flat_noisy.xyz"} {
+		b, err := os.ReadFile(filepath.Join("../../testdata", f))
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(filepath.Join(dir, f), b, 0o644)
+	}
+	os.WriteFile(filepath.Join(dir, "broken.ply"), []byte("ply\nformat ascii 1.0\nelement vertex 5\nproperty float x\nend_header\n1\n"), 0o644)
+	os.WriteFile(filepath.Join(dir, "job.toml"), []byte("[grid]\ncell_mm = 1.0\ncutoff_mm = 4.0\n[hob]\nmode = \"temperature\"\n"), 0o644)
+	out := filepath.Join(t.TempDir(), "out")
+	code, stdout, stderr := gapflux(t, "batch", dir, "--out", out, "--workers", "2", "--progress", "lines")
+	if code != exitFail {
+		t.Errorf("exit %d with a broken file, want %d\n%s%s", code, exitFail, stdout, stderr)
+	}
+	if !strings.Contains(stdout, "3 scans:") || !strings.Contains(stdout, "1 failed") {
+		t.Errorf("stdout: %s", stdout)
+	}
+	if !strings.Contains(stderr, "[3/3]") {
+		t.Errorf("no progress lines: %s", stderr)
+	}
+	code2, stdout2, _ := gapflux(t, "batch", dir, "--out", out, "--quiet")
+	if code2 != exitFail || stdout2 != "" {
+		t.Errorf("quiet re-run: exit %d, stdout %q", code2, stdout2)
+	}
+	b, _ := os.ReadFile(filepath.Join(out, "run.log"))
+	if !strings.Contains(string(b), "analysed") && !strings.Contains(string(b), "skipped 3") {
+		t.Errorf("run log does not show the skipped re-run:\n%s", b)
+	}
+}
