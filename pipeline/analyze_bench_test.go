@@ -2,6 +2,7 @@ package pipeline
 
 import (
 	"context"
+	"fmt"
 	"path/filepath"
 	"testing"
 
@@ -42,6 +43,35 @@ func BenchmarkAnalyze(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
+		})
+	}
+}
+
+// BenchmarkBatchDemo measures batch throughput (scans per second) on the
+// demo product line with 1 and 2 workers; every iteration re-runs all
+// scans (Force).
+func BenchmarkBatchDemo(b *testing.B) {
+	dir := b.TempDir()
+	if err := WriteDemoScans(dir); err != nil {
+		b.Fatal(err)
+	}
+	job, err := ReadJobFile(filepath.Join(dir, JobName))
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, workers := range []int{1, 2} {
+		b.Run(fmt.Sprintf("workers=%d", workers), func(b *testing.B) {
+			out := b.TempDir()
+			scans := 0
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				res, err := RunBatch(context.Background(), BatchOptions{Dir: dir, Out: out, Job: job, Workers: workers, Force: true})
+				if err != nil {
+					b.Fatal(err)
+				}
+				scans += res.Total
+			}
+			b.ReportMetric(float64(scans)/b.Elapsed().Seconds(), "scans/s")
 		})
 	}
 }

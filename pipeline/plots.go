@@ -197,46 +197,82 @@ type RingChartSpec struct {
 	Rings []RingReport
 }
 
-// WriteRingChart renders the ring chart as "png" or "svg".
+// WriteRingChart renders the ring chart as "png" or "svg": above, the heat
+// flux into the pan per ring for the scan and its flat twin; below, the
+// ring's mean and largest gap, on the same radius axis.
 func WriteRingChart(w io.Writer, s *RingChartSpec, format string) error {
-	p := plot.New()
-	p.Title.Text = s.Title
-	p.X.Label.Text = "ring mid radius (mm)"
-	p.Y.Label.Text = "heat flux into the pan (kW/m²)"
-	p.Add(plotter.NewGrid())
+	top := plot.New()
+	top.Title.Text = s.Title
+	top.Y.Label.Text = "heat flux into the pan (kW/m²)"
+	top.Add(plotter.NewGrid())
 	scanXY := make(plotter.XYs, len(s.Rings))
 	flatXY := make(plotter.XYs, len(s.Rings))
+	meanXY := make(plotter.XYs, len(s.Rings))
+	maxXY := make(plotter.XYs, len(s.Rings))
 	for i, r := range s.Rings {
 		mid := (r.RInMM + r.ROutMM) / 2
 		scanXY[i] = plotter.XY{X: mid, Y: r.FluxKWM2}
 		flatXY[i] = plotter.XY{X: mid, Y: r.FlatFluxKWM2}
+		meanXY[i] = plotter.XY{X: mid, Y: r.MeanGapMM * 1e3}
+		maxXY[i] = plotter.XY{X: mid, Y: r.MaxGapMM * 1e3}
 	}
-	fl, fp, err := plotter.NewLinePoints(flatXY)
-	if err != nil {
+	grey := color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
+	red := color.NRGBA{R: 0xb0, G: 0x30, B: 0x1c, A: 0xff}
+	blue := color.NRGBA{R: 0x2e, G: 0x3f, B: 0x8f, A: 0xff}
+	addLine := func(p *plot.Plot, xy plotter.XYs, c color.Color, dashed bool, glyph draw.GlyphDrawer, label string) error {
+		l, pts, err := plotter.NewLinePoints(xy)
+		if err != nil {
+			return err
+		}
+		l.Color, pts.Color, pts.Shape = c, c, glyph
+		l.Width = vg.Points(1.5)
+		if dashed {
+			l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+			l.Width = vg.Points(1)
+		}
+		p.Add(l, pts)
+		p.Legend.Add(label, l, pts)
+		return nil
+	}
+	if err := addLine(top, flatXY, grey, true, draw.CircleGlyph{}, "flat twin"); err != nil {
 		return err
 	}
-	fl.Color = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
-	fl.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
-	fp.Shape = draw.CircleGlyph{}
-	fp.Color = fl.Color
-	sl, sp, err := plotter.NewLinePoints(scanXY)
-	if err != nil {
+	if err := addLine(top, scanXY, red, false, draw.BoxGlyph{}, "scan"); err != nil {
 		return err
 	}
-	sl.Color = color.NRGBA{R: 0xb0, G: 0x30, B: 0x1c, A: 0xff}
-	sl.Width = vg.Points(1.5)
-	sp.Shape = draw.BoxGlyph{}
-	sp.Color = sl.Color
-	p.Add(fl, fp, sl, sp)
-	p.Legend.Add("flat twin", fl, fp)
-	p.Legend.Add("scan", sl, sp)
-	p.Legend.Top = true
-	p.Y.Min = 0
-	wt, err := p.WriterTo(16*vg.Centimeter, 10*vg.Centimeter, format)
-	if err != nil {
+	top.Legend.Top = true
+	top.Y.Min = 0
+
+	bottom := plot.New()
+	bottom.X.Label.Text = "ring mid radius (mm)"
+	bottom.Y.Label.Text = "gap (µm)"
+	bottom.Add(plotter.NewGrid())
+	if err := addLine(bottom, maxXY, grey, true, draw.TriangleGlyph{}, "largest"); err != nil {
 		return err
 	}
-	_, err = wt.WriteTo(w)
+	if err := addLine(bottom, meanXY, blue, false, draw.BoxGlyph{}, "mean"); err != nil {
+		return err
+	}
+	bottom.Legend.Top = true
+	bottom.Y.Min = 0
+	top.X.Min, top.X.Max = bottom.X.Min, bottom.X.Max
+
+	const width, height = 16 * vg.Centimeter, 15 * vg.Centimeter
+	var c vg.CanvasWriterTo
+	switch format {
+	case "png":
+		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}
+	case "svg":
+		c = vgsvg.NewWith(vgsvg.UseWH(width, height))
+	default:
+		return fmt.Errorf("ring chart format %q: want png or svg", format)
+	}
+	tiles := draw.Tiles{Rows: 2, Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadLeft: vg.Points(4), PadRight: vg.Points(8), PadY: vg.Points(10)}
+	plots := [][]*plot.Plot{{top}, {bottom}}
+	canvases := plot.Align(plots, tiles, draw.New(c))
+	top.Draw(canvases[0][0])
+	bottom.Draw(canvases[1][0])
+	_, err := c.WriteTo(w)
 	return err
 }
 

@@ -88,7 +88,7 @@ func gapReport(gap []float64, mask, inBase []bool, pressurePa, areaM2 float64, i
 	gr := &GapReport{
 		ContactBandUM:     roundTo(3*ip.SigmaM*1e6, 3),
 		ContactPressurePa: roundTo(pressurePa, 3),
-		PressureRatio:     pressurePa / ip.HardnessPa,
+		PressureRatio:     roundSig(pressurePa/ip.HardnessPa, 4),
 	}
 	if n > 0 {
 		gr.ContactAreaPct = roundTo(100*float64(nc)/float64(n), 3)
@@ -108,7 +108,7 @@ func heatReport(job Job, s, f *thermal.Solution, baseAreaM2 float64) *HeatReport
 		FlatMeanFluxKWM2: roundTo(f.PowerW/baseAreaM2/1e3, 4),
 		SolverIterations: s.LinearIterations,
 		OuterIterations:  s.OuterIterations,
-		SolverResidual:   s.RelResidual,
+		SolverResidual:   roundSig(s.RelResidual, 3),
 	}
 	if f.PowerW > 0 {
 		hr.LossPct = roundTo(100*(1-s.PowerW/f.PowerW), 3)

@@ -223,3 +223,11 @@ func roundTo(x float64, prec int) float64 {
 	}
 	return r
 }
+
+// roundSig rounds x to n significant digits.
+func roundSig(x float64, n int) float64 {
+	if x == 0 || math.IsNaN(x) || math.IsInf(x, 0) {
+		return x
+	}
+	return roundTo(x, n-1-int(math.Floor(math.Log10(math.Abs(x)))))
+}

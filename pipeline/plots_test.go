@@ -1,0 +1,97 @@
+package pipeline
+
+import (
+	"bytes"
+	"image/png"
+	"math"
+	"strings"
+	"testing"
+)
+
+func TestRobustRange(t *testing.T) {
+	v := make([]float64, 1000)
+	for i := range v {
+		v[i] = float64(i % 100)
+	}
+	v[3] = 1e6 // one extreme cell
+	v[4] = math.NaN()
+	lo, hi, clipped := robustRange(v)
+	if lo != 0 || hi != 99 || !clipped {
+		t.Errorf("range %g..%g clipped %v, want 0..99 clipped", lo, hi, clipped)
+	}
+	lo, hi, clipped = robustRange([]float64{2, 2, 2})
+	if lo != 2 || !(hi > 2) || clipped {
+		t.Errorf("constant field: %g..%g %v", lo, hi, clipped)
+	}
+}
+
+func TestWriteMapAndRingChart(t *testing.T) {
+	n := 41
+	vals := make([]float64, n*n)
+	for j := 0; j < n; j++ {
+		for i := 0; i < n; i++ {
+			x, y := float64(i-20), float64(j-20)
+			vals[j*n+i] = math.NaN()
+			if x*x+y*y <= 400 {
+				vals[j*n+i] = x*x + y*y
+			}
+		}
+	}
+	spec := &MapSpec{Title: "gap under test", Unit: "gap (µm)", Nx: n, Ny: n, X0MM: -20, Y0MM: -20, CellMM: 1,
+		Values: vals, Controls: gapControls, MarksMM: [][2]float64{{0, 0}}, MarkLabel: "support points"}
+	var buf bytes.Buffer
+	if err := WriteMap(&buf, spec, "png"); err != nil {
+		t.Fatal(err)
+	}
+	img, err := png.Decode(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b := img.Bounds(); b.Dx() < 400 || b.Dy() < 300 {
+		t.Errorf("map is %v", b)
+	}
+	buf.Reset()
+	if err := WriteMap(&buf, spec, "svg"); err != nil || !strings.Contains(buf.String(), "<svg") {
+		t.Errorf("svg: %v", err)
+	}
+	if err := WriteMap(&buf, spec, "gif"); err == nil {
+		t.Error("gif accepted")
+	}
+	rings := []RingReport{{RInMM: 0, ROutMM: 5, FluxKWM2: 40, FlatFluxKWM2: 60, MeanGapMM: 0.3, MaxGapMM: 0.31},
+		{RInMM: 5, ROutMM: 10, FluxKWM2: 45, FlatFluxKWM2: 60, MeanGapMM: 0.2, MaxGapMM: 0.25}}
+	buf.Reset()
+	if err := WriteRingChart(&buf, &RingChartSpec{Title: "rings", Rings: rings}, "png"); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := png.Decode(&buf); err != nil {
+		t.Error(err)
+	}
+}
+
+// TestWriteVTI checks the VTK image-data layout: extents, origin, spacing,
+// and the base64 payload of a known array (header: byte count as UInt32,
+// then little-endian Float32).
+func TestWriteVTI(t *testing.T) {
+	var buf bytes.Buffer
+	err := WriteVTI(&buf, VTIGrid{Nx: 2, Ny: 1, X0MM: -0.5, Y0MM: 0, SpacingMM: 1},
+		[]VTIField{{Name: "gap_um", Values: []float64{1, math.NaN()}}, {Name: "contact", Values: []float64{1, 0}, UInt8: true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := buf.String()
+	for _, want := range []string{
+		`WholeExtent="0 1 0 0 0 0" Origin="-0.5 0 0" Spacing="1 1 1"`,
+		`<DataArray type="Float32" Name="gap_um" format="binary">`,
+		// 8 (uint32) + 1.0f + NaN(0x7fc00000) → base64
+		"CAAAAAAAgD8AAMB/",
+		`<DataArray type="UInt8" Name="contact" format="binary">`,
+		"AgAAAAEA", // 2, then bytes 1, 0
+	} {
+		if !strings.Contains(s, want) {
+			t.Errorf("vti lacks %q:\n%s", want, s)
+		}
+	}
+	if err := WriteVTI(&buf, VTIGrid{Nx: 3, Ny: 1}, []VTIField{{Name: "x", Values: []float64{1}}}); err == nil {
+		t.Error("a short field was accepted")
+	}
+}
