@@ -103,6 +103,6 @@ func ExampleSolve_heater() {
 	fmt.Println(s.Warnings[0])
 	// Output:
 	// duty 34 %, heater 605 W, into the pan 440 W
-	// glass max 560 °C; losses: down 145 W, uncovered glass 21 W
+	// glass max 560 °C; losses: down 145 W, uncovered glass 20 W
 	// heater cycled: the limiter held the glass at 833.1 K, duty 33.6 %
 }

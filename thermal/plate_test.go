@@ -1,6 +1,7 @@
 package thermal
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"strings"
@@ -791,6 +792,10 @@ func TestBadInput(t *testing.T) {
 			q.Heater.PowerProfile = func(float64) float64 { return 0 }
 			return q
 		}, "no glass cell"},
+		{"short start", func(p *Problem) *Problem { p.InitialTPanK = fill(11, 300); return p }, "InitialTPanK"},
+		{"NaN start", func(p *Problem) *Problem { p.InitialTPanK = fill(12, 300); p.InitialTPanK[5] = math.NaN(); return p }, "cell 5"},
+		{"glass start", func(p *Problem) *Problem { q := heater(); q.InitialTGlassK = fill(12, -1); return q }, "InitialTGlassK"},
+		{"duty start", func(p *Problem) *Problem { q := heater(); q.InitialDutyPct = 120; return q }, "initial duty"},
 	}
 	for _, tc := range tests {
 		_, err := Solve(tc.mod(good()))
@@ -801,5 +806,235 @@ func TestBadInput(t *testing.T) {
 	// The heater stub itself is valid.
 	if _, err := Solve(heater()); err != nil {
 		t.Errorf("valid heater problem: %v", err)
+	}
+}
+
+// solveFresh is Solve on newly allocated storage (no workspace pool).
+func solveFresh(p *Problem) (*Solution, error) {
+	if err := validate(p); err != nil {
+		return nil, err
+	}
+	s := newPlate(p)
+	if err := s.warmStart(); err != nil {
+		return nil, err
+	}
+	if err := s.run(); err != nil {
+		return nil, err
+	}
+	return s.solution()
+}
+
+// sameSolution reports the first difference, bit for bit, between two
+// solutions' temperatures, fluxes and totals.
+func sameSolution(a, b *Solution) string {
+	eq := func(x, y float64) bool { return x == y || (math.IsNaN(x) && math.IsNaN(y)) }
+	for _, f := range []struct {
+		name string
+		x, y []float64
+	}{{"TPanK", a.TPanK, b.TPanK}, {"TGlassK", a.TGlassK, b.TGlassK}, {"FluxWM2", a.FluxWM2, b.FluxWM2}} {
+		if len(f.x) != len(f.y) {
+			return f.name + " lengths"
+		}
+		for i := range f.x {
+			if !eq(f.x[i], f.y[i]) {
+				return fmt.Sprintf("%s[%d]: %.17g and %.17g", f.name, i, f.x[i], f.y[i])
+			}
+		}
+	}
+	if a.PowerW != b.PowerW || a.HeaterW != b.HeaterW || a.UncoveredLossW != b.UncoveredLossW ||
+		a.LinearIterations != b.LinearIterations || a.OuterIterations != b.OuterIterations {
+		return fmt.Sprintf("totals: %+v and %+v", *a, *b)
+	}
+	return ""
+}
+
+// TestWorkspaceReuse: a solve in storage left by another problem on the same
+// grid (other base mask, interface, limiter state and hob mode) gives the
+// same bits as a solve in fresh storage, and Solve (pooled) agrees too.
+func TestWorkspaceReuse(t *testing.T) {
+	heaterA := heaterScene(0.004, stubRad{gas: 60, eps1: 0.9, eps2: 0.3}) // limiter engaged
+	heaterB := heaterScene(0.004, stubH{0, 1500, 10})
+	heaterB.InBase = discMask(heaterB.Grid, 0.01, 0, 0.07)
+	heaterB.Heater.TransmittedFraction = 0.1
+	tempA := patchProblem(48, 0.002, 0.01)
+	tempB := randomProblem(48, 48, 9)
+	for _, pair := range [][2]*Problem{{heaterA, heaterB}, {heaterB, heaterA}, {tempA, tempB}} {
+		want, err := solveFresh(pair[1])
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := reusePlate(pair[0], nil)
+		if err := s.run(); err != nil {
+			t.Fatal(err)
+		}
+		s = reusePlate(pair[1], s)
+		if err := s.run(); err != nil {
+			t.Fatal(err)
+		}
+		got, err := s.solution()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if d := sameSolution(got, want); d != "" {
+			t.Errorf("reused storage: %s", d)
+		}
+		for range 2 {
+			if _, err := Solve(pair[0]); err != nil {
+				t.Fatal(err)
+			}
+			got, err := Solve(pair[1])
+			if err != nil {
+				t.Fatal(err)
+			}
+			if d := sameSolution(got, want); d != "" {
+				t.Errorf("Solve after another problem: %s", d)
+			}
+		}
+	}
+}
+
+// TestWarmStart: starting from the solution at a neighbouring water
+// temperature (5 K away) reaches the same state as a cold start (both
+// within OuterTolK = 1e-6 K of it, so within 1e-5 K of each other) with
+// fewer iterations, with the limiter engaged.
+func TestWarmStart(t *testing.T) {
+	from := heaterScene(0.002, stubRad{gas: 60, eps1: 0.9, eps2: 0.3})
+	prev, err := Solve(from)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := heaterScene(0.002, stubRad{gas: 60, eps1: 0.9, eps2: 0.3})
+	p.TWaterK = 328.15
+	cold, err := Solve(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.InitialTPanK, p.InitialTGlassK, p.InitialDutyPct = prev.TPanK, prev.TGlassK, prev.DutyPct
+	warm, err := Solve(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkBalance(t, "warm", warm, 0)
+	if !(cold.DutyPct < 100) {
+		t.Fatalf("limiter not engaged: duty %g %%", cold.DutyPct)
+	}
+	for _, f := range [][2][]float64{{cold.TPanK, warm.TPanK}, {cold.TGlassK, warm.TGlassK}} {
+		for i, v := range f[0] {
+			if d := math.Abs(v - f[1][i]); d > 1e-5 {
+				t.Fatalf("node %d: cold %.9g K, warm %.9g K", i, v, f[1][i])
+			}
+		}
+	}
+	if d := math.Abs(cold.PowerW/warm.PowerW - 1); d > 1e-8 {
+		t.Errorf("power: cold %.12g W, warm %.12g W", cold.PowerW, warm.PowerW)
+	}
+	if !(warm.OuterIterations < cold.OuterIterations && warm.LinearIterations < cold.LinearIterations) {
+		t.Errorf("iterations: warm %d outer, %d linear; cold %d, %d", warm.OuterIterations, warm.LinearIterations, cold.OuterIterations, cold.LinearIterations)
+	}
+	t.Logf("outer iterations: cold %d, warm %d; linear: cold %d, warm %d",
+		cold.OuterIterations, warm.OuterIterations, cold.LinearIterations, warm.LinearIterations)
+
+	// Temperature mode with a gas-and-radiation gap and a boiling-like
+	// water side: the same state, no more iterations.
+	tp := patchProblem(48, 0.002, 0.01)
+	tp.Interface, tp.Water = stubRad{gas: 300, eps1: 0.9, eps2: 0.6}, stubCubic(30)
+	prevT, err := Solve(tp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tp.TWaterK = 338.15
+	coldT, err := Solve(tp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tp.InitialTPanK = prevT.TPanK
+	warmT, err := Solve(tp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkBalance(t, "warm, temperature mode", warmT, 0)
+	for i, v := range coldT.TPanK {
+		if d := math.Abs(v - warmT.TPanK[i]); d > 1e-5 {
+			t.Fatalf("temperature mode, cell %d: cold %.9g K, warm %.9g K", i, v, warmT.TPanK[i])
+		}
+	}
+	if warmT.OuterIterations > coldT.OuterIterations {
+		t.Errorf("temperature mode: outer iterations warm %d, cold %d", warmT.OuterIterations, coldT.OuterIterations)
+	}
+}
+
+// TestFixedWaterLink: the closed-form link of FixedWater gives the state of
+// the general (Newton) link of the same constant coefficient, in both hob
+// modes.
+func TestFixedWaterLink(t *testing.T) {
+	for _, p := range []*Problem{patchProblem(48, 0.002, 0.01), heaterScene(0.004, stubRad{gas: 60, eps1: 0.9, eps2: 0.3})} {
+		p.Water = stubWater(1000)
+		general, err := Solve(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		p.Water = FixedWater{HWM2K: 1000}
+		closed, err := Solve(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkBalance(t, "fixed water", closed, 0)
+		for i, v := range general.TPanK {
+			if d := math.Abs(v - closed.TPanK[i]); d > 1e-6 {
+				t.Fatalf("%v: cell %d: %.12g K (Newton link), %.12g K (closed form)", p.Mode(), i, v, closed.TPanK[i])
+			}
+		}
+		if d := math.Abs(general.PowerW/closed.PowerW - 1); d > 1e-9 {
+			t.Errorf("%v: power %.12g W and %.12g W", p.Mode(), general.PowerW, closed.PowerW)
+		}
+	}
+}
+
+// TestGlassLaw: the uncovered-glass law takes the plate-average McAdams
+// coefficient at the mean surface temperature (AirPlateUpHWM2K, Incropera
+// 6th ed. §9.6.2), held at the air table's end beyond it, and its link
+// solves the series balance (T_node − T_s)/R = h̄·(T_s − T_room) +
+// εσ(T_s⁴ − T_room⁴) (derived here), with g = dq/dT_node (checked by a
+// central difference).
+func TestGlassLaw(t *testing.T) {
+	const (
+		room, lM, eps, halfR = 296.15, 0.065, 0.9, 0.004 / 1.6 / 2
+	)
+	l := glassLaw{eps: eps, roomK: room, lM: lM}
+	if err := l.setMean(450); err != nil {
+		t.Fatal(err)
+	}
+	want, err := AirPlateUpHWM2K(450, room, lM)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if l.hWM2K != want || l.clamped {
+		t.Errorf("h %g W/(m²·K), want %g (clamped %v)", l.hWM2K, want, l.clamped)
+	}
+	for _, tn := range []float64{296.15, 300, 500, 833.15} {
+		ts, q, g := l.link(tn, halfR, math.NaN())
+		t2, r2 := ts*ts, room*room
+		law := l.hWM2K*(ts-room) + eps*fluid.StefanBoltzmann*(t2*t2-r2*r2)
+		if d := math.Abs(q - law); d > 1e-9*math.Abs(law)+1e-9 {
+			t.Errorf("T %g K: q %.12g W/m², law at T_s %.12g", tn, q, law)
+		}
+		if d := math.Abs((tn-ts)/halfR - q); d > 1e-6*math.Abs(q)+1e-6 {
+			t.Errorf("T %g K: conduction %.12g W/m², surface %.12g", tn, (tn-ts)/halfR, q)
+		}
+		if tn == room {
+			continue
+		}
+		const dT = 1e-3
+		_, qp, _ := l.link(tn+dT, halfR, ts)
+		_, qm, _ := l.link(tn-dT, halfR, ts)
+		if fd := (qp - qm) / (2 * dT); math.Abs(g-fd) > 1e-4*fd {
+			t.Errorf("T %g K: g %.9g, central difference %.9g W/(m²·K)", tn, g, fd)
+		}
+	}
+	if err := l.setMean(3000); err != nil || !l.clamped {
+		t.Fatalf("hot mean: %v, clamped %v", err, l.clamped)
+	}
+	if want, _ := AirPlateUpHWM2K(2*fluid.AirMaxK-room, room, lM); l.hWM2K != want {
+		t.Errorf("clamped h %g, want %g", l.hWM2K, want)
 	}
 }

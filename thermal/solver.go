@@ -16,7 +16,9 @@ package thermal
 // layer of the same cell (W/K). A is symmetric, and positive definite when
 // every connected set of active nodes has some sink. Inactive nodes (no pan
 // or no glass in that cell) keep an identity row, zero right-hand side and
-// zero value, so the grid stays rectangular on every level.
+// zero value, so the grid stays rectangular on every level. The kernels only
+// visit, in each row, the span of columns holding active nodes (setSpans);
+// outside it every vector stays zero.
 
 // level is one grid of the multigrid hierarchy.
 type level struct {
@@ -28,38 +30,139 @@ type level struct {
 	cpl    []float64    // layer coupling, W/K (nil when nl == 1)
 	act    [2][]bool
 	diag   [2][]float64 // full diagonal; 1 on inactive nodes
+	inv    []float64    // smoother: 1/diag (one layer) or 1/det of the cell's 2×2 block (two)
 
 	fx, fy int // agglomeration factors to the next coarser level (1 or 2)
+
+	// lo[l][j], hi[l][j]: the columns [lo, hi) of row j holding the active
+	// nodes of layer l; ulo, uhi: the same for either layer.
+	lo, hi   [2][]int
+	ulo, uhi []int
 
 	x, b, r []float64 // V-cycle work vectors, length nl·n
 }
 
-func newLevel(nx, ny, nl int) *level {
+func newLevel(nx, ny, nl int) *level { return reuseLevel(nil, nx, ny, nl, true) }
+
+// reuseLevel returns a zeroed level of nx × ny cells and nl layers, reusing
+// the storage of old (which may be nil). The V-cycle vectors x and b are
+// only allocated when vcycle is set (the finest level uses the caller's).
+func reuseLevel(old *level, nx, ny, nl int, vcycle bool) *level {
+	if old == nil {
+		old = &level{}
+	}
+	prev := *old
 	n := nx * ny
-	lv := &level{nx: nx, ny: ny, n: n, nl: nl}
+	lv := old
+	*lv = level{nx: nx, ny: ny, n: n, nl: nl}
 	for l := 0; l < nl; l++ {
-		lv.kx[l] = make([]float64, n)
-		lv.ky[l] = make([]float64, n)
-		lv.sink[l] = make([]float64, n)
-		lv.act[l] = make([]bool, n)
-		lv.diag[l] = make([]float64, n)
+		lv.kx[l] = grow(prev.kx[l], n)
+		lv.ky[l] = grow(prev.ky[l], n)
+		lv.sink[l] = grow(prev.sink[l], n)
+		lv.act[l] = growBool(prev.act[l], n)
+		lv.diag[l] = grow(prev.diag[l], n)
+		lv.lo[l], lv.hi[l] = prev.lo[l][:0], prev.hi[l][:0]
 	}
 	if nl == 2 {
-		lv.cpl = make([]float64, n)
+		lv.cpl = grow(prev.cpl, n)
 	}
-	lv.x = make([]float64, nl*n)
-	lv.b = make([]float64, nl*n)
-	lv.r = make([]float64, nl*n)
+	lv.inv = grow(prev.inv, n)
+	lv.ulo, lv.uhi = prev.ulo[:0], prev.uhi[:0]
+	if vcycle {
+		lv.x = grow(prev.x, nl*n)
+		lv.b = grow(prev.b, nl*n)
+	}
+	lv.r = grow(prev.r, nl*n)
 	return lv
 }
 
-// setDiag computes the diagonal from faces, sinks and couplings.
+// grow returns v resized to n and zeroed, reusing its storage when large
+// enough.
+func grow(v []float64, n int) []float64 {
+	if cap(v) < n {
+		return make([]float64, n)
+	}
+	v = v[:n]
+	clear(v)
+	return v
+}
+
+func growBool(v []bool, n int) []bool {
+	if cap(v) < n {
+		return make([]bool, n)
+	}
+	v = v[:n]
+	clear(v)
+	return v
+}
+
+func growInt(v []int, n int) []int {
+	if cap(v) < n {
+		return make([]int, n)
+	}
+	return v[:n]
+}
+
+// setSpans sets the spans of active columns of each row from lv.act, and a
+// unit diagonal outside them.
+func (lv *level) setSpans() {
+	nx, ny := lv.nx, lv.ny
+	lv.ulo, lv.uhi = growInt(lv.ulo, ny), growInt(lv.uhi, ny)
+	for l := 0; l < lv.nl; l++ {
+		lv.lo[l], lv.hi[l] = growInt(lv.lo[l], ny), growInt(lv.hi[l], ny)
+		for j := 0; j < ny; j++ {
+			a := lv.act[l][j*nx : (j+1)*nx]
+			lo, hi := 0, 0
+			for i, v := range a {
+				if v {
+					lo = i
+					break
+				}
+			}
+			for i := nx - 1; i >= lo; i-- {
+				if a[i] {
+					hi = i + 1
+					break
+				}
+			}
+			lv.lo[l][j], lv.hi[l][j] = lo, hi
+		}
+	}
+	for j := 0; j < ny; j++ {
+		lo, hi := lv.lo[0][j], lv.hi[0][j]
+		if lv.nl == 2 {
+			l1, h1 := lv.lo[1][j], lv.hi[1][j]
+			switch {
+			case lo >= hi:
+				lo, hi = l1, h1
+			case l1 < h1:
+				lo, hi = min(lo, l1), max(hi, h1)
+			}
+		}
+		lv.ulo[j], lv.uhi[j] = lo, hi
+		for _, part := range [2][2]int{{0, lo}, {hi, nx}} {
+			for i := part[0]; i < part[1]; i++ {
+				for l := 0; l < lv.nl; l++ {
+					lv.diag[l][j*nx+i] = 1
+				}
+				lv.inv[j*nx+i] = 1
+			}
+		}
+	}
+}
+
+// setDiag computes the diagonal from faces, sinks and couplings, and the
+// smoother's inverses, on the active spans (inactive nodes in a span get a
+// unit diagonal; outside the spans nothing is read).
 func (lv *level) setDiag() {
 	nx, ny := lv.nx, lv.ny
+	if len(lv.ulo) != ny {
+		lv.setSpans()
+	}
 	for l := 0; l < lv.nl; l++ {
 		kx, ky, s, act, d := lv.kx[l], lv.ky[l], lv.sink[l], lv.act[l], lv.diag[l]
 		for j := 0; j < ny; j++ {
-			for i := 0; i < nx; i++ {
+			for i := lv.ulo[j]; i < lv.uhi[j]; i++ {
 				p := j*nx + i
 				if !act[p] {
 					d[p] = 1
@@ -79,9 +182,23 @@ func (lv *level) setDiag() {
 			}
 		}
 	}
+	for j := 0; j < ny; j++ {
+		lo, hi := j*nx+lv.ulo[j], j*nx+lv.uhi[j]
+		if lv.nl == 1 {
+			for p, v := range lv.diag[0][lo:hi] {
+				lv.inv[lo+p] = 1 / v
+			}
+			continue
+		}
+		d0, d1, c := lv.diag[0][lo:hi], lv.diag[1][lo:hi], lv.cpl[lo:hi]
+		for p := range d0 {
+			lv.inv[lo+p] = 1 / (d0[p]*d1[p] - c[p]*c[p])
+		}
+	}
 }
 
-// apply sets dst = A x.
+// apply sets dst = A x on the active spans (dst is left as it is, zero,
+// outside them).
 func (lv *level) apply(dst, x []float64) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
 	for l := 0; l < lv.nl; l++ {
@@ -89,36 +206,71 @@ func (lv *level) apply(dst, x []float64) {
 		xl := x[l*n : (l+1)*n]
 		dl := dst[l*n : (l+1)*n]
 		for j := 0; j < ny; j++ {
+			lo, hi := lv.lo[l][j], lv.hi[l][j]
+			if lo >= hi {
+				continue
+			}
 			row := j * nx
 			if j == 0 || j == ny-1 || nx < 3 {
-				for i := 0; i < nx; i++ {
+				for i := lo; i < hi; i++ {
 					p := row + i
 					dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, i, j, p, 0)
 				}
 				continue
 			}
-			dl[row] = d[row]*xl[row] - nbSum(kx, ky, xl, nx, ny, 0, j, row, 0)
+			i := lo
+			if i == 0 {
+				dl[row] = d[row]*xl[row] - nbSum(kx, ky, xl, nx, ny, 0, j, row, 0)
+				i = 1
+			}
+			end := min(hi, nx-1)
 			xr, xn, xs := xl[row:row+nx], xl[row-nx:row], xl[row+nx:row+2*nx]
 			kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
 			dr, or := d[row:row+nx], dl[row:row+nx]
-			for i := 1; i < nx-1; i++ {
+			for ; i < end; i++ {
 				or[i] = dr[i]*xr[i] - kr[i-1]*xr[i-1] - kr[i]*xr[i+1] - kn[i]*xn[i] - ks[i]*xs[i]
 			}
-			p := row + nx - 1
-			dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
+			if hi == nx {
+				p := row + nx - 1
+				dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
+			}
 		}
 	}
 	if lv.nl == 2 {
 		c := lv.cpl
 		x0, x1 := x[:n], x[n:2*n]
 		d0, d1 := dst[:n], dst[n:2*n]
-		for p, cp := range c {
-			if cp != 0 {
-				d0[p] -= cp * x1[p]
-				d1[p] -= cp * x0[p]
+		// Couplings exist only at cells with both layers.
+		for j := 0; j < ny; j++ {
+			lo, hi := max(lv.lo[0][j], lv.lo[1][j]), min(lv.hi[0][j], lv.hi[1][j])
+			for p := j*nx + lo; p < j*nx+hi; p++ {
+				if cp := c[p]; cp != 0 {
+					d0[p] -= cp * x1[p]
+					d1[p] -= cp * x0[p]
+				}
 			}
 		}
 	}
+}
+
+// localEnergy returns Σ s_i x_i² + Σ c_p (x_0p − x_1p)², the part of x·A x
+// from sinks and layer couplings, a lower bound of x·A x.
+func (lv *level) localEnergy(x []float64) float64 {
+	var e float64
+	for l := 0; l < lv.nl; l++ {
+		xl := x[l*lv.n : (l+1)*lv.n]
+		for p, s := range lv.sink[l] {
+			e += s * xl[p] * xl[p]
+		}
+	}
+	if lv.nl == 2 {
+		x0, x1 := x[:lv.n], x[lv.n:2*lv.n]
+		for p, c := range lv.cpl {
+			d := x0[p] - x1[p]
+			e += c * d * d
+		}
+	}
+	return e
 }
 
 // residual sets r = b − A x.
@@ -167,32 +319,37 @@ func (lv *level) sweep(x, b []float64, first int) {
 // relaxRow updates the cells of one colour in row j.
 func (lv *level) relaxRow(x, b []float64, j, colour int) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
-	i0 := (j + colour) & 1
+	lo, hi := lv.ulo[j], lv.uhi[j]
+	if lo >= hi {
+		return
+	}
+	// First column of the colour in [lo, hi); the last column nx−1 is
+	// relaxed by the edge code when the span reaches it with that colour.
+	first := lo + ((lo ^ (j + colour)) & 1)
+	lastEdge := hi == nx && (nx-1-first)&1 == 0
 	row := j * nx
 	if lv.nl == 1 {
 		kx, ky, d := lv.kx[0], lv.ky[0], lv.diag[0]
 		if j == 0 || j == ny-1 || nx < 3 {
-			for i := i0; i < nx; i += 2 {
+			for i := first; i < hi; i += 2 {
 				p := row + i
 				x[p] = nbSum(kx, ky, x, nx, ny, i, j, p, b[p]) / d[p]
 			}
 			return
 		}
 		// Interior row: the ends by nbSum, the rest without tests.
-		if i0 == 0 {
+		i := first
+		if i == 0 {
 			x[row] = nbSum(kx, ky, x, nx, ny, 0, j, row, b[row]) / d[row]
+			i = 2
 		}
 		xr, xn, xs := x[row:row+nx], x[row-nx:row], x[row+nx:row+2*nx]
 		kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
-		br, dr := b[row:row+nx], d[row:row+nx]
-		i := i0
-		if i == 0 {
-			i = 2
+		br, ir := b[row:row+nx], lv.inv[row:row+nx]
+		for end := min(hi, nx-1); i < end; i += 2 {
+			xr[i] = (br[i] + kr[i-1]*xr[i-1] + kr[i]*xr[i+1] + kn[i]*xn[i] + ks[i]*xs[i]) * ir[i]
 		}
-		for ; i < nx-1; i += 2 {
-			xr[i] = (br[i] + kr[i-1]*xr[i-1] + kr[i]*xr[i+1] + kn[i]*xn[i] + ks[i]*xs[i]) / dr[i]
-		}
-		if (nx-1-i0)&1 == 0 {
+		if lastEdge {
 			p := row + nx - 1
 			x[p] = nbSum(kx, ky, x, nx, ny, nx-1, j, p, b[p]) / d[p]
 		}
@@ -220,33 +377,39 @@ func (lv *level) relaxRow(x, b []float64, j, colour int) {
 		block(p, nbSum(kx0, ky0, x0, nx, ny, i, j, p, b0[p]), nbSum(kx1, ky1, x1, nx, ny, i, j, p, b1[p]))
 	}
 	if j == 0 || j == ny-1 || nx < 3 {
-		for i := i0; i < nx; i += 2 {
+		for i := first; i < hi; i += 2 {
 			edge(i)
 		}
 		return
 	}
-	if i0 == 0 {
+	i := first
+	if i == 0 {
 		edge(0)
+		i = 2
 	}
 	xr0, xn0, xs0 := x0[row:row+nx], x0[row-nx:row], x0[row+nx:row+2*nx]
 	kr0, kn0, ks0 := kx0[row:row+nx], ky0[row-nx:row], ky0[row:row+nx]
 	xr1, xn1, xs1 := x1[row:row+nx], x1[row-nx:row], x1[row+nx:row+2*nx]
 	kr1, kn1, ks1 := kx1[row:row+nx], ky1[row-nx:row], ky1[row:row+nx]
 	br0, br1 := b0[row:row+nx], b1[row:row+nx]
-	dr0, dr1, cr := d0[row:row+nx], d1[row:row+nx], c[row:row+nx]
-	i := i0
-	if i == 0 {
-		i = 2
+	dr0, dr1, cr, ir := d0[row:row+nx], d1[row:row+nx], c[row:row+nx], lv.inv[row:row+nx]
+	// Outside the pan span only the glass node is live (the pan node is an
+	// identity row with zero value and right-hand side, d0 = 1, c = 0).
+	end := min(hi, nx-1)
+	for e := min(end, lv.lo[0][j]); i < e; i += 2 {
+		xr1[i] = (br1[i] + kr1[i-1]*xr1[i-1] + kr1[i]*xr1[i+1] + kn1[i]*xn1[i] + ks1[i]*xs1[i]) * ir[i]
 	}
-	for ; i < nx-1; i += 2 {
+	for e := min(end, lv.hi[0][j]); i < e; i += 2 {
 		r0 := br0[i] + kr0[i-1]*xr0[i-1] + kr0[i]*xr0[i+1] + kn0[i]*xn0[i] + ks0[i]*xs0[i]
 		r1 := br1[i] + kr1[i-1]*xr1[i-1] + kr1[i]*xr1[i+1] + kn1[i]*xn1[i] + ks1[i]*xs1[i]
-		cp := cr[i]
-		det := dr0[i]*dr1[i] - cp*cp
-		xr0[i] = (dr1[i]*r0 + cp*r1) / det
-		xr1[i] = (cp*r0 + dr0[i]*r1) / det
+		cp, id := cr[i], ir[i]
+		xr0[i] = (dr1[i]*r0 + cp*r1) * id
+		xr1[i] = (cp*r0 + dr0[i]*r1) * id
 	}
-	if (nx-1-i0)&1 == 0 {
+	for ; i < end; i += 2 {
+		xr1[i] = (br1[i] + kr1[i-1]*xr1[i-1] + kr1[i]*xr1[i+1] + kn1[i]*xn1[i] + ks1[i]*xs1[i]) * ir[i]
+	}
+	if lastEdge {
 		edge(nx - 1)
 	}
 }

@@ -27,7 +27,7 @@ import (
 // the face normal (the conductance of a cell twice as long), coarse sinks and
 // couplings are sums, and a coarse node is active when any of its children
 // is. Sinks, couplings and diagonals are filled by updateFrom.
-func (lv *level) coarsen() *level {
+func (lv *level) coarsen(old *level) *level {
 	lv.fx, lv.fy = 1, 1
 	if lv.nx > 1 {
 		lv.fx = 2
@@ -37,7 +37,7 @@ func (lv *level) coarsen() *level {
 	}
 	cx := (lv.nx + lv.fx - 1) / lv.fx
 	cy := (lv.ny + lv.fy - 1) / lv.fy
-	c := newLevel(cx, cy, lv.nl)
+	c := reuseLevel(old, cx, cy, lv.nl, true)
 	nx := lv.nx
 	for l := 0; l < lv.nl; l++ {
 		for j := 0; j < lv.ny; j++ {
@@ -61,7 +61,7 @@ func (lv *level) coarsen() *level {
 }
 
 // updateFrom sets the coarse sinks, couplings and diagonal from the fine
-// level f.
+// level f (whose sinks and couplings are zero outside its active spans).
 func (lv *level) updateFrom(f *level) {
 	cx := lv.nx
 	for l := 0; l < lv.nl; l++ {
@@ -70,23 +70,33 @@ func (lv *level) updateFrom(f *level) {
 	if lv.nl == 2 {
 		clear(lv.cpl)
 	}
+	sum := func(dst, src []float64, lo, hi int) {
+		if f.fx == 2 {
+			for i := lo; i < hi; i++ {
+				dst[i>>1] += src[i]
+			}
+			return
+		}
+		for i := lo; i < hi; i++ {
+			dst[i] += src[i]
+		}
+	}
 	for j := 0; j < f.ny; j++ {
-		J := j / f.fy
-		for i := 0; i < f.nx; i++ {
-			p, P := j*f.nx+i, J*cx+i/f.fx
-			for l := 0; l < lv.nl; l++ {
-				lv.sink[l][P] += f.sink[l][p]
-			}
-			if lv.nl == 2 {
-				lv.cpl[P] += f.cpl[p]
-			}
+		crow, row := (j/f.fy)*cx, j*f.nx
+		lo, hi := f.ulo[j], f.uhi[j]
+		for l := 0; l < lv.nl; l++ {
+			sum(lv.sink[l][crow:crow+cx], f.sink[l][row:row+f.nx], lo, hi)
+		}
+		if lv.nl == 2 {
+			sum(lv.cpl[crow:crow+cx], f.cpl[row:row+f.nx], lo, hi)
 		}
 	}
 	lv.setDiag()
 }
 
 // restrict sets the coarse vector dst (level c) to the sums of the fine
-// values of v over each coarse cell (the transpose of prolongAdd).
+// values of v over each coarse cell (the transpose of prolongAdd; v is zero
+// outside the active spans).
 func (lv *level) restrict(c *level, dst, v []float64) {
 	clear(dst)
 	cx := c.nx
@@ -96,12 +106,13 @@ func (lv *level) restrict(c *level, dst, v []float64) {
 		for j := 0; j < lv.ny; j++ {
 			crow := (j / lv.fy) * cx
 			row := j * lv.nx
+			lo, hi := lv.lo[l][j], lv.hi[l][j]
 			if lv.fx == 2 {
-				for i := 0; i < lv.nx; i++ {
+				for i := lo; i < hi; i++ {
 					dl[crow+(i>>1)] += vl[row+i]
 				}
 			} else {
-				for i := 0; i < lv.nx; i++ {
+				for i := lo; i < hi; i++ {
 					dl[crow+i] += vl[row+i]
 				}
 			}
@@ -110,8 +121,9 @@ func (lv *level) restrict(c *level, dst, v []float64) {
 }
 
 // prolongAdd adds to the fine vector x the coarse vector xc (level c),
-// piecewise constant over each coarse cell. Inactive fine nodes may pick up
-// values; the post-smoothing resets them to their zero right-hand side.
+// piecewise constant over each coarse cell, on the active spans of x.
+// Inactive fine nodes in a span may pick up values; the post-smoothing
+// resets them to their zero right-hand side.
 func (lv *level) prolongAdd(c *level, x, xc []float64) {
 	cx := c.nx
 	for l := 0; l < lv.nl; l++ {
@@ -120,12 +132,13 @@ func (lv *level) prolongAdd(c *level, x, xc []float64) {
 		for j := 0; j < lv.ny; j++ {
 			crow := (j / lv.fy) * cx
 			row := j * lv.nx
+			lo, hi := lv.lo[l][j], lv.hi[l][j]
 			if lv.fx == 2 {
-				for i := 0; i < lv.nx; i++ {
+				for i := lo; i < hi; i++ {
 					xl[row+i] += cl[crow+(i>>1)]
 				}
 			} else {
-				for i := 0; i < lv.nx; i++ {
+				for i := lo; i < hi; i++ {
 					xl[row+i] += cl[crow+i]
 				}
 			}
@@ -245,10 +258,20 @@ type multigrid struct {
 
 // newMultigrid builds the hierarchy over the fine level f, whose faces and
 // activity are final. Call update after setting the fine sinks.
-func newMultigrid(f *level) *multigrid {
+func newMultigrid(f *level) *multigrid { return reuseMultigrid(f, nil) }
+
+// reuseMultigrid is newMultigrid reusing the coarse levels of old (which
+// may be nil).
+func reuseMultigrid(f *level, old *multigrid) *multigrid {
 	mg := &multigrid{levels: []*level{f}}
+	f.setSpans()
 	for lv := f; lv.nl*lv.n > mgCoarsestNodes && (lv.nx > 1 || lv.ny > 1); {
-		lv = lv.coarsen()
+		var o *level
+		if k := len(mg.levels); old != nil && k < len(old.levels) {
+			o = old.levels[k]
+		}
+		lv = lv.coarsen(o)
+		lv.setSpans()
 		mg.levels = append(mg.levels, lv)
 	}
 	mg.direct = newDirectSolver(mg.levels[len(mg.levels)-1])

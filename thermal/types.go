@@ -120,6 +120,18 @@ type Problem struct {
 
 	RelTol    float64 // linear solver relative residual tolerance (default 1e-10)
 	OuterTolK float64 // nonlinear convergence, max |ΔT| in K (default 1e-6)
+
+	// Optional warm start, typically a Solution of a neighbouring problem on
+	// the same grid (another water temperature, a similar interface). When
+	// set, InitialTPanK (per cell, K) replaces the built-in first guess of
+	// the pan nodes and InitialTGlassK that of the glass nodes; only the
+	// values at cells carrying such a node are read, and they must be
+	// positive and finite. InitialDutyPct (heater mode, 0 < duty ≤ 100; 0
+	// means 100) is the first duty the limiter starts from. A warm start
+	// changes the path of the iterations, not their converged result.
+	InitialTPanK   []float64
+	InitialTGlassK []float64
+	InitialDutyPct float64
 }
 
 // Mode returns HeaterMode when p.Heater is set, TemperatureMode otherwise.
