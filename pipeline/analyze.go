@@ -23,7 +23,7 @@ const (
 	kelvin        = 273.15
 	gravityMS2    = 9.80665 // standard gravity (CODATA; PHYSICS-REFERENCES 0)
 	restSeed      = 0x9e3779b97f4a7c15
-	heatupSamples = 4
+	heatupSamples = 3
 )
 
 // ScanInput names one analysis.
@@ -215,10 +215,21 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	// Each interface's solves start from its previous solution (the
+	// heat-up samples neighbouring water temperatures in a fixed order, so
+	// this stays deterministic).
+	last := map[thermal.Interface]*thermal.Solution{}
 	solve := func(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
 		p := *prob
 		p.Interface, p.TWaterK = iface, tWaterK
-		return thermal.Solve(&p)
+		if w := last[iface]; w != nil {
+			p.InitialTPanK, p.InitialTGlassK, p.InitialDutyPct = w.TPanK, w.TGlassK, w.DutyPct
+		}
+		s, err := thermal.Solve(&p)
+		if err == nil {
+			last[iface] = s
+		}
+		return s, err
 	}
 	steadyK := job.Water.SteadyC + kelvin
 	solScan, err := solve(scanField, steadyK)

@@ -258,3 +258,42 @@ func TestAnalyzeBadInputs(t *testing.T) {
 		}
 	}
 }
+
+// TestFlatPanOnDomedHobScan: a flat pan on a hob top scan that is domed
+// (crown 0.15 mm over the 300 mm plate) rests on the hob's crown: its
+// support points lie near the centre and the gap grows toward the rim as
+// the dome falls away: at r = 60 mm the dome is 0.15·(60/150)² = 0.024 mm
+// below its crown (the generator's exact form, HobSpec).
+func TestFlatPanOnDomedHobScan(t *testing.T) {
+	if testing.Short() {
+		t.Skip("whole chain")
+	}
+	dir := t.TempDir()
+	pan := writeSynth(t, dir, "pan", synth.Spec{Shape: synth.Flat, DiameterM: 0.12, NoiseM: 2e-6, SpacingM: 1e-3, Seed: 8},
+		synth.Encoding{Format: "ply", Binary: true})
+	hob, err := synth.GenerateHob(synth.HobSpec{Shape: synth.Dome, SagM: 0.15e-3, NoiseM: 2e-6, SpacingM: 2e-3, Seed: 9})
+	if err != nil {
+		t.Fatal(err)
+	}
+	hobPath, _, err := synth.WriteFiles(dir, "hob", hob, synth.Encoding{Format: "xyz"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	job := smallJob()
+	job.Hob.Mode = "temperature"
+	res, err := Analyze(context.Background(), ScanInput{PanPath: pan, Name: "pan", HobPath: hobPath, Job: job})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range res.Report.Pose.ContactPointsMM {
+		if r := math.Hypot(c[0], c[1]); r > 20 {
+			t.Errorf("support point %v is %.1f mm from the centre; the pan should sit on the hob's crown", c, r)
+		}
+	}
+	if g := res.Report.Gap.MaxGapMM; math.Abs(g-0.024) > 0.008 {
+		t.Errorf("largest gap %.4f mm, want about 0.024 mm (the dome's fall at the pan's rim)", g)
+	}
+	if res.Report.Input.Hob == nil || res.Report.Input.Hob.Points == 0 {
+		t.Errorf("the report does not name the hob scan: %+v", res.Report.Input.Hob)
+	}
+}

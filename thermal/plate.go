@@ -1263,10 +1263,10 @@ func (s *plate) heaterOutputs(sol *Solution) error {
 	sol.HeaterW = s.duty * h.PowerW
 	sol.DutyPct = 100 * s.duty
 	if s.duty < 1 {
-		s.warnings = append(s.warnings, fmt.Sprintf("heater cycled: the limiter held the glass at %.1f K, duty %.1f %%", s.limiterK, sol.DutyPct))
+		s.warnings = append(s.warnings, fmt.Sprintf("heater cycled: the limiter held the glass at %.1f °C, duty %.1f %%", s.limiterK-273.15, sol.DutyPct))
 	}
 	if outside > 0 {
-		s.warnings = append(s.warnings, fmt.Sprintf("%d base cells lie beyond the modelled glass (radius %.4g m) and get no heat from the hob", outside, h.GlassRadiusM))
+		s.warnings = append(s.warnings, fmt.Sprintf("%d base cells lie beyond the modelled glass (radius %.1f mm) and get no heat from the hob", outside, h.GlassRadiusM*1e3))
 	}
 	if lost := s.duty * s.qLost; lost > 0 {
 		s.warnings = append(s.warnings, fmt.Sprintf("%.4g W of transmitted heater radiation misses the pan and is not counted", lost))

@@ -104,5 +104,5 @@ func ExampleSolve_heater() {
 	// Output:
 	// duty 34 %, heater 605 W, into the pan 440 W
 	// glass max 560 °C; losses: down 145 W, uncovered glass 20 W
-	// heater cycled: the limiter held the glass at 833.1 K, duty 33.6 %
+	// heater cycled: the limiter held the glass at 560.0 °C, duty 33.6 %
 }
