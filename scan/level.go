@@ -846,6 +846,23 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 			return (sxy - sx*sy/fm) / den, true
 		}
 		trend := profileTrend(prof, pos, valid, 0.6*r0, 0.9*r0)
+		// The limit grows with the scatter of the detrended slopes on the
+		// inner part of the profile (3 robust standard deviations), so that
+		// scanner noise alone does not end the base early.
+		thr := tanMax
+		var inner []float64
+		for k := kStart; k < nb && pos[k] < 0.9*r0; k++ {
+			if sl, okS := slope(k); okS {
+				inner = append(inner, sl-trend[1]-2*trend[2]*pos[k])
+			}
+		}
+		if len(inner) >= 8 {
+			med := medianInPlace(append([]float64(nil), inner...))
+			for i := range inner {
+				inner[i] = math.Abs(inner[i] - med)
+			}
+			thr = max(thr, 3*1.4826*medianInPlace(inner))
+		}
 		edge := -1.0
 		good, prevK := 0, -1
 		prevS := 0.0
@@ -876,11 +893,24 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 				continue
 			}
 			sl -= trend[1] + 2*trend[2]*pos[k]
-			if math.Abs(sl) > tanMax {
+			if math.Abs(sl) > thr {
+				// A corner keeps rising; a noise spike does not: the edge
+				// needs one of the next two measured slopes over the limit
+				// too.
+				confirmed, seen := false, 0
+				for t := k + 1; t < nb && seen < 2; t++ {
+					if st, okT := slope(t); okT {
+						seen++
+						confirmed = confirmed || math.Abs(st-trend[1]-2*trend[2]*pos[t]) > thr
+					}
+				}
+				if !confirmed && seen == 2 {
+					continue
+				}
 				if good >= 3 {
 					// Interpolate where the slope crosses the limit.
 					a, b := math.Abs(prevS), math.Abs(sl)
-					edge = pos[prevK] + (tanMax-a)/(b-a)*(pos[k]-pos[prevK])
+					edge = pos[prevK] + (thr-a)/(b-a)*(pos[k]-pos[prevK])
 				}
 				break
 			}

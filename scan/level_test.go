@@ -571,3 +571,18 @@ func TestLevelSparseFallsBackToOutline(t *testing.T) {
 		t.Errorf("no warning about the outline fallback: %v", l.Warnings)
 	}
 }
+
+// TestLevelNoisyDenseRim: a dense hand-held-scanner-like cloud (60 µm noise,
+// about 0.45 mm spacing) must not end the base early where a noise spike
+// steepens one radial bin; the rim lands within 1 mm.
+func TestLevelNoisyDenseRim(t *testing.T) {
+	sb := &synthBase{R: 0.08, Shape: dish(0.3e-3, 0.08), CornerM: 8e-3, WallM: 10e-3, NoiseM: 60e-6, N: 100000, Seed: 12}
+	c := newScanner(FaceUp, 1, 0, 0, r3.Vec{Z: 0.3}).apply(sb.build())
+	l, err := Level(c, LevelOptions{Face: FaceUp})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := l.RadiusM - sb.R; math.Abs(d) > 1e-3 {
+		t.Errorf("radius %.2f mm, want %.2f ± 1 mm", l.RadiusM*1e3, sb.R*1e3)
+	}
+}
