@@ -4,6 +4,9 @@ import (
 	"bytes"
 	"image/png"
 	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -93,5 +96,41 @@ func TestWriteVTI(t *testing.T) {
 	}
 	if err := WriteVTI(&buf, VTIGrid{Nx: 3, Ny: 1}, []VTIField{{Name: "x", Values: []float64{1}}}); err == nil {
 		t.Error("a short field was accepted")
+	}
+}
+
+// TestVTIReadsInVTK reads a written field file with VTK's own XML image-data
+// reader (an independent general-purpose library), when python3 with the
+// vtk module is installed; it is skipped elsewhere.
+func TestVTIReadsInVTK(t *testing.T) {
+	py, err := exec.LookPath("python3")
+	if err != nil {
+		t.Skip("no python3")
+	}
+	if exec.Command(py, "-c", "import vtk").Run() != nil {
+		t.Skip("python3 has no vtk module")
+	}
+	path := filepath.Join(t.TempDir(), "f.vti")
+	vals := []float64{1, 2, 3, math.NaN(), 5, 6}
+	var buf bytes.Buffer
+	if err := WriteVTI(&buf, VTIGrid{Nx: 3, Ny: 2, X0MM: -1, Y0MM: 2, SpacingMM: 0.5},
+		[]VTIField{{Name: "gap_um", Values: vals}, {Name: "contact", Values: []float64{1, 0, 1, 0, 1, 0}, UInt8: true}}); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	script := `import sys, vtk
+r = vtk.vtkXMLImageDataReader(); r.SetFileName(sys.argv[1]); r.Update()
+img = r.GetOutput(); pd = img.GetPointData()
+g = pd.GetArray("gap_um"); c = pd.GetArray("contact")
+print(img.GetDimensions(), img.GetOrigin(), img.GetSpacing(), [g.GetValue(i) for i in (0, 1, 5)], [c.GetValue(i) for i in range(6)])`
+	out, err := exec.Command(py, "-c", script, path).CombinedOutput()
+	if err != nil {
+		t.Fatalf("vtk could not read the file: %v\n%s", err, out)
+	}
+	want := "(3, 2, 1) (-1.0, 2.0, 0.0) (0.5, 0.5, 1.0) [1.0, 2.0, 6.0] [1, 0, 1, 0, 1, 0]"
+	if got := strings.TrimSpace(string(out)); got != want {
+		t.Errorf("vtk read\n%s\nwant\n%s", got, want)
 	}
 }
