@@ -219,13 +219,14 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	// heat-up samples neighbouring water temperatures in a fixed order, so
 	// this stays deterministic).
 	last := map[thermal.Interface]*thermal.Solution{}
+	var solver thermal.Solver
 	solve := func(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
 		p := *prob
 		p.Interface, p.TWaterK = iface, tWaterK
 		if w := last[iface]; w != nil {
 			p.InitialTPanK, p.InitialTGlassK, p.InitialDutyPct = w.TPanK, w.TGlassK, w.DutyPct
 		}
-		s, err := thermal.Solve(&p)
+		s, err := solver.Solve(&p)
 		if err == nil {
 			last[iface] = s
 		}

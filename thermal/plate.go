@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"sync"
 
 	"gapflux/fluid"
 
@@ -99,19 +98,48 @@ const (
 // The iterations start from p.InitialTPanK, p.InitialTGlassK and
 // p.InitialDutyPct when set (for example the Solution at a neighbouring
 // water temperature), else from a built-in guess; the start changes the
-// path, not the converged result beyond OuterTolK. Solve may be called
-// concurrently; it keeps the large work buffers of finished solves for
-// reuse by later solves on a grid of the same size.
+// path, not the converged result beyond OuterTolK. Solve allocates its work
+// buffers afresh; a Solver keeps them for the next solve on a grid of the
+// same size.
 //
 // Solve returns an error for inconsistent input, for non-finite or negative
 // conductances from Interface or Water, and when the iterations do not
 // converge.
 func Solve(p *Problem) (*Solution, error) {
+	var sv Solver
+	return sv.Solve(p)
+}
+
+// Solver solves plate problems one after another, keeping the large work
+// buffers of its last solve (~100 MB on a fine heater grid) for the next
+// one on a grid of the same size and layer count, so that a scan, its flat
+// twin and the water temperatures of a heat-up do not allocate each time.
+// The zero value is ready to use. A Solver must not be used concurrently.
+type Solver struct {
+	ws  *plate
+	key [3]int // grid Nx, Ny and layer count of ws
+}
+
+// Solve is like the package-level Solve, reusing sv's work buffers; the
+// result does not depend on what they held.
+func (sv *Solver) Solve(p *Problem) (*Solution, error) {
 	if err := validate(p); err != nil {
 		return nil, err
 	}
-	s := acquirePlate(p)
-	defer releasePlate(s)
+	key := [3]int{p.Grid.Nx, p.Grid.Ny, 1}
+	if p.Heater != nil {
+		key[2] = 2
+	}
+	var old *plate
+	if sv.ws != nil && sv.key == key {
+		old = sv.ws
+	}
+	s := reusePlate(p, old)
+	defer func() {
+		// Keep the buffers, drop the references to the caller's data.
+		s.p, s.pan, s.water, s.warnings = nil, nil, waterLaw{}, nil
+		sv.ws, sv.key = s, key
+	}()
 	if err := s.warmStart(); err != nil {
 		return nil, err
 	}
@@ -443,48 +471,6 @@ func reusePlate(p *Problem, old *plate) *plate {
 		s.t1 = grow(prev.t1, 2*n)
 	}
 	return s
-}
-
-// Workspaces of finished solves, by grid size and layer count, so that
-// repeated solves on one grid (a scan and its flat twin, the water
-// temperatures of a heat-up) do not allocate and fault in ~100 MB each.
-var (
-	platePoolsMu sync.Mutex
-	platePools   = map[[3]int]*sync.Pool{}
-)
-
-func platePool(p *Problem) *sync.Pool {
-	nl := 1
-	if p.Heater != nil {
-		nl = 2
-	}
-	key := [3]int{p.Grid.Nx, p.Grid.Ny, nl}
-	platePoolsMu.Lock()
-	defer platePoolsMu.Unlock()
-	pool := platePools[key]
-	if pool == nil {
-		pool = &sync.Pool{}
-		platePools[key] = pool
-	}
-	return pool
-}
-
-// acquirePlate returns the set-up solve of p, in a pooled workspace when
-// one is free.
-func acquirePlate(p *Problem) *plate {
-	var old *plate
-	if v, ok := platePool(p).Get().(*plate); ok {
-		old = v
-	}
-	return reusePlate(p, old)
-}
-
-// releasePlate returns the workspace of s to its pool, dropping the
-// references to the caller's data.
-func releasePlate(s *plate) {
-	pool := platePool(s.p)
-	s.p, s.pan, s.water, s.warnings = nil, nil, waterLaw{}, nil
-	pool.Put(s)
 }
 
 // warmStart replaces the first guess by the Problem's initial fields.

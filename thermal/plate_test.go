@@ -850,7 +850,7 @@ func sameSolution(a, b *Solution) string {
 
 // TestWorkspaceReuse: a solve in storage left by another problem on the same
 // grid (other base mask, interface, limiter state and hob mode) gives the
-// same bits as a solve in fresh storage, and Solve (pooled) agrees too.
+// same bits as a solve in fresh storage, and a Solver reusing its buffers agrees too.
 func TestWorkspaceReuse(t *testing.T) {
 	heaterA := heaterScene(0.004, stubRad{gas: 60, eps1: 0.9, eps2: 0.3}) // limiter engaged
 	heaterB := heaterScene(0.004, stubH{0, 1500, 10})
@@ -878,16 +878,17 @@ func TestWorkspaceReuse(t *testing.T) {
 		if d := sameSolution(got, want); d != "" {
 			t.Errorf("reused storage: %s", d)
 		}
+		var sv Solver
 		for range 2 {
-			if _, err := Solve(pair[0]); err != nil {
+			if _, err := sv.Solve(pair[0]); err != nil {
 				t.Fatal(err)
 			}
-			got, err := Solve(pair[1])
+			got, err := sv.Solve(pair[1])
 			if err != nil {
 				t.Fatal(err)
 			}
 			if d := sameSolution(got, want); d != "" {
-				t.Errorf("Solve after another problem: %s", d)
+				t.Errorf("Solver.Solve after another problem: %s", d)
 			}
 		}
 	}
