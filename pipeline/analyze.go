@@ -23,7 +23,6 @@ const (
 	kelvin        = 273.15
 	gravityMS2    = 9.80665 // standard gravity (CODATA; PHYSICS-REFERENCES 0)
 	restSeed      = 0x9e3779b97f4a7c15
-	heatupSamples = 3
 )
 
 // ScanInput names one analysis.
