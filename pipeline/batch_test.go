@@ -8,6 +8,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"sync"
 	"sync/atomic"
 	"syscall"
 	"testing"
@@ -323,5 +324,37 @@ func TestBatchChildProcess(t *testing.T) {
 	}
 	if res.Summary.Counts["total"] == 0 {
 		t.Fatal("no scans")
+	}
+}
+
+// TestBatchManifestJobAndHob: a manifest row's job file and hob are used
+// for that scan only, and the hob file is not analysed as a scan.
+func TestBatchManifestJobAndHob(t *testing.T) {
+	dir := makeScanDir(t, map[string]string{
+		"a.xyz": "a", "b.xyz": "a", "hobs/top.xyz": "hob",
+		"heavy.toml":   "[water]\nmass_kg = 3.5\n",
+		"manifest.csv": "path,job,hob,water_mass_kg\na.xyz,heavy.toml,hobs/top.xyz,\nb.xyz,,,2.25\n",
+	})
+	seen := map[string]ScanTask{}
+	var mu sync.Mutex
+	fa := &fakeAnalyzer{}
+	analyze := func(ctx context.Context, task ScanTask, sha, jobSHA string) (*Report, error) {
+		mu.Lock()
+		seen[task.Rel] = task
+		mu.Unlock()
+		return fa.analyze(ctx, task, sha, jobSHA)
+	}
+	res, err := RunBatch(context.Background(), BatchOptions{Dir: dir, Out: t.TempDir(), Job: DefaultJob(), Workers: 2, Analyze: analyze})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Total != 2 {
+		t.Fatalf("%d scans, want 2 (the hob is not a scan)", res.Total)
+	}
+	if a := seen["a.xyz"]; a.Job.Water.MassKg != 3.5 || filepath.Base(a.HobPath) != "top.xyz" {
+		t.Errorf("a.xyz: water %.2f kg, hob %q", a.Job.Water.MassKg, a.HobPath)
+	}
+	if b := seen["b.xyz"]; b.Job.Water.MassKg != 2.25 || b.HobPath != "" {
+		t.Errorf("b.xyz: water %.2f kg, hob %q", b.Job.Water.MassKg, b.HobPath)
 	}
 }

@@ -225,8 +225,12 @@ func HumanSummary(res *Result) string {
 	if h := rep.Heat; h != nil {
 		fmt.Fprintf(&b, "  heat (%s mode, water at %.0f °C): %.0f W into the pan against %.0f W for a flat twin: %.1f %% of the heating power lost\n",
 			h.Mode, h.WaterC, h.PowerW, h.FlatPowerW, h.LossPct)
-		fmt.Fprintf(&b, "  heat crossing the interface: gas %.1f %%, radiation %.1f %%, solid contact %.3f %%\n",
-			h.GasPct, h.RadiationPct, h.SolidPct)
+		solid := fmt.Sprintf("%.3f %%", h.SolidPct)
+		if math.Abs(h.SolidPct) < 0.001 {
+			solid = "below 0.001 %"
+		}
+		fmt.Fprintf(&b, "  heat crossing the interface: gas %.1f %%, radiation %.1f %%, solid contact %s\n",
+			h.GasPct, h.RadiationPct, solid)
 		if h.GlassMaxC != nil {
 			fmt.Fprintf(&b, "  glass top up to %.0f °C (flat twin %.0f °C), heater duty %.0f %% (flat twin %.0f %%)\n",
 				*h.GlassMaxC, *h.FlatGlassMaxC, *h.HeaterDutyPct, *h.FlatHeaterDutyPct)

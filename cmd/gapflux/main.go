@@ -11,6 +11,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"runtime/debug"
 	"syscall"
 )
 
@@ -61,14 +62,24 @@ func main() {
 	os.Exit(code)
 }
 
-// run executes one command line and returns the exit code.
-func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+// run executes one command line and returns the exit code. A panic (a bug)
+// is reported as an internal error, not as a Go stack trace.
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int) {
+	defer func() {
+		if p := recover(); p != nil {
+			fmt.Fprintf(stderr, "gapflux: internal error (please report it with the input that caused it): %v\n", p)
+			if os.Getenv("GAPFLUX_TRACE") != "" {
+				fmt.Fprintf(stderr, "%s\n", debug.Stack())
+			}
+			code = exitFail
+		}
+	}()
 	if len(args) == 0 {
 		fmt.Fprint(stderr, helpText)
 		return exitUsage
 	}
 	var err error
-	code := exitOK
+	code = exitOK
 	switch args[0] {
 	case "analyze":
 		code, err = cmdAnalyze(ctx, args[1:], stdout, stderr)
