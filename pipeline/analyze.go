@@ -20,9 +20,9 @@ import (
 )
 
 const (
-	kelvin        = 273.15
-	gravityMS2    = 9.80665 // standard gravity (CODATA; PHYSICS-REFERENCES 0)
-	restSeed      = 0x9e3779b97f4a7c15
+	kelvin     = 273.15
+	gravityMS2 = 9.80665 // standard gravity (CODATA; PHYSICS-REFERENCES 0)
+	restSeed   = 0x9e3779b97f4a7c15
 )
 
 // ScanInput names one analysis.
