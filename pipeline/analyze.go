@@ -244,6 +244,24 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Warnings = append(rep.Warnings, prefixed("scan: ", solScan.Warnings)...)
 	rep.Warnings = append(rep.Warnings, prefixed("flat twin: ", solFlat.Warnings)...)
 	rep.Heat = heatReport(job, solScan, solFlat, baseArea)
+	if heater {
+		glass, err := contact.LookupMaterial(lib, job.Hob.Material)
+		if err != nil {
+			return nil, err
+		}
+		perK := glass.DensityKgM3 * glass.CpJKgK * job.Hob.ThicknessMM / 1e3 * cellA // J/K per glass cell
+		stored := func(s *thermal.Solution) *float64 {
+			e := 0.0
+			for _, t := range s.TGlassK {
+				if !math.IsNaN(t) {
+					e += perK * (t - (job.Hob.RoomC + kelvin))
+				}
+			}
+			e = roundTo(e/1e3, 2)
+			return &e
+		}
+		rep.Heat.GlassHeatKJ, rep.Heat.FlatGlassHeatKJ = stored(solScan), stored(solFlat)
+	}
 	fillGapConductance(rep.Gap, solScan, inBase)
 	hobT := solScan.TGlassK
 	if prob.Temperature != nil {

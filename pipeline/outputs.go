@@ -239,6 +239,10 @@ func HumanSummary(res *Result) string {
 	if h := rep.Heatup; h != nil {
 		fmt.Fprintf(&b, "  heat-up of %.2f kg water %.0f→%.0f °C: %.0f s against %.0f s flat (+%.1f %%), %.1f kJ more energy\n",
 			h.WaterKg, h.FromC, h.ToC, h.TimeS, h.FlatTimeS, h.ExtraTimePct, h.ExtraEnergyKJ)
+		if hh := rep.Heat; hh != nil && hh.GlassHeatKJ != nil {
+			fmt.Fprintf(&b, "  (quasi-steady: the glass itself holds %.0f kJ when hot, %.0f kJ under the flat twin, not charged above)\n",
+				*hh.GlassHeatKJ, *hh.FlatGlassHeatKJ)
+		}
 	}
 	if v := rep.Verdict; v != nil {
 		if v.Pass {
