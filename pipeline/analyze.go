@@ -351,7 +351,7 @@ func readScan(path, name string, job Job) (*scan.Cloud, FileReport, error) {
 		return nil, fr, fmt.Errorf("%s: %w", name, err)
 	}
 	fr = FileReport{Path: name, Format: cloud.Format, SHA256: hex.EncodeToString(h.Sum(nil)),
-		Points: len(cloud.Points), Unit: cloud.Unit, UnitSource: cloud.UnitSource}
+		Points: len(cloud.Points), Triangles: len(cloud.Triangles), Unit: cloud.Unit, UnitSource: cloud.UnitSource}
 	return cloud, fr, nil
 }
 

@@ -31,7 +31,8 @@ type FileReport struct {
 	Path       string `json:"path"`
 	Format     string `json:"format"`
 	SHA256     string `json:"sha256"`
-	Points     int    `json:"points"`
+	Points     int    `json:"points"`    // points or vertices as stored (an STL stores 3 per facet)
+	Triangles  int    `json:"triangles"` // facets of a mesh, 0 for a point cloud
 	Unit       string `json:"unit"`
 	UnitSource string `json:"unit_source"`
 }
