@@ -99,7 +99,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		return nil, err
 	}
 	lev, err := scan.Level(cloud, scan.LevelOptions{
-		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg})
+		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg, Reuse: true})
 	if err != nil {
 		return nil, fmt.Errorf("%s: levelling: %w", in.Name, err)
 	}

@@ -47,6 +47,10 @@ type LevelOptions struct {
 	// DefaultMaxSlopeDeg. The base ends where the surface's radial slope
 	// departs by more from the base's own trend (the corner radius starts).
 	MaxSlopeDeg float64
+	// Reuse lets Level build its output in the storage of the input
+	// cloud's points, normals, triangles and facet normals, which saves a
+	// copy of a large scan; the input cloud must not be used afterwards.
+	Reuse bool
 }
 
 // Levelled is a scan moved to the base frame and cut to the base.
@@ -371,31 +375,49 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 		keep[i] = nKeep
 		nKeep++
 	}
-	lc.Points = make([]r3.Vec, 0, nKeep)
-	if len(c.Normals) != 0 {
-		lc.Normals = make([]r3.Vec, 0, nKeep)
+	// Kept items move to an index no larger than their own, so the output
+	// can be compacted into the input's storage in one forward pass.
+	if opt.Reuse {
+		lc.Points = pts[:0]
+		if len(c.Normals) != 0 {
+			lc.Normals = c.Normals[:0]
+		}
+		lc.Triangles = c.Triangles[:0]
+		if len(c.FacetNormals) != 0 {
+			lc.FacetNormals = c.FacetNormals[:0]
+		}
+	} else {
+		lc.Points = make([]r3.Vec, 0, nKeep)
+		if len(c.Normals) != 0 {
+			lc.Normals = make([]r3.Vec, 0, nKeep)
+		}
 	}
+	normals := c.Normals
 	for i, p := range pts {
 		if keep[i] < 0 {
 			continue
 		}
 		lc.Points = append(lc.Points, bf.rotate(r3.Sub(p, bf.o)))
-		if len(c.Normals) != 0 {
-			lc.Normals = append(lc.Normals, bf.rotate(c.Normals[i]))
+		if len(normals) != 0 {
+			lc.Normals = append(lc.Normals, bf.rotate(normals[i]))
 		}
 	}
+	facetNormals := c.FacetNormals
 	for t, tri := range c.Triangles {
 		a, b, d := keep[tri[0]], keep[tri[1]], keep[tri[2]]
 		if a < 0 || b < 0 || d < 0 {
 			continue
 		}
 		lc.Triangles = append(lc.Triangles, [3]int32{a, b, d})
-		if len(c.FacetNormals) != 0 {
-			lc.FacetNormals = append(lc.FacetNormals, bf.rotate(c.FacetNormals[t]))
+		if len(facetNormals) != 0 {
+			lc.FacetNormals = append(lc.FacetNormals, bf.rotate(facetNormals[t]))
 		}
 	}
 	out.Cloud = lc
 	out.PointsDropped = len(pts) - len(lc.Points)
+	if opt.Reuse {
+		*c = Cloud{} // its storage now belongs to the output
+	}
 	if len(lc.Points) < 3 {
 		return nil, errors.New("scan: level: fewer than 3 points left on the base")
 	}

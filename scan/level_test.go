@@ -586,3 +586,37 @@ func TestLevelNoisyDenseRim(t *testing.T) {
 		t.Errorf("radius %.2f mm, want %.2f ± 1 mm", l.RadiusM*1e3, sb.R*1e3)
 	}
 }
+
+// TestLevelReuse: building the output in the input's storage gives the same
+// result as a fresh copy.
+func TestLevelReuse(t *testing.T) {
+	sb := synthBase{R: 0.05, Shape: dish(0.2e-3, 0.05), CornerM: 4e-3, WallM: 8e-3, Mesh: true, StepM: 1.5e-3, Normals: true, Seed: 13}
+	sc := newScanner(FaceUp, 5, 20, 10, r3.Vec{Z: 0.4})
+	a, err := Level(sc.apply(sb.build()), LevelOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	in := sc.apply(sb.build())
+	b, err := Level(in, LevelOptions{Reuse: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(a.Cloud.Points) != len(b.Cloud.Points) || len(a.Cloud.Triangles) != len(b.Cloud.Triangles) ||
+		len(a.Cloud.FacetNormals) != len(b.Cloud.FacetNormals) {
+		t.Fatalf("sizes differ: %d/%d points, %d/%d triangles", len(a.Cloud.Points), len(b.Cloud.Points),
+			len(a.Cloud.Triangles), len(b.Cloud.Triangles))
+	}
+	for i := range a.Cloud.Points {
+		if a.Cloud.Points[i] != b.Cloud.Points[i] {
+			t.Fatalf("point %d: %v vs %v", i, a.Cloud.Points[i], b.Cloud.Points[i])
+		}
+	}
+	for i := range a.Cloud.Triangles {
+		if a.Cloud.Triangles[i] != b.Cloud.Triangles[i] || a.Cloud.FacetNormals[i] != b.Cloud.FacetNormals[i] {
+			t.Fatalf("triangle %d differs", i)
+		}
+	}
+	if in.Points != nil {
+		t.Error("the reused input still holds its points")
+	}
+}
