@@ -58,7 +58,7 @@ type jobFlags struct {
 func addJobFlags(fs *pflag.FlagSet) *jobFlags {
 	d := pipeline.DefaultJob()
 	j := &jobFlags{fs: fs}
-	fs.StringVar(&j.jobPath, "job", "", "job file (TOML); `gapflux job` prints every key with its default")
+	fs.StringVar(&j.jobPath, "job", "", "job file (TOML); \"gapflux job\" prints every key with its default")
 	fs.StringVar(&j.units, "units", "", "unit of the scan's numbers: mm, m, um or in (default: header hint, else mm)")
 	fs.StringVar(&j.face, "face", "", "which way the base's outer face looks in the scan: up (toward scanner +z) or down (default: detect)")
 	fs.Float64Var(&j.cellMM, "cell-mm", d.Grid.CellMM, "grid cell size, mm")
