@@ -9,6 +9,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+
+	"gapflux/scan"
 )
 
 // MarshalReport encodes a report as indented JSON.
@@ -154,6 +156,24 @@ func (res *Result) vtiFields() []VTIField {
 	fields := []VTIField{
 		{Name: "height_um", Values: scaled(s.ZM, func(v float64) float64 { return v * 1e6 })},
 		{Name: "cell_state", Values: state, UInt8: true},
+	}
+	if r := res.Raw; r != nil && r.CellM == s.CellM {
+		// The raw grid sits inside the (possibly padded) form grid on the
+		// same lattice.
+		i0 := int(math.Round((r.X0M - s.X0M) / s.CellM))
+		j0 := int(math.Round((r.Y0M - s.Y0M) / s.CellM))
+		raw := make([]float64, n)
+		for k := range raw {
+			raw[k] = math.NaN()
+		}
+		for j := 0; j < r.Ny; j++ {
+			for i := 0; i < r.Nx; i++ {
+				if ii, jj := i+i0, j+j0; ii >= 0 && ii < s.Nx && jj >= 0 && jj < s.Ny && r.State[r.Index(i, j)] != scan.Outside {
+					raw[s.Index(ii, jj)] = r.ZM[r.Index(i, j)] * 1e6
+				}
+			}
+		}
+		fields = append(fields, VTIField{Name: "height_raw_um", Values: raw})
 	}
 	if res.GapM != nil {
 		fields = append(fields, VTIField{Name: "gap_um", Values: scaled(res.GapM, func(v float64) float64 { return v * 1e6 })})
