@@ -120,7 +120,13 @@ func waterSide(job Job, diameterM float64) thermal.WaterSide {
 	case "natural":
 		return thermal.NaturalWater{DiameterM: diameterM}
 	case "boiling":
-		return thermal.BoilingWater{Csf: job.Water.RohsenowCsf, N: job.Water.RohsenowN, DiameterM: diameterM}
+		csf, n := job.Water.RohsenowCsf, job.Water.RohsenowN
+		for _, sf := range thermal.RohsenowSurfaces() {
+			if sf.Name == job.Water.RohsenowSurface {
+				csf, n = sf.Csf, sf.N
+			}
+		}
+		return thermal.BoilingWater{Csf: csf, N: n, DiameterM: diameterM}
 	}
 	return thermal.FixedWater{HWM2K: job.Water.HWM2K}
 }

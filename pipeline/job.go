@@ -9,6 +9,8 @@ import (
 	"strings"
 
 	"github.com/pelletier/go-toml/v2"
+
+	"gapflux/thermal"
 )
 
 // Job holds every setting of an analysis. Each key carries its unit in its
@@ -92,16 +94,17 @@ type InterfaceJob struct {
 
 // WaterJob describes the water load and the water side of the base.
 type WaterJob struct {
-	MassKg      float64 `toml:"mass_kg"`
-	FromC       float64 `toml:"from_c"`
-	ToC         float64 `toml:"to_c"`
-	SteadyC     float64 `toml:"steady_c"` // water temperature of the steady heat figures
-	Side        string  `toml:"side"`     // "fixed", "natural" or "boiling"
-	HWM2K       float64 `toml:"h_w_m2k"`  // water-side coefficient when side = "fixed"
-	RohsenowCsf float64 `toml:"rohsenow_csf"`
-	RohsenowN   float64 `toml:"rohsenow_n"`
-	Emissivity  float64 `toml:"emissivity"`
-	Evaporation bool    `toml:"evaporation"`
+	MassKg          float64 `toml:"mass_kg"`
+	FromC           float64 `toml:"from_c"`
+	ToC             float64 `toml:"to_c"`
+	SteadyC         float64 `toml:"steady_c"`         // water temperature of the steady heat figures
+	Side            string  `toml:"side"`             // "fixed", "natural" or "boiling"
+	HWM2K           float64 `toml:"h_w_m2k"`          // water-side coefficient when side = "fixed"
+	RohsenowSurface string  `toml:"rohsenow_surface"` // a named surface sets C_sf and n (thermal.RohsenowSurfaces)
+	RohsenowCsf     float64 `toml:"rohsenow_csf"`
+	RohsenowN       float64 `toml:"rohsenow_n"`
+	Emissivity      float64 `toml:"emissivity"`
+	Evaporation     bool    `toml:"evaporation"`
 }
 
 // ToleranceJob holds the pass/fail limits. The defaults are ours; a lab must
@@ -306,6 +309,13 @@ func (j *Job) Validate() error {
 	}
 	oneOf("water.side", j.Water.Side, "fixed", "natural", "boiling")
 	pos("water.h_w_m2k", j.Water.HWM2K)
+	if j.Water.RohsenowSurface != "" {
+		var names []string
+		for _, sf := range thermal.RohsenowSurfaces() {
+			names = append(names, sf.Name)
+		}
+		oneOf("water.rohsenow_surface", j.Water.RohsenowSurface, names...)
+	}
 	pos("water.rohsenow_csf", j.Water.RohsenowCsf)
 	pos("water.rohsenow_n", j.Water.RohsenowN)
 	frac("water.emissivity", j.Water.Emissivity, 0)

@@ -43,6 +43,9 @@ func TestReadJob(t *testing.T) {
 		{name: "reversed heat-up", in: "[water]\nfrom_c = 90\nto_c = 15\n", wantErr: "from_c < to_c"},
 		{name: "emissivity above 1", in: "[pan]\nemissivity = 1.2\n", wantErr: "pan.emissivity must be in (0, 1]"},
 		{name: "no layers", in: "[pan]\nlayers = []\n", wantErr: "at least one layer"},
+		{name: "named boiling surface", in: "[water]\nside = \"boiling\"\nrohsenow_surface = \"stainless-mech-polished\"\n",
+			check: func(j Job) bool { return j.Water.RohsenowSurface == "stainless-mech-polished" }},
+		{name: "unknown boiling surface", in: "[water]\nrohsenow_surface = \"teflon\"\n", wantErr: "water.rohsenow_surface must be one of copper-scored"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

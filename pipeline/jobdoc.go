@@ -70,7 +70,10 @@ to_c = 90.0            # heat-up end
 steady_c = 60.0        # water temperature of the steady heat figures
 side = "fixed"         # "fixed" (h_w_m2k), "natural" (natural convection) or "boiling" (Rohsenow above 100 C)
 h_w_m2k = 1000.0
-rohsenow_csf = 0.011   # Rohsenow surface-fluid coefficient and exponent (oxidised aluminium)
+rohsenow_surface = ""  # a named surface sets C_sf and n: copper-scored, copper-polished, stainless-etched,
+                       # stainless-mech-polished, stainless-ground-polished, brass, nickel, platinum,
+                       # aluminium-oxidised (Incropera Table 10.1; Cao 2009)
+rohsenow_csf = 0.011   # else these: Rohsenow surface-fluid coefficient and exponent (oxidised aluminium)
 rohsenow_n = 1.26
 emissivity = 0.95      # open water surface
 evaporation = false    # latent heat lost from the open surface (heat-mass analogy; overstates near 90 C)

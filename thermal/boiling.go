@@ -110,3 +110,28 @@ func CriticalFluxWM2(c float64, w fluid.Water, sat SatProps) float64 {
 func CapillaryLengthM(w fluid.Water, sat SatProps) float64 {
 	return math.Sqrt(sat.SurfaceTensionNM / (sat.gravity() * (w.DensityKgM3 - sat.VapourDensityKgM3)))
 }
+
+// RohsenowSurface is a named water–surface pairing for the Rohsenow
+// correlation: its C_sf and Prandtl exponent n.
+type RohsenowSurface struct {
+	Name string
+	Csf  float64
+	N    float64
+}
+
+// RohsenowSurfaces lists the pairings above by name, in a fixed order:
+// Incropera Table 10.1 (after Vachon, Nix & Tanger 1968) with n = 1 for
+// water, and oxidised aluminium after Cao (2009).
+func RohsenowSurfaces() []RohsenowSurface {
+	return []RohsenowSurface{
+		{"copper-scored", CsfCopperScored, RohsenowNWater},
+		{"copper-polished", CsfCopperPolished, RohsenowNWater},
+		{"stainless-etched", CsfStainlessEtched, RohsenowNWater},
+		{"stainless-mech-polished", CsfStainlessMechPolished, RohsenowNWater},
+		{"stainless-ground-polished", CsfStainlessGroundPolished, RohsenowNWater},
+		{"brass", CsfBrass, RohsenowNWater},
+		{"nickel", CsfNickel, RohsenowNWater},
+		{"platinum", CsfPlatinum, RohsenowNWater},
+		{"aluminium-oxidised", CsfAluminiumOxidised, RohsenowNAluminiumOxidised},
+	}
+}

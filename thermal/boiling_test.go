@@ -128,3 +128,30 @@ func BenchmarkRohsenowFluxWM2(b *testing.B) {
 	}
 	_ = x
 }
+
+// TestRohsenowSurfaces: the named pairings carry the table's values
+// (Incropera Table 10.1 after Vachon, Nix & Tanger 1968, PHYSICS-REFERENCES
+// 8.2 [M]; aluminium after Cao 2009, 8.2 [C]) and unique names.
+func TestRohsenowSurfaces(t *testing.T) {
+	want := map[string][2]float64{
+		"copper-polished":         {0.0128, 1},
+		"stainless-mech-polished": {0.0132, 1},
+		"brass":                   {0.0060, 1},
+		"aluminium-oxidised":      {0.011, 1.26},
+	}
+	seen := map[string]bool{}
+	for _, s := range RohsenowSurfaces() {
+		if seen[s.Name] {
+			t.Errorf("%s listed twice", s.Name)
+		}
+		seen[s.Name] = true
+		if w, ok := want[s.Name]; ok && (s.Csf != w[0] || s.N != w[1]) {
+			t.Errorf("%s: C_sf %g n %g, want %g %g", s.Name, s.Csf, s.N, w[0], w[1])
+		}
+	}
+	for n := range want {
+		if !seen[n] {
+			t.Errorf("%s missing", n)
+		}
+	}
+}
