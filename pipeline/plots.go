@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"sort"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/palette"
@@ -160,6 +161,7 @@ func WriteMap(w io.Writer, m *MapSpec, format string) error {
 	cb := plot.New()
 	cb.HideX()
 	cb.Y.Label.Text = unit
+	cb.Y.Tick.Marker = shortTicks{}
 	cb.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true, Colors: 256})
 
 	const plotW, barW = 14 * vg.Centimeter, 3.2 * vg.Centimeter
@@ -298,4 +300,18 @@ func robustRange(values []float64) (lo, hi float64, clipped bool) {
 		hi = lo + math.Max(1e-9, math.Abs(lo)*1e-3)
 	}
 	return lo, hi, clipped
+}
+
+// shortTicks are gonum's default ticks labelled with at most four
+// significant digits and no trailing zeros ("250", not "250.00").
+type shortTicks struct{}
+
+func (shortTicks) Ticks(lo, hi float64) []plot.Tick {
+	ticks := plot.DefaultTicks{}.Ticks(lo, hi)
+	for i := range ticks {
+		if ticks[i].Label != "" {
+			ticks[i].Label = strconv.FormatFloat(ticks[i].Value, 'g', 4, 64)
+		}
+	}
+	return ticks
 }
