@@ -86,13 +86,27 @@ func (r *BatchResult) ExitCode() int {
 	return 0
 }
 
-// JobHash is the hash of the effective settings of one scan: the job and the
-// hob file's content hash.
+// JobHash is the hash of the effective settings of one scan: the job, the
+// hob file's content hash and the content of the profiles the job names.
 func JobHash(job Job, hobSHA string) string {
+	// The profiles a job names count by content, not by path.
+	var files []string
+	for _, p := range job.files() {
+		if *p == "" {
+			continue
+		}
+		sha, err := FileSHA256(*p)
+		if err != nil {
+			sha = "unreadable" // Analyze reports the error itself
+		}
+		files = append(files, sha)
+		*p = filepath.Base(*p)
+	}
 	b, err := json.Marshal(struct {
-		Job Job
-		Hob string
-	}{job, hobSHA})
+		Job   Job
+		Hob   string
+		Files []string
+	}{job, hobSHA, files})
 	if err != nil {
 		panic(err) // Job holds only plain values
 	}

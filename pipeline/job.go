@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"strings"
 
 	"github.com/pelletier/go-toml/v2"
@@ -212,13 +213,30 @@ func ReadJob(r io.Reader, name string) (Job, error) {
 }
 
 // ReadJobFile reads a job file from disk.
+// The profile files a job names (hob.profile, hob.temperature_profile,
+// hob.power_profile) are taken relative to the job file's folder.
 func ReadJobFile(path string) (Job, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return DefaultJob(), &JobError{Name: path, Msg: err.Error()}
 	}
 	defer f.Close()
-	return ReadJob(f, path)
+	job, err := ReadJob(f, path)
+	if err != nil {
+		return job, err
+	}
+	dir := filepath.Dir(path)
+	for _, p := range job.files() {
+		if *p != "" && !filepath.IsAbs(*p) {
+			*p = filepath.Join(dir, *p)
+		}
+	}
+	return job, nil
+}
+
+// files returns pointers to the job's file-name keys.
+func (j *Job) files() []*string {
+	return []*string{&j.Hob.Profile, &j.Hob.TemperatureProfile, &j.Hob.PowerProfile}
 }
 
 // Validate checks every value against its physical range.

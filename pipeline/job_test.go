@@ -2,6 +2,8 @@ package pipeline
 
 import (
 	"errors"
+	"os"
+	"path/filepath"
 	"reflect"
 	"strings"
 	"testing"
@@ -94,5 +96,37 @@ func TestMaterialLibraryOverride(t *testing.T) {
 	}
 	if !got1050 || !got3004 {
 		t.Errorf("override/addition not applied: 1050 %v, 3004 %v", got1050, got3004)
+	}
+}
+
+// TestJobProfilesRelativeAndHashed: profile paths in a job file are taken
+// relative to the job's folder, and the job hash follows their content.
+func TestJobProfilesRelativeAndHashed(t *testing.T) {
+	dir := t.TempDir()
+	prof := filepath.Join(dir, "hot.csv")
+	os.WriteFile(prof, []byte("r_mm,t_c\n0,260\n100,240\n"), 0o644)
+	jobPath := filepath.Join(dir, "job.toml")
+	os.WriteFile(jobPath, []byte("[hob]\nmode = \"temperature\"\ntemperature_profile = \"hot.csv\"\n"), 0o644)
+	j, err := ReadJobFile(jobPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if j.Hob.TemperatureProfile != prof {
+		t.Fatalf("profile path %q, want %q", j.Hob.TemperatureProfile, prof)
+	}
+	p, err := readProfile(j.Hob.TemperatureProfile, "t_c")
+	if err != nil || p.at(0.05) != 250 {
+		t.Fatalf("profile at 50 mm: %v (err %v), want 250", p, err)
+	}
+	h1 := JobHash(j, "")
+	os.WriteFile(prof, []byte("r_mm,t_c\n0,270\n100,240\n"), 0o644)
+	if h2 := JobHash(j, ""); h2 == h1 {
+		t.Error("the job hash did not change with the profile's content")
+	}
+	for _, bad := range []string{"r_mm,z\n0,1\n", "r_mm,t_c\n5,1\n2,1\n", "r_mm,t_c\n", "r_mm,t_c\n1,x\n"} {
+		os.WriteFile(prof, []byte(bad), 0o644)
+		if _, err := readProfile(prof, "t_c"); err == nil || !strings.Contains(err.Error(), "hot.csv") {
+			t.Errorf("profile %q: error %v", bad, err)
+		}
 	}
 }
