@@ -95,6 +95,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		fileRep.SHA256 = in.InputSHA
 	}
 	rep.Input.Pan = fileRep
+	rep.Warnings = append(rep.Warnings, cloud.Warnings...)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

@@ -238,6 +238,10 @@ func readText(r io.Reader, opt ReadOptions) (*Cloud, string, error) {
 	if x.Delimiter == ',' || x.Delimiter == ';' {
 		c.Format = "csv"
 	}
+	if x.CommaAmbiguous {
+		c.Warnings = append(c.Warnings, fmt.Sprintf("%s: each line holds six comma-separated integers: read as columns x, y, z (and three ignored), "+
+			"but it could be x, y, z written with decimal commas; use ';' or a header row to make it clear", opt.Name))
+	}
 	return c, x.UnitHint, nil
 }
 

@@ -358,3 +358,28 @@ func ExampleRead() {
 	// csv mm header 2
 	// 0.1205 m
 }
+
+// TestReadCommaAmbiguity: six comma-separated integers per line read as
+// columns, with a warning that decimal commas would read them otherwise
+// (TRADE-FACTS 4, plain text: warn when both could apply).
+func TestReadCommaAmbiguity(t *testing.T) {
+	tests := []struct {
+		in   string
+		warn bool
+	}{
+		{"1,5,2,5,3,0\n2,5,3,5,4,0\n", true},
+		{"1.5,2.5,3.0\n", false},
+		{"1,2,3\n", false},
+		{"1;5;2;5;3;0\n", false},
+		{"x,y,z,a,b,c\n1,5,2,5,3,0\n", false},
+	}
+	for _, tc := range tests {
+		c, err := Read(strings.NewReader(tc.in), ReadOptions{Name: "a.csv"})
+		if err != nil {
+			t.Fatalf("%q: %v", tc.in, err)
+		}
+		if got := len(c.Warnings) > 0; got != tc.warn {
+			t.Errorf("%q: warnings %v, want a warning %v", tc.in, c.Warnings, tc.warn)
+		}
+	}
+}

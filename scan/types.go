@@ -29,6 +29,9 @@ type Cloud struct {
 	Unit string
 	// UnitSource says where Unit came from: "option", "header" or "default".
 	UnitSource string
+	// Warnings are the readers' doubts about the file that did not stop
+	// them (e.g. a comma that may be a decimal separator).
+	Warnings []string
 }
 
 // CellState says what a grid cell holds.

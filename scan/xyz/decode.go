@@ -69,6 +69,7 @@ func Decode(r io.Reader, opt Options) (*Cloud, error) {
 				switch {
 				case n >= 3:
 					d.setColumns(delim, comma, [6]int{0, 1, 2, -1, -1, -1})
+					d.c.CommaAmbiguous = delim == ',' && len(f) == 12 && !bytes.ContainsAny(line, ".eE")
 				case n == 1 && len(f) == 2 && !sawCount && isCount(line[f[0]:f[1]]):
 					sawCount = true // a PTS-style point count: not trusted, skipped
 					continue

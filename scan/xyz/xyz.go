@@ -31,6 +31,12 @@ type Cloud struct {
 	Delimiter rune
 	// HasHeader reports whether the file has a header row.
 	HasHeader bool
+	// CommaAmbiguous reports a header-less, comma-separated file whose
+	// first line holds six integers and no decimal point: read as six
+	// columns (x, y, z and three ignored), it could also be three numbers
+	// written with decimal commas ("1,5,2,5,3,0"). The columns reading was
+	// taken; the caller should warn.
+	CommaAmbiguous bool
 }
 
 // Options controls Decode.
