@@ -13,9 +13,6 @@ import (
 
 	"gapflux/contact"
 	"gapflux/scan"
-	"gapflux/scan/ply"
-	"gapflux/scan/stl"
-	"gapflux/scan/xyz"
 	"gapflux/thermal"
 )
 
@@ -367,7 +364,7 @@ func readScan(path, name string, job Job) (*scan.Cloud, FileReport, error) {
 	}
 	cloud, err := scan.Read(io.TeeReader(f, h), scan.ReadOptions{Name: name, SizeBytes: size,
 		Unit: job.Grid.Units, MaxPoints: job.Limits.MaxPoints})
-	if errors.Is(err, stl.ErrTooManyPoints) || errors.Is(err, ply.ErrTooManyPoints) || errors.Is(err, xyz.ErrTooManyPoints) {
+	if errors.Is(err, scan.ErrTooManyPoints) {
 		return nil, fr, fmt.Errorf("%w (the limit is limits.max_points = %d, or --max-points)", err, job.Limits.MaxPoints)
 	}
 	if err != nil {

@@ -6,6 +6,7 @@ import (
 	"compress/gzip"
 	"errors"
 	"fmt"
+	"gapflux/internal/scanerr"
 	"io"
 	"math"
 	"os"
@@ -15,6 +16,15 @@ import (
 	"gapflux/scan/stl"
 	"gapflux/scan/xyz"
 	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// Errors every reader wraps in its *ParseError, for errors.Is.
+var (
+	// ErrTooManyPoints means the scan holds more points than
+	// ReadOptions.MaxPoints allows.
+	ErrTooManyPoints = scanerr.ErrTooManyPoints
+	// ErrNotFinite means a coordinate is NaN or infinite.
+	ErrNotFinite = scanerr.ErrNotFinite
 )
 
 // ReadOptions controls Read and ReadFile.

@@ -11,6 +11,7 @@ package ply
 
 import (
 	"errors"
+	"gapflux/internal/scanerr"
 	"strconv"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -71,11 +72,11 @@ const DefaultMaxPoints = 50_000_000
 
 // Errors wrapped in a *ParseError.
 var (
-	// ErrTooManyPoints means the file holds more vertices (or triangles)
-	// than Options.MaxPoints allows.
-	ErrTooManyPoints = errors.New("too many points")
+	// ErrTooManyPoints means the file holds more points than
+	// Options.MaxPoints allows (shared by the scan readers).
+	ErrTooManyPoints = scanerr.ErrTooManyPoints
 	// ErrNotFinite means a coordinate is NaN or infinite.
-	ErrNotFinite = errors.New("coordinate is not finite")
+	ErrNotFinite = scanerr.ErrNotFinite
 	// ErrIndexRange means a face refers to a vertex that does not exist.
 	ErrIndexRange = errors.New("face vertex index out of range")
 )
@@ -91,31 +92,7 @@ type UnsupportedError string
 
 func (e UnsupportedError) Error() string { return "ply: unsupported feature: " + string(e) }
 
-// ParseError locates a decoding error in the input. Errors in the data
-// section name the element and the record index in Err's message.
-type ParseError struct {
-	Name   string // Options.Name
-	Line   int    // 1-based line (header and ASCII data); 0 for binary data
-	Column int    // 1-based byte column within Line; 0 if not known
-	Offset int64  // byte offset from the start of the input; -1 if not known
-	Err    error
-}
-
-func (e *ParseError) Error() string {
-	s := e.Name
-	if s == "" {
-		s = "ply"
-	}
-	switch {
-	case e.Line > 0:
-		s += ": line " + strconv.Itoa(e.Line)
-		if e.Column > 0 {
-			s += ", column " + strconv.Itoa(e.Column)
-		}
-	case e.Offset >= 0:
-		s += ": byte " + strconv.FormatInt(e.Offset, 10)
-	}
-	return s + ": " + e.Err.Error()
-}
-
-func (e *ParseError) Unwrap() error { return e.Err }
+// ParseError locates a decoding error in the input: the name, the line
+// (text) or byte offset (binary), and the error. It is shared by the scan
+// readers.
+type ParseError = scanerr.ParseError

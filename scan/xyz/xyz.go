@@ -12,7 +12,7 @@ package xyz
 
 import (
 	"errors"
-	"strconv"
+	"gapflux/internal/scanerr"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -56,10 +56,10 @@ const DefaultMaxPoints = 50_000_000
 // Errors wrapped in a *ParseError.
 var (
 	// ErrTooManyPoints means the file holds more points than
-	// Options.MaxPoints allows.
-	ErrTooManyPoints = errors.New("too many points")
+	// Options.MaxPoints allows (shared by the scan readers).
+	ErrTooManyPoints = scanerr.ErrTooManyPoints
 	// ErrNotFinite means a coordinate is NaN or infinite.
-	ErrNotFinite = errors.New("coordinate is not finite")
+	ErrNotFinite = scanerr.ErrNotFinite
 	// ErrFieldCount means a line has fewer columns than the x, y, z (and
 	// normal) columns need.
 	ErrFieldCount = errors.New("too few columns")
@@ -74,30 +74,7 @@ var (
 // MaxLineBytes is the longest line Decode accepts.
 const MaxLineBytes = 1 << 20
 
-// ParseError locates a decoding error in the input.
-type ParseError struct {
-	Name   string // Options.Name
-	Line   int    // 1-based line
-	Column int    // 1-based byte column within Line; 0 if not known
-	Offset int64  // byte offset of the error from the start of the input; -1 if not known
-	Err    error
-}
-
-func (e *ParseError) Error() string {
-	s := e.Name
-	if s == "" {
-		s = "xyz"
-	}
-	switch {
-	case e.Line > 0:
-		s += ": line " + strconv.Itoa(e.Line)
-		if e.Column > 0 {
-			s += ", column " + strconv.Itoa(e.Column)
-		}
-	case e.Offset >= 0:
-		s += ": byte " + strconv.FormatInt(e.Offset, 10)
-	}
-	return s + ": " + e.Err.Error()
-}
-
-func (e *ParseError) Unwrap() error { return e.Err }
+// ParseError locates a decoding error in the input: the name, the line
+// (text) or byte offset (binary), and the error. It is shared by the scan
+// readers.
+type ParseError = scanerr.ParseError
