@@ -83,43 +83,33 @@ func (j *jobFlags) job() (pipeline.Job, error) {
 			return job, usageError{err}
 		}
 	}
-	set := func(name string) bool { return j.fs.Changed(name) }
-	if set("units") {
-		job.Grid.Units = j.units
+	// Each flag given on the command line overrides its job key.
+	overrides := []struct {
+		flag  string
+		apply func()
+	}{
+		{"units", func() { job.Grid.Units = j.units }},
+		{"face", func() { job.Grid.Face = j.face }},
+		{"cell-mm", func() { job.Grid.CellMM = j.cellMM }},
+		{"cutoff-mm", func() { job.Grid.CutoffMM = j.cutoffMM }},
+		{"ring-mm", func() { job.Grid.RingMM = j.ringMM }},
+		{"rock-mm", func() { job.Grid.RockMM = j.rockMM }},
+		{"diameter-mm", func() { job.Grid.DiameterMM = j.diameterMM }},
+		{"mode", func() { job.Hob.Mode = j.mode }},
+		{"water-c", func() { job.Water.SteadyC = j.waterC }},
+		{"max-points", func() { job.Limits.MaxPoints = j.maxPoints }},
 	}
-	if set("face") {
-		job.Grid.Face = j.face
+	for _, o := range overrides {
+		if j.fs.Changed(o.flag) {
+			o.apply()
+		}
 	}
-	if set("cell-mm") {
-		job.Grid.CellMM = j.cellMM
-	}
-	if set("cutoff-mm") {
-		job.Grid.CutoffMM = j.cutoffMM
-	}
-	if set("ring-mm") {
-		job.Grid.RingMM = j.ringMM
-	}
-	if set("rock-mm") {
-		job.Grid.RockMM = j.rockMM
-	}
-	if set("diameter-mm") {
-		job.Grid.DiameterMM = j.diameterMM
-	}
-	if set("offset-mm") {
+	if j.fs.Changed("offset-mm") {
 		xy, err := parseFloats(j.offsetMM, 2)
 		if err != nil {
 			return job, usagef("--offset-mm: %v", err)
 		}
 		job.Pan.OffsetMM = [2]float64{xy[0], xy[1]}
-	}
-	if set("mode") {
-		job.Hob.Mode = j.mode
-	}
-	if set("water-c") {
-		job.Water.SteadyC = j.waterC
-	}
-	if set("max-points") {
-		job.Limits.MaxPoints = j.maxPoints
 	}
 	if err := job.Validate(); err != nil {
 		return job, usageError{err}

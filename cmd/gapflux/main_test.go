@@ -144,3 +144,25 @@ func TestBatchCommand(t *testing.T) {
 		t.Errorf("run log does not show the skipped re-run:\n%s", b)
 	}
 }
+
+// TestFlagsOverrideJob: only the flags given change the job; the rest keep
+// the job file's (here the default) values.
+func TestFlagsOverrideJob(t *testing.T) {
+	fs := newFlags("analyze", "", &bytes.Buffer{})
+	jf := addJobFlags(fs)
+	if err := parse(fs, []string{"--cell-mm", "1.5", "--mode", "temperature", "--offset-mm", "3,-4", "--units", "in", "--water-c", "45"}); err != nil {
+		t.Fatal(err)
+	}
+	job, err := jf.job()
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := pipeline.DefaultJob()
+	if job.Grid.CellMM != 1.5 || job.Hob.Mode != "temperature" || job.Pan.OffsetMM != [2]float64{3, -4} ||
+		job.Grid.Units != "in" || job.Water.SteadyC != 45 {
+		t.Errorf("flags not applied: %+v %+v %+v", job.Grid, job.Hob.Mode, job.Pan.OffsetMM)
+	}
+	if job.Grid.CutoffMM != d.Grid.CutoffMM || job.Grid.RockMM != d.Grid.RockMM || job.Limits.MaxPoints != d.Limits.MaxPoints {
+		t.Errorf("unset flags changed the job: %+v", job.Grid)
+	}
+}
