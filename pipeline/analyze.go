@@ -30,8 +30,6 @@ type ScanInput struct {
 	Job     Job
 	// InputSHA and JobSHA are the hashes to record; empty means compute.
 	InputSHA, JobSHA string
-	// Stage stops the chain early: "geometry", "pose" or "" (everything).
-	Stage string
 }
 
 // Result holds a scan's report and the per-cell fields its maps and field
@@ -84,12 +82,9 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
 
 	// Read and level the pan scan.
-	cloud, fileRep, err := readScan(in.PanPath, in.Name, job)
+	cloud, fileRep, err := readScan(in.PanPath, in.Name, job, in.InputSHA)
 	if err != nil {
 		return nil, err
-	}
-	if in.InputSHA != "" {
-		fileRep.SHA256 = in.InputSHA
 	}
 	rep.Input.Pan = fileRep
 	rep.Warnings = append(rep.Warnings, cloud.Warnings...)
@@ -131,10 +126,6 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		jobSHA = JobHash(job, hobSHA)
 	}
 	rep.Input.JobSHA256 = jobSHA
-	if in.Stage == "geometry" {
-		res.Form = filt.Form
-		return res, nil
-	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -187,9 +178,6 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
 	if noise := rep.Geometry.NoiseUM / 1e3; rep.Gap.MeanGapMM > 0 && noise > rep.Gap.MeanGapMM/5 {
 		warn("the scanner noise removed by the form filter (%.1f µm RMS) is more than a fifth of the mean gap (%.1f µm): the gap map is near the noise floor", rep.Geometry.NoiseUM, rep.Gap.MeanGapMM*1e3)
-	}
-	if in.Stage == "pose" {
-		return res, nil
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
@@ -343,7 +331,8 @@ func prefixed(p string, ws []string) []string {
 }
 
 // readScan opens, hashes and decodes a scan, bounded by the job's limits.
-func readScan(path, name string, job Job) (*scan.Cloud, FileReport, error) {
+// A known SHA-256 (a batch hashed the file already) is taken as it is.
+func readScan(path, name string, job Job, knownSHA string) (*scan.Cloud, FileReport, error) {
 	var fr FileReport
 	f, err := os.Open(path)
 	if err != nil {
@@ -358,11 +347,15 @@ func readScan(path, name string, job Job) (*scan.Cloud, FileReport, error) {
 		return nil, fr, fmt.Errorf("%s: file is %.0f MB, above limits.max_file_mb = %.0f", name, mb, job.Limits.MaxFileMB)
 	}
 	h := sha256.New()
+	var r io.Reader = f
+	if knownSHA == "" {
+		r = io.TeeReader(f, h)
+	}
 	size := st.Size()
 	if strings.HasSuffix(strings.ToLower(path), ".gz") {
 		size = -1
 	}
-	cloud, err := scan.Read(io.TeeReader(f, h), scan.ReadOptions{Name: name, SizeBytes: size,
+	cloud, err := scan.Read(r, scan.ReadOptions{Name: name, SizeBytes: size,
 		Unit: job.Grid.Units, MaxPoints: job.Limits.MaxPoints})
 	if errors.Is(err, scan.ErrTooManyPoints) {
 		return nil, fr, fmt.Errorf("%w (the limit is limits.max_points = %d, or --max-points)", err, job.Limits.MaxPoints)
@@ -370,10 +363,14 @@ func readScan(path, name string, job Job) (*scan.Cloud, FileReport, error) {
 	if err != nil {
 		return nil, fr, err
 	}
-	if _, err := io.Copy(h, f); err != nil {
-		return nil, fr, fmt.Errorf("%s: %w", name, err)
+	sha := knownSHA
+	if sha == "" {
+		if _, err := io.Copy(h, f); err != nil {
+			return nil, fr, fmt.Errorf("%s: %w", name, err)
+		}
+		sha = hex.EncodeToString(h.Sum(nil))
 	}
-	fr = FileReport{Path: name, Format: cloud.Format, SHA256: hex.EncodeToString(h.Sum(nil)),
+	fr = FileReport{Path: name, Format: cloud.Format, SHA256: sha,
 		Points: len(cloud.Points), Triangles: len(cloud.Triangles), Unit: cloud.Unit, UnitSource: cloud.UnitSource}
 	return cloud, fr, nil
 }

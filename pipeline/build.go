@@ -299,7 +299,7 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 	}
 	hj := job
 	hj.Grid.Face, hj.Grid.DiameterMM = "", 0
-	cloud, fr, err := readScan(path, filepath.Base(path), hj)
+	cloud, fr, err := readScan(path, filepath.Base(path), hj, "")
 	if err != nil {
 		return nil, nil, fmt.Errorf("hob: %w", err)
 	}
