@@ -303,14 +303,9 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 	if err != nil {
 		return nil, nil, fmt.Errorf("hob: %w", err)
 	}
-	lev, err := scan.Level(cloud, scan.LevelOptions{Face: "up"})
+	lev, err := scan.Level(cloud, scan.LevelOptions{Face: "up", HobTop: true, Reuse: true})
 	if err != nil {
 		return nil, nil, fmt.Errorf("hob %s: levelling: %w", fr.Path, err)
-	}
-	// The hob frame has its top face up: flip the base frame about x.
-	for i := range lev.Cloud.Points {
-		lev.Cloud.Points[i].Y = -lev.Cloud.Points[i].Y
-		lev.Cloud.Points[i].Z = -lev.Cloud.Points[i].Z
 	}
 	g, err := scan.Grid(lev, scan.GridOptions{CellM: like.CellM, OutlierK: job.Grid.OutlierK})
 	if err != nil {

@@ -47,6 +47,12 @@ type LevelOptions struct {
 	// DefaultMaxSlopeDeg. The base ends where the surface's radial slope
 	// departs by more from the base's own trend (the corner radius starts).
 	MaxSlopeDeg float64
+	// HobTop says the scan is of a hob's top rather than a pan's base: the
+	// output frame's +z then points out of the measured face, toward where
+	// a pan would sit (the hob frame of the README), instead of away from
+	// it. Face keeps its meaning: which way the measured face looks in the
+	// scanner frame.
+	HobTop bool
 	// Reuse lets Level build its output in the storage of the input
 	// cloud's points, normals, triangles and facet normals, which saves a
 	// copy of a large scan; the input cloud must not be used afterwards.
@@ -351,6 +357,9 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 		out.Warnings = append(out.Warnings, nDetail)
 	}
 	ez := r3.Scale(zSign, up)
+	if opt.HobTop {
+		ez = r3.Scale(-1, ez)
+	}
 	bf := newFrame(f.o, ez)
 	out.Rotation = [3][3]float64{
 		{bf.e[0].X, bf.e[0].Y, bf.e[0].Z},

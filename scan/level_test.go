@@ -620,3 +620,27 @@ func TestLevelReuse(t *testing.T) {
 		t.Error("the reused input still holds its points")
 	}
 }
+
+// TestLevelHobTop: a hob top's frame is the base frame turned over about x
+// (+z out of the measured face): y and z change sign, x stays.
+func TestLevelHobTop(t *testing.T) {
+	sb := synthBase{R: 0.05, Shape: dish(0.1e-3, 0.05), N: 20000, Seed: 14}
+	sc := newScanner(FaceUp, 3, 0, 20, r3.Vec{Z: 0.3})
+	a, err := Level(sc.apply(sb.build()), LevelOptions{Face: FaceUp})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := Level(sc.apply(sb.build()), LevelOptions{Face: FaceUp, HobTop: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(a.Cloud.Points) != len(b.Cloud.Points) {
+		t.Fatalf("%d vs %d points", len(a.Cloud.Points), len(b.Cloud.Points))
+	}
+	for i, p := range a.Cloud.Points {
+		q := b.Cloud.Points[i]
+		if math.Abs(p.X-q.X) > 1e-12 || math.Abs(p.Y+q.Y) > 1e-12 || math.Abs(p.Z+q.Z) > 1e-12 {
+			t.Fatalf("point %d: %v vs %v", i, p, q)
+		}
+	}
+}
