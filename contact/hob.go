@@ -107,6 +107,20 @@ func interpProfile(rM, zM []float64, r float64) float64 {
 // returns the profile in metres. Radii must be finite, non-negative and
 // strictly increasing. Errors name the input (name) and the line.
 func ReadRadialProfile(r io.Reader, name string) (rM, zM []float64, err error) {
+	rM, zMM, err := ReadProfile(r, name, "z_mm")
+	for i := range zMM {
+		zMM[i] *= 1e-3
+	}
+	return rM, zMM, err
+}
+
+// ReadProfile reads a two-column radial profile: CSV with the header
+// "r_mm,<col>" (case and surrounding spaces ignored), then one r, value
+// pair per line; blank lines and lines starting with '#' are skipped. It
+// returns the radii in metres and the values as written. Radii must be
+// finite, non-negative and strictly increasing. Errors name the input
+// (name) and the line.
+func ReadProfile(r io.Reader, name, col string) (rM, v []float64, err error) {
 	cr := csv.NewReader(r)
 	cr.Comment = '#'
 	cr.FieldsPerRecord = -1
@@ -127,39 +141,39 @@ func ReadRadialProfile(r io.Reader, name string) (rM, zM []float64, err error) {
 		}
 		line, _ := cr.FieldPos(0)
 		if len(rec) != 2 {
-			return nil, nil, fmt.Errorf("%s:%d: %d fields, want 2 (r_mm, z_mm)", name, line, len(rec))
+			return nil, nil, fmt.Errorf("%s:%d: %d fields, want 2 (r_mm, %s)", name, line, len(rec), col)
 		}
 		if header {
 			header = false
-			if !strings.EqualFold(strings.TrimSpace(rec[0]), "r_mm") || !strings.EqualFold(strings.TrimSpace(rec[1]), "z_mm") {
-				return nil, nil, fmt.Errorf("%s:%d: header %q, want \"r_mm,z_mm\"", name, line, strings.Join(rec, ","))
+			if !strings.EqualFold(strings.TrimSpace(rec[0]), "r_mm") || !strings.EqualFold(strings.TrimSpace(rec[1]), col) {
+				return nil, nil, fmt.Errorf("%s:%d: header %q, want \"r_mm,%s\"", name, line, strings.Join(rec, ","), col)
 			}
 			continue
 		}
-		var v [2]float64
+		var x [2]float64
 		for f := range rec {
-			v[f], err = strconv.ParseFloat(strings.TrimSpace(rec[f]), 64)
-			if err != nil || !finite64(v[f]) {
-				col := [2]string{"r_mm", "z_mm"}[f]
-				return nil, nil, fmt.Errorf("%s:%d: %s %q is not a finite number", name, line, col, rec[f])
+			x[f], err = strconv.ParseFloat(strings.TrimSpace(rec[f]), 64)
+			if err != nil || !finite64(x[f]) {
+				c := [2]string{"r_mm", col}[f]
+				return nil, nil, fmt.Errorf("%s:%d: %s %q is not a finite number", name, line, c, rec[f])
 			}
 		}
-		if v[0] < 0 {
-			return nil, nil, fmt.Errorf("%s:%d: negative radius %g mm", name, line, v[0])
+		if x[0] < 0 {
+			return nil, nil, fmt.Errorf("%s:%d: negative radius %g mm", name, line, x[0])
 		}
-		if n := len(rM); n > 0 && v[0]*1e-3 <= rM[n-1] {
-			return nil, nil, fmt.Errorf("%s:%d: radius %g mm does not increase (previous %g mm)", name, line, v[0], rM[n-1]*1e3)
+		if n := len(rM); n > 0 && x[0]*1e-3 <= rM[n-1] {
+			return nil, nil, fmt.Errorf("%s:%d: radius %g mm does not increase (previous %g mm)", name, line, x[0], rM[n-1]*1e3)
 		}
-		rM = append(rM, v[0]*1e-3)
-		zM = append(zM, v[1]*1e-3)
+		rM = append(rM, x[0]*1e-3)
+		v = append(v, x[1])
 	}
 	if header {
-		return nil, nil, fmt.Errorf("%s: empty profile: no \"r_mm,z_mm\" header", name)
+		return nil, nil, fmt.Errorf("%s: empty profile: no \"r_mm,%s\" header", name, col)
 	}
 	if len(rM) == 0 {
 		return nil, nil, fmt.Errorf("%s: profile has a header but no points", name)
 	}
-	return rM, zM, nil
+	return rM, v, nil
 }
 
 // ResampleHob resamples a hob height field (a scan of the hob in its own

@@ -2,14 +2,11 @@ package pipeline
 
 import (
 	"context"
-	"encoding/csv"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 
 	"gapflux/contact"
@@ -219,9 +216,8 @@ func (p *radialProfile) at(rM float64) float64 {
 	return p.v[i-1] + t*(p.v[i]-p.v[i-1])
 }
 
-// readProfile reads a two-column radial profile CSV with the header
-// "r_mm,<col>", r in mm and strictly increasing; '#' lines are comments. An
-// empty path returns nil.
+// readProfile reads a radial profile CSV "r_mm,<col>" (contact.ReadProfile).
+// An empty path returns nil.
 func readProfile(path, col string) (*radialProfile, error) {
 	if path == "" {
 		return nil, nil
@@ -231,40 +227,11 @@ func readProfile(path, col string) (*radialProfile, error) {
 		return nil, fmt.Errorf("job: %w", err)
 	}
 	defer f.Close()
-	cr := csv.NewReader(f)
-	cr.Comment = '#'
-	cr.TrimLeadingSpace = true
-	cr.FieldsPerRecord = 2
-	p := &radialProfile{}
-	for line := 0; ; line++ {
-		rec, err := cr.Read()
-		if errors.Is(err, io.EOF) {
-			break
-		}
-		if err != nil {
-			return nil, fmt.Errorf("%s: %w", path, err)
-		}
-		ln, _ := cr.FieldPos(0)
-		if line == 0 {
-			if !strings.EqualFold(rec[0], "r_mm") || !strings.EqualFold(rec[1], col) {
-				return nil, fmt.Errorf("%s:%d: header %q, want \"r_mm,%s\"", path, ln, strings.Join(rec, ","), col)
-			}
-			continue
-		}
-		r, err1 := strconv.ParseFloat(rec[0], 64)
-		v, err2 := strconv.ParseFloat(rec[1], 64)
-		if err1 != nil || err2 != nil || math.IsNaN(r+v) || math.IsInf(r+v, 0) || r < 0 {
-			return nil, fmt.Errorf("%s:%d: %q is not a pair of finite numbers with r >= 0", path, ln, strings.Join(rec, ","))
-		}
-		if n := len(p.rM); n > 0 && r/1e3 <= p.rM[n-1] {
-			return nil, fmt.Errorf("%s:%d: r_mm %g does not increase", path, ln, r)
-		}
-		p.rM, p.v = append(p.rM, r/1e3), append(p.v, v)
+	rM, v, err := contact.ReadProfile(f, path, col)
+	if err != nil {
+		return nil, err
 	}
-	if len(p.rM) == 0 {
-		return nil, fmt.Errorf("%s: profile has no points", path)
-	}
-	return p, nil
+	return &radialProfile{rM: rM, v: v}, nil
 }
 
 // hobSurface returns the hob top on the pan grid: from a hob scan, a radial
