@@ -174,21 +174,16 @@ func WriteMap(w io.Writer, m *MapSpec, format string) error {
 	dw, dh := da.Max.X-da.Min.X, da.Max.Y-da.Min.Y
 	height := trialH + vg.Length(float64(dw)*aspect) - dh
 	width := plotW + barW
-	var c vg.CanvasWriterTo
-	switch format {
-	case "png":
-		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}
-	case "svg":
-		c = vgsvg.NewWith(vgsvg.UseWH(width, height))
-	default:
-		return fmt.Errorf("map format %q: want png or svg", format)
+	c, err := newCanvas(format, width, height)
+	if err != nil {
+		return err
 	}
 	dc := draw.New(c)
 	left := draw.Crop(dc, 0, -barW, 0, 0)
 	right := draw.Crop(dc, plotW+0.6*vg.Centimeter, 0, 1.3*vg.Centimeter, -1.3*vg.Centimeter)
 	p.Draw(left)
 	cb.Draw(right)
-	_, err := c.WriteTo(w)
+	_, err = c.WriteTo(w)
 	return err
 }
 
@@ -260,21 +255,16 @@ func WriteRingChart(w io.Writer, s *RingChartSpec, format string) error {
 	top.X.Min, top.X.Max = bottom.X.Min, bottom.X.Max
 
 	const width, height = 16 * vg.Centimeter, 15 * vg.Centimeter
-	var c vg.CanvasWriterTo
-	switch format {
-	case "png":
-		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}
-	case "svg":
-		c = vgsvg.NewWith(vgsvg.UseWH(width, height))
-	default:
-		return fmt.Errorf("ring chart format %q: want png or svg", format)
+	c, err := newCanvas(format, width, height)
+	if err != nil {
+		return err
 	}
 	tiles := draw.Tiles{Rows: 2, Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadLeft: vg.Points(4), PadRight: vg.Points(8), PadY: vg.Points(10)}
 	plots := [][]*plot.Plot{{top}, {bottom}}
 	canvases := plot.Align(plots, tiles, draw.New(c))
 	top.Draw(canvases[0][0])
 	bottom.Draw(canvases[1][0])
-	_, err := c.WriteTo(w)
+	_, err = c.WriteTo(w)
 	return err
 }
 
@@ -314,4 +304,15 @@ func (shortTicks) Ticks(lo, hi float64) []plot.Tick {
 		}
 	}
 	return ticks
+}
+
+// newCanvas returns a PNG (110 dpi) or SVG canvas of the given size.
+func newCanvas(format string, width, height vg.Length) (vg.CanvasWriterTo, error) {
+	switch format {
+	case "png":
+		return vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}, nil
+	case "svg":
+		return vgsvg.NewWith(vgsvg.UseWH(width, height)), nil
+	}
+	return nil, fmt.Errorf("picture format %q: want png or svg", format)
 }
