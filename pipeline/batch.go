@@ -163,53 +163,40 @@ func RunBatch(ctx context.Context, opt BatchOptions) (*BatchResult, error) {
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		return nil, fmt.Errorf("output folder: %w", err)
 	}
-	manifest, err := readManifestFile(dir)
+	skipOut := func(p string) bool { return p == out }
+	disc, err := Discover(dir, skipOut)
 	if err != nil {
 		return nil, err
 	}
-	exclude := map[string]bool{}
-	for _, m := range manifest {
-		if m.Hob != "" {
-			exclude[m.Hob] = true
-		}
-		if m.Job != "" {
-			exclude[m.Job] = true
-		}
+	for _, n := range disc.Notes {
+		fmt.Fprintln(logw, n)
 	}
-	skipOut := func(p string) bool { return p == out }
-	rels, err := DiscoverScans(dir, skipOut, exclude)
-	if err != nil {
-		return nil, fmt.Errorf("listing %s: %w", opt.Dir, err)
-	}
-	known := map[string]bool{}
-	for _, r := range rels {
-		known[r] = true
-	}
-	for p := range manifest {
-		if !known[p] && !exclude[p] {
-			fmt.Fprintf(logw, "manifest lists %s, which is not a scan under the folder\n", p)
-		}
-	}
-
+	input := disc.Input(opt.Shard)
 	var tasks []ScanTask
-	for i, rel := range rels {
+	var problemRows []SummaryRow // entries listed as failed without analysis
+	for i, e := range disc.Entries {
 		if !opt.Shard.Has(i) {
 			continue
 		}
-		meta := manifest[rel]
-		meta.Path = rel
+		if e.Problem != "" {
+			problemRows = append(problemRows, SummaryRow{Path: e.Path, Status: StatusFailed, Error: oneLine(e.Problem)})
+			continue
+		}
+		meta := disc.Manifest[e.Path]
+		meta.Path = e.Path
 		tasks = append(tasks, ScanTask{
-			Path:   filepath.Join(dir, filepath.FromSlash(rel)),
-			Rel:    rel,
-			OutDir: ScanOutDir(out, rel),
+			Path:   filepath.Join(dir, filepath.FromSlash(e.Path)),
+			Rel:    e.Path,
+			OutDir: ScanOutDir(out, e.Path),
 			Meta:   meta,
 		})
 	}
 	res := &BatchResult{Total: len(tasks)}
-	rows := make([]SummaryRow, len(tasks))
+	rows := make([]SummaryRow, len(tasks), len(tasks)+len(problemRows))
 	for i, t := range tasks {
 		rows[i] = SummaryRow{Path: t.Rel, Status: StatusNotRun, PartNumber: t.Meta.PartNumber, Lot: t.Meta.Lot}
 	}
+	rows = append(rows, problemRows...)
 	host, _ := os.Hostname()
 	fmt.Fprintf(logw, "%s batch start: %d scans (shard %s) from %s on %s, %d workers\n",
 		time.Now().Format(time.RFC3339), len(tasks), opt.Shard, dir, host, opt.Workers)
@@ -224,7 +211,9 @@ func RunBatch(ctx context.Context, opt BatchOptions) (*BatchResult, error) {
 			return nil
 		}
 		lastWrite = time.Now()
-		return writeSummaryFiles(out, NewSummary(rows))
+		s := NewSummary(rows)
+		s.Input = input
+		return writeSummaryFiles(out, s)
 	}
 
 	jobs := make(chan int)
@@ -270,6 +259,7 @@ dispatch:
 		opt.Progress.Finish()
 	}
 	res.Summary = NewSummary(rows)
+	res.Summary.Input = input
 	if err := writeSummaryFiles(out, res.Summary); err != nil {
 		return res, fmt.Errorf("writing summary: %w", err)
 	}

@@ -1,16 +1,18 @@
 package pipeline
 
 import (
-	"encoding/csv"
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
-	"io"
 	"io/fs"
 	"os"
+	"path"
 	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 )
 
 // scanExtensions are the file name endings batch treats as scans.
@@ -42,46 +44,161 @@ const (
 // reservedNames are never scans even when their extension matches.
 var reservedNames = map[string]bool{ManifestName: true}
 
-// DiscoverScans lists every scan under dir (recursively), as slash-separated
-// paths relative to dir, sorted. Hob scans named in the manifest and files
-// under skip (e.g. the output folder) are left out.
-func DiscoverScans(dir string, skip func(path string) bool, exclude map[string]bool) ([]string, error) {
-	var rels []string
-	err := filepath.WalkDir(dir, func(path string, d fs.DirEntry, err error) error {
-		if err != nil {
-			return err
-		}
-		if skip != nil && skip(path) {
-			if d.IsDir() {
-				return filepath.SkipDir
-			}
-			return nil
-		}
-		if d.IsDir() {
-			if path != dir && strings.HasPrefix(d.Name(), ".") {
-				return filepath.SkipDir
-			}
-			return nil
-		}
-		if !d.Type().IsRegular() || !IsScanName(d.Name()) {
-			return nil
-		}
-		rel, err := filepath.Rel(dir, path)
-		if err != nil {
-			return err
-		}
-		rel = filepath.ToSlash(rel)
-		if reservedNames[rel] || exclude[rel] {
-			return nil
-		}
-		rels = append(rels, rel)
-		return nil
-	})
+// DiscoveryEntry is one item of a batch folder: a scan to analyse or, when
+// Problem is set, something the batch lists as a failed row without
+// analysing it (a scan whose manifest row is bad, a folder it cannot list, a
+// symbolic link out of the folder, a name that is not UTF-8).
+type DiscoveryEntry struct {
+	Path    string // slash path relative to the batch folder; a folder ends in "/"
+	Problem string // what is wrong and what to do; "" for a scan to analyse
+}
+
+// DiscoverScans lists every scan under dir (recursively) and every entry it
+// cannot use, sorted by path. It skips hidden files and folders, the paths
+// skip reports (e.g. the output folder; called with dir joined to the
+// entry's path), the manifest itself and the relative paths in exclude (the
+// hob and job files a manifest names).
+//
+// Symbolic links whose target stays inside dir are followed for scans: a
+// link to a scan file is a scan under the link's name. A link to a folder is
+// not walked (the folder is listed under its own name, or skipped by the
+// rules above; this also rules out loops); a note says so. A link out of
+// dir, or one that cannot be resolved (a loop, a missing target), is an
+// entry with a problem when its name looks like a scan or it points to a
+// folder, and a note otherwise. A name that is not valid UTF-8 is an entry
+// with a problem, its path written by EscapeName. A folder that cannot be
+// listed is an entry with a problem; the rest goes on. Only a dir that cannot
+// be listed at all is an error. notes are lines for the run log.
+func DiscoverScans(dir string, skip func(path string) bool, exclude map[string]bool) (entries []DiscoveryEntry, notes []string, err error) {
+	return discoverScans(dir, skip, exclude, os.ReadDir)
+}
+
+// discoverScans is DiscoverScans with the folder lister given, so that
+// tests can refuse a folder even to root.
+func discoverScans(dir string, skip func(path string) bool, exclude map[string]bool,
+	readDir func(string) ([]fs.DirEntry, error)) (entries []DiscoveryEntry, notes []string, err error) {
+	real, err := filepath.EvalSymlinks(dir)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
-	sort.Strings(rels)
-	return rels, nil
+	if _, err := readDir(real); err != nil {
+		return nil, nil, err
+	}
+	w := &walker{root: real, top: dir, skip: skip, exclude: exclude, visited: map[string]string{}, readDir: readDir}
+	w.walk(dir, real, "")
+	for _, l := range w.links { // after the walk, so that visited is complete
+		w.link(l[0], l[1], path.Base(l[1]))
+	}
+	sort.Slice(w.entries, func(i, j int) bool { return w.entries[i].Path < w.entries[j].Path })
+	return w.entries, w.notes, nil
+}
+
+// walker holds the state of one DiscoverScans.
+type walker struct {
+	root    string // the batch folder with symbolic links resolved
+	top     string // the batch folder as given
+	skip    func(string) bool
+	exclude map[string]bool
+	visited map[string]string // resolved folder -> the relative path it was walked under
+	links   [][2]string       // symbolic links found: on-disk name, relative path
+	readDir func(string) ([]fs.DirEntry, error)
+	entries []DiscoveryEntry
+	notes   []string
+}
+
+// walk lists the folder disk (resolved: real) under the relative path rel.
+func (w *walker) walk(disk, real, rel string) {
+	w.visited[real] = rel
+	list, err := w.readDir(disk)
+	if err != nil {
+		w.problem(rel+"/", "cannot list this folder ("+errReason(err)+"): fix its permissions and run again")
+		return
+	}
+	for _, d := range list {
+		name := d.Name()
+		p := path.Join(rel, name)
+		full := filepath.Join(disk, name)
+		if strings.HasPrefix(name, ".") || (w.skip != nil && w.skip(filepath.Join(w.top, filepath.FromSlash(p)))) {
+			continue
+		}
+		if !utf8.ValidString(name) {
+			if d.IsDir() || IsScanName(name) {
+				w.problem(EscapeName(p)+map[bool]string{true: "/"}[d.IsDir()],
+					"name is not valid UTF-8: rename it (the summary writes each bad byte as \\xNN)")
+			}
+			continue
+		}
+		switch t := d.Type(); {
+		case t&fs.ModeSymlink != 0:
+			w.links = append(w.links, [2]string{full, p})
+		case d.IsDir():
+			w.walk(full, filepath.Join(real, name), p)
+		case IsScanName(name) && !t.IsRegular():
+			w.problem(p, "not a regular file (a pipe or device): copy the scan into a file")
+		case IsScanName(name):
+			w.scan(p)
+		}
+	}
+}
+
+// link follows the symbolic link full (relative path p) if it stays inside.
+func (w *walker) link(full, p, name string) {
+	target, err := filepath.EvalSymlinks(full)
+	if err != nil {
+		msg := "skipped: symbolic link cannot be resolved (a loop or a missing target)"
+		if IsScanName(name) {
+			w.problem(p, msg+": fix or remove the link")
+		} else {
+			w.notes = append(w.notes, p+": "+msg)
+		}
+		return
+	}
+	st, err := os.Stat(target)
+	if err != nil {
+		w.problem(p, "skipped: cannot read the symbolic link's target ("+errReason(err)+")")
+		return
+	}
+	if !isInside(w.root, target) {
+		if st.IsDir() {
+			w.problem(p+"/", "skipped: symlink points outside the batch folder: copy the folder in or link to one inside")
+		} else if IsScanName(name) {
+			w.problem(p, "skipped: symlink points outside the batch folder: copy the scan in or link to one inside")
+		}
+		return
+	}
+	switch {
+	case st.IsDir():
+		if prev, seen := w.visited[target]; seen {
+			w.notes = append(w.notes, p+"/: symbolic link not followed: its folder is listed as "+prev+"/")
+		} else {
+			w.notes = append(w.notes, p+"/: symbolic link not followed: it points to a folder the batch skips (hidden or the output folder)")
+		}
+	case IsScanName(name) && !st.Mode().IsRegular():
+		w.problem(p, "not a regular file (a pipe or device): copy the scan into a file")
+	case IsScanName(name):
+		w.scan(p)
+	}
+}
+
+func (w *walker) scan(p string) {
+	if reservedNames[p] || w.exclude[p] {
+		return
+	}
+	w.entries = append(w.entries, DiscoveryEntry{Path: p})
+}
+
+func (w *walker) problem(p, msg string) {
+	w.entries = append(w.entries, DiscoveryEntry{Path: p, Problem: msg})
+}
+
+// errReason is the reason of a file-system error without the path, which
+// the caller names relative to the batch folder.
+func errReason(err error) string {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return pe.Err.Error()
+	}
+	return err.Error()
 }
 
 // Shard selects a deterministic slice of a sorted list: item i belongs to
@@ -193,147 +310,161 @@ func ShardFromEnv(getenv func(string) string) (s Shard, source string, ok bool, 
 	return Shard{}, "", false, nil
 }
 
-// ManifestRow holds per-scan overrides from a batch manifest.
-type ManifestRow struct {
-	Path         string   // scan path relative to the batch folder
-	PartNumber   string   // free text, carried into the summary
-	Lot          string   // free text, carried into the summary
-	Hob          string   // hob scan or profile, relative to the batch folder
-	Job          string   // a job file for this scan, relative to the batch folder
-	PanMassKg    *float64 // overrides pan.mass_kg
-	WaterMassKg  *float64 // overrides water.mass_kg
-	BaseMaterial string   // overrides the material of a single-layer base
-	BaseMM       *float64 // overrides the thickness of a single-layer base
-	Face         string   // overrides grid.face
-	Units        string   // overrides grid.units
-	DiameterMM   *float64 // overrides grid.diameter_mm
+// Discovery is what a batch finds in its folder before it runs.
+type Discovery struct {
+	// Entries are the scans to analyse and the entries with a problem,
+	// sorted by path: the list a batch shards, so that each lands in
+	// exactly one shard. The batch lists a problem entry as a failed row
+	// with Problem as its error, without analysing anything.
+	Entries []DiscoveryEntry
+	// Manifest holds the usable manifest rows of the scans in Entries.
+	Manifest map[string]ManifestRow
+	// Notes are lines for the run log: links not followed, and the like.
+	Notes []string
 }
 
-// ManifestColumns documents the manifest's columns; only path is required.
-var ManifestColumns = []string{"path", "part_number", "lot", "hob", "job", "pan_mass_kg",
-	"water_mass_kg", "base_material", "base_thickness_mm", "face", "units", "diameter_mm"}
-
-// ReadManifest decodes a manifest CSV: a header row naming columns from
-// ManifestColumns (any order, path required), then one row per scan.
-func ReadManifest(r io.Reader, name string) (map[string]ManifestRow, error) {
-	cr := csv.NewReader(r)
-	cr.Comment = '#'
-	cr.TrimLeadingSpace = true
-	header, err := cr.Read()
+// Discover reads dir's manifest.csv (when there is one) and lists dir's
+// scans with DiscoverScans, leaving out the hob and job files the manifest
+// names. A bad manifest row fails the scan it names; a row whose path is
+// unusable is an entry of its own, "manifest.csv line N"; a row that names
+// no scan is an entry with that problem. The error is a *ManifestError when
+// the manifest as a whole is unusable (a configuration error), or says that
+// dir cannot be listed.
+func Discover(dir string, skip func(path string) bool) (*Discovery, error) {
+	m, err := readManifestFile(dir)
 	if err != nil {
-		return nil, fmt.Errorf("%s: reading header: %w", name, err)
+		return nil, err
 	}
-	col := map[string]int{}
-	known := map[string]bool{}
-	for _, c := range ManifestColumns {
-		known[c] = true
-	}
-	for i, h := range header {
-		h = strings.ToLower(strings.TrimSpace(h))
-		if !known[h] {
-			return nil, fmt.Errorf("%s: line 1: unknown column %q (known: %s)", name, h, strings.Join(ManifestColumns, ", "))
+	problems := map[string][]string{} // entry path -> reasons
+	var order []string
+	addProblem := func(p, msg string) {
+		if _, ok := problems[p]; !ok {
+			order = append(order, p)
 		}
-		if _, dup := col[h]; dup {
-			return nil, fmt.Errorf("%s: line 1: column %q given twice", name, h)
+		problems[p] = append(problems[p], msg)
+	}
+	exclude := map[string]bool{}
+	if m != nil {
+		checkManifestFiles(dir, m)
+		for _, r := range m.Rows {
+			for _, f := range []string{r.Hob, r.Job} {
+				if f != "" {
+					exclude[f] = true
+				}
+			}
 		}
-		col[h] = i
+		for _, pr := range m.Problems {
+			p := pr.Path
+			if p == "" {
+				p = ManifestName + " line " + strconv.Itoa(pr.Line)
+			}
+			addProblem(p, pr.Err.Error())
+		}
 	}
-	if _, ok := col["path"]; !ok {
-		return nil, fmt.Errorf("%s: line 1: no path column", name)
+	entries, notes, err := DiscoverScans(dir, skip, exclude)
+	if err != nil {
+		return nil, fmt.Errorf("listing the batch folder %s: %w", dir, err)
 	}
-	rows := map[string]ManifestRow{}
-	for {
-		rec, err := cr.Read()
-		if errors.Is(err, io.EOF) {
+	d := &Discovery{Manifest: map[string]ManifestRow{}, Notes: notes}
+	listed := map[string]bool{}
+	for _, e := range entries {
+		listed[e.Path] = true
+		if reasons, bad := problems[e.Path]; bad && e.Problem == "" {
+			e.Problem = strings.Join(reasons, "; ")
+			delete(problems, e.Path)
+		} else if e.Problem == "" && m != nil {
+			if r, ok := m.Rows[e.Path]; ok {
+				d.Manifest[e.Path] = r
+			}
+		}
+		d.Entries = append(d.Entries, e)
+	}
+	if m != nil {
+		for p, r := range m.Rows {
+			if !listed[p] && !exclude[p] {
+				addProblem(p, (&ManifestError{Name: ManifestName, Line: r.Line,
+					Msg: "names no scan under the batch folder: fix the path or remove the row"}).Error())
+			}
+		}
+	}
+	for _, p := range order {
+		if reasons, left := problems[p]; left && !listed[p] {
+			d.Entries = append(d.Entries, DiscoveryEntry{Path: p, Problem: strings.Join(reasons, "; ")})
+		}
+	}
+	sort.Slice(d.Entries, func(i, j int) bool { return d.Entries[i].Path < d.Entries[j].Path })
+	return d, nil
+}
+
+// checkManifestFiles moves to m.Problems every row whose hob or job file is
+// missing or reached through a symbolic link out of dir.
+func checkManifestFiles(dir string, m *Manifest) {
+	var paths []string
+	for p := range m.Rows {
+		paths = append(paths, p)
+	}
+	sort.Strings(paths)
+	for _, p := range paths {
+		r := m.Rows[p]
+		for _, f := range []struct{ key, rel string }{{"hob", r.Hob}, {"job", r.Job}} {
+			if f.rel == "" {
+				continue
+			}
+			_, err := ResolveInside(dir, f.rel)
+			if err == nil {
+				continue
+			}
+			msg := f.key + ": " + err.Error()
+			if errors.Is(err, fs.ErrNotExist) {
+				msg = f.key + ": no such file in the batch folder: fix the path"
+			}
+			m.Problems = append(m.Problems, ManifestProblem{Path: p, Line: r.Line,
+				Err: &ManifestError{Name: ManifestName, Line: r.Line, Msg: msg}})
+			delete(m.Rows, p)
 			break
 		}
-		if err != nil {
-			return nil, fmt.Errorf("%s: %w", name, err)
-		}
-		line, _ := cr.FieldPos(0)
-		get := func(c string) string {
-			if i, ok := col[c]; ok && i < len(rec) {
-				return strings.TrimSpace(rec[i])
-			}
-			return ""
-		}
-		var perr error
-		num := func(c string) *float64 {
-			v := get(c)
-			if v == "" {
-				return nil
-			}
-			f, err := strconv.ParseFloat(v, 64)
-			if err != nil || f <= 0 {
-				perr = fmt.Errorf("%s: line %d: %s = %q is not a positive number", name, line, c, v)
-				return nil
-			}
-			return &f
-		}
-		row := ManifestRow{
-			Path: filepath.ToSlash(get("path")), PartNumber: get("part_number"), Lot: get("lot"),
-			Hob: filepath.ToSlash(get("hob")), Job: filepath.ToSlash(get("job")),
-			PanMassKg: num("pan_mass_kg"), WaterMassKg: num("water_mass_kg"),
-			BaseMaterial: get("base_material"), BaseMM: num("base_thickness_mm"),
-			Face: get("face"), Units: get("units"), DiameterMM: num("diameter_mm"),
-		}
-		if perr != nil {
-			return nil, perr
-		}
-		if row.Path == "" {
-			return nil, fmt.Errorf("%s: line %d: empty path", name, line)
-		}
-		if _, dup := rows[row.Path]; dup {
-			return nil, fmt.Errorf("%s: line %d: %s listed twice", name, line, row.Path)
-		}
-		rows[row.Path] = row
 	}
-	return rows, nil
 }
 
-// Apply returns job with the row's overrides.
-func (m ManifestRow) Apply(job Job) (Job, error) {
-	if m.PanMassKg != nil {
-		job.Pan.MassKg = *m.PanMassKg
-	}
-	if m.WaterMassKg != nil {
-		job.Water.MassKg = *m.WaterMassKg
-	}
-	if m.BaseMaterial != "" || m.BaseMM != nil {
-		if len(job.Pan.Layers) != 1 {
-			return job, fmt.Errorf("manifest row %s: base_material/base_thickness_mm need a single-layer base; use a per-scan job file", m.Path)
-		}
-		l := job.Pan.Layers[0]
-		if m.BaseMaterial != "" {
-			l.Material = m.BaseMaterial
-		}
-		if m.BaseMM != nil {
-			l.ThicknessMM = *m.BaseMM
-		}
-		job.Pan.Layers = []LayerJob{l}
-	}
-	if m.Face != "" {
-		job.Grid.Face = m.Face
-	}
-	if m.Units != "" {
-		job.Grid.Units = m.Units
-	}
-	if m.DiameterMM != nil {
-		job.Grid.DiameterMM = *m.DiameterMM
-	}
-	return job, job.Validate()
-}
-
-// readManifestFile reads dir/manifest.csv if present.
-func readManifestFile(dir string) (map[string]ManifestRow, error) {
-	path := filepath.Join(dir, ManifestName)
-	f, err := os.Open(path)
+// readManifestFile reads dir/manifest.csv if present. A manifest reached
+// through a symbolic link out of dir is refused.
+func readManifestFile(dir string) (*Manifest, error) {
+	p, err := ResolveInside(dir, ManifestName)
 	if errors.Is(err, fs.ErrNotExist) {
 		return nil, nil
 	}
 	if err != nil {
-		return nil, err
+		return nil, &ManifestError{Name: ManifestName, Msg: err.Error()}
+	}
+	f, err := os.Open(p)
+	if err != nil {
+		return nil, &ManifestError{Name: ManifestName, Msg: "cannot open (" + errReason(err) + "): fix its permissions"}
 	}
 	defer f.Close()
-	return ReadManifest(f, path)
+	return ReadManifest(f, ManifestName)
+}
+
+// Input returns the identity of the batch's whole input, which every shard's
+// summary records so that merge can tell a shard missing or given twice.
+func (d *Discovery) Input(s Shard) *SummaryInput {
+	paths := make([]string, len(d.Entries))
+	for i, e := range d.Entries {
+		paths[i] = e.Path
+	}
+	k, n := s.K, s.N
+	if !s.Enabled() {
+		k, n = 1, 1
+	}
+	return &SummaryInput{ShardK: k, ShardN: n, Entries: len(paths), EntriesSHA256: entriesSHA256(paths)}
+}
+
+// entriesSHA256 hashes a sorted list of entry paths, each ended by a NUL
+// byte (which no file name holds).
+func entriesSHA256(sorted []string) string {
+	h := sha256.New()
+	for _, p := range sorted {
+		h.Write([]byte(p))
+		h.Write([]byte{0})
+	}
+	return hex.EncodeToString(h.Sum(nil))
 }

@@ -29,11 +29,22 @@ func FuzzReadManifest(f *testing.F) {
 	f.Add([]byte("path\n\"a\nb\",\n"))
 	f.Add([]byte("colour\nred\n"))
 	f.Fuzz(func(t *testing.T, b []byte) {
-		rows, err := ReadManifest(bytes.NewReader(b), "fuzz.csv")
-		if err == nil {
-			for p, r := range rows {
-				if p == "" || r.Path != p {
-					t.Fatalf("row keyed %q has path %q", p, r.Path)
+		m, err := ReadManifest(bytes.NewReader(b), "fuzz.csv")
+		if err != nil {
+			return
+		}
+		for p, r := range m.Rows {
+			if p == "" || r.Path != p {
+				t.Fatalf("row keyed %q has path %q", p, r.Path)
+			}
+			for _, f := range []string{r.Hob, r.Job} {
+				if _, err := ManifestPath(f); f != "" && err != nil {
+					t.Fatalf("row %q: hob or job %q is not a local path", p, f)
+				}
+			}
+			for _, v := range []*float64{r.PanMassKg, r.WaterMassKg, r.BaseMM, r.DiameterMM} {
+				if v != nil && !(*v > 0 && *v <= 2000) {
+					t.Fatalf("row %q: accepted %v", p, *v)
 				}
 			}
 		}

@@ -62,8 +62,20 @@ type SummaryRow struct {
 // folder gives the same bytes wherever it ran.
 type Summary struct {
 	Schema string         `json:"schema"`
+	Input  *SummaryInput  `json:"input,omitempty"`
 	Counts map[string]int `json:"counts"`
 	Rows   []SummaryRow   `json:"rows"`
+}
+
+// SummaryInput identifies the batch a summary belongs to: its shard and the
+// whole folder's entry list before sharding (count and hash), so that merge
+// can tell a shard missing, given twice or from another folder. An unsharded
+// run, and a merge, record shard 1 of 1.
+type SummaryInput struct {
+	ShardK        int    `json:"shard_k"`
+	ShardN        int    `json:"shard_n"`
+	Entries       int    `json:"entries"`        // scans and problem entries in the whole folder
+	EntriesSHA256 string `json:"entries_sha256"` // SHA-256 of the sorted entry paths, each ended by a NUL byte
 }
 
 // NewSummary sorts rows by path and counts them by status.
