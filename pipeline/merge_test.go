@@ -1,0 +1,150 @@
+package pipeline
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// runShards runs a batch over dir as n shards (n = 0: one unsharded run)
+// into base/shardK and returns the output folders.
+func runShards(t *testing.T, dir, base string, n int) []string {
+	t.Helper()
+	var outs []string
+	for k := 1; k <= max(n, 1); k++ {
+		o := filepath.Join(base, fmt.Sprintf("shard%d", k))
+		s := Shard{K: k, N: n}
+		if n == 0 {
+			s = Shard{}
+		}
+		if _, err := RunBatch(context.Background(), BatchOptions{Dir: dir, Out: o, Job: DefaultJob(), Workers: 1,
+			Shard: s, Analyze: (&fakeAnalyzer{}).analyze}); err != nil {
+			t.Fatal(err)
+		}
+		outs = append(outs, o)
+	}
+	return outs
+}
+
+// snapshot maps every file under dir to its content (links to their
+// target), to tell what a call changed.
+func snapshot(t *testing.T, dir string) map[string]string {
+	t.Helper()
+	m := map[string]string{}
+	filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return nil
+		}
+		switch {
+		case d.Type()&fs.ModeSymlink != 0:
+			l, _ := os.Readlink(p)
+			m[p] = "->" + l
+		case d.Type().IsRegular():
+			b, _ := os.ReadFile(p)
+			m[p] = string(b)
+		}
+		return nil
+	})
+	return m
+}
+
+// editSummary rewrites a shard's summary.json through f.
+func editSummary(t *testing.T, out string, f func(s *Summary)) {
+	t.Helper()
+	name := filepath.Join(out, "summary.json")
+	b, err := os.ReadFile(name)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var s Summary
+	if err := json.Unmarshal(b, &s); err != nil {
+		t.Fatal(err)
+	}
+	f(&s)
+	if err := WriteFileAtomic(name, s.WriteJSON); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestMergeRefuses: merge checks its inputs before it writes anything, and
+// says which shard is missing or doubled.
+func TestMergeRefuses(t *testing.T) {
+	files := demoContents(7)
+	tests := []struct {
+		name   string
+		setup  func(t *testing.T, base string, outs []string) (inputs []string, out string)
+		errHas string
+	}{
+		{"shard missing", func(t *testing.T, base string, o []string) ([]string, string) {
+			return []string{o[0], o[2]}, filepath.Join(base, "m")
+		}, "merge: shard 2/3 missing"},
+		{"shard twice", func(t *testing.T, base string, o []string) ([]string, string) {
+			return []string{o[0], o[1], o[2], o[1]}, filepath.Join(base, "m")
+		}, "merge: shard 2/3 given twice"},
+		{"out is an input", func(t *testing.T, base string, o []string) ([]string, string) {
+			return o, o[1]
+		}, "is also an input"},
+		{"out is an input by another name", func(t *testing.T, base string, o []string) ([]string, string) {
+			if err := os.Symlink(o[2], filepath.Join(base, "alias")); err != nil {
+				t.Fatal(err)
+			}
+			return o, filepath.Join(base, "alias")
+		}, "is also an input"},
+		{"other batch", func(t *testing.T, base string, o []string) ([]string, string) {
+			other := runShards(t, makeScanDir(t, demoContents(4)), filepath.Join(base, "other"), 3)
+			return []string{o[0], o[1], other[2]}, filepath.Join(base, "m")
+		}, "come from different batches"},
+		{"older summary", func(t *testing.T, base string, o []string) ([]string, string) {
+			editSummary(t, o[1], func(s *Summary) { s.Input = nil })
+			return o, filepath.Join(base, "m")
+		}, "records no shard"},
+		{"row removed", func(t *testing.T, base string, o []string) ([]string, string) {
+			editSummary(t, o[1], func(s *Summary) { s.Rows = s.Rows[1:] })
+			return o, filepath.Join(base, "m")
+		}, "the shards hold 6 rows, but their batch listed 7 entries"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			base := t.TempDir()
+			outs := runShards(t, makeScanDir(t, files), base, 3)
+			inputs, out := tc.setup(t, base, outs)
+			before := snapshot(t, base)
+			_, err := Merge(inputs, out)
+			if err == nil || !strings.Contains(err.Error(), tc.errHas) {
+				t.Fatalf("error %v, want %q", err, tc.errHas)
+			}
+			if after := snapshot(t, base); len(after) != len(before) {
+				t.Errorf("a refused merge wrote %d files", len(after)-len(before))
+			}
+		})
+	}
+}
+
+// TestMergeRecordsInput: a single run and merged shards record the same
+// input (shard 1/1, the folder's entry count and hash).
+func TestMergeRecordsInput(t *testing.T) {
+	dir := makeScanDir(t, demoContents(5))
+	base := t.TempDir()
+	single := runShards(t, dir, filepath.Join(base, "single"), 0)[0]
+	outs := runShards(t, dir, base, 2)
+	s, err := Merge(outs, filepath.Join(base, "merged"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Input == nil || s.Input.ShardK != 1 || s.Input.ShardN != 1 || s.Input.Entries != 5 || len(s.Input.EntriesSHA256) != 64 {
+		t.Errorf("merged input %+v", s.Input)
+	}
+	for _, f := range []string{"summary.json", "summary.csv"} {
+		a, _ := os.ReadFile(filepath.Join(single, f))
+		b, _ := os.ReadFile(filepath.Join(base, "merged", f))
+		if !bytes.Equal(a, b) {
+			t.Errorf("%s: merged differs from a single run:\n%s\n---\n%s", f, a, b)
+		}
+	}
+}
