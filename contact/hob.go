@@ -146,7 +146,7 @@ func ReadProfile(r io.Reader, name, col string) (rM, v []float64, err error) {
 		if header {
 			header = false
 			if !strings.EqualFold(strings.TrimSpace(rec[0]), "r_mm") || !strings.EqualFold(strings.TrimSpace(rec[1]), col) {
-				return nil, nil, fmt.Errorf("%s:%d: header %q, want \"r_mm,%s\"", name, line, strings.Join(rec, ","), col)
+				return nil, nil, fmt.Errorf("%s:%d: header is not \"r_mm,%s\": name the columns so", name, line, col)
 			}
 			continue
 		}
@@ -155,7 +155,7 @@ func ReadProfile(r io.Reader, name, col string) (rM, v []float64, err error) {
 			x[f], err = strconv.ParseFloat(strings.TrimSpace(rec[f]), 64)
 			if err != nil || !finite64(x[f]) {
 				c := [2]string{"r_mm", col}[f]
-				return nil, nil, fmt.Errorf("%s:%d: %s %q is not a finite number", name, line, c, rec[f])
+				return nil, nil, fmt.Errorf("%s:%d: %s is not a finite number", name, line, c)
 			}
 		}
 		if x[0] < 0 {

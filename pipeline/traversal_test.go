@@ -3,6 +3,8 @@ package pipeline
 import (
 	"context"
 	"fmt"
+	"gapflux/contact"
+	"gapflux/scan"
 	"os"
 	"path/filepath"
 	"strings"
@@ -213,5 +215,47 @@ func TestMergePathTraversal(t *testing.T) {
 			}
 			assertNoLeak(t, base, out, before)
 		})
+	}
+}
+
+// TestReadersDoNotEchoContent: the errors of the scan, profile and
+// manifest readers name the file, the position and what is wrong, never
+// the bytes they found, so a file read by mistake cannot leak into a summary.
+func TestReadersDoNotEchoContent(t *testing.T) {
+	const s = canary
+	scans := map[string]string{
+		"text header":         s + ":x:19000:0:99999:7:::\n",
+		"text value":          "1 2 3\n4 5 " + s + "\n",
+		"text inf":            "1 2 3\n4 5 inf" + s + "\n",
+		"text header columns": "x,y," + s + "\n1,2,3\n",
+		"stl keyword":         "solid x\nfacet normal 0 0 1\n outer " + s + "\n",
+		"stl number":          "solid x\nfacet normal 0 0 1\nouter loop\nvertex 1 2 " + s + "\n",
+		"stl start":           "solid x\n" + s + "\n",
+		"ply keyword":         "ply\nformat ascii 1.0\n" + s + " vertex 1\nend_header\n",
+		"ply encoding":        "ply\nformat " + s + " 1.0\nend_header\n",
+		"ply version":         "ply\nformat ascii " + s + "\nend_header\n",
+		"ply count":           "ply\nformat ascii 1.0\nelement vertex " + s + "\nend_header\n",
+		"ply type":            "ply\nformat ascii 1.0\nelement vertex 1\nproperty " + s + " x\nend_header\n",
+		"ply value": "ply\nformat ascii 1.0\nelement vertex 1\nproperty float x\nproperty float y\nproperty float z\nend_header\n" +
+			"1 2 " + s + "\n",
+		"ply extra": "ply\nformat ascii 1.0\nelement vertex 1\nproperty float x\nproperty float y\nproperty float z\nend_header\n" +
+			"1 2 3 " + s + "\n",
+	}
+	for name, in := range scans {
+		_, err := scan.Read(strings.NewReader(in), scan.ReadOptions{Name: "f"})
+		if err == nil || strings.Contains(err.Error(), s) {
+			t.Errorf("scan %s: error %v, want one without the file's content", name, err)
+		}
+	}
+	profiles := map[string]string{
+		"header": s + "\n0,0\n",
+		"value":  "r_mm,z_mm\n0," + s + "\n",
+		"nan":    "r_mm,z_mm\nNaN" + s + ",0\n",
+	}
+	for name, in := range profiles {
+		_, _, err := contact.ReadProfile(strings.NewReader(in), "f", "z_mm")
+		if err == nil || strings.Contains(err.Error(), s) {
+			t.Errorf("profile %s: error %v, want one without the file's content", name, err)
+		}
 	}
 }

@@ -706,7 +706,7 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 				}
 				f, ok := decimal.ParseFloat(tok, false)
 				if !ok {
-					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("property %q: %q is not a number", p.name, clip(string(tok))))
+					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("property %q: not a number", p.name))
 				}
 				if !finite(f) {
 					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("property %q: %w", p.name, ErrNotFinite))
@@ -716,7 +716,7 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 			}
 			n, ok := decimal.ParseInt(tok)
 			if !ok || n < 0 {
-				return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: bad length %q", p.name, clip(string(tok))))
+				return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: length is not a whole number >= 0", p.name))
 			}
 			isFace := u.faces && j == u.list
 			var f fan
@@ -731,7 +731,7 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 				}
 				x, ok := decimal.ParseInt(tok)
 				if !ok {
-					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: %q is not an integer", p.name, clip(string(tok))))
+					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: item is not an integer", p.name))
 				}
 				if err := d.addIndex(&f, x); err != nil {
 					return d.asciiError(ln, lo, start+1, e, i, err)
@@ -739,7 +739,7 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 			}
 		}
 		if tok, start, _ := field(line, pos); tok != nil {
-			return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("unexpected value %q after the last property", clip(string(tok))))
+			return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("unexpected value after the last property"))
 		}
 		if u.vertex {
 			d.c.Points = append(d.c.Points, r3.Vec{X: v[0], Y: v[1], Z: v[2]})

@@ -219,10 +219,10 @@ func (d *decoder) readHeader() (*header, error) {
 			case "binary_big_endian":
 				h.format = BinaryBigEndian
 			default:
-				return nil, d.headerError(n, FormatError(fmt.Sprintf("unknown encoding %q", clip(f[1]))))
+				return nil, d.headerError(n, FormatError("unknown encoding (want ascii, binary_little_endian or binary_big_endian)"))
 			}
 			if v, err := strconv.ParseFloat(f[2], 64); err != nil || v != 1 {
-				return nil, d.headerError(n, UnsupportedError(fmt.Sprintf("version %q", clip(f[2]))))
+				return nil, d.headerError(n, UnsupportedError("a version other than 1.0"))
 			}
 		case "element":
 			if h.format < 0 {
@@ -233,7 +233,7 @@ func (d *decoder) readHeader() (*header, error) {
 			}
 			c, err := strconv.ParseInt(f[2], 10, 64)
 			if err != nil || c < 0 {
-				return nil, d.headerError(n, FormatError(fmt.Sprintf("bad element count %q", clip(f[2]))))
+				return nil, d.headerError(n, FormatError("element count is not a whole number >= 0"))
 			}
 			h.elems = append(h.elems, element{name: f[1], count: c, line: n})
 		case "property":
@@ -245,15 +245,15 @@ func (d *decoder) readHeader() (*header, error) {
 			case len(f) == 3 && f[1] != "list":
 				p.name = f[2]
 				if p.kind = kinds[f[1]]; p.kind == 0 {
-					return nil, d.headerError(n, FormatError(fmt.Sprintf("unknown property type %q", clip(f[1]))))
+					return nil, d.headerError(n, FormatError("unknown property type"))
 				}
 			case len(f) == 5 && f[1] == "list":
 				p.name, p.list = f[4], true
 				if p.countKind = kinds[f[2]]; p.countKind == 0 || p.countKind.isFloat() {
-					return nil, d.headerError(n, FormatError(fmt.Sprintf("list count type %q is not an integer type", clip(f[2]))))
+					return nil, d.headerError(n, FormatError("list count type is not an integer type"))
 				}
 				if p.kind = kinds[f[3]]; p.kind == 0 {
-					return nil, d.headerError(n, FormatError(fmt.Sprintf("unknown property type %q", clip(f[3]))))
+					return nil, d.headerError(n, FormatError("unknown list item type"))
 				}
 			default:
 				return nil, d.headerError(n, FormatError(`property line must be "property <type> <name>" or "property list <count type> <item type> <name>"`))
@@ -269,15 +269,9 @@ func (d *decoder) readHeader() (*header, error) {
 			}
 			return h, nil
 		default:
-			return nil, d.headerError(n, FormatError(fmt.Sprintf("unknown header keyword %q", clip(f[0]))))
+			return nil, d.headerError(n, FormatError("unknown header keyword (want format, element, property, comment, obj_info or end_header)"))
 		}
 	}
 }
 
 // clip shortens a string for an error message.
-func clip(s string) string {
-	if len(s) > 40 {
-		return s[:37] + "..."
-	}
-	return s
-}

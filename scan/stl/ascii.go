@@ -73,7 +73,7 @@ func (p *asciiParser) keyword(kw string) error {
 	case t == nil:
 		return p.failEOF(strconv.Quote(kw))
 	case !is(t, kw):
-		return p.fail(FormatError(fmt.Sprintf("expected %q, found %q", kw, clip(t))))
+		return p.fail(FormatError(fmt.Sprintf("expected %q", kw)))
 	}
 	return nil
 }
@@ -88,10 +88,10 @@ func (p *asciiParser) vec(what string) (r3.Vec, error) {
 		}
 		f, ok := decimal.ParseFloat(t, false)
 		if !ok {
-			return r3.Vec{}, p.fail(FormatError(fmt.Sprintf("%s: %q is not a number", what, clip(t))))
+			return r3.Vec{}, p.fail(FormatError(what + " is not a number"))
 		}
 		if math.IsNaN(f) || math.IsInf(f, 0) {
-			return r3.Vec{}, p.fail(fmt.Errorf("%w: %s %q", ErrNotFinite, what, clip(t)))
+			return r3.Vec{}, p.fail(fmt.Errorf("%w: %s", ErrNotFinite, what))
 		}
 		v[k] = f
 	}
@@ -112,7 +112,7 @@ func (p *asciiParser) parse() error {
 			return nil
 		}
 		if !is(t, "solid") {
-			return p.fail(FormatError(fmt.Sprintf(`expected "solid", found %q`, clip(t))))
+			return p.fail(FormatError(`expected "solid"`))
 		}
 		name := p.l.restOfLine()
 		if first {
@@ -141,7 +141,7 @@ func (p *asciiParser) solid() error {
 				return err
 			}
 		default:
-			return p.fail(FormatError(fmt.Sprintf(`expected "facet" or "endsolid", found %q`, clip(t))))
+			return p.fail(FormatError(`expected "facet" or "endsolid"`))
 		}
 	}
 }
@@ -177,7 +177,7 @@ func (p *asciiParser) facet() error {
 			break
 		}
 		if !is(t, "vertex") {
-			return p.fail(FormatError(fmt.Sprintf(`expected "vertex" or "endloop", found %q`, clip(t))))
+			return p.fail(FormatError(`expected "vertex" or "endloop"`))
 		}
 		if k == 3 {
 			return &ParseError{Name: p.d.opt.Name, Line: line, Column: col, Offset: off,
@@ -201,9 +201,3 @@ func (p *asciiParser) facet() error {
 }
 
 // clip shortens a token for an error message.
-func clip(t []byte) []byte {
-	if len(t) > 40 {
-		return append(t[:37:37], "..."...)
-	}
-	return t
-}

@@ -299,10 +299,10 @@ func (d *decoder) point(line []byte) error {
 		a, b := d.pos[2*d.col[k]], d.pos[2*d.col[k]+1]
 		f, ok := decimal.ParseFloat(line[a:b], d.comma)
 		if !ok {
-			return d.errAt(a+1, fmt.Errorf("%w: %q", ErrSyntax, clip(line[a:b])))
+			return d.errAt(a+1, ErrSyntax)
 		}
 		if math.IsNaN(f) || math.IsInf(f, 0) {
-			return d.errAt(a+1, fmt.Errorf("%w: %q", ErrNotFinite, clip(line[a:b])))
+			return d.errAt(a+1, ErrNotFinite)
 		}
 		v[k] = f
 	}
@@ -338,13 +338,6 @@ func (d *decoder) grow(lineLen int) {
 }
 
 // clip shortens a field for an error message.
-func clip(b []byte) string {
-	if len(b) > 40 {
-		return string(b[:37]) + "..."
-	}
-	return string(b)
-}
-
 // units maps unit labels to the unit hints.
 var units = map[string]string{
 	"mm": "mm", "millimeter": "mm", "millimetre": "mm", "millimeters": "mm", "millimetres": "mm",
@@ -411,7 +404,7 @@ func mapHeader(header []byte, delim byte) (col [6]int, unit string, err error) {
 		}
 	}
 	if col[0] < 0 || col[1] < 0 || col[2] < 0 {
-		return col, "", fmt.Errorf("%w: %q", ErrNoColumns, clip(header))
+		return col, "", fmt.Errorf("%w: name them x,y,z (or x_mm,y_mm,z_mm) in the first line", ErrNoColumns)
 	}
 	if col[3] < 0 || col[4] < 0 || col[5] < 0 {
 		col[3], col[4], col[5] = -1, -1, -1
