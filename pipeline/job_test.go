@@ -118,9 +118,12 @@ func TestJobProfilesRelativeAndHashed(t *testing.T) {
 	if err != nil || p.at(0.05) != 250 {
 		t.Fatalf("profile at 50 mm: %v (err %v), want 250", p, err)
 	}
-	h1 := JobHash(j, "")
+	h1, err := JobHash(j, "")
+	if err != nil {
+		t.Fatal(err)
+	}
 	os.WriteFile(prof, []byte("r_mm,t_c\n0,270\n100,240\n"), 0o644)
-	if h2 := JobHash(j, ""); h2 == h1 {
+	if h2, err := JobHash(j, ""); err != nil || h2 == h1 {
 		t.Error("the job hash did not change with the profile's content")
 	}
 	for _, bad := range []string{"r_mm,z\n0,1\n", "r_mm,t_c\n5,1\n2,1\n", "r_mm,t_c\n", "r_mm,t_c\n1,x\n"} {

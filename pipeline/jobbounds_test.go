@@ -4,11 +4,15 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
 	"testing"
+	"time"
+
+	"gapflux/scan/synth"
 )
 
 // floatLeaf is one float value of the Job found by reflection: its TOML
@@ -255,4 +259,143 @@ func (c *countdownCtx) Err() error {
 		return context.Canceled
 	}
 	return nil
+}
+
+// TestNonFiniteJobValues: a Job built in code (flags, a manifest row) with
+// ±Inf or NaN in any float is refused by Validate naming the key; JobHash
+// returns an error instead of panicking; Analyze returns a job error (it
+// said "internal error" for 24 such keys, issue 14 item 1).
+func TestNonFiniteJobValues(t *testing.T) {
+	for _, lf := range floatLeaves(t) {
+		for _, v := range []float64{math.Inf(1), math.Inf(-1), math.NaN()} {
+			t.Run(fmt.Sprintf("%s=%v", lf.key, v), func(t *testing.T) {
+				j := DefaultJob()
+				lf.set(&j, v)
+				if err := j.Validate(); err == nil || !strings.Contains(err.Error(), lf.key) {
+					t.Errorf("Validate: %v, want an error naming %s", err, lf.key)
+				}
+				var sha string
+				var err error
+				func() {
+					defer func() {
+						if p := recover(); p != nil {
+							t.Fatalf("JobHash panicked: %v", p)
+						}
+					}()
+					sha, err = JobHash(j, "")
+				}()
+				if err == nil || sha != "" {
+					t.Errorf("JobHash: %q, %v; want an error", sha, err)
+				}
+				_, err = Analyze(context.Background(), ScanInput{PanPath: "none.xyz", Job: j})
+				if err == nil || !strings.Contains(err.Error(), lf.key) {
+					t.Errorf("Analyze: %v, want an error naming %s", err, lf.key)
+				}
+			})
+		}
+	}
+}
+
+// TestAnalyzeGridBounds: grids over limits.max_cells are refused after the
+// scan is levelled and before any grid is allocated, naming the keys.
+func TestAnalyzeGridBounds(t *testing.T) {
+	dir := t.TempDir()
+	pan100 := writeSynth(t, dir, "pan100", synth.Spec{Shape: synth.Dish, DiameterM: 0.1, SagM: 0.2e-3, NoiseM: 5e-6, SpacingM: 1e-3, Seed: 1},
+		synth.Encoding{Format: "xyz"})
+	pan200 := writeSynth(t, dir, "pan200", synth.Spec{Shape: synth.Dish, DiameterM: 0.2, SagM: 0.2e-3, NoiseM: 5e-6, SpacingM: 2e-3, Seed: 1},
+		synth.Encoding{Format: "xyz"})
+	tests := []struct {
+		name string
+		pan  string
+		job  func(*Job)
+		want []string
+	}{
+		{"fine cells on the base", pan100, func(j *Job) { j.Hob.Mode = "temperature"; j.Grid.CellMM = 0.05 },
+			[]string{"base grid would be 2001×2001 cells (4.0 M)", "limits.max_cells = 4000000", "grid.cell_mm = 0.05", "cell_mm ≥ 0.0501"}},
+		{"glass grid of a large base", pan200, func(j *Job) { j.Limits.MaxCells = 240_000 },
+			[]string{"glass grid", "would be 521×521 cells", "hob.margin_mm = 30"}},
+		{"filter kernel", pan100, func(j *Job) { j.Hob.Mode = "temperature"; j.Limits.MaxCells = 100_000; j.Grid.CutoffMM = 80 },
+			[]string{"form filter", "grid.cutoff_mm = 80", "kernel of 321 cells"}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			job := DefaultJob()
+			tc.job(&job)
+			if err := job.Validate(); err != nil {
+				t.Fatalf("the job alone is valid: %v", err)
+			}
+			start := time.Now()
+			_, err := Analyze(context.Background(), ScanInput{PanPath: tc.pan, Name: "pan", Job: job})
+			t.Logf("refused after %v: %v", time.Since(start), err)
+			if err == nil {
+				t.Fatal("accepted")
+			}
+			for _, w := range tc.want {
+				if !strings.Contains(err.Error(), w) {
+					t.Errorf("error lacks %q", w)
+				}
+			}
+		})
+	}
+}
+
+// TestAnalyzeCancelledInsideSolve: Analyze stops inside the plate solve
+// when the context is cancelled there; before, it only looked between
+// stages and ran every solve to its end.
+func TestAnalyzeCancelledInsideSolve(t *testing.T) {
+	path := writeSynth(t, t.TempDir(), "pan", synth.Spec{Shape: synth.Dish, DiameterM: 0.16, SagM: 0.3e-3, NoiseM: 5e-6, SpacingM: 1e-3, Seed: 3},
+		synth.Encoding{Format: "xyz"})
+	job := smallJob()
+	// Analyze checks the context a handful of times between its stages
+	// before the first solve; 12 checks end inside that solve.
+	ctx := &countdownCtx{Context: context.Background(), n: 12}
+	res, err := Analyze(ctx, ScanInput{PanPath: path, Name: "pan", Job: job})
+	if !errors.Is(err, context.Canceled) || res != nil {
+		t.Fatalf("result %v, error %v; want context.Canceled", res != nil, err)
+	}
+	if !strings.Contains(err.Error(), "plate solve") {
+		t.Errorf("error %q: want it to come from the plate solve", err)
+	}
+}
+
+// TestAnalyzeCancelledLargeJob: a real cancel during a large analysis
+// (0.2 mm cells: a 1.7 M-cell glass grid) returns context.Canceled; the
+// time it took is logged, not asserted.
+func TestAnalyzeCancelledLargeJob(t *testing.T) {
+	if testing.Short() {
+		t.Skip("large grid")
+	}
+	path := writeSynth(t, t.TempDir(), "pan", synth.Spec{Shape: synth.Dish, DiameterM: 0.2, SagM: 0.3e-3, NoiseM: 5e-6, SpacingM: 1e-3, Seed: 3},
+		synth.Encoding{Format: "xyz"})
+	job := DefaultJob()
+	job.Grid.CellMM = 0.2
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	start := time.Now()
+	var cancelledAt time.Duration
+	timer := time.AfterFunc(1500*time.Millisecond, func() { cancelledAt = time.Since(start); cancel() })
+	defer timer.Stop()
+	_, err := Analyze(ctx, ScanInput{PanPath: path, Name: "pan", Job: job})
+	end := time.Since(start)
+	if !errors.Is(err, context.Canceled) {
+		t.Fatalf("error %v, want context.Canceled", err)
+	}
+	t.Logf("cancelled at %v, Analyze returned %v later: %v", cancelledAt, end-cancelledAt, err)
+}
+
+// TestProfileOverCap: a profile CSV over the 4 MiB cap is an error naming
+// the file and the cap, never read in part.
+func TestProfileOverCap(t *testing.T) {
+	dir := t.TempDir()
+	prof := filepath.Join(dir, "hot.csv")
+	var b strings.Builder
+	b.WriteString("r_mm,t_c\n")
+	for i := 0; b.Len() <= maxProfileBytes; i++ {
+		fmt.Fprintf(&b, "%d.%06d,250\n", i/1000000, i%1000000)
+	}
+	os.WriteFile(prof, []byte(b.String()), 0o644)
+	_, err := readProfile(prof, "t_c")
+	if err == nil || !strings.Contains(err.Error(), "hot.csv") || !strings.Contains(err.Error(), "4 MiB") {
+		t.Fatalf("error %v, want one naming hot.csv and the 4 MiB cap", err)
+	}
 }
