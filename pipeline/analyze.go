@@ -98,13 +98,27 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
 	cloud = nil
-	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK})
+	// Every grid of the analysis is bounded before the first is allocated.
+	if err := job.planGrids(lev.RadiusM).check(&job); err != nil {
+		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK,
+		MaxCells: job.Limits.MaxCells})
 	if err != nil {
 		return nil, fmt.Errorf("%s: gridding: %w", in.Name, err)
+	}
+	if err := checkFilter(&job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
+		return nil, fmt.Errorf("%s: %w", in.Name, err)
 	}
 	filt, err := scan.FormFilter(grid.Raw, job.Grid.CutoffMM/1e3)
 	if err != nil {
 		return nil, fmt.Errorf("%s: form filter: %w", in.Name, err)
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
 	}
 	form, err := scan.MeasureForm(filt.Form, lev.RadiusM)
 	if err != nil {
@@ -123,7 +137,9 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 				return nil, fmt.Errorf("hob: %w", err)
 			}
 		}
-		jobSHA = JobHash(job, hobSHA)
+		if jobSHA, err = JobHash(job, hobSHA); err != nil {
+			return nil, err
+		}
 	}
 	rep.Input.JobSHA256 = jobSHA
 	if err := ctx.Err(); err != nil {
@@ -134,12 +150,14 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	offsetM := [2]float64{job.Pan.OffsetMM[0] / 1e3, job.Pan.OffsetMM[1] / 1e3}
 	heater := job.Hob.Mode == "heater"
 	res.HeaterOn = heater
-	glassRadiusM := 0.0
+	glassR := 0.0
 	surf := filt.Form
 	if heater {
 		off := math.Hypot(offsetM[0], offsetM[1])
-		glassRadiusM = math.Max(job.Hob.ZoneDiameterMM/2e3, off+lev.RadiusM) + job.Hob.MarginMM/1e3
-		surf = padSurface(surf, off+glassRadiusM)
+		glassR = glassRadiusM(&job, off, lev.RadiusM)
+		if surf, err = padSurface(surf, off+glassR, job.Limits.MaxCells); err != nil {
+			return nil, fmt.Errorf("%s: %w", in.Name, err)
+		}
 	}
 	res.Form = surf
 
@@ -196,7 +214,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	scanField := &contact.Field{Params: ip, GapM: gap, Contact: mask, PressurePa: pressurePa}
 	flatField := &contact.Field{Params: ip, GapM: flatGap, Contact: flatMask, PressurePa: loadN / baseArea}
-	prob, err := plateProblem(job, lib, surf, inBase, offsetM, glassRadiusM)
+	prob, err := plateProblem(job, lib, surf, inBase, offsetM, glassR)
 	if err != nil {
 		return nil, err
 	}
@@ -211,7 +229,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		if w := last[iface]; w != nil {
 			p.InitialTPanK, p.InitialTGlassK, p.InitialDutyPct = w.TPanK, w.TGlassK, w.DutyPct
 		}
-		s, err := solver.Solve(&p)
+		s, err := solver.SolveContext(ctx, &p)
 		if err == nil {
 			last[iface] = s
 		}
@@ -376,24 +394,40 @@ func readScan(path, name string, job Job, knownSHA string) (*scan.Cloud, FileRep
 }
 
 // padSurface embeds s in a larger grid, on the same cell lattice, covering
-// at least [−halfM, halfM]² about the base centre; new cells are Outside.
-func padSurface(s *scan.Surface, halfM float64) *scan.Surface {
-	extra := func(lo, hi float64) (int, int) {
-		a := int(math.Ceil((lo + halfM) / s.CellM))
-		b := int(math.Ceil((halfM - hi) / s.CellM))
-		return max(a, 0), max(b, 0)
+// at least [−halfM, halfM]² about the base centre; new cells are Outside. A
+// grid of more than maxCells cells is an error, before it is allocated
+// (the job's grid plan checks it first with the job's keys named).
+func padSurface(s *scan.Surface, halfM float64, maxCells int) (*scan.Surface, error) {
+	extra := func(lo, hi float64) (int, int, error) {
+		a := math.Ceil((lo + halfM) / s.CellM)
+		b := math.Ceil((halfM - hi) / s.CellM)
+		if !(a < 1<<31 && b < 1<<31) { // also NaN
+			return 0, 0, fmt.Errorf("padding of %.3g m on a %.3g m cell is out of range", halfM, s.CellM)
+		}
+		return max(int(a), 0), max(int(b), 0), nil
 	}
-	x0, x1 := extra(s.X0M, s.X(s.Nx-1))
-	y0, y1 := extra(s.Y0M, s.Y(s.Ny-1))
+	x0, x1, err := extra(s.X0M, s.X(s.Nx-1))
+	if err != nil {
+		return nil, err
+	}
+	y0, y1, err := extra(s.Y0M, s.Y(s.Ny-1))
+	if err != nil {
+		return nil, err
+	}
 	if x0+x1+y0+y1 == 0 {
-		return s
+		return s, nil
 	}
-	p := scan.NewSurface(s.Nx+x0+x1, s.Ny+y0+y1, s.CellM, s.X0M-float64(x0)*s.CellM, s.Y0M-float64(y0)*s.CellM)
+	nx, ny := s.Nx+x0+x1, s.Ny+y0+y1
+	if float64(nx)*float64(ny) > float64(maxCells) {
+		return nil, fmt.Errorf("the heater-mode glass grid would be %d×%d cells (%s), above limits.max_cells = %d; use a larger grid.cell_mm or raise limits.max_cells",
+			nx, ny, countText(float64(nx)*float64(ny)), maxCells)
+	}
+	p := scan.NewSurface(nx, ny, s.CellM, s.X0M-float64(x0)*s.CellM, s.Y0M-float64(y0)*s.CellM)
 	for j := 0; j < s.Ny; j++ {
 		for i := 0; i < s.Nx; i++ {
 			k, q := s.Index(i, j), p.Index(i+x0, j+y0)
 			p.ZM[q], p.State[q] = s.ZM[k], s.State[k]
 		}
 	}
-	return p
+	return p, nil
 }

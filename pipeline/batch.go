@@ -86,7 +86,12 @@ func (r *BatchResult) ExitCode() int {
 
 // JobHash is the hash of the effective settings of one scan: the job, the
 // hob file's content hash and the content of the profiles the job names.
-func JobHash(job Job, hobSHA string) string {
+// An invalid job (a value out of its range, ±Inf or NaN, which JSON cannot
+// encode) is an error, never a panic.
+func JobHash(job Job, hobSHA string) (string, error) {
+	if err := job.Validate(); err != nil {
+		return "", fmt.Errorf("job: %w", err)
+	}
 	// The profiles a job names count by content, not by path.
 	var files []string
 	for _, p := range job.files() {
@@ -106,10 +111,10 @@ func JobHash(job Job, hobSHA string) string {
 		Files []string
 	}{job, hobSHA, files})
 	if err != nil {
-		panic(err) // Job holds only plain values
+		return "", fmt.Errorf("job hash: %w", err)
 	}
 	sum := sha256.Sum256(b)
-	return hex.EncodeToString(sum[:])
+	return hex.EncodeToString(sum[:]), nil
 }
 
 // FileSHA256 hashes a file's bytes.
@@ -309,7 +314,10 @@ func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string) (row 
 			return fail(fmt.Errorf("hob: %w", err), sha, "")
 		}
 	}
-	jobSHA := JobHash(job, hobSHA)
+	jobSHA, err := JobHash(job, hobSHA)
+	if err != nil {
+		return fail(err, sha, "")
+	}
 	if !opt.Force {
 		if r, ok := currentRow(t, sha, jobSHA); ok {
 			return r, true

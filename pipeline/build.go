@@ -222,7 +222,7 @@ func readProfile(path, col string) (*radialProfile, error) {
 	if path == "" {
 		return nil, nil
 	}
-	f, err := os.Open(path)
+	f, err := openProfile(path)
 	if err != nil {
 		return nil, fmt.Errorf("job: %w", err)
 	}
@@ -232,6 +232,42 @@ func readProfile(path, col string) (*radialProfile, error) {
 		return nil, err
 	}
 	return &radialProfile{rM: rM, v: v}, nil
+}
+
+// profileFile is an open profile CSV that cannot be read past the size cap.
+type profileFile struct {
+	*os.File
+	name string
+	left int64 // bytes that may still be read
+}
+
+// openProfile opens a profile CSV of at most maxProfileBytes bytes. A
+// larger file is an error naming it and the cap, whether its size shows
+// on opening or only while it is read (a file still growing): never
+// silently truncated.
+func openProfile(path string) (*profileFile, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	st, err := f.Stat()
+	if err == nil && st.Mode().IsRegular() && st.Size() > maxProfileBytes {
+		f.Close()
+		return nil, fmt.Errorf("%s: %d bytes, above the %d MiB cap for profile files", path, st.Size(), maxProfileBytes>>20)
+	}
+	return &profileFile{File: f, name: path, left: maxProfileBytes}, nil
+}
+
+func (p *profileFile) Read(b []byte) (int, error) {
+	if int64(len(b)) > p.left+1 {
+		b = b[:p.left+1]
+	}
+	n, err := p.File.Read(b)
+	p.left -= int64(n)
+	if p.left < 0 {
+		return n, fmt.Errorf("%s is larger than the %d MiB cap for profile files", p.name, maxProfileBytes>>20)
+	}
+	return n, err
 }
 
 // hobSurface returns the hob top on the pan grid: from a hob scan, a radial
@@ -244,7 +280,7 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 		if path == "" {
 			path = job.Hob.Profile
 		}
-		f, err := os.Open(path)
+		f, err := openProfile(path)
 		if err != nil {
 			return nil, nil, fmt.Errorf("hob profile: %w", err)
 		}
@@ -274,9 +310,15 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 	if err != nil {
 		return nil, nil, fmt.Errorf("hob %s: levelling: %w", fr.Path, err)
 	}
-	g, err := scan.Grid(lev, scan.GridOptions{CellM: like.CellM, OutlierK: job.Grid.OutlierK})
+	if err := squareGridLimit(&job, "the hob scan's grid", lev.RadiusM, "the hob scan's diameter"); err != nil {
+		return nil, nil, fmt.Errorf("hob %s: %w", fr.Path, err)
+	}
+	g, err := scan.Grid(lev, scan.GridOptions{CellM: like.CellM, OutlierK: job.Grid.OutlierK, MaxCells: job.Limits.MaxCells})
 	if err != nil {
 		return nil, nil, fmt.Errorf("hob %s: gridding: %w", fr.Path, err)
+	}
+	if err := checkFilter(&job, "the hob scan's grid", g.Raw.Nx, g.Raw.Ny); err != nil {
+		return nil, nil, fmt.Errorf("hob %s: %w", fr.Path, err)
 	}
 	filt, err := scan.FormFilter(g.Raw, job.Grid.CutoffMM/1e3)
 	if err != nil {
@@ -346,7 +388,7 @@ func heatupReport(ctx context.Context, job Job, lib []contact.Material, radiusM 
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		return thermal.Heatup(load, power(iface), opt)
+		return thermal.HeatupContext(ctx, load, power(iface), opt)
 	}
 	s, err := run(scanIf)
 	if err != nil {

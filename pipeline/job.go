@@ -5,13 +5,17 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
+	"reflect"
+	"slices"
+	"strconv"
 	"strings"
 
 	"github.com/pelletier/go-toml/v2"
-
-	"gapflux/thermal"
+	"github.com/pelletier/go-toml/v2/unstable"
 )
 
 // Job holds every setting of an analysis. Each key carries its unit in its
@@ -122,6 +126,7 @@ type ToleranceJob struct {
 type LimitsJob struct {
 	MaxPoints int     `toml:"max_points"`
 	MaxFileMB float64 `toml:"max_file_mb"`
+	MaxCells  int     `toml:"max_cells"` // largest grid of any stage, cells
 }
 
 // MaterialJob adds a material to the built-in library or overrides one.
@@ -162,7 +167,7 @@ func DefaultJob() Job {
 			RohsenowCsf: 0.011, RohsenowN: 1.26, Emissivity: 0.95, Evaporation: false,
 		},
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
-		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048},
+		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
 	}
 }
 
@@ -180,13 +185,48 @@ func (e *JobError) Error() string {
 	return fmt.Sprintf("%s: %s", e.Name, e.Msg)
 }
 
+// KeyError is one job value that is not allowed.
+type KeyError struct {
+	Key  string   // the key at fault, with indices ("pan.layers[1].thickness_mm")
+	Also []string // other keys the problem involves, for its position in a file
+	Msg  string   // the message; it names the key
+}
+
+func (e *KeyError) Error() string { return e.Msg }
+
+// InvalidJobError lists every value of a job that Validate refused.
+type InvalidJobError struct {
+	Problems []*KeyError
+}
+
+func (e *InvalidJobError) Error() string {
+	msgs := make([]string, len(e.Problems))
+	for i, p := range e.Problems {
+		msgs[i] = p.Msg
+	}
+	return strings.Join(msgs, "; ")
+}
+
 // ReadJob decodes a job file over the defaults. An unknown key is an error
-// that names it; so is a value out of its range.
+// that names it; so is a value out of its range, a fixed-size array of the
+// wrong length, and a file over the 4 MiB cap. Errors carry the key's line
+// when the file sets it.
 func ReadJob(r io.Reader, name string) (Job, error) {
+	job, _, err := readJob(r, name)
+	return job, err
+}
+
+// readJob is ReadJob that also returns where each key is set.
+func readJob(r io.Reader, name string) (Job, map[string]keyPos, error) {
 	job := DefaultJob()
-	data, err := io.ReadAll(io.LimitReader(r, 4<<20))
+	data, err := io.ReadAll(io.LimitReader(r, maxJobFileBytes+1))
 	if err != nil {
-		return job, &JobError{Name: name, Msg: err.Error()}
+		return job, nil, &JobError{Name: name, Msg: err.Error()}
+	}
+	if len(data) > maxJobFileBytes {
+		return job, nil, &JobError{Name: name, Msg: fmt.Sprintf(
+			"the file is larger than the %d MiB cap for job files (a job file with every key is under 20 kB); is it the right file?",
+			maxJobFileBytes>>20)}
 	}
 	// go-toml replaces slices, so a job's layer list replaces the default one.
 	dec := toml.NewDecoder(bytes.NewReader(data))
@@ -196,163 +236,367 @@ func ReadJob(r io.Reader, name string) (Job, error) {
 		if errors.As(err, &strict) && len(strict.Errors) > 0 {
 			e := strict.Errors[0]
 			row, col := e.Position()
-			return job, &JobError{Name: name, Line: row, Col: col,
+			return job, nil, &JobError{Name: name, Line: row, Col: col,
 				Msg: fmt.Sprintf("unknown key %q", strings.Join(e.Key(), "."))}
 		}
 		var de *toml.DecodeError
 		if errors.As(err, &de) {
 			row, col := de.Position()
-			return job, &JobError{Name: name, Line: row, Col: col, Msg: de.Error()}
+			return job, nil, &JobError{Name: name, Line: row, Col: col, Msg: de.Error()}
 		}
-		return job, &JobError{Name: name, Msg: err.Error()}
+		return job, nil, &JobError{Name: name, Msg: err.Error()}
 	}
-	if err := job.Validate(); err != nil {
-		return job, &JobError{Name: name, Msg: err.Error()}
+	pos := keyPositions(data)
+	probs := arrayLengthProblems(job, pos)
+	var inv *InvalidJobError
+	if err := job.Validate(); errors.As(err, &inv) {
+		probs = append(probs, inv.Problems...)
+	} else if err != nil {
+		return job, pos, &JobError{Name: name, Msg: err.Error()}
 	}
-	return job, nil
+	if len(probs) > 0 {
+		return job, pos, positioned(name, &InvalidJobError{Problems: probs}, pos)
+	}
+	return job, pos, nil
+}
+
+// keyPos is where a key is set in a job file; arrayLen is the number of
+// elements of an array value, -1 for other values.
+type keyPos struct{ line, col, arrayLen int }
+
+// keyPositions indexes the keys of a valid TOML document by their full
+// dotted name, with array-of-table indices ("pan.layers[1].thickness_mm").
+func keyPositions(data []byte) map[string]keyPos {
+	var p unstable.Parser
+	p.Reset(data)
+	out := map[string]keyPos{}
+	seen := map[string]int{} // array tables so far
+	prefix := ""
+	for p.NextExpression() {
+		e := p.Expression()
+		switch e.Kind {
+		case unstable.Table:
+			prefix = joinKey(e.Key())
+		case unstable.ArrayTable:
+			k := joinKey(e.Key())
+			prefix = fmt.Sprintf("%s[%d]", k, seen[k])
+			seen[k]++
+		case unstable.KeyValue:
+			indexKeyValue(&p, out, prefix, e)
+		}
+	}
+	return out
+}
+
+// indexKeyValue adds a key-value node, and the keys of inline tables in its
+// value, to out.
+func indexKeyValue(p *unstable.Parser, out map[string]keyPos, prefix string, kv *unstable.Node) {
+	at := keyPos{arrayLen: -1}
+	var parts []string
+	for k := kv.Key(); k.Next(); {
+		if len(parts) == 0 && k.Node().Raw.Length > 0 {
+			s := p.Shape(k.Node().Raw)
+			at.line, at.col = s.Start.Line, s.Start.Column
+		}
+		parts = append(parts, string(k.Node().Data))
+	}
+	name := strings.Join(parts, ".")
+	if prefix != "" {
+		name = prefix + "." + name
+	}
+	v := kv.Value()
+	switch v.Kind {
+	case unstable.Array:
+		at.arrayLen = 0
+		for c := v.Children(); c.Next(); at.arrayLen++ {
+			if c.Node().Kind == unstable.InlineTable {
+				indexInline(p, out, fmt.Sprintf("%s[%d]", name, at.arrayLen), c.Node())
+			}
+		}
+	case unstable.InlineTable:
+		indexInline(p, out, name, v)
+	}
+	out[name] = at
+}
+
+func indexInline(p *unstable.Parser, out map[string]keyPos, prefix string, t *unstable.Node) {
+	for c := t.Children(); c.Next(); {
+		if c.Node().Kind == unstable.KeyValue {
+			indexKeyValue(p, out, prefix, c.Node())
+		}
+	}
+}
+
+func joinKey(it unstable.Iterator) string {
+	var parts []string
+	for it.Next() {
+		parts = append(parts, string(it.Node().Data))
+	}
+	return strings.Join(parts, ".")
+}
+
+// arrayLengthProblems refuses a fixed-size array key (offset_mm, x and y)
+// set with another number of elements: the decoder would drop the extra
+// ones or leave the missing ones at 0.
+func arrayLengthProblems(job Job, pos map[string]keyPos) []*KeyError {
+	var probs []*KeyError
+	walkJob(reflect.ValueOf(job), "", "", func(key, _ string, v reflect.Value) {
+		if v.Kind() != reflect.Array {
+			return
+		}
+		if at, ok := pos[key]; ok && at.arrayLen >= 0 && at.arrayLen != v.Len() {
+			probs = append(probs, &KeyError{Key: key, Msg: fmt.Sprintf(
+				"%s must hold exactly %d numbers (x, y), got %d", key, v.Len(), at.arrayLen)})
+		}
+	})
+	return probs
+}
+
+// positioned turns Validate's error into a *JobError at the line of the
+// first key at fault; the other problems follow with their lines.
+func positioned(name string, err error, pos map[string]keyPos) error {
+	var inv *InvalidJobError
+	if !errors.As(err, &inv) || len(inv.Problems) == 0 {
+		return &JobError{Name: name, Msg: err.Error()}
+	}
+	find := func(p *KeyError) (keyPos, bool) {
+		for _, k := range append([]string{p.Key}, p.Also...) {
+			for {
+				if at, ok := pos[k]; ok {
+					return at, true
+				}
+				base, _, cut := strings.Cut(k, "[")
+				if !cut || !strings.HasSuffix(k, "]") || strings.Contains(k[len(base):], ".") {
+					break
+				}
+				k = base // "pan.offset_mm[0]" is set by "pan.offset_mm"
+			}
+		}
+		return keyPos{}, false
+	}
+	je := &JobError{Name: name, Msg: inv.Problems[0].Msg}
+	if at, ok := find(inv.Problems[0]); ok {
+		je.Line, je.Col = at.line, at.col
+	}
+	for _, p := range inv.Problems[1:] {
+		if at, ok := find(p); ok {
+			je.Msg += fmt.Sprintf("; line %d: %s", at.line, p.Msg)
+		} else {
+			je.Msg += "; " + p.Msg
+		}
+	}
+	return je
 }
 
 // ReadJobFile reads a job file from disk.
 // The profile files a job names (hob.profile, hob.temperature_profile,
-// hob.power_profile) are taken relative to the job file's folder.
+// hob.power_profile) are taken relative to the job file's folder and must
+// stay inside it (see localFile).
 func ReadJobFile(path string) (Job, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return DefaultJob(), &JobError{Name: path, Msg: err.Error()}
 	}
 	defer f.Close()
-	job, err := ReadJob(f, path)
+	job, pos, err := readJob(f, path)
 	if err != nil {
 		return job, err
 	}
 	dir := filepath.Dir(path)
-	for _, p := range job.files() {
-		if *p != "" && !filepath.IsAbs(*p) {
-			*p = filepath.Join(dir, *p)
+	for _, fk := range job.fileKeys() {
+		if *fk.p == "" {
+			continue
 		}
+		full, err := localFile(dir, *fk.p)
+		if err != nil {
+			je := &JobError{Name: path, Msg: fmt.Sprintf("%s: %v; put the file beside the job file or in a folder under it", fk.key, err)}
+			if at, ok := pos[fk.key]; ok {
+				je.Line, je.Col = at.line, at.col
+			}
+			return job, je
+		}
+		*fk.p = full
 	}
 	return job, nil
 }
 
-// files returns pointers to the job's file-name keys.
-func (j *Job) files() []*string {
-	return []*string{&j.Hob.Profile, &j.Hob.TemperatureProfile, &j.Hob.PowerProfile}
+// localFile resolves the file name rel against dir and checks that it stays
+// inside dir: rel must be a local path (filepath.IsLocal: not absolute, no
+// "..", not empty) and the file, with symbolic links resolved, must lie in
+// dir with its links resolved. It returns dir joined with rel. Errors name
+// the path, never the file's content.
+func localFile(dir, rel string) (string, error) {
+	if !filepath.IsLocal(rel) {
+		return "", fmt.Errorf("%q is not inside the job file's folder (absolute paths and \"..\" are refused)", rel)
+	}
+	full := filepath.Join(dir, rel)
+	realDir, err := filepath.EvalSymlinks(dir)
+	if err != nil {
+		return "", fmt.Errorf("the job file's folder: %w", err)
+	}
+	real, err := filepath.EvalSymlinks(full)
+	if errors.Is(err, fs.ErrNotExist) {
+		return "", fmt.Errorf("%q does not exist in the job file's folder", rel)
+	}
+	if err != nil {
+		return "", fmt.Errorf("%q: %w", rel, errors.Unwrap(err))
+	}
+	if r, err := filepath.Rel(realDir, real); err != nil || !filepath.IsLocal(r) {
+		return "", fmt.Errorf("%q leads outside the job file's folder through a symbolic link", rel)
+	}
+	return full, nil
 }
 
-// Validate checks every value against its physical range.
+// fileKey is a job key that names a file.
+type fileKey struct {
+	key string
+	p   *string
+}
+
+// fileKeys returns the job's file-name keys.
+func (j *Job) fileKeys() []fileKey {
+	return []fileKey{{"hob.profile", &j.Hob.Profile}, {"hob.temperature_profile", &j.Hob.TemperatureProfile},
+		{"hob.power_profile", &j.Hob.PowerProfile}}
+}
+
+// files returns pointers to the job's file-name keys.
+func (j *Job) files() []*string {
+	var out []*string
+	for _, fk := range j.fileKeys() {
+		out = append(out, fk.p)
+	}
+	return out
+}
+
+// walkJob calls fn for every value of the job struct v: key is the value's
+// TOML key with indices ("pan.layers[1].thickness_mm", "pan.offset_mm[0]"
+// for an array element; the array itself is visited first under
+// "pan.offset_mm"), spec its keySpec key ("pan.layers.thickness_mm").
+func walkJob(v reflect.Value, key, spec string, fn func(key, spec string, v reflect.Value)) {
+	join := func(a, b string) string {
+		if a == "" {
+			return b
+		}
+		return a + "." + b
+	}
+	switch v.Kind() {
+	case reflect.Struct:
+		for i := range v.NumField() {
+			name := tomlName(v.Type().Field(i))
+			walkJob(v.Field(i), join(key, name), join(spec, name), fn)
+		}
+	case reflect.Slice:
+		for i := range v.Len() {
+			walkJob(v.Index(i), fmt.Sprintf("%s[%d]", key, i), spec, fn)
+		}
+	case reflect.Array:
+		fn(key, spec, v)
+		for i := range v.Len() {
+			fn(fmt.Sprintf("%s[%d]", key, i), spec, v.Index(i))
+		}
+	default:
+		fn(key, spec, v)
+	}
+}
+
+// Validate checks every value against its allowed range (jobKeys: a
+// physical range, the range of real cookware and hobs, or our bound), the
+// keys that depend on each other, and that the grid the job asks for at
+// least fits limits.max_cells. The error is an *InvalidJobError listing
+// every problem, each naming its key.
 func (j *Job) Validate() error {
-	var errs []string
-	pos := func(key string, v float64) {
-		if !(v > 0) {
-			errs = append(errs, fmt.Sprintf("%s must be > 0 (got %g)", key, v))
-		}
+	var probs []*KeyError
+	add := func(key string, also []string, format string, a ...any) {
+		probs = append(probs, &KeyError{Key: key, Also: also, Msg: fmt.Sprintf(format, a...)})
 	}
-	nonneg := func(key string, v float64) {
-		if !(v >= 0) {
-			errs = append(errs, fmt.Sprintf("%s must be >= 0 (got %g)", key, v))
-		}
+	specs := map[string]keySpec{}
+	for _, s := range jobKeys() {
+		specs[s.key] = s
 	}
-	frac := func(key string, v float64, lo float64) {
-		if !(v > lo && v <= 1) {
-			errs = append(errs, fmt.Sprintf("%s must be in (%g, 1] (got %g)", key, lo, v))
+	bad := map[string]bool{} // keys already refused
+	walkJob(reflect.ValueOf(*j), "", "", func(key, spec string, v reflect.Value) {
+		s, ok := specs[spec]
+		if !ok {
+			add(key, nil, "%s has no documented range (a gapflux bug: please report it)", key)
+			return
 		}
-	}
-	oneOf := func(key, v string, allowed ...string) {
-		for _, a := range allowed {
-			if v == a {
+		switch v.Kind() {
+		case reflect.Float64, reflect.Int:
+			x := float64(0)
+			if v.Kind() == reflect.Int {
+				x = float64(v.Int())
+			} else {
+				x = v.Float()
+			}
+			if s.inRange(x) {
 				return
 			}
+			bad[spec] = true
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				add(key, nil, "%s must be a finite number in %s (got %s)", key, s.rangeText(), fmtNum(x))
+				return
+			}
+			add(key, nil, "%s must be in %s (got %s; %s)", key, s.rangeText(), fmtNum(x), s.why)
+		case reflect.String:
+			if s.oneOf != nil && !slices.Contains(s.oneOf, v.String()) {
+				bad[spec] = true
+				q := make([]string, len(s.oneOf))
+				for i, o := range s.oneOf {
+					q[i] = strconv.Quote(o)
+				}
+				add(key, nil, "%s must be one of %s (got %q)", key, strings.Join(q, ", "), v.String())
+			}
 		}
-		errs = append(errs, fmt.Sprintf("%s must be one of %s (got %q)", key, strings.Join(allowed, ", "), v))
-	}
-	pos("grid.cell_mm", j.Grid.CellMM)
-	nonneg("grid.cutoff_mm", j.Grid.CutoffMM)
-	pos("grid.ring_mm", j.Grid.RingMM)
-	nonneg("grid.rock_mm", j.Grid.RockMM)
-	pos("grid.outlier_k", j.Grid.OutlierK)
-	oneOf("grid.units", j.Grid.Units, "", "mm", "m", "um", "in")
-	oneOf("grid.face", j.Grid.Face, "", "up", "down")
-	nonneg("grid.diameter_mm", j.Grid.DiameterMM)
-	nonneg("grid.max_slope_deg", j.Grid.MaxSlopeDeg)
-	pos("pan.mass_kg", j.Pan.MassKg)
-	nonneg("pan.cp_j_kgk", j.Pan.CpJKgK)
-	if len(j.Pan.Layers) == 0 {
-		errs = append(errs, "pan.layers must list at least one layer")
+	})
+	if len(j.Pan.Layers) == 0 || len(j.Pan.Layers) > 20 {
+		add("pan.layers", nil, "pan.layers must list at least one layer and at most 20 (got %d)", len(j.Pan.Layers))
 	}
 	for i, l := range j.Pan.Layers {
-		pos(fmt.Sprintf("pan.layers[%d].thickness_mm", i), l.ThicknessMM)
 		if l.Material == "" {
-			errs = append(errs, fmt.Sprintf("pan.layers[%d].material is empty", i))
+			add(fmt.Sprintf("pan.layers[%d].material", i), []string{fmt.Sprintf("pan.layers[%d].thickness_mm", i)},
+				"pan.layers[%d].material is empty", i)
 		}
 	}
-	frac("pan.emissivity", j.Pan.Emissivity, 0)
-	frac("pan.wall_emissivity", j.Pan.WallEmissivity, 0)
-	nonneg("pan.inner_diameter_mm", j.Pan.InnerDiameterMM)
-	oneOf("hob.mode", j.Hob.Mode, "heater", "temperature")
-	pos("hob.thickness_mm", j.Hob.ThicknessMM)
-	frac("hob.emissivity", j.Hob.Emissivity, 0)
-	pos("hob.heater_power_w", j.Hob.HeaterPowerW)
-	pos("hob.zone_diameter_mm", j.Hob.ZoneDiameterMM)
-	nonneg("hob.down_loss_w_m2k", j.Hob.DownLossWM2K)
-	if !(j.Hob.TransmittedFraction >= 0 && j.Hob.TransmittedFraction < 1) {
-		errs = append(errs, fmt.Sprintf("hob.transmitted_fraction must be in [0, 1) (got %g)", j.Hob.TransmittedFraction))
+	if len(j.Materials) > 100 {
+		add("material", nil, "at most 100 [[material]] tables (got %d; our bound)", len(j.Materials))
 	}
-	if !(j.Hob.LimiterC > j.Hob.RoomC) {
-		errs = append(errs, "hob.limiter_c must be above hob.room_c")
-	}
-	if j.Hob.Mode == "temperature" && !(j.Hob.TemperatureC > j.Water.SteadyC) && j.Hob.TemperatureProfile == "" {
-		errs = append(errs, "hob.temperature_c must be above water.steady_c")
-	}
-	nonneg("hob.margin_mm", j.Hob.MarginMM)
-	nonneg("hob.rated_power_density_kw_m2", j.Hob.RatedPowerDensityKW)
-	oneOf("interface.model", j.Interface.Model, "mikic-plastic", "mikic-elastic")
-	oneOf("interface.slope_correlation", j.Interface.SlopeCorrelation, "antonetti", "lambert-fletcher", "tanner-fahoum")
-	nonneg("interface.pan_sq_um", j.Interface.PanSqUM)
-	nonneg("interface.hob_sq_um", j.Interface.HobSqUM)
-	if !(j.Interface.PanSqUM > 0 || j.Interface.HobSqUM > 0) {
-		errs = append(errs, "interface.pan_sq_um and interface.hob_sq_um cannot both be 0")
-	}
-	nonneg("interface.pan_slope", j.Interface.PanSlope)
-	nonneg("interface.hob_slope", j.Interface.HobSlope)
-	pos("interface.microhardness_mpa", j.Interface.MicrohardnessMPa)
-	frac("interface.pan_accommodation", j.Interface.PanAccommodation, 0)
-	frac("interface.hob_accommodation", j.Interface.HobAccommodation, 0)
-	pos("interface.gas_pressure_kpa", j.Interface.GasPressureKPa)
-	pos("water.mass_kg", j.Water.MassKg)
-	if !(j.Water.FromC >= 0.5 && j.Water.ToC > j.Water.FromC && j.Water.ToC <= 100) {
-		errs = append(errs, fmt.Sprintf("water.from_c and water.to_c must satisfy 0.5 <= from_c < to_c <= 100 (got %g, %g)", j.Water.FromC, j.Water.ToC))
-	}
-	if !(j.Water.SteadyC >= 0.5 && j.Water.SteadyC <= 100) {
-		errs = append(errs, fmt.Sprintf("water.steady_c must be in [0.5, 100] (got %g)", j.Water.SteadyC))
-	}
-	oneOf("water.side", j.Water.Side, "fixed", "natural", "boiling")
-	pos("water.h_w_m2k", j.Water.HWM2K)
-	if j.Water.RohsenowSurface != "" {
-		var names []string
-		for _, sf := range thermal.RohsenowSurfaces() {
-			names = append(names, sf.Name)
-		}
-		oneOf("water.rohsenow_surface", j.Water.RohsenowSurface, names...)
-	}
-	pos("water.rohsenow_csf", j.Water.RohsenowCsf)
-	pos("water.rohsenow_n", j.Water.RohsenowN)
-	frac("water.emissivity", j.Water.Emissivity, 0)
-	if j.Tolerances.ConcavityMaxPct < j.Tolerances.ConcavityMinPct {
-		errs = append(errs, "tolerances.concavity_max_pct is below tolerances.concavity_min_pct")
-	}
-	pos("tolerances.flatness_mz_max_mm", j.Tolerances.FlatnessMZMaxMM)
-	pos("tolerances.loss_max_pct", j.Tolerances.LossMaxPct)
-	if j.Limits.MaxPoints <= 0 {
-		errs = append(errs, "limits.max_points must be > 0")
-	}
-	pos("limits.max_file_mb", j.Limits.MaxFileMB)
 	for i, m := range j.Materials {
 		if m.Name == "" {
-			errs = append(errs, fmt.Sprintf("material[%d].name is empty", i))
+			add(fmt.Sprintf("material[%d].name", i), nil, "material[%d].name is empty", i)
 		}
 	}
-	if len(errs) > 0 {
-		return errors.New(strings.Join(errs, "; "))
+	if !(j.Hob.LimiterC > j.Hob.RoomC) {
+		add("hob.limiter_c", []string{"hob.room_c"}, "hob.limiter_c must be above hob.room_c (got %s and %s °C)",
+			fmtNum(j.Hob.LimiterC), fmtNum(j.Hob.RoomC))
+	}
+	if j.Hob.Mode == "temperature" && !(j.Hob.TemperatureC > j.Water.SteadyC) && j.Hob.TemperatureProfile == "" {
+		add("hob.temperature_c", []string{"water.steady_c"}, "hob.temperature_c must be above water.steady_c")
+	}
+	if !(j.Interface.PanSqUM > 0 || j.Interface.HobSqUM > 0) {
+		add("interface.pan_sq_um", []string{"interface.hob_sq_um"}, "interface.pan_sq_um and interface.hob_sq_um cannot both be 0")
+	}
+	if !(j.Water.ToC > j.Water.FromC) {
+		add("water.from_c", []string{"water.to_c"}, "water.from_c and water.to_c must satisfy 0.5 <= from_c < to_c <= 100 (got %s, %s)",
+			fmtNum(j.Water.FromC), fmtNum(j.Water.ToC))
+	}
+	if j.Tolerances.ConcavityMaxPct < j.Tolerances.ConcavityMinPct {
+		add("tolerances.concavity_max_pct", []string{"tolerances.concavity_min_pct"},
+			"tolerances.concavity_max_pct is below tolerances.concavity_min_pct")
+	}
+	g := j.Grid
+	if !bad["grid.cell_mm"] && !bad["grid.cutoff_mm"] && g.CutoffMM > 0 && g.CutoffMM < 4*g.CellMM {
+		add("grid.cutoff_mm", []string{"grid.cell_mm"},
+			"grid.cutoff_mm = %s mm must span at least 4 cells of grid.cell_mm = %s mm (the sampled Gaussian aliases below); raise cutoff_mm or lower cell_mm",
+			fmtNum(g.CutoffMM), fmtNum(g.CellMM))
+	}
+	if !bad["grid.cell_mm"] && !bad["grid.diameter_mm"] && !bad["hob.zone_diameter_mm"] && !bad["hob.margin_mm"] &&
+		!bad["pan.offset_mm"] && !bad["limits.max_cells"] {
+		if err := j.planGrids(g.DiameterMM / 2e3).check(j); err != nil {
+			probs = append(probs, err)
+		}
+	}
+	if len(probs) > 0 {
+		return &InvalidJobError{Problems: probs}
 	}
 	return nil
 }

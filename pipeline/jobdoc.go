@@ -1,105 +1,380 @@
 package pipeline
 
-// DefaultJobTOML is the default job written out with every key, its unit
-// and its meaning. Decoding it gives DefaultJob (a test checks this). The
-// scenario is our own invention (DESIGN 5.3a), not a standard's; a lab must
-// set the tolerances of the cookware and hob standards it works to.
-const DefaultJobTOML = `# gapflux job file: every key carries its unit in its name; every key is
-# optional and defaults to the value shown. Unknown keys are an error.
+import (
+	"fmt"
+	"math"
+	"reflect"
+	"strconv"
+	"strings"
+
+	"gapflux/thermal"
+)
+
+// keySpec documents and bounds one job key. Every leaf of Job has one
+// (a test walks the struct by reflection); Validate checks the values
+// against it and JobDoc prints it.
+type keySpec struct {
+	key  string // dotted TOML key; keys of arrays of tables without index ("pan.layers.thickness_mm")
+	doc  string // what the key sets
+	unit string // unit of a number ("" = unit-free)
+
+	// A number must lie in [lo, hi] (an open end when loOpen or hiOpen),
+	// or be 0 when zero says what 0 means.
+	lo, hi         float64
+	loOpen, hiOpen bool
+	zero           string
+	// why states the reason for the range: "physical: …" (a physical
+	// range), "cookware: …" or "hob: …" (the range of real products) or
+	// "our bound: …" (a limit we chose, mostly to bound memory and time).
+	why string
+
+	oneOf []string // allowed values of a string key; nil = any
+	path  bool     // a file relative to the job file's folder
+}
+
+// Size caps of the text files a job reads (our bounds: a job file of every
+// key with comments is under 10 kB, and a radial profile at 0.01 mm steps
+// over a 300 mm radius is under 1 MB).
+const (
+	maxJobFileBytes = 4 << 20
+	maxProfileBytes = 4 << 20
+)
+
+// filterTapsPerCell bounds the form filter's work: grid cells times kernel
+// width at most filterTapsPerCell·limits.max_cells (our bound: about 10 s
+// on one core at the measured ~40 ns per cell and tap).
+const filterTapsPerCell = 64
+
+// jobKeys returns the specification of every job key, in file order.
+func jobKeys() []keySpec {
+	var surfaces []string
+	for _, sf := range thermal.RohsenowSurfaces() {
+		surfaces = append(surfaces, sf.Name)
+	}
+	const (
+		frac   = "physical: a fraction"
+		tempOK = "our bound: liquid water at 1 atm, away from freezing"
+	)
+	return []keySpec{
+		{key: "grid.cell_mm", doc: "grid cell edge", unit: "mm", lo: 0.01, hi: 10,
+			why: "our bound: finer than any pan scanner's point spacing, coarser leaves a small base under 10 cells across; limits.max_cells bounds the grid as well"},
+		{key: "grid.cutoff_mm", doc: "ISO 16610-61 areal Gaussian form-filter cut-off", unit: "mm", lo: 0.1, hi: 80, zero: "no filter",
+			why: "our bound: 80 mm, the largest cut-off of the 8/25/80 mm series below a pan base's diameter (series from memory); it must also span 4 cells"},
+		{key: "grid.ring_mm", doc: "ring width of the ring table", unit: "mm", lo: 0.1, hi: 200,
+			why: "our bound: from a tenth of a millimetre to one ring over the largest base"},
+		{key: "grid.rock_mm", doc: "the pan rocks when the pressed rim drops more than this", unit: "mm", lo: 0, hi: 10,
+			why: "our bound: a 10 mm drop is a broken pan, not a rocking one"},
+		{key: "grid.outlier_k", doc: "robust sigmas of the local outlier test", lo: 2, hi: 1000,
+			why: "our bound: under 2 the test removes good points; 1000 turns it practically off"},
+		{key: "grid.units", doc: "unit of the scan's numbers (\"\" = the file's header hint, else mm)", oneOf: []string{"", "mm", "m", "um", "in"}},
+		{key: "grid.face", doc: "outer face toward scanner +z (\"up\") or -z (\"down\"); \"\" = detect", oneOf: []string{"", "up", "down"}},
+		{key: "grid.diameter_mm", doc: "base diameter", unit: "mm", lo: 10, hi: 1000, zero: "circle fit to the base boundary",
+			why: "cookware: pan and pot bases are about 80 to 400 mm across; 10 to 1000 mm leaves room"},
+		{key: "grid.max_slope_deg", doc: "base segmentation slope limit", unit: "°", lo: 0.1, hi: 45, zero: "the built-in 3°",
+			why: "our bound: a base ends where its wall starts, well under 45°"},
+
+		{key: "pan.mass_kg", doc: "mass of the empty pan", unit: "kg", lo: 0.01, hi: 50,
+			why: "cookware: from a small aluminium pan (0.3 kg) to a large cast-iron pot (under 20 kg)"},
+		{key: "pan.cp_j_kgk", doc: "specific heat of the pan", unit: "J/(kg·K)", lo: 100, hi: 2500, zero: "from the first base layer's material",
+			why: "physical: solid metals and ceramics lie between about 130 (lead) and 1900 (beryllium) J/(kg·K)"},
+		{key: "pan.emissivity", doc: "outer face of the base, toward the hob", lo: 0, hi: 1, loOpen: true, why: frac},
+		{key: "pan.wall_emissivity", doc: "outer wall, for heat-up losses", lo: 0, hi: 1, loOpen: true, why: frac},
+		{key: "pan.inner_diameter_mm", doc: "open water surface and wetted wall", unit: "mm", lo: 10, hi: 1000, zero: "the base diameter",
+			why: "cookware: as grid.diameter_mm"},
+		{key: "pan.centre_of_mass_mm", doc: "centre of mass in the base frame, x and y", unit: "mm", lo: -500, hi: 500,
+			why: "our bound: within the largest base"},
+		{key: "pan.offset_mm", doc: "pan centre relative to the hob zone centre, x and y", unit: "mm", lo: -500, hi: 500,
+			why: "hob: a pan stays on a hob top, under 1 m across"},
+		{key: "pan.layers.material", doc: "a name from \"gapflux materials\" or a [[material]] below"},
+		{key: "pan.layers.thickness_mm", doc: "layer thickness", unit: "mm", lo: 0.01, hi: 30,
+			why: "cookware: clad and impact-bonded layers are 0.3 to 10 mm; cast bases up to about 20 mm"},
+
+		{key: "hob.mode", doc: "\"heater\" (radiant zone under glass) or \"temperature\" (fixed top)", oneOf: []string{"heater", "temperature"}},
+		{key: "hob.material", doc: "hob plate material (heater mode: the glass)"},
+		{key: "hob.thickness_mm", doc: "hob plate thickness", unit: "mm", lo: 0.5, hi: 30,
+			why: "hob: glass-ceramic tops are 3 to 6 mm, cast-iron plates up to about 20 mm"},
+		{key: "hob.emissivity", doc: "glass top", lo: 0, hi: 1, loOpen: true, why: frac},
+		{key: "hob.temperature_c", doc: "temperature mode: uniform top temperature", unit: "°C", lo: 1, hi: 800,
+			why: "hob: glass-ceramic tops are rated to about 700 °C; must be above water.steady_c"},
+		{key: "hob.temperature_profile", doc: "temperature mode: CSV r_mm,t_c (overrides temperature_c); relative to the job file's folder", path: true},
+		{key: "hob.heater_power_w", doc: "heater mode: rated zone power", unit: "W", lo: 10, hi: 10000,
+			why: "hob: household zones are 1 to 4 kW"},
+		{key: "hob.zone_diameter_mm", doc: "heater mode: zone diameter", unit: "mm", lo: 20, hi: 600,
+			why: "hob: zones are about 120 to 300 mm across"},
+		{key: "hob.power_profile", doc: "heater mode: CSV r_mm,relative power density (\"\" = uniform); relative to the job file's folder", path: true},
+		{key: "hob.down_loss_w_m2k", doc: "heater mode: glass to the room below", unit: "W/(m²·K)", lo: 0, hi: 1000,
+			why: "our bound: 1000 W/(m²·K) is forced liquid cooling, not a hob"},
+		{key: "hob.transmitted_fraction", doc: "heater mode: share of heater power radiated straight to the pan", lo: 0, hi: 1, hiOpen: true, why: frac},
+		{key: "hob.limiter_c", doc: "heater mode: the heater cycles to hold the glass at this", unit: "°C", lo: 50, hi: 900,
+			why: "hob: limiters hold glass-ceramic near 500 to 600 °C; must be above room_c"},
+		{key: "hob.margin_mm", doc: "heater mode: glass modelled beyond the zone and the base", unit: "mm", lo: 0, hi: 300,
+			why: "hob: a hob top is under 1 m across; limits.max_cells bounds the glass grid as well"},
+		{key: "hob.room_c", doc: "room air temperature", unit: "°C", lo: -20, hi: 60,
+			why: "our bound: a kitchen or a lab"},
+		{key: "hob.profile", doc: "hob top height profile CSV r_mm,z_mm when there is no hob scan; relative to the job file's folder", path: true},
+		{key: "hob.rated_power_density_kw_m2", doc: "temperature mode warning threshold", unit: "kW/m²", lo: 1, hi: 1000, zero: "heater_power_w over the zone area",
+			why: "hob: a 1.8 kW, 180 mm zone gives 71 kW/m²"},
+
+		{key: "interface.model", doc: "solid-spot conductance correlation", oneOf: []string{"mikic-plastic", "mikic-elastic"}},
+		{key: "interface.pan_sq_um", doc: "RMS roughness Sq of the pan's outer face", unit: "µm", lo: 0, hi: 50,
+			why: "cookware: turned, ground and blasted bases are about 0.1 to 25 µm; pan_sq_um and hob_sq_um cannot both be 0"},
+		{key: "interface.hob_sq_um", doc: "RMS roughness Sq of the hob top", unit: "µm", lo: 0, hi: 50,
+			why: "hob: glass-ceramic tops are under 1 µm, cast-iron plates a few µm"},
+		{key: "interface.pan_slope", doc: "mean absolute asperity slope of the pan", lo: 0.001, hi: 1, zero: "from the correlation",
+			why: "physical: machined metal surfaces lie between about 0.01 and 0.4"},
+		{key: "interface.hob_slope", doc: "mean absolute asperity slope of the hob", lo: 0.001, hi: 1, zero: "from the correlation",
+			why: "physical: as pan_slope"},
+		{key: "interface.slope_correlation", doc: "σ–slope correlation when a slope is 0", oneOf: []string{"antonetti", "lambert-fletcher", "tanner-fahoum"}},
+		{key: "interface.microhardness_mpa", doc: "contact microhardness of the softer surface", unit: "MPa", lo: 10, hi: 20000,
+			why: "physical: from soft lead (about 50 MPa) to hardened steel and ceramics (about 10 GPa)"},
+		{key: "interface.pan_accommodation", doc: "thermal accommodation coefficient of air on the pan", lo: 0, hi: 1, loOpen: true, why: frac},
+		{key: "interface.hob_accommodation", doc: "and on the hob", lo: 0, hi: 1, loOpen: true, why: frac},
+		{key: "interface.gas_pressure_kpa", doc: "pressure of the air in the gap", unit: "kPa", lo: 1, hi: 1000,
+			why: "our bound: from a vacuum test chamber to ten atmospheres"},
+
+		{key: "water.mass_kg", doc: "water load", unit: "kg", lo: 0.01, hi: 50,
+			why: "cookware: up to a large stockpot's fill"},
+		{key: "water.from_c", doc: "heat-up start", unit: "°C", lo: 0.5, hi: 100, why: tempOK + "; below to_c"},
+		{key: "water.to_c", doc: "heat-up end", unit: "°C", lo: 0.5, hi: 100, why: tempOK},
+		{key: "water.steady_c", doc: "water temperature of the steady heat figures", unit: "°C", lo: 0.5, hi: 100, why: tempOK},
+		{key: "water.side", doc: "\"fixed\" (h_w_m2k), \"natural\" (natural convection) or \"boiling\" (Rohsenow above 100 °C)", oneOf: []string{"fixed", "natural", "boiling"}},
+		{key: "water.h_w_m2k", doc: "water-side coefficient when side = \"fixed\"", unit: "W/(m²·K)", lo: 1, hi: 100000,
+			why: "physical: free convection of liquids is 50 to 1000, boiling up to 100000 W/(m²·K) (Incropera, Table 1.1)"},
+		{key: "water.rohsenow_surface", doc: "a named surface sets C_sf and n (Incropera Table 10.1; Cao 2009)", oneOf: append([]string{""}, surfaces...)},
+		{key: "water.rohsenow_csf", doc: "Rohsenow surface-fluid coefficient C_sf (oxidised aluminium by default)", lo: 0.001, hi: 0.1,
+			why: "physical: published water-surface values are 0.0027 to 0.013 (Incropera Table 10.1)"},
+		{key: "water.rohsenow_n", doc: "Rohsenow exponent n", lo: 0.5, hi: 3,
+			why: "physical: 1.0 for water, 1.7 for other liquids (Incropera Table 10.1)"},
+		{key: "water.emissivity", doc: "open water surface", lo: 0, hi: 1, loOpen: true, why: frac},
+		{key: "water.evaporation", doc: "latent heat lost from the open surface (heat-mass analogy; overstates near 90 °C)"},
+
+		{key: "tolerances.concavity_min_pct", doc: "concavity below this share of the diameter fails (0 forbids a convex base)", unit: "%", lo: -5, hi: 5,
+			why: "our bound: 5 % is 10 mm on a 200 mm base"},
+		{key: "tolerances.concavity_max_pct", doc: "concavity above this share of the diameter fails", unit: "%", lo: -5, hi: 5,
+			why: "our bound: as concavity_min_pct, and not below it"},
+		{key: "tolerances.flatness_mz_max_mm", doc: "largest minimum-zone flatness", unit: "mm", lo: 0, hi: 50, loOpen: true,
+			why: "our bound"},
+		{key: "tolerances.loss_max_pct", doc: "largest heating power lost against the flat twin", unit: "%", lo: 0, hi: 100, loOpen: true,
+			why: "physical: a share of the power"},
+		{key: "tolerances.rocking_allowed", doc: "a rocking pan passes"},
+
+		{key: "limits.max_points", doc: "refuse scans with more points than this", lo: 1000, hi: 200_000_000,
+			why: "our bound: about 25 GB at the ~125 bytes per point of the 250 MB per 2 M points budget"},
+		{key: "limits.max_file_mb", doc: "refuse scan files larger than this", unit: "MB", lo: 0.001, hi: 100_000,
+			why: "our bound"},
+		{key: "limits.max_cells", doc: "largest grid, in cells, of any grid the analysis builds (the base grid, the glass grid around it, a hob scan's grid)", lo: 10_000, hi: 50_000_000,
+			why: "our bound: about 540 bytes a cell at the peak of an analysis (measured), so the default 4 M cells is about 2.2 GB and a 1000×1000 grid about 0.6 GB; the form filter may take at most 64 × max_cells cell-kernel products"},
+
+		{key: "material.name", doc: "material name (a new one, or a built-in one to override)"},
+		{key: "material.conductivity_w_mk", doc: "thermal conductivity", unit: "W/(m·K)", lo: 0.01, hi: 2500, zero: "keep the built-in value",
+			why: "physical: from insulating ceramics to diamond"},
+		{key: "material.density_kg_m3", doc: "density", unit: "kg/m³", lo: 100, hi: 25000, zero: "keep the built-in value",
+			why: "physical: solids up to osmium (22 590 kg/m³)"},
+		{key: "material.cp_j_kgk", doc: "specific heat", unit: "J/(kg·K)", lo: 100, hi: 2500, zero: "keep the built-in value",
+			why: "physical: as pan.cp_j_kgk"},
+		{key: "material.young_gpa", doc: "Young's modulus", unit: "GPa", lo: 0.1, hi: 1200, zero: "keep the built-in value",
+			why: "physical: up to diamond (about 1100 GPa)"},
+		{key: "material.poisson", doc: "Poisson's ratio", lo: 0, hi: 0.5, loOpen: true, hiOpen: true, zero: "keep the built-in value",
+			why: "physical: isotropic solids lie below 0.5"},
+		{key: "material.expansion_um_mk", doc: "linear thermal expansion", unit: "µm/(m·K)", lo: 0.01, hi: 200, zero: "keep the built-in value",
+			why: "physical: from glass-ceramic (near 0) to polymers"},
+		{key: "material.hardness_mpa", doc: "hardness", unit: "MPa", lo: 10, hi: 100000, zero: "keep the built-in value",
+			why: "physical: up to diamond (about 100 GPa)"},
+		{key: "material.emissivity", doc: "emissivity", lo: 0, hi: 1, loOpen: true, zero: "keep the built-in value", why: frac},
+		{key: "material.source", doc: "where the values come from"},
+	}
+}
+
+// rangeText states the allowed values of a numeric key, with its unit.
+func (s keySpec) rangeText() string {
+	l, r := "[", "]"
+	if s.loOpen {
+		l = "("
+	}
+	if s.hiOpen {
+		r = ")"
+	}
+	t := fmt.Sprintf("%s%s, %s%s", l, fmtNum(s.lo), fmtNum(s.hi), r)
+	if s.unit != "" {
+		t += " " + s.unit
+	}
+	if s.zero != "" {
+		t = "0 (" + s.zero + ") or " + t
+	}
+	return t
+}
+
+// inRange reports whether v is an allowed value of the numeric key s.
+func (s keySpec) inRange(v float64) bool {
+	if s.zero != "" && v == 0 {
+		return true
+	}
+	okLo := v >= s.lo && !(s.loOpen && v == s.lo)
+	okHi := v <= s.hi && !(s.hiOpen && v == s.hi)
+	return okLo && okHi // false for NaN and ±Inf outside every range
+}
+
+// fmtNum formats a bound or a default: plain digits, an exponent only for
+// large or tiny numbers.
+func fmtNum(v float64) string {
+	if math.IsInf(v, 0) || math.IsNaN(v) {
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	if a := math.Abs(v); a != 0 && (a >= 1e7 || a < 1e-4) {
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	return strconv.FormatFloat(v, 'f', -1, 64)
+}
+
+// JobDoc returns the default job written out as a job file, every key with
+// its meaning, unit, default and allowed range (and the reason for that
+// range). Decoding it gives DefaultJob (a test checks this). The scenario is
+// our own invention (DESIGN 5.3a), not a standard's; a lab must set the
+// tolerances of the cookware and hob standards it works to.
+func JobDoc() string {
+	specs := map[string]keySpec{}
+	for _, s := range jobKeys() {
+		specs[s.key] = s
+	}
+	var b strings.Builder
+	b.WriteString(`# gapflux job file: every key carries its unit in its name; every key is
+# optional and defaults to the value shown. Unknown keys are an error, and so
+# is a value outside its allowed range; each range says why it is so:
+# "physical" (what the quantity can be), "cookware" or "hob" (what real
+# products are), or "our bound" (ours, mostly to bound memory and time).
 # The default scenario (an aluminium pan on a radiant glass-ceramic zone) is
-# invented for gapflux; it is not any standard's test setup.
+# invented for gapflux; it is not any standard's test setup. The
+# tolerances are ours too: use the limits of the standards you work to.
+# Job files and the profiles they name may be at most 4 MiB; profile paths
+# are relative to the job file's folder and may not leave it.
+`)
+	job := DefaultJob()
+	v := reflect.ValueOf(job)
+	for i := range v.NumField() {
+		name := tomlName(v.Type().Field(i))
+		f := v.Field(i)
+		if f.Kind() == reflect.Slice { // [[material]]: an example, commented out
+			b.WriteString("\n# Add or override materials (unset values keep the built-in ones):\n")
+			ex := reflect.ValueOf(exampleMaterial())
+			docTable(&b, "# ", "[["+name+"]]", name, ex, specs)
+			continue
+		}
+		docTable(&b, "", "["+name+"]", name, f, specs)
+	}
+	return b.String()
+}
 
-[grid]
-cell_mm = 0.5          # grid cell size
-cutoff_mm = 8.0        # ISO 16610-61 areal Gaussian form filter cut-off (0 = off)
-ring_mm = 5.0          # ring width of the ring table
-rock_mm = 0.1          # the pan "rocks" when the pressed rim drops more than this
-outlier_k = 5.0        # robust sigmas of the local outlier test
-units = ""             # unit of the scan's numbers: mm, m, um, in ("" = header hint, else mm)
-face = ""              # outer face toward scanner +z ("up") or -z ("down"); "" = detect
-diameter_mm = 0.0      # base diameter (0 = circle fit to the base boundary)
-max_slope_deg = 0.0    # base segmentation slope limit (0 = the built-in default)
+// DefaultJobTOML is JobDoc's text: the default job with every key
+// documented ("gapflux job" prints it).
+var DefaultJobTOML = JobDoc()
 
-[pan]
-mass_kg = 1.0
-cp_j_kgk = 0.0         # specific heat of the pan (0 = from the first base layer's material)
-emissivity = 0.3       # outer face of the base, toward the hob
-wall_emissivity = 0.3  # outer wall, for heat-up losses
-inner_diameter_mm = 0.0  # open water surface and wetted wall (0 = base diameter)
-centre_of_mass_mm = [0.0, 0.0]  # in the base frame
-offset_mm = [0.0, 0.0]          # pan centre relative to the hob zone centre
+// exampleMaterial is the commented [[material]] example of JobDoc.
+func exampleMaterial() MaterialJob {
+	return MaterialJob{Name: "alu-3004", ConductivityWMK: 162, DensityKgM3: 2720, CpJKgK: 893, YoungGPa: 69,
+		Poisson: 0.33, ExpansionUMMK: 23.9, HardnessMPa: 450, Emissivity: 0.2, Source: "supplier data sheet, 2026"}
+}
 
-[[pan.layers]]         # base layers from the hob side up; repeat for clad bases
-material = "alu-1050"  # a name from "gapflux materials" or a [[material]] below
-thickness_mm = 4.0
+// docTable writes one table of JobDoc: its header, its plain keys, then its
+// arrays of tables; every line starts with lead.
+func docTable(b *strings.Builder, lead, header, path string, v reflect.Value, specs map[string]keySpec) {
+	fmt.Fprintf(b, "\n%s%s\n", lead, header)
+	var sub []int
+	for k := range v.NumField() {
+		f := v.Field(k)
+		if f.Kind() == reflect.Slice && f.Type().Elem().Kind() == reflect.Struct {
+			sub = append(sub, k)
+			continue
+		}
+		name := tomlName(v.Type().Field(k))
+		s := specs[path+"."+name]
+		for _, line := range wrap(keyComment(s, f), 76) {
+			fmt.Fprintf(b, "%s# %s\n", lead, line)
+		}
+		fmt.Fprintf(b, "%s%s = %s\n", lead, name, tomlValue(f))
+	}
+	for _, k := range sub {
+		name := tomlName(v.Type().Field(k))
+		for e := range v.Field(k).Len() {
+			docTable(b, lead, "[["+path+"."+name+"]]", path+"."+name, v.Field(k).Index(e), specs)
+		}
+	}
+}
 
-[hob]
-mode = "heater"              # "heater" (radiant zone under glass) or "temperature" (fixed top)
-material = "glass-ceramic"
-thickness_mm = 4.0
-emissivity = 0.9             # glass top
-temperature_c = 250.0        # temperature mode: uniform top temperature
-temperature_profile = ""     # temperature mode: CSV r_mm,t_c (overrides temperature_c)
-heater_power_w = 1800.0      # heater mode: rated zone power
-zone_diameter_mm = 180.0
-power_profile = ""           # heater mode: CSV r_mm,relative power density ("" = uniform)
-down_loss_w_m2k = 10.0       # heater mode: glass to the room below
-transmitted_fraction = 0.0   # heater mode: share of heater power radiated straight to the pan
-limiter_c = 560.0            # heater mode: the heater cycles to hold the glass at this
-margin_mm = 30.0             # heater mode: glass modelled beyond the zone and the base
-room_c = 23.0
-profile = ""                 # hob top height profile CSV r_mm,z_mm when there is no hob scan
-rated_power_density_kw_m2 = 0.0  # temperature mode warning threshold (0 = heater power / zone area)
+// keyComment is the documentation of one key: meaning; unit, default and
+// allowed values.
+func keyComment(s keySpec, def reflect.Value) string {
+	t := s.doc
+	switch def.Kind() {
+	case reflect.Float64, reflect.Int, reflect.Array:
+		if s.unit != "" {
+			t += "; unit " + s.unit
+		}
+		t += "; default " + tomlValue(def) + "; allowed " + s.rangeText()
+		if def.Kind() == reflect.Array {
+			t += fmt.Sprintf(" each, exactly %d numbers", def.Len())
+		}
+		if s.why != "" {
+			t += " (" + s.why + ")"
+		}
+	case reflect.String:
+		if s.oneOf != nil {
+			q := make([]string, len(s.oneOf))
+			for i, o := range s.oneOf {
+				q[i] = strconv.Quote(o)
+			}
+			t += "; one of " + strings.Join(q, ", ")
+		}
+	case reflect.Bool:
+		t += "; true or false"
+	}
+	return t
+}
 
-[interface]
-model = "mikic-plastic"          # or "mikic-elastic"
-pan_sq_um = 1.2                  # RMS roughness Sq of the pan's outer face
-hob_sq_um = 0.9                  # and of the hob top (combined: 1.5 um)
-pan_slope = 0.0                  # mean absolute asperity slope (0 = from the correlation)
-hob_slope = 0.0
-slope_correlation = "antonetti"  # "antonetti", "lambert-fletcher" or "tanner-fahoum"
-microhardness_mpa = 600.0        # contact microhardness of the softer surface
-pan_accommodation = 0.8          # thermal accommodation coefficient of air
-hob_accommodation = 0.8
-gas_pressure_kpa = 101.325
+// tomlValue formats a default as TOML.
+func tomlValue(v reflect.Value) string {
+	switch v.Kind() {
+	case reflect.Float64:
+		s := fmtNum(v.Float())
+		if !strings.ContainsAny(s, ".e") {
+			s += ".0"
+		}
+		return s
+	case reflect.Int:
+		return strconv.FormatInt(v.Int(), 10)
+	case reflect.String:
+		return strconv.Quote(v.String())
+	case reflect.Bool:
+		return strconv.FormatBool(v.Bool())
+	case reflect.Array:
+		el := make([]string, v.Len())
+		for i := range el {
+			el[i] = tomlValue(v.Index(i))
+		}
+		return "[" + strings.Join(el, ", ") + "]"
+	}
+	return fmt.Sprint(v.Interface())
+}
 
-[water]
-mass_kg = 1.5
-from_c = 15.0          # heat-up start
-to_c = 90.0            # heat-up end
-steady_c = 60.0        # water temperature of the steady heat figures
-side = "fixed"         # "fixed" (h_w_m2k), "natural" (natural convection) or "boiling" (Rohsenow above 100 C)
-h_w_m2k = 1000.0
-rohsenow_surface = ""  # a named surface sets C_sf and n: copper-scored, copper-polished, stainless-etched,
-                       # stainless-mech-polished, stainless-ground-polished, brass, nickel, platinum,
-                       # aluminium-oxidised (Incropera Table 10.1; Cao 2009)
-rohsenow_csf = 0.011   # else these: Rohsenow surface-fluid coefficient and exponent (oxidised aluminium)
-rohsenow_n = 1.26
-emissivity = 0.95      # open water surface
-evaporation = false    # latent heat lost from the open surface (heat-mass analogy; overstates near 90 C)
+// tomlName is a struct field's TOML key.
+func tomlName(f reflect.StructField) string {
+	name, _, _ := strings.Cut(f.Tag.Get("toml"), ",")
+	return name
+}
 
-[tolerances]           # our own defaults: use the limits of the standards you work to
-concavity_min_pct = 0.0    # of diameter; 0 forbids a convex base
-concavity_max_pct = 0.5
-flatness_mz_max_mm = 1.0
-loss_max_pct = 10.0
-rocking_allowed = false
-
-[limits]
-max_points = 20000000
-max_file_mb = 2048.0
-
-# Add or override materials (SI-with-units keys; unset values keep the
-# built-in ones):
-# [[material]]
-# name = "alu-3004"
-# conductivity_w_mk = 162.0
-# density_kg_m3 = 2720.0
-# cp_j_kgk = 893.0
-# young_gpa = 69.0
-# poisson = 0.33
-# expansion_um_mk = 23.9
-# hardness_mpa = 450.0
-# emissivity = 0.2
-# source = "supplier data sheet, 2026"
-`
+// wrap breaks s into lines of at most width bytes at spaces.
+func wrap(s string, width int) []string {
+	var lines []string
+	line := ""
+	for _, w := range strings.Fields(s) {
+		if line != "" && len(line)+1+len(w) > width {
+			lines = append(lines, line)
+			line = "  " + w
+			continue
+		}
+		if line != "" {
+			line += " "
+		}
+		line += w
+	}
+	return append(lines, line)
+}

@@ -32,6 +32,9 @@ type GridOptions struct {
 	// (1.4826 × median absolute deviation); 0 means DefaultOutlierK and
 	// +Inf turns the outlier tests off.
 	OutlierK float64
+	// MaxCells bounds the number of grid cells, checked before the grid is
+	// allocated; 0 means the package's limit of 16 Mi cells.
+	MaxCells int
 }
 
 // Gridded is a base's height field before the form filter.
@@ -103,12 +106,16 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	if !(r > 0) || math.IsInf(r, 0) {
 		return nil, fmt.Errorf("scan: grid: base radius %g m is not positive and finite", r)
 	}
+	limit := float64(maxGridCells)
+	if opt.MaxCells > 0 {
+		limit = min(limit, float64(opt.MaxCells))
+	}
+	if sideF := 2*math.Floor(r/cell+1e-9) + 1; sideF*sideF > limit { // in floats: no overflow
+		return nil, fmt.Errorf("scan: grid: %.0f×%.0f cells for a %.1f mm base at %.3g mm cells is too many (the limit is %.0f cells); use larger cells",
+			sideF, sideF, 2e3*r, cell*1e3, limit)
+	}
 	half := int(math.Floor(r/cell + 1e-9))
 	side := 2*half + 1
-	if float64(side)*float64(side) > maxGridCells {
-		return nil, fmt.Errorf("scan: grid: %d×%d cells for a %.1f mm base at %.3g mm cells is too many; use larger cells",
-			side, side, 2e3*r, cell*1e3)
-	}
 	s := NewSurface(side, side, cell, -float64(half)*cell, -float64(half)*cell)
 	base := make([]bool, side*side)
 	nBase := 0

@@ -1,6 +1,7 @@
 package thermal
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -117,6 +118,14 @@ func (e *StallError) Error() string {
 // 100 kJ at working temperature for a 4 mm zone) is not modelled, so the
 // time counts from a hob already at its working state.
 func Heatup(load Load, power PowerFunc, opt HeatupOptions) (*HeatupResult, error) {
+	return HeatupContext(context.Background(), load, power, opt)
+}
+
+// HeatupContext is Heatup that stops when ctx is done: it checks ctx before
+// each call of the PowerFunc and once per integration step, and returns an
+// error wrapping ctx.Err(). The PowerFunc should honour ctx itself (a plate
+// solve: Solver.SolveContext).
+func HeatupContext(ctx context.Context, load Load, power PowerFunc, opt HeatupOptions) (*HeatupResult, error) {
 	if power == nil {
 		return nil, errors.New("thermal: heat-up: no power function")
 	}
@@ -133,11 +142,11 @@ func Heatup(load Load, power PowerFunc, opt HeatupOptions) (*HeatupResult, error
 	if ns < 0 || ns > 10000 {
 		return nil, fmt.Errorf("thermal: heat-up: %d power samples (want 1 to 10000)", opt.PowerSamples)
 	}
-	pw, err := samplePower(load.FromK, load.ToK, ns, power)
+	pw, err := samplePower(ctx, load.FromK, load.ToK, ns, power)
 	if err != nil {
 		return nil, err
 	}
-	h := &heatupRun{load: load, pw: pw, noLoss: opt.NoLosses}
+	h := &heatupRun{ctx: ctx, load: load, pw: pw, noLoss: opt.NoLosses}
 	res := &HeatupResult{}
 	if !opt.NoLosses {
 		res.Warnings = load.lossWarnings()
@@ -209,8 +218,11 @@ func (p *powerTable) at(tK float64) (panW, srcW float64) {
 	return p.pan.Predict(tK), p.src.Predict(tK)
 }
 
-func samplePower(fromK, toK float64, n int, power PowerFunc) (*powerTable, error) {
+func samplePower(ctx context.Context, fromK, toK float64, n int, power PowerFunc) (*powerTable, error) {
 	call := func(t float64) (float64, float64, error) {
+		if err := ctx.Err(); err != nil {
+			return 0, 0, fmt.Errorf("thermal: heat-up stopped before the power at %.6g K: %w", t, err)
+		}
 		pan, src, err := power(t)
 		if err != nil {
 			return 0, 0, fmt.Errorf("thermal: heat-up: power at %.6g K: %w", t, err)
@@ -251,6 +263,7 @@ func samplePower(fromK, toK float64, n int, power PowerFunc) (*powerTable, error
 
 // heatupRun evaluates the heat-up integrand.
 type heatupRun struct {
+	ctx    context.Context
 	load   Load
 	pw     *powerTable
 	noLoss bool
@@ -373,6 +386,9 @@ func (h *heatupRun) integrate(res *HeatupResult, maxStepS float64) error {
 	var total [4]float64
 	res.Curve = append(res.Curve, HeatupPoint{TWaterK: a, PanW: sa.panW, LossW: sa.lossW})
 	for a < end {
+		if err := h.ctx.Err(); err != nil {
+			return fmt.Errorf("thermal: heat-up stopped at %.6g K: %w", a, err)
+		}
 		last := false
 		if a+step >= end {
 			step, last = end-a, true

@@ -1,6 +1,7 @@
 package thermal
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -123,6 +124,17 @@ type Solver struct {
 // Solve is like the package-level Solve, reusing sv's work buffers; the
 // result does not depend on what they held.
 func (sv *Solver) Solve(p *Problem) (*Solution, error) {
+	return sv.SolveContext(context.Background(), p)
+}
+
+// SolveContext is Solve that stops when ctx is done: it checks ctx once per
+// outer iteration and once per conjugate-gradient iteration (each a sweep
+// over the grid) and returns an error wrapping ctx.Err(), so that
+// errors.Is(err, context.Canceled) holds.
+func (sv *Solver) SolveContext(ctx context.Context, p *Problem) (*Solution, error) {
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("thermal: plate solve not started: %w", err)
+	}
 	if err := validate(p); err != nil {
 		return nil, err
 	}
@@ -135,9 +147,11 @@ func (sv *Solver) Solve(p *Problem) (*Solution, error) {
 		old = sv.ws
 	}
 	s := reusePlate(p, old)
+	s.ctx, s.cg.ctx = ctx, ctx
 	defer func() {
 		// Keep the buffers, drop the references to the caller's data.
 		s.p, s.pan, s.water, s.warnings = nil, nil, waterLaw{}, nil
+		s.ctx, s.cg.ctx = nil, nil
 		sv.ws, sv.key = s, key
 	}()
 	if err := s.warmStart(); err != nil {
@@ -272,6 +286,7 @@ func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 // plate is the state of one Solve.
 type plate struct {
+	ctx    context.Context // nil = never cancelled
 	p      *Problem
 	n, nl  int
 	areaM2 float64
@@ -562,6 +577,11 @@ func (s *plate) run() error {
 	prevChange, prevAlpha := math.Inf(1), 0.0
 	dutyStep := math.Inf(1) // last duty change; T₁ is solved first while +Inf
 	for s.outer = 1; s.outer <= maxOuter; s.outer++ {
+		if s.ctx != nil {
+			if err := s.ctx.Err(); err != nil {
+				return fmt.Errorf("thermal: plate solve stopped in outer iteration %d: %w", s.outer, err)
+			}
+		}
 		if err := s.assemble(); err != nil {
 			return err
 		}

@@ -1,6 +1,7 @@
 package thermal
 
 import (
+	"context"
 	"fmt"
 	"math"
 
@@ -26,6 +27,7 @@ type preconditioner interface{ precondition(z, r []float64) }
 type pcg struct {
 	r, z, p, q []float64
 	maxIter    int
+	ctx        context.Context // checked once per iteration; nil = never cancelled
 }
 
 func newPCG(size int) *pcg { return reusePCG(nil, size) }
@@ -138,6 +140,11 @@ func (cg *pcg) solveForced(lv *level, m preconditioner, x, b []float64, tol floa
 		copy(p, z)
 		rz := floats.Dot(r, z)
 		for it < cg.maxIter {
+			if cg.ctx != nil {
+				if err := cg.ctx.Err(); err != nil {
+					return it, rel, fmt.Errorf("thermal: conjugate gradients stopped after %d iterations: %w", it, err)
+				}
+			}
 			it++
 			lv.apply(q, p)
 			pq := floats.Dot(p, q)
