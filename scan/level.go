@@ -89,6 +89,11 @@ type Levelled struct {
 	// PointsDropped counts the input points that are not part of the base
 	// (corner, wall, far outliers).
 	PointsDropped int
+	// PointsMerged counts the input points that repeat another point
+	// exactly (the same scan written twice into a file, or a vertex shared
+	// by facets of a triangle soup); they are merged into their first
+	// occurrence before segmentation.
+	PointsMerged int
 	// Warnings holds notes for the report.
 	Warnings []string
 }
@@ -195,12 +200,25 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 	out := &Levelled{}
 
-	// 1. First plane from a subsample.
+	// 0. Points repeated exactly count once.
+	all := pts
+	rep, merged := findRepeats(pts)
+	if merged > 0 {
+		pts = uniquePoints(pts, rep, merged)
+		out.PointsMerged = merged
+		if float64(merged) > 0.01*float64(len(all)) {
+			out.Warnings = append(out.Warnings, fmt.Sprintf("%d of %d points (%.0f %%) repeat another point exactly (is the scan written more than once into the file?); "+
+				"each was counted once", merged, len(all), 100*float64(merged)/float64(len(all))))
+		}
+	}
+
+	// 1. First plane from a subsample, without far strays.
 	stride := max(1, (len(pts)+149999)/150000)
 	sub := make([]r3.Vec, 0, len(pts)/stride+1)
 	for i := 0; i < len(pts); i += stride {
 		sub = append(sub, pts[i])
 	}
+	sub = trimFar(sub)
 	c0, n0, ok := pcaPlane(sub)
 	if !ok {
 		return nil, errors.New("scan: level: points are degenerate (all on a line or a point)")
@@ -369,7 +387,8 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	out.OriginM = bf.o
 	out.RadiusM = radius
 
-	// 7. Keep the base.
+	// 7. Keep the base; a repeated point keeps its first occurrence.
+	pts = all
 	far := 0.1 * radius
 	keep := make([]int32, len(pts))
 	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
@@ -377,7 +396,7 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	nKeep := int32(0)
 	for i, p := range pts {
 		u, v, w := bf.coords(p)
-		if u*u+v*v > r2 || math.Abs(w) > far {
+		if u*u+v*v > r2 || math.Abs(w) > far || (rep != nil && rep[i] != int32(i)) {
 			keep[i] = -1
 			continue
 		}
@@ -413,6 +432,9 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 	facetNormals := c.FacetNormals
 	for t, tri := range c.Triangles {
+		if rep != nil {
+			tri = [3]int32{rep[tri[0]], rep[tri[1]], rep[tri[2]]}
+		}
 		a, b, d := keep[tri[0]], keep[tri[1]], keep[tri[2]]
 		if a < 0 || b < 0 || d < 0 {
 			continue
@@ -423,7 +445,7 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 		}
 	}
 	out.Cloud = lc
-	out.PointsDropped = len(pts) - len(lc.Points)
+	out.PointsDropped = len(pts) - len(lc.Points) - merged
 	if opt.Reuse {
 		*c = Cloud{} // its storage now belongs to the output
 	}
