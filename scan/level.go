@@ -153,7 +153,63 @@ func newFrame(o, n r3.Vec) frame {
 //
 // Points beyond the rim circle or further than a tenth of the radius from
 // the base plane are dropped.
+//
+// A pan base (not a hob top) read from a file whose unit was not given
+// as an option (Cloud.UnitSource "default" or "header") must measure
+// between MinBaseDiameterM and MaxBaseDiameterM across when another unit
+// would put it there: otherwise Level returns a *SizeError that names the
+// unit to try. With the unit given as an option it only warns.
 func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
+	if c == nil || opt.HobTop || c.UnitSource == "" {
+		return level(c, opt)
+	}
+	unit, source := c.Unit, c.UnitSource
+	width, wok := scanWidth(c.Points)
+	l, err := level(c, opt)
+	if err != nil {
+		if hint, ok := UnitsHintRange(width, unit, MinBaseDiameterM, MaxBaseDiameterM); wok && ok {
+			return nil, &SizeError{DiameterM: width, Unit: unit, Hint: hint, Scan: true, Err: err}
+		}
+		return nil, err
+	}
+	d := 2 * l.FittedRadiusM
+	hint, ok := UnitsHintRange(d, unit, MinBaseDiameterM, MaxBaseDiameterM)
+	switch {
+	case !ok:
+	case source == "option":
+		l.Warnings = append(l.Warnings, (&SizeError{DiameterM: d, Unit: unit, Hint: hint}).Error()+
+			fmt.Sprintf(" (the file was read in %s as asked)", unitWords(unit)))
+	default:
+		return nil, &SizeError{DiameterM: d, Unit: unit, Hint: hint}
+	}
+	return l, nil
+}
+
+// scanWidth returns the width of the scan, m: the largest spread of a
+// coordinate between its 1st and 99th percentiles over up to 20 000
+// points. ok is false for fewer than 10 points.
+func scanWidth(pts []r3.Vec) (float64, bool) {
+	if len(pts) < 10 {
+		return 0, false
+	}
+	step := max(1, len(pts)/20000)
+	w := make([]float64, 0, len(pts)/step+1)
+	width := 0.0
+	for k := range 3 {
+		w = w[:0]
+		for i := 0; i < len(pts); i += step {
+			w = append(w, [3]float64{pts[i].X, pts[i].Y, pts[i].Z}[k])
+		}
+		n := len(w) - 1
+		lo := quickSelect(w, n/100)
+		hi := quickSelect(w, n-n/100)
+		width = max(width, hi-lo)
+	}
+	return width, !math.IsInf(width, 0) && width > 0
+}
+
+// level is Level without the size check.
+func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	if c == nil {
 		return nil, errors.New("scan: level: nil cloud")
 	}
