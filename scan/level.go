@@ -34,6 +34,13 @@ const (
 	FaceAssumed     = "assumed"
 )
 
+// A wall (or the corner before it) turns steeper than wallSlope, tan 50°,
+// within wallRunFrac·r0 of where the base's slope changes; a warped base
+// (a rim lifted by up to some 25°) does not. Our choice.
+var wallSlope = math.Tan(50 * math.Pi / 180)
+
+const wallRunFrac = 0.25
+
 // minLevelPoints is the fewest points Level works with.
 const minLevelPoints = 100
 
@@ -94,6 +101,9 @@ type Levelled struct {
 	// by facets of a triangle soup); they are merged into their first
 	// occurrence before segmentation.
 	PointsMerged int
+	// DroppedFraction is PointsDropped over the distinct input points
+	// (PointsMerged not counted).
+	DroppedFraction float64
 	// Warnings holds notes for the report.
 	Warnings []string
 }
@@ -343,8 +353,10 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	f = newFrame(c1, n2)
 	uc, vc, _ = f.coords(centre)
 
-	// 4. Rim circle.
-	rim, err := fitRim(pts, &f, uc, vc, r0, tanMax)
+	// 4. Rim circle, searched out to where the scan ends (a warped base
+	// may reach well beyond its flat part).
+	rq := extentRadius(sub, &f, uc, vc)
+	rim, err := fitRim(pts, &f, uc, vc, r0, rq, tanMax)
 	if err != nil {
 		// Sparse scans (a few points per millimetre of rim) defeat the
 		// profile search: fall back to a circle through the outline of
@@ -445,7 +457,7 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 
 	// 7. Keep the base; a repeated point keeps its first occurrence.
 	pts = all
-	far := 0.1 * radius
+	far := max(0.1*radius, 1.5*rim.band+0.02*radius)
 	keep := make([]int32, len(pts))
 	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
 	r2 := radius * radius
@@ -502,6 +514,7 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 	out.Cloud = lc
 	out.PointsDropped = len(pts) - len(lc.Points) - merged
+	out.DroppedFraction = float64(out.PointsDropped) / float64(len(pts)-merged)
 	if opt.Reuse {
 		*c = Cloud{} // its storage now belongs to the output
 	}
@@ -822,12 +835,18 @@ type rimFit struct {
 	u, v, r       float64 // circle centre in the frame's (u, v) and radius, m
 	dr            float64 // radial bin width, m
 	sectors, used int
+	// band is the largest |height| of the sectors' median profiles inside
+	// their rim, m: how far the base itself departs from the plane.
+	band float64
+	// warped counts the sectors whose base goes on past a change of slope
+	// that is not the corner before a wall.
+	warped int
 }
 
 // fitRim finds the base rim along radial profiles in angular sectors about
 // (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
-func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) {
-	rlo, rhi := 0.55*r0, 1.35*r0
+func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, error) {
+	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
 	// Density from the inner disc.
 	nInner, nAnn := 0, 0
 	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
@@ -862,6 +881,7 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 	ns := min(72, max(24, int(ring*r0/400/20)))
 	dr := max(r0/400, 20*float64(ns)/ring)
 	const minCount = 4
+	wallRun := wallRunFrac * r0
 	var nb, nsb int
 	var start []int32
 	var ws []float64
@@ -914,6 +934,8 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 	valid := make([]bool, nb)
 	var eu, ev []float64
 	kStart := int((0.6*r0 - rlo) / dr)
+	var band float64
+	var warped int
 	for s := range ns {
 		for bb := range nb {
 			lo, hi := start[s*nb+bb], start[s*nb+bb+1]
@@ -972,9 +994,32 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 			}
 			thr = max(thr, 3*1.4826*medianInPlace(inner))
 		}
-		edge := -1.0
-		good, prevK := 0, -1
-		prevS := 0.0
+		// A change of slope is the corner only when a wall follows: the
+		// profile turns steeper than wallSlope within wallRun. Otherwise
+		// the base itself is warped (a lifted rim), and the walk goes on
+		// against the new slope.
+		// The slope is the local least-squares one or, where too few bins
+		// are left for it (a vertical wall fills one bin), the step from
+		// the previous measured bin; the rise since k must exceed 0.5 % of
+		// r0, which no noise in the bins' medians does.
+		wallNear := func(k int) bool {
+			prev := k
+			for t := k + 1; t < nb && pos[t] <= pos[k]+wallRun; t++ {
+				if !valid[t] {
+					continue
+				}
+				st, okT := slope(t)
+				step := math.Abs(prof[t]-prof[prev]) / (pos[t] - pos[prev])
+				prev = t
+				if math.Abs(prof[t]-prof[k]) > 0.005*r0 && (okT && math.Abs(st) > wallSlope || step > wallSlope) {
+					return true
+				}
+			}
+			return false
+		}
+		bias, warp := 0.0, false // after a warp: the slope followed instead of the trend
+		edge, top := -1.0, 0.0
+		good, prevK, prevS := 0, -1, 0.0
 		for k := kStart; k < nb; k++ {
 			if !valid[k] {
 				more := false
@@ -1001,7 +1046,12 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 			if !okS {
 				continue
 			}
-			sl -= trend[1] + 2*trend[2]*pos[k]
+			raw := sl
+			if warp {
+				sl -= bias
+			} else {
+				sl -= trend[1] + 2*trend[2]*pos[k]
+			}
 			if math.Abs(sl) > thr {
 				// A corner keeps rising; a noise spike does not: the edge
 				// needs one of the next two measured slopes over the limit
@@ -1016,6 +1066,12 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 				if !confirmed && seen == 2 {
 					continue
 				}
+				if !wallNear(k) {
+					warp, bias = true, raw
+					good, prevK, prevS = good+1, k, 0
+					top = max(top, math.Abs(prof[k]))
+					continue
+				}
 				if good >= 3 {
 					// Interpolate where the slope crosses the limit.
 					a, b := math.Abs(prevS), math.Abs(sl)
@@ -1024,15 +1080,20 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 				break
 			}
 			good, prevK, prevS = good+1, k, sl
+			top = max(top, math.Abs(prof[k]))
 		}
 		if edge < 0 {
 			continue
 		}
+		if warp {
+			warped++
+		}
+		band = max(band, top)
 		th := -math.Pi + (float64(s)+0.5)*2*math.Pi/float64(ns)
 		eu = append(eu, uc+edge*math.Cos(th))
 		ev = append(ev, vc+edge*math.Sin(th))
 	}
-	res := rimFit{sectors: ns, dr: dr}
+	res := rimFit{sectors: ns, dr: dr, band: band, warped: warped}
 	if len(eu) < 3 {
 		return res, fmt.Errorf("scan: level: base rim found in %d of %d sectors; cannot fit the footprint circle", len(eu), ns)
 	}
@@ -1042,6 +1103,20 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 	}
 	res.u, res.v, res.r, res.used = cu, cv, r, used
 	return res, nil
+}
+
+// extentRadius returns the 99.5th percentile of the distance of pts from
+// (uc, vc) in the plane of f: how far out the scan reaches, strays aside.
+func extentRadius(pts []r3.Vec, f *frame, uc, vc float64) float64 {
+	if len(pts) == 0 {
+		return 0
+	}
+	d := make([]float64, len(pts))
+	for i, p := range pts {
+		u, v, _ := f.coords(p)
+		d[i] = math.Hypot(u-uc, v-vc)
+	}
+	return quickSelect(d, int(0.995*float64(len(d)-1)))
 }
 
 // profileTrend fits w = t0 + t1·r + t2·r² by least squares to the valid
