@@ -34,6 +34,13 @@ const (
 	FaceAssumed     = "assumed"
 )
 
+// A wall (or the corner before it) turns steeper than wallSlope, tan 50°,
+// within wallRunFrac·r0 of where the base's slope changes; a warped base
+// (a rim lifted by up to some 25°) does not. Our choice.
+var wallSlope = math.Tan(50 * math.Pi / 180)
+
+const wallRunFrac = 0.25
+
 // minLevelPoints is the fewest points Level works with.
 const minLevelPoints = 100
 
@@ -89,6 +96,14 @@ type Levelled struct {
 	// PointsDropped counts the input points that are not part of the base
 	// (corner, wall, far outliers).
 	PointsDropped int
+	// PointsMerged counts the input points that repeat another point
+	// exactly (the same scan written twice into a file, or a vertex shared
+	// by facets of a triangle soup); they are merged into their first
+	// occurrence before segmentation.
+	PointsMerged int
+	// DroppedFraction is PointsDropped over the distinct input points
+	// (PointsMerged not counted).
+	DroppedFraction float64
 	// Warnings holds notes for the report.
 	Warnings []string
 }
@@ -148,7 +163,63 @@ func newFrame(o, n r3.Vec) frame {
 //
 // Points beyond the rim circle or further than a tenth of the radius from
 // the base plane are dropped.
+//
+// A pan base (not a hob top) read from a file whose unit was not given
+// as an option (Cloud.UnitSource "default" or "header") must measure
+// between MinBaseDiameterM and MaxBaseDiameterM across when another unit
+// would put it there: otherwise Level returns a *SizeError that names the
+// unit to try. With the unit given as an option it only warns.
 func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
+	if c == nil || opt.HobTop || c.UnitSource == "" {
+		return level(c, opt)
+	}
+	unit, source := c.Unit, c.UnitSource
+	width, wok := scanWidth(c.Points)
+	l, err := level(c, opt)
+	if err != nil {
+		if hint, ok := UnitsHintRange(width, unit, MinBaseDiameterM, MaxBaseDiameterM); wok && ok {
+			return nil, &SizeError{DiameterM: width, Unit: unit, Hint: hint, Scan: true, Err: err}
+		}
+		return nil, err
+	}
+	d := 2 * l.FittedRadiusM
+	hint, ok := UnitsHintRange(d, unit, MinBaseDiameterM, MaxBaseDiameterM)
+	switch {
+	case !ok:
+	case source == "option":
+		l.Warnings = append(l.Warnings, (&SizeError{DiameterM: d, Unit: unit, Hint: hint}).Error()+
+			fmt.Sprintf(" (the file was read in %s as asked)", unitWords(unit)))
+	default:
+		return nil, &SizeError{DiameterM: d, Unit: unit, Hint: hint}
+	}
+	return l, nil
+}
+
+// scanWidth returns the width of the scan, m: the largest spread of a
+// coordinate between its 1st and 99th percentiles over up to 20 000
+// points. ok is false for fewer than 10 points.
+func scanWidth(pts []r3.Vec) (float64, bool) {
+	if len(pts) < 10 {
+		return 0, false
+	}
+	step := max(1, len(pts)/20000)
+	w := make([]float64, 0, len(pts)/step+1)
+	width := 0.0
+	for k := range 3 {
+		w = w[:0]
+		for i := 0; i < len(pts); i += step {
+			w = append(w, [3]float64{pts[i].X, pts[i].Y, pts[i].Z}[k])
+		}
+		n := len(w) - 1
+		lo := quickSelect(w, n/100)
+		hi := quickSelect(w, n-n/100)
+		width = max(width, hi-lo)
+	}
+	return width, !math.IsInf(width, 0) && width > 0
+}
+
+// level is Level without the size check.
+func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	if c == nil {
 		return nil, errors.New("scan: level: nil cloud")
 	}
@@ -195,12 +266,25 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 	out := &Levelled{}
 
-	// 1. First plane from a subsample.
+	// 0. Points repeated exactly count once.
+	all := pts
+	rep, merged := findRepeats(pts)
+	if merged > 0 {
+		pts = uniquePoints(pts, rep, merged)
+		out.PointsMerged = merged
+		if float64(merged) > 0.01*float64(len(all)) {
+			out.Warnings = append(out.Warnings, fmt.Sprintf("%d of %d points (%.0f %%) repeat another point exactly (is the scan written more than once into the file?); "+
+				"each was counted once", merged, len(all), 100*float64(merged)/float64(len(all))))
+		}
+	}
+
+	// 1. First plane from a subsample, without far strays.
 	stride := max(1, (len(pts)+149999)/150000)
 	sub := make([]r3.Vec, 0, len(pts)/stride+1)
 	for i := 0; i < len(pts); i += stride {
 		sub = append(sub, pts[i])
 	}
+	sub = trimFar(sub)
 	c0, n0, ok := pcaPlane(sub)
 	if !ok {
 		return nil, errors.New("scan: level: points are degenerate (all on a line or a point)")
@@ -269,8 +353,10 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	f = newFrame(c1, n2)
 	uc, vc, _ = f.coords(centre)
 
-	// 4. Rim circle.
-	rim, err := fitRim(pts, &f, uc, vc, r0, tanMax)
+	// 4. Rim circle, searched out to where the scan ends (a warped base
+	// may reach well beyond its flat part).
+	rq := extentRadius(sub, &f, uc, vc)
+	rim, err := fitRim(pts, &f, uc, vc, r0, rq, tanMax)
 	if err != nil {
 		// Sparse scans (a few points per millimetre of rim) defeat the
 		// profile search: fall back to a circle through the outline of
@@ -369,15 +455,16 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	out.OriginM = bf.o
 	out.RadiusM = radius
 
-	// 7. Keep the base.
-	far := 0.1 * radius
+	// 7. Keep the base; a repeated point keeps its first occurrence.
+	pts = all
+	far := max(0.1*radius, 1.5*rim.band+0.02*radius)
 	keep := make([]int32, len(pts))
 	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
 	r2 := radius * radius
 	nKeep := int32(0)
 	for i, p := range pts {
 		u, v, w := bf.coords(p)
-		if u*u+v*v > r2 || math.Abs(w) > far {
+		if u*u+v*v > r2 || math.Abs(w) > far || (rep != nil && rep[i] != int32(i)) {
 			keep[i] = -1
 			continue
 		}
@@ -413,6 +500,9 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 	facetNormals := c.FacetNormals
 	for t, tri := range c.Triangles {
+		if rep != nil {
+			tri = [3]int32{rep[tri[0]], rep[tri[1]], rep[tri[2]]}
+		}
 		a, b, d := keep[tri[0]], keep[tri[1]], keep[tri[2]]
 		if a < 0 || b < 0 || d < 0 {
 			continue
@@ -423,7 +513,8 @@ func Level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 		}
 	}
 	out.Cloud = lc
-	out.PointsDropped = len(pts) - len(lc.Points)
+	out.PointsDropped = len(pts) - len(lc.Points) - merged
+	out.DroppedFraction = float64(out.PointsDropped) / float64(len(pts)-merged)
 	if opt.Reuse {
 		*c = Cloud{} // its storage now belongs to the output
 	}
@@ -744,12 +835,18 @@ type rimFit struct {
 	u, v, r       float64 // circle centre in the frame's (u, v) and radius, m
 	dr            float64 // radial bin width, m
 	sectors, used int
+	// band is the largest |height| of the sectors' median profiles inside
+	// their rim, m: how far the base itself departs from the plane.
+	band float64
+	// warped counts the sectors whose base goes on past a change of slope
+	// that is not the corner before a wall.
+	warped int
 }
 
 // fitRim finds the base rim along radial profiles in angular sectors about
 // (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
-func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) {
-	rlo, rhi := 0.55*r0, 1.35*r0
+func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, error) {
+	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
 	// Density from the inner disc.
 	nInner, nAnn := 0, 0
 	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
@@ -784,6 +881,7 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 	ns := min(72, max(24, int(ring*r0/400/20)))
 	dr := max(r0/400, 20*float64(ns)/ring)
 	const minCount = 4
+	wallRun := wallRunFrac * r0
 	var nb, nsb int
 	var start []int32
 	var ws []float64
@@ -836,6 +934,8 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 	valid := make([]bool, nb)
 	var eu, ev []float64
 	kStart := int((0.6*r0 - rlo) / dr)
+	var band float64
+	var warped int
 	for s := range ns {
 		for bb := range nb {
 			lo, hi := start[s*nb+bb], start[s*nb+bb+1]
@@ -894,9 +994,32 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 			}
 			thr = max(thr, 3*1.4826*medianInPlace(inner))
 		}
-		edge := -1.0
-		good, prevK := 0, -1
-		prevS := 0.0
+		// A change of slope is the corner only when a wall follows: the
+		// profile turns steeper than wallSlope within wallRun. Otherwise
+		// the base itself is warped (a lifted rim), and the walk goes on
+		// against the new slope.
+		// The slope is the local least-squares one or, where too few bins
+		// are left for it (a vertical wall fills one bin), the step from
+		// the previous measured bin; the rise since k must exceed 0.5 % of
+		// r0, which no noise in the bins' medians does.
+		wallNear := func(k int) bool {
+			prev := k
+			for t := k + 1; t < nb && pos[t] <= pos[k]+wallRun; t++ {
+				if !valid[t] {
+					continue
+				}
+				st, okT := slope(t)
+				step := math.Abs(prof[t]-prof[prev]) / (pos[t] - pos[prev])
+				prev = t
+				if math.Abs(prof[t]-prof[k]) > 0.005*r0 && (okT && math.Abs(st) > wallSlope || step > wallSlope) {
+					return true
+				}
+			}
+			return false
+		}
+		bias, warp := 0.0, false // after a warp: the slope followed instead of the trend
+		edge, top := -1.0, 0.0
+		good, prevK, prevS := 0, -1, 0.0
 		for k := kStart; k < nb; k++ {
 			if !valid[k] {
 				more := false
@@ -923,7 +1046,12 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 			if !okS {
 				continue
 			}
-			sl -= trend[1] + 2*trend[2]*pos[k]
+			raw := sl
+			if warp {
+				sl -= bias
+			} else {
+				sl -= trend[1] + 2*trend[2]*pos[k]
+			}
 			if math.Abs(sl) > thr {
 				// A corner keeps rising; a noise spike does not: the edge
 				// needs one of the next two measured slopes over the limit
@@ -938,6 +1066,12 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 				if !confirmed && seen == 2 {
 					continue
 				}
+				if !wallNear(k) {
+					warp, bias = true, raw
+					good, prevK, prevS = good+1, k, 0
+					top = max(top, math.Abs(prof[k]))
+					continue
+				}
 				if good >= 3 {
 					// Interpolate where the slope crosses the limit.
 					a, b := math.Abs(prevS), math.Abs(sl)
@@ -946,15 +1080,20 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 				break
 			}
 			good, prevK, prevS = good+1, k, sl
+			top = max(top, math.Abs(prof[k]))
 		}
 		if edge < 0 {
 			continue
 		}
+		if warp {
+			warped++
+		}
+		band = max(band, top)
 		th := -math.Pi + (float64(s)+0.5)*2*math.Pi/float64(ns)
 		eu = append(eu, uc+edge*math.Cos(th))
 		ev = append(ev, vc+edge*math.Sin(th))
 	}
-	res := rimFit{sectors: ns, dr: dr}
+	res := rimFit{sectors: ns, dr: dr, band: band, warped: warped}
 	if len(eu) < 3 {
 		return res, fmt.Errorf("scan: level: base rim found in %d of %d sectors; cannot fit the footprint circle", len(eu), ns)
 	}
@@ -964,6 +1103,20 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, tanMax float64) (rimFit, error) 
 	}
 	res.u, res.v, res.r, res.used = cu, cv, r, used
 	return res, nil
+}
+
+// extentRadius returns the 99.5th percentile of the distance of pts from
+// (uc, vc) in the plane of f: how far out the scan reaches, strays aside.
+func extentRadius(pts []r3.Vec, f *frame, uc, vc float64) float64 {
+	if len(pts) == 0 {
+		return 0
+	}
+	d := make([]float64, len(pts))
+	for i, p := range pts {
+		u, v, _ := f.coords(p)
+		d[i] = math.Hypot(u-uc, v-vc)
+	}
+	return quickSelect(d, int(0.995*float64(len(d)-1)))
 }
 
 // profileTrend fits w = t0 + t1·r + t2·r² by least squares to the valid

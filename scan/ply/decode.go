@@ -43,8 +43,11 @@ type decoder struct {
 
 // Decode reads a PLY file from r. Errors are *ParseError values: header
 // errors carry the line; data errors name the element and record index and
-// carry the line (ASCII) or the byte offset (binary). Data after the last
-// element is an error in an ASCII file and ignored in a binary one.
+// carry the line (ASCII) or the byte offset (binary). Header counts are
+// checked against the data: data after the last element is an error, and
+// in a binary file of known size the elements must fill the file exactly
+// (records of fixed size) or at least fit it (records with lists), which
+// is checked before anything is read; see ErrCountMismatch.
 func Decode(r io.Reader, opt Options) (*Cloud, error) {
 	if opt.MaxPoints <= 0 {
 		opt.MaxPoints = DefaultMaxPoints
@@ -69,6 +72,11 @@ func Decode(r io.Reader, opt Options) (*Cloud, error) {
 	uses, err := d.plan()
 	if err != nil {
 		return nil, err
+	}
+	if h.format != ASCII {
+		if err := d.checkBinarySize(); err != nil {
+			return nil, err
+		}
 	}
 	for _, u := range uses {
 		if u.vertex {
@@ -96,11 +104,108 @@ func Decode(r io.Reader, opt Options) (*Cloud, error) {
 		}
 	}
 	if h.format == ASCII {
-		if err := d.asciiTrailer(); err != nil {
-			return nil, err
-		}
+		err = d.asciiTrailer()
+	} else {
+		err = d.binaryTrailer()
+	}
+	if err != nil {
+		return nil, err
 	}
 	return d.c, d.checkLateFaces()
+}
+
+// satMul returns a·b for non-negative a and b, or math.MaxInt64 when it
+// overflows.
+func satMul(a, b int64) int64 {
+	if b != 0 && a > math.MaxInt64/b {
+		return math.MaxInt64
+	}
+	return a * b
+}
+
+// satAdd returns a+b for non-negative a and b, or math.MaxInt64 when it
+// overflows.
+func satAdd(a, b int64) int64 {
+	if a > math.MaxInt64-b {
+		return math.MaxInt64
+	}
+	return a + b
+}
+
+// checkBinarySize checks the header's element counts against the size of
+// a binary input, when it is known, before any record is read: every
+// element must fit in what is left of the file after the elements before
+// it (a record is at least its fixed properties and list lengths), and when
+// no element has lists the records must end exactly at the end of the
+// file. A header count that is off by one record shows up here.
+func (d *decoder) checkBinarySize() error {
+	size := d.opt.SizeBytes
+	if size <= 0 {
+		return nil
+	}
+	end, exact := d.lr.off, true
+	var last *element
+	for i := range d.h.elems {
+		e := &d.h.elems[i]
+		fixed, least := e.recordSize()
+		if len(e.props) == 0 || e.count == 0 {
+			continue
+		}
+		last = e
+		exact = exact && fixed > 0
+		need := satMul(e.count, int64(least))
+		next := satAdd(end, need)
+		if next > size {
+			what := "at least "
+			if fixed > 0 {
+				what = ""
+			}
+			return &ParseError{Name: d.opt.Name, Offset: size, Err: fmt.Errorf(
+				"%w: element %s: %d records of %s%d bytes from byte %d need %s%d bytes, but the file ends at byte %d "+
+					"(%w); the header's count for %q is too high or the file is cut short",
+				ErrCountMismatch, e.name, e.count, what, least, end, what, need, size, io.ErrUnexpectedEOF, e.name)}
+		}
+		end = next
+	}
+	if exact && end < size {
+		name, count := "header", int64(0)
+		if last != nil {
+			name, count = last.name, last.count
+		}
+		return &ParseError{Name: d.opt.Name, Offset: end, Err: fmt.Errorf(
+			"%w: %d bytes follow the last element (%s, %d records), which ends at byte %d of %d; "+
+				"a header count is too low or data was appended",
+			ErrCountMismatch, size-end, name, count, end, size)}
+	}
+	return nil
+}
+
+// binaryTrailer checks that the last element ends the input: at
+// opt.SizeBytes when the size is known, else at the end of the stream.
+func (d *decoder) binaryTrailer() error {
+	last := "header"
+	var count int64
+	for i := range d.h.elems {
+		if e := &d.h.elems[i]; len(e.props) > 0 && e.count > 0 {
+			last, count = e.name, e.count
+		}
+	}
+	extra := int64(0)
+	if d.opt.SizeBytes > 0 {
+		extra = d.opt.SizeBytes - d.lr.off
+	} else if b, _ := d.lr.br.Peek(1); len(b) > 0 {
+		extra = -1 // unknown amount
+	}
+	if extra == 0 {
+		return nil
+	}
+	amount := "bytes follow"
+	if extra > 0 {
+		amount = fmt.Sprintf("%d bytes follow", extra)
+	}
+	return &ParseError{Name: d.opt.Name, Offset: d.lr.off, Err: fmt.Errorf(
+		"%w: %s the last element (%s, %d records), which ends at byte %d; a header count is too low or data was appended",
+		ErrCountMismatch, amount, last, count, d.lr.off)}
 }
 
 // checkLateFaces checks face indices that were read before the vertex
@@ -232,11 +337,28 @@ func (d *decoder) addIndex(f *fan, v int64) error {
 }
 
 // binaryError returns a *ParseError at byte offset off in record i of e.
+// Running out of data names the declared count too.
 func (d *decoder) binaryError(off int64, e *element, i int64, err error) *ParseError {
-	if err == io.EOF {
-		err = io.ErrUnexpectedEOF
+	if err == io.EOF || err == io.ErrUnexpectedEOF {
+		return &ParseError{Name: d.opt.Name, Offset: off, Err: fmt.Errorf(
+			"element %s %d of %d: %w (%w): the header's count for %q is too high or the file is cut short",
+			e.name, i, e.count, io.ErrUnexpectedEOF, ErrCountMismatch, e.name)}
 	}
 	return &ParseError{Name: d.opt.Name, Offset: off, Err: fmt.Errorf("element %s %d: %w", e.name, i, err)}
+}
+
+// errPolygon means a face lists fewer than 3 vertices.
+var errPolygon = fmt.Errorf("%w: a face needs at least 3 vertex indices", ErrCountMismatch)
+
+// polygon checks that a face's index list has at least 3 entries: a
+// shorter one is no polygon, and in a binary file it is the usual sign
+// that an earlier header count was too high and the records are read out
+// of step.
+func polygon(n int64) error {
+	if n < 3 {
+		return fmt.Errorf("%w, this one has %d (an earlier element's count may be too high)", errPolygon, n)
+	}
+	return nil
 }
 
 // take returns the next n bytes (n <= bufSize), valid until the next read.
@@ -508,6 +630,9 @@ func (d *decoder) binaryFaces(e *element, u *use) error {
 				break // let binaryRecord report it or read it in pieces
 			}
 			at := pos + cs
+			if err := polygon(n); err != nil {
+				return d.binaryError(d.lr.off+int64(pos), e, i, err)
+			}
 			var f fan
 			for q := 0; q < int(n); q++ {
 				x, ok := integer(b[at+q*is:], p.kind, d.order)
@@ -571,6 +696,9 @@ func (d *decoder) binaryRecord(e *element, u *use, i int64) error {
 				return err
 			}
 			continue
+		}
+		if err := polygon(n); err != nil {
+			return d.binaryError(start, e, i, err)
 		}
 		var f fan
 		for n > 0 {
@@ -719,6 +847,11 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 				return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: length is not a whole number >= 0", p.name))
 			}
 			isFace := u.faces && j == u.list
+			if isFace {
+				if err := polygon(n); err != nil {
+					return d.asciiError(ln, lo, start+1, e, i, err)
+				}
+			}
 			var f fan
 			for ; n > 0; n-- {
 				tok, start, next = field(line, pos)

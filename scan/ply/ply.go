@@ -79,6 +79,10 @@ var (
 	ErrNotFinite = scanerr.ErrNotFinite
 	// ErrIndexRange means a face refers to a vertex that does not exist.
 	ErrIndexRange = errors.New("face vertex index out of range")
+	// ErrCountMismatch means the element counts in the header do not
+	// match the data: a binary file is too short for them or has bytes
+	// left after the last element.
+	ErrCountMismatch = errors.New("header element counts do not match the data")
 )
 
 // FormatError reports that the input is not valid PLY.
