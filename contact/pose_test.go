@@ -594,9 +594,9 @@ func TestRestCurvedBasesRock(t *testing.T) {
 	const r = 100 * mmM
 	closed := func(sag float64) float64 { return r * math.Sqrt(DefaultBandM/sag) } // band radius a
 	tests := []struct {
-		name   string
-		f      func(x, y float64) float64
-		aM     float64 // band half-width a; 0: no closed form
+		name string
+		f    func(x, y float64) float64
+		aM   float64 // band half-width a; 0: no closed form
 	}{
 		{"dome 0.3 mm", func(x, y float64) float64 { return 0.3 * mmM * (x*x + y*y) / (r * r) }, closed(0.3 * mmM)},
 		{"dome 1 mm", func(x, y float64) float64 { return 1 * mmM * (x*x + y*y) / (r * r) }, closed(1 * mmM)},
