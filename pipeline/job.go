@@ -34,6 +34,7 @@ type GridJob struct {
 	CutoffMM    float64 `toml:"cutoff_mm"`     // ISO 16610-61 Gaussian cut-off; 0 = no filter
 	RingMM      float64 `toml:"ring_mm"`       // ring width of the ring table
 	RockMM      float64 `toml:"rock_mm"`       // the pan rocks when the rim drops more than this
+	RockForceN  float64 `toml:"rock_force_n"`  // ... and a rim press below this force tips it (DESIGN 5.1)
 	OutlierK    float64 `toml:"outlier_k"`     // robust sigmas for the local outlier test
 	Units       string  `toml:"units"`         // unit of the scan files: mm, m, um, in ("" = header hint, else mm)
 	Face        string  `toml:"face"`          // "", "up" or "down"
@@ -141,7 +142,7 @@ type MaterialJob struct {
 // DefaultJob returns the default scenario (DESIGN 5.3a; our own numbers).
 func DefaultJob() Job {
 	return Job{
-		Grid: GridJob{CellMM: 0.5, CutoffMM: 8, RingMM: 5, RockMM: 0.1, OutlierK: 5},
+		Grid: GridJob{CellMM: 0.5, CutoffMM: 8, RingMM: 5, RockMM: 0.1, RockForceN: 5, OutlierK: 5},
 		Pan: PanJob{
 			MassKg:         1.0,
 			Layers:         []LayerJob{{Material: "alu-1050", ThicknessMM: 4}},
@@ -269,6 +270,9 @@ func (j *Job) Validate() error {
 	nonneg("grid.cutoff_mm", j.Grid.CutoffMM)
 	pos("grid.ring_mm", j.Grid.RingMM)
 	nonneg("grid.rock_mm", j.Grid.RockMM)
+	if !(j.Grid.RockForceN > 0 && j.Grid.RockForceN <= 1000) {
+		errs = append(errs, fmt.Sprintf("grid.rock_force_n must be in (0, 1000] N (got %g)", j.Grid.RockForceN))
+	}
 	pos("grid.outlier_k", j.Grid.OutlierK)
 	oneOf("grid.units", j.Grid.Units, "", "mm", "m", "um", "in")
 	oneOf("grid.face", j.Grid.Face, "", "up", "down")

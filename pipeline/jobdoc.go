@@ -14,6 +14,7 @@ cell_mm = 0.5          # grid cell size
 cutoff_mm = 8.0        # ISO 16610-61 areal Gaussian form filter cut-off (0 = off)
 ring_mm = 5.0          # ring width of the ring table
 rock_mm = 0.1          # the pan "rocks" when the pressed rim drops more than this
+rock_force_n = 5.0     # ... and a rim press lighter than this tips it (a fingertip press)
 outlier_k = 5.0        # robust sigmas of the local outlier test
 units = ""             # unit of the scan's numbers: mm, m, um, in ("" = header hint, else mm)
 face = ""              # outer face toward scanner +z ("up") or -z ("down"); "" = detect
