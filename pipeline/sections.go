@@ -51,8 +51,8 @@ func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev 
 	gr.Shape, gr.ShapeDetail = sh.Word, shapeDetail(sh)
 	gr.ShapeQuadric = &QuadricShape{
 		RimSagMM:      [2]float64{roundTo(sh.RimSagM[0]*1e3, 4), roundTo(sh.RimSagM[1]*1e3, 4)},
-		AxisDeg:       [2]float64{roundTo(sh.AxisDeg[0], 1), roundTo(sh.AxisDeg[1], 1)},
-		BendAxisDeg:   roundTo(sh.BendAxisDeg, 1),
+		AxisDeg:       [2]float64{axisDeg(sh.AxisDeg[0], 1), axisDeg(sh.AxisDeg[1], 1)},
+		BendAxisDeg:   axisDeg(sh.BendAxisDeg, 1),
 		TiltRiseMM:    roundTo(sh.TiltRiseM*1e3, 4),
 		ThresholdMM:   roundTo(sh.ThresholdM*1e3, 4),
 		ResidualRMSUM: roundTo(sh.Quadric.ResidualRMSM*1e6, 2),
@@ -64,17 +64,35 @@ func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev 
 // rim sags (positive: the centre stands above the rim that way) and, for a
 // bent base, the axis it is bent about.
 func shapeDetail(sh *scan.Shape) string {
-	s, a := sh.RimSagM, sh.AxisDeg
-	sags := fmt.Sprintf("rim sags %+.3f mm across %.0f° and %+.3f mm across %.0f° (positive: centre above the rim)",
-		s[0]*1e3, a[0], s[1]*1e3, a[1])
-	limit := fmt.Sprintf("; below %.3f mm counts as none", sh.ThresholdM*1e3)
+	s, a, t := sh.RimSagM, sh.AxisDeg, sh.ThresholdM
+	mm := func(v float64) string { return fmt.Sprintf("%+.3f mm", roundTo(v*1e3, 3)) }
+	limit := fmt.Sprintf(" (positive: centre above the rim; below %.3f mm counts as none)", t*1e3)
+	var sags string
+	switch {
+	case math.Abs(s[0]) <= t:
+		sags = fmt.Sprintf("no rim sag above the threshold (largest %s)", mm(s[0]))
+	case math.Abs(s[0]-s[1]) <= t:
+		sags = fmt.Sprintf("rim sag %s all round (%s across %.0f°, %s across %.0f°)", mm((s[0]+s[1])/2), mm(s[0]), axisDeg(a[0], 0), mm(s[1]), axisDeg(a[1], 0))
+	default:
+		sags = fmt.Sprintf("rim sags %s across %.0f° and %s across %.0f°", mm(s[0]), axisDeg(a[0], 0), mm(s[1]), axisDeg(a[1], 0))
+	}
 	switch sh.Word {
 	case scan.ShapeBent:
-		return fmt.Sprintf("bent about an axis at %.0f° from x: %s%s", sh.BendAxisDeg, sags, limit)
+		return fmt.Sprintf("bent about an axis at %.0f° from x: %s%s", axisDeg(sh.BendAxisDeg, 0), sags, limit)
 	case scan.ShapeTilted:
-		return fmt.Sprintf("flat but rising %.3f mm across the diameter towards %.0f°: %s%s", sh.TiltRiseM*1e3, sh.TiltAxisDeg, sags, limit)
+		return fmt.Sprintf("rising %.3f mm across the diameter towards %.0f°; %s%s", sh.TiltRiseM*1e3, sh.TiltAxisDeg, sags, limit)
 	}
 	return sags + limit
+}
+
+// axisDeg rounds an axis direction to the given decimals and folds 180°
+// back to 0° (an axis has no sense).
+func axisDeg(d float64, decimals int) float64 {
+	r := roundTo(d, decimals)
+	if r >= 180 {
+		r -= 180
+	}
+	return r
 }
 
 func poseReport(p *contact.Pose, comM [2]float64, job Job) *PoseReport {

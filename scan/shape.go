@@ -90,7 +90,8 @@ type Shape struct {
 	// direction, that of the smaller curvature, degrees in [0, 180).
 	BendAxisDeg float64
 	// TiltRiseM is how much the quadric's plane part rises across the
-	// diameter, 2R·|(B, C)|, m; TiltAxisDeg the direction of the rise.
+	// diameter, 2R·|(B, C)|, m; TiltAxisDeg the direction it rises
+	// towards, degrees in [0, 360) from +x towards +y.
 	TiltRiseM   float64
 	TiltAxisDeg float64
 	// ThresholdM is the rim sag (and tilt rise) below which a term counts
@@ -145,7 +146,7 @@ func MeasureShape(s *Surface, radiusM float64, opt ShapeOptions) (*Shape, error)
 	}
 	sh.BendAxisDeg = sh.AxisDeg[1]
 	sh.TiltRiseM = 2 * r * math.Hypot(q.B, q.C)
-	sh.TiltAxisDeg = angleDeg(math.Atan2(q.C, q.B))
+	sh.TiltAxisDeg = math.Mod(math.Atan2(q.C, q.B)*180/math.Pi+360, 360)
 	sh.Word = shapeWord(sh.RimSagM, sh.TiltRiseM, sh.ThresholdM)
 	return sh, nil
 }
