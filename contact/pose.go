@@ -143,9 +143,9 @@ type Pose struct {
 	RockM float64
 	// TipM is the rim drop of DESIGN.md 5.1 taken literally: tip the pan
 	// about each edge of the support polygon (both sides of a support line;
-	// 72 directions about a support point) until another support-eligible
-	// cell touches, and take how far the rim goes down; TipM is the largest
-	// such drop, m. On smooth curved bases the next cell touches after a
+	// 72 directions about a support point) until a support-eligible cell
+	// beyond it touches, and take how far the rim goes down; TipM is the
+	// largest such drop, m. On smooth curved bases the next cell touches after a
 	// tiny turn (the base rolls), so TipM falls towards 0 with the cell size
 	// there and RockM decides.
 	TipM float64
@@ -153,7 +153,8 @@ type Pose struct {
 	// below TipForceLimitN and RockM above RockLimitM: the pan tips under a
 	// light touch and the rim then drops noticeably.
 	Rocks bool
-	// TouchCells counts the support-eligible cells touching the plane.
+	// TouchCells counts the support-eligible cells touching the plane
+	// exactly (gap ≤ ContactTolM).
 	TouchCells int
 	// CentreOfMassM is the centre of mass the pose was found for, m.
 	CentreOfMassM [2]float64
@@ -227,6 +228,24 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 			"(%.3f mm from its edge; at least half a cell needed)", com[0]*1e3, com[1]*1e3, delta*1e3)
 	}
 
+	pl, g, err := c.restingPlane(delta, opt)
+	if err != nil {
+		return nil, err
+	}
+
+	p := &Pose{CentreOfMassM: com}
+	p.PlaneM = [3]float64{pl[0], pl[1], pl[2] + c.dmin - pl[0]*com[0] - pl[1]*com[1]}
+	p.TiltDeg = math.Atan(math.Hypot(pl[0], pl[1])) * 180 / math.Pi
+	c.stability(p, g, foot, opt)
+	return p, nil
+}
+
+// restingPlane solves the rest pose's LP (DESIGN.md 5.1) for the plane
+// pl = (a, b, c') about the centre of mass and returns it with the gaps g
+// of every eligible cell. delta is how far the centre of mass lies inside
+// the footprint, m. A point or line contact leaves the plane free to turn;
+// the least tilted resting plane is taken then.
+func (c *restCells) restingPlane(delta float64, opt RestOptions) (pl [3]float64, g []float64, err error) {
 	// Resting plane: maximise c' subject to a·rx + b·ry + c' ≤ d at every
 	// eligible cell, with p = a·rx + b·ry + c' about the centre of mass.
 	// Every optimal plane has |(a, b)| ≤ R/delta, with R the range of d, so
@@ -249,17 +268,17 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 	rng := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
 	x, _, err := lowlp.Solve(prob, rng)
 	if err != nil {
-		return nil, fmt.Errorf("contact: rest: %w", err)
+		return pl, nil, fmt.Errorf("contact: rest: %w", err)
 	}
-	pl := [3]float64{x[0], x[1], x[2]}
+	pl = [3]float64{x[0], x[1], x[2]}
 
-	g := make([]float64, n)
+	g = make([]float64, n)
 	c.gaps(pl, g)
 	touch := hull2D(c.rowExtremes(func(i int) bool { return g[i] <= opt.ContactTolM }))
 	eps := 1e-6 * c.cellM
 	support, v0, v1, err := classify(touch, eps)
 	if err != nil {
-		return nil, err
+		return pl, nil, err
 	}
 	var va, vb hullPt // the support point, or the ends of the support line
 	if support != SupportPolygon {
@@ -277,12 +296,7 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 	if support != SupportPolygon {
 		c.gaps(pl, g)
 	}
-
-	p := &Pose{CentreOfMassM: com}
-	p.PlaneM = [3]float64{pl[0], pl[1], pl[2] + c.dmin - pl[0]*com[0] - pl[1]*com[1]}
-	p.TiltDeg = math.Atan(math.Hypot(pl[0], pl[1])) * 180 / math.Pi
-	c.stability(p, g, foot, opt)
-	return p, nil
+	return pl, g, nil
 }
 
 // stability fills p's support, tip force, rim drops and rocking verdict
