@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"sort"
 
+	"gapflux/fluid"
 	"gapflux/internal/lowlp"
 	"gapflux/scan"
 )
@@ -17,18 +18,47 @@ const (
 	// own choice (DESIGN.md 5.1), not a standard's value.
 	DefaultRockLimitM = 0.1e-3
 	// DefaultContactTolM is the gap, m, at or below which a support-eligible
-	// cell counts as touching the hob when the support is identified.
+	// cell touches the resting plane exactly (round-off); it decides which
+	// of the equally good resting planes a point or line contact takes.
 	DefaultContactTolM = 1e-9
+	// DefaultBandM is the contact band, m, of the support: 4.5 µm, three
+	// times the combined RMS roughness of the default interface (1.2 µm and
+	// 0.9 µm, σ = 1.5 µm; DESIGN.md 5.2 and 5.3a, our own numbers). Callers
+	// pass ContactBandSigmas·σ of their own interface.
+	DefaultBandM = ContactBandSigmas * 1.5e-6
+	// DefaultWeightN is the weight, N, of the default loaded pan: 1 kg of
+	// pan and 1.5 kg of water (DESIGN.md 5.3a, our own scenario).
+	DefaultWeightN = 2.5 * fluid.StandardGravityMS2
+	// DefaultTipForceLimitN is the rim force, N, below which a pan that
+	// tips (and whose rim then drops more than the rock limit) rocks: 5 N,
+	// about half a kilogram-force, a deliberate fingertip press on the rim
+	// such as an inspector or a cook gives when checking for wobble. Our
+	// own choice, not a standard's: it keeps a 200 mm base domed by 0.3 mm
+	// (about 3.4 N to tip with the default band and load) rocking, while a
+	// base flat over its inner half (W·a/(R − a) ≈ 24.5 N) stands firm.
+	DefaultTipForceLimitN = 5.0
 )
 
-// Support kinds (Pose.Support).
+// supportTol returns the width, m, below which the support counts as a
+// point (its contact band fits in a circle of that diameter) or a line
+// (the band is no wider than that): two cells, or 1 % of the footprint's
+// diameter when that is more (our own choice: at that width the centre of
+// mass lies on the support line to within the grid's resolution).
+func supportTol(cellM, footDiameterM float64) float64 {
+	return max(2*cellM, 0.01*footDiameterM)
+}
+
+// Support kinds (Pose.Support), from the cells in the contact band at rest.
 const (
-	// SupportPoint: the centre of mass is over a single contact point.
+	// SupportPoint: the band cells fit in a circle of the support
+	// tolerance (supportTol): the pan stands on one point.
 	SupportPoint = "point"
-	// SupportLine: the centre of mass is over a line through contact points.
+	// SupportLine: the band cells lie in a strip no wider than the support
+	// tolerance, with the centre of mass inside it: the pan stands on a
+	// line through (or nearly through) its centre of mass.
 	SupportLine = "line"
-	// SupportPolygon: the centre of mass is inside a polygon of contact
-	// points, a stable rest.
+	// SupportPolygon: the convex hull of the band cells is wider; whether
+	// the pan is stable on it is told by Pose.TipForceN.
 	SupportPolygon = "polygon"
 )
 
@@ -44,9 +74,18 @@ type RestOptions struct {
 	// RockLimitM is the rim drop, m, above which the pan rocks; 0 means
 	// DefaultRockLimitM.
 	RockLimitM float64
-	// ContactTolM is the gap, m, up to which a cell touches; 0 means
-	// DefaultContactTolM.
+	// ContactTolM is the gap, m, up to which a cell touches the resting
+	// plane exactly; 0 means DefaultContactTolM.
 	ContactTolM float64
+	// BandM is the contact band, m: cells with a gap at rest up to BandM
+	// (at least ContactTolM) make up the support; 0 means DefaultBandM.
+	BandM float64
+	// WeightN is the weight of the loaded pan (pan and load), N; 0 means
+	// DefaultWeightN.
+	WeightN float64
+	// TipForceLimitN is the rim force, N, below which a tipping pan rocks;
+	// 0 means DefaultTipForceLimitN.
+	TipForceLimitN float64
 	// Exclude, if not nil, has one flag per cell (len Nx·Ny); a true cell is
 	// never a support point (outliers found by the caller).
 	Exclude []bool
@@ -68,12 +107,32 @@ type Pose struct {
 	// TiltDeg is atan(√(a² + b²)), degrees: the tilt of the pan relative
 	// to the hob.
 	TiltDeg float64
-	// ContactPointsM are the (x, y), m, of the support: the vertices of the
-	// convex hull of the cells touching the plane (gap ≤ ContactTolM),
-	// counter-clockwise from the one with the least x (then least y).
+	// ContactPointsM are the (x, y), m, of the support polygon: the
+	// vertices of the convex hull of the cells in the contact band at rest
+	// (gap ≤ BandM), counter-clockwise from the one with the least x (then
+	// least y).
 	ContactPointsM [][2]float64
-	// Support is SupportPoint, SupportLine or SupportPolygon.
+	// Support is SupportPoint, SupportLine or SupportPolygon, told from
+	// the support polygon's size against the support tolerance.
 	Support string
+	// SupportWidthM is the least width of the support polygon, m (0 for a
+	// point or a two-vertex line).
+	SupportWidthM float64
+	// BandM is the contact band used, m; BandCells counts the
+	// support-eligible cells in it.
+	BandM     float64
+	BandCells int
+	// TipForceN is the smallest vertical force, N, that tips the loaded
+	// pan off its support when pressed down at the rim: the least over the
+	// support polygon's edges of W·d/l, with d the distance from the
+	// centre of mass to the edge (inside, ≥ 0) and l the lever from the
+	// edge to the farthest rim point beyond it, both perpendicular to the
+	// edge (moment balance about the edge, the pan rigid). Edges with no
+	// rim beyond them by half a cell or more cannot be tipped about and
+	// are skipped; +Inf when none can be.
+	TipForceN float64
+	// WeightN and TipForceLimitN are the load and the force limit used, N.
+	WeightN, TipForceLimitN float64
 	// RockM is the largest distance, m, that any point of the base can be
 	// pressed down towards the hob from rest, the pan pivoting and rolling
 	// on its own base: the maximum over the footprint (the convex hull of
@@ -84,15 +143,18 @@ type Pose struct {
 	RockM float64
 	// TipM is the rim drop of DESIGN.md 5.1 taken literally: tip the pan
 	// about each edge of the support polygon (both sides of a support line;
-	// 72 directions about a support point) until another support-eligible
-	// cell touches, and take how far the rim goes down; TipM is the largest
-	// such drop, m. On smooth curved bases the next cell touches after a
+	// 72 directions about a support point) until a support-eligible cell
+	// beyond it touches, and take how far the rim goes down; TipM is the
+	// largest such drop, m. On smooth curved bases the next cell touches after a
 	// tiny turn (the base rolls), so TipM falls towards 0 with the cell size
 	// there and RockM decides.
 	TipM float64
-	// Rocks is RockM > RockLimitM, or a point or line support.
+	// Rocks is true on a point or line support, or when TipForceN is
+	// below TipForceLimitN and RockM above RockLimitM: the pan tips under a
+	// light touch and the rim then drops noticeably.
 	Rocks bool
-	// TouchCells counts the support-eligible cells touching the plane.
+	// TouchCells counts the support-eligible cells touching the plane
+	// exactly (gap ≤ ContactTolM).
 	TouchCells int
 	// CentreOfMassM is the centre of mass the pose was found for, m.
 	CentreOfMassM [2]float64
@@ -113,7 +175,8 @@ type hullPt struct {
 	i    int32
 }
 
-// Rest finds the rest pose of pan on hob (DESIGN.md 5.1). A nil hob is an
+// Rest finds the rest pose of pan on hob and how stable it is (DESIGN.md
+// 5.1). A nil hob is an
 // ideal flat hob z = 0; otherwise hob must be on pan's grid (see FlatHob,
 // RadialHob, ResampleHob) and cover every base cell of pan. Only Measured
 // cells of pan that opt.Exclude does not flag are support-eligible; filled
@@ -122,7 +185,12 @@ type hullPt struct {
 // The plane is found by Seidel's randomised LP (internal/lowlp) in three
 // variables, in O(N) expected time. When the support is a point or a line
 // the plane is not unique; Rest then takes the least tilted of the resting
-// planes (the pan held balanced), and reports the support as rocking.
+// planes (the pan held balanced).
+//
+// The support is then taken from every eligible cell in the contact band
+// at rest (gap ≤ BandM), not from the few cells the LP ends on: a ring of
+// rim cells or a flat patch is a polygon however the noise picks the LP's
+// three points. Its tip force and the rim drop decide whether it rocks.
 //
 // Rest works on the surface it is given; pass the form-filtered surface.
 func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
@@ -137,23 +205,10 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 			return nil, err
 		}
 	}
-	if opt.RockLimitM == 0 {
-		opt.RockLimitM = DefaultRockLimitM
-	}
-	if opt.ContactTolM == 0 {
-		opt.ContactTolM = DefaultContactTolM
+	if err := opt.setDefaults(pan.Nx * pan.Ny); err != nil {
+		return nil, err
 	}
 	com := opt.CentreOfMassM
-	switch {
-	case !(opt.RockLimitM > 0) || math.IsInf(opt.RockLimitM, 0):
-		return nil, fmt.Errorf("contact: rest: rock limit %g m must be positive and finite", opt.RockLimitM)
-	case !(opt.ContactTolM > 0) || math.IsInf(opt.ContactTolM, 0):
-		return nil, fmt.Errorf("contact: rest: contact tolerance %g m must be positive and finite", opt.ContactTolM)
-	case !finite64(com[0]) || !finite64(com[1]):
-		return nil, fmt.Errorf("contact: rest: centre of mass (%g, %g) m is not finite", com[0], com[1])
-	case opt.Exclude != nil && len(opt.Exclude) != pan.Nx*pan.Ny:
-		return nil, fmt.Errorf("contact: rest: %d exclusion flags for %d×%d cells", len(opt.Exclude), pan.Nx, pan.Ny)
-	}
 
 	c, err := collectCells(pan, hob, opt.Exclude, com)
 	if err != nil {
@@ -173,6 +228,24 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 			"(%.3f mm from its edge; at least half a cell needed)", com[0]*1e3, com[1]*1e3, delta*1e3)
 	}
 
+	pl, g, err := c.restingPlane(delta, opt)
+	if err != nil {
+		return nil, err
+	}
+
+	p := &Pose{CentreOfMassM: com}
+	p.PlaneM = [3]float64{pl[0], pl[1], pl[2] + c.dmin - pl[0]*com[0] - pl[1]*com[1]}
+	p.TiltDeg = math.Atan(math.Hypot(pl[0], pl[1])) * 180 / math.Pi
+	c.stability(p, g, foot, opt)
+	return p, nil
+}
+
+// restingPlane solves the rest pose's LP (DESIGN.md 5.1) for the plane
+// pl = (a, b, c') about the centre of mass and returns it with the gaps g
+// of every eligible cell. delta is how far the centre of mass lies inside
+// the footprint, m. A point or line contact leaves the plane free to turn;
+// the least tilted resting plane is taken then.
+func (c *restCells) restingPlane(delta float64, opt RestOptions) (pl [3]float64, g []float64, err error) {
 	// Resting plane: maximise c' subject to a·rx + b·ry + c' ≤ d at every
 	// eligible cell, with p = a·rx + b·ry + c' about the centre of mass.
 	// Every optimal plane has |(a, b)| ≤ R/delta, with R the range of d, so
@@ -195,17 +268,17 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 	rng := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
 	x, _, err := lowlp.Solve(prob, rng)
 	if err != nil {
-		return nil, fmt.Errorf("contact: rest: %w", err)
+		return pl, nil, fmt.Errorf("contact: rest: %w", err)
 	}
-	pl := [3]float64{x[0], x[1], x[2]}
+	pl = [3]float64{x[0], x[1], x[2]}
 
-	g := make([]float64, n)
+	g = make([]float64, n)
 	c.gaps(pl, g)
 	touch := hull2D(c.rowExtremes(func(i int) bool { return g[i] <= opt.ContactTolM }))
 	eps := 1e-6 * c.cellM
 	support, v0, v1, err := classify(touch, eps)
 	if err != nil {
-		return nil, err
+		return pl, nil, err
 	}
 	var va, vb hullPt // the support point, or the ends of the support line
 	if support != SupportPolygon {
@@ -222,15 +295,14 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 	}
 	if support != SupportPolygon {
 		c.gaps(pl, g)
-		touch = hull2D(c.rowExtremes(func(i int) bool { return g[i] <= opt.ContactTolM }))
 	}
+	return pl, g, nil
+}
 
-	p := &Pose{Support: support, CentreOfMassM: com}
-	p.PlaneM = [3]float64{pl[0], pl[1], pl[2] + c.dmin - pl[0]*com[0] - pl[1]*com[1]}
-	p.TiltDeg = math.Atan(math.Hypot(pl[0], pl[1])) * 180 / math.Pi
-	for _, v := range touch {
-		p.ContactPointsM = append(p.ContactPointsM, [2]float64{v.x + com[0], v.y + com[1]})
-	}
+// stability fills p's support, tip force, rim drops and rocking verdict
+// from the gaps g at rest (DESIGN.md 5.1); foot is the footprint's hull.
+func (c *restCells) stability(p *Pose, g []float64, foot []hullPt, opt RestOptions) {
+	p.WeightN, p.TipForceLimitN = opt.WeightN, opt.TipForceLimitN
 	for _, gi := range g {
 		if gi <= opt.ContactTolM {
 			p.TouchCells++
@@ -239,9 +311,161 @@ func Rest(pan, hob *scan.Surface, opt RestOptions) (*Pose, error) {
 	for _, v := range foot {
 		p.RockM = max(p.RockM, g[v.i])
 	}
-	p.TipM = c.tipDrop(g, foot, touch, support, va, vb, eps)
-	p.Rocks = p.RockM > opt.RockLimitM || support != SupportPolygon
-	return p, nil
+
+	// The support: the hull of the cells in the contact band at rest.
+	p.BandM = max(opt.BandM, opt.ContactTolM)
+	inBand := func(i int) bool { return g[i] <= p.BandM }
+	for i := range g {
+		if inBand(i) {
+			p.BandCells++
+		}
+	}
+	band := hull2D(c.rowExtremes(inBand))
+	com := p.CentreOfMassM
+	for _, v := range band {
+		p.ContactPointsM = append(p.ContactPointsM, [2]float64{v.x + com[0], v.y + com[1]})
+	}
+	var ends [2]hullPt
+	p.Support, p.SupportWidthM, ends = classifyBand(band, supportTol(c.cellM, hullDiameter(foot)))
+	p.TipForceN = opt.WeightN * tipRatio(band, foot, 0.5*c.cellM)
+	p.TipM = c.tipDrop(g, foot, band, p.Support, ends[0], ends[1], 1e-6*c.cellM)
+	p.Rocks = p.Support != SupportPolygon || (p.TipForceN < opt.TipForceLimitN && p.RockM > opt.RockLimitM)
+}
+
+// classifyBand tells a point, line or polygon support from the convex
+// hull h of the band cells (DESIGN.md 5.1): a point when h's diameter is
+// at most tol, a line when its least width is, else a polygon. It returns
+// the least width and, for a point or line, the support point (twice) or
+// the line's two farthest vertices. h is never empty (the cells the plane
+// rests on are in the band).
+func classifyBand(h []hullPt, tol float64) (support string, widthM float64, ends [2]hullPt) {
+	widthM = hullWidth(h)
+	// The farthest pair of vertices (O(n²) on the hull's few hundred
+	// vertices at most).
+	a, b, dmax := 0, 0, 0.0
+	for i := range h {
+		for j := i + 1; j < len(h); j++ {
+			if d := math.Hypot(h[j].x-h[i].x, h[j].y-h[i].y); d > dmax {
+				a, b, dmax = i, j, d
+			}
+		}
+	}
+	switch {
+	case dmax <= tol:
+		// The vertex nearest the centre of mass is the pivot.
+		k := 0
+		for i, v := range h {
+			if math.Hypot(v.x, v.y) < math.Hypot(h[k].x, h[k].y) {
+				k = i
+			}
+		}
+		return SupportPoint, widthM, [2]hullPt{h[k], h[k]}
+	case widthM <= tol:
+		return SupportLine, widthM, [2]hullPt{h[a], h[b]}
+	}
+	return SupportPolygon, widthM, ends
+}
+
+// hullDiameter is the largest distance between two vertices of h, m.
+func hullDiameter(h []hullPt) float64 {
+	d := 0.0
+	for i := range h {
+		for j := i + 1; j < len(h); j++ {
+			d = max(d, math.Hypot(h[j].x-h[i].x, h[j].y-h[i].y))
+		}
+	}
+	return d
+}
+
+// hullWidth is the least width of the convex polygon h (counter-clockwise),
+// m: the least over its edges of the largest distance of a vertex from the
+// edge's line (the minimum is reached with an edge flush, Houle &
+// Toussaint 1988, from memory). 0 for fewer than three vertices.
+func hullWidth(h []hullPt) float64 {
+	if len(h) < 3 {
+		return 0
+	}
+	w := math.Inf(1)
+	for e := range h {
+		a, b := h[e], h[(e+1)%len(h)]
+		far := 0.0
+		for _, v := range h {
+			far = max(far, edgeDistance(a, b, v.x, v.y))
+		}
+		w = min(w, far)
+	}
+	return w
+}
+
+// tipRatio returns the least over the edges of the support polygon h of
+// d/l (DESIGN.md 5.1): d the distance of the centre of mass (the origin)
+// inside the edge, l the farthest a footprint vertex lies beyond it. Edges
+// with l ≤ minLever (no rim beyond them) are skipped; +Inf when every edge
+// is. A one-vertex support gives 0; a two-vertex one is a degenerate
+// polygon with the edge taken both ways.
+func tipRatio(h, foot []hullPt, minLever float64) float64 {
+	if len(h) == 1 {
+		return 0
+	}
+	r := math.Inf(1)
+	for e := range h {
+		if len(h) == 2 && e == 1 {
+			break
+		}
+		a, b := h[e], h[(e+1)%len(h)]
+		for _, side := range []float64{1, -1} {
+			if side < 0 && len(h) > 2 {
+				break
+			}
+			d := max(side*edgeDistance(a, b, 0, 0), 0)
+			lever := 0.0
+			for _, v := range foot {
+				lever = max(lever, -side*edgeDistance(a, b, v.x, v.y))
+			}
+			if lever > minLever {
+				r = min(r, d/lever)
+			}
+		}
+	}
+	return r
+}
+
+// setDefaults fills the zero options with their defaults and checks them;
+// cells is the number of grid cells.
+func (o *RestOptions) setDefaults(cells int) error {
+	if o.RockLimitM == 0 {
+		o.RockLimitM = DefaultRockLimitM
+	}
+	if o.ContactTolM == 0 {
+		o.ContactTolM = DefaultContactTolM
+	}
+	if o.BandM == 0 {
+		o.BandM = DefaultBandM
+	}
+	if o.WeightN == 0 {
+		o.WeightN = DefaultWeightN
+	}
+	if o.TipForceLimitN == 0 {
+		o.TipForceLimitN = DefaultTipForceLimitN
+	}
+	com := o.CentreOfMassM
+	switch {
+	case !(o.RockLimitM > 0) || math.IsInf(o.RockLimitM, 0):
+		return fmt.Errorf("contact: rest: rock limit %g m must be positive and finite", o.RockLimitM)
+	case !(o.ContactTolM > 0) || math.IsInf(o.ContactTolM, 0):
+		return fmt.Errorf("contact: rest: contact tolerance %g m must be positive and finite", o.ContactTolM)
+	case !(o.BandM > 0) || math.IsInf(o.BandM, 0):
+		return fmt.Errorf("contact: rest: contact band %g m must be positive and finite", o.BandM)
+	case !(o.WeightN > 0) || math.IsInf(o.WeightN, 0):
+		return fmt.Errorf("contact: rest: weight %g N must be positive and finite", o.WeightN)
+	case !(o.TipForceLimitN > 0) || math.IsInf(o.TipForceLimitN, 0):
+		return fmt.Errorf("contact: rest: tip force limit %g N must be positive and finite", o.TipForceLimitN)
+	case !finite64(com[0]) || !finite64(com[1]):
+		return fmt.Errorf("contact: rest: centre of mass (%g, %g) m is not finite", com[0], com[1])
+	case o.Exclude != nil && len(o.Exclude) != cells:
+		return fmt.Errorf("contact: rest: %d exclusion flags for %d cells", len(o.Exclude), cells)
+	}
+	return nil
 }
 
 func checkSurface(what string, s *scan.Surface) error {

@@ -81,6 +81,8 @@ func TestRestAnalytic(t *testing.T) {
 		tipMax   float64 // TipM ≤ tipMax, m (and TipM ≤ RockM)
 		tipEq    bool    // TipM equals tipMax to 1e-12 m
 		rocks    bool
+		weightN  float64 // WeightN; 0 = the default 24.5 N
+		forceN   float64 // TipForceN to 1 %, when > 0
 	}{
 		// Dome, centre lowest, on the odd grid: the centre of mass is over
 		// the centre cell: point support, held level; the rim (±50 mm, 0) is
@@ -89,13 +91,15 @@ func TestRestAnalytic(t *testing.T) {
 		{name: "dome", pan: testDisc(101, cellTM, radTM, func(x, y float64) float64 { return h * (x*x + y*y) / (radTM * radTM) }),
 			support: SupportPoint, contacts: [][2]float64{{0, 0}}, rock: h, tipMax: 2 * h * cellTM / radTM, rocks: true},
 		// The same dome on an even grid: the centre of mass falls between
-		// the four central cells (r² = 0.5 mm²), a tiny square: a polygon
-		// support, yet pressing the rim brings it h·(r²max − 0.5 mm²)/R²
-		// down, so it rocks. (TipM alone would miss this: the dome rolls.)
-		{name: "dome even grid", pan: even, support: SupportPolygon,
+		// the four central cells (r² = 0.5 mm²), a square 1 mm across, well
+		// inside the two-cell support tolerance: a point support; pressing
+		// the rim brings it h·(r²max − 0.5 mm²)/R² down, so it rocks. The
+		// pivot is a corner of that square, 0.7 cell off the apex, so the
+		// first roll is up to half as long again as on the odd grid.
+		{name: "dome even grid", pan: even, support: SupportPoint,
 			plane:    [3]float64{0, 0, h * 0.5 * mmM * mmM / (radTM * radTM)},
 			contacts: [][2]float64{{-0.5 * mmM, -0.5 * mmM}, {0.5 * mmM, -0.5 * mmM}, {0.5 * mmM, 0.5 * mmM}, {-0.5 * mmM, 0.5 * mmM}},
-			rock:     h * (evenMax - 0.5*mmM*mmM) / (radTM * radTM), tipMax: 2 * h * cellTM / radTM, rocks: true},
+			rock:     h * (evenMax - 0.5*mmM*mmM) / (radTM * radTM), tipMax: 3 * h * cellTM / radTM, rocks: true},
 		// Dish, centre highest: stands on the twenty rim cells at r = 50 mm
 		// ((±50, 0), (0, ±50), (±30, ±40), (±40, ±30), (±14, ±48),
 		// (±48, ±14) mm: the lattice points of that circle); the other hull
@@ -119,14 +123,23 @@ func TestRestAnalytic(t *testing.T) {
 		// Three bumps 0.3 mm below an otherwise flat base: the plane z = 0
 		// through them; pressing anywhere on the rim, it tips until the rim
 		// touches, 0.3 mm down; about each edge t* = h/max w, drop h.
+		// Tip force: the edge nearest the centre of mass is a slanted one,
+		// from (17, −10) to (0, 20) mm, 340/√1189 = 9.860 mm away; the rim
+		// lies R − 9.860 = 40.140 mm beyond it, so F = W·9.860/40.140 =
+		// 6.02 N with the default 24.52 N: above the 5 N light touch, the
+		// pan stands; at 10 N of weight, F = 2.46 N and it rocks.
 		{name: "three bumps", pan: withBumps(testDisc(101, cellTM, radTM, func(x, y float64) float64 { return 0.3 * mmM }), bumps, 0),
 			support: SupportPolygon, contacts: [][2]float64{{-17 * mmM, -10 * mmM}, {17 * mmM, -10 * mmM}, {0, 20 * mmM}},
-			rock: 0.3 * mmM, tipMax: 0.3 * mmM, tipEq: true, rocks: true},
+			rock: 0.3 * mmM, tipMax: 0.3 * mmM, tipEq: true, rocks: false, forceN: DefaultWeightN * 9.860 / 40.140},
+		{name: "three bumps light pan", pan: withBumps(testDisc(101, cellTM, radTM, func(x, y float64) float64 { return 0.3 * mmM }), bumps, 0),
+			support: SupportPolygon, contacts: [][2]float64{{-17 * mmM, -10 * mmM}, {17 * mmM, -10 * mmM}, {0, 20 * mmM}},
+			rock: 0.3 * mmM, tipMax: 0.3 * mmM, tipEq: true, rocks: true, weightN: 10, forceN: 10 * 9.860 / 40.140},
 		// The same bumps under a base tilted by 0.002: still the plane z = 0;
-		// the rim point (R, 0) has the largest gap, 0.3 mm + 0.002·R.
+		// the rim point (R, 0) has the largest gap, 0.3 mm + 0.002·R. The
+		// support and so the tip force are those of the level base.
 		{name: "three bumps tilted base", pan: withBumps(testDisc(101, cellTM, radTM, func(x, y float64) float64 { return 0.3*mmM + 2e-3*x }), bumps, 0),
 			support: SupportPolygon, contacts: [][2]float64{{-17 * mmM, -10 * mmM}, {17 * mmM, -10 * mmM}, {0, 20 * mmM}},
-			rock: 0.4 * mmM, tipMax: 0.4 * mmM, rocks: true},
+			rock: 0.4 * mmM, tipMax: 0.4 * mmM, rocks: false, forceN: DefaultWeightN * 9.860 / 40.140},
 		// Flat pan on a conical hob 0.2 mm high in the middle: d = −hob is
 		// lowest at the centre: point support, rim gap 0.2 mm. A cone does
 		// not roll: tipping about the apex towards +x, the cells on the +x
@@ -146,7 +159,7 @@ func TestRestAnalytic(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			p, err := Rest(tc.pan, tc.hob, RestOptions{CentreOfMassM: tc.com, Seed: 1})
+			p, err := Rest(tc.pan, tc.hob, RestOptions{CentreOfMassM: tc.com, Seed: 1, BandM: DefaultContactTolM, WeightN: tc.weightN})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -180,7 +193,10 @@ func TestRestAnalytic(t *testing.T) {
 				t.Errorf("TipM %.6g mm, want ≤ %.6g mm (= if exact) and ≤ RockM %.6g mm", p.TipM/mmM, tc.tipMax/mmM, p.RockM/mmM)
 			}
 			if p.Rocks != tc.rocks {
-				t.Errorf("rocks %v, want %v (RockM %.4g mm)", p.Rocks, tc.rocks, p.RockM/mmM)
+				t.Errorf("rocks %v, want %v (RockM %.4g mm, tip force %.4g N)", p.Rocks, tc.rocks, p.RockM/mmM, p.TipForceN)
+			}
+			if tc.forceN > 0 && math.Abs(p.TipForceN-tc.forceN) > 0.01*tc.forceN {
+				t.Errorf("tip force %.4g N, want %.4g N ± 1 %%", p.TipForceN, tc.forceN)
 			}
 			if p.CentreOfMassM != tc.com {
 				t.Errorf("centre of mass %v, want %v", p.CentreOfMassM, tc.com)
@@ -275,7 +291,7 @@ func TestRestFilledAndExcluded(t *testing.T) {
 	k := dish().Index(70, 50)
 
 	measured := withBumps(dish(), [][2]float64{low}, -1*mmM)
-	p, err := Rest(measured, nil, RestOptions{})
+	p, err := Rest(measured, nil, RestOptions{BandM: DefaultContactTolM})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -293,7 +309,7 @@ func TestRestFilledAndExcluded(t *testing.T) {
 		s    *scan.Surface
 		ex   []bool
 	}{{"filled", filled, nil}, {"excluded", excluded, ex}} {
-		p, err := Rest(tc.s, nil, RestOptions{Exclude: tc.ex})
+		p, err := Rest(tc.s, nil, RestOptions{Exclude: tc.ex, BandM: DefaultContactTolM})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -455,11 +471,194 @@ func TestRestBadInput(t *testing.T) {
 		{"exclude length", good(), nil, RestOptions{Exclude: make([]bool, 3)}, "exclusion"},
 		{"negative rock limit", good(), nil, RestOptions{RockLimitM: -1}, "rock limit"},
 		{"negative tolerance", good(), nil, RestOptions{ContactTolM: -1}, "tolerance"},
+		{"NaN band", good(), nil, RestOptions{BandM: math.NaN()}, "contact band"},
+		{"negative weight", good(), nil, RestOptions{WeightN: -1}, "weight"},
+		{"infinite force limit", good(), nil, RestOptions{TipForceLimitN: math.Inf(1)}, "tip force limit"},
 	}
 	for _, tc := range tests {
 		_, err := Rest(tc.pan, tc.hob, tc.opt)
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%s: err = %v, want one containing %q", tc.name, err, tc.want)
+		}
+	}
+}
+
+// noisyDisc is testDisc with seeded Gaussian noise of sdM (m RMS) added to
+// every measured cell.
+func noisyDisc(n int, cellM, rM, sdM float64, seed uint64, f func(x, y float64) float64) *scan.Surface {
+	s := testDisc(n, cellM, rM, f)
+	rng := rand.New(rand.NewPCG(seed, 77))
+	for k, st := range s.State {
+		if st == scan.Measured {
+			s.ZM[k] += sdM * rng.NormFloat64()
+		}
+	}
+	return s
+}
+
+// TestRestSymmetricDishNeverRocks is issue 8's check: a symmetric dish
+// (centre raised, standing on its rim ring) at 1 µm noise never rocks and
+// stands on a polygon, whichever three rim cells the LP ends on. Before
+// the band support, 1 seed of these 50 came out as a "line" that rocks.
+// 200 mm bases on 1 mm cells, sag drawn from 0.1–1 mm.
+func TestRestSymmetricDishNeverRocks(t *testing.T) {
+	const r = 100 * mmM
+	seeds := 50
+	if testing.Short() {
+		seeds = 10
+	}
+	for seed := range seeds {
+		sag := (0.1 + 0.9*rand.New(rand.NewPCG(uint64(seed), 1)).Float64()) * mmM
+		s := noisyDisc(201, cellTM, r, 1e-6, uint64(seed), func(x, y float64) float64 { return sag * (1 - (x*x+y*y)/(r*r)) })
+		p, err := Rest(s, nil, RestOptions{Seed: uint64(seed)})
+		if err != nil {
+			t.Fatal(err)
+		}
+		// The band ring hugs the rim: the support polygon spans the base.
+		if p.Rocks || p.Support != SupportPolygon || p.SupportWidthM < 1.9*r {
+			t.Errorf("seed %d, sag %.3f mm: %s support %.1f mm wide, tip force %.4g N, rock %.4f mm, rocks %v; want a polygon across the base that does not rock",
+				seed, sag/mmM, p.Support, p.SupportWidthM/mmM, p.TipForceN, p.RockM/mmM, p.Rocks)
+		}
+	}
+}
+
+// TestRestTipForceClosedForm checks TipForceN on bases flat (to 1 µm noise)
+// over a centred disc of radius a and lifted beyond it, linearly to 2 mm
+// at the rim radius R. Closed form (our derivation, moment balance of the
+// rigid pan about a tipping edge): the support is the disc r ≤ a; the
+// pan tips about a tangent line of that circle, at distance a − e from
+// the centre of mass (e its offset towards that tangent). The weight W
+// acts at the centre of mass, a − e inside the line; a vertical force F at
+// the rim point farthest beyond the line acts R − a outside it. The pan
+// starts to tip when F·(R − a) > W·(a − e):
+//
+//	F = W·(a − e)/(R − a),  and for a centred load F = W·a/(R − a).
+//
+// A base lifted steeply enough to leave the band within a fraction of a
+// cell of r = a keeps the digitised support within 1 % of the circle, so
+// 5 % (issue 8) holds with room. With a = R/2, F = W: 24.5 N for the
+// default 1 kg pan and 1.5 kg of water; with a = 0.7 R, F = 2.33 W ≈ 57 N.
+func TestRestTipForceClosedForm(t *testing.T) {
+	const r = 100 * mmM
+	tests := []struct {
+		name    string
+		aM, eM  float64
+		weightN float64
+	}{
+		{"flat inner half", 0.5 * r, 0, 0},
+		{"flat inner 70 %", 0.7 * r, 0, 0},
+		{"flat inner half, load 10 mm off centre", 0.5 * r, 10 * mmM, 0},
+		{"flat inner half, empty 1 kg pan", 0.5 * r, 0, 9.80665},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			s := noisyDisc(201, cellTM, r, 1e-6, 3, func(x, y float64) float64 {
+				return 2 * mmM * max(0, math.Hypot(x, y)-tc.aM) / (r - tc.aM)
+			})
+			p, err := Rest(s, nil, RestOptions{Seed: 1, CentreOfMassM: [2]float64{tc.eM, 0}, WeightN: tc.weightN})
+			if err != nil {
+				t.Fatal(err)
+			}
+			w := p.WeightN
+			if tc.weightN == 0 && w != DefaultWeightN {
+				t.Errorf("weight %g N, want the default %g N", w, DefaultWeightN)
+			}
+			want := w * (tc.aM - tc.eM) / (r - tc.aM)
+			if math.Abs(p.TipForceN-want) > 0.05*want {
+				t.Errorf("tip force %.4g N, want %.4g N ± 5 %%", p.TipForceN, want)
+			}
+			wantRock := want < DefaultTipForceLimitN
+			if p.Support != SupportPolygon || p.Rocks != wantRock {
+				t.Errorf("%s support, rocks %v (tip force %.3g N, rock %.3f mm); want a polygon, rocks %v",
+					p.Support, p.Rocks, p.TipForceN, p.RockM/mmM, wantRock)
+			}
+			// The rim is 2 mm up: pressed down, it drops that far.
+			if math.Abs(p.RockM-2*mmM) > 0.01*mmM {
+				t.Errorf("rock %.4f mm, want 2 mm", p.RockM/mmM)
+			}
+		})
+	}
+}
+
+// TestRestCurvedBasesRock is issue 8's check that domed and bent
+// (cylindrical) bases rock, and a saddle too, on 200 mm bases at 1 µm
+// noise with the default 4.5 µm band and 24.5 N load. For z = s·u²/R²
+// (u = r for the dome, u = x for the bend) the band u ≤ a = R·√(b/s) is
+// the support, and by the closed form above F = W·a/(R − a): 3.4 N for a
+// 0.3 mm dome, 2.6 N for a 0.5 mm bend. Without noise we check it with a
+// taken anywhere from one cell less (the digitised band's edge) to 2 %
+// more; with 1 µm noise the plane rests on the
+// lowest noisy cells, a few µm down, so the band shrinks and F is lower
+// still: the bases rock either way.
+func TestRestCurvedBasesRock(t *testing.T) {
+	const r = 100 * mmM
+	closed := func(sag float64) float64 { return r * math.Sqrt(DefaultBandM/sag) } // band radius a
+	tests := []struct {
+		name string
+		f    func(x, y float64) float64
+		aM   float64 // band half-width a; 0: no closed form
+	}{
+		{"dome 0.3 mm", func(x, y float64) float64 { return 0.3 * mmM * (x*x + y*y) / (r * r) }, closed(0.3 * mmM)},
+		{"dome 1 mm", func(x, y float64) float64 { return 1 * mmM * (x*x + y*y) / (r * r) }, closed(1 * mmM)},
+		{"bend 0.5 mm about y", func(x, y float64) float64 { return 0.5 * mmM * x * x / (r * r) }, closed(0.5 * mmM)},
+		{"bend 0.3 mm about 30°", func(x, y float64) float64 {
+			u := -x*math.Sin(math.Pi/6) + y*math.Cos(math.Pi/6)
+			return 0.3 * mmM * u * u / (r * r)
+		}, closed(0.3 * mmM)},
+		{"saddle 0.25 mm", func(x, y float64) float64 { return 0.25 * mmM * (x*x - y*y) / (r * r) }, 0},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			for _, sd := range []float64{0, 1e-6} {
+				s := noisyDisc(201, cellTM, r, sd, 5, tc.f)
+				p, err := Rest(s, nil, RestOptions{Seed: 1})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !p.Rocks || !(p.TipForceN < DefaultTipForceLimitN) || p.RockM <= DefaultRockLimitM {
+					t.Errorf("noise %g µm: %s support %.1f mm wide, tip force %.3g N, rock %.3f mm, rocks %v; want it to rock",
+						sd*1e6, p.Support, p.SupportWidthM/mmM, p.TipForceN, p.RockM/mmM, p.Rocks)
+				}
+				if a := tc.aM; sd == 0 && a > 0 {
+					lo, hi := DefaultWeightN*(a-cellTM)/(r-a+cellTM), DefaultWeightN*1.02*a/(r-1.02*a)
+					if !(p.TipForceN >= lo && p.TipForceN <= hi) {
+						t.Errorf("tip force %.4g N, closed form %.4g N (from %.4g to %.4g N)", p.TipForceN, DefaultWeightN*a/(r-a), lo, hi)
+					}
+				}
+			}
+		})
+	}
+}
+
+// TestTipRatio checks the lever rule on hand-made polygons: a square
+// support of half-side 10 mm in a 50 mm disc footprint (d/l = 10/40); a
+// two-point line through the centre (0); a support reaching the rim on
+// every side (+Inf).
+func TestTipRatio(t *testing.T) {
+	pt := func(xy ...float64) []hullPt {
+		var p []hullPt
+		for i := 0; i+1 < len(xy); i += 2 {
+			p = append(p, hullPt{xy[i] * mmM, xy[i+1] * mmM, int32(i / 2)})
+		}
+		return p
+	}
+	foot := pt(50, 0, 0, 50, -50, 0, 0, -50) // a square footprint, its vertices 50 mm out
+	tests := []struct {
+		name string
+		h    []hullPt
+		want float64
+	}{
+		// Edges at 10 mm; the footprint vertex beyond each is 50 mm out
+		// along the normal: lever 40 mm.
+		{"square", pt(-10, -10, 10, -10, 10, 10, -10, 10), 10.0 / 40},
+		{"line through the centre", pt(-30, 0, 30, 0), 0},
+		{"point", pt(0, 0), 0},
+		{"the footprint itself", foot, math.Inf(1)},
+	}
+	for _, tc := range tests {
+		got := tipRatio(tc.h, foot, 0.5*mmM)
+		if math.Abs(got-tc.want) > 1e-12 && got != tc.want {
+			t.Errorf("%s: %g, want %g", tc.name, got, tc.want)
 		}
 	}
 }

@@ -170,9 +170,15 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	res.Hob = hob
 
 	// Rest pose, gap and contact.
+	ip, err := interfaceParams(job, lib)
+	if err != nil {
+		return nil, err
+	}
+	loadN := (job.Pan.MassKg + job.Water.MassKg) * gravityMS2
 	comM := [2]float64{job.Pan.CentreOfMassMM[0] / 1e3, job.Pan.CentreOfMassMM[1] / 1e3}
 	pose, err := contact.Rest(surf, hob, contact.RestOptions{
-		CentreOfMassM: comM, RockLimitM: job.Grid.RockMM / 1e3, Seed: restSeed})
+		CentreOfMassM: comM, RockLimitM: job.Grid.RockMM / 1e3, Seed: restSeed,
+		BandM: contact.ContactBandSigmas * ip.SigmaM, WeightN: loadN, TipForceLimitN: job.Grid.RockForceN})
 	if err != nil {
 		return nil, fmt.Errorf("%s: rest pose: %w", in.Name, err)
 	}
@@ -181,16 +187,11 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	gap := contact.Gap(surf, hob, pose)
 	res.GapM = gap
 
-	ip, err := interfaceParams(job, lib)
-	if err != nil {
-		return nil, err
-	}
 	inBase := make([]bool, len(surf.State))
 	for k := range inBase {
 		inBase[k] = surf.InBase(k)
 	}
 	cellA := surf.CellM * surf.CellM
-	loadN := (job.Pan.MassKg + job.Water.MassKg) * gravityMS2
 	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
 	res.Contact = mask
 	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)

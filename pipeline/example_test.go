@@ -25,7 +25,7 @@ func ExampleAnalyze() {
 	fmt.Printf("%s base, concavity %.2f mm, stands on its %s\n", g.Shape, g.ConcavityMM,
 		map[bool]string{true: "centre", false: "rim"}[p.Rocks])
 	// Output:
-	// concave base, concavity 0.10 mm, stands on its rim
+	// dished base, concavity 0.10 mm, stands on its rim
 }
 
 // A job file overrides only the keys it names; every key carries its unit.

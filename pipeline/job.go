@@ -38,6 +38,7 @@ type GridJob struct {
 	CutoffMM    float64 `toml:"cutoff_mm"`     // ISO 16610-61 Gaussian cut-off; 0 = no filter
 	RingMM      float64 `toml:"ring_mm"`       // ring width of the ring table
 	RockMM      float64 `toml:"rock_mm"`       // the pan rocks when the rim drops more than this
+	RockForceN  float64 `toml:"rock_force_n"`  // ... and a rim press below this force tips it (DESIGN 5.1)
 	OutlierK    float64 `toml:"outlier_k"`     // robust sigmas for the local outlier test
 	Units       string  `toml:"units"`         // unit of the scan files: mm, m, um, in ("" = header hint, else mm)
 	Face        string  `toml:"face"`          // "", "up" or "down"
@@ -146,7 +147,7 @@ type MaterialJob struct {
 // DefaultJob returns the default scenario (DESIGN 5.3a; our own numbers).
 func DefaultJob() Job {
 	return Job{
-		Grid: GridJob{CellMM: 0.5, CutoffMM: 8, RingMM: 5, RockMM: 0.1, OutlierK: 5},
+		Grid: GridJob{CellMM: 0.5, CutoffMM: 8, RingMM: 5, RockMM: 0.1, RockForceN: 5, OutlierK: 5},
 		Pan: PanJob{
 			MassKg:         1.0,
 			Layers:         []LayerJob{{Material: "alu-1050", ThicknessMM: 4}},

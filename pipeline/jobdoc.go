@@ -64,6 +64,8 @@ func jobKeys() []keySpec {
 			why: "our bound: from a tenth of a millimetre to one ring over the largest base"},
 		{key: "grid.rock_mm", doc: "the pan rocks when the pressed rim drops more than this", unit: "mm", lo: 0, hi: 10,
 			why: "our bound: a 10 mm drop is a broken pan, not a rocking one"},
+		{key: "grid.rock_force_n", doc: "and a rim press lighter than this tips it (a fingertip press)", unit: "N", lo: 0, hi: 1000, loOpen: true,
+			why: "our bound: 5 N is a light fingertip press (our choice); 1000 N would crush a pan"},
 		{key: "grid.outlier_k", doc: "robust sigmas of the local outlier test", lo: 2, hi: 1000,
 			why: "our bound: under 2 the test removes good points; 1000 turns it practically off"},
 		{key: "grid.units", doc: "unit of the scan's numbers (\"\" = the file's header hint, else mm)", oneOf: []string{"", "mm", "m", "um", "in"}},

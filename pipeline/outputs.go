@@ -214,6 +214,14 @@ func (res *Result) vtiFields() []VTIField {
 	return fields
 }
 
+// bendAxis is the bend axis of a bent base, degrees (0 if not reported).
+func bendAxis(g *GeometryReport) float64 {
+	if g.ShapeQuadric == nil {
+		return 0
+	}
+	return g.ShapeQuadric.BendAxisDeg
+}
+
 // HumanSummary is the short plain-words summary printed after analyze.
 func HumanSummary(res *Result) string {
 	rep := res.Report
@@ -221,9 +229,12 @@ func HumanSummary(res *Result) string {
 	fmt.Fprintf(&b, "%s (%s, %d points)\n", res.Name, rep.Input.Pan.Format, rep.Input.Pan.Points)
 	if g := rep.Geometry; g != nil {
 		word := map[string]string{
-			"concave": "concave (dished: centre raised, stands on its rim)",
-			"convex":  "convex (domed: centre lower, rocks on its centre)",
-			"flat":    "flat within the noise of the form terms",
+			"dished": "concave (dished: centre raised, stands on its rim)",
+			"domed":  "convex (domed: centre lower, stands on its centre)",
+			"flat":   "flat within the noise of the form terms",
+			"tilted": "flat but tilted (a wedge)",
+			"saddle": "a saddle (twisted: up one way, down the other)",
+			"bent":   fmt.Sprintf("bent about one axis (at %.0f° from x)", bendAxis(g)),
 		}[g.Shape]
 		fmt.Fprintf(&b, "  base: diameter %.1f mm, minimum-zone flatness %.3f mm (least squares %.3f mm)\n",
 			g.DiameterMM, g.FlatnessMZMM, g.FlatnessLSMM)
@@ -233,8 +244,11 @@ func HumanSummary(res *Result) string {
 	}
 	if p := rep.Pose; p != nil {
 		rock := "stands firm"
+		if p.TipForceN != nil {
+			rock = fmt.Sprintf("stands firm (a rim press of %.1f N would tip it)", *p.TipForceN)
+		}
 		if p.Rocks {
-			rock = fmt.Sprintf("ROCKS: the rim drops %.3f mm when pressed", p.RockMM)
+			rock = "ROCKS: " + rockWords(p)
 		}
 		fmt.Fprintf(&b, "  on the hob: %s support at %d point(s), tilt %.3f°, %s\n", p.Support, len(p.ContactPointsMM), p.TiltDeg, rock)
 	}

@@ -44,7 +44,9 @@ type GeometryReport struct {
 	FlatnessLSMM           float64       `json:"flatness_ls_mm"`
 	ConcavityMM            float64       `json:"concavity_mm"`
 	ConcavityPctOfDiameter float64       `json:"concavity_pct_of_diameter"`
-	Shape                  string        `json:"shape"` // "concave", "convex" or "flat"
+	Shape                  string        `json:"shape"`        // flat, tilted, dished, domed, saddle or bent
+	ShapeDetail            string        `json:"shape_detail"` // the principal rim sags and axes, in words
+	ShapeQuadric           *QuadricShape `json:"shape_quadric,omitempty"`
 	CoveragePct            float64       `json:"coverage_pct"`
 	OutliersRemoved        int           `json:"outliers_removed"`
 	CutoffMM               float64       `json:"cutoff_mm"`
@@ -55,6 +57,19 @@ type GeometryReport struct {
 	PointsUsed             int           `json:"points_used"`
 	PointsDropped          int           `json:"points_dropped"`
 	Zernike                ZernikeReport `json:"zernike"`
+}
+
+// QuadricShape holds the figures behind the shape word: the principal
+// curvatures of the least-squares quadric over the base disc as rim sags
+// (positive: concave that way, like concavity_mm), their axes in degrees
+// from +x towards +y, and the threshold below which a sag counts as zero.
+type QuadricShape struct {
+	RimSagMM      [2]float64 `json:"rim_sag_mm"`
+	AxisDeg       [2]float64 `json:"axis_deg"`
+	BendAxisDeg   float64    `json:"bend_axis_deg"`
+	TiltRiseMM    float64    `json:"tilt_rise_mm"`
+	ThresholdMM   float64    `json:"threshold_mm"`
+	ResidualRMSUM float64    `json:"residual_rms_um"`
 }
 
 // ZernikeReport lists the form terms.
@@ -70,17 +85,25 @@ type ZernikeTerm struct {
 	J      int     `json:"j"`
 	N      int     `json:"n"`
 	M      int     `json:"m"`
-	Name   string  `json:"name"`
+	Name   string  `json:"name"`       // the optics name (Thibos et al. 2002)
+	Plain  string  `json:"plain_name"` // what the term does to a base, in plain words
 	CoefUM float64 `json:"coef_um"`
 }
 
-// PoseReport is how the pan rests on the hob.
+// PoseReport is how the pan rests on the hob. TipForceN is the smallest
+// vertical force at the rim that tips the loaded pan (weight WeightN) off
+// its support polygon (DESIGN 5.1); null when no press on the rim can tip
+// it (the support reaches the rim all round).
 type PoseReport struct {
 	TiltDeg         float64      `json:"tilt_deg"`
 	Rocks           bool         `json:"rocks"`
 	RockMM          float64      `json:"rock_mm"`
 	TipMM           float64      `json:"tip_mm"`
 	Support         string       `json:"support"`
+	SupportWidthMM  float64      `json:"support_width_mm"` // least width of the support polygon
+	TipForceN       *float64     `json:"tip_force_n"`
+	TipForceLimitN  float64      `json:"tip_force_limit_n"` // grid.rock_force_n
+	WeightN         float64      `json:"weight_n"`          // pan and water
 	ContactPointsMM [][2]float64 `json:"contact_points_mm"`
 	CentreOfMassMM  [2]float64   `json:"centre_of_mass_mm"`
 	RockLimitMM     float64      `json:"rock_limit_mm"`

@@ -9,18 +9,11 @@ import (
 	"gapflux/thermal"
 )
 
-// shapeTolPct is the concavity, in % of the diameter, below which a base is
-// called flat in the report's shape word (our own choice).
+// shapeTolPct is the concavity, in % of the diameter, within which the
+// verdict treats a base as flat (our own choice).
 const shapeTolPct = 0.02
 
 func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev *scan.Levelled, job Job) *GeometryReport {
-	shape := "flat"
-	switch {
-	case f.ConcavityPctOfDiameter >= shapeTolPct:
-		shape = "concave"
-	case f.ConcavityPctOfDiameter <= -shapeTolPct:
-		shape = "convex"
-	}
 	filter := "none"
 	if filt.CutoffM > 0 {
 		filter = fmt.Sprintf("ISO 16610-61 areal Gaussian, cut-off %.3g mm, edge-corrected", filt.CutoffM*1e3)
@@ -31,7 +24,6 @@ func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev 
 		FlatnessLSMM:           roundTo(f.FlatnessLSM*1e3, 4),
 		ConcavityMM:            roundTo(f.ConcavityM*1e3, 4),
 		ConcavityPctOfDiameter: roundTo(f.ConcavityPctOfDiameter, 4),
-		Shape:                  shape,
 		CoveragePct:            roundTo(g.CoveragePct, 2),
 		OutliersRemoved:        g.OutliersRemoved,
 		CutoffMM:               roundTo(filt.CutoffM*1e3, 3),
@@ -49,9 +41,58 @@ func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev 
 	}
 	for _, t := range f.Zernike {
 		gr.Zernike.Terms = append(gr.Zernike.Terms, ZernikeTerm{J: t.Index, N: t.N, M: t.M, Name: t.Name,
-			CoefUM: roundTo(t.CoefM*1e6, 3)})
+			Plain: t.Plain, CoefUM: roundTo(t.CoefM*1e6, 3)})
+	}
+	sh, err := scan.MeasureShape(filt.Form, lev.RadiusM, scan.ShapeOptions{NoiseM: filt.NoiseM})
+	if err != nil {
+		gr.Shape, gr.ShapeDetail = "undetermined", err.Error()
+		return gr
+	}
+	gr.Shape, gr.ShapeDetail = sh.Word, shapeDetail(sh)
+	gr.ShapeQuadric = &QuadricShape{
+		RimSagMM:      [2]float64{roundTo(sh.RimSagM[0]*1e3, 4), roundTo(sh.RimSagM[1]*1e3, 4)},
+		AxisDeg:       [2]float64{axisDeg(sh.AxisDeg[0], 1), axisDeg(sh.AxisDeg[1], 1)},
+		BendAxisDeg:   axisDeg(sh.BendAxisDeg, 1),
+		TiltRiseMM:    roundTo(sh.TiltRiseM*1e3, 4),
+		ThresholdMM:   roundTo(sh.ThresholdM*1e3, 4),
+		ResidualRMSUM: roundTo(sh.Quadric.ResidualRMSM*1e6, 2),
 	}
 	return gr
+}
+
+// shapeDetail says in words what the shape word rests on: the principal
+// rim sags (positive: the centre stands above the rim that way) and, for a
+// bent base, the axis it is bent about.
+func shapeDetail(sh *scan.Shape) string {
+	s, a, t := sh.RimSagM, sh.AxisDeg, sh.ThresholdM
+	mm := func(v float64) string { return fmt.Sprintf("%+.3f mm", roundTo(v*1e3, 3)) }
+	limit := fmt.Sprintf(" (positive: centre above the rim; below %.3f mm counts as none)", t*1e3)
+	var sags string
+	switch {
+	case math.Abs(s[0]) <= t:
+		sags = fmt.Sprintf("no rim sag above the threshold (largest %s)", mm(s[0]))
+	case math.Abs(s[0]-s[1]) <= t:
+		sags = fmt.Sprintf("rim sag %s all round (%s across %.0f°, %s across %.0f°)", mm((s[0]+s[1])/2), mm(s[0]), axisDeg(a[0], 0), mm(s[1]), axisDeg(a[1], 0))
+	default:
+		sags = fmt.Sprintf("rim sags %s across %.0f° and %s across %.0f°", mm(s[0]), axisDeg(a[0], 0), mm(s[1]), axisDeg(a[1], 0))
+	}
+	switch sh.Word {
+	case scan.ShapeBent:
+		return fmt.Sprintf("bent about an axis at %.0f° from x: %s%s", axisDeg(sh.BendAxisDeg, 0), sags, limit)
+	case scan.ShapeTilted:
+		return fmt.Sprintf("rising %.3f mm across the diameter towards %.0f°; %s%s", sh.TiltRiseM*1e3, sh.TiltAxisDeg, sags, limit)
+	}
+	return sags + limit
+}
+
+// axisDeg rounds an axis direction to the given decimals and folds 180°
+// back to 0° (an axis has no sense).
+func axisDeg(d float64, decimals int) float64 {
+	r := roundTo(d, decimals)
+	if r >= 180 {
+		r -= 180
+	}
+	return r
 }
 
 func poseReport(p *contact.Pose, comM [2]float64, job Job) *PoseReport {
@@ -64,6 +105,13 @@ func poseReport(p *contact.Pose, comM [2]float64, job Job) *PoseReport {
 		ContactPointsMM: [][2]float64{},
 		CentreOfMassMM:  [2]float64{roundTo(comM[0]*1e3, 3), roundTo(comM[1]*1e3, 3)},
 		RockLimitMM:     job.Grid.RockMM,
+		SupportWidthMM:  roundTo(p.SupportWidthM*1e3, 3),
+		TipForceLimitN:  p.TipForceLimitN,
+		WeightN:         roundTo(p.WeightN, 3),
+	}
+	if !math.IsInf(p.TipForceN, 1) {
+		f := roundTo(p.TipForceN, 3)
+		pr.TipForceN = &f
 	}
 	for _, c := range p.ContactPointsM {
 		pr.ContactPointsMM = append(pr.ContactPointsMM, [2]float64{roundTo(c[0]*1e3, 3), roundTo(c[1]*1e3, 3)})
@@ -187,12 +235,22 @@ func verdict(job Job, rep *Report) *VerdictReport {
 		}
 	}
 	if p := rep.Pose; p != nil && p.Rocks && !t.RockingAllowed {
-		fail("the pan rocks: the rim drops %.3f mm when pressed (limit %.3f mm, support: %s)", p.RockMM, job.Grid.RockMM, p.Support)
+		fail("the pan rocks: %s", rockWords(p))
 	}
 	if h := rep.Heat; h != nil && h.LossPct > t.LossMaxPct {
 		fail("the base loses %.1f %% of the flat twin's heating power (limit %.1f %%)", h.LossPct, t.LossMaxPct)
 	}
 	return v
+}
+
+// rockWords says why a pan rocks (DESIGN 5.1).
+func rockWords(p *PoseReport) string {
+	if p.Support != contact.SupportPolygon || p.TipForceN == nil {
+		return fmt.Sprintf("it stands on a %s through its centre of mass, and the pressed rim drops %.3f mm (limit %.3f mm)",
+			p.Support, p.RockMM, p.RockLimitMM)
+	}
+	return fmt.Sprintf("a rim press of %.1f N tips it (a light touch is below %.1f N), and the rim then drops %.3f mm (limit %.3f mm)",
+		*p.TipForceN, p.TipForceLimitN, p.RockMM, p.RockLimitMM)
 }
 
 // interfaceWarnings turns the interface models' range flags into report

@@ -24,8 +24,11 @@ type ZernikeTerm struct {
 	Index int
 	// N is the radial order, M the azimuthal frequency (negative: sine).
 	N, M int
-	// Name is the term's common name, e.g. "defocus".
+	// Name is the term's common (optics) name, e.g. "defocus".
 	Name string
+	// Plain is the same term in a stamping engineer's words, e.g.
+	// "dish/dome" (see ZernikePlainName).
+	Plain string
 	// CoefM is the coefficient, m.
 	CoefM float64
 }
@@ -169,6 +172,63 @@ func ZernikeName(n, m int) string {
 	return fmt.Sprintf("Z(%d,%d)", n, m)
 }
 
+// ZernikePlainName returns the term (n, m) in plain words for a base's
+// form, to stand beside its optics name (ZernikeName): what the term does
+// to a base seen from the hob. Cosine terms (m > 0) have a lobe or axis at
+// 0° (+x); sine terms (m < 0) are turned by 90°/|m|. Our own wording.
+//
+//	m = 0:   piston, dish/dome (defocus), ring wave (spherical), and
+//	         double, triple … ring waves at higher orders
+//	|m| = 1: tilt (n = 1), then a one-sided ramp (coma-like) and its
+//	         secondary forms
+//	|m| = 2: saddle (astigmatism) and secondary saddles
+//	|m| ≥ 3: rim waves with |m| lobes (trefoil: three-lobed, quadrafoil:
+//	         four-lobed)
+//
+// It panics on an invalid (n, m).
+func ZernikePlainName(n, m int) string {
+	checkZernike(n, m)
+	am := m
+	if am < 0 {
+		am = -am
+	}
+	order := []string{"", "secondary ", "tertiary ", "quaternary "}
+	rank := func(first int) string { // "" for the first order of a family
+		if k := (n - first) / 2; k < len(order) {
+			return order[k]
+		}
+		return fmt.Sprintf("order-%d ", n)
+	}
+	xy := map[bool]string{true: "x", false: "y"}[m >= 0]
+	angle := 0.0
+	if m < 0 {
+		angle = 90 / float64(am)
+	}
+	switch {
+	case n == 0:
+		return "piston (height offset)"
+	case am == 0 && n == 2:
+		return "dish/dome"
+	case am == 0:
+		waves := []string{"ring wave", "double ring wave", "triple ring wave"}
+		if k := n/2 - 2; k < len(waves) {
+			return waves[k]
+		}
+		return fmt.Sprintf("%d-ring wave", n/2-1)
+	case n == 1:
+		return "tilt along " + xy
+	case am == 1:
+		return rank(3) + "one-sided ramp along " + xy + " (coma-like)"
+	case am == 2:
+		return fmt.Sprintf("%ssaddle, axes at %g°", rank(2), angle)
+	}
+	lobes := fmt.Sprintf("%d", am)
+	if am < 10 {
+		lobes = [...]string{"", "", "", "three", "four", "five", "six", "seven", "eight", "nine"}[am]
+	}
+	return fmt.Sprintf("%s%s-lobed rim wave, a lobe at %g°", rank(am), lobes, angle)
+}
+
 // zernikeBasis evaluates all terms j = 0 … len(dst)−1 at the point (x, y)
 // of the unit disc (ρ = hypot(x, y)) into dst. The angle enters through
 // cos(kθ) and sin(kθ) by recurrence, so no trigonometric call is made.
@@ -279,7 +339,7 @@ func FitZernike(s *Surface, radiusM float64, maxOrder int) ([]ZernikeTerm, error
 	terms := make([]ZernikeTerm, t)
 	for j := range t {
 		n, m := b.n[j], b.m[j]
-		terms[j] = ZernikeTerm{Index: j, N: n, M: m, Name: ZernikeName(n, m), CoefM: x.AtVec(j)}
+		terms[j] = ZernikeTerm{Index: j, N: n, M: m, Name: ZernikeName(n, m), Plain: ZernikePlainName(n, m), CoefM: x.AtVec(j)}
 	}
 	return terms, nil
 }

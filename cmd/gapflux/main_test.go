@@ -95,8 +95,8 @@ func TestAnalyzeJSON(t *testing.T) {
 		t.Fatalf("stdout is not the report: %v\n%s", err, stdout)
 	}
 	// The generator's truth: a 0.1 mm dish on a 40 mm base.
-	if g := rep.Geometry; math.Abs(g.ConcavityMM-0.1) > 0.02*0.1+3*0.005 || g.Shape != "concave" {
-		t.Errorf("concavity %.4f mm (%s), want 0.1 mm concave", g.ConcavityMM, g.Shape)
+	if g := rep.Geometry; math.Abs(g.ConcavityMM-0.1) > 0.02*0.1+3*0.005 || g.Shape != "dished" {
+		t.Errorf("concavity %.4f mm (%s), want 0.1 mm dished", g.ConcavityMM, g.Shape)
 	}
 	if !strings.Contains(stderr, "concave (dished") {
 		t.Errorf("the human summary went missing or lacks the shape word:\n%s", stderr)
