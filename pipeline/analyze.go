@@ -88,9 +88,21 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	rep.Input.Pan = fileRep
 	rep.Warnings = append(rep.Warnings, cloud.Warnings...)
+	jobSHA := in.JobSHA
+	if jobSHA == "" {
+		hobSHA := ""
+		if in.HobPath != "" {
+			if hobSHA, err = FileSHA256(in.HobPath); err != nil {
+				return nil, fmt.Errorf("hob: %w", err)
+			}
+		}
+		jobSHA = JobHash(job, hobSHA)
+	}
+	rep.Input.JobSHA256 = jobSHA
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
+	footprint := sampleFootprint(cloud.Points) // Level reuses the cloud's storage
 	lev, err := scan.Level(cloud, scan.LevelOptions{
 		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg, Reuse: true})
 	if err != nil {
@@ -98,6 +110,14 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
 	cloud = nil
+	// The data-quality gate (DESIGN 5.0): a rejected scan stops here or
+	// after gridding, before pose and heat, with the reason in its report.
+	qg := newGate(job, fileRep.Unit)
+	qg.in.DiameterM, qg.in.FaceSource = 2*lev.RadiusM, lev.FaceSource
+	qg.in.FootprintDiameterM = footprintDiameterM(footprint, lev, job.Quality.FootprintBandMM/1e3)
+	if qg.judge(rep, false) {
+		return res, nil
+	}
 	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK})
 	if err != nil {
 		return nil, fmt.Errorf("%s: gridding: %w", in.Name, err)
@@ -112,20 +132,10 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
 	rep.Geometry = geometryReport(form, grid, filt, lev, job)
-	if rep.Geometry.CoveragePct < 80 {
-		warn("only %.1f %% of the base was measured; the rest is interpolated", rep.Geometry.CoveragePct)
+	qg.in.CoveragePct, qg.in.NoiseM = grid.CoveragePct, filt.NoiseM
+	if qg.judge(rep, false) {
+		return res, nil
 	}
-	jobSHA := in.JobSHA
-	if jobSHA == "" {
-		hobSHA := ""
-		if in.HobPath != "" {
-			if hobSHA, err = FileSHA256(in.HobPath); err != nil {
-				return nil, fmt.Errorf("hob: %w", err)
-			}
-		}
-		jobSHA = JobHash(job, hobSHA)
-	}
-	rep.Input.JobSHA256 = jobSHA
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -176,9 +186,8 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
 	res.Contact = mask
 	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
-	if noise := rep.Geometry.NoiseUM / 1e3; rep.Gap.MeanGapMM > 0 && noise > rep.Gap.MeanGapMM/5 {
-		warn("the scanner noise removed by the form filter (%.1f µm RMS) is more than a fifth of the mean gap (%.1f µm): the gap map is near the noise floor", rep.Geometry.NoiseUM, rep.Gap.MeanGapMM*1e3)
-	}
+	qg.in.MeanGapM = rep.Gap.MeanGapMM / 1e3
+	qg.judge(rep, true) // the noise check only warns
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

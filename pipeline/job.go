@@ -25,6 +25,7 @@ type Job struct {
 	Water      WaterJob      `toml:"water"`
 	Tolerances ToleranceJob  `toml:"tolerances"`
 	Limits     LimitsJob     `toml:"limits"`
+	Quality    QualityJob    `toml:"quality"`
 	Materials  []MaterialJob `toml:"material"`
 }
 
@@ -163,6 +164,7 @@ func DefaultJob() Job {
 		},
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048},
+		Quality:    defaultQualityJob(),
 	}
 }
 
@@ -346,6 +348,9 @@ func (j *Job) Validate() error {
 		errs = append(errs, "limits.max_points must be > 0")
 	}
 	pos("limits.max_file_mb", j.Limits.MaxFileMB)
+	if err := j.Quality.validate(); err != nil {
+		errs = append(errs, err.Error())
+	}
 	for i, m := range j.Materials {
 		if m.Name == "" {
 			errs = append(errs, fmt.Sprintf("material[%d].name is empty", i))

@@ -89,6 +89,27 @@ rocking_allowed = false
 max_points = 20000000
 max_file_mb = 2048.0
 
+[quality]    # the data-quality gate before pose and heat; every limit is ours, not a standard's
+# A figure beyond a warn limit warns (the scan is analysed, the summary's quality column says
+# "warn"); beyond a reject limit the scan stops before pose and heat (status "rejected", exit 1).
+diameter_warn_min_mm = 100.0    # ours: below a small milk pan's base; smaller bases are rare, so check the units
+diameter_warn_max_mm = 350.0    # ours: above a large stock pot's or paella pan's base
+diameter_reject_min_mm = 40.0   # ours: no pan base is this small; a 200 mm base read from inches as mm is 7.9 mm
+diameter_reject_max_mm = 600.0  # ours: no hob zone takes a larger pan; a 200 mm base read from um as mm is 200 m
+coverage_warn_min_pct = 95.0    # ours: share of the base near a measured point; 5 % interpolated shifts little
+coverage_reject_min_pct = 60.0  # ours: with 40 % guessed, pose and gap are more interpolation than measurement
+hole_warn_max_pct = 10.0        # ours: largest unmeasured hole, % of the base diameter (20 mm on a 200 mm base)
+hole_reject_max_pct = 40.0      # ours: a hole this wide can hide a support point or a dome
+rim_gap_warn_max_deg = 30.0     # ours: an arc of the rim this wide without points leaves the footprint guessed there
+rim_missing_reject_max_pct = 25.0  # ours: a quarter of the rim missing: the circle fit and the rest pose are unsound
+dropped_warn_max_pct = 5.0      # ours: points near the base left out by segmentation ("a few per cent", issue 8)
+dropped_reject_max_pct = 50.0   # ours: half the base's points dropped: the base found is not the base scanned
+footprint_warn_min_pct = 80.0   # ours: base circle against the footprint below; a wall's foot and corner keep a
+                                # sound base above about 85 %, a lifted outer ring cut off falls to about 70 %
+footprint_band_mm = 15.0        # ours: points within this of the base plane make the footprint (a base may lift
+                                # up to 15 mm at the rim, issue 8; a wall above it does not count)
+noise_gap_warn_max_pct = 20.0   # a fifth of the mean gap (DESIGN 5.0): the gap map is then near the noise floor
+
 # Add or override materials (SI-with-units keys; unset values keep the
 # built-in ones):
 # [[material]]

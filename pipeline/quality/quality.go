@@ -15,6 +15,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 )
 
@@ -250,6 +251,13 @@ func Evaluate(in Input, l Limits) Result {
 	return res
 }
 
+// sig4 formats a positive length with 4 significant digits and no
+// exponent: 7.874, 0.2001, 200066.
+func sig4(v float64) string {
+	d := 3 - int(math.Floor(math.Log10(v)))
+	return strconv.FormatFloat(v, 'f', max(d, 0), 64)
+}
+
 // measured reports whether a figure was measured (finite).
 func measured(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
@@ -298,10 +306,10 @@ func diameterCheck(in Input, l Limits) Check {
 		if c.Figure > c.WarnAbove {
 			side = "large"
 		}
-		c.Message = fmt.Sprintf("the base measures %.4g mm across, implausibly %s for cookware (%g–%g mm)", c.Figure, side, c.WarnBelow, c.WarnAbove)
+		c.Message = fmt.Sprintf("the base measures %s mm across, implausibly %s for cookware (%g–%g mm)", sig4(c.Figure), side, c.WarnBelow, c.WarnAbove)
 		if ok {
 			c.Detail = "units hint: " + hint
-			c.Message = fmt.Sprintf("the base measures %.4g mm across; is the file in %s? try --units %s", c.Figure, unitWords[hint], hint)
+			c.Message = fmt.Sprintf("the base measures %s mm across; is the file in %s? try --units %s", sig4(c.Figure), unitWords[hint], hint)
 		} else {
 			c.Message += "; check the file's unit (--units) and that the scan holds the pan's base"
 		}
