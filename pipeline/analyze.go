@@ -113,8 +113,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	// The data-quality gate (DESIGN 5.0): a rejected scan stops here or
 	// after gridding, before pose and heat, with the reason in its report.
 	qg := newGate(job, fileRep.Unit)
-	qg.in.DiameterM, qg.in.FaceSource = 2*lev.RadiusM, lev.FaceSource
-	qg.in.FootprintDiameterM = footprintDiameterM(footprint, lev, job.Quality.FootprintBandMM/1e3)
+	qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
 	if qg.judge(rep, false) {
 		return res, nil
 	}
@@ -132,7 +131,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
 	rep.Geometry = geometryReport(form, grid, filt, lev, job)
-	qg.in.CoveragePct, qg.in.NoiseM = grid.CoveragePct, filt.NoiseM
+	qg.gridded(grid.Raw, lev, filt)
 	if qg.judge(rep, false) {
 		return res, nil
 	}

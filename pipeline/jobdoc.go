@@ -94,7 +94,8 @@ max_file_mb = 2048.0
 # "warn"); beyond a reject limit the scan stops before pose and heat (status "rejected", exit 1).
 diameter_warn_min_mm = 100.0    # ours: below a small milk pan's base; smaller bases are rare, so check the units
 diameter_warn_max_mm = 350.0    # ours: above a large stock pot's or paella pan's base
-diameter_reject_min_mm = 40.0   # ours: no pan base is this small; a 200 mm base read from inches as mm is 7.9 mm
+diameter_reject_min_mm = 20.0   # ours: a base of up to 500 mm written in inches reads below it as mm (19.7 mm);
+                                # small test coupons of 20-100 mm still run, with a warning
 diameter_reject_max_mm = 600.0  # ours: no hob zone takes a larger pan; a 200 mm base read from um as mm is 200 m
 coverage_warn_min_pct = 95.0    # ours: share of the base near a measured point; 5 % interpolated shifts little
 coverage_reject_min_pct = 60.0  # ours: with 40 % guessed, pose and gap are more interpolation than measurement

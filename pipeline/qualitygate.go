@@ -83,6 +83,24 @@ func newGate(job Job, unit string) *gate {
 	return &gate{in: in, limits: job.Quality.limits()}
 }
 
+// levelled takes the figures known once the base is found: its diameter,
+// how the face was decided, and the footprint of sample (the scan's points
+// sampled before levelling) within bandM of the base plane.
+func (g *gate) levelled(lev *scan.Levelled, sample []r3.Vec, bandM float64) {
+	g.in.DiameterM, g.in.FaceSource = 2*lev.RadiusM, lev.FaceSource
+	g.in.FootprintDiameterM = footprintDiameterM(sample, lev, bandM)
+}
+
+// gridded takes the figures known once the base is gridded and filtered:
+// coverage, largest hole and rim completeness (measured on the grid, see
+// measureCover) and the noise the form filter removed.
+func (g *gate) gridded(raw *scan.Surface, lev *scan.Levelled, filt *scan.FilterResult) {
+	c := measureCover(raw, lev.RadiusM, len(lev.Cloud.Points))
+	g.in.CoveragePct, g.in.LargestHoleM = c.CoveragePct, c.LargestHoleM
+	g.in.RimLargestGapDeg, g.in.RimMissingPct = c.RimLargestGapDeg, c.RimMissingPct
+	g.in.NoiseM = filt.NoiseM
+}
+
 // judge evaluates the gate on the figures measured so far and puts the
 // outcome in rep.Quality. When the scan is rejected, or final is set (the
 // last call), each warning and rejection is added to rep.Warnings. It

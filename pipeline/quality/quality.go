@@ -114,7 +114,7 @@ type Limits struct {
 func DefaultLimits() Limits {
 	return Limits{
 		DiameterWarnMinM: 0.100, DiameterWarnMaxM: 0.350,
-		DiameterRejectMinM: 0.040, DiameterRejectMaxM: 0.600,
+		DiameterRejectMinM: 0.020, DiameterRejectMaxM: 0.600,
 		CoverageWarnMinPct: 95, CoverageRejectMinPct: 60,
 		HoleWarnMaxPct: 10, HoleRejectMaxPct: 40,
 		RimGapWarnMaxDeg: 30, RimMissingRejectMaxPct: 25,

@@ -30,14 +30,14 @@ func TestChecksAtLimits(t *testing.T) {
 		status  string
 		message string // substring of the message; "" = not checked
 	}{
-		// Diameter: warn outside 100–350 mm, reject outside 40–600 mm.
+		// Diameter: warn outside 100–350 mm, reject outside 20–600 mm.
 		{"diameter mid", func(in *Input) { in.DiameterM = mm(200) }, Diameter, OK, "200.0 mm across"},
 		{"diameter at warn min", func(in *Input) { in.DiameterM = mm(100) }, Diameter, OK, ""},
 		{"diameter below warn min", func(in *Input) { in.DiameterM = mm(100 - eps) }, Diameter, Warn, "implausibly small"},
 		{"diameter at warn max", func(in *Input) { in.DiameterM = mm(350) }, Diameter, OK, ""},
 		{"diameter above warn max", func(in *Input) { in.DiameterM = mm(350 + eps) }, Diameter, Warn, "implausibly large"},
-		{"diameter at reject min", func(in *Input) { in.DiameterM = mm(40) }, Diameter, Warn, ""},
-		{"diameter below reject min", func(in *Input) { in.DiameterM = mm(40 - eps) }, Diameter, Reject, ""},
+		{"diameter at reject min", func(in *Input) { in.DiameterM = mm(20) }, Diameter, Warn, ""},
+		{"diameter below reject min", func(in *Input) { in.DiameterM = mm(20 - eps) }, Diameter, Reject, ""},
 		{"diameter at reject max", func(in *Input) { in.DiameterM = mm(600) }, Diameter, Warn, ""},
 		{"diameter above reject max", func(in *Input) { in.DiameterM = mm(600 + eps) }, Diameter, Reject, ""},
 		{"diameter in inches", func(in *Input) { in.DiameterM = mm(200 / 25.4) }, Diameter, Reject,
@@ -46,7 +46,8 @@ func TestChecksAtLimits(t *testing.T) {
 		{"diameter in micrometres", func(in *Input) { in.DiameterM = mm(200000) }, Diameter, Reject, "is the file in micrometres? try --units um"},
 		{"diameter read as inches, file in mm", func(in *Input) { in.DiameterM, in.Unit = mm(200*25.4), "in" }, Diameter, Reject,
 			"is the file in millimetres? try --units mm"},
-		{"diameter with no plausible unit", func(in *Input) { in.DiameterM = mm(20) }, Diameter, Reject, "check the file's unit"},
+		{"diameter with no plausible unit", func(in *Input) { in.DiameterM = mm(15) }, Diameter, Reject, "check the file's unit"},
+		{"small test part warns", func(in *Input) { in.DiameterM = mm(40) }, Diameter, Warn, "40.00 mm across, implausibly small for cookware (100–350 mm); check"},
 		{"diameter not measured", func(in *Input) {}, Diameter, NotMeasured, "not measured"},
 		{"diameter zero is not measured", func(in *Input) { in.DiameterM = 0 }, Diameter, NotMeasured, ""},
 
@@ -154,7 +155,7 @@ func TestFigures(t *testing.T) {
 		name                                 string
 		figure, warnLo, warnHi, rejLo, rejHi float64 // NaN = none
 	}{
-		{Diameter, 200, 100, 350, 40, 600},
+		{Diameter, 200, 100, 350, 20, 600},
 		{LargestHole, 30, math.NaN(), 20, math.NaN(), 80},
 		{Footprint, 80, 80, math.NaN(), math.NaN(), math.NaN()},
 		{NoiseOverGap, 10, math.NaN(), 20, math.NaN(), math.NaN()},
@@ -239,7 +240,7 @@ func TestLimitsValidate(t *testing.T) {
 		set  func(*Limits)
 		want string
 	}{
-		{"diameter unordered", func(l *Limits) { l.DiameterWarnMinM = 0.03 }, "diameter limits must be ordered"},
+		{"diameter unordered", func(l *Limits) { l.DiameterWarnMinM = 0.01 }, "diameter limits must be ordered"},
 		{"diameter NaN", func(l *Limits) { l.DiameterRejectMaxM = math.NaN() }, "diameter reject maximum must be positive"},
 		{"coverage reversed", func(l *Limits) { l.CoverageRejectMinPct = 97 }, "coverage reject limit 97 % is above its warn limit 95 %"},
 		{"hole reversed", func(l *Limits) { l.HoleRejectMaxPct = 5 }, "largest hole reject limit 5 % is below"},
