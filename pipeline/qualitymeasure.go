@@ -61,7 +61,9 @@ func measureCover(s *scan.Surface, radiusM float64, points int) baseCover {
 		if d2[k] <= reach2 {
 			covered++
 		}
-		far = math.Max(far, d2[k])
+		if d2[k] > far {
+			far = d2[k]
+		}
 	}
 	c.CoveragePct = 100 * float64(covered) / float64(nBase)
 	c.LargestHoleM = math.Min(2*math.Sqrt(far)*s.CellM, 2*radiusM)
@@ -125,22 +127,21 @@ func measuredDistance2(s *scan.Surface) []float64 {
 			d[k] = math.Inf(1)
 		}
 	}
-	n := max(nx, ny)
-	f, out := make([]float64, n), make([]float64, n)
-	v, z := make([]int, n), make([]float64, n+1)
+	// Rows first, into a transposed copy, so that both passes read
+	// contiguous lines.
+	tr := make([]float64, nx*ny)
+	out := make([]float64, max(nx, ny))
+	v, z := make([]int, max(nx, ny)), make([]float64, max(nx, ny)+1)
 	for j := 0; j < ny; j++ {
-		row := d[j*nx : (j+1)*nx]
-		copy(f, row)
-		dt1(f[:nx], out[:nx], v, z)
-		copy(row, out[:nx])
+		dt1(d[j*nx:(j+1)*nx], out[:nx], v, z)
+		for i, x := range out[:nx] {
+			tr[i*ny+j] = x
+		}
 	}
 	for i := 0; i < nx; i++ {
-		for j := 0; j < ny; j++ {
-			f[j] = d[j*nx+i]
-		}
-		dt1(f[:ny], out[:ny], v, z)
-		for j := 0; j < ny; j++ {
-			d[j*nx+i] = out[j]
+		dt1(tr[i*ny:(i+1)*ny], out[:ny], v, z)
+		for j, x := range out[:ny] {
+			d[j*nx+i] = x
 		}
 	}
 	return d

@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -109,5 +110,21 @@ func TestMeasuredDistance2(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+// BenchmarkMeasureCover measures the coverage figures of a base with two
+// holes: 200 mm on the default 0.5 mm cells (401 × 401) and 300 mm on
+// 0.3 mm cells (1001 × 1001). The work is linear in the cells.
+func BenchmarkMeasureCover(b *testing.B) {
+	for _, bc := range []struct{ r, cell float64 }{{0.1, 0.5e-3}, {0.15, 0.3e-3}} {
+		s := discSurface(bc.r, bc.cell, func(x, y float64) bool {
+			return math.Hypot(x-0.03, y) > 0.01 && math.Hypot(x+0.05, y-0.04) > 0.02
+		})
+		b.Run(fmt.Sprintf("%dx%d", s.Nx, s.Ny), func(b *testing.B) {
+			for b.Loop() {
+				measureCover(s, bc.r, 700000)
+			}
+		})
 	}
 }
