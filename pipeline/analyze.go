@@ -88,16 +88,47 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	rep.Input.Pan = fileRep
 	rep.Warnings = append(rep.Warnings, cloud.Warnings...)
+	jobSHA := in.JobSHA
+	if jobSHA == "" {
+		hobSHA := ""
+		if in.HobPath != "" {
+			if hobSHA, err = FileSHA256(in.HobPath); err != nil {
+				return nil, fmt.Errorf("hob: %w", err)
+			}
+		}
+		if jobSHA, err = JobHash(job, hobSHA); err != nil {
+			return nil, err
+		}
+	}
+	rep.Input.JobSHA256 = jobSHA
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
+	footprint := sampleFootprint(cloud.Points) // Level reuses the cloud's storage
 	lev, err := scan.Level(cloud, scan.LevelOptions{
 		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg, Reuse: true})
+	qg := newGate(job, fileRep.Unit)
+	var sizeErr *scan.SizeError
+	if errors.As(err, &sizeErr) {
+		// A base implausible for cookware in the unit it was read in,
+		// which another unit would make plausible: the gate rejects it
+		// with the units hint instead of failing the scan.
+		qg.in.DiameterM = sizeErr.DiameterM
+		if qg.judge(rep, false) {
+			return res, nil
+		}
+	}
 	if err != nil {
 		return nil, fmt.Errorf("%s: levelling: %w", in.Name, err)
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
 	cloud = nil
+	// The data-quality gate (DESIGN 5.0): a rejected scan stops here or
+	// after gridding, before pose and heat, with the reason in its report.
+	qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
+	if qg.judge(rep, false) {
+		return res, nil
+	}
 	// Every grid of the analysis is bounded before the first is allocated.
 	if err := job.planGrids(lev.RadiusM).check(&job); err != nil {
 		return nil, fmt.Errorf("%s: %w", in.Name, err)
@@ -126,22 +157,10 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
 	rep.Geometry = geometryReport(form, grid, filt, lev, job)
-	if rep.Geometry.CoveragePct < 80 {
-		warn("only %.1f %% of the base was measured; the rest is interpolated", rep.Geometry.CoveragePct)
+	qg.gridded(grid.Raw, lev, filt)
+	if qg.judge(rep, false) {
+		return res, nil
 	}
-	jobSHA := in.JobSHA
-	if jobSHA == "" {
-		hobSHA := ""
-		if in.HobPath != "" {
-			if hobSHA, err = FileSHA256(in.HobPath); err != nil {
-				return nil, fmt.Errorf("hob: %w", err)
-			}
-		}
-		if jobSHA, err = JobHash(job, hobSHA); err != nil {
-			return nil, err
-		}
-	}
-	rep.Input.JobSHA256 = jobSHA
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -195,9 +214,8 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
 	res.Contact = mask
 	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
-	if noise := rep.Geometry.NoiseUM / 1e3; rep.Gap.MeanGapMM > 0 && noise > rep.Gap.MeanGapMM/5 {
-		warn("the scanner noise removed by the form filter (%.1f µm RMS) is more than a fifth of the mean gap (%.1f µm): the gap map is near the noise floor", rep.Geometry.NoiseUM, rep.Gap.MeanGapMM*1e3)
-	}
+	qg.in.MeanGapM = rep.Gap.MeanGapMM / 1e3
+	qg.judge(rep, true) // the noise check only warns
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

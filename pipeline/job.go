@@ -29,6 +29,7 @@ type Job struct {
 	Water      WaterJob      `toml:"water"`
 	Tolerances ToleranceJob  `toml:"tolerances"`
 	Limits     LimitsJob     `toml:"limits"`
+	Quality    QualityJob    `toml:"quality"`
 	Materials  []MaterialJob `toml:"material"`
 }
 
@@ -169,6 +170,7 @@ func DefaultJob() Job {
 		},
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
+		Quality:    defaultQualityJob(),
 	}
 }
 
@@ -595,6 +597,9 @@ func (j *Job) Validate() error {
 		if err := j.planGrids(g.DiameterMM / 2e3).check(j); err != nil {
 			probs = append(probs, err)
 		}
+	}
+	if err := j.Quality.validate(); err != nil {
+		add("quality", nil, "%v", err)
 	}
 	if len(probs) > 0 {
 		return &InvalidJobError{Problems: probs}

@@ -227,6 +227,9 @@ func HumanSummary(res *Result) string {
 	rep := res.Report
 	var b strings.Builder
 	fmt.Fprintf(&b, "%s (%s, %d points)\n", res.Name, rep.Input.Pan.Format, rep.Input.Pan.Points)
+	if q := rep.Quality; q != nil {
+		fmt.Fprintf(&b, "  %s\n", qualityLine(q))
+	}
 	if g := rep.Geometry; g != nil {
 		word := map[string]string{
 			"dished": "concave (dished: centre raised, stands on its rim)",

@@ -8,6 +8,7 @@ const SchemaReport = "gapflux.report/1"
 type Report struct {
 	Schema   string          `json:"schema"`
 	Input    ReportInput     `json:"input"`
+	Quality  *QualityReport  `json:"quality,omitempty"`
 	Geometry *GeometryReport `json:"geometry,omitempty"`
 	Pose     *PoseReport     `json:"pose,omitempty"`
 	Gap      *GapReport      `json:"gap,omitempty"`
@@ -35,6 +36,28 @@ type FileReport struct {
 	Triangles  int    `json:"triangles"` // facets of a mesh, 0 for a point cloud
 	Unit       string `json:"unit"`
 	UnitSource string `json:"unit_source"`
+}
+
+// QualityReport is the data-quality gate's outcome (DESIGN 5.0): the worst
+// status of its checks. A rejected scan stops before pose and heat.
+type QualityReport struct {
+	Status string         `json:"status"` // "ok", "warn" or "reject"
+	Checks []QualityCheck `json:"checks"`
+}
+
+// QualityCheck is one check of the gate. Its figure and limits are in the
+// unit its name ends in (diameter_mm, coverage_pct, rim_largest_gap_deg);
+// a figure beyond a limit warns or rejects, one equal to it passes.
+type QualityCheck struct {
+	Name        string   `json:"name"`
+	Status      string   `json:"status"` // "ok", "warn", "reject" or "not-measured"
+	Figure      *float64 `json:"figure"` // null when not measured (or not a number)
+	Detail      string   `json:"detail,omitempty"`
+	WarnBelow   *float64 `json:"warn_below,omitempty"`
+	WarnAbove   *float64 `json:"warn_above,omitempty"`
+	RejectBelow *float64 `json:"reject_below,omitempty"`
+	RejectAbove *float64 `json:"reject_above,omitempty"`
+	Message     string   `json:"message"` // what was found and what to do
 }
 
 // GeometryReport is the base's form, on the form-filtered surface.

@@ -21,6 +21,9 @@ const (
 	StatusFailed = "failed"
 	StatusOut    = "out-of-tolerance"
 	StatusNotRun = "not-run"
+	// StatusRejected: the data-quality gate stopped the scan before pose
+	// and heat (report.json's quality section says why).
+	StatusRejected = "rejected"
 )
 
 // SummaryRow is one scan's line in the batch summary. Figures are pointers so
@@ -29,6 +32,8 @@ type SummaryRow struct {
 	Path                   string   `json:"path"`
 	Status                 string   `json:"status"`
 	Error                  string   `json:"error"`
+	Quality                string   `json:"quality"`  // the data-quality gate: ok, warn or reject
+	Warnings               *int     `json:"warnings"` // entries in the report's warnings
 	PartNumber             string   `json:"part_number"`
 	Lot                    string   `json:"lot"`
 	DiameterMM             *float64 `json:"diameter_mm"`
@@ -82,7 +87,7 @@ type SummaryInput struct {
 func NewSummary(rows []SummaryRow) *Summary {
 	rows = append([]SummaryRow(nil), rows...)
 	sort.Slice(rows, func(i, j int) bool { return rows[i].Path < rows[j].Path })
-	counts := map[string]int{StatusOK: 0, StatusFailed: 0, StatusOut: 0, StatusNotRun: 0, "total": len(rows)}
+	counts := map[string]int{StatusOK: 0, StatusFailed: 0, StatusOut: 0, StatusRejected: 0, StatusNotRun: 0, "total": len(rows)}
 	for _, r := range rows {
 		counts[r.Status]++
 	}
@@ -94,6 +99,14 @@ func RowFromReport(rel string, rep *Report) SummaryRow {
 	row := SummaryRow{Path: rel, Status: StatusOK}
 	f := func(v float64) *float64 { return &v }
 	b := func(v bool) *bool { return &v }
+	nw := len(rep.Warnings)
+	row.Warnings = &nw
+	if q := rep.Quality; q != nil {
+		row.Quality = q.Status
+		if rep.Rejected() {
+			row.Status, row.Reasons = StatusRejected, q.first()
+		}
+	}
 	if g := rep.Geometry; g != nil {
 		row.DiameterMM, row.FlatnessMZMM, row.FlatnessLSMM = f(g.DiameterMM), f(g.FlatnessMZMM), f(g.FlatnessLSMM)
 		row.ConcavityMM, row.ConcavityPctOfDiameter = f(g.ConcavityMM), f(g.ConcavityPctOfDiameter)
@@ -125,7 +138,7 @@ func RowFromReport(rel string, rep *Report) SummaryRow {
 
 // summaryColumns are the CSV columns, in order.
 var summaryColumns = []string{
-	"path", "status", "error", "part_number", "lot",
+	"path", "status", "error", "quality", "warnings", "part_number", "lot",
 	"diameter_mm", "flatness_mz_mm", "flatness_ls_mm", "concavity_mm", "concavity_pct_of_diameter", "shape",
 	"noise_um", "coverage_pct", "tilt_deg", "rocks", "rock_mm",
 	"contact_area_pct", "mean_gap_mm", "max_gap_mm",
@@ -141,7 +154,11 @@ func (s *Summary) WriteCSV(w io.Writer) error {
 		return err
 	}
 	for _, r := range s.Rows {
-		rec := []string{r.Path, r.Status, r.Error, r.PartNumber, r.Lot,
+		warnings := ""
+		if r.Warnings != nil {
+			warnings = strconv.Itoa(*r.Warnings)
+		}
+		rec := []string{r.Path, r.Status, r.Error, r.Quality, warnings, r.PartNumber, r.Lot,
 			fnum(r.DiameterMM, 3), fnum(r.FlatnessMZMM, 4), fnum(r.FlatnessLSMM, 4), fnum(r.ConcavityMM, 4),
 			fnum(r.ConcavityPctOfDiameter, 4), r.Shape,
 			fnum(r.NoiseUM, 2), fnum(r.CoveragePct, 2), fnum(r.TiltDeg, 4), fbool(r.Rocks), fnum(r.RockMM, 4),
@@ -185,8 +202,8 @@ func ReadSummaryJSON(r io.Reader, name string) (*Summary, error) {
 // Table renders the summary as a fixed-width text table for a terminal.
 func (s *Summary) Table() string {
 	var buf bytes.Buffer
-	fmt.Fprintf(&buf, "%-28s %-16s %8s %9s %8s %6s %8s %7s %9s %s\n",
-		"scan", "status", "diam_mm", "concav_mm", "mz_mm", "rocks", "loss_pct", "glass_c", "extra_pct", "note")
+	fmt.Fprintf(&buf, "%-28s %-16s %-7s %8s %9s %8s %6s %8s %7s %9s %s\n",
+		"scan", "status", "quality", "diam_mm", "concav_mm", "mz_mm", "rocks", "loss_pct", "glass_c", "extra_pct", "note")
 	for _, r := range s.Rows {
 		note := r.Reasons
 		if r.Status == StatusFailed {
@@ -195,8 +212,8 @@ func (s *Summary) Table() string {
 		if len(note) > 70 {
 			note = note[:67] + "..."
 		}
-		fmt.Fprintf(&buf, "%-28s %-16s %8s %9s %8s %6s %8s %7s %9s %s\n",
-			clip(r.Path, 28), r.Status, fnum(r.DiameterMM, 1), fnum(r.ConcavityMM, 3), fnum(r.FlatnessMZMM, 3),
+		fmt.Fprintf(&buf, "%-28s %-16s %-7s %8s %9s %8s %6s %8s %7s %9s %s\n",
+			clip(r.Path, 28), r.Status, r.Quality, fnum(r.DiameterMM, 1), fnum(r.ConcavityMM, 3), fnum(r.FlatnessMZMM, 3),
 			fbool(r.Rocks), fnum(r.LossPct, 1), fnum(r.GlassMaxC, 0), fnum(r.ExtraTimePct, 1), note)
 	}
 	return buf.String()

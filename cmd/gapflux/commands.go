@@ -61,7 +61,7 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 		}
 		stdout.Write(b)
 	}
-	if v := res.Report.Verdict; v != nil && !v.Pass {
+	if v := res.Report.Verdict; res.Report.Rejected() || v != nil && !v.Pass {
 		return exitFail, nil
 	}
 	return exitOK, nil
@@ -133,8 +133,8 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	}
 	if !*quiet {
 		c := res.Summary.Counts
-		fmt.Fprintf(stdout, "%d scans: %d ok, %d out of tolerance, %d failed, %d not run (analysed %d, outputs current %d)\n",
-			res.Total, c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
+		fmt.Fprintf(stdout, "%d scans: %d ok, %d out of tolerance, %d rejected, %d failed, %d not run (analysed %d, outputs current %d)\n",
+			res.Total, c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusRejected], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
 		fmt.Fprintf(stdout, "summary: %s\n", filepath.Join(*out, "summary.csv"))
 		if res.Interrupted {
 			fmt.Fprintf(stdout, "interrupted: run the same command again to finish the remaining scans\n")

@@ -166,3 +166,19 @@ func TestFlagsOverrideJob(t *testing.T) {
 		t.Errorf("unset flags changed the job: %+v", job.Grid)
 	}
 }
+
+// TestAnalyzeRejectedExitsOne: a scan written in inches and read as mm is
+// rejected by the data-quality gate, with the units hint and exit code 1.
+func TestAnalyzeRejectedExitsOne(t *testing.T) {
+	pan := filepath.Join(t.TempDir(), "pan.xyz")
+	if code, _, stderr := gapflux(t, "synth", "--shape", "dish", "--spacing-mm", "2", "--unit", "in", "--out", pan); code != exitOK {
+		t.Fatalf("synth: exit %d: %s", code, stderr)
+	}
+	code, stdout, stderr := gapflux(t, "analyze", pan, "--units", "mm")
+	if code != exitFail {
+		t.Errorf("exit %d, want %d\n%s%s", code, exitFail, stdout, stderr)
+	}
+	if !strings.Contains(stdout, "quality: REJECTED") || !strings.Contains(stdout, "is the file in inches? try --units in") {
+		t.Errorf("printed summary lacks the rejection and hint:\n%s", stdout)
+	}
+}
