@@ -253,7 +253,8 @@ func HumanSummary(res *Result) string {
 		if p.Rocks {
 			rock = "ROCKS: " + rockWords(p)
 		}
-		fmt.Fprintf(&b, "  on the hob: %s support at %d point(s), tilt %.3f°, %s\n", p.Support, len(p.ContactPointsMM), p.TiltDeg, rock)
+		fmt.Fprintf(&b, "  on the hob: %s support %.0f mm wide (%d corners), tilt %.3f°, %s\n",
+			p.Support, p.SupportWidthMM, len(p.ContactPointsMM), p.TiltDeg, rock)
 	}
 	if g := rep.Gap; g != nil {
 		fmt.Fprintf(&b, "  gap: %.1f %% of the base in contact, mean gap %.3f mm, largest %.3f mm\n",

@@ -249,7 +249,7 @@ func rockWords(p *PoseReport) string {
 		return fmt.Sprintf("it stands on a %s through its centre of mass, and the pressed rim drops %.3f mm (limit %.3f mm)",
 			p.Support, p.RockMM, p.RockLimitMM)
 	}
-	return fmt.Sprintf("a rim press of %.1f N tips it (a light touch is below %.1f N), and the rim then drops %.3f mm (limit %.3f mm)",
+	return fmt.Sprintf("a rim press of %.1f N tips it (under the %.1f N light-touch limit), and the rim then drops %.3f mm (limit %.3f mm)",
 		*p.TipForceN, p.TipForceLimitN, p.RockMM, p.RockLimitMM)
 }
 
