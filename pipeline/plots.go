@@ -7,7 +7,6 @@ import (
 	"io"
 	"math"
 	"path/filepath"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -690,26 +689,71 @@ func (l *vLine) Thumbnail(c *draw.Canvas) {
 
 // robustRange returns the colour range of a field: from its minimum to its
 // maximum, or to its 99.5th percentile when a few extreme cells (a contact
-// line, say) would otherwise wash out the rest of the map.
+// line, say) would otherwise wash out the rest of the map. The percentile
+// is the value of rank ⌊0.995·(n−1)⌋ among the n finite values, found by
+// selection in linear expected time (a full sort took 0.4 s on a
+// 1.4 M-cell grid).
 func robustRange(values []float64) (lo, hi float64, clipped bool) {
 	v := make([]float64, 0, len(values))
+	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, x := range values {
 		if !math.IsNaN(x) && !math.IsInf(x, 0) {
 			v = append(v, x)
+			lo, hi = math.Min(lo, x), math.Max(hi, x)
 		}
 	}
 	if len(v) == 0 {
 		return 0, 1, false
 	}
-	sort.Float64s(v)
-	lo, hi = v[0], v[len(v)-1]
-	if p := v[int(0.995*float64(len(v)-1))]; p-lo < 0.5*(hi-lo) {
+	if p := selectRank(v, int(0.995*float64(len(v)-1))); p-lo < 0.5*(hi-lo) {
 		hi, clipped = p, true
 	}
 	if hi-lo < 1e-12*math.Max(1, math.Abs(hi)) {
 		hi = lo + math.Max(1e-9, math.Abs(lo)*1e-3)
 	}
 	return lo, hi, clipped
+}
+
+// selectRank returns the k-th smallest of v (k from 0), reordering v:
+// Hoare's selection with a median-of-three pivot.
+func selectRank(v []float64, k int) float64 {
+	lo, hi := 0, len(v)-1
+	for lo < hi {
+		mid := lo + (hi-lo)/2
+		if v[mid] < v[lo] {
+			v[mid], v[lo] = v[lo], v[mid]
+		}
+		if v[hi] < v[lo] {
+			v[hi], v[lo] = v[lo], v[hi]
+		}
+		if v[hi] < v[mid] {
+			v[hi], v[mid] = v[mid], v[hi]
+		}
+		pivot := v[mid]
+		i, j := lo, hi
+		for i <= j {
+			for v[i] < pivot {
+				i++
+			}
+			for v[j] > pivot {
+				j--
+			}
+			if i <= j {
+				v[i], v[j] = v[j], v[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return v[k]
+		}
+	}
+	return v[k]
 }
 
 // shortTicks are gonum's default ticks labelled with at most four
