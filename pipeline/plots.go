@@ -204,14 +204,9 @@ func (m *MapSpec) colourRange() (lo, hi float64, unit string, below bool) {
 	return lo, hi, unit, below
 }
 
-// mapRaster paints the field into an image of w×h pixels covering the data
-// window [xmin, xmax]×[ymin, ymax] mm (row 0 at ymax). Each pixel takes
-// the bilinear interpolation of the finite cells among the four whose
-// centres surround it (weights renormalised over those present), so the
-// picture is smooth and its cost depends on the picture's size, not on
-// the grid's. Pixels outside the base circle (or, without one, whose
-// nearest cell is empty) stay transparent; values below lo are hatched
-// when hatch is set, the rest clamped to [lo, hi].
+// mapRaster paints a map's field into an image covering the data window
+// [xmin, xmax]×[ymin, ymax] mm: colours from the scale over [lo, hi],
+// hatching below lo when hatch is set.
 type mapRaster struct {
 	m                      *MapSpec
 	lo, hi                 float64
@@ -220,6 +215,13 @@ type mapRaster struct {
 	xmin, xmax, ymin, ymax float64
 }
 
+// image returns the w×h-pixel picture (row 0 at ymax). Each pixel takes
+// the bilinear interpolation of the finite cells among the four whose
+// centres surround it (weights renormalised over those present), so the
+// picture is smooth and its cost depends on the picture's size, not on
+// the grid's. Pixels outside the base circle (or, without one, whose
+// nearest cell is empty) stay transparent, so the base edge is the true
+// circle, not the cells' staircase; values are clamped to [lo, hi].
 func (r *mapRaster) image(w, h int) *image.NRGBA {
 	img := image.NewNRGBA(image.Rect(0, 0, w, h))
 	m := r.m
@@ -571,98 +573,126 @@ func (rc *ringChart) layout(dc draw.Canvas) (plots, legends [2]draw.Canvas) {
 	return plots, legends
 }
 
+// newRingChart builds the chart's two panels and their legends.
 func newRingChart(s *RingChartSpec) (*ringChart, error) {
 	rc := &ringChart{}
-	top := plot.New()
-	top.Title.Text = titleText(s.Title, s.Labels)
-	top.Y.Label.Text = "heat flux into the pan (kW/m²)"
-	top.Add(plotter.NewGrid())
-	n := len(s.Rings)
-	scanXY, flatXY := make(plotter.XYs, n), make(plotter.XYs, n)
-	meanXY, maxXY := make(plotter.XYs, n), make(plotter.XYs, n)
-	rmax, fmin, gmax := 0.0, 0.0, 0.0
-	for i, r := range s.Rings {
-		mid := (r.RInMM + r.ROutMM) / 2
-		scanXY[i] = plotter.XY{X: mid, Y: r.FluxKWM2}
-		flatXY[i] = plotter.XY{X: mid, Y: r.FlatFluxKWM2}
-		meanXY[i] = plotter.XY{X: mid, Y: r.MeanGapMM}
-		maxXY[i] = plotter.XY{X: mid, Y: r.MaxGapMM}
+	for k := range rc.legends {
+		rc.legends[k] = plot.NewLegend()
+		rc.legends[k].Top, rc.legends[k].Left = true, true
+		rc.legends[k].TextStyle.Font.Size = vg.Points(11)
+		rc.legends[k].Padding = vg.Points(3)
+	}
+	top, err := fluxPanel(s, &rc.legends[0])
+	if err != nil {
+		return nil, err
+	}
+	bottom, err := gapPanel(s, &rc.legends[1])
+	if err != nil {
+		return nil, err
+	}
+	rc.panels = [2]*plot.Plot{top, bottom}
+	rmax := 1.0
+	for _, r := range s.Rings {
 		rmax = math.Max(rmax, r.ROutMM)
-		fmin = math.Min(fmin, math.Min(r.FluxKWM2, r.FlatFluxKWM2))
-		gmax = math.Max(gmax, r.MaxGapMM)
-	}
-	grey := color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
-	red := color.NRGBA{R: 0xb0, G: 0x30, B: 0x1c, A: 0xff}
-	blue := color.NRGBA{R: 0x2e, G: 0x3f, B: 0x8f, A: 0xff}
-	var legends [2]plot.Legend
-	for k := range legends {
-		legends[k] = plot.NewLegend()
-		legends[k].Top, legends[k].Left = true, true
-		legends[k].TextStyle.Font.Size = vg.Points(11)
-		legends[k].Padding = vg.Points(3)
-	}
-	addLine := func(p *plot.Plot, l *plot.Legend, xy plotter.XYs, c color.Color, dashed bool, glyph draw.GlyphDrawer, label string) error {
-		line, pts, err := plotter.NewLinePoints(xy)
-		if err != nil {
-			return err
-		}
-		line.Color, pts.Color, pts.Shape = c, c, glyph
-		line.Width = vg.Points(1.5)
-		if dashed {
-			line.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
-			line.Width = vg.Points(1)
-		}
-		p.Add(line, pts)
-		l.Add(label, line, pts)
-		return nil
-	}
-	if err := addLine(top, &legends[0], flatXY, grey, true, draw.CircleGlyph{}, "flat twin"); err != nil {
-		return nil, err
-	}
-	if err := addLine(top, &legends[0], scanXY, red, false, draw.BoxGlyph{}, "scan"); err != nil {
-		return nil, err
-	}
-	top.Y.Min = 0
-	if fmin < 0 {
-		// Below zero the pan heats the glass: say so beside the axis.
-		top.Y.Min = fmin
-		zero := &plotter.Function{F: func(float64) float64 { return 0 }, LineStyle: draw.LineStyle{Color: inkDark, Width: vg.Points(0.8)}}
-		top.Add(zero)
-		legends[0].Add("below 0: heat flows", zero)
-		legends[0].Add("back into the glass")
-	}
-
-	bottom := plot.New()
-	bottom.X.Label.Text = "ring mid radius (mm)"
-	bottom.Y.Label.Text = "gap (mm)"
-	bottom.Y.Tick.Marker = shortTicks{}
-	bottom.Add(plotter.NewGrid())
-	if err := addLine(bottom, &legends[1], maxXY, grey, true, draw.TriangleGlyph{}, "largest"); err != nil {
-		return nil, err
-	}
-	if err := addLine(bottom, &legends[1], meanXY, blue, false, draw.BoxGlyph{}, "mean"); err != nil {
-		return nil, err
-	}
-	bottom.Y.Min = 0
-	if !(gmax > 0) {
-		bottom.Y.Max = 0.01
 	}
 	if s.ZoneRadiusMM > 0 && s.ZoneRadiusMM < 2*rmax {
-		for k, p := range []*plot.Plot{top, bottom} {
+		for k, p := range rc.panels {
 			edge := newVLine(s.ZoneRadiusMM)
 			p.Add(edge)
-			legends[k].Add("heating zone edge", edge)
+			rc.legends[k].Add("heating zone edge", edge)
 		}
 		rmax = math.Max(rmax, s.ZoneRadiusMM)
 	}
-	for _, p := range []*plot.Plot{top, bottom} {
-		p.X.Min, p.X.Max = 0, math.Max(rmax, 1)
+	for _, p := range rc.panels {
+		p.X.Min, p.X.Max = 0, rmax
 		p.X.Tick.Marker = shortTicks{}
+		p.Y.Tick.Marker = shortTicks{}
 	}
-	top.Y.Tick.Marker = shortTicks{}
-	rc.panels = [2]*plot.Plot{top, bottom}
-	rc.legends = legends
 	return rc, nil
+}
+
+// Ring chart curve colours.
+var (
+	curveGrey = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
+	curveRed  = color.NRGBA{R: 0xb0, G: 0x30, B: 0x1c, A: 0xff}
+	curveBlue = color.NRGBA{R: 0x2e, G: 0x3f, B: 0x8f, A: 0xff}
+)
+
+// fluxPanel is the chart's upper panel: flux per ring, kW/m², of the scan
+// and its flat twin; below zero, where the pan heats the glass, a zero
+// line and a legend note say so.
+func fluxPanel(s *RingChartSpec, legend *plot.Legend) (*plot.Plot, error) {
+	p := plot.New()
+	p.Title.Text = titleText(s.Title, s.Labels)
+	p.Y.Label.Text = "heat flux into the pan (kW/m²)"
+	p.Add(plotter.NewGrid())
+	scan, flat := make(plotter.XYs, len(s.Rings)), make(plotter.XYs, len(s.Rings))
+	fmin := 0.0
+	for i, r := range s.Rings {
+		mid := (r.RInMM + r.ROutMM) / 2
+		scan[i] = plotter.XY{X: mid, Y: r.FluxKWM2}
+		flat[i] = plotter.XY{X: mid, Y: r.FlatFluxKWM2}
+		fmin = math.Min(fmin, math.Min(r.FluxKWM2, r.FlatFluxKWM2))
+	}
+	if err := addCurve(p, legend, flat, curveGrey, true, draw.CircleGlyph{}, "flat twin"); err != nil {
+		return nil, err
+	}
+	if err := addCurve(p, legend, scan, curveRed, false, draw.BoxGlyph{}, "scan"); err != nil {
+		return nil, err
+	}
+	p.Y.Min = 0
+	if fmin < 0 {
+		p.Y.Min = fmin
+		zero := &plotter.Function{F: func(float64) float64 { return 0 }, LineStyle: draw.LineStyle{Color: inkDark, Width: vg.Points(0.8)}}
+		p.Add(zero)
+		legend.Add("below 0: heat flows", zero)
+		legend.Add("back into the glass")
+	}
+	return p, nil
+}
+
+// gapPanel is the chart's lower panel: mean and largest gap per ring, mm.
+func gapPanel(s *RingChartSpec, legend *plot.Legend) (*plot.Plot, error) {
+	p := plot.New()
+	p.X.Label.Text = "ring mid radius (mm)"
+	p.Y.Label.Text = "gap (mm)"
+	p.Add(plotter.NewGrid())
+	mean, largest := make(plotter.XYs, len(s.Rings)), make(plotter.XYs, len(s.Rings))
+	gmax := 0.0
+	for i, r := range s.Rings {
+		mid := (r.RInMM + r.ROutMM) / 2
+		mean[i] = plotter.XY{X: mid, Y: r.MeanGapMM}
+		largest[i] = plotter.XY{X: mid, Y: r.MaxGapMM}
+		gmax = math.Max(gmax, r.MaxGapMM)
+	}
+	if err := addCurve(p, legend, largest, curveGrey, true, draw.TriangleGlyph{}, "largest"); err != nil {
+		return nil, err
+	}
+	if err := addCurve(p, legend, mean, curveBlue, false, draw.BoxGlyph{}, "mean"); err != nil {
+		return nil, err
+	}
+	p.Y.Min = 0
+	if !(gmax > 0) {
+		p.Y.Max = 0.01
+	}
+	return p, nil
+}
+
+// addCurve adds a line with point markers to p and its entry to legend.
+func addCurve(p *plot.Plot, legend *plot.Legend, xy plotter.XYs, c color.Color, dashed bool, glyph draw.GlyphDrawer, label string) error {
+	line, pts, err := plotter.NewLinePoints(xy)
+	if err != nil {
+		return fmt.Errorf("ring chart, %s: %w", label, err)
+	}
+	line.Color, pts.Color, pts.Shape = c, c, glyph
+	line.Width = vg.Points(1.5)
+	if dashed {
+		line.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+		line.Width = vg.Points(1)
+	}
+	p.Add(line, pts)
+	legend.Add(label, line, pts)
+	return nil
 }
 
 // vLine is a vertical dash-dotted line at X across the data area.
