@@ -48,6 +48,12 @@ type Result struct {
 	Rings    []thermal.Ring
 	RadiusM  float64
 	HeaterOn bool
+	// ZoneDiameterM and ZoneCentreM place the hob's heating zone in the
+	// pan's frame, m (for the pictures); PartNumber and Lot come from the
+	// batch manifest.
+	ZoneDiameterM   float64
+	ZoneCentreM     [2]float64
+	PartNumber, Lot string
 }
 
 // AnalyzeScan is the batch's AnalyzeFunc: it analyses task's scan and
@@ -58,6 +64,7 @@ func AnalyzeScan(ctx context.Context, task ScanTask, inputSHA, jobSHA string) (*
 	if err != nil {
 		return nil, err
 	}
+	res.PartNumber, res.Lot = task.Meta.PartNumber, task.Meta.Lot
 	if err := WriteOutputs(res, task.OutDir); err != nil {
 		return nil, err
 	}
@@ -169,6 +176,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	offsetM := [2]float64{job.Pan.OffsetMM[0] / 1e3, job.Pan.OffsetMM[1] / 1e3}
 	heater := job.Hob.Mode == "heater"
 	res.HeaterOn = heater
+	res.ZoneDiameterM, res.ZoneCentreM = job.Hob.ZoneDiameterMM/1e3, [2]float64{-offsetM[0], -offsetM[1]}
 	glassR := 0.0
 	surf := filt.Form
 	if heater {

@@ -30,19 +30,24 @@ func (j *Job) MaterialLibrary() ([]contact.Material, error) {
 			i = len(lib) - 1
 		}
 		mat := &lib[i]
-		set := func(dst *float64, v, scale float64) {
+		cite := m.Source
+		if cite == "" {
+			cite = "job file"
+		}
+		set := func(dst *float64, src *string, v, scale float64) {
 			if v != 0 {
-				*dst = v * scale
+				*dst, *src = v*scale, cite
 			}
 		}
-		set(&mat.ConductivityWMK, m.ConductivityWMK, 1)
-		set(&mat.DensityKgM3, m.DensityKgM3, 1)
-		set(&mat.CpJKgK, m.CpJKgK, 1)
-		set(&mat.YoungPa, m.YoungGPa, 1e9)
-		set(&mat.Poisson, m.Poisson, 1)
-		set(&mat.ExpansionPerK, m.ExpansionUMMK, 1e-6)
-		set(&mat.HardnessPa, m.HardnessMPa, 1e6)
-		set(&mat.Emissivity, m.Emissivity, 1)
+		srcs := &mat.Sources
+		set(&mat.ConductivityWMK, &srcs.ConductivityWMK, m.ConductivityWMK, 1)
+		set(&mat.DensityKgM3, &srcs.DensityKgM3, m.DensityKgM3, 1)
+		set(&mat.CpJKgK, &srcs.CpJKgK, m.CpJKgK, 1)
+		set(&mat.YoungPa, &srcs.YoungPa, m.YoungGPa, 1e9)
+		set(&mat.Poisson, &srcs.Poisson, m.Poisson, 1)
+		set(&mat.ExpansionPerK, &srcs.ExpansionPerK, m.ExpansionUMMK, 1e-6)
+		set(&mat.HardnessPa, &srcs.HardnessPa, m.HardnessMPa, 1e6)
+		set(&mat.Emissivity, &srcs.Emissivity, m.Emissivity, 1)
 		if m.Source != "" {
 			mat.Source = m.Source
 		} else if mat.Source != "job file" {

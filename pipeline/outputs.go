@@ -52,56 +52,15 @@ func WriteRingsCSV(w io.Writer, rings []RingReport) error {
 // presence means the rest is there.
 func WriteOutputs(res *Result, dir string) error {
 	rep := res.Report
-	title := res.Name
-	if res.Form != nil && res.GapM != nil {
-		s := res.Form
-		gapUM := make([]float64, len(res.GapM))
-		for k, g := range res.GapM {
-			gapUM[k] = g * 1e6
-			if !s.InBase(k) {
-				gapUM[k] = math.NaN()
-			}
-		}
-		spec := &MapSpec{Title: "gap under " + title, Unit: "gap (µm)", Nx: s.Nx, Ny: s.Ny,
-			X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, CellMM: s.CellM * 1e3, Values: gapUM, Controls: gapControls,
-			MarkLabel: "support points"}
-		if res.Pose != nil {
-			for _, c := range res.Pose.ContactPointsM {
-				spec.MarksMM = append(spec.MarksMM, [2]float64{c[0] * 1e3, c[1] * 1e3})
-			}
-		}
-		if err := writeMapFiles(dir, "gap", spec); err != nil {
-			return err
-		}
-		if res.Scan != nil {
-			flux := make([]float64, len(res.Scan.FluxWM2))
-			for k, q := range res.Scan.FluxWM2 {
-				flux[k] = q / 1e3
-				if !s.InBase(k) {
-					flux[k] = math.NaN()
-				}
-			}
-			fspec := *spec
-			fspec.Title, fspec.Unit, fspec.Values, fspec.Controls = "heat flux into "+title, "flux (kW/m²)", flux, fluxControls
-			if err := writeMapFiles(dir, "flux", &fspec); err != nil {
-				return err
-			}
-		}
-	}
 	if len(rep.Rings) > 0 {
 		if err := WriteFileAtomic(filepath.Join(dir, "rings.csv"), func(w io.Writer) error {
 			return WriteRingsCSV(w, rep.Rings)
 		}); err != nil {
 			return err
 		}
-		for _, ext := range []string{"png", "svg"} {
-			spec := &RingChartSpec{Title: "heat flux by ring: " + title, Rings: rep.Rings}
-			if err := WriteFileAtomic(filepath.Join(dir, "rings."+ext), func(w io.Writer) error {
-				return WriteRingChart(w, spec, ext)
-			}); err != nil {
-				return err
-			}
-		}
+	}
+	if err := writePictures(dir, res); err != nil {
+		return err
 	}
 	if res.Form != nil {
 		if err := WriteFileAtomic(filepath.Join(dir, "fields.vti"), func(w io.Writer) error {
@@ -115,17 +74,6 @@ func WriteOutputs(res *Result, dir string) error {
 		return err
 	}
 	return WriteBytesAtomic(filepath.Join(dir, "report.json"), b)
-}
-
-func writeMapFiles(dir, name string, spec *MapSpec) error {
-	for _, ext := range []string{"png", "svg"} {
-		if err := WriteFileAtomic(filepath.Join(dir, name+"."+ext), func(w io.Writer) error {
-			return WriteMap(w, spec, ext)
-		}); err != nil {
-			return err
-		}
-	}
-	return nil
 }
 
 func (res *Result) vtiGrid() VTIGrid {

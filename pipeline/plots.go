@@ -2,11 +2,13 @@ package pipeline
 
 import (
 	"fmt"
+	"image"
 	"image/color"
 	"io"
 	"math"
-	"sort"
+	"path/filepath"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/palette"
@@ -42,6 +44,33 @@ var (
 	}
 )
 
+// Overlay colours. Every overlay on a map is two-tone, one tone near
+// black and one white, so that it keeps a contrast of at least 4.6:1
+// (√21, the worst case of max(contrast to black, contrast to white)) with
+// any colour beneath it; TestOverlayContrast checks it against the scales.
+var (
+	inkDark  = color.NRGBA{R: 0x10, G: 0x10, B: 0x10, A: 0xff}
+	inkLight = color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xff}
+	// hatchLight is the pale stripe of the hatching over cells below
+	// the scale (heat flowing back into the glass).
+	hatchLight = color.NRGBA{R: 0xc8, G: 0xd8, B: 0xe8, A: 0xff}
+)
+
+// scaleColors returns n colours of the luminance scale through controls.
+func scaleColors(controls []color.Color, n int) []color.NRGBA {
+	cm, err := moreland.NewLuminance(controls)
+	if err != nil {
+		panic(err) // the control colours are fixed above
+	}
+	cm.SetMin(0)
+	cm.SetMax(1)
+	out := make([]color.NRGBA, n)
+	for i, c := range cm.Palette(n).Colors() {
+		out[i] = color.NRGBAModel.Convert(c).(color.NRGBA)
+	}
+	return out
+}
+
 func newScale(controls []color.Color, lo, hi float64) palette.ColorMap {
 	cm, err := moreland.NewLuminance(controls)
 	if err != nil {
@@ -55,33 +84,41 @@ func newScale(controls []color.Color, lo, hi float64) palette.ColorMap {
 	return cm
 }
 
-// fieldGrid adapts a cell field to plotter.GridXYZ, in mm.
-type fieldGrid struct {
-	nx, ny   int
-	x0, y0   float64 // mm
-	cell     float64 // mm
-	v        []float64
-	clampLo  float64
-	clampHi  float64
-	i0, j0   int // crop origin
-	cnx, cny int // crop size
+// PictureLabels identify a part on its pictures; empty fields are left
+// out.
+type PictureLabels struct {
+	PartNumber string // from the batch manifest
+	Lot        string // from the batch manifest
+	Verdict    string // "PASS" or "FAIL", from the report
 }
 
-func (g *fieldGrid) Dims() (c, r int) { return g.cnx, g.cny }
-func (g *fieldGrid) X(c int) float64  { return g.x0 + float64(c+g.i0)*g.cell }
-func (g *fieldGrid) Y(r int) float64  { return g.y0 + float64(r+g.j0)*g.cell }
-func (g *fieldGrid) Z(c, r int) float64 {
-	v := g.v[(r+g.j0)*g.nx+c+g.i0]
-	if math.IsNaN(v) {
-		return v
+// subtitle returns the second title line, "" when nothing is known.
+func (l PictureLabels) subtitle() string {
+	var parts []string
+	if l.PartNumber != "" {
+		parts = append(parts, "part "+l.PartNumber)
 	}
-	return math.Min(math.Max(v, g.clampLo), g.clampHi)
+	if l.Lot != "" {
+		parts = append(parts, "lot "+l.Lot)
+	}
+	if l.Verdict != "" {
+		parts = append(parts, "verdict "+l.Verdict)
+	}
+	return strings.Join(parts, " · ")
+}
+
+func titleText(title string, l PictureLabels) string {
+	if s := l.subtitle(); s != "" {
+		return title + "\n" + s
+	}
+	return title
 }
 
 // MapSpec describes one colour map picture of a cell field.
 type MapSpec struct {
 	Title     string
-	Unit      string // colour bar label, e.g. "gap (µm)"
+	Labels    PictureLabels
+	Unit      string // colour bar label, e.g. "gap (mm)"
 	Nx, Ny    int
 	X0MM      float64 // centre of cell (0, 0)
 	Y0MM      float64
@@ -91,14 +128,27 @@ type MapSpec struct {
 	Lo, Hi    float64      // colour range; equal means from the data
 	MarksMM   [][2]float64 // points to mark (contact points)
 	MarkLabel string
+	// BaseRadiusMM, when positive, is the radius of the base disc about
+	// the origin: the map is drawn inside that circle with a smooth edge
+	// rather than with the staircase of the cells.
+	BaseRadiusMM float64
+	// ZoneDiameterMM, when positive, draws the heating zone's outline,
+	// centred at ZoneCentreMM in the map's frame.
+	ZoneDiameterMM float64
+	ZoneCentreMM   [2]float64
+	// BelowZeroLabel, when not empty, starts the colour scale at zero and
+	// hatches the cells below zero, naming them in the legend with this
+	// text (heat flowing back into the glass on a flux map).
+	BelowZeroLabel string
 }
 
 // crop returns the bounding box of the finite values.
 func (m *MapSpec) crop() (i0, j0, nx, ny int) {
 	imin, jmin, imax, jmax := m.Nx, m.Ny, -1, -1
 	for j := 0; j < m.Ny; j++ {
-		for i := 0; i < m.Nx; i++ {
-			if !math.IsNaN(m.Values[j*m.Nx+i]) {
+		row := m.Values[j*m.Nx : (j+1)*m.Nx]
+		for i, v := range row {
+			if !math.IsNaN(v) {
 				imin, imax = min(imin, i), max(imax, i)
 				jmin, jmax = min(jmin, j), max(jmax, j)
 			}
@@ -110,10 +160,34 @@ func (m *MapSpec) crop() (i0, j0, nx, ny int) {
 	return imin, jmin, imax - imin + 1, jmax - jmin + 1
 }
 
-// WriteMap renders the map as "png" or "svg".
-func WriteMap(w io.Writer, m *MapSpec, format string) error {
-	lo, hi := m.Lo, m.Hi
-	unit := m.Unit
+// extentMM returns the map's data window, mm: the finite cells, the
+// marks and the zone outline, with a margin of 4 % of the larger side so
+// that nothing touches the frame.
+func (m *MapSpec) extentMM() (xmin, xmax, ymin, ymax float64) {
+	i0, j0, nx, ny := m.crop()
+	h := m.CellMM / 2
+	xmin, xmax = m.X0MM+float64(i0)*m.CellMM-h, m.X0MM+float64(i0+nx-1)*m.CellMM+h
+	ymin, ymax = m.Y0MM+float64(j0)*m.CellMM-h, m.Y0MM+float64(j0+ny-1)*m.CellMM+h
+	grow := func(x0, x1, y0, y1 float64) {
+		xmin, xmax, ymin, ymax = math.Min(xmin, x0), math.Max(xmax, x1), math.Min(ymin, y0), math.Max(ymax, y1)
+	}
+	if r := m.BaseRadiusMM; r > 0 {
+		grow(-r, r, -r, r)
+	}
+	if r := m.ZoneDiameterMM / 2; r > 0 {
+		c := m.ZoneCentreMM
+		grow(c[0]-r, c[0]+r, c[1]-r, c[1]+r)
+	}
+	for _, p := range m.MarksMM {
+		grow(p[0], p[0], p[1], p[1])
+	}
+	pad := 0.04 * math.Max(xmax-xmin, ymax-ymin)
+	return xmin - pad, xmax + pad, ymin - pad, ymax + pad
+}
+
+// colourRange returns the colour scale's range and the colour bar label.
+func (m *MapSpec) colourRange() (lo, hi float64, unit string, below bool) {
+	lo, hi, unit = m.Lo, m.Hi, m.Unit
 	if !(hi > lo) {
 		var clipped bool
 		lo, hi, clipped = robustRange(m.Values)
@@ -121,20 +195,201 @@ func WriteMap(w io.Writer, m *MapSpec, format string) error {
 			unit += ", top 0.5 % clipped"
 		}
 	}
-	cm := newScale(m.Controls, lo, hi)
-	i0, j0, cnx, cny := m.crop()
-	g := &fieldGrid{nx: m.Nx, ny: m.Ny, x0: m.X0MM, y0: m.Y0MM, cell: m.CellMM, v: m.Values,
-		clampLo: lo, clampHi: hi, i0: i0, j0: j0, cnx: cnx, cny: cny}
+	if m.BelowZeroLabel != "" && lo < 0 {
+		lo, below = 0, true
+		if !(hi > lo) {
+			hi = 1
+		}
+	}
+	return lo, hi, unit, below
+}
+
+// mapRaster paints a map's field into an image covering the data window
+// [xmin, xmax]×[ymin, ymax] mm: colours from the scale over [lo, hi],
+// hatching below lo when hatch is set.
+type mapRaster struct {
+	m                      *MapSpec
+	lo, hi                 float64
+	colors                 []color.NRGBA
+	hatch                  bool
+	xmin, xmax, ymin, ymax float64
+}
+
+// image returns the w×h-pixel picture (row 0 at ymax). Each pixel takes
+// the bilinear interpolation of the finite cells among the four whose
+// centres surround it (weights renormalised over those present), so the
+// picture is smooth and its cost depends on the picture's size, not on
+// the grid's. Pixels outside the base circle (or, without one, whose
+// nearest cell is empty) stay transparent, so the base edge is the true
+// circle, not the cells' staircase; values are clamped to [lo, hi].
+func (r *mapRaster) image(w, h int) *image.NRGBA {
+	img := image.NewNRGBA(image.Rect(0, 0, w, h))
+	m := r.m
+	dx, dy := (r.xmax-r.xmin)/float64(w), (r.ymax-r.ymin)/float64(h)
+	r2 := m.BaseRadiusMM * m.BaseRadiusMM
+	scale := float64(len(r.colors)-1) / (r.hi - r.lo)
+	for py := 0; py < h; py++ {
+		y := r.ymax - (float64(py)+0.5)*dy
+		fy := (y - m.Y0MM) / m.CellMM
+		j := int(math.Floor(fy))
+		ty := fy - float64(j)
+		for px := 0; px < w; px++ {
+			x := r.xmin + (float64(px)+0.5)*dx
+			if r2 > 0 && x*x+y*y > r2 {
+				continue
+			}
+			fx := (x - m.X0MM) / m.CellMM
+			i := int(math.Floor(fx))
+			tx := fx - float64(i)
+			if r2 == 0 && math.IsNaN(r.cell(int(math.Round(fx)), int(math.Round(fy)))) {
+				continue
+			}
+			var sum, wsum float64
+			for _, c := range [4]struct {
+				di, dj int
+				w      float64
+			}{{0, 0, (1 - tx) * (1 - ty)}, {1, 0, tx * (1 - ty)}, {0, 1, (1 - tx) * ty}, {1, 1, tx * ty}} {
+				if v := r.cell(i+c.di, j+c.dj); !math.IsNaN(v) && c.w > 0 {
+					sum += c.w * v
+					wsum += c.w
+				}
+			}
+			if wsum == 0 {
+				continue
+			}
+			v := sum / wsum
+			off := img.PixOffset(px, py)
+			var col color.NRGBA
+			switch {
+			case r.hatch && v < r.lo:
+				col = hatchLight
+				if (px+py)%7 < 2 {
+					col = inkDark
+				}
+			default:
+				k := int((math.Min(math.Max(v, r.lo), r.hi)-r.lo)*scale + 0.5)
+				col = r.colors[k]
+			}
+			img.Pix[off], img.Pix[off+1], img.Pix[off+2], img.Pix[off+3] = col.R, col.G, col.B, col.A
+		}
+	}
+	return img
+}
+
+// cell returns the value of cell (i, j), NaN outside the grid.
+func (r *mapRaster) cell(i, j int) float64 {
+	m := r.m
+	if i < 0 || j < 0 || i >= m.Nx || j >= m.Ny {
+		return math.NaN()
+	}
+	return m.Values[j*m.Nx+i]
+}
+
+// pictureDPI is the resolution of the PNG pictures and of the raster a
+// map embeds in its SVG.
+const pictureDPI = 110
+
+// WriteMap renders the map as "png" or "svg".
+func WriteMap(w io.Writer, m *MapSpec, format string) error {
+	if len(m.Values) != m.Nx*m.Ny || m.Nx <= 0 || m.Ny <= 0 || !(m.CellMM > 0) {
+		return fmt.Errorf("map %q: %d values for %d×%d cells of %g mm", m.Title, len(m.Values), m.Nx, m.Ny, m.CellMM)
+	}
+	mp, err := m.plots()
+	if err != nil {
+		return err
+	}
+	width, height, legendH := mp.size()
+	c, err := newCanvas(format, width, height)
+	if err != nil {
+		return err
+	}
+	r := layoutMap(draw.New(c), mp.plot, legendH)
+	mp.plot.Draw(r.plotC)
+	mp.bar.Draw(r.barC)
+	mp.legend.Draw(r.legendC)
+	_, err = c.WriteTo(w)
+	return err
+}
+
+const (
+	mapPlotW = 14 * vg.Centimeter  // map plot, axes included
+	mapBarW  = 3.4 * vg.Centimeter // colour bar column
+)
+
+// mapRegions are the canvases of a map picture.
+type mapRegions struct {
+	plotC, barC, legendC draw.Canvas
+}
+
+// layoutMap splits the picture: the colour bar on the right, the legend in
+// a strip of height legendH under the map, aligned with its data area.
+func layoutMap(dc draw.Canvas, p *plot.Plot, legendH vg.Length) mapRegions {
+	var r mapRegions
+	r.plotC = draw.Crop(dc, 0, -mapBarW, legendH, 0)
+	r.barC = draw.Crop(dc, mapPlotW+0.6*vg.Centimeter, 0, legendH+1.3*vg.Centimeter, -1.9*vg.Centimeter)
+	legendC := draw.Crop(dc, 0, -mapBarW, 0, 0)
+	legendC.Max.Y = legendC.Min.Y + legendH
+	legendC.Min.X = p.DataCanvas(r.plotC).Min.X
+	r.legendC = legendC
+	return r
+}
+
+// mapPicture holds the parts of a map picture.
+type mapPicture struct {
+	plot, bar *plot.Plot
+	legend    plot.Legend
+	entries   int // legend entries
+}
+
+// size returns the picture's size, the data area having the data
+// window's aspect ratio, and the height of the legend strip.
+func (mp *mapPicture) size() (w, h, legendH vg.Length) {
+	p := mp.plot
+	aspect := (p.Y.Max - p.Y.Min) / (p.X.Max - p.X.Min)
+	// Measure the data area on a trial canvas, then grow or shrink the
+	// height.
+	trialH := vg.Length(float64(mapPlotW) * aspect)
+	da := p.DataCanvas(draw.New(vgimg.New(mapPlotW, trialH)))
+	dw, dh := da.Max.X-da.Min.X, da.Max.Y-da.Min.Y
+	plotH := trialH + vg.Length(float64(dw)*aspect) - dh
+	if mp.entries > 0 {
+		legendH = mp.legend.Rectangle(draw.New(vgimg.New(mapPlotW, plotH))).Size().Y + vg.Points(6)
+	}
+	return mapPlotW + mapBarW, plotH + legendH, legendH
+}
+
+// plots builds the map's plot, colour bar and legend.
+func (m *MapSpec) plots() (*mapPicture, error) {
+	lo, hi, unit, below := m.colourRange()
+	xmin, xmax, ymin, ymax := m.extentMM()
+	ras := &mapRaster{m: m, lo: lo, hi: hi, colors: scaleColors(m.Controls, 256), hatch: below,
+		xmin: xmin, xmax: xmax, ymin: ymin, ymax: ymax}
 
 	p := plot.New()
-	p.Title.Text = m.Title
+	p.Title.Text = titleText(m.Title, m.Labels)
 	p.X.Label.Text = "x (mm)"
 	p.Y.Label.Text = "y (mm)"
-	hm := plotter.NewHeatMap(g, cm.Palette(256))
-	hm.Rasterized = true
-	hm.NaN = color.Transparent
-	hm.Min, hm.Max = lo, hi
-	p.Add(hm)
+	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xmin, xmax, ymin, ymax
+	// The raster has the data area's size in pixels at pictureDPI
+	// (measured on a canvas of the final width; the height follows the
+	// aspect ratio).
+	aspect := (ymax - ymin) / (xmax - xmin)
+	da := p.DataCanvas(draw.New(vgimg.New(mapPlotW, vg.Length(float64(mapPlotW)*aspect))))
+	wpx := max(1, int(float64(da.Max.X-da.Min.X)/vg.Inch.Points()*pictureDPI+0.5))
+	hpx := max(1, int(float64(wpx)*aspect+0.5))
+	p.Add(plotter.NewImage(ras.image(wpx, hpx), xmin, ymin, xmax, ymax))
+
+	mp := &mapPicture{plot: p, legend: plot.NewLegend()}
+	legend := &mp.legend
+	legend.Top, legend.Left = true, true
+	legend.TextStyle.Font.Size = vg.Points(11)
+	legend.Padding = vg.Points(3)
+	if r := m.ZoneDiameterMM / 2; r > 0 {
+		z := &circleOutline{X: m.ZoneCentreMM[0], Y: m.ZoneCentreMM[1], R: r}
+		p.Add(z)
+		legend.Add(fmt.Sprintf("heating zone, %s mm across", strconv.FormatFloat(m.ZoneDiameterMM, 'f', -1, 64)), z)
+		mp.entries++
+	}
 	if len(m.MarksMM) > 0 {
 		pts := make(plotter.XYs, len(m.MarksMM))
 		for i, c := range m.MarksMM {
@@ -142,154 +397,393 @@ func WriteMap(w io.Writer, m *MapSpec, format string) error {
 		}
 		sc, err := plotter.NewScatter(pts)
 		if err != nil {
-			return err
+			return nil, err
 		}
-		sc.GlyphStyle.Shape = draw.CrossGlyph{}
-		sc.GlyphStyle.Radius = vg.Points(5)
-		sc.GlyphStyle.Color = color.NRGBA{R: 0xe8, G: 0x1e, B: 0x63, A: 0xff}
+		sc.GlyphStyle = markStyle
 		p.Add(sc)
 		if m.MarkLabel != "" {
-			p.Legend.Add(m.MarkLabel, sc)
-			p.Legend.Top = true
+			legend.Add(m.MarkLabel, sc)
+			mp.entries++
 		}
 	}
-	// Equal scales on both axes.
-	xmin, xmax := g.X(0)-m.CellMM/2, g.X(cnx-1)+m.CellMM/2
-	ymin, ymax := g.Y(0)-m.CellMM/2, g.Y(cny-1)+m.CellMM/2
-	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xmin, xmax, ymin, ymax
+	if below {
+		legend.Add(m.BelowZeroLabel, hatchSwatch{})
+		mp.entries++
+	}
 
 	cb := plot.New()
 	cb.HideX()
 	cb.Y.Label.Text = unit
 	cb.Y.Tick.Marker = shortTicks{}
-	cb.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true, Colors: 256})
+	cb.Add(&plotter.ColorBar{ColorMap: newScale(m.Controls, lo, hi), Vertical: true, Colors: 256})
+	mp.bar = cb
+	return mp, nil
+}
 
-	const plotW, barW = 14 * vg.Centimeter, 3.2 * vg.Centimeter
-	// Size the canvas so the data area has the data's aspect ratio: measure
-	// the data area on a trial canvas, then grow or shrink the height.
-	aspect := (ymax - ymin) / (xmax - xmin)
-	trialH := vg.Length(float64(plotW) * aspect)
-	trial := draw.New(vgimg.New(plotW, trialH))
-	da := p.DataCanvas(trial)
-	dw, dh := da.Max.X-da.Min.X, da.Max.Y-da.Min.Y
-	height := trialH + vg.Length(float64(dw)*aspect) - dh
-	width := plotW + barW
-	c, err := newCanvas(format, width, height)
-	if err != nil {
-		return err
+// markStyle is the support-point marker: a white disc in a dark ring with
+// a dark centre dot, visible on every colour of the scales.
+var markStyle = draw.GlyphStyle{Shape: ringGlyph{}, Radius: vg.Points(5.5), Color: inkDark}
+
+// ringGlyph draws a two-tone marker: a dark disc of the style's radius, a
+// white disc inside it, and a dark dot at the point itself.
+type ringGlyph struct{}
+
+func (ringGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	r := sty.Radius
+	c.FillPolygon(inkDark, circlePoints(pt, r))
+	c.FillPolygon(inkLight, circlePoints(pt, r-vg.Points(1.8)))
+	c.FillPolygon(inkDark, circlePoints(pt, vg.Points(1.2)))
+}
+
+func circlePoints(ctr vg.Point, r vg.Length) []vg.Point {
+	const n = 32
+	pts := make([]vg.Point, n)
+	for k := range pts {
+		a := 2 * math.Pi * float64(k) / n
+		pts[k] = vg.Point{X: ctr.X + r*vg.Length(math.Cos(a)), Y: ctr.Y + r*vg.Length(math.Sin(a))}
 	}
-	dc := draw.New(c)
-	left := draw.Crop(dc, 0, -barW, 0, 0)
-	right := draw.Crop(dc, plotW+0.6*vg.Centimeter, 0, 1.3*vg.Centimeter, -1.3*vg.Centimeter)
-	p.Draw(left)
-	cb.Draw(right)
-	_, err = c.WriteTo(w)
-	return err
+	return pts
+}
+
+// circleOutline is a circle in data coordinates (mm) drawn as a dark
+// dashed line over a white one, so it shows on dark and light colours.
+type circleOutline struct{ X, Y, R float64 }
+
+var (
+	outlineUnder = draw.LineStyle{Color: inkLight, Width: vg.Points(3)}
+	outlineOver  = draw.LineStyle{Color: inkDark, Width: vg.Points(1.4),
+		Dashes: []vg.Length{vg.Points(6), vg.Points(3)}}
+)
+
+func (o *circleOutline) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, trY := p.Transforms(&c)
+	const n = 180
+	pts := make([]vg.Point, n+1)
+	for k := range pts {
+		a := 2 * math.Pi * float64(k) / n
+		pts[k] = vg.Point{X: trX(o.X + o.R*math.Cos(a)), Y: trY(o.Y + o.R*math.Sin(a))}
+	}
+	c.StrokeLines(outlineUnder, c.ClipLinesXY(pts)...)
+	c.StrokeLines(outlineOver, c.ClipLinesXY(pts)...)
+}
+
+func (o *circleOutline) Thumbnail(c *draw.Canvas) {
+	y := c.Center().Y
+	c.StrokeLine2(outlineUnder, c.Min.X, y, c.Max.X, y)
+	c.StrokeLine2(outlineOver, c.Min.X, y, c.Max.X, y)
+}
+
+// hatchSwatch is the legend thumbnail of hatched cells.
+type hatchSwatch struct{}
+
+func (hatchSwatch) Thumbnail(c *draw.Canvas) {
+	r := c.Rectangle
+	r.Min.Y += vg.Points(2)
+	r.Max.Y -= vg.Points(2)
+	c.FillPolygon(hatchLight, []vg.Point{r.Min, {X: r.Max.X, Y: r.Min.Y}, r.Max, {X: r.Min.X, Y: r.Max.Y}})
+	sty := draw.LineStyle{Color: inkDark, Width: vg.Points(1.2)}
+	h := r.Max.Y - r.Min.Y
+	for x := r.Min.X - h; x < r.Max.X; x += vg.Points(4.5) {
+		pts := []vg.Point{{X: x, Y: r.Min.Y}, {X: x + h, Y: r.Max.Y}}
+		c.StrokeLines(sty, clipSegment(pts, r))
+	}
+	c.StrokeLines(draw.LineStyle{Color: inkDark, Width: vg.Points(0.5)},
+		[]vg.Point{r.Min, {X: r.Max.X, Y: r.Min.Y}, r.Max, {X: r.Min.X, Y: r.Max.Y}, r.Min})
+}
+
+// clipSegment clips a 45° segment to r.
+func clipSegment(s []vg.Point, r vg.Rectangle) []vg.Point {
+	a, b := s[0], s[1]
+	if a.X < r.Min.X {
+		a.Y += r.Min.X - a.X
+		a.X = r.Min.X
+	}
+	if b.X > r.Max.X {
+		b.Y -= b.X - r.Max.X
+		b.X = r.Max.X
+	}
+	return []vg.Point{a, b}
 }
 
 // RingChartSpec is the ring chart: flux per ring of the scan and its flat
 // twin against the ring's mid radius.
 type RingChartSpec struct {
-	Title string
-	Rings []RingReport
+	Title  string
+	Labels PictureLabels
+	Rings  []RingReport
+	// ZoneRadiusMM, when positive, marks the heating zone's edge (drawn
+	// only for a zone centred under the pan).
+	ZoneRadiusMM float64
 }
+
+// ringChart is the ring chart laid out: two panels, each with its legend
+// in the column to the right of the panels.
+type ringChart struct {
+	panels  [2]*plot.Plot
+	legends [2]plot.Legend
+}
+
+// The ring chart's size.
+const (
+	ringChartW = 17 * vg.Centimeter
+	ringChartH = 15 * vg.Centimeter
+)
 
 // WriteRingChart renders the ring chart as "png" or "svg": above, the heat
 // flux into the pan per ring for the scan and its flat twin; below, the
 // ring's mean and largest gap, on the same radius axis.
 func WriteRingChart(w io.Writer, s *RingChartSpec, format string) error {
-	top := plot.New()
-	top.Title.Text = s.Title
-	top.Y.Label.Text = "heat flux into the pan (kW/m²)"
-	top.Add(plotter.NewGrid())
-	scanXY := make(plotter.XYs, len(s.Rings))
-	flatXY := make(plotter.XYs, len(s.Rings))
-	meanXY := make(plotter.XYs, len(s.Rings))
-	maxXY := make(plotter.XYs, len(s.Rings))
-	for i, r := range s.Rings {
-		mid := (r.RInMM + r.ROutMM) / 2
-		scanXY[i] = plotter.XY{X: mid, Y: r.FluxKWM2}
-		flatXY[i] = plotter.XY{X: mid, Y: r.FlatFluxKWM2}
-		meanXY[i] = plotter.XY{X: mid, Y: r.MeanGapMM * 1e3}
-		maxXY[i] = plotter.XY{X: mid, Y: r.MaxGapMM * 1e3}
-	}
-	grey := color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
-	red := color.NRGBA{R: 0xb0, G: 0x30, B: 0x1c, A: 0xff}
-	blue := color.NRGBA{R: 0x2e, G: 0x3f, B: 0x8f, A: 0xff}
-	addLine := func(p *plot.Plot, xy plotter.XYs, c color.Color, dashed bool, glyph draw.GlyphDrawer, label string) error {
-		l, pts, err := plotter.NewLinePoints(xy)
-		if err != nil {
-			return err
-		}
-		l.Color, pts.Color, pts.Shape = c, c, glyph
-		l.Width = vg.Points(1.5)
-		if dashed {
-			l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
-			l.Width = vg.Points(1)
-		}
-		p.Add(l, pts)
-		p.Legend.Add(label, l, pts)
-		return nil
-	}
-	if err := addLine(top, flatXY, grey, true, draw.CircleGlyph{}, "flat twin"); err != nil {
-		return err
-	}
-	if err := addLine(top, scanXY, red, false, draw.BoxGlyph{}, "scan"); err != nil {
-		return err
-	}
-	top.Legend.Top = true
-	top.Y.Min = 0
-
-	bottom := plot.New()
-	bottom.X.Label.Text = "ring mid radius (mm)"
-	bottom.Y.Label.Text = "gap (µm)"
-	bottom.Add(plotter.NewGrid())
-	if err := addLine(bottom, maxXY, grey, true, draw.TriangleGlyph{}, "largest"); err != nil {
-		return err
-	}
-	if err := addLine(bottom, meanXY, blue, false, draw.BoxGlyph{}, "mean"); err != nil {
-		return err
-	}
-	bottom.Legend.Top = true
-	bottom.Y.Min = 0
-	top.X.Min, top.X.Max = bottom.X.Min, bottom.X.Max
-
-	const width, height = 16 * vg.Centimeter, 15 * vg.Centimeter
-	c, err := newCanvas(format, width, height)
+	rc, err := newRingChart(s)
 	if err != nil {
 		return err
 	}
-	tiles := draw.Tiles{Rows: 2, Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadLeft: vg.Points(4), PadRight: vg.Points(8), PadY: vg.Points(10)}
-	plots := [][]*plot.Plot{{top}, {bottom}}
-	canvases := plot.Align(plots, tiles, draw.New(c))
-	top.Draw(canvases[0][0])
-	bottom.Draw(canvases[1][0])
+	c, err := newCanvas(format, ringChartW, ringChartH)
+	if err != nil {
+		return err
+	}
+	plotCs, legendCs := rc.layout(draw.New(c))
+	for k, p := range rc.panels {
+		p.Draw(plotCs[k])
+		rc.legends[k].Draw(legendCs[k])
+	}
 	_, err = c.WriteTo(w)
 	return err
 }
 
+// layout returns the panels' canvases and their legends' canvases: the
+// legends sit in a column right of the panels, level with each panel's
+// data area, so they never cover a curve.
+func (rc *ringChart) layout(dc draw.Canvas) (plots, legends [2]draw.Canvas) {
+	tiles := draw.Tiles{Rows: 2, Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadLeft: vg.Points(4),
+		PadRight: vg.Points(8), PadY: vg.Points(10)}
+	var lw vg.Length
+	for k := range rc.legends {
+		lw = max(lw, rc.legends[k].Rectangle(dc).Size().X)
+	}
+	left := draw.Crop(dc, 0, -(lw + vg.Points(8)), 0, 0)
+	cs := plot.Align([][]*plot.Plot{{rc.panels[0]}, {rc.panels[1]}}, tiles, left)
+	for k := range rc.panels {
+		plots[k] = cs[k][0]
+		da := rc.panels[k].DataCanvas(plots[k])
+		lc := da
+		lc.Min.X = left.Max.X + vg.Points(4)
+		lc.Max.X = dc.Max.X
+		legends[k] = lc
+	}
+	return plots, legends
+}
+
+// newRingChart builds the chart's two panels and their legends.
+func newRingChart(s *RingChartSpec) (*ringChart, error) {
+	rc := &ringChart{}
+	for k := range rc.legends {
+		rc.legends[k] = plot.NewLegend()
+		rc.legends[k].Top, rc.legends[k].Left = true, true
+		rc.legends[k].TextStyle.Font.Size = vg.Points(11)
+		rc.legends[k].Padding = vg.Points(3)
+	}
+	top, err := fluxPanel(s, &rc.legends[0])
+	if err != nil {
+		return nil, err
+	}
+	bottom, err := gapPanel(s, &rc.legends[1])
+	if err != nil {
+		return nil, err
+	}
+	rc.panels = [2]*plot.Plot{top, bottom}
+	rmax := 1.0
+	for _, r := range s.Rings {
+		rmax = math.Max(rmax, r.ROutMM)
+	}
+	if s.ZoneRadiusMM > 0 && s.ZoneRadiusMM < 2*rmax {
+		for k, p := range rc.panels {
+			edge := newVLine(s.ZoneRadiusMM)
+			p.Add(edge)
+			rc.legends[k].Add("heating zone edge", edge)
+		}
+		rmax = math.Max(rmax, s.ZoneRadiusMM)
+	}
+	for _, p := range rc.panels {
+		p.X.Min, p.X.Max = 0, rmax
+		p.X.Tick.Marker = shortTicks{}
+		p.Y.Tick.Marker = shortTicks{}
+	}
+	return rc, nil
+}
+
+// Ring chart curve colours.
+var (
+	curveGrey = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
+	curveRed  = color.NRGBA{R: 0xb0, G: 0x30, B: 0x1c, A: 0xff}
+	curveBlue = color.NRGBA{R: 0x2e, G: 0x3f, B: 0x8f, A: 0xff}
+)
+
+// fluxPanel is the chart's upper panel: flux per ring, kW/m², of the scan
+// and its flat twin; below zero, where the pan heats the glass, a zero
+// line and a legend note say so.
+func fluxPanel(s *RingChartSpec, legend *plot.Legend) (*plot.Plot, error) {
+	p := plot.New()
+	p.Title.Text = titleText(s.Title, s.Labels)
+	p.Y.Label.Text = "heat flux into the pan (kW/m²)"
+	p.Add(plotter.NewGrid())
+	scan, flat := make(plotter.XYs, len(s.Rings)), make(plotter.XYs, len(s.Rings))
+	fmin := 0.0
+	for i, r := range s.Rings {
+		mid := (r.RInMM + r.ROutMM) / 2
+		scan[i] = plotter.XY{X: mid, Y: r.FluxKWM2}
+		flat[i] = plotter.XY{X: mid, Y: r.FlatFluxKWM2}
+		fmin = math.Min(fmin, math.Min(r.FluxKWM2, r.FlatFluxKWM2))
+	}
+	if err := addCurve(p, legend, flat, curveGrey, true, draw.CircleGlyph{}, "flat twin"); err != nil {
+		return nil, err
+	}
+	if err := addCurve(p, legend, scan, curveRed, false, draw.BoxGlyph{}, "scan"); err != nil {
+		return nil, err
+	}
+	p.Y.Min = 0
+	if fmin < 0 {
+		p.Y.Min = fmin
+		zero := &plotter.Function{F: func(float64) float64 { return 0 }, LineStyle: draw.LineStyle{Color: inkDark, Width: vg.Points(0.8)}}
+		p.Add(zero)
+		legend.Add("below 0: heat flows", zero)
+		legend.Add("back into the glass")
+	}
+	return p, nil
+}
+
+// gapPanel is the chart's lower panel: mean and largest gap per ring, mm.
+func gapPanel(s *RingChartSpec, legend *plot.Legend) (*plot.Plot, error) {
+	p := plot.New()
+	p.X.Label.Text = "ring mid radius (mm)"
+	p.Y.Label.Text = "gap (mm)"
+	p.Add(plotter.NewGrid())
+	mean, largest := make(plotter.XYs, len(s.Rings)), make(plotter.XYs, len(s.Rings))
+	gmax := 0.0
+	for i, r := range s.Rings {
+		mid := (r.RInMM + r.ROutMM) / 2
+		mean[i] = plotter.XY{X: mid, Y: r.MeanGapMM}
+		largest[i] = plotter.XY{X: mid, Y: r.MaxGapMM}
+		gmax = math.Max(gmax, r.MaxGapMM)
+	}
+	if err := addCurve(p, legend, largest, curveGrey, true, draw.TriangleGlyph{}, "largest"); err != nil {
+		return nil, err
+	}
+	if err := addCurve(p, legend, mean, curveBlue, false, draw.BoxGlyph{}, "mean"); err != nil {
+		return nil, err
+	}
+	p.Y.Min = 0
+	if !(gmax > 0) {
+		p.Y.Max = 0.01
+	}
+	return p, nil
+}
+
+// addCurve adds a line with point markers to p and its entry to legend.
+func addCurve(p *plot.Plot, legend *plot.Legend, xy plotter.XYs, c color.Color, dashed bool, glyph draw.GlyphDrawer, label string) error {
+	line, pts, err := plotter.NewLinePoints(xy)
+	if err != nil {
+		return fmt.Errorf("ring chart, %s: %w", label, err)
+	}
+	line.Color, pts.Color, pts.Shape = c, c, glyph
+	line.Width = vg.Points(1.5)
+	if dashed {
+		line.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+		line.Width = vg.Points(1)
+	}
+	p.Add(line, pts)
+	legend.Add(label, line, pts)
+	return nil
+}
+
+// vLine is a vertical dash-dotted line at X across the data area.
+type vLine struct {
+	X   float64
+	sty draw.LineStyle
+}
+
+func newVLine(x float64) *vLine {
+	return &vLine{X: x, sty: draw.LineStyle{Color: color.NRGBA{R: 0x3a, G: 0x6e, B: 0x2a, A: 0xff}, Width: vg.Points(1.2),
+		Dashes: []vg.Length{vg.Points(6), vg.Points(2), vg.Points(1.5), vg.Points(2)}}}
+}
+
+func (l *vLine) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, _ := p.Transforms(&c)
+	x := trX(l.X)
+	c.StrokeLine2(l.sty, x, c.Min.Y, x, c.Max.Y)
+}
+
+func (l *vLine) Thumbnail(c *draw.Canvas) {
+	y := c.Center().Y
+	c.StrokeLine2(l.sty, c.Min.X, y, c.Max.X, y)
+}
+
 // robustRange returns the colour range of a field: from its minimum to its
 // maximum, or to its 99.5th percentile when a few extreme cells (a contact
-// line, say) would otherwise wash out the rest of the map.
+// line, say) would otherwise wash out the rest of the map. The percentile
+// is the value of rank ⌊0.995·(n−1)⌋ among the n finite values, found by
+// selection in linear expected time (a full sort took 0.4 s on a
+// 1.4 M-cell grid).
 func robustRange(values []float64) (lo, hi float64, clipped bool) {
 	v := make([]float64, 0, len(values))
+	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, x := range values {
 		if !math.IsNaN(x) && !math.IsInf(x, 0) {
 			v = append(v, x)
+			lo, hi = math.Min(lo, x), math.Max(hi, x)
 		}
 	}
 	if len(v) == 0 {
 		return 0, 1, false
 	}
-	sort.Float64s(v)
-	lo, hi = v[0], v[len(v)-1]
-	if p := v[int(0.995*float64(len(v)-1))]; p-lo < 0.5*(hi-lo) {
+	if p := selectRank(v, int(0.995*float64(len(v)-1))); p-lo < 0.5*(hi-lo) {
 		hi, clipped = p, true
 	}
 	if hi-lo < 1e-12*math.Max(1, math.Abs(hi)) {
 		hi = lo + math.Max(1e-9, math.Abs(lo)*1e-3)
 	}
 	return lo, hi, clipped
+}
+
+// selectRank returns the k-th smallest of v (k from 0), reordering v:
+// Hoare's selection with a median-of-three pivot.
+func selectRank(v []float64, k int) float64 {
+	lo, hi := 0, len(v)-1
+	for lo < hi {
+		mid := lo + (hi-lo)/2
+		if v[mid] < v[lo] {
+			v[mid], v[lo] = v[lo], v[mid]
+		}
+		if v[hi] < v[lo] {
+			v[hi], v[lo] = v[lo], v[hi]
+		}
+		if v[hi] < v[mid] {
+			v[hi], v[mid] = v[mid], v[hi]
+		}
+		pivot := v[mid]
+		i, j := lo, hi
+		for i <= j {
+			for v[i] < pivot {
+				i++
+			}
+			for v[j] > pivot {
+				j--
+			}
+			if i <= j {
+				v[i], v[j] = v[j], v[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return v[k]
+		}
+	}
+	return v[k]
 }
 
 // shortTicks are gonum's default ticks labelled with at most four
@@ -306,13 +800,89 @@ func (shortTicks) Ticks(lo, hi float64) []plot.Tick {
 	return ticks
 }
 
-// newCanvas returns a PNG (110 dpi) or SVG canvas of the given size.
+// newCanvas returns a PNG (pictureDPI) or SVG canvas of the given size.
 func newCanvas(format string, width, height vg.Length) (vg.CanvasWriterTo, error) {
 	switch format {
 	case "png":
-		return vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}, nil
+		return vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(pictureDPI))}, nil
 	case "svg":
 		return vgsvg.NewWith(vgsvg.UseWH(width, height)), nil
 	}
 	return nil, fmt.Errorf("picture format %q: want png or svg", format)
+}
+
+// belowZeroFlux names the hatched cells of a flux map.
+const belowZeroFlux = "flux below 0: heat flows back into the glass"
+
+// writePictures writes the gap and flux maps and the ring chart of res
+// into dir, each as PNG and SVG. Gaps are in mm, as in rings.csv; fluxes
+// in kW/m².
+func writePictures(dir string, res *Result) error {
+	rep := res.Report
+	labels := PictureLabels{PartNumber: res.PartNumber, Lot: res.Lot}
+	if v := rep.Verdict; v != nil {
+		labels.Verdict = "FAIL"
+		if v.Pass {
+			labels.Verdict = "PASS"
+		}
+	}
+	title := res.Name
+	if s := res.Form; s != nil && res.GapM != nil {
+		inBase := func(src []float64, scale float64) []float64 {
+			out := make([]float64, len(src))
+			for k, v := range src {
+				out[k] = math.NaN()
+				if s.InBase(k) {
+					out[k] = v * scale
+				}
+			}
+			return out
+		}
+		spec := &MapSpec{Title: "gap under " + title, Labels: labels, Unit: "gap (mm)", Nx: s.Nx, Ny: s.Ny,
+			X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, CellMM: s.CellM * 1e3, Values: inBase(res.GapM, 1e3),
+			Controls: gapControls, MarkLabel: "support points", BaseRadiusMM: res.RadiusM * 1e3,
+			ZoneDiameterMM: res.ZoneDiameterM * 1e3, ZoneCentreMM: [2]float64{res.ZoneCentreM[0] * 1e3, res.ZoneCentreM[1] * 1e3}}
+		if res.Pose != nil {
+			for _, c := range res.Pose.ContactPointsM {
+				spec.MarksMM = append(spec.MarksMM, [2]float64{c[0] * 1e3, c[1] * 1e3})
+			}
+		}
+		if err := writeMapFiles(dir, "gap", spec); err != nil {
+			return err
+		}
+		if res.Scan != nil {
+			fspec := *spec
+			fspec.Title, fspec.Unit, fspec.Controls = "heat flux into "+title, "heat flux into the pan (kW/m²)", fluxControls
+			fspec.Values, fspec.BelowZeroLabel = inBase(res.Scan.FluxWM2, 1e-3), belowZeroFlux
+			if err := writeMapFiles(dir, "flux", &fspec); err != nil {
+				return err
+			}
+		}
+	}
+	if len(rep.Rings) > 0 {
+		spec := &RingChartSpec{Title: "heat flux by ring: " + title, Labels: labels, Rings: rep.Rings}
+		if res.ZoneCentreM == [2]float64{} {
+			spec.ZoneRadiusMM = res.ZoneDiameterM * 1e3 / 2
+		}
+		for _, ext := range []string{"png", "svg"} {
+			if err := WriteFileAtomic(filepath.Join(dir, "rings."+ext), func(w io.Writer) error {
+				return WriteRingChart(w, spec, ext)
+			}); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+// writeMapFiles writes spec as dir/name.png and dir/name.svg.
+func writeMapFiles(dir, name string, spec *MapSpec) error {
+	for _, ext := range []string{"png", "svg"} {
+		if err := WriteFileAtomic(filepath.Join(dir, name+"."+ext), func(w io.Writer) error {
+			return WriteMap(w, spec, ext)
+		}); err != nil {
+			return err
+		}
+	}
+	return nil
 }

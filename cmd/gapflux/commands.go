@@ -8,10 +8,10 @@ import (
 	"path/filepath"
 	"runtime"
 	"strings"
-	"text/tabwriter"
 
 	"golang.org/x/term"
 
+	"gapflux/contact"
 	"gapflux/pipeline"
 	"gapflux/scan/synth"
 )
@@ -279,21 +279,7 @@ func cmdMaterials(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return usageError{err}
 	}
-	tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "name\tk_w_mk\tdensity_kg_m3\tcp_j_kgk\tyoung_gpa\tpoisson\texpansion_um_mk\thardness_mpa\temissivity\tsource")
-	for _, m := range lib {
-		fmt.Fprintf(tw, "%s\t%.4g\t%.4g\t%.4g\t%.4g\t%.3g\t%.3g\t%.4g\t%.3g\t%s\n", m.Name, m.ConductivityWMK,
-			m.DensityKgM3, m.CpJKgK, m.YoungPa/1e9, m.Poisson, m.ExpansionPerK*1e6, m.HardnessPa/1e6, m.Emissivity,
-			firstSentence(m.Source))
-	}
-	return tw.Flush()
-}
-
-func firstSentence(s string) string {
-	if i := strings.Index(s, ". "); i > 0 {
-		return s[:i]
-	}
-	return s
+	return contact.WriteMaterialTable(stdout, lib)
 }
 
 func cmdJob(args []string, stdout, stderr io.Writer) error {
