@@ -369,7 +369,10 @@ func Discover(dir string, skip func(path string) bool) (*Discovery, error) {
 	listed := map[string]bool{}
 	for _, e := range entries {
 		listed[e.Path] = true
-		if reasons, bad := problems[e.Path]; bad && e.Problem == "" {
+		if reasons, bad := problems[e.Path]; bad {
+			if e.Problem != "" { // a link out of the folder, say, with a bad row too
+				reasons = append([]string{e.Problem}, reasons...)
+			}
 			e.Problem = strings.Join(reasons, "; ")
 			delete(problems, e.Path)
 		} else if e.Problem == "" && m != nil {

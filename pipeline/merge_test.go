@@ -148,3 +148,75 @@ func TestMergeRecordsInput(t *testing.T) {
 		}
 	}
 }
+
+// TestNonUTF8NamesSurviveMerge: a scan whose name is not UTF-8 is a failed
+// row asking for a rename; its path is the same escaped text in summary.csv
+// and summary.json, and merged shards keep it exactly as a single run does.
+func TestNonUTF8NamesSurviveMerge(t *testing.T) {
+	files := demoContents(4)
+	files["line0/b\xff.xyz"] = "x"
+	dir := makeScanDir(t, files)
+	base := t.TempDir()
+	single := runShards(t, dir, filepath.Join(base, "single"), 0)[0]
+	outs := runShards(t, dir, base, 2)
+	if _, err := Merge(outs, filepath.Join(base, "merged")); err != nil {
+		t.Fatal(err)
+	}
+	const want = `line0/b\xFF.xyz`
+	for _, o := range []string{single, filepath.Join(base, "merged")} {
+		js, _ := os.ReadFile(filepath.Join(o, "summary.json"))
+		cs, _ := os.ReadFile(filepath.Join(o, "summary.csv"))
+		var s Summary
+		if err := json.Unmarshal(js, &s); err != nil {
+			t.Fatal(err)
+		}
+		found := false
+		for _, r := range s.Rows {
+			if r.Path == want {
+				found = r.Status == StatusFailed && strings.Contains(r.Error, "not valid UTF-8: rename it")
+			}
+		}
+		if !found || !bytes.Contains(cs, []byte("\n"+want+",failed,")) || bytes.Contains(js, []byte("\ufffd")) {
+			t.Errorf("%s: no failed row %s in both summaries:\n%s\n%s", o, want, cs, js)
+		}
+	}
+	for _, f := range []string{"summary.json", "summary.csv"} {
+		a, _ := os.ReadFile(filepath.Join(single, f))
+		b, _ := os.ReadFile(filepath.Join(base, "merged", f))
+		if !bytes.Equal(a, b) {
+			t.Errorf("%s: merged differs from a single run", f)
+		}
+	}
+}
+
+// TestBatchManifestFaults: a BOM, a duplicate row and a bad row end neither
+// the batch nor its summary; the rows concerned fail, the others run.
+func TestBatchManifestFaults(t *testing.T) {
+	files := demoContents(4) // line0/pan00.xyz line1/pan01.xyz line2/pan02.xyz line0/pan03.xyz
+	files[ManifestName] = "\xEF\xBB\xBFpath,lot,pan_mass_kg\nline0/pan00.xyz,L1,\nline1/pan01.xyz,L2,inf\n" +
+		"line2/pan02.xyz,L3,\nline2/pan02.xyz,L4,\n"
+	dir := makeScanDir(t, files)
+	res, err := RunBatch(context.Background(), BatchOptions{Dir: dir, Out: filepath.Join(t.TempDir(), "out"),
+		Job: DefaultJob(), Workers: 2, Analyze: (&fakeAnalyzer{}).analyze})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string]string{
+		"line0/pan00.xyz": "L1", "line0/pan03.xyz": "",
+		"line1/pan01.xyz": "failed: manifest.csv:3:20: pan_mass_kg is not a number in (0, 100]",
+		"line2/pan02.xyz": "failed: manifest.csv:4: lines 4, 5 all name the same scan",
+	}
+	if len(res.Summary.Rows) != len(want) || res.ExitCode() != 1 {
+		t.Fatalf("rows %v, exit %d", res.Summary.Rows, res.ExitCode())
+	}
+	for _, r := range res.Summary.Rows {
+		w := want[r.Path]
+		if msg, failed := strings.CutPrefix(w, "failed: "); failed {
+			if r.Status != StatusFailed || !strings.HasPrefix(r.Error, msg) {
+				t.Errorf("%s: %s %q, want failed %q", r.Path, r.Status, r.Error, msg)
+			}
+		} else if r.Status == StatusFailed || r.Lot != w {
+			t.Errorf("%s: %s lot %q, want it analysed with lot %q", r.Path, r.Status, r.Lot, w)
+		}
+	}
+}
