@@ -381,6 +381,27 @@ func TestMapRaster(t *testing.T) {
 	if c := at(15.1, 0.1); c != cols[194] && c != cols[193] { // x/10 ≈ 1.51 → 255·1.51/2 ≈ 193
 		t.Errorf("x = 15: %v, want scale colour 193", c)
 	}
+	// The base edge is the circle r = 20 mm, not the cells' staircase
+	// (whose runs of rim cells at ±R used to show as straight dark
+	// strips): just inside is painted, just outside is not, all round.
+	fine := r.image(500, 500) // 0.1 mm pixels
+	for deg := 0; deg < 360; deg += 5 {
+		a := float64(deg) * math.Pi / 180
+		for _, c := range []struct {
+			rMM    float64
+			opaque bool
+		}{{19.6, true}, {20.3, false}} {
+			x, y := c.rMM*math.Cos(a), c.rMM*math.Sin(a)
+			px := fine.NRGBAAt(int((x+25)/0.1), int((25-y)/0.1))
+			if (px.A == 0xff) != c.opaque {
+				t.Errorf("r %g mm at %d°: alpha %d, want opaque %v", c.rMM, deg, px.A, c.opaque)
+			}
+		}
+	}
+	// The data window leaves a margin round the disc.
+	if xmin, xmax, ymin, ymax := m.extentMM(); xmin > -21 || xmax < 21 || ymin > -21 || ymax < 21 {
+		t.Errorf("window %g..%g × %g..%g leaves no margin round the 20 mm disc", xmin, xmax, ymin, ymax)
+	}
 	seen := map[color.NRGBA]bool{}
 	for px := 0; px < 10; px++ {
 		seen[img.NRGBAAt(30+px, 50)] = true // x ≈ −10
