@@ -512,3 +512,28 @@ func TestSelectRank(t *testing.T) {
 		}
 	}
 }
+
+func TestWriteMapBadInput(t *testing.T) {
+	tests := []struct {
+		name   string
+		mod    func(*MapSpec)
+		format string
+		want   string
+	}{
+		{"short values", func(m *MapSpec) { m.Values = m.Values[:10] }, "png", "10 values for 41×41 cells of 1 mm"},
+		{"zero cell", func(m *MapSpec) { m.CellMM = 0 }, "png", "cells of 0 mm"},
+		{"NaN cell", func(m *MapSpec) { m.CellMM = math.NaN() }, "svg", "cells of NaN mm"},
+		{"Inf cell", func(m *MapSpec) { m.CellMM = math.Inf(1) }, "png", "cells of +Inf mm"},
+		{"NaN zone", func(m *MapSpec) { m.ZoneDiameterMM = math.NaN() }, "png", "want finite numbers"},
+		{"Inf mark", func(m *MapSpec) { m.MarksMM = [][2]float64{{0, math.Inf(-1)}} }, "png", "mark at (0, -Inf) mm"},
+		{"gif", func(*MapSpec) {}, "gif", `picture format "gif": want png or svg`},
+	}
+	for _, tt := range tests {
+		m := discSpec(func(x, y float64) float64 { return x })
+		tt.mod(m)
+		err := WriteMap(io.Discard, m, tt.format)
+		if err == nil || !strings.Contains(err.Error(), tt.want) {
+			t.Errorf("%s: error %v, want %q", tt.name, err, tt.want)
+		}
+	}
+}
