@@ -626,7 +626,7 @@ func newRingChart(s *RingChartSpec) (*ringChart, error) {
 			p.Add(edge)
 			rc.legends[k].Add("heating zone edge", edge)
 		}
-		rmax = math.Max(rmax, s.ZoneRadiusMM)
+		rmax = math.Max(rmax, 1.04*s.ZoneRadiusMM) // off the frame
 	}
 	for _, p := range rc.panels {
 		p.X.Min, p.X.Max = 0, rmax
