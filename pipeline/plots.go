@@ -222,6 +222,7 @@ func (m *MapSpec) colourRange() (lo, hi float64, unit string, below bool) {
 	}
 	if m.BelowZeroLabel != "" && lo < 0 {
 		lo, below = 0, true
+		unit += ", below 0 hatched"
 		if !(hi > lo) {
 			hi = 1
 		}
