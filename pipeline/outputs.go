@@ -124,7 +124,7 @@ func (res *Result) vtiFields() []VTIField {
 		fields = append(fields, VTIField{Name: "height_raw_um", Values: raw})
 	}
 	if res.GapM != nil {
-		fields = append(fields, VTIField{Name: "gap_um", Values: scaled(res.GapM, func(v float64) float64 { return v * 1e6 })})
+		fields = append(fields, VTIField{Name: "gap_mm", Values: scaled(res.GapM, func(v float64) float64 { return v * 1e3 })})
 		c := make([]float64, n)
 		for k, in := range res.Contact {
 			if in {

@@ -142,6 +142,31 @@ type MapSpec struct {
 	BelowZeroLabel string
 }
 
+// validate checks the grid and the overlays' geometry.
+func (m *MapSpec) validate() error {
+	finite := func(v ...float64) bool {
+		for _, x := range v {
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				return false
+			}
+		}
+		return true
+	}
+	switch {
+	case m.Nx <= 0 || m.Ny <= 0 || len(m.Values) != m.Nx*m.Ny || !(m.CellMM > 0) || !finite(m.CellMM, m.X0MM, m.Y0MM):
+		return fmt.Errorf("map %q: %d values for %d×%d cells of %g mm from (%g, %g) mm", m.Title, len(m.Values), m.Nx, m.Ny, m.CellMM, m.X0MM, m.Y0MM)
+	case !finite(m.BaseRadiusMM, m.ZoneDiameterMM, m.ZoneCentreMM[0], m.ZoneCentreMM[1], m.Lo, m.Hi):
+		return fmt.Errorf("map %q: base radius %g mm, zone %g mm at (%g, %g) mm, range %g..%g: want finite numbers",
+			m.Title, m.BaseRadiusMM, m.ZoneDiameterMM, m.ZoneCentreMM[0], m.ZoneCentreMM[1], m.Lo, m.Hi)
+	}
+	for _, p := range m.MarksMM {
+		if !finite(p[0], p[1]) {
+			return fmt.Errorf("map %q: mark at (%g, %g) mm is not finite", m.Title, p[0], p[1])
+		}
+	}
+	return nil
+}
+
 // crop returns the bounding box of the finite values.
 func (m *MapSpec) crop() (i0, j0, nx, ny int) {
 	imin, jmin, imax, jmax := m.Nx, m.Ny, -1, -1
@@ -197,6 +222,7 @@ func (m *MapSpec) colourRange() (lo, hi float64, unit string, below bool) {
 	}
 	if m.BelowZeroLabel != "" && lo < 0 {
 		lo, below = 0, true
+		unit += ", below 0 hatched"
 		if !(hi > lo) {
 			hi = 1
 		}
@@ -291,8 +317,8 @@ const pictureDPI = 110
 
 // WriteMap renders the map as "png" or "svg".
 func WriteMap(w io.Writer, m *MapSpec, format string) error {
-	if len(m.Values) != m.Nx*m.Ny || m.Nx <= 0 || m.Ny <= 0 || !(m.CellMM > 0) {
-		return fmt.Errorf("map %q: %d values for %d×%d cells of %g mm", m.Title, len(m.Values), m.Nx, m.Ny, m.CellMM)
+	if err := m.validate(); err != nil {
+		return err
 	}
 	mp, err := m.plots()
 	if err != nil {
@@ -601,7 +627,7 @@ func newRingChart(s *RingChartSpec) (*ringChart, error) {
 			p.Add(edge)
 			rc.legends[k].Add("heating zone edge", edge)
 		}
-		rmax = math.Max(rmax, s.ZoneRadiusMM)
+		rmax = math.Max(rmax, 1.04*s.ZoneRadiusMM) // off the frame
 	}
 	for _, p := range rc.panels {
 		p.X.Min, p.X.Max = 0, rmax

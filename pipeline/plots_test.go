@@ -381,6 +381,27 @@ func TestMapRaster(t *testing.T) {
 	if c := at(15.1, 0.1); c != cols[194] && c != cols[193] { // x/10 ≈ 1.51 → 255·1.51/2 ≈ 193
 		t.Errorf("x = 15: %v, want scale colour 193", c)
 	}
+	// The base edge is the circle r = 20 mm, not the cells' staircase
+	// (whose runs of rim cells at ±R used to show as straight dark
+	// strips): just inside is painted, just outside is not, all round.
+	fine := r.image(500, 500) // 0.1 mm pixels
+	for deg := 0; deg < 360; deg += 5 {
+		a := float64(deg) * math.Pi / 180
+		for _, c := range []struct {
+			rMM    float64
+			opaque bool
+		}{{19.6, true}, {20.3, false}} {
+			x, y := c.rMM*math.Cos(a), c.rMM*math.Sin(a)
+			px := fine.NRGBAAt(int((x+25)/0.1), int((25-y)/0.1))
+			if (px.A == 0xff) != c.opaque {
+				t.Errorf("r %g mm at %d°: alpha %d, want opaque %v", c.rMM, deg, px.A, c.opaque)
+			}
+		}
+	}
+	// The data window leaves a margin round the disc.
+	if xmin, xmax, ymin, ymax := m.extentMM(); xmin > -21 || xmax < 21 || ymin > -21 || ymax < 21 {
+		t.Errorf("window %g..%g × %g..%g leaves no margin round the 20 mm disc", xmin, xmax, ymin, ymax)
+	}
 	seen := map[color.NRGBA]bool{}
 	for px := 0; px < 10; px++ {
 		seen[img.NRGBAAt(30+px, 50)] = true // x ≈ −10
@@ -488,6 +509,31 @@ func TestSelectRank(t *testing.T) {
 			if got := selectRank(slices.Clone(v), k); got != sorted[k] {
 				t.Errorf("n %d rank %d: %g, want %g", n, k, got, sorted[k])
 			}
+		}
+	}
+}
+
+func TestWriteMapBadInput(t *testing.T) {
+	tests := []struct {
+		name   string
+		mod    func(*MapSpec)
+		format string
+		want   string
+	}{
+		{"short values", func(m *MapSpec) { m.Values = m.Values[:10] }, "png", "10 values for 41×41 cells of 1 mm"},
+		{"zero cell", func(m *MapSpec) { m.CellMM = 0 }, "png", "cells of 0 mm"},
+		{"NaN cell", func(m *MapSpec) { m.CellMM = math.NaN() }, "svg", "cells of NaN mm"},
+		{"Inf cell", func(m *MapSpec) { m.CellMM = math.Inf(1) }, "png", "cells of +Inf mm"},
+		{"NaN zone", func(m *MapSpec) { m.ZoneDiameterMM = math.NaN() }, "png", "want finite numbers"},
+		{"Inf mark", func(m *MapSpec) { m.MarksMM = [][2]float64{{0, math.Inf(-1)}} }, "png", "mark at (0, -Inf) mm"},
+		{"gif", func(*MapSpec) {}, "gif", `picture format "gif": want png or svg`},
+	}
+	for _, tt := range tests {
+		m := discSpec(func(x, y float64) float64 { return x })
+		tt.mod(m)
+		err := WriteMap(io.Discard, m, tt.format)
+		if err == nil || !strings.Contains(err.Error(), tt.want) {
+			t.Errorf("%s: error %v, want %q", tt.name, err, tt.want)
 		}
 	}
 }
