@@ -146,7 +146,8 @@ func ReadProfile(r io.Reader, name, col string) (rM, v []float64, err error) {
 		if header {
 			header = false
 			if !strings.EqualFold(strings.TrimSpace(rec[0]), "r_mm") || !strings.EqualFold(strings.TrimSpace(rec[1]), col) {
-				return nil, nil, fmt.Errorf("%s:%d: header %q, want \"r_mm,%s\"", name, line, strings.Join(rec, ","), col)
+				// The message never repeats the file's content.
+				return nil, nil, fmt.Errorf("%s:%d: header is not \"r_mm,%s\"", name, line, col)
 			}
 			continue
 		}

@@ -533,10 +533,10 @@ func (j *Job) Validate() error {
 			}
 			bad[spec] = true
 			if math.IsNaN(x) || math.IsInf(x, 0) {
-				add(key, nil, "%s must be a finite number in %s (got %s)", key, s.rangeText(), fmtNum(x))
+				add(key, nil, "%s must be a finite number, %s (got %s)", key, s.allowedText(), fmtNum(x))
 				return
 			}
-			add(key, nil, "%s must be in %s (got %s; %s)", key, s.rangeText(), fmtNum(x), s.why)
+			add(key, nil, "%s must be %s (got %s; %s)", key, s.allowedText(), fmtNum(x), s.why)
 		case reflect.String:
 			if s.oneOf != nil && !slices.Contains(s.oneOf, v.String()) {
 				bad[spec] = true

@@ -204,6 +204,17 @@ func (s keySpec) rangeText() string {
 	return t
 }
 
+// allowedText is rangeText for a message: "in [0.01, 10] mm", or "0 (no
+// filter) or in [0.1, 80] mm".
+func (s keySpec) allowedText() string {
+	if s.zero == "" {
+		return "in " + s.rangeText()
+	}
+	z := s
+	z.zero = ""
+	return "0 (" + s.zero + ") or in " + z.rangeText()
+}
+
 // inRange reports whether v is an allowed value of the numeric key s.
 func (s keySpec) inRange(v float64) bool {
 	if s.zero != "" && v == 0 {
