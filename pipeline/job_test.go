@@ -193,7 +193,7 @@ func TestEveryJobKeyBoundedAndDocumented(t *testing.T) {
 		flat := strings.NewReplacer("\n# #   ", " ", "\n#   ", " ").Replace(doc)
 		found := false
 		for line := range strings.Lines(flat) {
-			if strings.Contains(line, s.doc+";") && strings.Contains(line, "; default ") &&
+			if strings.Contains(line, s.doc+";") && (strings.Contains(line, "; default ") || strings.Contains(line, "; example ")) &&
 				strings.Contains(line, "; allowed "+s.rangeText()) && strings.Contains(line, s.why) &&
 				(s.unit == "" || strings.Contains(line, "unit "+s.unit)) {
 				found = true
