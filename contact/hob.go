@@ -146,6 +146,7 @@ func ReadProfile(r io.Reader, name, col string) (rM, v []float64, err error) {
 		if header {
 			header = false
 			if !strings.EqualFold(strings.TrimSpace(rec[0]), "r_mm") || !strings.EqualFold(strings.TrimSpace(rec[1]), col) {
+				// The message never repeats the file's content.
 				return nil, nil, fmt.Errorf("%s:%d: header is not \"r_mm,%s\": name the columns so", name, line, col)
 			}
 			continue

@@ -237,7 +237,7 @@ func TestAnalyzeBadInputs(t *testing.T) {
 	few := filepath.Join(dir, "few.xyz")
 	os.WriteFile(few, []byte("0 0 0\n1 0 0\n0 1 0\n"), 0o644)
 	big := filepath.Join(dir, "big.xyz")
-	os.WriteFile(big, []byte(strings.Repeat("1 2 3\n", 100)), 0o644)
+	os.WriteFile(big, []byte(strings.Repeat("1 2 3\n", 1100)), 0o644)
 	tests := []struct {
 		path, want string
 		job        func(*Job)
@@ -246,7 +246,7 @@ func TestAnalyzeBadInputs(t *testing.T) {
 		{nan, "nan.xyz: line 2", nil},
 		{few, "few.xyz", nil},
 		{filepath.Join(dir, "missing.ply"), "missing.ply", nil},
-		{big, "max_points", func(j *Job) { j.Limits.MaxPoints = 10 }},
+		{big, "max_points", func(j *Job) { j.Limits.MaxPoints = 1000 }},
 	}
 	for _, tc := range tests {
 		job := smallJob()

@@ -6,7 +6,8 @@ import (
 )
 
 // FuzzReadJob: no job file makes ReadJob panic, and an accepted job
-// validates.
+// validates and hashes. The seed corpus in testdata/fuzz/FuzzReadJob holds
+// ±Inf, NaN, huge and wrong-length values.
 func FuzzReadJob(f *testing.F) {
 	f.Add([]byte(DefaultJobTOML))
 	f.Add([]byte("[water]\nmass_kg = 2\n"))
@@ -18,6 +19,9 @@ func FuzzReadJob(f *testing.F) {
 		if err == nil {
 			if verr := j.Validate(); verr != nil {
 				t.Fatalf("accepted an invalid job: %v", verr)
+			}
+			if _, herr := JobHash(j, ""); herr != nil {
+				t.Fatalf("accepted a job that does not hash: %v", herr)
 			}
 		}
 	})

@@ -508,19 +508,29 @@ func walkJob(v reflect.Value, key, spec string, fn func(key, spec string, v refl
 // least fits limits.max_cells. The error is an *InvalidJobError listing
 // every problem, each naming its key.
 func (j *Job) Validate() error {
-	var probs []*KeyError
-	add := func(key string, also []string, format string, a ...any) {
-		probs = append(probs, &KeyError{Key: key, Also: also, Msg: fmt.Sprintf(format, a...)})
+	probs, bad := j.rangeProblems()
+	probs = append(probs, j.crossProblems(bad)...)
+	if len(probs) > 0 {
+		return &InvalidJobError{Problems: probs}
+	}
+	return nil
+}
+
+// rangeProblems checks each value against its keySpec; bad holds the spec
+// keys refused.
+func (j *Job) rangeProblems() (probs []*KeyError, bad map[string]bool) {
+	add := func(key string, format string, a ...any) {
+		probs = append(probs, &KeyError{Key: key, Msg: fmt.Sprintf(format, a...)})
 	}
 	specs := map[string]keySpec{}
 	for _, s := range jobKeys() {
 		specs[s.key] = s
 	}
-	bad := map[string]bool{} // keys already refused
+	bad = map[string]bool{}
 	walkJob(reflect.ValueOf(*j), "", "", func(key, spec string, v reflect.Value) {
 		s, ok := specs[spec]
 		if !ok {
-			add(key, nil, "%s has no documented range (a gapflux bug: please report it)", key)
+			add(key, "%s has no documented range (a gapflux bug: please report it)", key)
 			return
 		}
 		switch v.Kind() {
@@ -536,10 +546,10 @@ func (j *Job) Validate() error {
 			}
 			bad[spec] = true
 			if math.IsNaN(x) || math.IsInf(x, 0) {
-				add(key, nil, "%s must be a finite number in %s (got %s)", key, s.rangeText(), fmtNum(x))
+				add(key, "%s must be a finite number, %s (got %s)", key, s.allowedText(), fmtNum(x))
 				return
 			}
-			add(key, nil, "%s must be in %s (got %s; %s)", key, s.rangeText(), fmtNum(x), s.why)
+			add(key, "%s must be %s (got %s; %s)", key, s.allowedText(), fmtNum(x), s.why)
 		case reflect.String:
 			if s.oneOf != nil && !slices.Contains(s.oneOf, v.String()) {
 				bad[spec] = true
@@ -547,10 +557,20 @@ func (j *Job) Validate() error {
 				for i, o := range s.oneOf {
 					q[i] = strconv.Quote(o)
 				}
-				add(key, nil, "%s must be one of %s (got %q)", key, strings.Join(q, ", "), v.String())
+				add(key, "%s must be one of %s (got %q)", key, strings.Join(q, ", "), v.String())
 			}
 		}
 	})
+	return probs, bad
+}
+
+// crossProblems checks the keys that depend on each other, and the job's
+// grids against limits.max_cells when the keys that set them are in range.
+func (j *Job) crossProblems(bad map[string]bool) []*KeyError {
+	var probs []*KeyError
+	add := func(key string, also []string, format string, a ...any) {
+		probs = append(probs, &KeyError{Key: key, Also: also, Msg: fmt.Sprintf(format, a...)})
+	}
 	if len(j.Pan.Layers) == 0 || len(j.Pan.Layers) > 20 {
 		add("pan.layers", nil, "pan.layers must list at least one layer and at most 20 (got %d)", len(j.Pan.Layers))
 	}
@@ -601,8 +621,5 @@ func (j *Job) Validate() error {
 	if err := j.Quality.validate(); err != nil {
 		add("quality", nil, "%v", err)
 	}
-	if len(probs) > 0 {
-		return &InvalidJobError{Problems: probs}
-	}
-	return nil
+	return probs
 }

@@ -133,3 +133,102 @@ func TestJobProfilesRelativeAndHashed(t *testing.T) {
 		}
 	}
 }
+
+// specKeysOf lists the keySpec keys of every leaf of a struct type by
+// reflection ("pan.layers.thickness_mm" for an array of tables).
+func specKeysOf(t reflect.Type, prefix string) []string {
+	var out []string
+	for i := range t.NumField() {
+		f := t.Field(i)
+		name, _, _ := strings.Cut(f.Tag.Get("toml"), ",")
+		key := name
+		if prefix != "" {
+			key = prefix + "." + name
+		}
+		switch {
+		case f.Type.Kind() == reflect.Struct:
+			out = append(out, specKeysOf(f.Type, key)...)
+		case f.Type.Kind() == reflect.Slice && f.Type.Elem().Kind() == reflect.Struct:
+			out = append(out, specKeysOf(f.Type.Elem(), key)...)
+		default:
+			out = append(out, key)
+		}
+	}
+	return out
+}
+
+// TestEveryJobKeyBoundedAndDocumented: every key of the Job struct has an
+// entry in the key table (so Validate bounds it) and no entry is stale;
+// every numeric key's line in "gapflux job" states its unit, default and
+// allowed range, and why.
+func TestEveryJobKeyBoundedAndDocumented(t *testing.T) {
+	specs := map[string]keySpec{}
+	for _, s := range jobKeys() {
+		if _, dup := specs[s.key]; dup {
+			t.Errorf("key %s listed twice", s.key)
+		}
+		specs[s.key] = s
+	}
+	leaves := specKeysOf(reflect.TypeFor[Job](), "")
+	for _, k := range leaves {
+		if _, ok := specs[k]; !ok {
+			t.Errorf("job key %s has no entry in jobKeys: give it a range and a reason", k)
+		}
+		delete(specs, k)
+	}
+	for k := range specs {
+		t.Errorf("jobKeys lists %s, which the Job does not have", k)
+	}
+	doc := JobDoc()
+	for _, s := range jobKeys() {
+		if !strings.Contains(doc, s.key[strings.LastIndex(s.key, ".")+1:]+" = ") {
+			t.Errorf("%s is not in the job text", s.key)
+		}
+		if s.oneOf != nil || s.path || s.why == "" && s.unit == "" && s.hi == 0 {
+			continue // strings and booleans
+		}
+		if s.why == "" {
+			t.Errorf("%s: the range has no reason", s.key)
+		}
+		flat := strings.NewReplacer("\n# #   ", " ", "\n#   ", " ").Replace(doc)
+		found := false
+		for line := range strings.Lines(flat) {
+			if strings.Contains(line, s.doc+";") && (strings.Contains(line, "; default ") || strings.Contains(line, "; example ")) &&
+				strings.Contains(line, "; allowed "+s.rangeText()) && strings.Contains(line, s.why) &&
+				(s.unit == "" || strings.Contains(line, "unit "+s.unit)) {
+				found = true
+			}
+		}
+		if !found {
+			t.Errorf("%s: no comment line with its unit, default, allowed range %s and reason", s.key, s.rangeText())
+		}
+	}
+}
+
+// TestGridPlanFits: the default job fits a 1000×1000 grid (DESIGN 8) and a
+// 280 mm base at 0.25 mm cells; the bound scales with limits.max_cells.
+func TestGridPlanFits(t *testing.T) {
+	tests := []struct {
+		name    string
+		job     func(*Job)
+		radiusM float64
+		ok      bool
+	}{
+		{"default, 200 mm base", func(*Job) {}, 0.1, true},
+		{"1000×1000 base grid in temperature mode", func(j *Job) { j.Hob.Mode = "temperature"; j.Grid.CellMM = 0.2 }, 0.0999, true},
+		{"280 mm base at 0.25 mm under the glass", func(j *Job) { j.Grid.CellMM = 0.25 }, 0.14, true},
+		{"0.1 mm cells under the glass", func(j *Job) { j.Grid.CellMM = 0.1 }, 0.1, false},
+		{"0.1 mm cells with max_cells raised", func(j *Job) { j.Grid.CellMM = 0.1; j.Limits.MaxCells = 8_000_000 }, 0.1, true},
+		{"offset moves the glass", func(j *Job) { j.Grid.CellMM = 0.25; j.Pan.OffsetMM = [2]float64{150, 0} }, 0.14, false},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			j := DefaultJob()
+			tc.job(&j)
+			err := j.planGrids(tc.radiusM).check(&j)
+			if (err == nil) != tc.ok {
+				t.Errorf("check: %v, want ok = %v", err, tc.ok)
+			}
+		})
+	}
+}

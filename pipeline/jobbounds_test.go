@@ -399,3 +399,14 @@ func TestProfileOverCap(t *testing.T) {
 		t.Fatalf("error %v, want one naming hot.csv and the 4 MiB cap", err)
 	}
 }
+
+// TestProfileErrorHidesContent: a file named as a profile that is not one
+// is refused without showing its first line (issue 14 item 3).
+func TestProfileErrorHidesContent(t *testing.T) {
+	p := filepath.Join(t.TempDir(), "notes.csv")
+	os.WriteFile(p, []byte("user,SECRET-HASH\n1,2\n"), 0o644)
+	_, err := readProfile(p, "t_c")
+	if err == nil || strings.Contains(err.Error(), "SECRET") || !strings.Contains(err.Error(), "notes.csv:1") {
+		t.Fatalf("error %v: want the file and line without its content", err)
+	}
+}

@@ -237,6 +237,17 @@ func (s keySpec) rangeText() string {
 	return t
 }
 
+// allowedText is rangeText for a message: "in [0.01, 10] mm", or "0 (no
+// filter) or in [0.1, 80] mm".
+func (s keySpec) allowedText() string {
+	if s.zero == "" {
+		return "in " + s.rangeText()
+	}
+	z := s
+	z.zero = ""
+	return "0 (" + s.zero + ") or in " + z.rangeText()
+}
+
 // inRange reports whether v is an allowed value of the numeric key s.
 func (s keySpec) inRange(v float64) bool {
 	if s.zero != "" && v == 0 {
@@ -253,7 +264,7 @@ func fmtNum(v float64) string {
 	if math.IsInf(v, 0) || math.IsNaN(v) {
 		return strconv.FormatFloat(v, 'g', -1, 64)
 	}
-	if a := math.Abs(v); a != 0 && (a >= 1e7 || a < 1e-4) {
+	if a := math.Abs(v); a != 0 && (a >= 1e9 || a < 1e-4) {
 		return strconv.FormatFloat(v, 'g', -1, 64)
 	}
 	return strconv.FormatFloat(v, 'f', -1, 64)
@@ -320,7 +331,7 @@ func docTable(b *strings.Builder, lead, header, path string, v reflect.Value, sp
 		}
 		name := tomlName(v.Type().Field(k))
 		s := specs[path+"."+name]
-		for _, line := range wrap(keyComment(s, f), 76) {
+		for _, line := range wrap(keyComment(s, f, lead != ""), 76) {
 			fmt.Fprintf(b, "%s# %s\n", lead, line)
 		}
 		fmt.Fprintf(b, "%s%s = %s\n", lead, name, tomlValue(f))
@@ -333,16 +344,20 @@ func docTable(b *strings.Builder, lead, header, path string, v reflect.Value, sp
 	}
 }
 
-// keyComment is the documentation of one key: meaning; unit, default and
-// allowed values.
-func keyComment(s keySpec, def reflect.Value) string {
+// keyComment is the documentation of one key: meaning; unit, default (or,
+// in a commented example, the example's value) and allowed values.
+func keyComment(s keySpec, def reflect.Value, example bool) string {
+	dflt := "; default "
+	if example {
+		dflt = "; example "
+	}
 	t := s.doc
 	switch def.Kind() {
 	case reflect.Float64, reflect.Int, reflect.Array:
 		if s.unit != "" {
 			t += "; unit " + s.unit
 		}
-		t += "; default " + tomlValue(def) + "; allowed " + s.rangeText()
+		t += dflt + tomlValue(def) + "; allowed " + s.rangeText()
 		if def.Kind() == reflect.Array {
 			t += fmt.Sprintf(" each, exactly %d numbers", def.Len())
 		}
