@@ -4,19 +4,27 @@ import (
 	"bufio"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
+	"strings"
 )
 
+// TempPrefix starts the name of every temporary file WriteFileAtomic makes.
+// A batch removes files named so under its output folder when it starts:
+// they are what a killed process (kill -9, power loss) leaves behind.
+const TempPrefix = ".gapflux-tmp-"
+
 // WriteFileAtomic writes a file by calling write on a temporary file in the
-// same directory, syncing it and renaming it over path, so a reader (or a
-// batch killed halfway) never sees a partial file.
+// same directory (named TempPrefix + the file's name + a random suffix),
+// syncing it and renaming it over path, so a reader (or a batch killed
+// halfway) never sees a partial file.
 func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 	dir := filepath.Dir(path)
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
-	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
+	f, err := os.CreateTemp(dir, TempPrefix+filepath.Base(path)+"-*")
 	if err != nil {
 		return err
 	}
@@ -55,4 +63,29 @@ func WriteBytesAtomic(path string, b []byte) error {
 		_, err := w.Write(b)
 		return err
 	})
+}
+
+// RemoveTempFiles deletes the regular files under root whose names start
+// with TempPrefix, and nothing else: it never follows a symbolic link out of
+// root. It returns how many it removed. Call it only while holding root's
+// lock (LockOutput), so no running writer loses its temporary file.
+func RemoveTempFiles(root string) (int, error) {
+	n := 0
+	err := filepath.WalkDir(root, func(path string, d fs.DirEntry, err error) error {
+		if err != nil {
+			if path == root {
+				return err
+			}
+			return nil // an unreadable subfolder holds nothing we wrote
+		}
+		if !d.Type().IsRegular() || !strings.HasPrefix(d.Name(), TempPrefix) {
+			return nil
+		}
+		if err := os.Remove(path); err != nil {
+			return err
+		}
+		n++
+		return nil
+	})
+	return n, err
 }

@@ -5,8 +5,10 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -20,7 +22,9 @@ import (
 const SchemaError = "gapflux.error/1"
 
 // ErrorRecord is written as error.json in a failed scan's output folder, so
-// a re-run can tell a known failure from new work.
+// a re-run can tell a known failure from new work. Only failures that belong
+// to the scan are recorded; an interrupt or a fault of the machine (disk
+// full, read-only, I/O error) never is (see IsEnvironmentError).
 type ErrorRecord struct {
 	Schema    string `json:"schema"`
 	Path      string `json:"path"`
@@ -39,8 +43,9 @@ type ScanTask struct {
 	Meta    ManifestRow
 }
 
-// AnalyzeFunc analyses one scan and writes its outputs into task.OutDir.
-// inputSHA and jobSHA are the hashes the report must carry.
+// AnalyzeFunc analyses one scan and writes its outputs into task.OutDir,
+// report.json last. inputSHA and jobSHA are the hashes the report must
+// carry. When ctx is cancelled it should return soon with ctx's error.
 type AnalyzeFunc func(ctx context.Context, task ScanTask, inputSHA, jobSHA string) (*Report, error)
 
 // BatchOptions configures RunBatch.
@@ -53,7 +58,8 @@ type BatchOptions struct {
 	Shard   Shard
 	// Progress receives one call per finished scan; nil prints nothing.
 	Progress Progress
-	// Log receives the run log (timestamps, durations, host); nil discards.
+	// Log receives a copy of the run log (timestamps, durations, host),
+	// which RunBatch appends to OUT/run.log; nil sends no copy.
 	Log io.Writer
 	// Analyze runs one scan; nil means AnalyzeScan.
 	Analyze AnalyzeFunc
@@ -65,14 +71,22 @@ type BatchOptions struct {
 type BatchResult struct {
 	Summary     *Summary
 	Total       int // scans in this shard
-	Ran         int // analysed in this run
+	Ran         int // analysed to the end in this run
 	Skipped     int // outputs already current
 	Interrupted bool
+	// ConfigFailures counts the rows that failed because of a job file (the
+	// batch's or one a manifest row names) rather than the scan.
+	ConfigFailures int
 }
 
-// ExitCode is 0 when every scan passed, 1 when any failed, was out of
-// tolerance or was not run.
+// ExitCode is 0 when every scan passed; 2 when a row failed because of a
+// job file (a configuration error, though the other scans were analysed);
+// else 1 when any scan failed, was out of tolerance, was rejected or was
+// not run.
 func (r *BatchResult) ExitCode() int {
+	if r.ConfigFailures > 0 {
+		return 2
+	}
 	for _, row := range r.Summary.Rows {
 		if row.Status != StatusOK {
 			return 1
@@ -131,15 +145,41 @@ func FileSHA256(path string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// ScanOutDir is where a scan's outputs go: the scan's relative path (with
-// its extension, so pan.stl and pan.ply do not collide) under out.
-func ScanOutDir(out, rel string) string { return filepath.Join(out, filepath.FromSlash(rel)) }
+// ScansDir is the folder of a batch's output folder that holds one output
+// folder per scan. The batch's own files (summary.csv, summary.json,
+// run.log, the lock) sit beside it, so a scan named like one of them (a
+// scan called summary.csv) never collides with them.
+const ScansDir = "scans"
 
-// RunBatch analyses every scan under opt.Dir into opt.Out, skipping scans
-// whose outputs already match their input and job hashes, and writes
-// summary.csv and summary.json. One bad scan never stops the others. When ctx
-// is cancelled no new scan starts; running ones finish, and the summary lists
-// the rest as not-run.
+// OutputMarker is the file that marks a folder as a batch's output folder.
+// Discovery never reads scans from a folder holding it, so an output folder
+// kept inside the scan folder (this batch's or an older one's) is not
+// analysed as scans.
+const OutputMarker = ".gapflux-output"
+
+// ScanOutDir is where a scan's outputs go: OUT/scans/<relative path>/, the
+// relative path with its extension, so pan.stl and pan.ply do not collide.
+func ScanOutDir(out, rel string) string {
+	return filepath.Join(out, ScansDir, filepath.FromSlash(rel))
+}
+
+// RunBatch analyses every scan under opt.Dir into opt.Out: per-scan outputs
+// under OUT/scans/, and summary.csv, summary.json and run.log in OUT.
+//
+// It holds OUT's lock (LockOutput) while it runs and removes the temporary
+// files a killed run left under OUT. A scan is analysed again unless its
+// outputs are current: report.json, which is written last and removed before
+// a scan is analysed again, or error.json, carries the scan's SHA-256 and the
+// hash of its effective job (JobHash: job values, hob file content, profile
+// contents). One bad scan never stops the others. When ctx is cancelled no
+// new scan starts, running scans stop, and every scan without a result is
+// listed as not-run, never failed; nothing of it is recorded, so the next run
+// analyses it. A failure of the machine rather than the scan (disk full,
+// read-only, I/O error: IsEnvironmentError) gives a failed row this time but
+// is not recorded either.
+//
+// Errors in the folders, the job, the manifest, or a lock held by another
+// batch are *ConfigError and come before any scan is analysed.
 func RunBatch(ctx context.Context, opt BatchOptions) (*BatchResult, error) {
 	if opt.Analyze == nil {
 		opt.Analyze = AnalyzeScan
@@ -150,35 +190,163 @@ func RunBatch(ctx context.Context, opt BatchOptions) (*BatchResult, error) {
 	if opt.SummaryEvery <= 0 {
 		opt.SummaryEvery = 5 * time.Second
 	}
-	logw := opt.Log
-	if logw == nil {
-		logw = io.Discard
-	}
-	dir, err := filepath.Abs(opt.Dir)
+	dir, out, err := batchFolders(opt.Dir, opt.Out)
 	if err != nil {
 		return nil, err
 	}
-	out, err := filepath.Abs(opt.Out)
-	if err != nil {
-		return nil, err
-	}
-	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
-		return nil, fmt.Errorf("batch folder %s: not a readable folder", opt.Dir)
+	if err := CheckJob(opt.Job, "batch job"); err != nil {
+		return nil, &ConfigError{Err: err}
 	}
 	if err := os.MkdirAll(out, 0o755); err != nil {
-		return nil, fmt.Errorf("output folder: %w", err)
+		return nil, configf("output folder %s: %v", opt.Out, err)
 	}
-	skipOut := func(p string) bool { return p == out }
-	disc, err := Discover(dir, skipOut)
+	lock, err := LockOutput(out)
+	if err != nil {
+		var le *LockedError
+		if errors.As(err, &le) {
+			le.Dir = opt.Out
+		}
+		return nil, &ConfigError{Err: err}
+	}
+	defer lock.Unlock()
+	log, err := openRunLog(out, opt.Log)
 	if err != nil {
 		return nil, err
 	}
-	for _, n := range disc.Notes {
-		fmt.Fprintln(logw, n)
+	defer log.close()
+	if err := prepareOutput(out, lock, log); err != nil {
+		return nil, err
 	}
-	input := disc.Input(opt.Shard)
+	tasks, problemRows, input, err := planTasks(dir, out, opt, log)
+	if err != nil {
+		log.printf("batch not started: %v", err)
+		return nil, err
+	}
+	return runTasks(ctx, opt, tasks, problemRows, input, dir, out, log)
+}
+
+// batchFolders resolves the scan and output folders (absolute, symbolic
+// links evaluated) and refuses the layouts that would mix them: the output
+// folder being the scan folder, or containing it. An output folder inside
+// the scan folder is fine; discovery skips it.
+func batchFolders(dirArg, outArg string) (dir, out string, err error) {
+	dir, err = resolvePath(dirArg)
+	if err != nil {
+		return "", "", configf("scan folder %s: %v", dirArg, err)
+	}
+	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+		return "", "", configf("scan folder %s: not a readable folder; check the path", dirArg)
+	}
+	if _, err := os.Lstat(filepath.Join(dir, OutputMarker)); err == nil {
+		return "", "", configf("%s is the output folder of a batch (it holds %s), not a folder of scans; give the folder the scans are in",
+			dirArg, OutputMarker)
+	}
+	out, err = resolvePath(outArg)
+	if err != nil {
+		return "", "", configf("output folder %s: %v", outArg, err)
+	}
+	switch {
+	case out == dir:
+		return "", "", configf("the output folder %s is the scan folder itself; give the outputs a folder of their own, e.g. %s-results (it may be inside the scan folder)",
+			outArg, strings.TrimRight(dirArg, `/\`))
+	case isWithin(dir, out):
+		return "", "", configf("the scan folder %s is inside the output folder %s; choose an output folder that does not contain the scans",
+			dirArg, outArg)
+	}
+	return dir, out, nil
+}
+
+// resolvePath makes p absolute and evaluates the symbolic links of the part
+// of it that exists, so two names of one folder compare equal.
+func resolvePath(p string) (string, error) {
+	abs, err := filepath.Abs(p)
+	if err != nil {
+		return "", err
+	}
+	var rest []string
+	for cur := abs; ; {
+		r, err := filepath.EvalSymlinks(cur)
+		if err == nil {
+			return filepath.Join(append([]string{r}, rest...)...), nil
+		}
+		if !errors.Is(err, fs.ErrNotExist) {
+			return "", err
+		}
+		parent := filepath.Dir(cur)
+		if parent == cur {
+			return abs, nil
+		}
+		rest = append([]string{filepath.Base(cur)}, rest...)
+		cur = parent
+	}
+}
+
+// isWithin reports whether path lies strictly inside folder (both clean and
+// absolute).
+func isWithin(path, folder string) bool {
+	rel, err := filepath.Rel(folder, path)
+	return err == nil && rel != "." && rel != ".." && !strings.HasPrefix(rel, ".."+string(filepath.Separator))
+}
+
+// prepareOutput runs once the lock is held: it logs a stale lock taken
+// over, removes the temporary files a killed run left under out and marks
+// out as an output folder.
+func prepareOutput(out string, lock *OutputLock, log *runLog) error {
+	if lock.Stale != nil {
+		log.printf("took over the lock left by %s, which no longer runs", *lock.Stale)
+	}
+	n, err := RemoveTempFiles(out)
+	if err != nil {
+		return fmt.Errorf("removing temporary files under %s: %w", out, err)
+	}
+	if n > 0 {
+		log.printf("removed %d temporary file(s) (%s*) left under %s by an interrupted run", n, TempPrefix, out)
+	}
+	marker := filepath.Join(out, OutputMarker)
+	if _, err := os.Lstat(marker); err != nil {
+		msg := "This folder holds the outputs of gapflux batch; a batch never reads scans from it.\n"
+		if err := WriteBytesAtomic(marker, []byte(msg)); err != nil {
+			return fmt.Errorf("marking the output folder: %w", err)
+		}
+	}
+	return nil
+}
+
+// planTasks discovers the scans (Discover: manifest, folder walk) and lists
+// this shard's tasks, the rows of entries with a problem (failed without
+// analysis) and the batch's input identity. Output folders (this batch's
+// and any other holding OutputMarker) are skipped.
+func planTasks(dir, out string, opt BatchOptions, log *runLog) ([]ScanTask, []SummaryRow, *SummaryInput, error) {
+	outInfo, err := os.Stat(out)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	skip := func(p string) bool {
+		if p == dir {
+			return false
+		}
+		fi, err := os.Lstat(p)
+		if err != nil || !fi.IsDir() {
+			return false
+		}
+		if os.SameFile(fi, outInfo) {
+			return true
+		}
+		if _, err := os.Lstat(filepath.Join(p, OutputMarker)); err == nil {
+			log.printf("not reading scans from %s: it is the output folder of a batch", p)
+			return true
+		}
+		return false
+	}
+	disc, err := Discover(dir, skip)
+	if err != nil {
+		return nil, nil, nil, &ConfigError{Err: err}
+	}
+	for _, n := range disc.Notes {
+		log.printf("%s", n)
+	}
 	var tasks []ScanTask
-	var problemRows []SummaryRow // entries listed as failed without analysis
+	var problemRows []SummaryRow
 	for i, e := range disc.Entries {
 		if !opt.Shard.Has(i) {
 			continue
@@ -196,31 +364,32 @@ func RunBatch(ctx context.Context, opt BatchOptions) (*BatchResult, error) {
 			Meta:   meta,
 		})
 	}
+	return tasks, problemRows, disc.Input(opt.Shard), nil
+}
+
+// runTasks runs the tasks on opt.Workers workers, rewriting the summary at
+// most every opt.SummaryEvery while it runs and once at the end.
+func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRows []SummaryRow, input *SummaryInput,
+	dir, out string, log *runLog) (*BatchResult, error) {
 	res := &BatchResult{Total: len(tasks)}
 	rows := make([]SummaryRow, len(tasks), len(tasks)+len(problemRows))
 	for i, t := range tasks {
-		rows[i] = SummaryRow{Path: t.Rel, Status: StatusNotRun, PartNumber: t.Meta.PartNumber, Lot: t.Meta.Lot}
+		rows[i] = notRunRow(t)
 	}
-	rows = append(rows, problemRows...)
+	rows = append(rows, problemRows...) // entries failed without analysis
+	summary := func() *Summary {
+		s := NewSummary(rows)
+		s.Input = input
+		return s
+	}
 	host, _ := os.Hostname()
-	fmt.Fprintf(logw, "%s batch start: %d scans (shard %s) from %s on %s, %d workers\n",
-		time.Now().Format(time.RFC3339), len(tasks), opt.Shard, dir, host, opt.Workers)
+	log.printf("batch start: %d scans (shard %s) from %s into %s on %s, pid %d, %d workers",
+		len(tasks), opt.Shard, dir, out, host, os.Getpid(), opt.Workers)
 	if opt.Progress != nil {
 		opt.Progress.Start(len(tasks))
 	}
-
 	var mu sync.Mutex
 	lastWrite := time.Now()
-	writeSummary := func(force bool) error {
-		if !force && time.Since(lastWrite) < opt.SummaryEvery {
-			return nil
-		}
-		lastWrite = time.Now()
-		s := NewSummary(rows)
-		s.Input = input
-		return writeSummaryFiles(out, s)
-	}
-
 	jobs := make(chan int)
 	var wg sync.WaitGroup
 	for w := 0; w < opt.Workers; w++ {
@@ -229,76 +398,178 @@ func RunBatch(ctx context.Context, opt BatchOptions) (*BatchResult, error) {
 			defer wg.Done()
 			for i := range jobs {
 				t0 := time.Now()
-				row, skipped := runOne(ctx, opt, tasks[i], dir)
+				oc := runOne(ctx, opt, tasks[i], dir, log)
 				mu.Lock()
-				rows[i] = row
-				if skipped {
-					res.Skipped++
-				} else {
-					res.Ran++
+				rows[i] = oc.row
+				res.add(oc)
+				if time.Since(lastWrite) >= opt.SummaryEvery {
+					lastWrite = time.Now()
+					if err := writeSummaryFiles(out, summary()); err != nil {
+						log.printf("writing summary: %v", err)
+					}
 				}
-				if err := writeSummary(false); err != nil {
-					fmt.Fprintf(logw, "writing summary: %v\n", err)
-				}
-				fmt.Fprintf(logw, "%s %s %s %.2fs%s\n", time.Now().Format(time.RFC3339), row.Status, row.Path,
-					time.Since(t0).Seconds(), map[bool]string{true: " (current, skipped)", false: ""}[skipped])
+				log.printf("%s %s %.2fs%s", oc.row.Status, oc.row.Path, time.Since(t0).Seconds(), oc.note())
 				if opt.Progress != nil {
-					opt.Progress.Done(row, skipped)
+					opt.Progress.Done(oc.row, oc.skipped)
 				}
 				mu.Unlock()
 			}
 		}()
 	}
-dispatch:
-	for i := range tasks {
-		select {
-		case <-ctx.Done():
-			res.Interrupted = true
-			break dispatch
-		case jobs <- i:
-		}
+	if dispatch(ctx, len(tasks), jobs) {
+		res.Interrupted = true
 	}
 	close(jobs)
 	wg.Wait()
 	if opt.Progress != nil {
 		opt.Progress.Finish()
 	}
-	res.Summary = NewSummary(rows)
-	res.Summary.Input = input
+	res.Summary = summary()
 	if err := writeSummaryFiles(out, res.Summary); err != nil {
-		return res, fmt.Errorf("writing summary: %w", err)
+		log.printf("writing summary: %v", err)
+		return res, fmt.Errorf("writing the summary into %s: %w; the scans' outputs are kept: fix that and run the same command again", opt.Out, err)
 	}
-	fmt.Fprintf(logw, "%s batch end: ran %d, skipped %d, not run %d, interrupted %v\n",
-		time.Now().Format(time.RFC3339), res.Ran, res.Skipped, res.Summary.Counts[StatusNotRun], res.Interrupted)
+	log.printf("batch end: ran %d, skipped %d, not run %d, interrupted %v",
+		res.Ran, res.Skipped, res.Summary.Counts[StatusNotRun], res.Interrupted)
 	return res, nil
+}
+
+// dispatch hands out task indices until all are taken or ctx is cancelled;
+// it reports whether it stopped early.
+func dispatch(ctx context.Context, n int, jobs chan<- int) (stopped bool) {
+	for i := 0; i < n; i++ {
+		if ctx.Err() != nil {
+			return true
+		}
+		select {
+		case <-ctx.Done():
+			return true
+		case jobs <- i:
+		}
+	}
+	return false
+}
+
+// outcome is what runOne did with one task.
+type outcome struct {
+	row     SummaryRow
+	skipped bool // outputs were current
+	notRun  bool // interrupted before a result
+	config  bool // failed because of a job file
+	envErr  bool // failed because of the machine; not recorded
+}
+
+func (oc outcome) note() string {
+	switch {
+	case oc.skipped:
+		return " (current, skipped)"
+	case oc.notRun:
+		return " (interrupted; the next run analyses it)"
+	case oc.envErr:
+		return " (not recorded; the next run tries again)"
+	case oc.config:
+		return " (job file error)"
+	}
+	return ""
+}
+
+func (r *BatchResult) add(oc outcome) {
+	switch {
+	case oc.skipped:
+		r.Skipped++
+	case oc.notRun:
+		r.Interrupted = true
+	default:
+		r.Ran++
+	}
+	if oc.config {
+		r.ConfigFailures++
+	}
+}
+
+func notRunRow(t ScanTask) SummaryRow {
+	return SummaryRow{Path: t.Rel, Status: StatusNotRun, PartNumber: t.Meta.PartNumber, Lot: t.Meta.Lot}
 }
 
 // runOne analyses one task, or reuses its outputs when they are current. It
 // never panics: a panic in the analysis becomes a failed row.
-func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string) (row SummaryRow, skipped bool) {
-	row = SummaryRow{Path: t.Rel, Status: StatusFailed, PartNumber: t.Meta.PartNumber, Lot: t.Meta.Lot}
-	fail := func(err error, sha, jobSHA string) (SummaryRow, bool) {
+func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string, log *runLog) outcome {
+	if ctx.Err() != nil {
+		return outcome{row: notRunRow(t), notRun: true}
+	}
+	// fail makes a failed row; only a failure that belongs to the scan is
+	// recorded in error.json, so that the next run reuses it.
+	fail := func(err error, sha, jobSHA string) outcome {
+		oc := outcome{row: notRunRow(t), config: IsConfigError(err), envErr: IsEnvironmentError(err)}
 		// Paths in the summary are relative to the batch folder.
 		msg := strings.ReplaceAll(err.Error(), dir+string(filepath.Separator), "")
-		row.Status, row.Error = StatusFailed, oneLine(msg)
-		rec := ErrorRecord{Schema: SchemaError, Path: t.Rel, SHA256: sha, JobSHA256: jobSHA, Error: row.Error}
-		if b, jerr := json.MarshalIndent(rec, "", "  "); jerr == nil {
-			_ = os.Remove(filepath.Join(t.OutDir, "report.json"))
-			_ = WriteBytesAtomic(filepath.Join(t.OutDir, "error.json"), append(b, '\n'))
+		oc.row.Status, oc.row.Error = StatusFailed, oneLine(msg)
+		if oc.envErr {
+			oc.row.Error += " (not recorded: the next run tries this scan again)"
 		}
-		return row, false
+		if oc.config || oc.envErr || sha == "" || jobSHA == "" {
+			return oc
+		}
+		rec := ErrorRecord{Schema: SchemaError, Path: t.Rel, SHA256: sha, JobSHA256: jobSHA, Error: oc.row.Error}
+		if b, jerr := json.MarshalIndent(rec, "", "  "); jerr == nil {
+			if werr := WriteBytesAtomic(filepath.Join(t.OutDir, "error.json"), append(b, '\n')); werr != nil {
+				log.printf("recording the failure of %s: %v", t.Rel, werr)
+			}
+		}
+		return oc
 	}
-	job := opt.Job
+	t, sha, jobSHA, err := effectiveTask(t, opt.Job, dir)
+	if err != nil {
+		return fail(err, sha, "")
+	}
+	if !opt.Force {
+		if r, ok := currentRow(t, sha, jobSHA); ok {
+			return outcome{row: r, skipped: true}
+		}
+	}
+	// Old results go before the new analysis starts: a report.json present
+	// always belongs to the outputs beside it.
+	for _, name := range []string{"report.json", "error.json"} {
+		if err := os.Remove(filepath.Join(t.OutDir, name)); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return fail(err, sha, jobSHA)
+		}
+	}
+	rep, stack, err := safeAnalyze(ctx, opt.Analyze, t, sha, jobSHA)
+	if stack != "" {
+		log.printf("panic while analysing %s:\n%s", t.Rel, stack)
+	}
+	if err != nil {
+		if ctx.Err() != nil {
+			// Whatever went wrong, the interrupt came first: not a result.
+			return outcome{row: notRunRow(t), notRun: true}
+		}
+		return fail(err, sha, jobSHA)
+	}
+	r := RowFromReport(t.Rel, rep)
+	r.PartNumber, r.Lot = t.Meta.PartNumber, t.Meta.Lot
+	return outcome{row: r}
+}
+
+// effectiveTask applies the manifest row (its job file, overrides and hob)
+// to t and hashes the scan and its effective job. Job errors are *JobError.
+func effectiveTask(t ScanTask, job Job, dir string) (ScanTask, string, string, error) {
 	if t.Meta.Job != "" {
 		j, err := ReadJobFile(filepath.Join(dir, filepath.FromSlash(t.Meta.Job)))
 		if err != nil {
-			return fail(err, "", "")
+			return t, "", "", err
 		}
 		job = j
 	}
 	job, err := t.Meta.Apply(job)
 	if err != nil {
-		return fail(err, "", "")
+		return t, "", "", &JobError{Name: "manifest.csv", Msg: err.Error()}
+	}
+	name := "batch job with the manifest row of " + t.Rel
+	if t.Meta.Job != "" {
+		name = t.Meta.Job
+	}
+	if err := CheckJob(job, name); err != nil {
+		return t, "", "", err
 	}
 	t.Job = job
 	if t.Meta.Hob != "" {
@@ -306,34 +577,19 @@ func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string) (row 
 	}
 	sha, err := FileSHA256(t.Path)
 	if err != nil {
-		return fail(err, "", "")
+		return t, "", "", err
 	}
 	hobSHA := ""
 	if t.HobPath != "" {
 		if hobSHA, err = FileSHA256(t.HobPath); err != nil {
-			return fail(fmt.Errorf("hob: %w", err), sha, "")
+			return t, sha, "", fmt.Errorf("hob: %w", err)
 		}
 	}
 	jobSHA, err := JobHash(job, hobSHA)
 	if err != nil {
-		return fail(err, sha, "")
+		return t, sha, "", err
 	}
-	if !opt.Force {
-		if r, ok := currentRow(t, sha, jobSHA); ok {
-			return r, true
-		}
-	}
-	rep, stack, err := safeAnalyze(ctx, opt.Analyze, t, sha, jobSHA)
-	if stack != "" && opt.Log != nil {
-		fmt.Fprintf(opt.Log, "panic while analysing %s:\n%s\n", t.Rel, stack)
-	}
-	if err != nil {
-		return fail(err, sha, jobSHA)
-	}
-	_ = os.Remove(filepath.Join(t.OutDir, "error.json"))
-	r := RowFromReport(t.Rel, rep)
-	r.PartNumber, r.Lot = t.Meta.PartNumber, t.Meta.Lot
-	return r, false
+	return t, sha, jobSHA, nil
 }
 
 // safeAnalyze runs f, turning a panic into an error; the stack goes to the
@@ -370,6 +626,45 @@ func currentRow(t ScanTask, sha, jobSHA string) (SummaryRow, bool) {
 	}
 	return SummaryRow{}, false
 }
+
+// runLog appends whole lines, each stamped with the time, to OUT/run.log
+// (and a copy to BatchOptions.Log); workers share it.
+type runLog struct {
+	mu sync.Mutex
+	w  io.Writer
+	f  *os.File
+}
+
+// openRunLog opens OUT/run.log for appending. A log that a killed run left
+// without its final newline gets one first.
+func openRunLog(out string, copyTo io.Writer) (*runLog, error) {
+	path := filepath.Join(out, "run.log")
+	f, err := os.OpenFile(path, os.O_CREATE|os.O_APPEND|os.O_RDWR, 0o644)
+	if err != nil {
+		return nil, configf("run log: %v", err)
+	}
+	if st, err := f.Stat(); err == nil && st.Size() > 0 {
+		var last [1]byte
+		if _, err := f.ReadAt(last[:], st.Size()-1); err == nil && last[0] != '\n' {
+			f.Write([]byte{'\n'})
+		}
+	}
+	l := &runLog{w: f, f: f}
+	if copyTo != nil {
+		l.w = io.MultiWriter(f, copyTo)
+	}
+	return l, nil
+}
+
+// printf writes one record ending in a newline, in one write.
+func (l *runLog) printf(format string, a ...any) {
+	s := time.Now().Format(time.RFC3339) + " " + strings.TrimRight(fmt.Sprintf(format, a...), "\n") + "\n"
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	io.WriteString(l.w, s)
+}
+
+func (l *runLog) close() error { return l.f.Close() }
 
 func writeSummaryFiles(out string, s *Summary) error {
 	if err := WriteFileAtomic(filepath.Join(out, "summary.csv"), s.WriteCSV); err != nil {

@@ -71,6 +71,10 @@ const demoJob = `# gapflux demo job: the default scenario (invented) on a 1 mm g
 cell_mm = 1.0
 `
 
+// DemoBrokenScan is the demo's scan that is broken on purpose (a binary STL
+// cut off in the middle of a facet), to show a failed row.
+const DemoBrokenScan = "line-c/frypan-200-truncated.stl"
+
 // WriteDemoScans synthesises the demo product line into dir: scans in
 // several formats, a hob top scan, a job file, a manifest with invented part
 // numbers and lots, and one broken file.
@@ -119,10 +123,10 @@ func WriteDemoScans(dir string) error {
 		return err
 	}
 	cut := buf.String()[:84+50*200+17]
-	if err := WriteBytesAtomic(filepath.Join(dir, "line-c", "frypan-200-truncated.stl"), []byte(cut)); err != nil {
+	if err := WriteBytesAtomic(filepath.Join(dir, filepath.FromSlash(DemoBrokenScan)), []byte(cut)); err != nil {
 		return err
 	}
-	manifest.WriteString("line-c/frypan-200-truncated.stl,FP-200,C2,,,1.1,1.0\n")
+	manifest.WriteString(DemoBrokenScan + ",FP-200,C2,,,1.1,1.0\n")
 	if err := WriteBytesAtomic(filepath.Join(dir, ManifestName), []byte(manifest.String())); err != nil {
 		return err
 	}

@@ -124,7 +124,7 @@ func TestBatchRejectedRow(t *testing.T) {
 	if !strings.Contains(in[col["reasons"]], "try --units in") {
 		t.Errorf("inches.xyz reasons %q lack the units hint", in[col["reasons"]])
 	}
-	b, err := os.ReadFile(filepath.Join(out, "inches.xyz", "report.json"))
+	b, err := os.ReadFile(filepath.Join(ScanOutDir(out, "inches.xyz"), "report.json"))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -35,6 +35,17 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 		return exitUsage, err
 	}
 	pan := fs.Arg(0)
+	for _, p := range []string{pan, *hob} {
+		if p == "" {
+			continue
+		}
+		if st, err := os.Stat(p); err != nil || st.IsDir() {
+			return exitUsage, usagef("%s: not a readable scan file; check the path", p)
+		}
+	}
+	if err := pipeline.CheckJob(job, jf.name()); err != nil {
+		return exitUsage, usageError{err}
+	}
 	res, err := pipeline.Analyze(ctx, pipeline.ScanInput{PanPath: pan, Name: filepath.Base(pan), HobPath: *hob, Job: job})
 	if err != nil {
 		return exitFail, err
@@ -101,15 +112,6 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 			fmt.Fprintf(stderr, "shard %s from the %s array-job variables\n", s, src)
 		}
 	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return exitUsage, usageError{err}
-	}
-	logf, err := os.OpenFile(filepath.Join(*out, "run.log"), os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o644)
-	if err != nil {
-		return exitUsage, usageError{err}
-	}
-	defer logf.Close()
-	opt.Log = logf
 	if !*quiet {
 		switch *progress {
 		case "auto":
@@ -129,13 +131,18 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	}
 	res, err := pipeline.RunBatch(ctx, opt)
 	if err != nil {
-		return exitUsage, err
+		// run maps configuration errors to exitUsage and the rest (a summary
+		// that could not be written) to exitFail.
+		return exitFail, err
 	}
 	if !*quiet {
 		c := res.Summary.Counts
 		fmt.Fprintf(stdout, "%d scans: %d ok, %d out of tolerance, %d rejected, %d failed, %d not run (analysed %d, outputs current %d)\n",
 			res.Total, c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusRejected], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
-		fmt.Fprintf(stdout, "summary: %s\n", filepath.Join(*out, "summary.csv"))
+		fmt.Fprintf(stdout, "summary: %s; per scan: %s\n", filepath.Join(*out, "summary.csv"), filepath.Join(*out, pipeline.ScansDir, "<scan>"))
+		if res.ConfigFailures > 0 {
+			fmt.Fprintf(stdout, "%d scans failed because of a job file (see their rows): fix it and run the same command again\n", res.ConfigFailures)
+		}
 		if res.Interrupted {
 			fmt.Fprintf(stdout, "interrupted: run the same command again to finish the remaining scans\n")
 		}
@@ -314,10 +321,16 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) (int,
 	if err != nil {
 		return exitFail, err
 	}
+	if res.Interrupted {
+		fmt.Fprintf(stdout, "interrupted: run the demo again to finish it\n")
+		return res.ExitCode(), nil
+	}
 	fmt.Fprintln(stdout)
 	fmt.Fprint(stdout, res.Summary.Table())
-	fmt.Fprintf(stdout, "\nsummary table: %s\n", filepath.Join(results, "summary.csv"))
-	fmt.Fprintf(stdout, "per scan (maps gap.png and flux.png, ring chart rings.png, rings.csv, report.json, fields.vti): %s/<scan>/\n", results)
-	fmt.Fprintf(stdout, "the demo's pans, hob and numbers are invented; one file is deliberately broken to show a failed row.\n")
+	fmt.Fprintf(stdout, "\nsummary table: %s (run log: %s)\n", filepath.Join(results, "summary.csv"), filepath.Join(results, "run.log"))
+	fmt.Fprintf(stdout, "per scan (maps gap.png and flux.png, ring chart rings.png, rings.csv, report.json, fields.vti): %s\n",
+		filepath.Join(results, pipeline.ScansDir, "<scan>"))
+	fmt.Fprintf(stdout, "the demo's pans, hob and numbers are invented. The failed row (%s) is on purpose: that file is cut short to show what a broken scan gives.\n",
+		pipeline.DemoBrokenScan)
 	return exitOK, nil
 }

@@ -21,10 +21,42 @@ func newFlags(name, usage string, stderr io.Writer) *pflag.FlagSet {
 	fs.SortFlags = false
 	fs.SetOutput(stderr)
 	fs.Usage = func() {
-		fmt.Fprintf(stderr, "usage: gapflux %s\n\nflags:\n%s", usage, fs.FlagUsages())
+		fmt.Fprintf(stderr, "usage: gapflux %s\n\nflags:\n%s\n%s", usage, fs.FlagUsages(), exitCodesHelp(name))
 	}
 	return fs
 }
+
+// exitCodesHelp is the exit-code paragraph of a command's --help.
+func exitCodesHelp(command string) string {
+	codes := map[string]string{
+		"analyze": `exit codes: 0 the scan passed; 1 the scan failed (unreadable, rejected) or is out of
+tolerance; 2 usage or configuration error (flags, job file, missing scan or hob file).
+`,
+		"batch": `exit codes: 0 every scan passed; 1 a scan failed, is out of tolerance, was rejected or
+was not run (interrupted: run the same command again); 2 usage or configuration error:
+flags, a missing scan folder, an unreadable or invalid job file (also one a manifest row
+names: the other scans are still analysed), a manifest that cannot be read, an output
+folder that is the scan folder, contains it, or is in use by another batch.
+`,
+		"merge": `exit codes: 0 every merged scan passed; 1 a scan failed, is out of tolerance or was not
+run, or the merge failed; 2 usage error.
+`,
+		"demo": `exit codes: 0 the demo ran (its one failed row is on purpose); 1 it could not run;
+2 usage error.
+`,
+	}
+	s, ok := codes[command]
+	if !ok {
+		s = "exit codes: 0 done; 1 it failed; 2 usage or configuration error.\n"
+	}
+	return s + oomNote
+}
+
+// oomNote says what no exit code can promise.
+const oomNote = `Go ends a process that runs out of memory at once ("fatal error: runtime: out of memory",
+exit code 2); no program can catch that. The job's limits and grid bounds keep a scan far
+below it; on a small machine give batch fewer --workers.
+`
 
 // parse parses args, mapping -h to errHelp and flag errors to usage errors.
 func parse(fs *pflag.FlagSet, args []string) error {
@@ -71,6 +103,14 @@ func addJobFlags(fs *pflag.FlagSet) *jobFlags {
 	fs.Float64Var(&j.waterC, "water-c", d.Water.SteadyC, "water temperature of the steady heat figures, °C")
 	fs.IntVar(&j.maxPoints, "max-points", d.Limits.MaxPoints, "refuse scans with more points than this")
 	return j
+}
+
+// name is how errors name the job: its file, else the defaults.
+func (j *jobFlags) name() string {
+	if j.jobPath != "" {
+		return j.jobPath
+	}
+	return "job (defaults and flags)"
 }
 
 // job reads the job file (or the defaults) and applies the flags that were

@@ -13,6 +13,8 @@ import (
 	"os/signal"
 	"runtime/debug"
 	"syscall"
+
+	"gapflux/pipeline"
 )
 
 // Exit codes (DESIGN 6).
@@ -48,8 +50,17 @@ commands:
   help           this text; "gapflux <command> --help" for a command's flags
 
 Lengths are in mm and temperatures in °C on the command line and in reports.
-Exit codes: 0 all passed, 1 a scan failed or is out of tolerance, 2 usage or
-configuration error.
+
+Exit codes: 0 all good; 1 a scan failed, is out of tolerance, was rejected or
+was not run (batch interrupted); 2 usage or configuration error (bad flags, an
+unreadable or invalid job file, a manifest that cannot be read, a missing
+input, an output folder in use by another batch). Go ends a process that runs
+out of memory at once ("fatal error: runtime: out of memory", exit code 2);
+no program can catch that, and the job's limits and grid bounds keep a scan
+far below it.
+
+Ctrl-C or SIGTERM stops a batch cleanly: no new scan starts, running scans
+stop, and the summary lists them as not-run; a second Ctrl-C ends at once.
 `
 
 // version is set at build time with -ldflags "-X main.version=...".
@@ -57,6 +68,12 @@ var version = "0.1.0-dev"
 
 func main() {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	go func() {
+		// After the first signal the default action returns, so a second
+		// Ctrl-C ends the process at once (the next batch cleans up).
+		<-ctx.Done()
+		stop()
+	}()
 	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
 	stop()
 	os.Exit(code)
@@ -108,7 +125,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int
 		}
 		fmt.Fprintf(stderr, "gapflux %s: %v\n", args[0], err)
 		var ue usageError
-		if errors.As(err, &ue) {
+		if errors.As(err, &ue) || pipeline.IsConfigError(err) {
 			return exitUsage
 		}
 		return exitFail

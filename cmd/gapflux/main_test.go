@@ -36,7 +36,9 @@ func TestUsageAndHelp(t *testing.T) {
 		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag: --nope"},
 		{[]string{"analyze", "--offset-mm", "3", "x.stl"}, exitUsage, "want 2 comma-separated numbers"},
 		{[]string{"analyze", "--help"}, exitOK, "--cell-mm"},
-		{[]string{"analyze", "no-such-file.stl"}, exitFail, "no-such-file.stl"},
+		{[]string{"analyze", "no-such-file.stl"}, exitUsage, "no-such-file.stl: not a readable scan file"},
+		{[]string{"analyze", "--hob", "no-such-hob.xyz", "../../testdata/dish.stl"}, exitUsage, "no-such-hob.xyz"},
+		{[]string{"batch", "no-such-dir", "--out", filepath.Join(t.TempDir(), "o")}, exitUsage, "not a readable folder"},
 		{[]string{"batch", "somewhere"}, exitUsage, "want one scan folder and --out"},
 		{[]string{"batch", "no-such-dir", "--out", "x", "--shard", "4/3"}, exitUsage, "1 <= K <= N"},
 		{[]string{"merge", "--out", "x"}, exitUsage, "want shard output folders"},
@@ -56,6 +58,76 @@ func TestUsageAndHelp(t *testing.T) {
 			}
 		})
 	}
+}
+
+// TestHelpStatesExitCodes (issue 14, item 12): every command's --help
+// states its exit codes and the out-of-memory caveat.
+func TestHelpStatesExitCodes(t *testing.T) {
+	for _, cmd := range []string{"analyze", "batch", "merge", "synth", "demo", "materials", "job"} {
+		code, out, errOut := gapflux(t, cmd, "--help")
+		if code != exitOK || !strings.Contains(out+errOut, "exit codes: 0 ") || !strings.Contains(out+errOut, "out of memory") {
+			t.Errorf("%s --help: exit %d, no exit codes:\n%s%s", cmd, code, out, errOut)
+		}
+	}
+	_, out, _ := gapflux(t, "help")
+	if !strings.Contains(out, "2 usage or configuration error") || !strings.Contains(out, "out of memory") {
+		t.Errorf("help lacks the exit codes:\n%s", out)
+	}
+}
+
+// TestBatchConfigurationExitsTwo (issue 14, items 5, 10, 12): configuration
+// errors of a batch exit 2 with a message saying what to do.
+func TestBatchConfigurationExitsTwo(t *testing.T) {
+	scans := func(t *testing.T, extra map[string]string) string {
+		dir := t.TempDir()
+		b, err := os.ReadFile("../../testdata/flat_noisy.xyz")
+		if err != nil {
+			t.Fatal(err)
+		}
+		os.WriteFile(filepath.Join(dir, "a.xyz"), b, 0o644)
+		for name, c := range extra {
+			os.WriteFile(filepath.Join(dir, name), []byte(c), 0o644)
+		}
+		return dir
+	}
+	t.Run("out is the scan folder", func(t *testing.T) {
+		dir := scans(t, nil)
+		code, _, errOut := gapflux(t, "batch", dir, "--out", dir)
+		if code != exitUsage || !strings.Contains(errOut, "give the outputs a folder of their own") {
+			t.Errorf("exit %d: %s", code, errOut)
+		}
+	})
+	t.Run("manifest unreadable", func(t *testing.T) {
+		dir := scans(t, map[string]string{"manifest.csv": "path,colour\na.xyz,red\n"})
+		code, _, errOut := gapflux(t, "batch", dir, "--out", filepath.Join(t.TempDir(), "o"), "--quiet")
+		if code != exitUsage || !strings.Contains(errOut, "not a known column") {
+			t.Errorf("exit %d: %s", code, errOut)
+		}
+	})
+	t.Run("job with an unknown material", func(t *testing.T) {
+		dir := scans(t, map[string]string{"job.toml": "[hob]\nmaterial = \"unobtainium\"\n"})
+		code, _, errOut := gapflux(t, "batch", dir, "--out", filepath.Join(t.TempDir(), "o"), "--quiet")
+		if code != exitUsage || !strings.Contains(errOut, "unobtainium") {
+			t.Errorf("exit %d: %s", code, errOut)
+		}
+		code, _, errOut = gapflux(t, "analyze", "--job", filepath.Join(dir, "job.toml"), filepath.Join(dir, "a.xyz"))
+		if code != exitUsage || !strings.Contains(errOut, "unobtainium") {
+			t.Errorf("analyze: exit %d: %s", code, errOut)
+		}
+	})
+	t.Run("output in use", func(t *testing.T) {
+		dir := scans(t, nil)
+		out := t.TempDir()
+		l, err := pipeline.LockOutput(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer l.Unlock()
+		code, _, errOut := gapflux(t, "batch", dir, "--out", out)
+		if code != exitUsage || !strings.Contains(errOut, "is in use by batch pid") || !strings.Contains(errOut, "wait for it or remove") {
+			t.Errorf("exit %d: %s", code, errOut)
+		}
+	})
 }
 
 func TestJobCommandRoundTrips(t *testing.T) {
