@@ -98,11 +98,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
 	cloud = nil
-	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK})
+	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK,
+		MaxCellM: job.Grid.CutoffMM / 1e3 / 4})
 	if err != nil {
 		return nil, fmt.Errorf("%s: gridding: %w", in.Name, err)
 	}
-	filt, err := scan.FormFilter(grid.Raw, job.Grid.CutoffMM/1e3)
+	filt, err := scan.Filter(grid.Raw, scan.FilterOptions{CutoffM: job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(job.Grid.Filter)})
 	if err != nil {
 		return nil, fmt.Errorf("%s: form filter: %w", in.Name, err)
 	}

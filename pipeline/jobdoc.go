@@ -10,8 +10,9 @@ const DefaultJobTOML = `# gapflux job file: every key carries its unit in its na
 # invented for gapflux; it is not any standard's test setup.
 
 [grid]
-cell_mm = 0.5          # grid cell size
-cutoff_mm = 8.0        # ISO 16610-61 areal Gaussian form filter cut-off (0 = off)
+cell_mm = 0.0          # grid cell size (0 = automatic: the median point spacing, 0.5 ... 2 mm)
+cutoff_mm = 8.0        # form filter cut-off (0 = off)
+filter = "robust"      # robust Gaussian regression (ISO 16610-71) or "gaussian" (linear, ISO 16610-61)
 ring_mm = 5.0          # ring width of the ring table
 rock_mm = 0.1          # the pan "rocks" when the pressed rim drops more than this
 outlier_k = 5.0        # robust sigmas of the local outlier test

@@ -33,6 +33,9 @@ type GridOptions struct {
 	// (1.4826 × median absolute deviation); 0 means DefaultOutlierK and
 	// +Inf turns the outlier test off.
 	OutlierK float64
+	// MaxCellM bounds the automatic cell edge, m (e.g. a quarter of the
+	// form filter's cut-off); 0 means MaxAutoCellM.
+	MaxCellM float64
 }
 
 // Gridded is a base's height field before the form filter.
@@ -102,6 +105,9 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	if l == nil || l.Cloud == nil {
 		return nil, errors.New("scan: grid: no levelled scan")
 	}
+	if math.IsNaN(opt.MaxCellM) || math.IsInf(opt.MaxCellM, 0) || opt.MaxCellM < 0 {
+		return nil, fmt.Errorf("scan: grid: largest cell %g m is not finite and non-negative", opt.MaxCellM)
+	}
 	if math.IsNaN(opt.CellM) || math.IsInf(opt.CellM, 0) || opt.CellM < 0 {
 		return nil, fmt.Errorf("scan: grid: cell length %g m is not positive and finite (0 = automatic)", opt.CellM)
 	}
@@ -128,6 +134,9 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	cell := opt.CellM
 	if cell == 0 {
 		cell = AutoCellM(g.PointSpacingM)
+		if opt.MaxCellM > 0 {
+			cell = min(cell, opt.MaxCellM)
+		}
 	}
 	half := int(math.Floor(r/cell + 1e-9))
 	side := 2*half + 1

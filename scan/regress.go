@@ -31,6 +31,30 @@ type gaussRegression struct {
 	nx, ny, half, order int
 	// g[p][k+half] = k^p·s(k), p = 0 … 2·order.
 	g [][]float64
+	// Row-pass buffers, kept between calls.
+	rw, rz [][]float64
+	wz     []float64
+}
+
+// convolveRow sets dst[i] = Σ_k g[k+half]·src[i+k] over the k that keep
+// i+k inside the row.
+func convolveRow(dst, src, g []float64, half int) {
+	n := len(dst)
+	clear(dst)
+	for k := -half; k <= half; k++ {
+		c := g[k+half]
+		if c == 0 {
+			continue
+		}
+		i0, i1 := max(0, -k), min(n, n-k)
+		if i0 >= i1 {
+			continue
+		}
+		d, s := dst[i0:i1], src[i0+k:i1+k]
+		for i := range d {
+			d[i] += c * s[i]
+		}
+	}
 }
 
 // newGaussRegression prepares the kernel for a cut-off of cutoffCells cells.
@@ -73,16 +97,20 @@ func (r *gaussRegression) apply(w, z, out []float64, use func(q int) bool) {
 	n := nx * ny
 	nw, nz := 2*d+1, d+1
 	// Row pass: rw[a][q] = Σ_k g_a(k)·w[q+k], rz[a][q] = Σ_k g_a(k)·w·z.
-	rw := make([][]float64, nw)
-	rz := make([][]float64, nz)
-	for a := range rw {
-		rw[a] = make([]float64, n)
+	if r.rw == nil {
+		r.rw = make([][]float64, nw)
+		for a := range r.rw {
+			r.rw[a] = make([]float64, n)
+		}
+		r.rz = make([][]float64, nz)
+		for a := range r.rz {
+			r.rz[a] = make([]float64, n)
+		}
+		r.wz = make([]float64, n)
 	}
-	for a := range rz {
-		rz[a] = make([]float64, n)
-	}
-	wz := make([]float64, n)
+	rw, rz, wz := r.rw, r.rz, r.wz
 	for q := range n {
+		wz[q] = 0
 		if w[q] != 0 {
 			wz[q] = w[q] * z[q]
 		}
@@ -90,21 +118,12 @@ func (r *gaussRegression) apply(w, z, out []float64, use func(q int) bool) {
 	parallelRows(ny, func(j0, j1 int) {
 		for j := j0; j < j1; j++ {
 			row := j * nx
-			for i := range nx {
-				lo, hi := max(-r.half, -i), min(r.half, nx-1-i)
-				for k := lo; k <= hi; k++ {
-					q := row + i + k
-					if w[q] == 0 {
-						continue
-					}
-					t := k + r.half
-					for a := range nw {
-						rw[a][row+i] += r.g[a][t] * w[q]
-					}
-					for a := range nz {
-						rz[a][row+i] += r.g[a][t] * wz[q]
-					}
-				}
+			wr, zr := w[row:row+nx], wz[row:row+nx]
+			for a := range nw {
+				convolveRow(rw[a][row:row+nx], wr, r.g[a], r.half)
+			}
+			for a := range nz {
+				convolveRow(rz[a][row:row+nx], zr, r.g[a], r.half)
 			}
 		}
 	})

@@ -32,7 +32,7 @@ func TestUsageAndHelp(t *testing.T) {
 		{[]string{"version"}, exitOK, "gapflux "},
 		{[]string{"frobnicate"}, exitUsage, `unknown command "frobnicate"`},
 		{[]string{"analyze"}, exitUsage, "want exactly one scan file"},
-		{[]string{"analyze", "--cell-mm", "-1", "x.stl"}, exitUsage, "grid.cell_mm must be > 0"},
+		{[]string{"analyze", "--cell-mm", "-1", "x.stl"}, exitUsage, "grid.cell_mm must be >= 0"},
 		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag: --nope"},
 		{[]string{"analyze", "--offset-mm", "3", "x.stl"}, exitUsage, "want 2 comma-separated numbers"},
 		{[]string{"analyze", "--help"}, exitOK, "--cell-mm"},
