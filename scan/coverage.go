@@ -121,7 +121,11 @@ func (p *pointIndex) ring(bi, bj, d int, f func(id int32) bool) bool {
 func (p *pointIndex) nearest(xs, ys []float64, x, y float64, self int32, minD, maxD float64) float64 {
 	bi := min(max(int((x-p.x0)/p.h), 0), p.nx-1)
 	bj := min(max(int((y-p.y0)/p.h), 0), p.ny-1)
-	best := math.Inf(1)
+	best, best2 := math.Inf(1), math.Inf(1)
+	minD2 := minD * minD
+	if minD < 0 {
+		minD2 = -1
+	}
 	maxRing := int(math.Ceil(maxD/p.h)) + 1
 	for d := 0; d <= maxRing && d <= max(p.nx, p.ny); d++ {
 		// Points in ring d are at least (d−1)·h away.
@@ -132,9 +136,11 @@ func (p *pointIndex) nearest(xs, ys []float64, x, y float64, self int32, minD, m
 			if id == self {
 				return true
 			}
-			dd := math.Hypot(xs[id]-x, ys[id]-y)
-			if dd > minD && dd < best {
-				best = dd
+			dx, dy := xs[id]-x, ys[id]-y
+			dd := dx*dx + dy*dy
+			if dd > minD2 && dd < best2 {
+				best2 = dd
+				best = math.Sqrt(dd)
 			}
 			return true
 		})
@@ -143,6 +149,22 @@ func (p *pointIndex) nearest(xs, ys []float64, x, y float64, self int32, minD, m
 		return math.Inf(1)
 	}
 	return best
+}
+
+// anyWithin reports whether an indexed point lies within reach of (x, y).
+func (p *pointIndex) anyWithin(xs, ys []float64, x, y, reach float64) bool {
+	bi := min(max(int((x-p.x0)/p.h), 0), p.nx-1)
+	bj := min(max(int((y-p.y0)/p.h), 0), p.ny-1)
+	r2 := reach * reach
+	found := false
+	for d := 0; d <= int(math.Ceil(reach/p.h))+1 && !found; d++ {
+		p.ring(bi, bj, d, func(id int32) bool {
+			dx, dy := xs[id]-x, ys[id]-y
+			found = dx*dx+dy*dy <= r2
+			return !found
+		})
+	}
+	return found
 }
 
 // Spacing is the distribution of nearest-neighbour distances of a scan's
@@ -243,7 +265,7 @@ func measureCoverage(s *Surface, x, y []float64, r float64, sp Spacing) Coverage
 			continue
 		}
 		cx, cy := s.X(q%s.Nx), s.Y(q/s.Nx)
-		if idx.nearest(x, y, cx, cy, -1, -1, reach) <= reach {
+		if idx.anyWithin(x, y, cx, cy, reach) {
 			nCov++
 		}
 	}

@@ -220,7 +220,8 @@ type samples struct {
 
 // basePoints returns the points within radius r of the origin.
 func basePoints(pts []r3.Vec, r float64) samples {
-	var s samples
+	n := len(pts)
+	s := samples{x: make([]float64, 0, n), y: make([]float64, 0, n), z: make([]float64, 0, n), id: make([]int32, 0, n)}
 	r2 := r * r * (1 + 1e-12)
 	for i, p := range pts {
 		if p.X*p.X+p.Y*p.Y > r2 {
@@ -236,7 +237,8 @@ func basePoints(pts []r3.Vec, r float64) samples {
 
 // without returns the samples whose drop flag is false.
 func (s samples) without(drop []bool) samples {
-	var o samples
+	n := len(s.z)
+	o := samples{x: make([]float64, 0, n), y: make([]float64, 0, n), z: make([]float64, 0, n), id: make([]int32, 0, n)}
 	for t := range s.z {
 		if drop[t] {
 			continue
