@@ -177,3 +177,25 @@ func TestHolesAndMissingRim(t *testing.T) {
 		}
 	}
 }
+
+// TestMeshSpikes: spikes on the vertices of a mesh lift tents of
+// rasterised cells; the cell test and the robust filter keep the form
+// within 0.03 mm of the spike-free mesh (the flatness limit).
+func TestMeshSpikes(t *testing.T) {
+	base := synth.Spec{Shape: synth.Dish, SagM: 0.2e-3, DiameterM: 0.12, NoiseM: 5e-6, SpacingM: 1e-3, Mesh: true, Seed: 9}
+	_, _, clean := geometry(t, base)
+	spiky := base
+	spiky.SpikeFraction, spiky.SpikeMinM, spiky.SpikeMaxM = 0.003, 0.3e-3, 2e-3
+	sc, g, form := geometry(t, spiky)
+	t.Logf("%d spiked vertices, %d cells rejected; MZ %.4f mm (clean %.4f mm), concavity %.4f mm (clean %.4f mm)",
+		len(sc.Outliers), g.OutliersRemoved, form.FlatnessMZM*1e3, clean.FlatnessMZM*1e3, form.ConcavityM*1e3, clean.ConcavityM*1e3)
+	if g.OutliersRemoved < len(sc.Outliers) {
+		t.Errorf("%d cells rejected for %d spiked vertices", g.OutliersRemoved, len(sc.Outliers))
+	}
+	if d := math.Abs(form.FlatnessMZM - clean.FlatnessMZM); d >= 0.03e-3 {
+		t.Errorf("MZ flatness %.4f mm against %.4f mm spike-free", form.FlatnessMZM*1e3, clean.FlatnessMZM*1e3)
+	}
+	if d := math.Abs(form.ConcavityM - clean.ConcavityM); d >= 0.005e-3 {
+		t.Errorf("concavity %.4f mm against %.4f mm spike-free", form.ConcavityM*1e3, clean.ConcavityM*1e3)
+	}
+}

@@ -151,27 +151,8 @@ func (r *gaussRegression) apply(w, z, out []float64, use func(q int) bool) {
 			lo, hi := max(-r.half, -j), min(r.half, ny-1-j)
 			for l := lo; l <= hi; l++ {
 				in := (j + l) * nx
-				tl := l + r.half
-				for t, m := range mw {
-					c := r.g[m[1]][tl]
-					if c == 0 {
-						continue
-					}
-					src, dst := rw[m[0]][in:in+nx], bw[t]
-					for i := range dst {
-						dst[i] += c * src[i]
-					}
-				}
-				for t, m := range mz {
-					c := r.g[m[1]][tl]
-					if c == 0 {
-						continue
-					}
-					src, dst := rz[m[0]][in:in+nx], bz[t]
-					for i := range dst {
-						dst[i] += c * src[i]
-					}
-				}
+				r.accumulate(bw, rw, mw, l, in)
+				r.accumulate(bz, rz, mz, l, in)
 			}
 			for i := range nx {
 				q := j*nx + i
@@ -182,6 +163,23 @@ func (r *gaussRegression) apply(w, z, out []float64, use func(q int) bool) {
 			}
 		}
 	})
+}
+
+// accumulate adds, for each moment t with exponents m = mons[t], the row
+// moments src[m[0]] of the row starting at in, weighted by the column
+// kernel g_m[1](l), to dst[t].
+func (r *gaussRegression) accumulate(dst, src [][]float64, mons [][2]int, l, in int) {
+	nx := len(dst[0])
+	for t, m := range mons {
+		c := r.g[m[1]][l+r.half]
+		if c == 0 {
+			continue
+		}
+		s, d := src[m[0]][in:in+nx], dst[t]
+		for i := range d {
+			d[i] += c * s[i]
+		}
+	}
 }
 
 // regressionSolver solves the per-cell normal equations; it holds scratch
