@@ -105,9 +105,12 @@ func (g refGrid) interp(f []float64, x, y float64) float64 {
 // not mistaken for scatter. Every step is a pass over the samples or a
 // separable pass over the grid: the cost grows linearly with both.
 //
-// A sample is an outlier when its residual exceeds k·σ, with σ =
-// 1.4826 × MAD of all residuals, floored at 1 µm. A sample whose window
-// holds no other weight cannot be tested and is kept.
+// A sample is an outlier when its residual exceeds k times the larger of
+// σ = 1.4826 × MAD of all residuals (floored at 1 µm) and the local σ, the
+// same from the median |residual| of the 7×7 reference cells around it
+// (so a kink the reference cannot follow does not flag a band of sound
+// points). A sample whose window holds no other weight cannot be tested
+// and is kept.
 func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM float64) {
 	n := len(z)
 	out = make([]bool, n)
@@ -177,9 +180,24 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	}
 	residuals(g, f, x, y, z, res)
 	sigma = max(madToSigma*madOf(res), outlierSigmaFloorM)
-	lim := k * sigma
+	// The local scale: the 7×7-cell median of the cells' median |r|.
+	// Where the reference cannot follow the form (a kink, a sharp bend)
+	// most residuals around grow and so does the limit; isolated spikes
+	// and streaks are too few to move a median.
+	abs := make([]float64, n)
 	for i, r := range res {
-		out[i] = math.Abs(r) > lim
+		abs[i] = math.Abs(r)
+		if math.IsNaN(r) {
+			abs[i] = 0
+		}
+	}
+	local := refStart(g, cellOf, abs)
+	for i, r := range res {
+		s := sigma
+		if v := local[cellOf[i]]; !math.IsNaN(v) {
+			s = max(s, madToSigma*v)
+		}
+		out[i] = math.Abs(r) > k*s
 	}
 	return out, sigma
 }

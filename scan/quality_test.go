@@ -199,3 +199,24 @@ func TestMeshSpikes(t *testing.T) {
 		t.Errorf("concavity %.4f mm against %.4f mm spike-free", form.ConcavityM*1e3, clean.ConcavityM*1e3)
 	}
 }
+
+// TestConeKinkNotFlagged: a base flat to r0 and lifting straight to the
+// rim (10 mm at 11°, 15 mm at 26°) has a kink the 8 mm reference cannot
+// follow; the local scale keeps its sound points (≤ 0.1 % flagged) while
+// spikes on it are still caught.
+func TestConeKinkNotFlagged(t *testing.T) {
+	for _, c := range []struct{ r0, lift float64 }{{0.05, 10e-3}, {0.07, 15e-3}} {
+		s := synth.Spec{Shape: synth.Cone, DiameterM: 0.2, SagM: c.lift, ConeStartM: c.r0, NoiseM: 10e-6,
+			SpacingM: 1e-3, JitterFraction: 0.6, Seed: 2}
+		_, g, _ := geometry(t, s)
+		n := math.Pi * 0.01 / 1e-6
+		if float64(g.OutliersRemoved) > 0.001*n {
+			t.Errorf("cone r0 %.0f mm, lift %.0f mm: %d sound points flagged", c.r0*1e3, c.lift*1e3, g.OutliersRemoved)
+		}
+		s.SpikeFraction, s.SpikeMinM = 0.005, 0.3e-3
+		sc, g, _ := geometry(t, s)
+		if share := flagged(sc.Outliers, g.Outliers); share < 0.9 {
+			t.Errorf("cone r0 %.0f mm: %.1f %% of the spikes flagged", c.r0*1e3, 100*share)
+		}
+	}
+}
