@@ -65,6 +65,7 @@ func WriteOutputs(res *Result, dir string) error {
 		spec := &MapSpec{Title: "gap under " + title, Unit: "gap (µm)", Nx: s.Nx, Ny: s.Ny,
 			X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, CellMM: s.CellM * 1e3, Values: gapUM, Controls: gapControls,
 			MarkLabel: "support points"}
+		spec.Interpolated = unmeasured(s)
 		if res.Pose != nil {
 			for _, c := range res.Pose.ContactPointsM {
 				spec.MarksMM = append(spec.MarksMM, [2]float64{c[0] * 1e3, c[1] * 1e3})
@@ -115,6 +116,39 @@ func WriteOutputs(res *Result, dir string) error {
 		return err
 	}
 	return WriteBytesAtomic(filepath.Join(dir, "report.json"), b)
+}
+
+// unmeasured marks the Filled cells of s with no Measured cell among their
+// eight neighbours: the places farther than about a cell (the point
+// spacing, with the automatic cell) from any scan point. Isolated empty
+// cells of a sparse cloud stay unmarked. nil when there are none.
+func unmeasured(s *scan.Surface) []bool {
+	var out []bool
+	for j := range s.Ny {
+		for i := range s.Nx {
+			if s.State[s.Index(i, j)] != scan.Filled || nearMeasured(s, i, j) {
+				continue
+			}
+			if out == nil {
+				out = make([]bool, len(s.State))
+			}
+			out[s.Index(i, j)] = true
+		}
+	}
+	return out
+}
+
+// nearMeasured reports whether a neighbour of cell (i, j) is Measured.
+func nearMeasured(s *scan.Surface, i, j int) bool {
+	for dj := -1; dj <= 1; dj++ {
+		for di := -1; di <= 1; di++ {
+			ii, jj := i+di, j+dj
+			if ii >= 0 && jj >= 0 && ii < s.Nx && jj < s.Ny && s.State[s.Index(ii, jj)] == scan.Measured {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 func writeMapFiles(dir, name string, spec *MapSpec) error {

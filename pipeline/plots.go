@@ -5,6 +5,7 @@ import (
 	"image/color"
 	"io"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 
@@ -91,6 +92,41 @@ type MapSpec struct {
 	Lo, Hi    float64      // colour range; equal means from the data
 	MarksMM   [][2]float64 // points to mark (contact points)
 	MarkLabel string
+	// Interpolated marks the cells without scan data (filled by
+	// interpolation); they are drawn under a translucent grey veil. nil:
+	// none.
+	Interpolated []bool
+}
+
+// veil is the colour laid over interpolated cells.
+var veil = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0x90}
+
+// veilPalette is a one-colour palette.
+type veilPalette []color.Color
+
+func (p veilPalette) Colors() []color.Color { return p }
+
+// addVeil lays the veil over the interpolated cells of m on p, within the
+// crop of g, and says so in the title. It does nothing without any.
+func addVeil(p *plot.Plot, m *MapSpec, g *fieldGrid) {
+	if !slices.Contains(m.Interpolated, true) {
+		return
+	}
+	v := make([]float64, len(m.Interpolated))
+	for k, in := range m.Interpolated {
+		v[k] = math.NaN()
+		if in && !math.IsNaN(m.Values[k]) {
+			v[k] = 1
+		}
+	}
+	vgrid := *g
+	vgrid.v, vgrid.clampLo, vgrid.clampHi = v, 0, 1
+	hm := plotter.NewHeatMap(&vgrid, veilPalette{veil, veil})
+	hm.Rasterized = true
+	hm.NaN = color.Transparent
+	hm.Min, hm.Max = 0, 1
+	p.Add(hm)
+	p.Title.Text += " (grey: interpolated, no scan data)"
 }
 
 // crop returns the bounding box of the finite values.
@@ -135,6 +171,7 @@ func WriteMap(w io.Writer, m *MapSpec, format string) error {
 	hm.NaN = color.Transparent
 	hm.Min, hm.Max = lo, hi
 	p.Add(hm)
+	addVeil(p, m, g)
 	if len(m.MarksMM) > 0 {
 		pts := make(plotter.XYs, len(m.MarksMM))
 		for i, c := range m.MarksMM {
