@@ -99,10 +99,10 @@ func (g refGrid) interp(f []float64, x, y float64) float64 {
 // evaluated on a grid of cut-off/8 cells and interpolated bilinearly to
 // each sample. It starts from a 7×7-cell median of the cells' medians (so
 // a streak or a cluster of spikes covering up to about a third of a window
-// does not pull the start) and reweights until the surface moves by less
-// than a twentieth of σ (at most 8 iterations). Within a cell, samples are
-// moved to its centre along the current reference, so steep forms are
-// not mistaken for scatter. Every step is a pass over the samples or a
+// does not pull the start) and reweights until the surface moves nowhere
+// by more than σ/4 (at most 8 iterations; the default limit is 5 σ).
+// Within a cell, samples are moved to its centre along the current
+// reference, so steep forms are not mistaken for scatter. Every step is a pass over the samples or a
 // separable pass over the grid: the cost grows linearly with both.
 //
 // A sample is an outlier when its residual exceeds k times the larger of
@@ -174,7 +174,7 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 			}
 		}
 		f, fNew = fNew, f
-		if moved < 0.05*sigma {
+		if moved < 0.25*sigma {
 			break
 		}
 	}
