@@ -23,7 +23,7 @@ const (
 	rimSectorFill = 0.25
 	// spacingSampleMax bounds the points whose nearest neighbour is
 	// searched for the median spacing (a stride subsample beyond it).
-	spacingSampleMax = 100000
+	spacingSampleMax = 20000
 	// MinAutoCellM and MaxAutoCellM bound the automatic cell size, m.
 	MinAutoCellM = 0.5e-3
 	MaxAutoCellM = 2e-3
@@ -183,7 +183,7 @@ type Spacing struct {
 // PointSpacing returns the nearest-neighbour distances in x-y of the
 // points (x[i], y[i]) that lie in a disc of area areaM2, m; coincident
 // points (closer than 1 nm, e.g. the shared vertices of a triangle soup)
-// count as one. It is zero for fewer than two points. At most 100 000
+// count as one. It is zero for fewer than two points. At most 20 000
 // points (an even stride) are searched.
 func PointSpacing(x, y []float64, areaM2 float64) Spacing {
 	n := len(x)
