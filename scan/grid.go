@@ -169,13 +169,13 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	} else {
 		out, sigma := LocalOutliers(bp.x, bp.y, bp.z, g.PointSpacingM, k)
 		g.OutlierSigmaM = sigma
-		kept = bp.without(out)
 		for t, o := range out {
 			if o {
 				g.Outliers = append(g.Outliers, bp.id[t])
 			}
 		}
 		g.OutliersRemoved = len(g.Outliers)
+		kept = bp.without(out)
 		binCloud(s, base, have, kept)
 	}
 
@@ -235,20 +235,18 @@ func basePoints(pts []r3.Vec, r float64) samples {
 	return s
 }
 
-// without returns the samples whose drop flag is false.
+// without removes, in place, the samples whose drop flag is true and
+// returns the shortened samples (sharing s's storage).
 func (s samples) without(drop []bool) samples {
-	n := len(s.z)
-	o := samples{x: make([]float64, 0, n), y: make([]float64, 0, n), z: make([]float64, 0, n), id: make([]int32, 0, n)}
+	n := 0
 	for t := range s.z {
 		if drop[t] {
 			continue
 		}
-		o.x = append(o.x, s.x[t])
-		o.y = append(o.y, s.y[t])
-		o.z = append(o.z, s.z[t])
-		o.id = append(o.id, s.id[t])
+		s.x[n], s.y[n], s.z[n], s.id[n] = s.x[t], s.y[t], s.z[t], s.id[t]
+		n++
 	}
-	return o
+	return samples{x: s.x[:n], y: s.y[:n], z: s.z[:n], id: s.id[:n]}
 }
 
 // rejectMeshCells runs LocalOutliers on the rasterised cells of a mesh and
