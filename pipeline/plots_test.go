@@ -19,6 +19,8 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"gapflux/scan"
 )
 
 func TestRobustRange(t *testing.T) {
@@ -78,6 +80,89 @@ func TestWriteMapAndRingChart(t *testing.T) {
 	}
 	if _, err := png.Decode(&buf); err != nil {
 		t.Error(err)
+	}
+}
+
+// TestMapVeil checks that interpolated cells are drawn differently: only
+// the veiled cells (x > 10 mm, the right quarter of the data) and the
+// title change.
+func TestMapVeil(t *testing.T) {
+	n := 41
+	vals := make([]float64, n*n)
+	veiled := make([]bool, n*n)
+	for j := 0; j < n; j++ {
+		for i := 0; i < n; i++ {
+			vals[j*n+i] = float64(i + j)
+			veiled[j*n+i] = i > 30
+		}
+	}
+	render := func(interp []bool) image.Image {
+		spec := &MapSpec{Title: "gap", Unit: "gap (µm)", Nx: n, Ny: n, X0MM: -20, Y0MM: -20, CellMM: 1,
+			Values: vals, Controls: gapControls, Lo: 0, Hi: 80, Interpolated: interp}
+		var buf bytes.Buffer
+		if err := WriteMap(&buf, spec, "png"); err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(&buf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return img
+	}
+	a, b := render(nil), render(veiled)
+	if a.Bounds() != b.Bounds() {
+		t.Fatalf("sizes %v and %v", a.Bounds(), b.Bounds())
+	}
+	bd := a.Bounds()
+	var right, left int
+	for y := bd.Min.Y + bd.Dy()/6; y < bd.Max.Y; y++ {
+		for x := bd.Min.X; x < bd.Max.X; x++ {
+			if a.At(x, y) != b.At(x, y) {
+				if x > bd.Dx()*2/5 {
+					right++
+				} else {
+					left++
+				}
+			}
+		}
+	}
+	if right < 1000 || left > right/50 {
+		t.Errorf("%d pixels changed right of 40 %% of the width, %d left", right, left)
+	}
+}
+
+// TestUnmeasured: a 5×5 block of Filled cells is veiled but for its
+// border ring (each border cell touches a Measured one); an isolated
+// Filled cell, as a sparse cloud leaves, is not.
+func TestUnmeasured(t *testing.T) {
+	s := scan.NewSurface(12, 12, 1e-3, 0, 0)
+	for k := range s.State {
+		s.State[k] = scan.Measured
+	}
+	for j := 2; j < 7; j++ {
+		for i := 2; i < 7; i++ {
+			s.State[s.Index(i, j)] = scan.Filled
+		}
+	}
+	s.State[s.Index(10, 10)] = scan.Filled
+	u := unmeasured(s)
+	n := 0
+	for k, v := range u {
+		if v {
+			n++
+			if i, j := k%12, k/12; i < 3 || i > 5 || j < 3 || j > 5 {
+				t.Errorf("cell (%d, %d) veiled", i, j)
+			}
+		}
+	}
+	if n != 9 {
+		t.Errorf("%d cells veiled, want the 3×3 inside of the block", n)
+	}
+	for k := range s.State {
+		s.State[k] = scan.Measured
+	}
+	if unmeasured(s) != nil {
+		t.Error("veil without Filled cells")
 	}
 }
 

@@ -75,6 +75,10 @@ type GeometryReport struct {
 	CutoffMM               float64       `json:"cutoff_mm"`
 	NoiseUM                float64       `json:"noise_um"`
 	CellMM                 float64       `json:"cell_mm"`
+	PointSpacingMM         float64       `json:"point_spacing_mm"`     // median nearest-neighbour spacing of the base's points
+	MeasuredCellsPct       float64       `json:"measured_cells_pct"`   // cells holding data; the rest is interpolated
+	LargestHoleMM          float64       `json:"largest_hole_mm"`      // largest empty circle inside the base
+	RimCompletenessPct     float64       `json:"rim_completeness_pct"` // share of 72 rim sectors holding points
 	Filter                 string        `json:"filter"`
 	FaceSource             string        `json:"face_source"`
 	PointsUsed             int           `json:"points_used"`

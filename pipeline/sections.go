@@ -16,7 +16,7 @@ const shapeTolPct = 0.02
 func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev *scan.Levelled, job Job) *GeometryReport {
 	filter := "none"
 	if filt.CutoffM > 0 {
-		filter = fmt.Sprintf("ISO 16610-61 areal Gaussian, cut-off %.3g mm, edge-corrected", filt.CutoffM*1e3)
+		filter = filterName(filt)
 	}
 	gr := &GeometryReport{
 		DiameterMM:             roundTo(f.DiameterM*1e3, 3),
@@ -29,6 +29,10 @@ func geometryReport(f *scan.Form, g *scan.Gridded, filt *scan.FilterResult, lev 
 		CutoffMM:               roundTo(filt.CutoffM*1e3, 3),
 		NoiseUM:                roundTo(filt.NoiseM*1e6, 2),
 		CellMM:                 roundTo(g.Raw.CellM*1e3, 4),
+		PointSpacingMM:         roundTo(g.PointSpacingM*1e3, 4),
+		MeasuredCellsPct:       roundTo(g.MeasuredCellsPct, 2),
+		LargestHoleMM:          roundTo(g.LargestHoleM*1e3, 2),
+		RimCompletenessPct:     roundTo(g.RimCompletenessPct, 2),
 		Filter:                 filter,
 		FaceSource:             lev.FaceSource,
 		PointsUsed:             len(lev.Cloud.Points),
@@ -93,6 +97,15 @@ func axisDeg(d float64, decimals int) float64 {
 		r -= 180
 	}
 	return r
+}
+
+// filterName describes the form filter that ran, for the report.
+func filterName(f *scan.FilterResult) string {
+	if f.Method == scan.FilterGaussian {
+		return fmt.Sprintf("ISO 16610-61 areal Gaussian, cut-off %.3g mm, regression order %d (edge-corrected)", f.CutoffM*1e3, f.Order)
+	}
+	return fmt.Sprintf("ISO 16610-71 robust Gaussian regression (Tukey biweight, c = 4.4 MAD), cut-off %.3g mm, order %d, %d passes",
+		f.CutoffM*1e3, f.Order, f.Iterations)
 }
 
 func poseReport(p *contact.Pose, comM [2]float64, job Job) *PoseReport {

@@ -4,13 +4,13 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
 
-// DefaultCellM is the default grid cell edge, m.
-const DefaultCellM = 0.5e-3
+// DefaultCellM is the cell edge used when the point spacing is unknown
+// (fewer than two points), m; GridOptions.CellM = 0 follows AutoCellM.
+const DefaultCellM = MinAutoCellM
 
 // DefaultOutlierK is the default outlier threshold in robust standard
 // deviations.
@@ -26,15 +26,19 @@ const maxGridCells = 16 << 20
 
 // GridOptions sets up Grid.
 type GridOptions struct {
-	// CellM is the cell edge length, m; 0 means DefaultCellM.
+	// CellM is the cell edge length, m; 0 means automatic: AutoCellM of
+	// the measured point spacing.
 	CellM float64
 	// OutlierK is the outlier threshold in robust standard deviations
 	// (1.4826 × median absolute deviation); 0 means DefaultOutlierK and
-	// +Inf turns the outlier tests off.
+	// +Inf turns the outlier test off.
 	OutlierK float64
 	// MaxCells bounds the number of grid cells, checked before the grid is
 	// allocated; 0 means the package's limit of 16 Mi cells.
 	MaxCells int
+	// MaxCellM bounds the automatic cell edge, m (e.g. a quarter of the
+	// form filter's cut-off); 0 means MaxAutoCellM.
+	MaxCellM float64
 }
 
 // Gridded is a base's height field before the form filter.
@@ -42,14 +46,30 @@ type Gridded struct {
 	// Raw holds the measured heights and, in holes and rejected cells, the
 	// interpolated (Filled) ones.
 	Raw *Surface
-	// OutliersRemoved counts the samples the robust tests rejected: for a
-	// point cloud, scan points (a point dropped by the per-cell test, or
-	// every remaining point of a cell rejected by the neighbourhood test);
-	// for a mesh, grid cells rejected by the neighbourhood test.
+	// PointSpacingM is the median nearest-neighbour distance (in x-y) of
+	// the scan's points or vertices inside the base disc, m.
+	PointSpacingM float64
+	// OutliersRemoved counts the samples the local outlier test rejected:
+	// scan points for a point cloud, grid cells for a mesh.
 	OutliersRemoved int
-	// CoveragePct is 100 × Measured cells / base cells, after the outlier
-	// tests.
+	// Outliers lists, for a point cloud, the indices into the levelled
+	// cloud's Points of the rejected points, in increasing order.
+	Outliers []int32
+	// OutlierSigmaM is the robust standard deviation of the samples about
+	// the local reference surface, m (the outlier test's unit).
+	OutlierSigmaM float64
+	// CoveragePct is 100 × the share of the base disc within
+	// CoverageSpacings point spacings of a measured point (see Coverage).
 	CoveragePct float64
+	// MeasuredCellsPct is 100 × the share of base cells holding data (the
+	// rest is interpolated: Filled).
+	MeasuredCellsPct float64
+	// LargestHoleM is the diameter of the largest empty circle inside the
+	// base, m; RimCompletenessPct and RimSectorsMissing say how much of the
+	// rim holds points (see Coverage).
+	LargestHoleM       float64
+	RimCompletenessPct float64
+	RimSectorsMissing  []int
 	// FillIterations is the number of conjugate-gradient iterations the
 	// hole filling took.
 	FillIterations int
@@ -62,38 +82,37 @@ type Gridded struct {
 // the origin; the grid is the smallest square of cells holding them, with
 // cell (K, K) centred at the origin.
 //
+// The cell edge is opt.CellM or, when it is 0, AutoCellM of the median
+// nearest-neighbour spacing of the points (or mesh vertices) inside the
+// base disc, which is reported as PointSpacingM.
+//
 // A mesh (l.Cloud.Triangles not empty) is rasterised: each cell centre
 // covered by a triangle takes the height interpolated linearly
 // (barycentric) in that triangle, the lowest one when several triangles
 // cover it (the outer face is the one that meets the hob). A point cloud
 // takes, per cell, the median height of its points.
 //
-// Outliers are rejected by two robust tests, both with the threshold
-// OutlierK robust standard deviations, estimated over the whole grid as
-// 1.4826 × the median absolute deviation and floored at 1 µm:
-//   - clouds only: a point further than the threshold from the median of
-//     the other points of its cell is dropped (cells of three points or
-//     more);
-//   - every cell is compared with the median of the means of its
-//     point-symmetric neighbour pairs in the 5×5 window around it (a
-//     median filter that is exact on planes, also at the rim); for a
-//     cloud the difference is scaled by the cell's point count to the
-//     spread of one point. A cell off by more than the threshold is
-//     rejected.
+// Outliers (spikes and short streaks) are found by LocalOutliers: each
+// point of a cloud, or each rasterised cell of a mesh, is tested against a
+// robust local reference surface fitted over a neighbourhood of several
+// millimetres, so the test works when a cell holds one point or none.
+// Rejected points are left out of the cells; rejected mesh cells lose
+// their data.
 //
 // Cells without data (holes) and rejected cells are filled with the
 // harmonic (Laplace) interpolation of their neighbours, with zero normal
 // slope at the rim, solved by conjugate gradients, and marked Filled.
+// Coverage, the largest hole and the rim's completeness are measured from
+// the kept points (see Coverage).
 func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	if l == nil || l.Cloud == nil {
 		return nil, errors.New("scan: grid: no levelled scan")
 	}
-	cell := opt.CellM
-	if cell == 0 {
-		cell = DefaultCellM
+	if math.IsNaN(opt.MaxCellM) || math.IsInf(opt.MaxCellM, 0) || opt.MaxCellM < 0 {
+		return nil, fmt.Errorf("scan: grid: largest cell %g m is not finite and non-negative", opt.MaxCellM)
 	}
-	if !(cell > 0) || math.IsInf(cell, 0) {
-		return nil, fmt.Errorf("scan: grid: cell length %g m is not positive and finite", opt.CellM)
+	if math.IsNaN(opt.CellM) || math.IsInf(opt.CellM, 0) || opt.CellM < 0 {
+		return nil, fmt.Errorf("scan: grid: cell length %g m is not positive and finite (0 = automatic)", opt.CellM)
 	}
 	k := opt.OutlierK
 	if k == 0 {
@@ -105,6 +124,22 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	r := l.RadiusM
 	if !(r > 0) || math.IsInf(r, 0) {
 		return nil, fmt.Errorf("scan: grid: base radius %g m is not positive and finite", r)
+	}
+	c := l.Cloud
+	for i, p := range c.Points {
+		if !finite3(p) {
+			return nil, fmt.Errorf("scan: grid: point %d is not finite", i)
+		}
+	}
+	bp := basePoints(c.Points, r)
+	sp := PointSpacing(bp.x, bp.y, math.Pi*r*r)
+	g := &Gridded{PointSpacingM: sp.MedianM}
+	cell := opt.CellM
+	if cell == 0 {
+		cell = AutoCellM(g.PointSpacingM)
+		if opt.MaxCellM > 0 {
+			cell = min(cell, opt.MaxCellM)
+		}
 	}
 	limit := float64(maxGridCells)
 	if opt.MaxCells > 0 {
@@ -130,25 +165,26 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 			}
 		}
 	}
-	c := l.Cloud
-	for i, p := range c.Points {
-		if !finite3(p) {
-			return nil, fmt.Errorf("scan: grid: point %d is not finite", i)
-		}
-	}
-	g := &Gridded{Raw: s}
+	g.Raw = s
 	have := make([]bool, side*side)
-	var counts []int32
+	kept := bp
 	if len(c.Triangles) > 0 {
 		if err := rasterise(s, base, have, c); err != nil {
 			return nil, err
 		}
+		g.OutliersRemoved, g.OutlierSigmaM = rejectMeshCells(s, have, g.PointSpacingM, k)
 	} else {
-		var dropped int
-		dropped, counts = binCloud(s, base, have, c.Points, k)
-		g.OutliersRemoved += dropped
+		out, sigma := LocalOutliers(bp.x, bp.y, bp.z, g.PointSpacingM, k)
+		g.OutlierSigmaM = sigma
+		for t, o := range out {
+			if o {
+				g.Outliers = append(g.Outliers, bp.id[t])
+			}
+		}
+		g.OutliersRemoved = len(g.Outliers)
+		kept = bp.without(out)
+		binCloud(s, base, have, kept)
 	}
-	g.OutliersRemoved += rejectCells(s, have, k, counts)
 
 	nMeas := 0
 	for p := range have {
@@ -171,11 +207,78 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 		}
 	}
 	g.FillIterations = inpaint(s, have)
-	g.CoveragePct = 100 * float64(nMeas) / float64(nBase)
+	g.MeasuredCellsPct = 100 * float64(nMeas) / float64(nBase)
+	cv := measureCoverage(s, kept.x, kept.y, r, sp)
+	g.CoveragePct, g.LargestHoleM = cv.CoveragePct, cv.LargestHoleM
+	g.RimCompletenessPct, g.RimSectorsMissing = cv.RimCompletenessPct, cv.RimSectorsMissing
 	if g.CoveragePct < 90 {
-		g.Warnings = append(g.Warnings, fmt.Sprintf("only %.1f %% of the base cells hold scan data; the rest is interpolated", g.CoveragePct))
+		g.Warnings = append(g.Warnings, fmt.Sprintf("only %.1f %% of the base lies within %.1f point spacings of a measured point; the rest is interpolated",
+			g.CoveragePct, CoverageSpacings))
 	}
 	return g, nil
+}
+
+// samples are scan points inside the base disc: positions, heights and
+// their indices in the cloud.
+type samples struct {
+	x, y, z []float64
+	id      []int32
+}
+
+// basePoints returns the points within radius r of the origin.
+func basePoints(pts []r3.Vec, r float64) samples {
+	n := len(pts)
+	s := samples{x: make([]float64, 0, n), y: make([]float64, 0, n), z: make([]float64, 0, n), id: make([]int32, 0, n)}
+	r2 := r * r * (1 + 1e-12)
+	for i, p := range pts {
+		if p.X*p.X+p.Y*p.Y > r2 {
+			continue
+		}
+		s.x = append(s.x, p.X)
+		s.y = append(s.y, p.Y)
+		s.z = append(s.z, p.Z)
+		s.id = append(s.id, int32(i))
+	}
+	return s
+}
+
+// without removes, in place, the samples whose drop flag is true and
+// returns the shortened samples (sharing s's storage).
+func (s samples) without(drop []bool) samples {
+	n := 0
+	for t := range s.z {
+		if drop[t] {
+			continue
+		}
+		s.x[n], s.y[n], s.z[n], s.id[n] = s.x[t], s.y[t], s.z[t], s.id[t]
+		n++
+	}
+	return samples{x: s.x[:n], y: s.y[:n], z: s.z[:n], id: s.id[:n]}
+}
+
+// rejectMeshCells runs LocalOutliers on the rasterised cells of a mesh and
+// drops the rejected ones. It returns their count and the robust σ, m.
+func rejectMeshCells(s *Surface, have []bool, spacingM, k float64) (int, float64) {
+	var x, y, z []float64
+	var qs []int
+	for q, h := range have {
+		if h {
+			x = append(x, s.X(q%s.Nx))
+			y = append(y, s.Y(q/s.Nx))
+			z = append(z, s.ZM[q])
+			qs = append(qs, q)
+		}
+	}
+	out, sigma := LocalOutliers(x, y, z, max(spacingM, s.CellM), k)
+	n := 0
+	for t, o := range out {
+		if o {
+			have[qs[t]] = false
+			s.ZM[qs[t]] = nan
+			n++
+		}
+	}
+	return n, sigma
 }
 
 // gridIndex returns the cell holding (x, y), or −1 off the grid.
@@ -188,17 +291,14 @@ func gridIndex(s *Surface, x, y float64) int {
 	return int(fj)*s.Nx + int(fi)
 }
 
-// binCloud sets each base cell holding points to the median height of its
-// points. In cells of three points or more, a point whose leave-one-out
-// residual (its height minus the median of the cell's other points) exceeds
-// k robust standard deviations is dropped first. It returns the number of
-// points dropped and the number of points left in each cell.
-func binCloud(s *Surface, base, have []bool, pts []r3.Vec, k float64) (int, []int32) {
+// binCloud sets each base cell holding samples to the median height of
+// its samples.
+func binCloud(s *Surface, base, have []bool, sm samples) {
 	n := s.Nx * s.Ny
-	cellOf := make([]int32, len(pts))
+	cellOf := make([]int32, len(sm.z))
 	start := make([]int32, n+1)
-	for i, p := range pts {
-		q := gridIndex(s, p.X, p.Y)
+	for i := range sm.z {
+		q := gridIndex(s, sm.x[i], sm.y[i])
 		if q < 0 || !base[q] {
 			cellOf[i] = -1
 			continue
@@ -211,124 +311,17 @@ func binCloud(s *Surface, base, have []bool, pts []r3.Vec, k float64) (int, []in
 	}
 	zs := make([]float64, start[n])
 	fill := append([]int32(nil), start[:n]...)
-	for i, p := range pts {
+	for i, z := range sm.z {
 		if q := cellOf[i]; q >= 0 {
-			zs[fill[q]] = p.Z
+			zs[fill[q]] = z
 			fill[q]++
 		}
 	}
-	counts := make([]int32, n)
 	for q := range n {
-		a := zs[start[q]:start[q+1]]
-		counts[q] = int32(len(a))
-		if len(a) == 0 {
-			continue
-		}
-		if len(a) >= 3 && !math.IsInf(k, 1) {
-			sortSmall(a)
-			s.ZM[q] = sortedMedian(a)
-		} else {
+		if a := zs[start[q]:start[q+1]]; len(a) > 0 {
 			s.ZM[q] = medianInPlace(a)
+			have[q] = true
 		}
-		have[q] = true
-	}
-	if math.IsInf(k, 1) {
-		return 0, counts
-	}
-	// Robust spread of the leave-one-out residuals (subsampled).
-	step := max(1, len(zs)/200000)
-	var dev []float64
-	for q := range n {
-		a := zs[start[q]:start[q+1]]
-		if len(a) < 3 {
-			continue
-		}
-		for t := 0; t < len(a); t += step {
-			dev = append(dev, math.Abs(looResidual(a, t)))
-		}
-	}
-	if len(dev) == 0 {
-		return 0, counts
-	}
-	lim := k * max(1.4826*medianInPlace(dev), outlierSigmaFloorM)
-	dropped := 0
-	var kept []float64
-	for q := range n {
-		a := zs[start[q]:start[q+1]]
-		if len(a) < 3 {
-			continue
-		}
-		kept = kept[:0]
-		for t, z := range a {
-			if math.Abs(looResidual(a, t)) <= lim {
-				kept = append(kept, z)
-			}
-		}
-		if len(kept) == len(a) {
-			continue
-		}
-		dropped += len(a) - len(kept)
-		counts[q] = int32(len(kept))
-		if len(kept) == 0 {
-			have[q] = false
-			s.ZM[q] = nan
-			continue
-		}
-		s.ZM[q] = sortedMedian(kept)
-	}
-	return dropped, counts
-}
-
-// sortedMedian returns the median of the sorted, non-empty slice a.
-func sortedMedian(a []float64) float64 {
-	n := len(a)
-	if n%2 == 1 {
-		return a[n/2]
-	}
-	return 0.5 * (a[n/2-1] + a[n/2])
-}
-
-// looResidual returns a[t] minus the median of the other values of the
-// sorted slice a (len(a) ≥ 3).
-func looResidual(a []float64, t int) float64 {
-	n := len(a)
-	m := n / 2
-	var med float64
-	if n%2 == 0 {
-		// n−1 others, odd: their middle value.
-		if t < m {
-			med = a[m]
-		} else {
-			med = a[m-1]
-		}
-	} else {
-		// n−1 others, even: mean of their two middle values.
-		switch {
-		case t < m:
-			med = 0.5 * (a[m] + a[m+1])
-		case t > m:
-			med = 0.5 * (a[m-1] + a[m])
-		default:
-			med = 0.5 * (a[m-1] + a[m+1])
-		}
-	}
-	return a[t] - med
-}
-
-// sortSmall sorts a in increasing order (insertion sort for short slices).
-func sortSmall(a []float64) {
-	if len(a) > 24 {
-		slices.Sort(a)
-		return
-	}
-	for i := 1; i < len(a); i++ {
-		v := a[i]
-		j := i - 1
-		for j >= 0 && a[j] > v {
-			a[j+1] = a[j]
-			j--
-		}
-		a[j+1] = v
 	}
 }
 
@@ -379,89 +372,6 @@ func rasterise(s *Surface, base, have []bool, c *Cloud) error {
 		}
 	}
 	return nil
-}
-
-// pairOffsets are one of each point-symmetric pair of offsets in the 5×5
-// window.
-var pairOffsets = [12][2]int{
-	{1, 0}, {2, 0},
-	{-2, 1}, {-1, 1}, {0, 1}, {1, 1}, {2, 1},
-	{-2, 2}, {-1, 2}, {0, 2}, {1, 2}, {2, 2},
-}
-
-// rejectCells compares each cell holding data with the median of its
-// neighbour-pair means and drops those further than k robust standard
-// deviations; for a cloud the differences are first scaled to the spread
-// of a single point, since cells holding more points scatter less. It
-// returns the number of rejected samples: the points the
-// rejected cells held when counts (points per cell) is given, else cells.
-func rejectCells(s *Surface, have []bool, k float64, counts []int32) int {
-	if math.IsInf(k, 1) {
-		return 0
-	}
-	n := s.Nx * s.Ny
-	res := make([]float64, n)
-	tested := make([]bool, n)
-	var buf [12]float64
-	var all []float64
-	for j := range s.Ny {
-		for i := range s.Nx {
-			q := j*s.Nx + i
-			if !have[q] {
-				continue
-			}
-			m := 0
-			for _, d := range pairOffsets {
-				ia, ja, ib, jb := i+d[0], j+d[1], i-d[0], j-d[1]
-				if ia < 0 || ia >= s.Nx || ib < 0 || ib >= s.Nx || ja < 0 || ja >= s.Ny || jb < 0 || jb >= s.Ny {
-					continue
-				}
-				qa, qb := ja*s.Nx+ia, jb*s.Nx+ib
-				if !have[qa] || !have[qb] {
-					continue
-				}
-				buf[m] = 0.5 * (s.ZM[qa] + s.ZM[qb])
-				m++
-			}
-			if m < 4 {
-				continue
-			}
-			res[q] = s.ZM[q] - medianInPlace(buf[:m])
-			if counts != nil {
-				// Scale by the cell's own spread: a median of n points
-				// varies like σ²·π/(2n) (σ²/n for n ≤ 2).
-				n := float64(counts[q])
-				if n >= 3 {
-					n *= 2 / math.Pi
-				}
-				res[q] *= math.Sqrt(n)
-			}
-			tested[q] = true
-			all = append(all, res[q])
-		}
-	}
-	if len(all) == 0 {
-		return 0
-	}
-	med := medianInPlace(append([]float64(nil), all...))
-	for t := range all {
-		all[t] = math.Abs(all[t] - med)
-	}
-	lim := k * max(1.4826*medianInPlace(all), outlierSigmaFloorM)
-	count := 0
-	for q := range n {
-		if !tested[q] || math.Abs(res[q]-med) <= lim {
-			continue
-		}
-		if counts != nil {
-			count += int(counts[q])
-		} else {
-			count++
-		}
-		have[q] = false
-		s.ZM[q] = nan
-	}
-	return count
 }
 
 // inpaint fills the base cells without data with the discrete harmonic

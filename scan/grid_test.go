@@ -84,8 +84,13 @@ func TestGridSpikesOnePointPerCell(t *testing.T) {
 		}
 	}
 	wantCov := 100 * float64(len(pts)-len(spikes)) / float64(len(pts))
-	if math.Abs(g.CoveragePct-wantCov) > 1e-9 {
-		t.Errorf("coverage %.4f %%, want %.4f %%", g.CoveragePct, wantCov)
+	if math.Abs(g.MeasuredCellsPct-wantCov) > 1e-9 {
+		t.Errorf("measured cells %.4f %%, want %.4f %%", g.MeasuredCellsPct, wantCov)
+	}
+	// A lattice with isolated points removed: every place lies within 1.5
+	// spacings of a kept point.
+	if g.CoveragePct != 100 || math.Abs(g.PointSpacingM-h) > 1e-12 || g.RimCompletenessPct != 100 {
+		t.Errorf("coverage %g %%, spacing %g m, rim %g %%", g.CoveragePct, g.PointSpacingM, g.RimCompletenessPct)
 	}
 }
 
@@ -110,13 +115,20 @@ func TestGridSpikesDenseCloud(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// Eight points per cell: the per-cell test drops the spike points
+	// Eight points per cell: the local test drops the spike points
 	// themselves; the cells keep their medians.
 	if g.OutliersRemoved != nSpikes {
 		t.Errorf("removed %d outliers, want %d", g.OutliersRemoved, nSpikes)
 	}
-	if g.CoveragePct != 100 {
-		t.Errorf("coverage %.3f %%, want 100 %%", g.CoveragePct)
+	if g.MeasuredCellsPct != 100 {
+		t.Errorf("measured cells %.3f %%, want 100 %%", g.MeasuredCellsPct)
+	}
+	// Eight random points per 1 mm cell: for a Poisson cloud the 90th
+	// percentile of the nearest-neighbour distance is sqrt(ln 10/(πρ)),
+	// so 1.5 of it leaves 10^−2.25 ≈ 0.6 % of the disc uncovered (our own
+	// derivation); points stratified by cell leave less.
+	if g.CoveragePct < 98.5 {
+		t.Errorf("coverage %.3f %%, want ≥ 98.5 %%", g.CoveragePct)
 	}
 	s := g.Raw
 	for k := range s.ZM {
@@ -140,7 +152,7 @@ func TestGridOutlierTestsOff(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if g.OutliersRemoved != 0 || g.CoveragePct != 100 {
+	if g.OutliersRemoved != 0 || g.CoveragePct != 100 || g.MeasuredCellsPct != 100 {
 		t.Errorf("tests off: removed %d, coverage %g", g.OutliersRemoved, g.CoveragePct)
 	}
 	if k := gridIndex(g.Raw, pts[100].X, pts[100].Y); g.Raw.ZM[k] != pts[100].Z {
@@ -188,8 +200,23 @@ func TestGridHoles(t *testing.T) {
 		t.Errorf("%d filled cells, want %d", nFilled, nHole+nRim)
 	}
 	want := 100 * float64(len(all)-nHole-nRim) / float64(len(all))
-	if math.Abs(g.CoveragePct-want) > 1e-9 {
-		t.Errorf("coverage %.4f %%, want %.4f %%", g.CoveragePct, want)
+	if math.Abs(g.MeasuredCellsPct-want) > 1e-9 {
+		t.Errorf("measured cells %.4f %%, want %.4f %%", g.MeasuredCellsPct, want)
+	}
+	// Coverage reaches 1.5 spacings into the holes: more than the
+	// measured cells, less than all.
+	if g.CoveragePct <= want || g.CoveragePct >= 100 {
+		t.Errorf("coverage %.4f %%, want between %.4f %% and 100 %%", g.CoveragePct, want)
+	}
+	// The 16 mm inner hole is the largest empty circle: its diameter lies
+	// between 16 mm and 16 mm + a cell's diagonal.
+	if d := g.LargestHoleM; d < 15.9e-3 || d > 16.8e-3 {
+		t.Errorf("largest hole %.2f mm, want 16 … 16.7 mm", d*1e3)
+	}
+	// The rim hole (radius 6 mm at the rim, ±8.6° about 180°) empties
+	// the sectors 34 … 37 (170° … 190°) at least partly.
+	if m := g.RimSectorsMissing; len(m) < 2 || len(m) > 4 || m[0] < 34 || m[len(m)-1] > 37 {
+		t.Errorf("missing rim sectors %v, want 2 … 4 within 34 … 37", m)
 	}
 	if g.OutliersRemoved != 0 {
 		t.Errorf("%d outliers on noise-free data", g.OutliersRemoved)
@@ -225,8 +252,8 @@ func TestGridMesh(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if g.CoveragePct != 100 || g.OutliersRemoved != 0 {
-		t.Errorf("coverage %g %%, %d outliers", g.CoveragePct, g.OutliersRemoved)
+	if g.MeasuredCellsPct != 100 || g.CoveragePct != 100 || g.OutliersRemoved != 0 {
+		t.Errorf("measured cells %g %%, coverage %g %%, %d outliers", g.MeasuredCellsPct, g.CoveragePct, g.OutliersRemoved)
 	}
 	// Linear interpolation of z = c0 + c3 r² over triangles with edges up
 	// to about 2·StepM errs by at most |c3|·(2·StepM)²/4 = 1 µm.

@@ -93,7 +93,7 @@ func addJobFlags(fs *pflag.FlagSet) *jobFlags {
 	fs.StringVar(&j.jobPath, "job", "", "job file (TOML); \"gapflux job\" prints every key with its default")
 	fs.StringVar(&j.units, "units", "", "unit of the scan's numbers: mm, m, um or in (default: header hint, else mm)")
 	fs.StringVar(&j.face, "face", "", "which way the base's outer face looks in the scan: up (toward scanner +z) or down (default: detect)")
-	fs.Float64Var(&j.cellMM, "cell-mm", d.Grid.CellMM, "grid cell size, mm")
+	fs.Float64Var(&j.cellMM, "cell-mm", d.Grid.CellMM, "grid cell size, mm (0 = automatic from the point spacing)")
 	fs.Float64Var(&j.cutoffMM, "cutoff-mm", d.Grid.CutoffMM, "ISO 16610-61 Gaussian form-filter cut-off, mm (0 = off)")
 	fs.Float64Var(&j.ringMM, "ring-mm", d.Grid.RingMM, "ring width of the ring table, mm")
 	fs.Float64Var(&j.rockMM, "rock-mm", d.Grid.RockMM, "the pan rocks when the pressed rim drops more than this, mm")

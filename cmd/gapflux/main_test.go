@@ -32,7 +32,7 @@ func TestUsageAndHelp(t *testing.T) {
 		{[]string{"version"}, exitOK, "gapflux "},
 		{[]string{"frobnicate"}, exitUsage, `unknown command "frobnicate"`},
 		{[]string{"analyze"}, exitUsage, "want exactly one scan file"},
-		{[]string{"analyze", "--cell-mm", "-1", "x.stl"}, exitUsage, "grid.cell_mm must be in [0.01, 10] mm (got -1"},
+		{[]string{"analyze", "--cell-mm", "-1", "x.stl"}, exitUsage, "grid.cell_mm must be 0 (automatic) or in [0.01, 10] mm (got -1"},
 		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag: --nope"},
 		{[]string{"analyze", "--offset-mm", "3", "x.stl"}, exitUsage, "want 2 comma-separated numbers"},
 		{[]string{"analyze", "--help"}, exitOK, "--cell-mm"},
@@ -195,7 +195,9 @@ func TestBatchCommand(t *testing.T) {
 		os.WriteFile(filepath.Join(dir, f), b, 0o644)
 	}
 	os.WriteFile(filepath.Join(dir, "broken.ply"), []byte("ply\nformat ascii 1.0\nelement vertex 5\nproperty float x\nend_header\n1\n"), 0o644)
-	os.WriteFile(filepath.Join(dir, "job.toml"), []byte("[grid]\ncell_mm = 1.0\ncutoff_mm = 4.0\n[hob]\nmode = \"temperature\"\n"), 0o644)
+	// 1 kg of water: the 40 mm noisy sample base, rocking and losing half
+	// its power, would take hours to heat 1.5 kg (or never get there).
+	os.WriteFile(filepath.Join(dir, "job.toml"), []byte("[grid]\ncell_mm = 1.0\ncutoff_mm = 4.0\n[hob]\nmode = \"temperature\"\n[water]\nmass_kg = 1.0\n"), 0o644)
 	out := filepath.Join(t.TempDir(), "out")
 	code, stdout, stderr := gapflux(t, "batch", dir, "--out", out, "--workers", "2", "--progress", "lines")
 	if code != exitFail {

@@ -1,8 +1,11 @@
 // Package synth makes synthetic scans of invented cookware bases and hob
-// tops: exact form (flat, dome, dish, saddle, tilt, one-way bend) with an
-// optional corner radius and wall, scanner noise, spikes and unmeasured
-// holes, seen from an arbitrary scanner frame, and written as STL, PLY or
-// XYZ/CSV with a JSON truth sidecar.
+// tops: exact form (flat, dome, dish, saddle, tilt, one-way bend at any axis
+// angle, cone: a flat centre with a lifted outer ring) with an optional
+// corner radius and wall, scanner noise, spikes and streaks of a chosen
+// height range, clouds at any spacing (optionally jittered), random or
+// placed holes and missing sectors, seen from an arbitrary scanner frame,
+// and written as STL, PLY or XYZ/CSV in mm, m, µm or inches with a JSON
+// truth sidecar. Scan.Outliers lists the spiked and streaked points.
 //
 // Frames and units: the geometry is built in the base frame of package scan
 // (origin at the footprint centre, base plane z = 0 at the rim, +z into the

@@ -15,6 +15,8 @@ const (
 	streamNoise  = 0x6e6f697365 // "noise"
 	streamSpikes = 0x7370696b65 // "spike"
 	streamHoles  = 0x686f6c6573 // "holes"
+	streamJitter = 0x6a69747472 // "jittr"
+	streamStreak = 0x7374726b73 // "strks"
 )
 
 // surface is a scan under construction in the base frame.
@@ -34,18 +36,33 @@ func Generate(s Spec) (*Scan, error) {
 	if err != nil {
 		return nil, err
 	}
-	f := form{shape: s.Shape, sag: s.SagM, rad: s.DiameterM / 2}
+	f := form{shape: s.Shape, sag: s.SagM, rad: s.DiameterM / 2, r0: s.ConeStartM}
+	if s.FormTurnDeg != 0 {
+		f.turned = true
+		f.sin, f.cos = math.Sincos(s.FormTurnDeg * math.Pi / 180)
+	}
 	var sf surface
 	if s.Mesh {
 		sf = meshBase(f, s.SpacingM)
 	} else {
-		sf = gridBase(f, s.SpacingM)
+		var jit *rand.Rand
+		if s.JitterFraction > 0 {
+			jit = rand.New(rand.NewPCG(s.Seed, streamJitter))
+		}
+		sf = gridBase(f, s.SpacingM, s.JitterFraction, jit)
 	}
 	addRim(&sf, f, s.SpacingM, s.CornerRadiusM, s.WallHeightM, s.Mesh)
 
 	addNoise(sf.pts, sf.nrm, s.NoiseM, rand.New(rand.NewPCG(s.Seed, streamNoise)))
 	keep := cutHoles(sf.pts[:sf.nBase], len(sf.pts), f.rad, s.Holes, rand.New(rand.NewPCG(s.Seed, streamHoles)))
-	spikes := addSpikes(sf.pts, sf.nrm, keep, s.SpikeFraction, rand.New(rand.NewPCG(s.Seed, streamSpikes)))
+	cutListed(sf.pts[:sf.nBase], keep, s.HoleList)
+	cutSectors(sf.pts, keep, s.Sectors)
+	lifted := make([]bool, len(sf.pts))
+	spikes := addSpikes(sf.pts, sf.nrm, keep, lifted, s.SpikeFraction, s.SpikeMinM, s.SpikeMaxM,
+		rand.New(rand.NewPCG(s.Seed, streamSpikes)))
+	streakPts := addStreaks(sf.pts[:sf.nBase], sf.nrm, keep, lifted, s.Streaks, s.StreakLengthM, s.SpacingM/2,
+		s.SpikeMinM, s.SpikeMaxM, rand.New(rand.NewPCG(s.Seed, streamStreak)))
+	outliers := liftedIndices(keep, lifted)
 	sf.compact(keep)
 
 	rot := scannerRotation(s.Face, s.RotationDeg)
@@ -76,7 +93,54 @@ func Generate(s Spec) (*Scan, error) {
 		RotationDeg:    s.RotationDeg,
 		OffsetMM:       [3]float64{mm(s.OffsetM[0]), mm(s.OffsetM[1]), mm(s.OffsetM[2])},
 	}
-	return &Scan{Cloud: c, Truth: tr}, nil
+	tr.addArtefacts(s, streakPts)
+	return &Scan{Cloud: c, Truth: tr, Outliers: outliers}, nil
+}
+
+// addArtefacts fills the truth fields of the newer Spec options, leaving
+// them empty (and out of the JSON) when unused.
+func (tr *Truth) addArtefacts(s Spec, streakPts int) {
+	if s.Shape == Cone {
+		tr.ConeStartMM = mm(s.ConeStartM)
+	}
+	tr.FormTurnDeg = s.FormTurnDeg
+	if s.Shape == Bend {
+		a := math.Mod(s.FormTurnDeg+90, 180)
+		if a < 0 {
+			a += 180
+		}
+		tr.BendAxisDeg = &a
+	}
+	if s.SpikeMinM != spikeMinM || s.SpikeMaxM != spikeMaxM {
+		tr.SpikeMinMM, tr.SpikeMaxMM = mm(s.SpikeMinM), mm(s.SpikeMaxM)
+	}
+	if s.Streaks > 0 {
+		tr.Streaks, tr.StreakPoints, tr.StreakLengthMM = s.Streaks, streakPts, mm(s.StreakLengthM)
+	}
+	tr.JitterFraction = s.JitterFraction
+	for _, h := range s.HoleList {
+		tr.HoleList = append(tr.HoleList, HoleMM{XMM: mm(h.XM), YMM: mm(h.YM), DiameterMM: mm(h.DiameterM)})
+	}
+	for _, c := range s.Sectors {
+		tr.Sectors = append(tr.Sectors, SectorMM{FromDeg: c.FromDeg, ToDeg: c.ToDeg, InnerMM: mm(c.InnerM)})
+	}
+}
+
+// liftedIndices returns the indices, after compaction by keep, of the kept
+// points marked lifted.
+func liftedIndices(keep, lifted []bool) []int32 {
+	var out []int32
+	n := int32(0)
+	for i, k := range keep {
+		if !k {
+			continue
+		}
+		if lifted[i] {
+			out = append(out, n)
+		}
+		n++
+	}
+	return out
 }
 
 // baseNormal returns the unit normal of z = f(x, y) pointing toward −z.
@@ -86,15 +150,23 @@ func baseNormal(f form, x, y float64) r3.Vec {
 }
 
 // gridBase samples the base disc r ≤ R on the square grid (i·h, j·h),
-// rows in increasing y, columns in increasing x.
-func gridBase(f form, h float64) surface {
+// rows in increasing y, columns in increasing x. With jitter > 0 each node
+// moves by U(−jitter·h/2, jitter·h/2) in x and y (drawn from rng) before
+// the disc test.
+func gridBase(f form, h, jitter float64, rng *rand.Rand) surface {
 	n := int(math.Floor(f.rad/h + 1e-9))
+	if jitter > 0 {
+		n++
+	}
 	r2 := f.rad * f.rad * (1 + 1e-12)
 	var sf surface
 	for j := -n; j <= n; j++ {
-		y := float64(j) * h
 		for i := -n; i <= n; i++ {
-			x := float64(i) * h
+			x, y := float64(i)*h, float64(j)*h
+			if jitter > 0 {
+				x += jitter * h * (rng.Float64() - 0.5)
+				y += jitter * h * (rng.Float64() - 0.5)
+			}
 			if x*x+y*y > r2 {
 				continue
 			}
@@ -244,9 +316,138 @@ func cutHoles(base []r3.Vec, total int, rad float64, n int, rng *rand.Rand) []bo
 	return keep
 }
 
+// cutListed marks as dropped the base points inside the listed holes.
+func cutListed(base []r3.Vec, keep []bool, holes []Hole) {
+	for _, h := range holes {
+		r2 := h.DiameterM * h.DiameterM / 4
+		for i, p := range base {
+			dx, dy := p.X-h.XM, p.Y-h.YM
+			if dx*dx+dy*dy < r2 {
+				keep[i] = false
+			}
+		}
+	}
+}
+
+// cutSectors marks as dropped every point in one of the sectors.
+func cutSectors(pts []r3.Vec, keep []bool, sectors []Sector) {
+	for _, c := range sectors {
+		for i, p := range pts {
+			if math.Hypot(p.X, p.Y) < c.InnerM {
+				continue
+			}
+			a := math.Atan2(p.Y, p.X) * 180 / math.Pi
+			// Bring a into [FromDeg, FromDeg + 360).
+			a = c.FromDeg + math.Mod(math.Mod(a-c.FromDeg, 360)+360, 360)
+			if a < c.ToDeg {
+				keep[i] = false
+			}
+		}
+	}
+}
+
+// addStreaks lifts, n times, every kept base point within halfWidth of a
+// segment of length length (centre at a random kept base point, random
+// direction) along its normal by a common ±U(lo, hi) height, marking them
+// in lifted. It returns the number of distinct points lifted by streaks.
+func addStreaks(base, nrm []r3.Vec, keep, lifted []bool, n int, length, halfWidth, lo, hi float64, rng *rand.Rand) int {
+	if n == 0 {
+		return 0
+	}
+	var idx []int
+	for i := range base {
+		if keep[i] {
+			idx = append(idx, i)
+		}
+	}
+	if len(idx) == 0 {
+		return 0
+	}
+	bk := newBuckets(base, idx, length)
+	count := 0
+	for range n {
+		c := base[idx[rng.IntN(len(idx))]]
+		sn, cs := math.Sincos(math.Pi * rng.Float64())
+		d := lo + (hi-lo)*rng.Float64()
+		if rng.IntN(2) == 0 {
+			d = -d
+		}
+		bk.near(c.X, c.Y, length/2+halfWidth, func(i int) {
+			dx, dy := base[i].X-c.X, base[i].Y-c.Y
+			along := dx*cs + dy*sn
+			across := -dx*sn + dy*cs
+			if math.Abs(along) > length/2 || math.Abs(across) > halfWidth {
+				return
+			}
+			base[i] = r3.Add(base[i], r3.Scale(d, nrm[i]))
+			if !lifted[i] {
+				lifted[i] = true
+				count++
+			}
+		})
+	}
+	return count
+}
+
+// buckets is a square-cell index of points in x-y.
+type buckets struct {
+	cell   float64
+	x0, y0 float64
+	nx, ny int
+	start  []int32
+	sorted []int32
+}
+
+func newBuckets(pts []r3.Vec, idx []int, cell float64) *buckets {
+	b := &buckets{cell: cell}
+	xmin, ymin, xmax, ymax := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
+	for _, i := range idx {
+		xmin, xmax = min(xmin, pts[i].X), max(xmax, pts[i].X)
+		ymin, ymax = min(ymin, pts[i].Y), max(ymax, pts[i].Y)
+	}
+	b.x0, b.y0 = xmin, ymin
+	b.nx = int((xmax-xmin)/cell) + 1
+	b.ny = int((ymax-ymin)/cell) + 1
+	b.start = make([]int32, b.nx*b.ny+1)
+	key := func(i int) int {
+		return int((pts[i].Y-b.y0)/cell)*b.nx + int((pts[i].X-b.x0)/cell)
+	}
+	for _, i := range idx {
+		b.start[key(i)+1]++
+	}
+	for k := range b.nx * b.ny {
+		b.start[k+1] += b.start[k]
+	}
+	fill := append([]int32(nil), b.start[:b.nx*b.ny]...)
+	b.sorted = make([]int32, len(idx))
+	for _, i := range idx {
+		k := key(i)
+		b.sorted[fill[k]] = int32(i)
+		fill[k]++
+	}
+	return b
+}
+
+// near calls f for every indexed point in the buckets overlapping the
+// square of half side r around (x, y).
+func (b *buckets) near(x, y, r float64, f func(i int)) {
+	i0 := max(0, int(math.Floor((x-r-b.x0)/b.cell)))
+	i1 := min(b.nx-1, int(math.Floor((x+r-b.x0)/b.cell)))
+	j0 := max(0, int(math.Floor((y-r-b.y0)/b.cell)))
+	j1 := min(b.ny-1, int(math.Floor((y+r-b.y0)/b.cell)))
+	for j := j0; j <= j1; j++ {
+		for i := i0; i <= i1; i++ {
+			k := j*b.nx + i
+			for _, p := range b.sorted[b.start[k]:b.start[k+1]] {
+				f(int(p))
+			}
+		}
+	}
+}
+
 // addSpikes displaces round(frac·kept) distinct kept points along their
-// normal by ±U(0.2, 2) mm and returns how many.
-func addSpikes(pts, nrm []r3.Vec, keep []bool, frac float64, rng *rand.Rand) int {
+// normal by ±U(lo, hi), marks them in lifted and returns how many.
+func addSpikes(pts, nrm []r3.Vec, keep, lifted []bool, frac, lo, hi float64, rng *rand.Rand) int {
 	if frac == 0 {
 		return 0
 	}
@@ -261,12 +462,15 @@ func addSpikes(pts, nrm []r3.Vec, keep []bool, frac float64, rng *rand.Rand) int
 	for k := range n {
 		j := k + rng.IntN(len(idx)-k)
 		idx[k], idx[j] = idx[j], idx[k]
-		d := spikeMinM + (spikeMaxM-spikeMinM)*rng.Float64()
+		d := lo + (hi-lo)*rng.Float64()
 		if rng.IntN(2) == 0 {
 			d = -d
 		}
 		i := idx[k]
 		pts[i] = r3.Add(pts[i], r3.Scale(d, nrm[i]))
+		if lifted != nil {
+			lifted[i] = true
+		}
 	}
 	return n
 }

@@ -110,7 +110,7 @@ func GenerateHob(h HobSpec) (*Scan, error) {
 	for i := range keep {
 		keep[i] = true
 	}
-	spikes := addSpikes(sf.pts, sf.nrm, keep, h.SpikeFraction, rand.New(rand.NewPCG(h.Seed, streamSpikes)))
+	spikes := addSpikes(sf.pts, sf.nrm, keep, nil, h.SpikeFraction, spikeMinM, spikeMaxM, rand.New(rand.NewPCG(h.Seed, streamSpikes)))
 
 	rot := scannerRotation("down", h.RotationDeg) // no flip: the top already faces +z
 	off := r3.Vec{X: h.OffsetM[0], Y: h.OffsetM[1], Z: h.OffsetM[2]}

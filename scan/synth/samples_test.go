@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"reflect"
 	"runtime"
 	"strings"
 	"testing"
@@ -115,7 +116,7 @@ func TestSamples(t *testing.T) {
 		}
 		want := sc.Truth
 		want.Format, want.Unit = s.Encoding.FormatName(), "mm"
-		if tr != want {
+		if !reflect.DeepEqual(tr, want) {
 			t.Errorf("%s truth:\n got %+v\nwant %+v", s.Base, tr, want)
 		}
 	}

@@ -21,6 +21,13 @@ type Shape string
 //	tilt    z = S·x/(2R)           rim height difference S along x, concavity 0
 //	bend    z = S·x²/R²            one-way cylindrical bend, rim at x = ±R raised
 //	                               by S, concavity −S/2
+//	cone    z = S·max(0, r − r0)/(R − r0)
+//	                               flat to r0 = Spec.ConeStartM, then a straight
+//	                               lift to S at the rim (a warped outer ring)
+//
+// Spec.FormTurnDeg turns the form about z before sampling (x above is then
+// measured along the turned direction), so a bend's axis, a saddle's or a
+// tilt's direction can be set.
 const (
 	Flat   Shape = "flat"
 	Dome   Shape = "dome"
@@ -28,10 +35,11 @@ const (
 	Saddle Shape = "saddle"
 	Tilt   Shape = "tilt"
 	Bend   Shape = "bend"
+	Cone   Shape = "cone"
 )
 
 // Shapes lists the base forms in a fixed order.
-var Shapes = []Shape{Flat, Dome, Dish, Saddle, Tilt, Bend}
+var Shapes = []Shape{Flat, Dome, Dish, Saddle, Tilt, Bend, Cone}
 
 // Defaults used when a Spec or HobSpec field is zero.
 const (
@@ -50,6 +58,8 @@ const (
 	spikeMaxM   = 2e-3
 	holeMinRadM = 2e-3
 	holeMaxRadM = 4e-3
+
+	defaultStreakM = 3e-3 // streak length: a few millimetres of glare
 )
 
 // ErrSpec is wrapped by every error about an invalid Spec or HobSpec.
@@ -101,6 +111,49 @@ type Spec struct {
 	OffsetM [3]float64
 	// Seed selects the noise, spikes and holes.
 	Seed uint64
+
+	// ConeStartM is r0 of the Cone form, m: the base is flat inside it
+	// and lifts linearly to SagM at the rim; 0 means half the radius.
+	ConeStartM float64
+	// FormTurnDeg turns the form about z, counter-clockwise, degrees: a
+	// bend with turn θ has its rim raised along the direction θ and its
+	// (straight) bend axis at θ + 90°.
+	FormTurnDeg float64
+	// SpikeMinM and SpikeMaxM bound the spike and streak heights, m; zero
+	// means 0.2 mm and 2 mm. Each spike or streak is lifted by a height
+	// drawn uniformly from [SpikeMinM, SpikeMaxM] with a random sign.
+	SpikeMinM, SpikeMaxM float64
+	// Streaks is the number of streaks: all kept base points within half a
+	// spacing of a straight segment StreakLengthM long (random place and
+	// direction) lifted together along the normal, as a reflection makes.
+	Streaks int
+	// StreakLengthM is the streak length, m; 0 means 3 mm.
+	StreakLengthM float64
+	// JitterFraction moves every base point of a cloud by a uniform random
+	// offset of up to ±JitterFraction·SpacingM/2 in x and in y (0 … 1),
+	// so a cloud at a given spacing is not a perfect lattice. Points that
+	// leave the base disc are dropped.
+	JitterFraction float64
+	// HoleList cuts round unmeasured holes of a given place and size from
+	// the base (after the random Holes).
+	HoleList []Hole
+	// Sectors removes the points (base, corner and wall) in angular
+	// sectors, as a scan that missed part of the rim.
+	Sectors []Sector
+}
+
+// Hole is a round unmeasured hole at a given place, in the base frame.
+type Hole struct {
+	XM, YM    float64 // centre, m
+	DiameterM float64 // diameter, m
+}
+
+// Sector is the set of points with polar angle in [FromDeg, ToDeg)
+// (counter-clockwise from +x in the base frame, degrees, taken modulo 360)
+// and radius at least InnerM (0: the whole slice from the centre).
+type Sector struct {
+	FromDeg, ToDeg float64
+	InnerM         float64
 }
 
 // Scan is a generated scan and what it should measure as.
@@ -110,6 +163,9 @@ type Scan struct {
 	Cloud *scan.Cloud
 	// Truth is the exact description, written as the JSON sidecar.
 	Truth Truth
+	// Outliers lists, in increasing order, the indices into Cloud.Points
+	// of the points displaced by spikes and streaks (not in the sidecar).
+	Outliers []int32
 }
 
 // Truth is the exact form and the scan conditions of a synthetic scan, in
@@ -144,10 +200,29 @@ type Truth struct {
 	// Spikes is the number of spike points in the scan.
 	Spikes int `json:"spikes"`
 	// Holes is the number of holes cut from the base.
-	Holes          int     `json:"holes"`
-	CornerRadiusMM float64 `json:"corner_radius_mm"`
-	WallHeightMM   float64 `json:"wall_height_mm"`
-	SpacingMM      float64 `json:"spacing_mm"`
+	Holes int `json:"holes"`
+	// ConeStartMM is the Cone form's flat radius r0, mm.
+	ConeStartMM float64 `json:"cone_start_mm,omitempty"`
+	// FormTurnDeg is Spec.FormTurnDeg; BendAxisDeg is a bend's axis
+	// direction, degrees in [0, 180).
+	FormTurnDeg float64  `json:"form_turn_deg,omitempty"`
+	BendAxisDeg *float64 `json:"bend_axis_deg,omitempty"`
+	// SpikeMinMM and SpikeMaxMM bound the spike heights, mm (when set).
+	SpikeMinMM float64 `json:"spike_min_mm,omitempty"`
+	SpikeMaxMM float64 `json:"spike_max_mm,omitempty"`
+	// Streaks is the number of streaks and StreakPoints the points they
+	// lifted; StreakLengthMM their length, mm.
+	Streaks        int     `json:"streaks,omitempty"`
+	StreakPoints   int     `json:"streak_points,omitempty"`
+	StreakLengthMM float64 `json:"streak_length_mm,omitempty"`
+	// JitterFraction is Spec.JitterFraction.
+	JitterFraction float64 `json:"jitter_fraction,omitempty"`
+	// HoleList and Sectors echo the Spec's, in mm and degrees.
+	HoleList       []HoleMM   `json:"hole_list,omitempty"`
+	Sectors        []SectorMM `json:"sectors,omitempty"`
+	CornerRadiusMM float64    `json:"corner_radius_mm"`
+	WallHeightMM   float64    `json:"wall_height_mm"`
+	SpacingMM      float64    `json:"spacing_mm"`
 	// Points and Triangles count what the scan holds.
 	Points    int  `json:"points"`
 	Triangles int  `json:"triangles"`
@@ -163,6 +238,20 @@ type Truth struct {
 	Unit   string `json:"unit,omitempty"`
 }
 
+// HoleMM is a Hole in millimetres.
+type HoleMM struct {
+	XMM        float64 `json:"x_mm"`
+	YMM        float64 `json:"y_mm"`
+	DiameterMM float64 `json:"diameter_mm"`
+}
+
+// SectorMM is a Sector with its inner radius in millimetres.
+type SectorMM struct {
+	FromDeg float64 `json:"from_deg"`
+	ToDeg   float64 `json:"to_deg"`
+	InnerMM float64 `json:"inner_mm"`
+}
+
 // TruthSchema is the schema name written into every Truth.
 const TruthSchema = "gapflux.synth-truth/1"
 
@@ -171,12 +260,31 @@ type form struct {
 	shape Shape
 	sag   float64 // S, m
 	rad   float64 // R, m
+	r0    float64 // cone start radius, m
+	// cos, sin of the form turn; the zero value (no turn) is read as 1, 0.
+	turned   bool
+	cos, sin float64
+}
+
+// local turns (x, y) into the form's own axes.
+func (f form) local(x, y float64) (float64, float64) {
+	if !f.turned {
+		return x, y
+	}
+	return f.cos*x + f.sin*y, -f.sin*x + f.cos*y
 }
 
 // z returns the height at (x, y), m.
 func (f form) z(x, y float64) float64 {
+	x, y = f.local(x, y)
 	s, r2 := f.sag, f.rad*f.rad
 	switch f.shape {
+	case Cone:
+		r := math.Hypot(x, y)
+		if r <= f.r0 {
+			return 0
+		}
+		return s * (r - f.r0) / (f.rad - f.r0)
 	case Dish:
 		return s * (1 - (x*x+y*y)/r2)
 	case Dome:
@@ -193,8 +301,24 @@ func (f form) z(x, y float64) float64 {
 
 // grad returns ∂z/∂x and ∂z/∂y at (x, y).
 func (f form) grad(x, y float64) (gx, gy float64) {
+	lx, ly := f.localGrad(f.local(x, y))
+	if !f.turned {
+		return lx, ly
+	}
+	return f.cos*lx - f.sin*ly, f.sin*lx + f.cos*ly
+}
+
+// localGrad returns the gradient in the form's own axes.
+func (f form) localGrad(x, y float64) (gx, gy float64) {
 	s, r2 := f.sag, f.rad*f.rad
 	switch f.shape {
+	case Cone:
+		r := math.Hypot(x, y)
+		if r <= f.r0 || r == 0 {
+			return 0, 0
+		}
+		k := s / (f.rad - f.r0) / r
+		return k * x, k * y
 	case Dish:
 		return -2 * s * x / r2, -2 * s * y / r2
 	case Dome:
@@ -221,17 +345,27 @@ func (f form) concavity() float64 {
 		return -f.sag
 	case Bend:
 		return -f.sag / 2
+	case Cone:
+		// t = r²/R² is uniform over the disc; the fit is a + b·t with
+		// b = 12·(E[z·t] − E[z]/2), and concavity = −b. With q = r0/R:
+		// E[z] = S/(1−q)·(2/3·(1−q³) − q·(1−q²)),
+		// E[z·t] = S/(1−q)·(2/5·(1−q⁵) − q/2·(1−q⁴)).
+		q := f.r0 / f.rad
+		k := f.sag / (1 - q)
+		ez := k * (2.0/3*(1-q*q*q) - q*(1-q*q))
+		ezt := k * (2.0/5*(1-math.Pow(q, 5)) - q/2*(1-math.Pow(q, 4)))
+		return -12 * (ezt - ez/2)
 	}
 	return 0
 }
 
 // flatness returns the minimum-zone flatness of the form over the disc, m.
-// Dish, dome, saddle and bend are even in (x, y), so the optimal zone is
-// horizontal and MZ = LS peak-to-valley = max − min; a tilt is a plane.
+// Dish, dome, saddle, bend and cone are even in (x, y), so the optimal zone
+// is horizontal and MZ = LS peak-to-valley = max − min; a tilt is a plane.
 func (f form) flatness() float64 {
 	s := math.Abs(f.sag)
 	switch f.shape {
-	case Dish, Dome, Bend:
+	case Dish, Dome, Bend, Cone:
 		return s
 	case Saddle:
 		return 2 * s
@@ -294,6 +428,9 @@ func (s Spec) withDefaults() (Spec, error) {
 	case math.Abs(s.SagM) > s.DiameterM/4:
 		return bad("sag %g m is more than a quarter of the diameter", s.SagM)
 	}
+	if err := s.checkArtefacts(); err != nil {
+		return s, err
+	}
 	r := s.DiameterM / 2
 	n := math.Pi * r * r / (s.SpacingM * s.SpacingM)
 	n += 2 * math.Pi * (r + s.CornerRadiusM) * (math.Pi/2*s.CornerRadiusM + s.WallHeightM) / (s.SpacingM * s.SpacingM)
@@ -309,3 +446,54 @@ func mm(m float64) float64 { return math.Round(m*1e12) / 1e9 }
 
 // um converts metres to micrometres rounded to 1e-6 µm.
 func um(m float64) float64 { return math.Round(m*1e12) / 1e6 }
+
+// checkArtefacts validates the fields that shape the scan's defects and
+// fills their defaults.
+func (s *Spec) checkArtefacts() error {
+	bad := func(format string, a ...any) error {
+		return fmt.Errorf("%w: %s", ErrSpec, fmt.Sprintf(format, a...))
+	}
+	if !finite(s.ConeStartM, s.FormTurnDeg, s.SpikeMinM, s.SpikeMaxM, s.StreakLengthM, s.JitterFraction) {
+		return bad("non-finite value")
+	}
+	r := s.DiameterM / 2
+	if s.Shape == Cone && s.ConeStartM == 0 {
+		s.ConeStartM = r / 2
+	}
+	if s.SpikeMinM == 0 {
+		s.SpikeMinM = spikeMinM
+	}
+	if s.SpikeMaxM == 0 {
+		s.SpikeMaxM = max(spikeMaxM, s.SpikeMinM)
+	}
+	if s.StreakLengthM == 0 {
+		s.StreakLengthM = defaultStreakM
+	}
+	switch {
+	case s.ConeStartM < 0 || s.ConeStartM >= r:
+		return bad("cone start %g m, want 0 … the radius", s.ConeStartM)
+	case math.Abs(s.FormTurnDeg) > 360:
+		return bad("form turn %g°, want −360 … 360", s.FormTurnDeg)
+	case s.SpikeMinM < 0 || s.SpikeMaxM < s.SpikeMinM || s.SpikeMaxM > 0.1:
+		return bad("spike heights %g … %g m, want 0 ≤ min ≤ max ≤ 0.1 m", s.SpikeMinM, s.SpikeMaxM)
+	case s.Streaks < 0 || s.Streaks > 100000:
+		return bad("streaks %d, want 0 … 100000", s.Streaks)
+	case s.StreakLengthM < 0 || s.StreakLengthM > max(r, defaultStreakM):
+		return bad("streak length %g m, want 0 … the radius", s.StreakLengthM)
+	case s.JitterFraction < 0 || s.JitterFraction > 1:
+		return bad("jitter fraction %g, want 0 … 1", s.JitterFraction)
+	case len(s.HoleList) > 1000 || len(s.Sectors) > 1000:
+		return bad("at most 1000 listed holes and 1000 sectors")
+	}
+	for i, h := range s.HoleList {
+		if !finite(h.XM, h.YM, h.DiameterM) || h.DiameterM <= 0 || math.Hypot(h.XM, h.YM) > r {
+			return bad("hole %d: centre (%g, %g) m, diameter %g m; want a positive diameter and the centre inside the base", i, h.XM, h.YM, h.DiameterM)
+		}
+	}
+	for i, c := range s.Sectors {
+		if !finite(c.FromDeg, c.ToDeg, c.InnerM) || c.InnerM < 0 || c.ToDeg <= c.FromDeg || c.ToDeg-c.FromDeg > 360 {
+			return bad("sector %d: %g° … %g° from %g m; want from < to, at most 360° apart, inner radius >= 0", i, c.FromDeg, c.ToDeg, c.InnerM)
+		}
+	}
+	return nil
+}

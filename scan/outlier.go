@@ -1,0 +1,303 @@
+package scan
+
+import (
+	"math"
+)
+
+// Constants of the local outlier test (our own choices, stated in
+// LocalOutliers' doc).
+const (
+	// OutlierCutoffM is the smallest cut-off wavelength of the robust
+	// local reference surface, m: its Gaussian weight reaches about ±3 mm,
+	// so a streak of a few millimetres is a minority in every window.
+	OutlierCutoffM = 8e-3
+	// outlierCutoffSpacings scales the cut-off with sparse clouds: at
+	// least this many point spacings.
+	outlierCutoffSpacings = 6.0
+	// refCellsPerCutoff is the reference grid's cells per cut-off.
+	refCellsPerCutoff = 8
+	// refMedianHalf is the half-width, in reference cells, of the median
+	// window that starts the iteration (7×7 cells, 7/8 of the cut-off).
+	refMedianHalf = 3
+	// outlierMaxIter bounds the reweighting iterations.
+	outlierMaxIter = 8
+	// BiweightC is the constant of Tukey's biweight in the robust
+	// Gaussian regression filter: c = BiweightC × MAD of the residuals
+	// (ISO/TS 16610-31 and ISO 16610-71; Brinkmann, Bodschwinna & Lemke
+	// 2001; from memory, and the value one public implementation of the
+	// filter uses). For Gaussian residuals c ≈ 2.97 σ.
+	BiweightC = 4.4
+	// madToSigma turns a median absolute deviation into a normal σ.
+	madToSigma = 1.4826
+	// madSampleMax bounds the residuals a MAD is taken over (a
+	// deterministic stride subsample beyond it).
+	madSampleMax = 200000
+)
+
+// biweight returns Tukey's biweight (1 − (r/c)²)² for |r| < c, else 0.
+func biweight(r, c float64) float64 {
+	u := r / c
+	if !(u*u < 1) {
+		return 0
+	}
+	v := 1 - u*u
+	return v * v
+}
+
+// refGrid is the coarse grid of the local reference surface.
+type refGrid struct {
+	nx, ny int
+	x0, y0 float64 // centre of cell (0, 0), m
+	h      float64 // cell edge, m
+}
+
+func (g refGrid) cell(x, y float64) int {
+	i := int(math.Round((x - g.x0) / g.h))
+	j := int(math.Round((y - g.y0) / g.h))
+	i = min(max(i, 0), g.nx-1)
+	j = min(max(j, 0), g.ny-1)
+	return j*g.nx + i
+}
+
+// interp returns the bilinear interpolation of f (NaN where undefined) at
+// (x, y), renormalised over the defined corners; NaN if none is.
+func (g refGrid) interp(f []float64, x, y float64) float64 {
+	fi := (x - g.x0) / g.h
+	fj := (y - g.y0) / g.h
+	i := min(max(int(math.Floor(fi)), 0), g.nx-2)
+	j := min(max(int(math.Floor(fj)), 0), g.ny-2)
+	tx := min(max(fi-float64(i), 0), 1)
+	ty := min(max(fj-float64(j), 0), 1)
+	q := j*g.nx + i
+	var s, w float64
+	for _, c := range [4]struct {
+		q int
+		w float64
+	}{{q, (1 - tx) * (1 - ty)}, {q + 1, tx * (1 - ty)}, {q + g.nx, (1 - tx) * ty}, {q + g.nx + 1, tx * ty}} {
+		if v := f[c.q]; !math.IsNaN(v) && c.w > 0 {
+			s += c.w * v
+			w += c.w
+		}
+	}
+	if w == 0 {
+		// On a corner-less edge: the nearest defined corner, if any.
+		if v := f[g.cell(x, y)]; !math.IsNaN(v) {
+			return v
+		}
+		return nan
+	}
+	return s / w
+}
+
+// LocalOutliers tests every sample (x[i], y[i], z[i]) against a robust
+// local reference surface and reports which ones are outliers, and the
+// robust standard deviation σ of the residuals, m.
+//
+// The reference is the robust Gaussian regression filter (first order: a
+// local plane; ISO 16610-71 with Tukey's biweight, c = 4.4 × MAD) of the
+// samples themselves at the cut-off max(OutlierCutoffM, 6 × spacingM),
+// evaluated on a grid of cut-off/8 cells and interpolated bilinearly to
+// each sample. It starts from a 7×7-cell median of the cells' medians (so
+// a streak or a cluster of spikes covering up to about a third of a window
+// does not pull the start) and reweights until the surface moves nowhere
+// by more than σ/4 (at most 8 iterations; the default limit is 5 σ).
+// Within a cell, samples are moved to its centre along the current
+// reference, so steep forms are not mistaken for scatter. Every step is a pass over the samples or a
+// separable pass over the grid: the cost grows linearly with both.
+//
+// A sample is an outlier when its residual exceeds k times the larger of
+// σ = 1.4826 × MAD of all residuals (floored at 1 µm) and the local σ, the
+// same from the median |residual| of the 7×7 reference cells around it
+// (so a kink the reference cannot follow does not flag a band of sound
+// points). A sample whose window holds no other weight cannot be tested
+// and is kept.
+func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM float64) {
+	n := len(z)
+	out = make([]bool, n)
+	if n == 0 || math.IsInf(k, 1) {
+		return out, 0
+	}
+	cutoff := max(OutlierCutoffM, outlierCutoffSpacings*spacingM)
+	g := newRefGrid(x, y, cutoff/refCellsPerCutoff)
+	nc := g.nx * g.ny
+	cellOf := make([]int32, n)
+	for i := range n {
+		cellOf[i] = int32(g.cell(x[i], y[i]))
+	}
+	f := refStart(g, cellOf, z)
+	reg := newGaussRegression(g.nx, g.ny, refCellsPerCutoff, 1)
+	w := make([]float64, nc)
+	wz := make([]float64, nc)
+	res := make([]float64, n)
+	fNew := make([]float64, nc)
+	has := func(q int) bool { return true }
+	sigma := 0.0
+	for it := 0; it < outlierMaxIter; it++ {
+		residuals(g, f, x, y, z, res)
+		sigma = max(madToSigma*madOf(res), outlierSigmaFloorM)
+		c := BiweightC / madToSigma * sigma
+		if it == 0 {
+			c *= 2 // the median start is rougher than a fit
+		}
+		clear(w)
+		clear(wz)
+		for i := range n {
+			q := cellOf[i]
+			if math.IsNaN(res[i]) || math.IsNaN(f[q]) {
+				continue
+			}
+			bw := biweight(res[i], c)
+			if bw == 0 {
+				continue
+			}
+			w[q] += bw
+			wz[q] += bw * (res[i] + f[q])
+		}
+		for q := range nc {
+			if w[q] > 0 {
+				wz[q] /= w[q]
+			}
+		}
+		for q := range fNew {
+			fNew[q] = nan
+		}
+		reg.apply(w, wz, fNew, has)
+		moved := 0.0
+		for q := range nc {
+			if math.IsNaN(fNew[q]) {
+				continue
+			}
+			if !math.IsNaN(f[q]) {
+				moved = max(moved, math.Abs(fNew[q]-f[q]))
+			} else {
+				moved = math.Inf(1)
+			}
+		}
+		f, fNew = fNew, f
+		if moved < 0.25*sigma {
+			break
+		}
+	}
+	residuals(g, f, x, y, z, res)
+	sigma = max(madToSigma*madOf(res), outlierSigmaFloorM)
+	// The local scale: the 7×7-cell median of the cells' median |r|.
+	// Where the reference cannot follow the form (a kink, a sharp bend)
+	// most residuals around grow and so does the limit; isolated spikes
+	// and streaks are too few to move a median.
+	abs := make([]float64, n)
+	for i, r := range res {
+		abs[i] = math.Abs(r)
+		if math.IsNaN(r) {
+			abs[i] = 0
+		}
+	}
+	local := refStart(g, cellOf, abs)
+	for i, r := range res {
+		s := sigma
+		if v := local[cellOf[i]]; !math.IsNaN(v) {
+			s = max(s, madToSigma*v)
+		}
+		out[i] = math.Abs(r) > k*s
+	}
+	return out, sigma
+}
+
+// newRefGrid returns a grid of cells of edge h covering the samples.
+func newRefGrid(x, y []float64, h float64) refGrid {
+	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for i := range x {
+		xmin, xmax = min(xmin, x[i]), max(xmax, x[i])
+		ymin, ymax = min(ymin, y[i]), max(ymax, y[i])
+	}
+	g := refGrid{h: h, x0: xmin, y0: ymin}
+	g.nx = int(math.Ceil((xmax-xmin)/h)) + 2
+	g.ny = int(math.Ceil((ymax-ymin)/h)) + 2
+	return g
+}
+
+// refStart returns the starting reference: the median of each cell's
+// samples, then the median of those over the (2·refMedianHalf+1)² window
+// around every cell (NaN where the window is empty).
+func refStart(g refGrid, cellOf []int32, z []float64) []float64 {
+	nc := g.nx * g.ny
+	start := make([]int32, nc+1)
+	for _, q := range cellOf {
+		start[q+1]++
+	}
+	for q := range nc {
+		start[q+1] += start[q]
+	}
+	zs := make([]float64, len(z))
+	fill := append([]int32(nil), start[:nc]...)
+	for i, q := range cellOf {
+		zs[fill[q]] = z[i]
+		fill[q]++
+	}
+	med := make([]float64, nc)
+	for q := range nc {
+		if a := zs[start[q]:start[q+1]]; len(a) > 0 {
+			med[q] = medianInPlace(a)
+		} else {
+			med[q] = nan
+		}
+	}
+	f := make([]float64, nc)
+	parallelRows(g.ny, func(j0, j1 int) {
+		buf := make([]float64, 0, (2*refMedianHalf+1)*(2*refMedianHalf+1))
+		for j := j0; j < j1; j++ {
+			for i := range g.nx {
+				buf = buf[:0]
+				for dj := -refMedianHalf; dj <= refMedianHalf; dj++ {
+					jj := j + dj
+					if jj < 0 || jj >= g.ny {
+						continue
+					}
+					for di := -refMedianHalf; di <= refMedianHalf; di++ {
+						ii := i + di
+						if ii < 0 || ii >= g.nx {
+							continue
+						}
+						if v := med[jj*g.nx+ii]; !math.IsNaN(v) {
+							buf = append(buf, v)
+						}
+					}
+				}
+				if len(buf) == 0 {
+					f[j*g.nx+i] = nan
+					continue
+				}
+				f[j*g.nx+i] = medianInPlace(buf)
+			}
+		}
+	})
+	return f
+}
+
+// residuals sets res[i] = z[i] − f(x[i], y[i]).
+func residuals(g refGrid, f, x, y, z, res []float64) {
+	parallelRows(len(z), func(a, b int) {
+		for i := a; i < b; i++ {
+			res[i] = z[i] - g.interp(f, x[i], y[i])
+		}
+	})
+}
+
+// madOf returns the median absolute deviation about the median of the
+// finite values of r (a stride subsample of at most madSampleMax), or 0.
+func madOf(r []float64) float64 {
+	step := max(1, len(r)/madSampleMax)
+	a := make([]float64, 0, len(r)/step+1)
+	for i := 0; i < len(r); i += step {
+		if !math.IsNaN(r[i]) {
+			a = append(a, r[i])
+		}
+	}
+	if len(a) == 0 {
+		return 0
+	}
+	m := medianInPlace(a)
+	for i := range a {
+		a[i] = math.Abs(a[i] - m)
+	}
+	return medianInPlace(a)
+}
