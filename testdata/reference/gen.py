@@ -5,6 +5,7 @@ Run with Debian's Python (the packages below are Debian's, not PyPI's):
 
     apt-get install -y python3-iapws python3-scipy python3-vtk9
     /usr/bin/python3 testdata/reference/gen.py            # self-check, then write the tables
+    /usr/bin/python3 testdata/reference/gen.py tables DIR # the same, into DIR
     /usr/bin/python3 testdata/reference/gen.py check      # self-check only
     /usr/bin/python3 testdata/reference/gen.py vti FILE   # read FILE with VTK, print JSON
 
@@ -35,6 +36,7 @@ import subprocess
 import sys
 
 HERE = os.path.dirname(os.path.abspath(__file__))
+OUT = HERE  # where the tables go; 'tables DIR' changes it
 
 # Second radiation constant c2 = h*c/k_B in um*K (CODATA 2018, from the exact
 # SI values of h, c and k_B).
@@ -116,7 +118,7 @@ def selfcheck():
 
 
 def write_table(name, header_lines, columns, rows, fmt):
-    path = os.path.join(HERE, name)
+    path = os.path.join(OUT, name)
     with open(path + ".tmp", "w", newline="\n") as f:
         for h in header_lines:
             f.write("# " + h + "\n")
@@ -244,7 +246,10 @@ def main(argv):
         read_vti(argv[2])
     elif mode == "check":
         selfcheck()
-    elif mode == "tables":
+    elif mode == "tables" and len(argv) <= 3:
+        global OUT
+        if len(argv) == 3:
+            OUT = argv[2]
         selfcheck()
         versions = deb_versions(PACKAGES)
         water_table(versions)
@@ -252,7 +257,7 @@ def main(argv):
         blackbody_table(deb_versions(["python3", "python3-scipy"]))
         erfcinv_table(deb_versions(["python3", "python3-scipy"]))
     else:
-        raise SystemExit("usage: gen.py [tables | check | vti FILE]")
+        raise SystemExit("usage: gen.py [tables [DIR] | check | vti FILE]")
 
 
 if __name__ == "__main__":
