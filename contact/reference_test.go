@@ -28,25 +28,29 @@ func TestSeparationExactAgainstScipy(t *testing.T) {
 	}
 }
 
-func TestSeparationCorrelationAgainstScipy(t *testing.T) {
-	// Yovanovich's fit Y = 1.184·σ·[−ln(3.132·P/H_c)]^0.547 against the
-	// exact √2·erfc⁻¹(2P/H_c) from scipy 1.10.1 (erfcinv_scipy.csv), over
-	// the fit's range 1e-6…2e-2: within 0.67 % (PHYSICS-REFERENCES.md 4.1
-	// says 0.66 %; observed worst 0.663 % at 2e-2).
+func TestCorrelationsAgainstScipy(t *testing.T) {
+	// The two CMY fits against the exact relations evaluated with scipy
+	// 1.10.1's erfcinv (erfcinv_scipy.csv), over the fits' range
+	// 1e-6…2e-2 of P/H_c:
+	//  - Yovanovich's Y = 1.184·σ·[−ln(3.132·P/H_c)]^0.547: within 0.67 %
+	//    (PHYSICS-REFERENCES.md 4.1 says 0.66 %; observed 0.663 % at 2e-2);
+	//  - h_s·σ/(m·k_s) = 1.25·(P/H_c)^0.95: within 1.55 % (item 1.4 says
+	//    1.5 %; observed 1.526 % on the table's rows).
 	tab := reftable.MustLoad(t, "erfcinv_scipy.csv")
-	ratio, y := tab.MustCol(t, "ratio"), tab.MustCol(t, "y_over_sigma")
-	n := 0
+	ratio, y, hs := tab.MustCol(t, "ratio"), tab.MustCol(t, "y_over_sigma"), tab.MustCol(t, "hs_sigma_over_m_ks")
+	n, worstY, worstH := 0, 0.0, 0.0
 	for i := range ratio {
 		if ratio[i] < CorrelationMinRatio || ratio[i] > CorrelationMaxRatio {
 			continue
 		}
 		n++
-		if d := rel(SeparationM(1, ratio[i]), y[i]); d > 0.0067 {
-			t.Errorf("Y/σ fit at %g: %.2f %% from scipy's exact value", ratio[i], 100*d)
-		}
+		worstY = max(worstY, rel(SeparationM(1, ratio[i]), y[i]))
+		worstH = max(worstH, rel(PlasticContactWM2K(1, 1, 1, ratio[i]), hs[i]))
 	}
-	if n < 10 {
-		t.Errorf("only %d rows in the correlation range", n)
+	t.Logf("over %d rows: Y fit worst %.3f %%, h_s fit worst %.3f %%", n, 100*worstY, 100*worstH)
+	if n < 10 || !(worstY <= 0.0067) || !(worstH <= 0.0155) {
+		t.Errorf("%d rows; Y/σ fit %.3f %% (allowed 0.67 %%), h_s fit %.3f %% (allowed 1.55 %%) from scipy's exact values",
+			n, 100*worstY, 100*worstH)
 	}
 }
 
