@@ -22,7 +22,7 @@ func vtkPython(t *testing.T) string {
 		cands = append(cands, p)
 	}
 	for _, py := range cands {
-		if exec.Command(py, "-c", "import vtk").Run() == nil {
+		if exec.Command(py, "-c", "import vtkmodules.vtkIOXML").Run() == nil {
 			return py
 		}
 	}
@@ -54,7 +54,7 @@ func TestFieldsVTIReadByVTK(t *testing.T) {
 		t.Skip("whole chain and a child process")
 	}
 	py := vtkPython(t)
-	res := analyzeSynth(t, synth.Spec{Shape: synth.Dish, DiameterM: 0.12, SagM: 0.2e-3, NoiseM: 5e-6,
+	res := analyzeSynth(t, synth.Spec{Shape: synth.Dish, DiameterM: 0.08, SagM: 0.2e-3, NoiseM: 5e-6,
 		SpacingM: 1e-3, Seed: 9}, synth.Encoding{Format: "xyz"}, smallJob())
 	dir := t.TempDir()
 	if err := WriteOutputs(res, dir); err != nil {

@@ -217,9 +217,12 @@ def erfcinv_table(versions):
 def read_vti(path):
     """Reads a VTK XML image-data file with VTK's own reader and prints its
     grid and every point-data array as JSON (NaN as null)."""
-    import vtk
+    # Only the modules needed: 'import vtk' loads every VTK kit (seconds).
+    from vtkmodules.vtkCommonCore import vtkVersion
+    from vtkmodules.vtkIOXML import vtkXMLImageDataReader
+    from vtkmodules.util.numpy_support import vtk_to_numpy
 
-    r = vtk.vtkXMLImageDataReader()
+    r = vtkXMLImageDataReader()
     r.SetFileName(path)
     r.Update()
     if r.GetErrorCode() != 0:
@@ -229,12 +232,12 @@ def read_vti(path):
     arrays = {}
     for i in range(pd.GetNumberOfArrays()):
         a = pd.GetArray(i)
-        vals = [a.GetValue(k) for k in range(a.GetNumberOfTuples())]
+        vals = vtk_to_numpy(a).tolist()
         arrays[a.GetName()] = {
             "type": a.GetDataTypeAsString(),
-            "values": [None if isinstance(v, float) and math.isnan(v) else v for v in vals],
+            "values": [None if v != v else v for v in vals],  # NaN as null
         }
-    json.dump({"vtk": vtk.vtkVersion.GetVTKVersion(), "dims": list(img.GetDimensions()),
+    json.dump({"vtk": vtkVersion.GetVTKVersion(), "dims": list(img.GetDimensions()),
                "origin": list(img.GetOrigin()), "spacing": list(img.GetSpacing()), "arrays": arrays},
               sys.stdout)
     sys.stdout.write("\n")
