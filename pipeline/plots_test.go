@@ -196,15 +196,9 @@ func TestWriteVTI(t *testing.T) {
 
 // TestVTIReadsInVTK reads a written field file with VTK's own XML image-data
 // reader (an independent general-purpose library), when python3 with the
-// vtk module is installed; it is skipped elsewhere.
+// vtk module is installed (vtkPython); it is skipped elsewhere.
 func TestVTIReadsInVTK(t *testing.T) {
-	py, err := exec.LookPath("python3")
-	if err != nil {
-		t.Skip("no python3")
-	}
-	if exec.Command(py, "-c", "import vtk").Run() != nil {
-		t.Skip("python3 has no vtk module")
-	}
+	py := vtkPython(t)
 	path := filepath.Join(t.TempDir(), "f.vti")
 	vals := []float64{1, 2, 3, math.NaN(), 5, 6}
 	var buf bytes.Buffer
