@@ -176,6 +176,6 @@ func WallStiffnessN(thicknessM, radiusM, youngPa, poisson float64) (float64, err
 	}
 	nu2 := 1 - poisson*poisson
 	dw := youngPa * thicknessM * thicknessM * thicknessM / (12 * nu2)
-	beta := math.Sqrt(math.Sqrt(3*nu2/(radiusM*radiusM*thicknessM*thicknessM)))
+	beta := math.Sqrt(math.Sqrt(3 * nu2 / (radiusM * radiusM * thicknessM * thicknessM)))
 	return 2 * beta * dw, nil
 }
