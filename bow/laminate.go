@@ -14,8 +14,8 @@ type Layer struct {
 	ExpansionPerK   float64 // linear thermal expansion coefficient α, 1/K
 }
 
-// MaxLayers bounds the number of layers of a base.
-const MaxLayers = 16
+// MaxLayers bounds the number of layers of a base (as the job file does).
+const MaxLayers = 20
 
 // validate reports the first value of l out of its domain.
 func (l Layer) validate(i int) error {

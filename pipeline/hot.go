@@ -7,6 +7,7 @@ import (
 	"math"
 
 	"gapflux/bow"
+	"gapflux/contact"
 )
 
 // HotChain runs the cold chain's later stages on a base surface: rest pose,
@@ -167,4 +168,22 @@ func (o HotOptions) withDefaults() (HotOptions, error) {
 		return o, fmt.Errorf("hot state: %d iterations at most, want 1 to 1000", o.MaxIter)
 	}
 	return o, nil
+}
+
+// bendLayers converts the job's pan layers (hob side first) into the
+// bending model's layers, with each material's E, ν and α from lib.
+func bendLayers(job Job, lib []contact.Material) ([]bow.Layer, error) {
+	out := make([]bow.Layer, 0, len(job.Pan.Layers))
+	for i, l := range job.Pan.Layers {
+		m, err := contact.LookupMaterial(lib, l.Material)
+		if err != nil {
+			return nil, fmt.Errorf("job: pan.layers[%d]: %w", i, err)
+		}
+		if !(m.YoungPa > 0) {
+			return nil, fmt.Errorf("job: pan.layers[%d]: material %q has no Young's modulus; the hot state needs young_gpa, poisson and expansion_um_mk (give them in a [[material]] table)", i, m.Name)
+		}
+		out = append(out, bow.Layer{ThicknessM: l.ThicknessMM / 1e3, ConductivityWMK: m.ConductivityWMK,
+			YoungPa: m.YoungPa, Poisson: m.Poisson, ExpansionPerK: m.ExpansionPerK})
+	}
+	return out, nil
 }

@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"gapflux/bow"
+	"gapflux/contact"
 )
 
 // hotDisc is a 1 mm grid around a disc of radius rM at the origin, with a
@@ -156,5 +157,26 @@ func TestSolveHotStateErrors(t *testing.T) {
 	if st.Converged || st.Iterations != 1 || !(st.ChangeM > 1e-6) {
 		t.Errorf("after 1 iteration: converged %v, iterations %d, change %.3g µm; want not converged, 1, > 1 µm",
 			st.Converged, st.Iterations, st.ChangeM*1e6)
+	}
+}
+
+func TestBendLayers(t *testing.T) {
+	lib := []contact.Material{
+		{Name: "ss-304", ConductivityWMK: 16.2, YoungPa: 193e9, Poisson: 0.29, ExpansionPerK: 17.3e-6},
+		{Name: "mystery", ConductivityWMK: 50},
+	}
+	job := Job{Pan: PanJob{Layers: []LayerJob{{Material: "ss-304", ThicknessMM: 0.6}}}}
+	got, err := bendLayers(job, lib)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := (bow.Layer{ThicknessM: 0.6e-3, ConductivityWMK: 16.2, YoungPa: 193e9, Poisson: 0.29, ExpansionPerK: 17.3e-6}); len(got) != 1 || got[0] != want {
+		t.Errorf("layers %+v, want [%+v]", got, want)
+	}
+	for _, c := range []struct{ material, want string }{{"mystery", "Young's modulus"}, {"unobtainium", "unknown material"}} {
+		job.Pan.Layers[0].Material = c.material
+		if _, err := bendLayers(job, lib); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %v, want one containing %q", c.material, err, c.want)
+		}
 	}
 }
