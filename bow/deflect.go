@@ -185,10 +185,22 @@ func (s *Solver) evaluate(ctx context.Context, dst []float64) error {
 			I, J := int(e)%s.ncx, int(e)/s.ncx
 			xi := (g.X0M + float64(i)*g.CellM - s.ox - float64(I)*s.cellM) / s.cellM
 			eta := (g.Y0M + float64(j)*g.CellM - s.oy - float64(J)*s.cellM) / s.cellM
-			sh := shapeAt(xi, eta)
+			// Tensor-product values only: value and slope functions of each
+			// end, in ξ and in η.
+			var hx, hy [2][2]float64
+			for a := range 2 {
+				for sl := range 2 {
+					hx[a][sl], _, _ = hermite(a, sl == 1, xi)
+					hy[a][sl], _, _ = hermite(a, sl == 1, eta)
+				}
+			}
 			w := 0.0
-			for a, d := range s.cellDofs(I, J) {
-				w += sh.n[a] * u[d]
+			dofs := s.cellDofs(I, J)
+			for ln := range 4 {
+				a, b := ln%2, ln/2
+				o := 4 * ln
+				w += hx[a][0]*hy[b][0]*u[dofs[o]] + hx[a][1]*hy[b][0]*u[dofs[o+1]] +
+					hx[a][0]*hy[b][1]*u[dofs[o+2]] + hx[a][1]*hy[b][1]*u[dofs[o+3]]
 			}
 			dst[c] = w
 		}
