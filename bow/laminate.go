@@ -179,3 +179,29 @@ func WallStiffnessN(thicknessM, radiusM, youngPa, poisson float64) (float64, err
 	beta := math.Sqrt(math.Sqrt(3 * nu2 / (radiusM * radiusM * thicknessM * thicknessM)))
 	return 2 * beta * dw, nil
 }
+
+// WallLayersStiffnessN is WallStiffnessN for a layered (clad) wall of
+// radius radiusM: the same semi-infinite shell with β⁴ = C/(4 R² D_w),
+// where C = A11 − A12²/A11 is the wall's hoop membrane stiffness with no
+// axial force and D_w = D*11 its reduced bending stiffness (for one layer
+// C = E t and D_w = E t³/(12(1−ν²)), which gives WallStiffnessN's β). The
+// layers are listed from the outside in; their order only matters through
+// D_w.
+func WallLayersStiffnessN(layers []Layer, radiusM float64) (float64, error) {
+	lam, err := NewLaminate(layers)
+	if err != nil {
+		return 0, fmt.Errorf("wall: %w", err)
+	}
+	if !(radiusM > lam.ThicknessM && radiusM < 10) {
+		return 0, fmt.Errorf("bow: wall radius %g m, want above the wall thickness and below 10 m", radiusM)
+	}
+	var a11, a12 float64
+	for _, ly := range layers {
+		q11 := ly.YoungPa / (1 - ly.Poisson*ly.Poisson)
+		a11 += q11 * ly.ThicknessM
+		a12 += ly.Poisson * q11 * ly.ThicknessM
+	}
+	c := a11 - a12*a12/a11
+	beta := math.Sqrt(math.Sqrt(c / (4 * radiusM * radiusM * lam.D11Nm)))
+	return 2 * beta * lam.D11Nm, nil
+}

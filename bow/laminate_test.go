@@ -142,6 +142,26 @@ func TestWallStiffness(t *testing.T) {
 	if want := 2 * 128.75 * 17.561; math.Abs(got-want) > 2e-4*want {
 		t.Errorf("k_θ = %.1f N, want %.1f", got, want)
 	}
+	// One layer through the layered form: the same value.
+	if k, err := WallLayersStiffnessN([]Layer{ss304}, 0.1); err != nil || math.Abs(k-got) > 1e-12*got {
+		t.Errorf("WallLayersStiffnessN(1 mm ss304) = %g, %v; want %g", k, err, got)
+	}
+	// A wall split into two equal layers of one material is the same wall.
+	half := thick(ss304, 0.5e-3)
+	if k, err := WallLayersStiffnessN([]Layer{half, half}, 0.1); err != nil || math.Abs(k-got) > 1e-9*got {
+		t.Errorf("two half layers: %g, %v; want %g", k, err, got)
+	}
+	// Tri-ply 0.4 ss / 1.6 al / 0.4 ss lies between 2.4 mm of aluminium and
+	// 2.4 mm of steel.
+	k3, _ := WallLayersStiffnessN([]Layer{thick(ss304, 0.4e-3), thick(al, 1.6e-3), thick(ss304, 0.4e-3)}, 0.1)
+	kAl, _ := WallStiffnessN(2.4e-3, 0.1, al.YoungPa, al.Poisson)
+	kSS, _ := WallStiffnessN(2.4e-3, 0.1, ss304.YoungPa, ss304.Poisson)
+	if !(k3 > kAl && k3 < kSS) {
+		t.Errorf("tri-ply wall k_θ = %g N, want between %g (Al) and %g (SS)", k3, kAl, kSS)
+	}
+	if _, err := WallLayersStiffnessN(nil, 0.1); err == nil {
+		t.Error("no wall layers: no error")
+	}
 	// Scaling: k_θ ∝ t^(5/2) R^(−1/2).
 	k2, _ := WallStiffnessN(2e-3, 0.4, 193e9, 0.29)
 	if r := k2 / got; math.Abs(r-math.Pow(2, 2.5)/2) > 1e-12 {
