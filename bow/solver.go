@@ -123,17 +123,17 @@ type Solver struct {
 
 // Info describes the bending grid of a Solver.
 type Info struct {
-	BendCellM  float64 // bending cell side, m
-	Cells      int     // bending cells in the plate
-	Dofs       int     // unknowns (4 per node)
-	Bandwidth  int     // superdiagonals of the banded matrix
-	RadiusM    float64 // radius of the disc with the base's area, m
-	BandBytes  int     // memory of the matrix and its factor, bytes
-	Factor     int     // base cells per bending cell side
-	Stiffness  float64 // D*_s of the laminate, N·m
-	CentreXM   float64 // centroid of the base, m
-	CentreYM   float64
-	EdgeString string // edge condition
+	BendCellM float64 // bending cell side, m
+	Cells     int     // bending cells in the plate
+	Dofs      int     // unknowns (4 per node)
+	Bandwidth int     // superdiagonals of the banded matrix
+	RadiusM   float64 // radius of the disc with the base's area, m
+	BandBytes int     // memory of the matrix and its factor, bytes
+	Factor    int     // base cells per bending cell side
+	Stiffness float64 // D*_s of the laminate, N·m
+	CentreXM  float64 // centroid of the base, m
+	CentreYM  float64
+	Edge      EdgeKind // edge condition
 }
 
 // Info returns the bending grid's description.
@@ -142,7 +142,7 @@ func (s *Solver) Info() Info {
 	_, k := s.chol.SymBand()
 	return Info{BendCellM: s.cellM, Cells: count(s.active), Dofs: n, Bandwidth: k, RadiusM: s.radiusM,
 		BandBytes: 16 * n * (k + 1), Factor: s.factor, Stiffness: s.lam.BiaxialStiffnessNm(),
-		CentreXM: s.centreX, CentreYM: s.centreY, EdgeString: s.edge.Kind.String()}
+		CentreXM: s.centreX, CentreYM: s.centreY, Edge: s.edge.Kind}
 }
 
 // Laminate returns the solver's laminate.
