@@ -314,7 +314,12 @@ func TestAnalyzeGridBounds(t *testing.T) {
 			[]string{"base grid would be 2001×2001 cells (4.0 M)", "limits.max_cells = 4000000", "grid.cell_mm = 0.05", "cell_mm ≥ 0.0501"}},
 		{"glass grid of a large base", pan200, func(j *Job) { j.Limits.MaxCells = 240_000 },
 			[]string{"glass grid", "would be 521×521 cells", "hob.margin_mm = 30"}},
-		{"filter kernel", pan100, func(j *Job) { j.Hob.Mode = "temperature"; j.Limits.MaxCells = 100_000; j.Grid.CutoffMM = 80; j.Grid.CellMM = 0.5 },
+		{"filter kernel", pan100, func(j *Job) {
+			j.Hob.Mode = "temperature"
+			j.Limits.MaxCells = 100_000
+			j.Grid.CutoffMM = 80
+			j.Grid.CellMM = 0.5
+		},
 			[]string{"form filter", "grid.cutoff_mm = 80", "kernel of 321 cells"}},
 	}
 	for _, tc := range tests {
