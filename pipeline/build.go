@@ -72,6 +72,9 @@ func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, 
 		return p, fmt.Errorf("job: hob.material: %w", err)
 	}
 	ij := job.Interface
+	if ij.Model == contact.ModelPlasticOld {
+		ij.Model = contact.ModelPlastic // the old name, an alias
+	}
 	corr, err := contact.ParseSlopeCorrelation(ij.SlopeCorrelation)
 	if err != nil {
 		return p, fmt.Errorf("job: interface.slope_correlation: %w", err)
@@ -94,13 +97,22 @@ func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, 
 		Accommodation2: ij.PanAccommodation,
 		GasPressurePa:  ij.GasPressureKPa * 1e3,
 		Gamma:          1.4,
-		Emissivity1:    job.Hob.Emissivity,
-		Emissivity2:    job.Pan.Emissivity,
+		Emissivity1:    orMaterial(job.Hob.Emissivity, hobMat.Emissivity),
+		Emissivity2:    orMaterial(job.Pan.Emissivity, panMat.Emissivity),
 	}
 	if err := p.Validate(); err != nil {
 		return p, fmt.Errorf("job: %w", err)
 	}
 	return p, nil
+}
+
+// orMaterial returns the job's value v, or the material's m when v is 0
+// (the job keys pan.emissivity and hob.emissivity: 0 = from the material).
+func orMaterial(v, m float64) float64 {
+	if v == 0 {
+		return m
+	}
+	return v
 }
 
 // baseLayers converts the job's pan layers.
@@ -122,15 +134,27 @@ func waterSide(job Job, diameterM float64) thermal.WaterSide {
 	case "natural":
 		return thermal.NaturalWater{DiameterM: diameterM}
 	case "boiling":
-		csf, n := job.Water.RohsenowCsf, job.Water.RohsenowN
-		for _, sf := range thermal.RohsenowSurfaces() {
-			if sf.Name == job.Water.RohsenowSurface {
-				csf, n = sf.Csf, sf.N
-			}
-		}
+		csf, n := rohsenow(job.Water)
 		return thermal.BoilingWater{Csf: csf, N: n, DiameterM: diameterM}
 	}
 	return thermal.FixedWater{HWM2K: job.Water.HWM2K}
+}
+
+// rohsenow returns the Rohsenow C_sf and n of the job: those of the named
+// surface, each replaced by rohsenow_csf or rohsenow_n when that is set.
+func rohsenow(w WaterJob) (csf, n float64) {
+	for _, sf := range thermal.RohsenowSurfaces() {
+		if sf.Name == w.RohsenowSurface {
+			csf, n = sf.Csf, sf.N
+		}
+	}
+	if w.RohsenowCsf != 0 {
+		csf = w.RohsenowCsf
+	}
+	if w.RohsenowN != 0 {
+		n = w.RohsenowN
+	}
+	return csf, n
 }
 
 // plateProblem builds the plate problem of the job on the surface's grid,
@@ -148,12 +172,16 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 	}
 	baseD = 2 * math.Sqrt(baseD/math.Pi)
 	p := &thermal.Problem{
-		Grid:          thermal.Grid{Nx: s.Nx, Ny: s.Ny, CellM: s.CellM, X0M: s.X0M, Y0M: s.Y0M},
-		InBase:        inBase,
-		BaseLayers:    layers,
-		Water:         waterSide(job, baseD),
-		PanEmissivity: job.Pan.Emissivity,
+		Grid:       thermal.Grid{Nx: s.Nx, Ny: s.Ny, CellM: s.CellM, X0M: s.X0M, Y0M: s.Y0M},
+		InBase:     inBase,
+		BaseLayers: layers,
+		Water:      waterSide(job, baseD),
 	}
+	panMat, err := contact.LookupMaterial(lib, job.Pan.Layers[0].Material)
+	if err != nil {
+		return nil, fmt.Errorf("job: pan.layers[0]: %w", err)
+	}
+	p.PanEmissivity = orMaterial(job.Pan.Emissivity, panMat.Emissivity)
 	roomK := job.Hob.RoomC + kelvin
 	zoneCentre := [2]float64{-offsetM[0], -offsetM[1]}
 	switch job.Hob.Mode {
@@ -181,7 +209,7 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 			ZoneDiameterM:       job.Hob.ZoneDiameterMM / 1e3,
 			ZoneCentreM:         zoneCentre,
 			Glass:               thermal.Layer{ThicknessM: job.Hob.ThicknessMM / 1e3, ConductivityWMK: glass.ConductivityWMK},
-			GlassEmissivity:     job.Hob.Emissivity,
+			GlassEmissivity:     orMaterial(job.Hob.Emissivity, glass.Emissivity),
 			GlassRadiusM:        glassRadiusM,
 			DownHWM2K:           job.Hob.DownLossWM2K,
 			RoomK:               roomK,

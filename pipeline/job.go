@@ -14,6 +14,9 @@ import (
 	"strconv"
 	"strings"
 
+	"gapflux/contact"
+	"gapflux/thermal"
+
 	"github.com/pelletier/go-toml/v2"
 	"github.com/pelletier/go-toml/v2/unstable"
 )
@@ -58,7 +61,7 @@ type PanJob struct {
 	MassKg          float64    `toml:"mass_kg"`
 	CpJKgK          float64    `toml:"cp_j_kgk"` // 0 = from the first base layer's material
 	Layers          []LayerJob `toml:"layers"`
-	Emissivity      float64    `toml:"emissivity"`
+	Emissivity      float64    `toml:"emissivity"`        // outer face of the base; 0 = from the first layer's material
 	InnerDiameterMM float64    `toml:"inner_diameter_mm"` // water surface and wetted wall; 0 = base diameter
 	WallEmissivity  float64    `toml:"wall_emissivity"`
 	CentreOfMassMM  [2]float64 `toml:"centre_of_mass_mm"` // in the base frame
@@ -70,7 +73,7 @@ type HobJob struct {
 	Mode                string  `toml:"mode"` // "heater" or "temperature"
 	Material            string  `toml:"material"`
 	ThicknessMM         float64 `toml:"thickness_mm"`
-	Emissivity          float64 `toml:"emissivity"`
+	Emissivity          float64 `toml:"emissivity"`                // top surface; 0 = from hob.material
 	TemperatureC        float64 `toml:"temperature_c"`             // temperature mode, uniform top temperature
 	TemperatureProfile  string  `toml:"temperature_profile"`       // temperature mode: CSV r_mm,t_c (overrides temperature_c)
 	HeaterPowerW        float64 `toml:"heater_power_w"`            // heater mode, rated zone power
@@ -87,7 +90,7 @@ type HobJob struct {
 
 // InterfaceJob sets the pan–hob contact and gas-gap models.
 type InterfaceJob struct {
-	Model            string  `toml:"model"`             // "mikic-plastic" or "mikic-elastic"
+	Model            string  `toml:"model"`             // "cmy-plastic" (old name "mikic-plastic" accepted) or "mikic-elastic"
 	PanSqUM          float64 `toml:"pan_sq_um"`         // RMS roughness of the pan's outer face
 	HobSqUM          float64 `toml:"hob_sq_um"`         // RMS roughness of the hob top
 	PanSlope         float64 `toml:"pan_slope"`         // mean absolute asperity slope; 0 = from the correlation
@@ -107,9 +110,9 @@ type WaterJob struct {
 	SteadyC         float64 `toml:"steady_c"`         // water temperature of the steady heat figures
 	Side            string  `toml:"side"`             // "fixed", "natural" or "boiling"
 	HWM2K           float64 `toml:"h_w_m2k"`          // water-side coefficient when side = "fixed"
-	RohsenowSurface string  `toml:"rohsenow_surface"` // a named surface sets C_sf and n (thermal.RohsenowSurfaces)
-	RohsenowCsf     float64 `toml:"rohsenow_csf"`
-	RohsenowN       float64 `toml:"rohsenow_n"`
+	RohsenowSurface string  `toml:"rohsenow_surface"` // a named surface sets C_sf and n (thermal.RohsenowSurfaces); "" = both from the keys below
+	RohsenowCsf     float64 `toml:"rohsenow_csf"`     // 0 = from rohsenow_surface
+	RohsenowN       float64 `toml:"rohsenow_n"`       // 0 = from rohsenow_surface
 	Emissivity      float64 `toml:"emissivity"`
 	Evaporation     bool    `toml:"evaporation"`
 }
@@ -152,21 +155,21 @@ func DefaultJob() Job {
 		Pan: PanJob{
 			MassKg:         1.0,
 			Layers:         []LayerJob{{Material: "alu-1050", ThicknessMM: 4}},
-			Emissivity:     0.3,
+			Emissivity:     0, // from the base's material
 			WallEmissivity: 0.3,
 		},
 		Hob: HobJob{
-			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0.9,
+			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0, // 0: from the material
 			TemperatureC: 250, HeaterPowerW: 1800, ZoneDiameterMM: 180, DownLossWM2K: 10,
 			LimiterC: 560, MarginMM: 30, RoomC: 23,
 		},
 		Interface: InterfaceJob{
-			Model: "mikic-plastic", PanSqUM: 1.2, HobSqUM: 0.9, SlopeCorrelation: "antonetti",
+			Model: contact.ModelPlastic, PanSqUM: 1.2, HobSqUM: 0.9, SlopeCorrelation: "antonetti",
 			MicrohardnessMPa: 600, PanAccommodation: 0.8, HobAccommodation: 0.8, GasPressureKPa: 101.325,
 		},
 		Water: WaterJob{
 			MassKg: 1.5, FromC: 15, ToC: 90, SteadyC: 60, Side: "fixed", HWM2K: 1000,
-			RohsenowCsf: 0.011, RohsenowN: 1.26, Emissivity: 0.95, Evaporation: false,
+			RohsenowSurface: thermal.DefaultRohsenowSurface, Emissivity: 0.95, Evaporation: false,
 		},
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
@@ -574,6 +577,10 @@ func (j *Job) Validate() error {
 	}
 	if j.Hob.Mode == "temperature" && !(j.Hob.TemperatureC > j.Water.SteadyC) && j.Hob.TemperatureProfile == "" {
 		add("hob.temperature_c", []string{"water.steady_c"}, "hob.temperature_c must be above water.steady_c")
+	}
+	if j.Water.RohsenowSurface == "" && (j.Water.RohsenowCsf == 0 || j.Water.RohsenowN == 0) {
+		add("water.rohsenow_surface", []string{"water.rohsenow_csf", "water.rohsenow_n"},
+			"water.rohsenow_surface = \"\" needs both water.rohsenow_csf and water.rohsenow_n set (or name a surface)")
 	}
 	if !(j.Interface.PanSqUM > 0 || j.Interface.HobSqUM > 0) {
 		add("interface.pan_sq_um", []string{"interface.hob_sq_um"}, "interface.pan_sq_um and interface.hob_sq_um cannot both be 0")
