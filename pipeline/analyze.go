@@ -299,7 +299,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		hobT = prob.Temperature.TopK
 	}
 	rep.Warnings = append(rep.Warnings, interfaceWarnings(scanField, hobT, solScan.TPanK, rep.Heat.SolidPct)...)
-	if job.Hob.Mode == "temperature" {
+	if job.Hob.Mode == "temperature" && !job.Hob.PowerLimited {
 		rated := job.Hob.RatedPowerDensityKW
 		if rated == 0 {
 			rated = job.Hob.HeaterPowerW / (math.Pi * math.Pow(job.Hob.ZoneDiameterMM/2e3, 2)) / 1e3

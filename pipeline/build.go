@@ -199,6 +199,9 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 			}
 		}
 		p.Temperature = &thermal.TemperatureHob{TopK: top}
+		if job.Hob.PowerLimited {
+			p.Temperature.RatedPowerW = ratedPowerW(job, math.Pi*baseD*baseD/4)
+		}
 	default:
 		glass, err := contact.LookupMaterial(lib, job.Hob.Material)
 		if err != nil {
@@ -226,6 +229,15 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 		p.Heater = h
 	}
 	return p, nil
+}
+
+// ratedPowerW is the temperature mode's rated power, W: the job's rated
+// power density over the base area baseM2 when set, else heater_power_w.
+func ratedPowerW(job Job, baseM2 float64) float64 {
+	if d := job.Hob.RatedPowerDensityKW; d > 0 {
+		return d * 1e3 * baseM2
+	}
+	return job.Hob.HeaterPowerW
 }
 
 func cellCentre(s *scan.Surface, k int) (x, y float64) { return s.X(k % s.Nx), s.Y(k / s.Nx) }

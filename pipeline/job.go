@@ -85,7 +85,8 @@ type HobJob struct {
 	MarginMM            float64 `toml:"margin_mm"`                 // heater mode, glass modelled beyond zone and base
 	RoomC               float64 `toml:"room_c"`                    // room air temperature
 	Profile             string  `toml:"profile"`                   // hob top height profile CSV r_mm,z_mm (when no hob scan)
-	RatedPowerDensityKW float64 `toml:"rated_power_density_kw_m2"` // temperature mode warning threshold; 0 = heater_power_w over the zone
+	RatedPowerDensityKW float64 `toml:"rated_power_density_kw_m2"` // temperature mode: rated power over the base area; 0 = heater_power_w
+	PowerLimited        bool    `toml:"power_limited"`             // temperature mode: the top holds its set point only while the rated power allows
 }
 
 // InterfaceJob sets the pan–hob contact and gas-gap models.
@@ -161,7 +162,7 @@ func DefaultJob() Job {
 		Hob: HobJob{
 			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0, // 0: from the material
 			TemperatureC: 250, HeaterPowerW: 1800, ZoneDiameterMM: 180, DownLossWM2K: 10,
-			LimiterC: 560, MarginMM: 30, RoomC: 23,
+			LimiterC: 560, MarginMM: 30, RoomC: 23, PowerLimited: true,
 		},
 		Interface: InterfaceJob{
 			Model: contact.ModelPlastic, PanSqUM: 1.2, HobSqUM: 0.9, SlopeCorrelation: "antonetti",

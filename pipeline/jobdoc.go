@@ -122,8 +122,11 @@ func jobKeys() []keySpec {
 		{key: "hob.room_c", doc: "room air temperature", unit: "°C", lo: -20, hi: 60,
 			why: "our bound: a kitchen or a lab", src: "ours"},
 		{key: "hob.profile", doc: "hob top height profile CSV r_mm,z_mm when there is no hob scan; relative to the job file's folder", path: true},
-		{key: "hob.rated_power_density_kw_m2", doc: "temperature mode warning threshold", unit: "kW/m²", lo: 1, hi: 1000, zero: "heater_power_w over the zone area",
-			why: "hob: a 1.8 kW, 180 mm zone gives 71 kW/m²"},
+		{key: "hob.rated_power_density_kw_m2", doc: "temperature mode: the hob's rated power as a density over the base area", unit: "kW/m²", lo: 1, hi: 1000,
+			zero: "the rated power is heater_power_w, whatever the base's size",
+			why:  "hob: a 1.8 kW, 180 mm zone gives 71 kW/m²"},
+		{key: "hob.power_limited", doc: "temperature mode: the top holds temperature_c only while the rated power allows, and beyond it the hob delivers its rated power and the top follows (a thermostat-controlled plate at full power), for scan and flat twin alike; false holds temperature_c whatever it costs (a bench fixture)",
+			src: "ours (DESIGN 5.3: a real zone cannot deliver more than its rating)"},
 
 		{key: "interface.model", doc: "solid-spot conductance correlation: \"cmy-plastic\" is Cooper–Mikic–Yovanovich with Yovanovich's (1982) fit 1.25·(P/H_c)^0.95; \"mikic-elastic\" is Mikic (1974) elastic, 1.54·(√2·P/(m·E′))^0.94; \"mikic-plastic\" is the old name of \"cmy-plastic\", still accepted",
 			oneOf: []string{contact.ModelPlastic, contact.ModelElastic, contact.ModelPlasticOld},

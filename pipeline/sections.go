@@ -176,6 +176,19 @@ func heatReport(job Job, s, f *thermal.Solution, baseAreaM2 float64) *HeatReport
 		}
 	}
 	hr.BaseMinC, hr.BaseMaxC = roundTo(lo-kelvin, 3), roundTo(hi-kelvin, 3)
+	if job.Hob.Mode == "temperature" {
+		hr.PowerLimited = &job.Hob.PowerLimited
+		if job.Hob.PowerLimited {
+			p := func(v float64) *float64 { v = roundTo(v, 3); return &v }
+			b := func(v bool) *bool { return &v }
+			hr.RatedPowerW = p(ratedPowerW(job, baseAreaM2))
+			hr.PowerLimitApplied, hr.FlatPowerLimitApplied = b(s.PowerLimited), b(f.PowerLimited)
+			hr.TopShiftK, hr.FlatTopShiftK = p(s.TopShiftK), p(f.TopShiftK)
+			if job.Hob.TemperatureProfile == "" {
+				hr.TopC, hr.FlatTopC = p(job.Hob.TemperatureC-s.TopShiftK), p(job.Hob.TemperatureC-f.TopShiftK)
+			}
+		}
+	}
 	if job.Hob.Mode == "heater" {
 		p := func(v float64) *float64 { v = roundTo(v, 3); return &v }
 		hr.GlassMaxC, hr.FlatGlassMaxC = p(s.GlassMaxK-kelvin), p(f.GlassMaxK-kelvin)

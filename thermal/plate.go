@@ -138,6 +138,14 @@ func (sv *Solver) SolveContext(ctx context.Context, p *Problem) (*Solution, erro
 	if err := validate(p); err != nil {
 		return nil, err
 	}
+	if p.Temperature != nil && p.Temperature.RatedPowerW > 0 {
+		return sv.solvePowerLimited(ctx, p)
+	}
+	return sv.solveOnce(ctx, p)
+}
+
+// solveOnce solves the validated problem p as it stands.
+func (sv *Solver) solveOnce(ctx context.Context, p *Problem) (*Solution, error) {
 	key := [3]int{p.Grid.Nx, p.Grid.Ny, 1}
 	if p.Heater != nil {
 		key[2] = 2
@@ -231,6 +239,9 @@ func validate(p *Problem) error {
 			if p.InBase[k] && !(v > 0 && !math.IsInf(v, 0)) {
 				return fmt.Errorf("thermal: hob top temperature %g K at cell %d", v, k)
 			}
+		}
+		if r := p.Temperature.RatedPowerW; !(r >= 0) || math.IsInf(r, 0) {
+			return fmt.Errorf("thermal: rated power %g W is negative or not finite", r)
 		}
 	default:
 		h := p.Heater

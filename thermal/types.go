@@ -63,7 +63,15 @@ func (m HobMode) String() string {
 
 // TemperatureHob is a hob whose top surface is held at a fixed temperature.
 type TemperatureHob struct {
-	TopK []float64 // hob top temperature per grid cell, K
+	TopK []float64 // hob top temperature per grid cell, K (the set point)
+
+	// RatedPowerW, when positive, is the most the hob can deliver, W: the
+	// top holds TopK while the heat into the pan stays within it, and
+	// beyond it the whole top field is lowered by one uniform amount until
+	// the heat into the pan equals RatedPowerW (a thermostat-controlled
+	// plate at full power). 0 holds TopK whatever it costs (a bench
+	// fixture).
+	RatedPowerW float64
 }
 
 // HeaterHob is a radiant heater zone under a glass(-ceramic) plate.
@@ -172,6 +180,11 @@ type Solution struct {
 	GlassMaxK      float64 // heater mode: highest glass temperature, K
 
 	WaterW float64 // heat into the water, W (equals PowerW at steady state)
+
+	// Temperature mode: PowerLimited says the rated power capped the heat
+	// and the top ran TopShiftK (K) below its set point everywhere.
+	PowerLimited bool
+	TopShiftK    float64
 
 	LinearIterations int     // total linear (PCG) iterations over all outer iterations
 	OuterIterations  int     // nonlinear outer iterations
