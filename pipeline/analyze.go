@@ -174,7 +174,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 
 	// Pad the grid to cover the glass of a heater zone (DESIGN 5.3).
 	offsetM := [2]float64{job.Pan.OffsetMM[0] / 1e3, job.Pan.OffsetMM[1] / 1e3}
-	heater := job.Hob.Mode == "heater"
+	heater := job.heated()
 	res.HeaterOn = heater
 	res.ZoneDiameterM, res.ZoneCentreM = job.Hob.ZoneDiameterMM/1e3, [2]float64{-offsetM[0], -offsetM[1]}
 	glassR := 0.0
@@ -276,11 +276,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Warnings = append(rep.Warnings, prefixed("flat twin: ", solFlat.Warnings)...)
 	rep.Heat = heatReport(job, solScan, solFlat, baseArea)
 	if heater {
-		glass, err := contact.LookupMaterial(lib, job.Hob.Material)
+		_, name, thickMM := hobPlate(job)
+		glass, err := contact.LookupMaterial(lib, name)
 		if err != nil {
 			return nil, err
 		}
-		perK := glass.DensityKgM3 * glass.CpJKgK * job.Hob.ThicknessMM / 1e3 * cellA // J/K per glass cell
+		perK := glass.DensityKgM3 * glass.CpJKgK * thickMM / 1e3 * cellA // J/K per glass cell
 		stored := func(s *thermal.Solution) *float64 {
 			e := 0.0
 			for _, t := range s.TGlassK {

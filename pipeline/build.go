@@ -67,9 +67,10 @@ func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, 
 	if err != nil {
 		return p, fmt.Errorf("job: pan.layers[0]: %w", err)
 	}
-	hobMat, err := contact.LookupMaterial(lib, job.Hob.Material)
+	hobKey, hobName, _ := hobPlate(job)
+	hobMat, err := contact.LookupMaterial(lib, hobName)
 	if err != nil {
-		return p, fmt.Errorf("job: hob.material: %w", err)
+		return p, fmt.Errorf("job: %s: %w", hobKey, err)
 	}
 	ij := job.Interface
 	if ij.Model == contact.ModelPlasticOld {
@@ -105,6 +106,20 @@ func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, 
 	}
 	return p, nil
 }
+
+// hobPlate returns the job key, material name and thickness (mm) of the
+// hob's top plate: the glass in heater and temperature modes, the heated
+// plate in solid-plate mode.
+func hobPlate(job Job) (key, material string, thicknessMM float64) {
+	if job.Hob.Mode == "solid-plate" {
+		return "hob.plate_material", job.Hob.PlateMaterial, job.Hob.PlateThicknessMM
+	}
+	return "hob.material", job.Hob.Material, job.Hob.ThicknessMM
+}
+
+// heated reports whether the job's hob is a heated plate solved with its
+// own nodes (heater and solid-plate modes).
+func (j *Job) heated() bool { return j.Hob.Mode != "temperature" }
 
 // orMaterial returns the job's value v, or the material's m when v is 0
 // (the job keys pan.emissivity and hob.emissivity: 0 = from the material).
@@ -203,21 +218,34 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 			p.Temperature.RatedPowerW = ratedPowerW(job, math.Pi*baseD*baseD/4)
 		}
 	default:
-		glass, err := contact.LookupMaterial(lib, job.Hob.Material)
+		key, name, thickMM := hobPlate(job)
+		glass, err := contact.LookupMaterial(lib, name)
 		if err != nil {
-			return nil, fmt.Errorf("job: hob.material: %w", err)
+			return nil, fmt.Errorf("job: %s: %w", key, err)
+		}
+		rodL := job.Hob.RodLengthMM / 1e3
+		if rodL == 0 {
+			rodL = job.Hob.ZoneDiameterMM / 1e3
 		}
 		h := &thermal.HeaterHob{
-			PowerW:              job.Hob.HeaterPowerW,
-			ZoneDiameterM:       job.Hob.ZoneDiameterMM / 1e3,
-			ZoneCentreM:         zoneCentre,
-			Glass:               thermal.Layer{ThicknessM: job.Hob.ThicknessMM / 1e3, ConductivityWMK: glass.ConductivityWMK},
-			GlassEmissivity:     orMaterial(job.Hob.Emissivity, glass.Emissivity),
-			GlassRadiusM:        glassRadiusM,
-			DownHWM2K:           job.Hob.DownLossWM2K,
-			RoomK:               roomK,
-			TransmittedFraction: job.Hob.TransmittedFraction,
-			LimiterK:            job.Hob.LimiterC + kelvin,
+			PowerW:          job.Hob.HeaterPowerW,
+			ZoneDiameterM:   job.Hob.ZoneDiameterMM / 1e3,
+			ZoneCentreM:     zoneCentre,
+			Glass:           thermal.Layer{ThicknessM: thickMM / 1e3, ConductivityWMK: glass.ConductivityWMK},
+			GlassEmissivity: orMaterial(job.Hob.Emissivity, glass.Emissivity),
+			GlassRadiusM:    glassRadiusM,
+			DownHWM2K:       job.Hob.DownLossWM2K,
+			RoomK:           roomK,
+			LimiterK:        job.Hob.LimiterC + kelvin,
+			Rod:             &thermal.Rod{OffsetM: job.Hob.RodOffsetMM / 1e3, LengthM: rodL},
+		}
+		if job.Hob.Mode == "solid-plate" {
+			// The regulator holds the plate at its setting; no radiation
+			// passes a metal plate.
+			h.LimiterK = job.Hob.TemperatureC + kelvin
+		} else {
+			h.Coil = &thermal.Coil{Emissivity: job.Hob.CoilEmissivity, BandLoM: job.Hob.GlassWindowLoUM * 1e-6,
+				BandHiM: job.Hob.GlassWindowHiUM * 1e-6, Tau: job.Hob.GlassTau}
 		}
 		prof, err := readProfile(job.Hob.PowerProfile, "relative")
 		if err != nil {

@@ -70,7 +70,7 @@ type PanJob struct {
 
 // HobJob describes the hob.
 type HobJob struct {
-	Mode                string  `toml:"mode"` // "heater" or "temperature"
+	Mode                string  `toml:"mode"` // "heater", "temperature" or "solid-plate"
 	Material            string  `toml:"material"`
 	ThicknessMM         float64 `toml:"thickness_mm"`
 	Emissivity          float64 `toml:"emissivity"`                // top surface; 0 = from hob.material
@@ -80,8 +80,15 @@ type HobJob struct {
 	ZoneDiameterMM      float64 `toml:"zone_diameter_mm"`          // heater mode
 	PowerProfile        string  `toml:"power_profile"`             // heater mode: CSV r_mm,relative (uniform if empty)
 	DownLossWM2K        float64 `toml:"down_loss_w_m2k"`           // heater mode, glass to room below
-	TransmittedFraction float64 `toml:"transmitted_fraction"`      // heater mode, sent straight through the glass
-	LimiterC            float64 `toml:"limiter_c"`                 // heater mode, glass temperature limit
+	CoilEmissivity      float64 `toml:"coil_emissivity"`           // heater mode: the glowing element
+	GlassTau            float64 `toml:"glass_tau"`                 // heater mode: glass transmittance in its near-infrared window
+	GlassWindowLoUM     float64 `toml:"glass_window_lo_um"`        // heater mode: window's lower edge
+	GlassWindowHiUM     float64 `toml:"glass_window_hi_um"`        // heater mode: window's upper edge
+	LimiterC            float64 `toml:"limiter_c"`                 // heater mode: rod limiter setting (mean glass underside along the rod)
+	RodOffsetMM         float64 `toml:"rod_offset_mm"`             // heater and solid-plate modes: rod's distance from the zone centre in y
+	RodLengthMM         float64 `toml:"rod_length_mm"`             // 0 = the zone diameter
+	PlateMaterial       string  `toml:"plate_material"`            // solid-plate mode: the heated plate
+	PlateThicknessMM    float64 `toml:"plate_thickness_mm"`        // solid-plate mode
 	MarginMM            float64 `toml:"margin_mm"`                 // heater mode, glass modelled beyond zone and base
 	RoomC               float64 `toml:"room_c"`                    // room air temperature
 	Profile             string  `toml:"profile"`                   // hob top height profile CSV r_mm,z_mm (when no hob scan)
@@ -163,6 +170,8 @@ func DefaultJob() Job {
 			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0, // 0: from the material
 			TemperatureC: 250, HeaterPowerW: 1800, ZoneDiameterMM: 180, DownLossWM2K: 10,
 			LimiterC: 560, MarginMM: 30, RoomC: 23, PowerLimited: true,
+			CoilEmissivity: 0.85, GlassTau: 0.65, GlassWindowLoUM: 0.7, GlassWindowHiUM: 2.7,
+			PlateMaterial: "cast-iron", PlateThicknessMM: 8,
 		},
 		Interface: InterfaceJob{
 			Model: contact.ModelPlastic, PanSqUM: 1.2, HobSqUM: 0.9, SlopeCorrelation: "antonetti",
@@ -575,6 +584,21 @@ func (j *Job) Validate() error {
 	if !(j.Hob.LimiterC > j.Hob.RoomC) {
 		add("hob.limiter_c", []string{"hob.room_c"}, "hob.limiter_c must be above hob.room_c (got %s and %s °C)",
 			fmtNum(j.Hob.LimiterC), fmtNum(j.Hob.RoomC))
+	}
+	if !(j.Hob.GlassWindowHiUM > j.Hob.GlassWindowLoUM) {
+		add("hob.glass_window_hi_um", []string{"hob.glass_window_lo_um"}, "hob.glass_window_hi_um must be above hob.glass_window_lo_um (got %s and %s µm)",
+			fmtNum(j.Hob.GlassWindowHiUM), fmtNum(j.Hob.GlassWindowLoUM))
+	}
+	if j.Hob.RodLengthMM != 0 && j.Hob.RodLengthMM > j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM {
+		add("hob.rod_length_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_length_mm = %s mm is longer than the zone and its margin (%s mm)",
+			fmtNum(j.Hob.RodLengthMM), fmtNum(j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM))
+	}
+	if math.Abs(j.Hob.RodOffsetMM) > j.Hob.ZoneDiameterMM/2 {
+		add("hob.rod_offset_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_offset_mm = %s mm puts the rod outside the zone (radius %s mm)",
+			fmtNum(j.Hob.RodOffsetMM), fmtNum(j.Hob.ZoneDiameterMM/2))
+	}
+	if j.Hob.Mode == "solid-plate" && !(j.Hob.TemperatureC > j.Water.SteadyC) {
+		add("hob.temperature_c", []string{"water.steady_c", "hob.mode"}, "hob.temperature_c (the solid plate's regulator setting) must be above water.steady_c")
 	}
 	if j.Hob.Mode == "temperature" && !(j.Hob.TemperatureC > j.Water.SteadyC) && j.Hob.TemperatureProfile == "" {
 		add("hob.temperature_c", []string{"water.steady_c"}, "hob.temperature_c must be above water.steady_c")

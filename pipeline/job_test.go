@@ -43,7 +43,7 @@ func TestReadJob(t *testing.T) {
 		{name: "syntax error has a position", in: "[water\nmass_kg = 1\n", wantErr: "job.toml:1:"},
 		{name: "wrong type", in: "[water]\nmass_kg = \"heavy\"\n", wantErr: "job.toml:2"},
 		{name: "negative mass", in: "[pan]\nmass_kg = -1\n", wantErr: "pan.mass_kg must be in [0.01, 50] kg (got -1"},
-		{name: "bad mode", in: "[hob]\nmode = \"gas\"\n", wantErr: `hob.mode must be one of "heater", "temperature" (got "gas")`},
+		{name: "bad mode", in: "[hob]\nmode = \"gas\"\n", wantErr: `hob.mode must be one of "heater", "temperature", "solid-plate" (got "gas")`},
 		{name: "reversed heat-up", in: "[water]\nfrom_c = 90\nto_c = 15\n", wantErr: "from_c < to_c"},
 		{name: "emissivity above 1", in: "[pan]\nemissivity = 1.2\n", wantErr: "pan.emissivity must be in 0 (from the first layer's material (gapflux materials)) or (0, 1]"},
 		{name: "old interface model name is an alias", in: "[interface]\nmodel = \"mikic-plastic\"\n",
@@ -191,7 +191,7 @@ func TestJobDocSourcesModellingDefaults(t *testing.T) {
 	// correlation inputs with 0 = computed, and numbers a lab measures.
 	skip := map[string]bool{"hob.temperature_profile": true, "hob.power_profile": true, "hob.profile": true,
 		"interface.pan_slope": true, "interface.hob_slope": true, "water.rohsenow_csf": true, "water.rohsenow_n": true,
-		"hob.rated_power_density_kw_m2": true, "hob.transmitted_fraction": true}
+		"hob.rated_power_density_kw_m2": true}
 	for _, s := range jobKeys() {
 		sec, _, _ := strings.Cut(s.key, ".")
 		if (sec == "hob" || sec == "interface" || sec == "water") && !skip[s.key] && s.src == "" {
