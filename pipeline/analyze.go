@@ -294,6 +294,13 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		}
 		rep.Heat.GlassHeatKJ, rep.Heat.FlatGlassHeatKJ = stored(solScan), stored(solFlat)
 	}
+	rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
+		func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) {
+			return solver.SolveContext(ctx, p)
+		})
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	}
 	fillGapConductance(rep.Gap, solScan, inBase)
 	hobT := solScan.TGlassK
 	if prob.Temperature != nil {

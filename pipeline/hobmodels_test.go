@@ -1,6 +1,8 @@
 package pipeline
 
 import (
+	"context"
+	"fmt"
 	"math"
 	"testing"
 
@@ -269,5 +271,66 @@ func TestDefaultFlatHeatup(t *testing.T) {
 	t.Logf("flat twin heat-up %.2f s, hand %.2f s (P̄ %.1f W, L̄ %.1f W)", hu.report.FlatTimeS, hand, pw, lw)
 	if d := math.Abs(hu.report.FlatTimeS-hand) / hand; d > 0.01 {
 		t.Errorf("flat twin heat-up %.2f s, hand estimate %.2f s (%.2f %% apart)", hu.report.FlatTimeS, hand, 100*d)
+	}
+}
+
+// TestSensitivity: the sensitivity table lists the settings of each mode,
+// and on a base with a poor interface (the limiter cycles) raising the
+// limiter or lowering the rated power lowers the loss, and lowering the
+// limiter raises it.
+func TestSensitivity(t *testing.T) {
+	for _, tc := range []struct {
+		mode    string
+		limited bool
+		want    []string
+	}{
+		{"heater", true, []string{"hob.limiter_c -40 K", "hob.limiter_c +40 K", "hob.glass_tau -0.1", "hob.glass_tau +0.1", "hob.heater_power_w -10 %", "hob.heater_power_w +10 %"}},
+		{"solid-plate", true, []string{"hob.temperature_c -40 K", "hob.temperature_c +40 K", "hob.heater_power_w -10 %", "hob.heater_power_w +10 %"}},
+		{"temperature", true, []string{"rated power -10 %", "rated power +10 %"}},
+		{"temperature", false, nil},
+	} {
+		job := DefaultJob()
+		job.Hob.Mode, job.Hob.PowerLimited = tc.mode, tc.limited
+		var got []string
+		for _, c := range sensitivityCases(job) {
+			got = append(got, c.setting+" "+c.change)
+		}
+		if fmt.Sprint(got) != fmt.Sprint(tc.want) {
+			t.Errorf("%s (limited %v): cases %q, want %q", tc.mode, tc.limited, got, tc.want)
+		}
+	}
+	job := DefaultJob()
+	p, flat := flatScene(t, job, 0.004)
+	var sv thermal.Solver
+	solve := func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) { return sv.SolveContext(ctx, p) }
+	poor := constH(60)
+	ps, pf := *p, *p
+	ps.Interface, pf.Interface = poor, flat
+	s, err := solve(t.Context(), &ps)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := solve(t.Context(), &pf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(s.DutyPct < 100) {
+		t.Fatalf("poor interface: duty %g %%, want the limiter cycling", s.DutyPct)
+	}
+	rows, err := sensitivity(t.Context(), job, p, poor, flat, s, f, solve)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != 6 {
+		t.Fatalf("%d rows", len(rows))
+	}
+	base := 100 * (1 - s.PowerW/f.PowerW)
+	for _, r := range rows {
+		if math.Abs(r.LossPct-r.DeltaLossPct-base) > 2e-3 {
+			t.Errorf("%s %s: loss %g, delta %g, base %g", r.Setting, r.Change, r.LossPct, r.DeltaLossPct, base)
+		}
+	}
+	if !(rows[0].DeltaLossPct > 0 && rows[1].DeltaLossPct < 0 && rows[4].DeltaLossPct < 0) {
+		t.Errorf("rows %+v", rows)
 	}
 }

@@ -200,13 +200,16 @@ type HeatReport struct {
 	// GlassHeatKJ is the sensible heat the modelled glass holds at its
 	// steady temperatures above the room, kJ (heater mode): energy the
 	// quasi-steady heat-up does not charge to the heater.
-	GlassHeatKJ      *float64 `json:"glass_heat_kj,omitempty"`
-	FlatGlassHeatKJ  *float64 `json:"flat_glass_heat_kj,omitempty"`
-	BaseMaxC         float64  `json:"base_max_c"`
-	BaseMinC         float64  `json:"base_min_c"`
-	SolverIterations int      `json:"solver_iterations"`
-	OuterIterations  int      `json:"outer_iterations"`
-	SolverResidual   float64  `json:"solver_rel_residual"`
+	GlassHeatKJ     *float64 `json:"glass_heat_kj,omitempty"`
+	FlatGlassHeatKJ *float64 `json:"flat_glass_heat_kj,omitempty"`
+	BaseMaxC        float64  `json:"base_max_c"`
+	BaseMinC        float64  `json:"base_min_c"`
+	// Sensitivity gives loss_pct with each hob setting that drives it
+	// moved (issue 9 part 6).
+	Sensitivity      []SensitivityRow `json:"sensitivity,omitempty"`
+	SolverIterations int              `json:"solver_iterations"`
+	OuterIterations  int              `json:"outer_iterations"`
+	SolverResidual   float64          `json:"solver_rel_residual"`
 }
 
 // HeatupReport holds the heat-up of the water load.
