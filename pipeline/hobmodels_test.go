@@ -302,7 +302,9 @@ func TestSensitivity(t *testing.T) {
 	job := DefaultJob()
 	p, flat := flatScene(t, job, 0.004)
 	var sv thermal.Solver
-	solve := func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) { return sv.SolveContext(ctx, p) }
+	solve := func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) {
+		return sv.SolveContext(ctx, p)
+	}
 	poor := constH(60)
 	ps, pf := *p, *p
 	ps.Interface, pf.Interface = poor, flat
@@ -332,5 +334,33 @@ func TestSensitivity(t *testing.T) {
 	}
 	if !(rows[0].DeltaLossPct > 0 && rows[1].DeltaLossPct < 0 && rows[4].DeltaLossPct < 0) {
 		t.Errorf("rows %+v", rows)
+	}
+}
+
+// TestCoarsen: the coarse grid keeps every f-th cell with its centre.
+func TestCoarsen(t *testing.T) {
+	g := thermal.Grid{Nx: 7, Ny: 5, CellM: 0.001, X0M: -0.003, Y0M: -0.002}
+	in := make([]bool, g.Len())
+	top := make([]float64, g.Len())
+	for k := range in {
+		in[k] = k%2 == 0
+		top[k] = float64(400 + k)
+	}
+	p := &thermal.Problem{Grid: g, InBase: in, Temperature: &thermal.TemperatureHob{TopK: top}}
+	q := coarsen(p, 2, constH(1), nil)
+	want := thermal.Grid{Nx: 3, Ny: 2, CellM: 0.002, X0M: -0.002, Y0M: -0.001}
+	if q.Grid != want {
+		t.Fatalf("grid %+v, want %+v", q.Grid, want)
+	}
+	for k := range q.InBase {
+		x, y := q.Grid.CentreM(k)
+		i, j := int(math.Round((x-g.X0M)/g.CellM)), int(math.Round((y-g.Y0M)/g.CellM))
+		fk := j*g.Nx + i
+		if q.InBase[k] != in[fk] || q.Temperature.TopK[k] != top[fk] {
+			t.Errorf("coarse cell %d at (%g, %g): base %v top %g, fine cell %d: %v %g", k, x, y, q.InBase[k], q.Temperature.TopK[k], fk, in[fk], top[fk])
+		}
+	}
+	if p.Grid != g || len(p.InBase) != g.Len() {
+		t.Error("coarsen changed its input")
 	}
 }
