@@ -60,23 +60,30 @@ const (
 // mode); the water side from p.Water at the inner-face temperature, solved
 // exactly in series with R_b/2.
 //
-// In TemperatureMode (p.Temperature set) the hob top is held at TopK. In
-// HeaterMode (p.Heater set) every cell within GlassRadiusM of the zone centre
-// also carries a glass node (mid-thickness) with lateral conductance k_g·t_g,
-// the heater's power (profile normalised to PowerW·duty·(1 − transmitted
-// fraction) over the cells whose centre lies in the zone), a downward loss
-// DownHWM2K·(T_g − RoomK) taken from the node, and upward either the series
-// t_g/(2k_g) + 1/h_int + R_b/2 to the pan node, or, where no pan covers the
-// glass, t_g/(2k_g) in series with natural convection and grey radiation to
-// the room. The convection coefficient is the McAdams plate average for a
+// In TemperatureMode (p.Temperature set) the hob top is held at TopK, or,
+// with a RatedPowerW, lowered uniformly until the heat into the pan is
+// the rated power when the set point would draw more (solvePowerLimited).
+// In HeaterMode (p.Heater set) every cell within GlassRadiusM of the zone
+// centre also carries a glass node (mid-thickness) with lateral
+// conductance k_g·t_g. The heater's power (profile normalised to
+// PowerW·duty over the cells whose centre lies in the zone) is split per
+// cell: the transmitted share (TransmittedFraction, or with a Coil the
+// outcome of the element's radiative balance and the glass window,
+// updated every outer iteration) passes the glass to the pan node above,
+// which absorbs PanEmissivity of it (the rest returns to the glass node),
+// or, with no pan above, leaves upward; the rest enters the glass
+// underside, which loses DownHWM2K·(T_u − RoomK) downward and passes the
+// remainder through t_g/(2k_g) to the node (an exact series elimination
+// of the underside). Upward the node links either through t_g/(2k_g) +
+// 1/h_int + R_b/2 to the pan node, or, where no pan covers the glass,
+// t_g/(2k_g) in series with natural convection and grey radiation to the
+// room. The convection coefficient is the McAdams plate average for a
 // hot plate facing up (AirPlateUpHWM2K, L = A/P = GlassRadiusM/2 of the
 // modelled glass disc), evaluated at the area-mean surface temperature of
-// the uncovered glass as the correlation intends; radiation is per cell. The
-// transmitted fraction of each
-// zone cell's power goes straight into the pan node above it; over cells with
-// no pan it is lost and counted nowhere but in a warning. When the glass
-// would pass LimiterK, the duty is lowered so that the hottest glass node sits
-// at LimiterK.
+// the uncovered glass as the correlation intends; radiation is per cell.
+// When the sensed temperature would pass LimiterK, the duty is lowered so
+// that it sits at LimiterK: the mean underside temperature along the Rod,
+// or without a Rod the hottest glass node.
 //
 // Nonlinear terms are handled by outer iterations: the interface h by
 // fixed-point (Picard) updates, in heater mode with the glass-side
