@@ -11,10 +11,17 @@ import (
 
 // Interface models (InterfaceParams.Model).
 const (
-	// ModelPlastic is the CMY plastic solid-spot model with Yovanovich's
-	// 1.25/0.95 constants (PlasticContactWM2K); the default.
-	ModelPlastic = "mikic-plastic"
-	// ModelElastic is Mikic's (1974) elastic model (ElasticContactWM2K).
+	// ModelPlastic is the Cooper–Mikic–Yovanovich plastic solid-spot
+	// model with Yovanovich's (1982) fit constants 1.25 and 0.95
+	// (PlasticContactWM2K); the default.
+	ModelPlastic = "cmy-plastic"
+	// ModelPlasticOld is the name ModelPlastic had before issue 9. It is
+	// still accepted and means exactly ModelPlastic (CanonicalModel); it
+	// is not Mikic's own 1974 plastic fit (1.13, 0.94).
+	ModelPlasticOld = "mikic-plastic"
+	// ModelElastic is Mikic's (1974) elastic model with the coefficient
+	// 1.54 of Yovanovich's reviews (Mikic printed 1.55) and exponent 0.94
+	// (ElasticContactWM2K).
 	ModelElastic = "mikic-elastic"
 )
 
@@ -79,7 +86,8 @@ type InterfaceParams struct {
 	HardnessPa float64 // contact microhardness H_c of the softer surface, Pa (plastic model)
 	EPrimePa   float64 // effective elastic modulus E′, Pa (elastic model)
 
-	// Model is ModelPlastic (also when empty) or ModelElastic.
+	// Model is ModelPlastic (also when empty, or ModelPlasticOld) or
+	// ModelElastic.
 	Model string
 
 	// Thermal accommodation coefficients of the gas on the hob and the pan.
@@ -139,7 +147,7 @@ func (p *InterfaceParams) Validate() error {
 		}
 	}
 	switch p.Model {
-	case "", ModelPlastic:
+	case "", ModelPlastic, ModelPlasticOld:
 		if !(p.HardnessPa > 0) || math.IsInf(p.HardnessPa, 1) {
 			return bad("HardnessPa", p.HardnessPa, "> 0")
 		}
@@ -163,6 +171,17 @@ func (p *InterfaceParams) Validate() error {
 		return bad("Gamma", p.Gamma, "> 1")
 	}
 	return nil
+}
+
+// CanonicalModel returns the current name of an interface model name:
+// ModelPlastic for "", ModelPlastic and the old alias ModelPlasticOld, the
+// name itself otherwise.
+func CanonicalModel(name string) string {
+	switch name {
+	case "", ModelPlasticOld:
+		return ModelPlastic
+	}
+	return name
 }
 
 // Band holds what the load sets for the whole contact band.

@@ -432,3 +432,24 @@ func BenchmarkContactPressure(b *testing.B) {
 		ContactPressure(f.GapM, inBase, 0.25e-6, 24.5, 1.5e-6)
 	}
 }
+
+// TestModelAlias checks that the old name of the CMY plastic model gives
+// the same band as the new one, and that the names map (issue 9 part 4).
+func TestModelAlias(t *testing.T) {
+	for _, tc := range []struct{ in, want string }{
+		{"", ModelPlastic}, {ModelPlasticOld, ModelPlastic}, {ModelPlastic, ModelPlastic}, {ModelElastic, ModelElastic},
+	} {
+		if got := CanonicalModel(tc.in); got != tc.want {
+			t.Errorf("CanonicalModel(%q) = %q, want %q", tc.in, got, tc.want)
+		}
+	}
+	p := DefaultInterfaceParams()
+	q := p
+	q.Model = ModelPlasticOld
+	if err := q.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	if a, b := p.Band(500), q.Band(500); a != b {
+		t.Errorf("band with %q = %+v, with %q = %+v", ModelPlastic, a, ModelPlasticOld, b)
+	}
+}

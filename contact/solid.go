@@ -18,8 +18,9 @@ const (
 //
 // kSWMK is the harmonic-mean conductivity (W/(m·K)), slope the combined mean
 // absolute slope, sigmaM the combined RMS roughness (m) and ratio the
-// relative pressure P/H_c (PHYSICS-REFERENCES.md 1.2). DESIGN.md 5.2 names
-// this model "mikic-plastic"; Mikic's own 1974 plastic fit is 1.13·(P/H)^0.94.
+// relative pressure P/H_c (PHYSICS-REFERENCES.md 1.2). It is
+// ModelPlastic ("cmy-plastic"; the old name "mikic-plastic" is an alias):
+// Mikic's own 1974 plastic fit is 1.13·(P/H_e)^0.94, a different model.
 // The fit holds for 1e-6 ≤ P/H_c ≤ 2e-2; outside, this evaluates the power
 // law as is. It returns 0 for ratio ≤ 0.
 func PlasticContactWM2K(kSWMK, slope, sigmaM, ratio float64) float64 {

@@ -175,7 +175,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 
 	// Pad the grid to cover the glass of a heater zone (DESIGN 5.3).
 	offsetM := [2]float64{job.Pan.OffsetMM[0] / 1e3, job.Pan.OffsetMM[1] / 1e3}
-	heater := job.Hob.Mode == "heater"
+	heater := job.heated()
 	res.HeaterOn = heater
 	res.ZoneDiameterM, res.ZoneCentreM = job.Hob.ZoneDiameterMM/1e3, [2]float64{-offsetM[0], -offsetM[1]}
 	glassR := 0.0
@@ -277,11 +277,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Warnings = append(rep.Warnings, prefixed("flat twin: ", solFlat.Warnings)...)
 	rep.Heat = heatReport(job, solScan, solFlat, baseArea)
 	if heater {
-		glass, err := contact.LookupMaterial(lib, job.Hob.Material)
+		_, name, thickMM := hobPlate(job)
+		glass, err := contact.LookupMaterial(lib, name)
 		if err != nil {
 			return nil, err
 		}
-		perK := glass.DensityKgM3 * glass.CpJKgK * job.Hob.ThicknessMM / 1e3 * cellA // J/K per glass cell
+		perK := glass.DensityKgM3 * glass.CpJKgK * thickMM / 1e3 * cellA // J/K per glass cell
 		stored := func(s *thermal.Solution) *float64 {
 			e := 0.0
 			for _, t := range s.TGlassK {
@@ -294,13 +295,20 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		}
 		rep.Heat.GlassHeatKJ, rep.Heat.FlatGlassHeatKJ = stored(solScan), stored(solFlat)
 	}
+	rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
+		func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) {
+			return solver.SolveContext(ctx, p)
+		})
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	}
 	fillGapConductance(rep.Gap, solScan, inBase)
 	hobT := solScan.TGlassK
 	if prob.Temperature != nil {
 		hobT = prob.Temperature.TopK
 	}
 	rep.Warnings = append(rep.Warnings, interfaceWarnings(scanField, hobT, solScan.TPanK, rep.Heat.SolidPct)...)
-	if job.Hob.Mode == "temperature" {
+	if job.Hob.Mode == "temperature" && !job.Hob.PowerLimited {
 		rated := job.Hob.RatedPowerDensityKW
 		if rated == 0 {
 			rated = job.Hob.HeaterPowerW / (math.Pi * math.Pow(job.Hob.ZoneDiameterMM/2e3, 2)) / 1e3

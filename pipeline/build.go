@@ -67,11 +67,15 @@ func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, 
 	if err != nil {
 		return p, fmt.Errorf("job: pan.layers[0]: %w", err)
 	}
-	hobMat, err := contact.LookupMaterial(lib, job.Hob.Material)
+	hobKey, hobName, _ := hobPlate(job)
+	hobMat, err := contact.LookupMaterial(lib, hobName)
 	if err != nil {
-		return p, fmt.Errorf("job: hob.material: %w", err)
+		return p, fmt.Errorf("job: %s: %w", hobKey, err)
 	}
 	ij := job.Interface
+	if ij.Model == contact.ModelPlasticOld {
+		ij.Model = contact.ModelPlastic // the old name, an alias
+	}
 	corr, err := contact.ParseSlopeCorrelation(ij.SlopeCorrelation)
 	if err != nil {
 		return p, fmt.Errorf("job: interface.slope_correlation: %w", err)
@@ -94,13 +98,36 @@ func interfaceParams(job Job, lib []contact.Material) (contact.InterfaceParams, 
 		Accommodation2: ij.PanAccommodation,
 		GasPressurePa:  ij.GasPressureKPa * 1e3,
 		Gamma:          1.4,
-		Emissivity1:    job.Hob.Emissivity,
-		Emissivity2:    job.Pan.Emissivity,
+		Emissivity1:    orMaterial(job.Hob.Emissivity, hobMat.Emissivity),
+		Emissivity2:    orMaterial(job.Pan.Emissivity, panMat.Emissivity),
 	}
 	if err := p.Validate(); err != nil {
 		return p, fmt.Errorf("job: %w", err)
 	}
 	return p, nil
+}
+
+// hobPlate returns the job key, material name and thickness (mm) of the
+// hob's top plate: the glass in heater and temperature modes, the heated
+// plate in solid-plate mode.
+func hobPlate(job Job) (key, material string, thicknessMM float64) {
+	if job.Hob.Mode == "solid-plate" {
+		return "hob.plate_material", job.Hob.PlateMaterial, job.Hob.PlateThicknessMM
+	}
+	return "hob.material", job.Hob.Material, job.Hob.ThicknessMM
+}
+
+// heated reports whether the job's hob is a heated plate solved with its
+// own nodes (heater and solid-plate modes).
+func (j *Job) heated() bool { return j.Hob.Mode != "temperature" }
+
+// orMaterial returns the job's value v, or the material's m when v is 0
+// (the job keys pan.emissivity and hob.emissivity: 0 = from the material).
+func orMaterial(v, m float64) float64 {
+	if v == 0 {
+		return m
+	}
+	return v
 }
 
 // baseLayers converts the job's pan layers.
@@ -122,15 +149,27 @@ func waterSide(job Job, diameterM float64) thermal.WaterSide {
 	case "natural":
 		return thermal.NaturalWater{DiameterM: diameterM}
 	case "boiling":
-		csf, n := job.Water.RohsenowCsf, job.Water.RohsenowN
-		for _, sf := range thermal.RohsenowSurfaces() {
-			if sf.Name == job.Water.RohsenowSurface {
-				csf, n = sf.Csf, sf.N
-			}
-		}
+		csf, n := rohsenow(job.Water)
 		return thermal.BoilingWater{Csf: csf, N: n, DiameterM: diameterM}
 	}
 	return thermal.FixedWater{HWM2K: job.Water.HWM2K}
+}
+
+// rohsenow returns the Rohsenow C_sf and n of the job: those of the named
+// surface, each replaced by rohsenow_csf or rohsenow_n when that is set.
+func rohsenow(w WaterJob) (csf, n float64) {
+	for _, sf := range thermal.RohsenowSurfaces() {
+		if sf.Name == w.RohsenowSurface {
+			csf, n = sf.Csf, sf.N
+		}
+	}
+	if w.RohsenowCsf != 0 {
+		csf = w.RohsenowCsf
+	}
+	if w.RohsenowN != 0 {
+		n = w.RohsenowN
+	}
+	return csf, n
 }
 
 // plateProblem builds the plate problem of the job on the surface's grid,
@@ -148,12 +187,16 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 	}
 	baseD = 2 * math.Sqrt(baseD/math.Pi)
 	p := &thermal.Problem{
-		Grid:          thermal.Grid{Nx: s.Nx, Ny: s.Ny, CellM: s.CellM, X0M: s.X0M, Y0M: s.Y0M},
-		InBase:        inBase,
-		BaseLayers:    layers,
-		Water:         waterSide(job, baseD),
-		PanEmissivity: job.Pan.Emissivity,
+		Grid:       thermal.Grid{Nx: s.Nx, Ny: s.Ny, CellM: s.CellM, X0M: s.X0M, Y0M: s.Y0M},
+		InBase:     inBase,
+		BaseLayers: layers,
+		Water:      waterSide(job, baseD),
 	}
+	panMat, err := contact.LookupMaterial(lib, job.Pan.Layers[0].Material)
+	if err != nil {
+		return nil, fmt.Errorf("job: pan.layers[0]: %w", err)
+	}
+	p.PanEmissivity = orMaterial(job.Pan.Emissivity, panMat.Emissivity)
 	roomK := job.Hob.RoomC + kelvin
 	zoneCentre := [2]float64{-offsetM[0], -offsetM[1]}
 	switch job.Hob.Mode {
@@ -171,22 +214,38 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 			}
 		}
 		p.Temperature = &thermal.TemperatureHob{TopK: top}
+		if job.Hob.PowerLimited {
+			p.Temperature.RatedPowerW = ratedPowerW(job, math.Pi*baseD*baseD/4)
+		}
 	default:
-		glass, err := contact.LookupMaterial(lib, job.Hob.Material)
+		key, name, thickMM := hobPlate(job)
+		glass, err := contact.LookupMaterial(lib, name)
 		if err != nil {
-			return nil, fmt.Errorf("job: hob.material: %w", err)
+			return nil, fmt.Errorf("job: %s: %w", key, err)
+		}
+		rodL := job.Hob.RodLengthMM / 1e3
+		if rodL == 0 {
+			rodL = job.Hob.ZoneDiameterMM / 1e3
 		}
 		h := &thermal.HeaterHob{
-			PowerW:              job.Hob.HeaterPowerW,
-			ZoneDiameterM:       job.Hob.ZoneDiameterMM / 1e3,
-			ZoneCentreM:         zoneCentre,
-			Glass:               thermal.Layer{ThicknessM: job.Hob.ThicknessMM / 1e3, ConductivityWMK: glass.ConductivityWMK},
-			GlassEmissivity:     job.Hob.Emissivity,
-			GlassRadiusM:        glassRadiusM,
-			DownHWM2K:           job.Hob.DownLossWM2K,
-			RoomK:               roomK,
-			TransmittedFraction: job.Hob.TransmittedFraction,
-			LimiterK:            job.Hob.LimiterC + kelvin,
+			PowerW:          job.Hob.HeaterPowerW,
+			ZoneDiameterM:   job.Hob.ZoneDiameterMM / 1e3,
+			ZoneCentreM:     zoneCentre,
+			Glass:           thermal.Layer{ThicknessM: thickMM / 1e3, ConductivityWMK: glass.ConductivityWMK},
+			GlassEmissivity: orMaterial(job.Hob.Emissivity, glass.Emissivity),
+			GlassRadiusM:    glassRadiusM,
+			DownHWM2K:       job.Hob.DownLossWM2K,
+			RoomK:           roomK,
+			LimiterK:        job.Hob.LimiterC + kelvin,
+			Rod:             &thermal.Rod{OffsetM: job.Hob.RodOffsetMM / 1e3, LengthM: rodL},
+		}
+		if job.Hob.Mode == "solid-plate" {
+			// The regulator holds the plate at its setting; no radiation
+			// passes a metal plate.
+			h.LimiterK = job.Hob.TemperatureC + kelvin
+		} else {
+			h.Coil = &thermal.Coil{Emissivity: job.Hob.CoilEmissivity, BandLoM: job.Hob.GlassWindowLoUM * 1e-6,
+				BandHiM: job.Hob.GlassWindowHiUM * 1e-6, Tau: job.Hob.GlassTau}
 		}
 		prof, err := readProfile(job.Hob.PowerProfile, "relative")
 		if err != nil {
@@ -198,6 +257,15 @@ func plateProblem(job Job, lib []contact.Material, s *scan.Surface, inBase []boo
 		p.Heater = h
 	}
 	return p, nil
+}
+
+// ratedPowerW is the temperature mode's rated power, W: the job's rated
+// power density over the base area baseM2 when set, else heater_power_w.
+func ratedPowerW(job Job, baseM2 float64) float64 {
+	if d := job.Hob.RatedPowerDensityKW; d > 0 {
+		return d * 1e3 * baseM2
+	}
+	return job.Hob.HeaterPowerW
 }
 
 func cellCentre(s *scan.Surface, k int) (x, y float64) { return s.X(k % s.Nx), s.Y(k / s.Nx) }

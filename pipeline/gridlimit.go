@@ -18,7 +18,7 @@ type gridPlan struct {
 // when not known yet: the glass grid is then a lower bound).
 func (j *Job) planGrids(radiusM float64) gridPlan {
 	p := gridPlan{baseHalfM: radiusM}
-	if j.Hob.Mode == "heater" {
+	if j.heated() {
 		off := math.Hypot(j.Pan.OffsetMM[0], j.Pan.OffsetMM[1]) / 1e3
 		p.glassHalfM = off + glassRadiusM(j, off, radiusM)
 	}

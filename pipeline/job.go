@@ -14,6 +14,9 @@ import (
 	"strconv"
 	"strings"
 
+	"gapflux/contact"
+	"gapflux/thermal"
+
 	"github.com/pelletier/go-toml/v2"
 	"github.com/pelletier/go-toml/v2/unstable"
 )
@@ -59,7 +62,7 @@ type PanJob struct {
 	MassKg          float64    `toml:"mass_kg"`
 	CpJKgK          float64    `toml:"cp_j_kgk"` // 0 = from the first base layer's material
 	Layers          []LayerJob `toml:"layers"`
-	Emissivity      float64    `toml:"emissivity"`
+	Emissivity      float64    `toml:"emissivity"`        // outer face of the base; 0 = from the first layer's material
 	InnerDiameterMM float64    `toml:"inner_diameter_mm"` // water surface and wetted wall; 0 = base diameter
 	WallEmissivity  float64    `toml:"wall_emissivity"`
 	CentreOfMassMM  [2]float64 `toml:"centre_of_mass_mm"` // in the base frame
@@ -68,27 +71,35 @@ type PanJob struct {
 
 // HobJob describes the hob.
 type HobJob struct {
-	Mode                string  `toml:"mode"` // "heater" or "temperature"
+	Mode                string  `toml:"mode"` // "heater", "temperature" or "solid-plate"
 	Material            string  `toml:"material"`
 	ThicknessMM         float64 `toml:"thickness_mm"`
-	Emissivity          float64 `toml:"emissivity"`
+	Emissivity          float64 `toml:"emissivity"`                // top surface; 0 = from hob.material
 	TemperatureC        float64 `toml:"temperature_c"`             // temperature mode, uniform top temperature
 	TemperatureProfile  string  `toml:"temperature_profile"`       // temperature mode: CSV r_mm,t_c (overrides temperature_c)
 	HeaterPowerW        float64 `toml:"heater_power_w"`            // heater mode, rated zone power
 	ZoneDiameterMM      float64 `toml:"zone_diameter_mm"`          // heater mode
 	PowerProfile        string  `toml:"power_profile"`             // heater mode: CSV r_mm,relative (uniform if empty)
 	DownLossWM2K        float64 `toml:"down_loss_w_m2k"`           // heater mode, glass to room below
-	TransmittedFraction float64 `toml:"transmitted_fraction"`      // heater mode, sent straight through the glass
-	LimiterC            float64 `toml:"limiter_c"`                 // heater mode, glass temperature limit
+	CoilEmissivity      float64 `toml:"coil_emissivity"`           // heater mode: the glowing element
+	GlassTau            float64 `toml:"glass_tau"`                 // heater mode: glass transmittance in its near-infrared window
+	GlassWindowLoUM     float64 `toml:"glass_window_lo_um"`        // heater mode: window's lower edge
+	GlassWindowHiUM     float64 `toml:"glass_window_hi_um"`        // heater mode: window's upper edge
+	LimiterC            float64 `toml:"limiter_c"`                 // heater mode: rod limiter setting (mean glass underside along the rod)
+	RodOffsetMM         float64 `toml:"rod_offset_mm"`             // heater and solid-plate modes: rod's distance from the zone centre in y
+	RodLengthMM         float64 `toml:"rod_length_mm"`             // 0 = the zone diameter
+	PlateMaterial       string  `toml:"plate_material"`            // solid-plate mode: the heated plate
+	PlateThicknessMM    float64 `toml:"plate_thickness_mm"`        // solid-plate mode
 	MarginMM            float64 `toml:"margin_mm"`                 // heater mode, glass modelled beyond zone and base
 	RoomC               float64 `toml:"room_c"`                    // room air temperature
 	Profile             string  `toml:"profile"`                   // hob top height profile CSV r_mm,z_mm (when no hob scan)
-	RatedPowerDensityKW float64 `toml:"rated_power_density_kw_m2"` // temperature mode warning threshold; 0 = heater_power_w over the zone
+	RatedPowerDensityKW float64 `toml:"rated_power_density_kw_m2"` // temperature mode: rated power over the base area; 0 = heater_power_w
+	PowerLimited        bool    `toml:"power_limited"`             // temperature mode: the top holds its set point only while the rated power allows
 }
 
 // InterfaceJob sets the pan–hob contact and gas-gap models.
 type InterfaceJob struct {
-	Model            string  `toml:"model"`             // "mikic-plastic" or "mikic-elastic"
+	Model            string  `toml:"model"`             // "cmy-plastic" (old name "mikic-plastic" accepted) or "mikic-elastic"
 	PanSqUM          float64 `toml:"pan_sq_um"`         // RMS roughness of the pan's outer face
 	HobSqUM          float64 `toml:"hob_sq_um"`         // RMS roughness of the hob top
 	PanSlope         float64 `toml:"pan_slope"`         // mean absolute asperity slope; 0 = from the correlation
@@ -108,9 +119,9 @@ type WaterJob struct {
 	SteadyC         float64 `toml:"steady_c"`         // water temperature of the steady heat figures
 	Side            string  `toml:"side"`             // "fixed", "natural" or "boiling"
 	HWM2K           float64 `toml:"h_w_m2k"`          // water-side coefficient when side = "fixed"
-	RohsenowSurface string  `toml:"rohsenow_surface"` // a named surface sets C_sf and n (thermal.RohsenowSurfaces)
-	RohsenowCsf     float64 `toml:"rohsenow_csf"`
-	RohsenowN       float64 `toml:"rohsenow_n"`
+	RohsenowSurface string  `toml:"rohsenow_surface"` // a named surface sets C_sf and n (thermal.RohsenowSurfaces); "" = both from the keys below
+	RohsenowCsf     float64 `toml:"rohsenow_csf"`     // 0 = from rohsenow_surface
+	RohsenowN       float64 `toml:"rohsenow_n"`       // 0 = from rohsenow_surface
 	Emissivity      float64 `toml:"emissivity"`
 	Evaporation     bool    `toml:"evaporation"`
 }
@@ -153,21 +164,23 @@ func DefaultJob() Job {
 		Pan: PanJob{
 			MassKg:         1.0,
 			Layers:         []LayerJob{{Material: "alu-1050", ThicknessMM: 4}},
-			Emissivity:     0.3,
+			Emissivity:     0, // from the base's material
 			WallEmissivity: 0.3,
 		},
 		Hob: HobJob{
-			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0.9,
+			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0, // 0: from the material
 			TemperatureC: 250, HeaterPowerW: 1800, ZoneDiameterMM: 180, DownLossWM2K: 10,
-			LimiterC: 560, MarginMM: 30, RoomC: 23,
+			LimiterC: 560, MarginMM: 30, RoomC: 23, PowerLimited: true,
+			CoilEmissivity: 0.85, GlassTau: 0.65, GlassWindowLoUM: 0.7, GlassWindowHiUM: 2.7,
+			PlateMaterial: "cast-iron", PlateThicknessMM: 8,
 		},
 		Interface: InterfaceJob{
-			Model: "mikic-plastic", PanSqUM: 1.2, HobSqUM: 0.9, SlopeCorrelation: "antonetti",
+			Model: contact.ModelPlastic, PanSqUM: 1.2, HobSqUM: 0.9, SlopeCorrelation: "antonetti",
 			MicrohardnessMPa: 600, PanAccommodation: 0.8, HobAccommodation: 0.8, GasPressureKPa: 101.325,
 		},
 		Water: WaterJob{
 			MassKg: 1.5, FromC: 15, ToC: 90, SteadyC: 60, Side: "fixed", HWM2K: 1000,
-			RohsenowCsf: 0.011, RohsenowN: 1.26, Emissivity: 0.95, Evaporation: false,
+			RohsenowSurface: thermal.DefaultRohsenowSurface, Emissivity: 0.95, Evaporation: false,
 		},
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
@@ -593,8 +606,27 @@ func (j *Job) crossProblems(bad map[string]bool) []*KeyError {
 		add("hob.limiter_c", []string{"hob.room_c"}, "hob.limiter_c must be above hob.room_c (got %s and %s °C)",
 			fmtNum(j.Hob.LimiterC), fmtNum(j.Hob.RoomC))
 	}
+	if !(j.Hob.GlassWindowHiUM > j.Hob.GlassWindowLoUM) {
+		add("hob.glass_window_hi_um", []string{"hob.glass_window_lo_um"}, "hob.glass_window_hi_um must be above hob.glass_window_lo_um (got %s and %s µm)",
+			fmtNum(j.Hob.GlassWindowHiUM), fmtNum(j.Hob.GlassWindowLoUM))
+	}
+	if j.Hob.RodLengthMM != 0 && j.Hob.RodLengthMM > j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM {
+		add("hob.rod_length_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_length_mm = %s mm is longer than the zone and its margin (%s mm)",
+			fmtNum(j.Hob.RodLengthMM), fmtNum(j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM))
+	}
+	if math.Abs(j.Hob.RodOffsetMM) > j.Hob.ZoneDiameterMM/2 {
+		add("hob.rod_offset_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_offset_mm = %s mm puts the rod outside the zone (radius %s mm)",
+			fmtNum(j.Hob.RodOffsetMM), fmtNum(j.Hob.ZoneDiameterMM/2))
+	}
+	if j.Hob.Mode == "solid-plate" && !(j.Hob.TemperatureC > j.Water.SteadyC) {
+		add("hob.temperature_c", []string{"water.steady_c", "hob.mode"}, "hob.temperature_c (the solid plate's regulator setting) must be above water.steady_c")
+	}
 	if j.Hob.Mode == "temperature" && !(j.Hob.TemperatureC > j.Water.SteadyC) && j.Hob.TemperatureProfile == "" {
 		add("hob.temperature_c", []string{"water.steady_c"}, "hob.temperature_c must be above water.steady_c")
+	}
+	if j.Water.RohsenowSurface == "" && (j.Water.RohsenowCsf == 0 || j.Water.RohsenowN == 0) {
+		add("water.rohsenow_surface", []string{"water.rohsenow_csf", "water.rohsenow_n"},
+			"water.rohsenow_surface = \"\" needs both water.rohsenow_csf and water.rohsenow_n set (or name a surface)")
 	}
 	if !(j.Interface.PanSqUM > 0 || j.Interface.HobSqUM > 0) {
 		add("interface.pan_sq_um", []string{"interface.hob_sq_um"}, "interface.pan_sq_um and interface.hob_sq_um cannot both be 0")

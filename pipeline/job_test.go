@@ -7,6 +7,8 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+
+	"gapflux/contact"
 )
 
 func TestDefaultJobTOMLDecodesToDefaultJob(t *testing.T) {
@@ -41,9 +43,9 @@ func TestReadJob(t *testing.T) {
 		{name: "syntax error has a position", in: "[water\nmass_kg = 1\n", wantErr: "job.toml:1:"},
 		{name: "wrong type", in: "[water]\nmass_kg = \"heavy\"\n", wantErr: "job.toml:2"},
 		{name: "negative mass", in: "[pan]\nmass_kg = -1\n", wantErr: "pan.mass_kg must be in [0.01, 50] kg (got -1"},
-		{name: "bad mode", in: "[hob]\nmode = \"gas\"\n", wantErr: `hob.mode must be one of "heater", "temperature" (got "gas")`},
+		{name: "bad mode", in: "[hob]\nmode = \"gas\"\n", wantErr: `hob.mode must be one of "heater", "temperature", "solid-plate" (got "gas")`},
 		{name: "reversed heat-up", in: "[water]\nfrom_c = 90\nto_c = 15\n", wantErr: "from_c < to_c"},
-		{name: "emissivity above 1", in: "[pan]\nemissivity = 1.2\n", wantErr: "pan.emissivity must be in (0, 1]"},
+		{name: "emissivity above 1", in: "[pan]\nemissivity = 1.2\n", wantErr: "or in (0, 1] (got 1.2"},
 		{name: "no layers", in: "[pan]\nlayers = []\n", wantErr: "at least one layer"},
 		{name: "named boiling surface", in: "[water]\nside = \"boiling\"\nrohsenow_surface = \"stainless-mech-polished\"\n",
 			check: func(j Job) bool { return j.Water.RohsenowSurface == "stainless-mech-polished" }},
@@ -230,5 +232,68 @@ func TestGridPlanFits(t *testing.T) {
 				t.Errorf("check: %v, want ok = %v", err, tc.ok)
 			}
 		})
+	}
+}
+
+// TestHobModelDefaults checks the sourced defaults of issue 9 part 4: the
+// Rohsenow constants for water (Incropera, 6th ed., Table 10.1 and eq.
+// 10.5: polished copper C_sf = 0.0128 with n = 1.0), the emissivities
+// taken from the material library unless the job sets them, and the old
+// interface model name mapping to the CMY plastic model.
+func TestHobModelDefaults(t *testing.T) {
+	lib := contact.Materials()
+	tests := []struct {
+		name           string
+		edit           func(*Job)
+		csf, n         float64
+		panEps, hobEps float64
+		model          string
+	}{
+		{"defaults", func(*Job) {}, 0.0128, 1.0, 0.09, 0.90, contact.ModelPlastic},
+		{"named surface", func(j *Job) { j.Water.RohsenowSurface = "stainless-mech-polished" }, 0.0132, 1.0, 0.09, 0.90, contact.ModelPlastic},
+		{"csf override keeps n", func(j *Job) { j.Water.RohsenowCsf = 0.011 }, 0.011, 1.0, 0.09, 0.90, contact.ModelPlastic},
+		{"job emissivities", func(j *Job) { j.Pan.Emissivity, j.Hob.Emissivity = 0.3, 0.85 }, 0.0128, 1.0, 0.3, 0.85, contact.ModelPlastic},
+		{"steel base", func(j *Job) { j.Pan.Layers = []LayerJob{{Material: "ss-304", ThicknessMM: 1}} }, 0.0128, 1.0, 0.16, 0.90, contact.ModelPlastic},
+		{"old model name", func(j *Job) { j.Interface.Model = contact.ModelPlasticOld }, 0.0128, 1.0, 0.09, 0.90, contact.ModelPlastic},
+		{"elastic", func(j *Job) { j.Interface.Model = contact.ModelElastic }, 0.0128, 1.0, 0.09, 0.90, contact.ModelElastic},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			j := DefaultJob()
+			tc.edit(&j)
+			if err := j.Validate(); err != nil {
+				t.Fatal(err)
+			}
+			csf, n := rohsenow(j.Water)
+			if csf != tc.csf || n != tc.n {
+				t.Errorf("Rohsenow C_sf, n = %g, %g, want %g, %g", csf, n, tc.csf, tc.n)
+			}
+			ip, err := interfaceParams(j, lib)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if ip.Emissivity2 != tc.panEps || ip.Emissivity1 != tc.hobEps || ip.Model != tc.model {
+				t.Errorf("emissivities pan %g hob %g model %q, want %g %g %q", ip.Emissivity2, ip.Emissivity1, ip.Model, tc.panEps, tc.hobEps, tc.model)
+			}
+		})
+	}
+}
+
+// TestJobDocSourcesModellingDefaults checks that every modelling-choice
+// key of [hob], [interface] and [water] says where its default comes from.
+func TestJobDocSourcesModellingDefaults(t *testing.T) {
+	// Keys that are not modelling choices: file names, ranges of the
+	// correlation inputs with 0 = computed, and numbers a lab measures.
+	skip := map[string]bool{"hob.temperature_profile": true, "hob.power_profile": true, "hob.profile": true,
+		"interface.pan_slope": true, "interface.hob_slope": true, "water.rohsenow_csf": true, "water.rohsenow_n": true,
+		"hob.rated_power_density_kw_m2": true}
+	for _, s := range jobKeys() {
+		sec, _, _ := strings.Cut(s.key, ".")
+		if (sec == "hob" || sec == "interface" || sec == "water") && !skip[s.key] && s.src == "" {
+			t.Errorf("%s: its default has no stated source (a source, or \"ours\")", s.key)
+		}
+	}
+	if !strings.Contains(DefaultJobTOML, "default from: Incropera, 6th ed., Table 10.1") {
+		t.Error("gapflux job does not print the Rohsenow default's source")
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 
+	"gapflux/contact"
 	"gapflux/thermal"
 )
 
@@ -30,6 +31,10 @@ type keySpec struct {
 
 	oneOf []string // allowed values of a string key; nil = any
 	path  bool     // a file relative to the job file's folder
+
+	// src says where a modelling choice's default comes from: a source
+	// (author, year, table) or "ours" (our invented scenario, DESIGN 5.3a).
+	src string
 }
 
 // Size caps of the text files a job reads (our bounds: a job file of every
@@ -80,8 +85,9 @@ func jobKeys() []keySpec {
 			why: "cookware: from a small aluminium pan (0.3 kg) to a large cast-iron pot (under 20 kg)"},
 		{key: "pan.cp_j_kgk", doc: "specific heat of the pan", unit: "J/(kg·K)", lo: 100, hi: 2500, zero: "from the first base layer's material",
 			why: "physical: solid metals and ceramics lie between about 130 (lead) and 1900 (beryllium) J/(kg·K)"},
-		{key: "pan.emissivity", doc: "outer face of the base, toward the hob", lo: 0, hi: 1, loOpen: true, why: frac},
-		{key: "pan.wall_emissivity", doc: "outer wall, for heat-up losses", lo: 0, hi: 1, loOpen: true, why: frac},
+		{key: "pan.emissivity", doc: "outer face of the base, toward the hob", lo: 0, hi: 1, loOpen: true, zero: "from the first layer's material (gapflux materials)", why: frac,
+			src: "the material library (alu-1050: 0.09, commercial aluminium sheet, Omega emissivity table)"},
+		{key: "pan.wall_emissivity", doc: "outer wall, for heat-up losses", lo: 0, hi: 1, loOpen: true, why: frac, src: "ours (a dulled aluminium wall)"},
 		{key: "pan.inner_diameter_mm", doc: "open water surface and wetted wall", unit: "mm", lo: 10, hi: 1000, zero: "the base diameter",
 			why: "cookware: as grid.diameter_mm"},
 		{key: "pan.centre_of_mass_mm", doc: "centre of mass in the base frame, x and y", unit: "mm", lo: -500, hi: 500,
@@ -92,64 +98,94 @@ func jobKeys() []keySpec {
 		{key: "pan.layers.thickness_mm", doc: "layer thickness", unit: "mm", lo: 0.01, hi: 30,
 			why: "cookware: clad and impact-bonded layers are 0.3 to 10 mm; cast bases up to about 20 mm"},
 
-		{key: "hob.mode", doc: "\"heater\" (radiant zone under glass) or \"temperature\" (fixed top)", oneOf: []string{"heater", "temperature"}},
-		{key: "hob.material", doc: "hob plate material (heater mode: the glass)"},
+		{key: "hob.mode", doc: "\"heater\" (radiant zone under glass-ceramic), \"temperature\" (a top held at temperature_c, see power_limited) or \"solid-plate\" (a heated plate of plate_material and plate_thickness_mm whose regulator holds temperature_c along the rod, at most heater_power_w)",
+			oneOf: []string{"heater", "temperature", "solid-plate"},
+			src:   "ours (the common radiant glass-ceramic zone, DESIGN 5.3a)"},
+		{key: "hob.material", doc: "hob plate material (heater mode: the glass)", src: "ours (black LAS glass-ceramic)"},
 		{key: "hob.thickness_mm", doc: "hob plate thickness", unit: "mm", lo: 0.5, hi: 30,
-			why: "hob: glass-ceramic tops are 3 to 6 mm, cast-iron plates up to about 20 mm"},
-		{key: "hob.emissivity", doc: "glass top", lo: 0, hi: 1, loOpen: true, why: frac},
+			why: "hob: glass-ceramic tops are 3 to 6 mm, cast-iron plates up to about 20 mm", src: "ours (a common 4 mm top)"},
+		{key: "hob.emissivity", doc: "top surface", lo: 0, hi: 1, loOpen: true, zero: "from hob.material (gapflux materials)", why: frac,
+			src: "the material library (glass-ceramic: 0.90 ± 0.05, estimate from glass tables)"},
 		{key: "hob.temperature_c", doc: "temperature mode: uniform top temperature", unit: "°C", lo: 1, hi: 800,
-			why: "hob: glass-ceramic tops are rated to about 700 °C; must be above water.steady_c"},
+			why: "hob: glass-ceramic tops are rated to about 700 °C; must be above water.steady_c", src: "ours"},
 		{key: "hob.temperature_profile", doc: "temperature mode: CSV r_mm,t_c (overrides temperature_c); relative to the job file's folder", path: true},
 		{key: "hob.heater_power_w", doc: "heater mode: rated zone power", unit: "W", lo: 10, hi: 10000,
-			why: "hob: household zones are 1 to 4 kW"},
+			why: "hob: household zones are 1 to 4 kW", src: "ours (a common 180 mm zone's rating)"},
 		{key: "hob.zone_diameter_mm", doc: "heater mode: zone diameter", unit: "mm", lo: 20, hi: 600,
-			why: "hob: zones are about 120 to 300 mm across"},
+			why: "hob: zones are about 120 to 300 mm across", src: "ours"},
 		{key: "hob.power_profile", doc: "heater mode: CSV r_mm,relative power density (\"\" = uniform); relative to the job file's folder", path: true},
 		{key: "hob.down_loss_w_m2k", doc: "heater mode: glass to the room below", unit: "W/(m²·K)", lo: 0, hi: 1000,
-			why: "our bound: 1000 W/(m²·K) is forced liquid cooling, not a hob"},
-		{key: "hob.transmitted_fraction", doc: "heater mode: share of heater power radiated straight to the pan", lo: 0, hi: 1, hiOpen: true, why: frac},
-		{key: "hob.limiter_c", doc: "heater mode: the heater cycles to hold the glass at this", unit: "°C", lo: 50, hi: 900,
-			why: "hob: limiters hold glass-ceramic near 500 to 600 °C; must be above room_c"},
+			why: "our bound: 1000 W/(m²·K) is forced liquid cooling, not a hob", src: "ours (an insulated heater dish)"},
+		{key: "hob.coil_emissivity", doc: "heater mode: total emissivity of the glowing element; its temperature follows from its radiative balance with the glass underside", lo: 0, hi: 1, loOpen: true, why: frac,
+			src: "ours (oxidised Fe-Cr-Al and Ni-Cr resistance alloys are about 0.7 to 0.9, from memory)"},
+		{key: "hob.glass_tau", doc: "heater mode: transmittance of the glass in its near-infrared window (the element's radiation in the window passes to the pan; the glass is opaque beyond)", lo: 0, hi: 1, hiOpen: true, why: frac,
+			src: "US patent 10562807 B2 (SCHOTT, priority 2008), claim 1: a dyed 4 mm glass-ceramic cooktop transmits 50 to 80 % at 1600 nm; 0.65 is the midpoint (ours)"},
+		{key: "hob.glass_window_lo_um", doc: "heater mode: lower edge of the glass's near-infrared window", unit: "µm", lo: 0.2, hi: 20,
+			why: "physical: from the ultraviolet to the far infrared",
+			src: "US patent 4057670 (Schott, 1977): the glass-ceramic transmits from 0.7 µm; a dyed top passes under 2.5 % of visible light (US 10562807 B2)"},
+		{key: "hob.glass_window_hi_um", doc: "heater mode: upper edge of the glass's near-infrared window", unit: "µm", lo: 0.2, hi: 20,
+			why: "physical: as glass_window_lo_um; above it",
+			src: "ours: the hydroxyl absorption band of silicate glasses near 2.7 µm (from memory); US 4057670 states transmission up to 5 µm, set 5 for that reading"},
+		{key: "hob.limiter_c", doc: "heater mode: the rod limiter cycles the heater to hold the mean glass-underside temperature along its rod at this", unit: "°C", lo: 50, hi: 900,
+			why: "hob: limiters hold glass-ceramic near 500 to 600 °C; must be above room_c", src: "ours"},
+		{key: "hob.rod_offset_mm", doc: "heater and solid-plate modes: the limiter's (regulator's) rod runs parallel to x at this distance in y from the zone centre", unit: "mm", lo: -300, hi: 300,
+			why: "hob: the rod lies in the zone", src: "ours (across the zone centre)"},
+		{key: "hob.rod_length_mm", doc: "heater and solid-plate modes: rod length, centred on the zone centre in x", unit: "mm", lo: 1, hi: 1000, zero: "the zone diameter",
+			why: "hob: a rod spans the zone", src: "ours (a rod across the whole zone)"},
+		{key: "hob.plate_material", doc: "solid-plate mode: the heated plate's material", src: "cast iron: the material library's grey cast iron (k = 46 W/(m·K), ρ = 7200 kg/m³, c_p = 450 J/(kg·K), ε = 0.64; MakeItFrom.com, EN-GJL-150 / ASTM A48 class 20)"},
+		{key: "hob.plate_thickness_mm", doc: "solid-plate mode: the heated plate's thickness", unit: "mm", lo: 1, hi: 50,
+			why: "hob: solid plates are cast about 5 to 15 mm thick over their heating spiral", src: "ours"},
 		{key: "hob.margin_mm", doc: "heater mode: glass modelled beyond the zone and the base", unit: "mm", lo: 0, hi: 300,
-			why: "hob: a hob top is under 1 m across; limits.max_cells bounds the glass grid as well"},
+			why: "hob: a hob top is under 1 m across; limits.max_cells bounds the glass grid as well", src: "ours"},
 		{key: "hob.room_c", doc: "room air temperature", unit: "°C", lo: -20, hi: 60,
-			why: "our bound: a kitchen or a lab"},
+			why: "our bound: a kitchen or a lab", src: "ours"},
 		{key: "hob.profile", doc: "hob top height profile CSV r_mm,z_mm when there is no hob scan; relative to the job file's folder", path: true},
-		{key: "hob.rated_power_density_kw_m2", doc: "temperature mode warning threshold", unit: "kW/m²", lo: 1, hi: 1000, zero: "heater_power_w over the zone area",
-			why: "hob: a 1.8 kW, 180 mm zone gives 71 kW/m²"},
+		{key: "hob.rated_power_density_kw_m2", doc: "temperature mode: the hob's rated power as a density over the base area", unit: "kW/m²", lo: 1, hi: 1000,
+			zero: "the rated power is heater_power_w, whatever the base's size",
+			why:  "hob: a 1.8 kW, 180 mm zone gives 71 kW/m²"},
+		{key: "hob.power_limited", doc: "temperature mode: the top holds temperature_c only while the rated power allows, and beyond it the hob delivers its rated power and the top follows (a thermostat-controlled plate at full power), for scan and flat twin alike; false holds temperature_c whatever it costs (a bench fixture)",
+			src: "ours (DESIGN 5.3: a real zone cannot deliver more than its rating)"},
 
-		{key: "interface.model", doc: "solid-spot conductance correlation", oneOf: []string{"mikic-plastic", "mikic-elastic"}},
+		{key: "interface.model", doc: "solid-spot conductance correlation: \"cmy-plastic\" is Cooper–Mikic–Yovanovich with Yovanovich's (1982) fit 1.25·(P/H_c)^0.95; \"mikic-elastic\" is Mikic (1974) elastic, 1.54·(√2·P/(m·E′))^0.94; \"mikic-plastic\" is the old name of \"cmy-plastic\", still accepted",
+			oneOf: []string{contact.ModelPlastic, contact.ModelElastic, contact.ModelPlasticOld},
+			src:   "Yovanovich (2005), IEEE Trans. CPT 28(2), recommends the CMY plastic model for first loading of rough metal contacts"},
 		{key: "interface.pan_sq_um", doc: "RMS roughness Sq of the pan's outer face", unit: "µm", lo: 0, hi: 50,
-			why: "cookware: turned, ground and blasted bases are about 0.1 to 25 µm; pan_sq_um and hob_sq_um cannot both be 0"},
+			why: "cookware: turned, ground and blasted bases are about 0.1 to 25 µm; pan_sq_um and hob_sq_um cannot both be 0", src: "ours (a turned base)"},
 		{key: "interface.hob_sq_um", doc: "RMS roughness Sq of the hob top", unit: "µm", lo: 0, hi: 50,
-			why: "hob: glass-ceramic tops are under 1 µm, cast-iron plates a few µm"},
+			why: "hob: glass-ceramic tops are under 1 µm, cast-iron plates a few µm", src: "ours"},
 		{key: "interface.pan_slope", doc: "mean absolute asperity slope of the pan", lo: 0.001, hi: 1, zero: "from the correlation",
 			why: "physical: machined metal surfaces lie between about 0.01 and 0.4"},
 		{key: "interface.hob_slope", doc: "mean absolute asperity slope of the hob", lo: 0.001, hi: 1, zero: "from the correlation",
 			why: "physical: as pan_slope"},
-		{key: "interface.slope_correlation", doc: "σ–slope correlation when a slope is 0", oneOf: []string{"antonetti", "lambert-fletcher", "tanner-fahoum"}},
+		{key: "interface.slope_correlation", doc: "σ–slope correlation when a slope is 0", oneOf: []string{"antonetti", "lambert-fletcher", "tanner-fahoum"},
+			src: "Antonetti, Whittle & Simons (1991), m = 0.125·(σ/µm)^0.402"},
 		{key: "interface.microhardness_mpa", doc: "contact microhardness of the softer surface", unit: "MPa", lo: 10, hi: 20000,
-			why: "physical: from soft lead (about 50 MPa) to hardened steel and ceramics (about 10 GPa)"},
-		{key: "interface.pan_accommodation", doc: "thermal accommodation coefficient of air on the pan", lo: 0, hi: 1, loOpen: true, why: frac},
-		{key: "interface.hob_accommodation", doc: "and on the hob", lo: 0, hi: 1, loOpen: true, why: frac},
+			why: "physical: from soft lead (about 50 MPa) to hardened steel and ceramics (about 10 GPa)", src: "ours (a soft aluminium alloy's order of magnitude)"},
+		{key: "interface.pan_accommodation", doc: "thermal accommodation coefficient of air on the pan", lo: 0, hi: 1, loOpen: true, why: frac,
+			src: "ours (air on engineering metal surfaces is about 0.8 to 0.9, from memory)"},
+		{key: "interface.hob_accommodation", doc: "and on the hob", lo: 0, hi: 1, loOpen: true, why: frac, src: "ours, as pan_accommodation"},
 		{key: "interface.gas_pressure_kpa", doc: "pressure of the air in the gap", unit: "kPa", lo: 1, hi: 1000,
-			why: "our bound: from a vacuum test chamber to ten atmospheres"},
+			why: "our bound: from a vacuum test chamber to ten atmospheres", src: "standard atmosphere, 101.325 kPa"},
 
 		{key: "water.mass_kg", doc: "water load", unit: "kg", lo: 0.01, hi: 50,
-			why: "cookware: up to a large stockpot's fill"},
-		{key: "water.from_c", doc: "heat-up start", unit: "°C", lo: 0.5, hi: 100, why: tempOK + "; below to_c"},
-		{key: "water.to_c", doc: "heat-up end", unit: "°C", lo: 0.5, hi: 100, why: tempOK},
-		{key: "water.steady_c", doc: "water temperature of the steady heat figures", unit: "°C", lo: 0.5, hi: 100, why: tempOK},
-		{key: "water.side", doc: "\"fixed\" (h_w_m2k), \"natural\" (natural convection) or \"boiling\" (Rohsenow above 100 °C)", oneOf: []string{"fixed", "natural", "boiling"}},
+			why: "cookware: up to a large stockpot's fill", src: "ours"},
+		{key: "water.from_c", doc: "heat-up start", unit: "°C", lo: 0.5, hi: 100, why: tempOK + "; below to_c", src: "ours"},
+		{key: "water.to_c", doc: "heat-up end", unit: "°C", lo: 0.5, hi: 100, why: tempOK, src: "ours"},
+		{key: "water.steady_c", doc: "water temperature of the steady heat figures", unit: "°C", lo: 0.5, hi: 100, why: tempOK, src: "ours"},
+		{key: "water.side", doc: "\"fixed\" (h_w_m2k), \"natural\" (natural convection) or \"boiling\" (Rohsenow above 100 °C)", oneOf: []string{"fixed", "natural", "boiling"},
+			src: "ours (a fixed h makes the loss figure independent of a boiling correlation's ±100 % scatter)"},
 		{key: "water.h_w_m2k", doc: "water-side coefficient when side = \"fixed\"", unit: "W/(m²·K)", lo: 1, hi: 100000,
-			why: "physical: free convection of liquids is 50 to 1000, boiling up to 100000 W/(m²·K) (Incropera, Table 1.1)"},
-		{key: "water.rohsenow_surface", doc: "a named surface sets C_sf and n (Incropera Table 10.1; Cao 2009)", oneOf: append([]string{""}, surfaces...)},
-		{key: "water.rohsenow_csf", doc: "Rohsenow surface-fluid coefficient C_sf (oxidised aluminium by default)", lo: 0.001, hi: 0.1,
+			why: "physical: free convection of liquids is 50 to 1000, boiling up to 100000 W/(m²·K) (Incropera, Table 1.1)",
+			src: "ours (the top of Incropera Table 1.1's free-convection range for liquids)"},
+		{key: "water.rohsenow_surface", doc: "water side \"boiling\": a named surface sets C_sf and n; \"\" = both from rohsenow_csf and rohsenow_n",
+			oneOf: append([]string{""}, surfaces...),
+			src:   "Incropera, 6th ed., Table 10.1 (after Vachon, Nix & Tanger 1968), polished copper, C_sf = 0.0128, n = 1.0; the table has no aluminium row, the choice of row is ours; \"aluminium-oxidised\" (0.011, n = 1.26) is Cao (2009), not Incropera"},
+		{key: "water.rohsenow_csf", doc: "Rohsenow surface-fluid coefficient C_sf", lo: 0.001, hi: 0.1, zero: "from rohsenow_surface",
 			why: "physical: published water-surface values are 0.0027 to 0.013 (Incropera Table 10.1)"},
-		{key: "water.rohsenow_n", doc: "Rohsenow exponent n", lo: 0.5, hi: 3,
-			why: "physical: 1.0 for water, 1.7 for other liquids (Incropera Table 10.1)"},
-		{key: "water.emissivity", doc: "open water surface", lo: 0, hi: 1, loOpen: true, why: frac},
-		{key: "water.evaporation", doc: "latent heat lost from the open surface (heat-mass analogy; overstates near 90 °C)"},
+		{key: "water.rohsenow_n", doc: "Rohsenow Prandtl exponent n", lo: 0.5, hi: 3, zero: "from rohsenow_surface (1.0 for water on the Incropera rows)",
+			why: "physical: 1.0 for water, 1.7 for other liquids (Incropera eq. 10.5)"},
+		{key: "water.emissivity", doc: "open water surface", lo: 0, hi: 1, loOpen: true, why: frac, src: "ours (water is 0.95 to 0.96 in the infrared, from memory)"},
+		{key: "water.evaporation", doc: "latent heat lost from the open surface (heat-mass analogy; overstates near 90 °C)", src: "ours (off: the analogy overstates near 90 °C)"},
 
 		{key: "tolerances.concavity_min_pct", doc: "concavity below this share of the diameter fails (0 forbids a convex base)", unit: "%", lo: -5, hi: 5,
 			why: "our bound: 5 % is 10 mm on a 200 mm base"},
@@ -365,6 +401,9 @@ func keyComment(s keySpec, def reflect.Value, example bool) string {
 		if s.why != "" {
 			t += " (" + s.why + ")"
 		}
+		if s.src != "" {
+			t += "; default from: " + s.src
+		}
 	case reflect.String:
 		if s.oneOf != nil {
 			q := make([]string, len(s.oneOf))
@@ -373,8 +412,14 @@ func keyComment(s keySpec, def reflect.Value, example bool) string {
 			}
 			t += "; one of " + strings.Join(q, ", ")
 		}
+		if s.src != "" {
+			t += "; default from: " + s.src
+		}
 	case reflect.Bool:
 		t += "; true or false"
+		if s.src != "" {
+			t += "; default from: " + s.src
+		}
 	}
 	return t
 }

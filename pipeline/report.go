@@ -154,34 +154,66 @@ type GapReport struct {
 
 // HeatReport holds the steady heat figures against the flat twin.
 type HeatReport struct {
-	Mode              string   `json:"mode"`
-	WaterC            float64  `json:"water_c"`
-	PowerW            float64  `json:"power_w"`
-	FlatPowerW        float64  `json:"flat_power_w"`
-	LossPct           float64  `json:"loss_pct"`
-	MeanFluxKWM2      float64  `json:"mean_flux_kw_m2"`
-	FlatMeanFluxKWM2  float64  `json:"flat_mean_flux_kw_m2"`
-	SolidPct          float64  `json:"solid_pct"`
-	GasPct            float64  `json:"gas_pct"`
-	RadiationPct      float64  `json:"radiation_pct"`
-	TransmittedPct    float64  `json:"transmitted_pct"`
-	GlassMaxC         *float64 `json:"glass_max_c,omitempty"`
-	FlatGlassMaxC     *float64 `json:"flat_glass_max_c,omitempty"`
-	HeaterDutyPct     *float64 `json:"heater_duty_pct,omitempty"`
-	FlatHeaterDutyPct *float64 `json:"flat_heater_duty_pct,omitempty"`
-	HeaterW           *float64 `json:"heater_w,omitempty"`
-	DownLossW         *float64 `json:"down_loss_w,omitempty"`
-	UncoveredLossW    *float64 `json:"uncovered_glass_loss_w,omitempty"`
+	Mode             string  `json:"mode"`
+	WaterC           float64 `json:"water_c"`
+	PowerW           float64 `json:"power_w"`
+	FlatPowerW       float64 `json:"flat_power_w"`
+	LossPct          float64 `json:"loss_pct"`
+	MeanFluxKWM2     float64 `json:"mean_flux_kw_m2"`
+	FlatMeanFluxKWM2 float64 `json:"flat_mean_flux_kw_m2"`
+	SolidPct         float64 `json:"solid_pct"`
+	GasPct           float64 `json:"gas_pct"`
+	RadiationPct     float64 `json:"radiation_pct"`
+	// TransmittedPct is the share of the heater's power that passes the
+	// glass (heater mode; its first pass through the near-infrared
+	// window), TransmittedAbsorbedPct the share of the power into the pan
+	// that arrived that way (absorbed by the base).
+	TransmittedPct         float64 `json:"transmitted_pct"`
+	TransmittedAbsorbedPct float64 `json:"transmitted_absorbed_pct"`
+	// Temperature mode: PowerLimited says the rated power caps the hob
+	// (hob.power_limited); PowerLimitApplied and FlatPowerLimitApplied say
+	// it did, for the scan and the flat twin; TopC and FlatTopC are the top
+	// temperatures that resulted (uniform set point only), TopShiftK and
+	// FlatTopShiftK how far below the set point they ran.
+	PowerLimited          *bool    `json:"power_limited,omitempty"`
+	PowerLimitApplied     *bool    `json:"power_limit_applied,omitempty"`
+	FlatPowerLimitApplied *bool    `json:"flat_power_limit_applied,omitempty"`
+	RatedPowerW           *float64 `json:"rated_power_w,omitempty"`
+	TopC                  *float64 `json:"top_c,omitempty"`
+	FlatTopC              *float64 `json:"flat_top_c,omitempty"`
+	TopShiftK             *float64 `json:"top_shift_k,omitempty"`
+	FlatTopShiftK         *float64 `json:"flat_top_shift_k,omitempty"`
+	// Heater mode: the element temperature while on (CoilC) and the share
+	// passing the glass of the flat twin; the limiter's rod temperature
+	// (mean glass underside along it) of scan and flat twin (also
+	// solid-plate mode: the regulator's); radiation passing the glass
+	// beside the base, W.
+	CoilC              *float64 `json:"coil_c,omitempty"`
+	FlatCoilC          *float64 `json:"flat_coil_c,omitempty"`
+	FlatTransmittedPct *float64 `json:"flat_transmitted_pct,omitempty"`
+	RodC               *float64 `json:"rod_c,omitempty"`
+	FlatRodC           *float64 `json:"flat_rod_c,omitempty"`
+	TransmittedLostW   *float64 `json:"transmitted_past_base_w,omitempty"`
+	GlassMaxC          *float64 `json:"glass_max_c,omitempty"`
+	FlatGlassMaxC      *float64 `json:"flat_glass_max_c,omitempty"`
+	HeaterDutyPct      *float64 `json:"heater_duty_pct,omitempty"`
+	FlatHeaterDutyPct  *float64 `json:"flat_heater_duty_pct,omitempty"`
+	HeaterW            *float64 `json:"heater_w,omitempty"`
+	DownLossW          *float64 `json:"down_loss_w,omitempty"`
+	UncoveredLossW     *float64 `json:"uncovered_glass_loss_w,omitempty"`
 	// GlassHeatKJ is the sensible heat the modelled glass holds at its
 	// steady temperatures above the room, kJ (heater mode): energy the
 	// quasi-steady heat-up does not charge to the heater.
-	GlassHeatKJ      *float64 `json:"glass_heat_kj,omitempty"`
-	FlatGlassHeatKJ  *float64 `json:"flat_glass_heat_kj,omitempty"`
-	BaseMaxC         float64  `json:"base_max_c"`
-	BaseMinC         float64  `json:"base_min_c"`
-	SolverIterations int      `json:"solver_iterations"`
-	OuterIterations  int      `json:"outer_iterations"`
-	SolverResidual   float64  `json:"solver_rel_residual"`
+	GlassHeatKJ     *float64 `json:"glass_heat_kj,omitempty"`
+	FlatGlassHeatKJ *float64 `json:"flat_glass_heat_kj,omitempty"`
+	BaseMaxC        float64  `json:"base_max_c"`
+	BaseMinC        float64  `json:"base_min_c"`
+	// Sensitivity gives loss_pct with each hob setting that drives it
+	// moved (issue 9 part 6).
+	Sensitivity      []SensitivityRow `json:"sensitivity,omitempty"`
+	SolverIterations int              `json:"solver_iterations"`
+	OuterIterations  int              `json:"outer_iterations"`
+	SolverResidual   float64          `json:"solver_rel_residual"`
 }
 
 // HeatupReport holds the heat-up of the water load.

@@ -179,8 +179,9 @@ func heatReport(job Job, s, f *thermal.Solution, baseAreaM2 float64) *HeatReport
 		hr.GasPct = roundTo(100*s.GasW/tot, 4)
 		hr.RadiationPct = roundTo(100*s.RadW/tot, 4)
 	}
+	hr.TransmittedPct = roundTo(100*s.TransmittedShare, 4)
 	if s.PowerW > 0 {
-		hr.TransmittedPct = roundTo(100*s.TransmittedW/s.PowerW, 4)
+		hr.TransmittedAbsorbedPct = roundTo(100*s.TransmittedW/s.PowerW, 4)
 	}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, t := range s.TPanK {
@@ -189,11 +190,30 @@ func heatReport(job Job, s, f *thermal.Solution, baseAreaM2 float64) *HeatReport
 		}
 	}
 	hr.BaseMinC, hr.BaseMaxC = roundTo(lo-kelvin, 3), roundTo(hi-kelvin, 3)
-	if job.Hob.Mode == "heater" {
+	if job.Hob.Mode == "temperature" {
+		hr.PowerLimited = &job.Hob.PowerLimited
+		if job.Hob.PowerLimited {
+			p := func(v float64) *float64 { v = roundTo(v, 3); return &v }
+			b := func(v bool) *bool { return &v }
+			hr.RatedPowerW = p(ratedPowerW(job, baseAreaM2))
+			hr.PowerLimitApplied, hr.FlatPowerLimitApplied = b(s.PowerLimited), b(f.PowerLimited)
+			hr.TopShiftK, hr.FlatTopShiftK = p(s.TopShiftK), p(f.TopShiftK)
+			if job.Hob.TemperatureProfile == "" {
+				hr.TopC, hr.FlatTopC = p(job.Hob.TemperatureC-s.TopShiftK), p(job.Hob.TemperatureC-f.TopShiftK)
+			}
+		}
+	}
+	if job.heated() {
 		p := func(v float64) *float64 { v = roundTo(v, 3); return &v }
 		hr.GlassMaxC, hr.FlatGlassMaxC = p(s.GlassMaxK-kelvin), p(f.GlassMaxK-kelvin)
 		hr.HeaterDutyPct, hr.FlatHeaterDutyPct = p(s.DutyPct), p(f.DutyPct)
 		hr.HeaterW, hr.DownLossW, hr.UncoveredLossW = p(s.HeaterW), p(s.DownLossW), p(s.UncoveredLossW)
+		hr.RodC, hr.FlatRodC = p(s.RodK-kelvin), p(f.RodK-kelvin)
+		hr.TransmittedLostW = p(s.TransmittedLostW)
+		if s.CoilK > 0 {
+			hr.CoilC, hr.FlatCoilC = p(s.CoilK-kelvin), p(f.CoilK-kelvin)
+			hr.FlatTransmittedPct = p(100 * f.TransmittedShare)
+		}
 	}
 	return hr
 }

@@ -19,9 +19,22 @@ const (
 	CsfNickel                  = 0.006
 	CsfPlatinum                = 0.0130
 	RohsenowNWater             = 1.0 // Prandtl exponent n for water (Incropera eq. 10.5)
+	// CsfAluminiumOxidised and RohsenowNAluminiumOxidised are a fit for
+	// water at 1 atm on oxidised aluminium quoted by a heat-transfer
+	// library's example from Cao (2009), Heat Transfer in Process
+	// Engineering [C]. n = 1.26 departs from the textbook n = 1.0 for
+	// water, and the pair is not in Incropera's table: offered as a named
+	// surface only, never the default.
 	CsfAluminiumOxidised       = 0.011
-	RohsenowNAluminiumOxidised = 1.26 // with CsfAluminiumOxidised: water at 1 atm on oxidised aluminium, Cao (2009), Heat Transfer in Process Engineering [C]
+	RohsenowNAluminiumOxidised = 1.26
 )
+
+// DefaultRohsenowSurface is the default water-side surface of the Rohsenow
+// correlation: polished copper, C_s,f = 0.0128 with n = 1.0 (Incropera,
+// 6th ed., Table 10.1 and eq. 10.5; the pairing of its Example 10.1, a pan
+// boiling water). Incropera's table has no aluminium row, so the choice of
+// the row for an aluminium pan is ours.
+const DefaultRohsenowSurface = "copper-polished"
 
 // Peak heat flux constants C of q″_max = C·h_fg·ρ_v·[σ·g·(ρ_l−ρ_v)/ρ_v²]^(1/4).
 const (
@@ -120,8 +133,9 @@ type RohsenowSurface struct {
 }
 
 // RohsenowSurfaces lists the pairings above by name, in a fixed order:
-// Incropera Table 10.1 (after Vachon, Nix & Tanger 1968) with n = 1 for
-// water, and oxidised aluminium after Cao (2009).
+// Incropera Table 10.1 (after Vachon, Nix & Tanger 1968) with n = 1.0 for
+// water, and last oxidised aluminium after Cao (2009) with its own n = 1.26
+// (not from Incropera's table).
 func RohsenowSurfaces() []RohsenowSurface {
 	return []RohsenowSurface{
 		{"copper-scored", CsfCopperScored, RohsenowNWater},

@@ -60,23 +60,30 @@ const (
 // mode); the water side from p.Water at the inner-face temperature, solved
 // exactly in series with R_b/2.
 //
-// In TemperatureMode (p.Temperature set) the hob top is held at TopK. In
-// HeaterMode (p.Heater set) every cell within GlassRadiusM of the zone centre
-// also carries a glass node (mid-thickness) with lateral conductance k_g·t_g,
-// the heater's power (profile normalised to PowerW·duty·(1 − transmitted
-// fraction) over the cells whose centre lies in the zone), a downward loss
-// DownHWM2K·(T_g − RoomK) taken from the node, and upward either the series
-// t_g/(2k_g) + 1/h_int + R_b/2 to the pan node, or, where no pan covers the
-// glass, t_g/(2k_g) in series with natural convection and grey radiation to
-// the room. The convection coefficient is the McAdams plate average for a
+// In TemperatureMode (p.Temperature set) the hob top is held at TopK, or,
+// with a RatedPowerW, lowered uniformly until the heat into the pan is
+// the rated power when the set point would draw more (solvePowerLimited).
+// In HeaterMode (p.Heater set) every cell within GlassRadiusM of the zone
+// centre also carries a glass node (mid-thickness) with lateral
+// conductance k_g·t_g. The heater's power (profile normalised to
+// PowerW·duty over the cells whose centre lies in the zone) is split per
+// cell: the transmitted share (TransmittedFraction, or with a Coil the
+// outcome of the element's radiative balance and the glass window,
+// updated every outer iteration) passes the glass to the pan node above,
+// which absorbs PanEmissivity of it (the rest returns to the glass node),
+// or, with no pan above, leaves upward; the rest enters the glass
+// underside, which loses DownHWM2K·(T_u − RoomK) downward and passes the
+// remainder through t_g/(2k_g) to the node (an exact series elimination
+// of the underside). Upward the node links either through t_g/(2k_g) +
+// 1/h_int + R_b/2 to the pan node, or, where no pan covers the glass,
+// t_g/(2k_g) in series with natural convection and grey radiation to the
+// room. The convection coefficient is the McAdams plate average for a
 // hot plate facing up (AirPlateUpHWM2K, L = A/P = GlassRadiusM/2 of the
 // modelled glass disc), evaluated at the area-mean surface temperature of
-// the uncovered glass as the correlation intends; radiation is per cell. The
-// transmitted fraction of each
-// zone cell's power goes straight into the pan node above it; over cells with
-// no pan it is lost and counted nowhere but in a warning. When the glass
-// would pass LimiterK, the duty is lowered so that the hottest glass node sits
-// at LimiterK.
+// the uncovered glass as the correlation intends; radiation is per cell.
+// When the sensed temperature would pass LimiterK, the duty is lowered so
+// that it sits at LimiterK: the mean underside temperature along the Rod,
+// or without a Rod the hottest glass node.
 //
 // Nonlinear terms are handled by outer iterations: the interface h by
 // fixed-point (Picard) updates, in heater mode with the glass-side
@@ -138,6 +145,14 @@ func (sv *Solver) SolveContext(ctx context.Context, p *Problem) (*Solution, erro
 	if err := validate(p); err != nil {
 		return nil, err
 	}
+	if p.Temperature != nil && p.Temperature.RatedPowerW > 0 {
+		return sv.solvePowerLimited(ctx, p)
+	}
+	return sv.solveOnce(ctx, p)
+}
+
+// solveOnce solves the validated problem p as it stands.
+func (sv *Solver) solveOnce(ctx context.Context, p *Problem) (*Solution, error) {
 	key := [3]int{p.Grid.Nx, p.Grid.Ny, 1}
 	if p.Heater != nil {
 		key[2] = 2
@@ -232,6 +247,9 @@ func validate(p *Problem) error {
 				return fmt.Errorf("thermal: hob top temperature %g K at cell %d", v, k)
 			}
 		}
+		if r := p.Temperature.RatedPowerW; !(r >= 0) || math.IsInf(r, 0) {
+			return fmt.Errorf("thermal: rated power %g W is negative or not finite", r)
+		}
 	default:
 		h := p.Heater
 		switch {
@@ -258,6 +276,22 @@ func validate(p *Problem) error {
 		}
 		if err := checkLayer(h.Glass); err != nil {
 			return fmt.Errorf("thermal: glass: %w", err)
+		}
+		if h.Coil != nil {
+			if err := h.Coil.validate(); err != nil {
+				return fmt.Errorf("thermal: %w", err)
+			}
+			if !(p.PanEmissivity > 0 && p.PanEmissivity <= 1) {
+				return fmt.Errorf("thermal: pan emissivity %g outside (0, 1] (it absorbs the radiation passing the glass)", p.PanEmissivity)
+			}
+		}
+		if r := h.Rod; r != nil {
+			if !(r.LengthM > 0) || math.IsInf(r.LengthM, 0) || !finite(r.OffsetM) {
+				return fmt.Errorf("thermal: limiter rod length %g m, offset %g m", r.LengthM, r.OffsetM)
+			}
+			if len(rodCells(p)) == 0 {
+				return fmt.Errorf("thermal: the limiter rod (offset %g m, length %g m) crosses no glass cell", r.OffsetM, r.LengthM)
+			}
 		}
 	}
 	return nil
@@ -295,9 +329,16 @@ type plate struct {
 	pan    []bool
 	glass  []bool // heater mode only
 
+	qZone  []float64 // heater power per unit duty over each zone cell, W
 	qHeat  []float64 // heater power per unit duty into each glass node, W
-	qTrans []float64 // transmitted power per unit duty into each pan node, W
-	qLost  float64   // transmitted power per unit duty missing the pan, W
+	qTrans []float64 // transmitted power per unit duty absorbed by each pan node, W
+	qLost  float64   // transmitted power per unit duty passing the glass beside the pan, W
+	qDown  float64   // heater power per unit duty lost downward from the underside directly, W
+	gIn    float64   // share of the underside's net power that enters the glass, 1/(1 + h_d·t_g/(2k_g))
+	hdEff  float64   // the node's downward conductance through half the glass, W/(m²·K)
+	share  float64   // transmitted share of the heater power
+	coil   CoilState // element state (Coil set)
+	rod    []int     // limiter rod cells (Rod set)
 
 	water    waterLaw
 	uncover  glassLaw
@@ -429,6 +470,7 @@ func reusePlate(p *Problem, old *plate) *plate {
 	s.bHeat = grow(prev.bHeat, 2*n)
 	s.qHeat = s.bHeat[n:]
 	s.qTrans = s.bHeat[:n]
+	s.qZone = grow(prev.qZone, n)
 	s.tsGlass = grow(prev.tsGlass, n)
 	s.gnRatio = grow(prev.gnRatio, n)
 	rz := h.ZoneDiameterM / 2
@@ -458,34 +500,150 @@ func reusePlate(p *Problem, old *plate) *plate {
 		}
 		if !(w >= 0) || math.IsInf(w, 0) {
 			// Reported by run.
-			s.qHeat[k] = math.NaN()
+			s.qZone[k] = math.NaN()
 			continue
 		}
-		s.qHeat[k] = w
+		s.qZone[k] = w
 		wsum += w
 	}
-	tau := h.TransmittedFraction
 	for k := 0; k < n; k++ {
-		if s.qHeat[k] == 0 {
-			continue
+		if s.qZone[k] != 0 && wsum > 0 {
+			s.qZone[k] *= h.PowerW / wsum
 		}
-		q := h.PowerW * s.qHeat[k] / wsum
-		s.qHeat[k] = q * (1 - tau)
-		if s.pan[k] {
-			s.qTrans[k] = q * tau
-		} else {
-			s.qLost += q * tau
-		}
-	}
-	for k := 0; k < n; k++ {
 		if s.glass[k] && !s.pan[k] {
 			s.nUncovered++
 		}
+	}
+	s.gIn = 1 / (1 + h.DownHWM2K*s.halfRg)
+	s.hdEff = h.DownHWM2K * s.gIn
+	s.share = h.TransmittedFraction
+	if h.Coil != nil {
+		s.share = 0 // set by updateCoil before the first assembly
+	}
+	s.fillHeat()
+	if h.Rod != nil {
+		s.rod = rodCells(p)
 	}
 	if s.limiterK > 0 {
 		s.t1 = grow(prev.t1, 2*n)
 	}
 	return s
+}
+
+// fillHeat splits each zone cell's heater power (per unit duty) at the
+// current transmitted share: the share passing the glass goes to the pan
+// node above (its absorbed part; with a Coil the rest returns to the glass
+// node) or, beside the pan, is lost upward; the rest enters the glass
+// underside, where gIn of it goes into the glass and the remainder down.
+func (s *plate) fillHeat() {
+	h := s.p.Heater
+	eps := 1.0
+	if h.Coil != nil {
+		eps = s.p.PanEmissivity
+	}
+	s.qLost, s.qDown = 0, 0
+	for k := 0; k < s.n; k++ {
+		q := s.qZone[k]
+		s.qTrans[k], s.qHeat[k] = 0, 0
+		if q == 0 || math.IsNaN(q) {
+			s.qHeat[k] = q
+			continue
+		}
+		tr := q * s.share
+		under := q - tr
+		s.qHeat[k] = under * s.gIn
+		s.qDown += under * (1 - s.gIn)
+		if s.pan[k] {
+			s.qTrans[k] = tr * eps
+			s.qHeat[k] += tr * (1 - eps)
+		} else {
+			s.qLost += tr
+		}
+	}
+}
+
+// undersideK returns the underside temperature, K, of glass cell k with its
+// node at tg and the heater at duty d: the underside takes the heater
+// power not transmitted, q_u, and loses h_d(T_u − T_room) downward, so
+// T_u = T_g + R·(q_u − h_d(T_g − T_room))/(1 + h_d R) with R = t_g/(2k_g).
+func (s *plate) undersideK(k int, tg, d float64) float64 {
+	h := s.p.Heater
+	qu := d * s.qZone[k] * (1 - s.share) / s.areaM2
+	return tg + s.halfRg*s.gIn*(qu-h.DownHWM2K*(tg-h.RoomK))
+}
+
+// rodMeanK returns the mean underside temperature along the limiter rod of
+// the state t at duty d, K.
+func (s *plate) rodMeanK(t []float64, d float64) float64 {
+	var sum float64
+	for _, k := range s.rod {
+		sum += s.undersideK(k, t[s.n+k], d)
+	}
+	return sum / float64(len(s.rod))
+}
+
+// sensedK returns the limiter's sensed temperature of the state t at the
+// current duty: the rod's mean underside temperature, or the hottest glass
+// node without a rod.
+func (s *plate) sensedK(t []float64) float64 {
+	if s.rod != nil {
+		return s.rodMeanK(t, s.duty)
+	}
+	return s.glassMax(t)
+}
+
+// updateCoil sets the element state and the transmitted share from the
+// zone-mean underside temperature of the current state (Coil.Balance at
+// the zone's rated power density: the element's state while on) and
+// refills the heater sources when the share moved.
+func (s *plate) updateCoil() error {
+	h := s.p.Heater
+	var sum float64
+	nz := 0
+	for k, q := range s.qZone {
+		if q > 0 {
+			sum += s.undersideK(k, s.t[s.n+k], s.duty)
+			nz++
+		}
+	}
+	if nz == 0 {
+		return nil
+	}
+	st, err := h.Coil.Balance(h.PowerW/(float64(nz)*s.areaM2), sum/float64(nz), h.GlassEmissivity)
+	if err != nil {
+		return err
+	}
+	s.coil = st
+	if st.Share != s.share {
+		s.share = st.Share
+		s.fillHeat()
+	}
+	return nil
+}
+
+// rodCells returns the glass cells a heater's limiter rod senses: those of
+// the grid row nearest to the rod whose centres lie within half its length
+// of the zone centre in x.
+func rodCells(p *Problem) []int {
+	h, g := p.Heater, p.Grid
+	if h == nil || h.Rod == nil {
+		return nil
+	}
+	j := int(math.Round((h.ZoneCentreM[1] + h.Rod.OffsetM - g.Y0M) / g.CellM))
+	if j < 0 || j >= g.Ny {
+		return nil
+	}
+	var out []int
+	r2 := h.GlassRadiusM * h.GlassRadiusM
+	for i := 0; i < g.Nx; i++ {
+		k := j*g.Nx + i
+		x, y := g.CentreM(k)
+		dx, dy := x-h.ZoneCentreM[0], y-h.ZoneCentreM[1]
+		if math.Abs(dx) <= h.Rod.LengthM/2 && dx*dx+dy*dy <= r2 {
+			out = append(out, k)
+		}
+	}
+	return out
 }
 
 // warmStart replaces the first guess by the Problem's initial fields.
@@ -582,6 +740,11 @@ func (s *plate) run() error {
 				return fmt.Errorf("thermal: plate solve stopped in outer iteration %d: %w", s.outer, err)
 			}
 		}
+		if s.nl == 2 && s.p.Heater.Coil != nil {
+			if err := s.updateCoil(); err != nil {
+				return err
+			}
+		}
 		if err := s.assemble(); err != nil {
 			return err
 		}
@@ -600,7 +763,7 @@ func (s *plate) run() error {
 		}
 		s.relRes = rel
 		tight := rel <= s.tol
-		if s.t1 != nil && (s.duty < 1 || s.glassMax(next) > s.limiterK) {
+		if s.t1 != nil && (s.duty < 1 || s.sensedK(next) > s.limiterK) {
 			if !(dutyStep <= dutyResolve) {
 				if _, err := s.linear(s.t1, s.bHeat, &forcing{fixed: dutyForcing}); err != nil {
 					return err
@@ -758,10 +921,10 @@ func (s *plate) linkCurvature(alpha float64) (float64, error) {
 func (s *plate) checkHeater() error {
 	var sum float64
 	for k := 0; k < s.n; k++ {
-		if math.IsNaN(s.qHeat[k]) {
+		if math.IsNaN(s.qZone[k]) {
 			return fmt.Errorf("thermal: heater power profile is negative or not finite at cell %d", k)
 		}
-		sum += s.qHeat[k] + s.qTrans[k]
+		sum += s.qZone[k]
 	}
 	if s.p.Heater.PowerW > 0 && !(sum > 0) {
 		return errors.New("thermal: no glass cell lies in the heater zone with a positive power profile")
@@ -789,6 +952,9 @@ func (s *plate) linear(x, b []float64, f *forcing) (relRes float64, err error) {
 // The duty is 0 if T₀ alone passes the limiter, which only an early
 // linearisation can do: validate keeps the room and water below it.
 func (s *plate) setDuty(y []float64) float64 {
+	if s.rod != nil {
+		return s.setDutyRod(y)
+	}
 	d, dp := 1.0, s.duty
 	n := s.n
 	for k, g := range s.glass {
@@ -805,6 +971,29 @@ func (s *plate) setDuty(y []float64) float64 {
 		}
 	}
 	return d
+}
+
+// setDutyRod is setDuty for a rod limiter: the duty at which the rod's mean
+// underside temperature of T₀ + duty·T₁ (linear in the duty, the direct
+// heater term included) is at the limiter temperature, within [0, 1].
+func (s *plate) setDutyRod(y []float64) float64 {
+	n, dp := s.n, s.duty
+	var m0, m1 float64
+	for _, k := range s.rod {
+		t1 := s.t1[n+k]
+		t0 := y[n+k] - dp*t1
+		m0 += s.undersideK(k, t0, 0)
+		m1 += s.undersideK(k, t0+t1, 1)
+	}
+	m0 /= float64(len(s.rod))
+	m1 /= float64(len(s.rod))
+	switch {
+	case m1 <= s.limiterK:
+		return 1
+	case m0 >= s.limiterK:
+		return 0
+	}
+	return (s.limiterK - m0) / (m1 - m0)
 }
 
 // interfaceH evaluates the interface at cell k between a hob node at tHobK
@@ -920,8 +1109,8 @@ func (s *plate) assemble() error {
 				continue
 			}
 			tg := s.t[n+k]
-			lv.sink[1][k] = a * h.DownHWM2K
-			s.bRest[n+k] = a * h.DownHWM2K * h.RoomK
+			lv.sink[1][k] = a * s.hdEff
+			s.bRest[n+k] = a * s.hdEff * h.RoomK
 			if s.pan[k] {
 				ct, off, err := s.glassSideLink(k, tg, s.t[k], fresh)
 				if err != nil {
@@ -1260,22 +1449,33 @@ func (s *plate) heaterOutputs(sol *Solution) error {
 		tg := s.t[n+k]
 		sol.TGlassK[k] = tg
 		sol.GlassMaxK = math.Max(sol.GlassMaxK, tg)
-		sol.DownLossW += a * h.DownHWM2K * (tg - h.RoomK)
+		sol.DownLossW += a * s.hdEff * (tg - h.RoomK)
 		if !s.pan[k] {
 			_, q, _ := s.uncover.link(tg, s.halfRg, s.tsGlass[k])
 			sol.UncoveredLossW += q * a
 		}
 	}
+	sol.DownLossW += s.duty * s.qDown
+	sol.TransmittedLostW = s.duty * s.qLost
+	sol.TransmittedShare = s.share
+	sol.CoilK = s.coil.TempK
+	if s.rod != nil {
+		sol.RodK = s.rodMeanK(s.t, s.duty)
+	}
 	sol.HeaterW = s.duty * h.PowerW
 	sol.DutyPct = 100 * s.duty
 	if s.duty < 1 {
-		s.warnings = append(s.warnings, fmt.Sprintf("heater cycled: the limiter held the glass at %.1f °C, duty %.1f %%", s.limiterK-273.15, sol.DutyPct))
+		what := "the hottest glass"
+		if s.rod != nil {
+			what = "the glass underside along its rod"
+		}
+		s.warnings = append(s.warnings, fmt.Sprintf("heater cycled: the limiter held %s at %.1f °C, duty %.1f %%", what, s.limiterK-273.15, sol.DutyPct))
 	}
 	if outside > 0 {
 		s.warnings = append(s.warnings, fmt.Sprintf("%d base cells lie beyond the modelled glass (radius %.1f mm) and get no heat from the hob", outside, h.GlassRadiusM*1e3))
 	}
 	if lost := s.duty * s.qLost; lost > 0 {
-		s.warnings = append(s.warnings, fmt.Sprintf("%.4g W of transmitted heater radiation misses the pan and is not counted", lost))
+		s.warnings = append(s.warnings, fmt.Sprintf("%.4g W of heater radiation passes the glass beside the pan and misses it", lost))
 	}
 	if s.uncover.clamped {
 		s.warnings = append(s.warnings, fmt.Sprintf("uncovered glass beyond the air table: convection held at its value for a %.0f K film", fluid.AirMaxK))

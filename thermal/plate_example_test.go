@@ -102,7 +102,7 @@ func ExampleSolve_heater() {
 	fmt.Printf("glass max %.0f °C; losses: down %.0f W, uncovered glass %.0f W\n", s.GlassMaxK-273.15, s.DownLossW, s.UncoveredLossW)
 	fmt.Println(s.Warnings[0])
 	// Output:
-	// duty 34 %, heater 605 W, into the pan 440 W
-	// glass max 560 °C; losses: down 145 W, uncovered glass 20 W
-	// heater cycled: the limiter held the glass at 560.0 °C, duty 33.6 %
+	// duty 34 %, heater 611 W, into the pan 440 W
+	// glass max 560 °C; losses: down 151 W, uncovered glass 20 W
+	// heater cycled: the limiter held the hottest glass at 560.0 °C, duty 34.0 %
 }

@@ -63,7 +63,15 @@ func (m HobMode) String() string {
 
 // TemperatureHob is a hob whose top surface is held at a fixed temperature.
 type TemperatureHob struct {
-	TopK []float64 // hob top temperature per grid cell, K
+	TopK []float64 // hob top temperature per grid cell, K (the set point)
+
+	// RatedPowerW, when positive, is the most the hob can deliver, W: the
+	// top holds TopK while the heat into the pan stays within it, and
+	// beyond it the whole top field is lowered by one uniform amount until
+	// the heat into the pan equals RatedPowerW (a thermostat-controlled
+	// plate at full power). 0 holds TopK whatever it costs (a bench
+	// fixture).
+	RatedPowerW float64
 }
 
 // HeaterHob is a radiant heater zone under a glass(-ceramic) plate.
@@ -88,12 +96,35 @@ type HeaterHob struct {
 	RoomK     float64 // room temperature, K
 
 	// TransmittedFraction of the heater power goes straight to the pan base
-	// by radiation (default 0).
+	// by radiation, fully absorbed (a fixed share; default 0). Ignored when
+	// Coil is set.
 	TransmittedFraction float64
 
-	// LimiterK is the glass temperature, K, at which the heater duty drops
-	// to hold it. Zero or negative disables the limiter.
+	// Coil, when set, makes the transmitted share an outcome: the element
+	// temperature from its radiative balance with the glass underside
+	// (Coil.Balance at the zone's rated power density and the zone-mean
+	// underside temperature, updated every outer iteration) and the
+	// glass window's share of its emission. Over the base the pan absorbs
+	// Problem.PanEmissivity of it and the rest returns to the glass; beside
+	// the base it leaves upward (Solution.TransmittedLostW).
+	Coil *Coil
+
+	// LimiterK is the temperature, K, at which the heater duty drops to
+	// hold the sensed glass temperature: the mean glass-underside
+	// temperature along Rod when set, else the hottest glass node. Zero or
+	// negative disables the limiter.
 	LimiterK float64
+	Rod      *Rod
+}
+
+// Rod is a rod limiter's sensor: a straight rod parallel to the grid's x
+// axis through the zone at y = ZoneCentreM[1] + OffsetM, LengthM long and
+// centred on ZoneCentreM[0]. It senses the mean glass-underside
+// temperature of the glass cells of the grid row nearest to it whose
+// centres lie within its length.
+type Rod struct {
+	OffsetM float64 // m
+	LengthM float64 // m
 }
 
 // Problem is a steady plate problem: a pan base on a hob, heated from below
@@ -114,8 +145,9 @@ type Problem struct {
 	Temperature *TemperatureHob
 	Heater      *HeaterHob
 
-	// PanEmissivity is not used by the plate solve: the interface radiation
-	// comes from Interface.
+	// PanEmissivity is the pan base's absorptance for the heater radiation
+	// passing the glass when Heater.Coil is set (in (0, 1]); otherwise it
+	// is not used: the interface radiation comes from Interface.
 	PanEmissivity float64
 
 	RelTol    float64 // linear solver relative residual tolerance (default 1e-10)
@@ -167,11 +199,25 @@ type Solution struct {
 	HeaterW float64 // heater mode: delivered heater power (duty × rated), W
 	DutyPct float64 // heater mode: 100 unless the limiter cut it (0 in temperature mode)
 
-	DownLossW      float64 // heater mode: downward glass loss, W
+	// Heater mode: TransmittedLostW is the heater radiation passing the
+	// glass beside the pan, W; TransmittedShare the share of the heater's
+	// power passing the glass (first pass), CoilK the element temperature
+	// while on (0 without a Coil), RodK the mean underside temperature
+	// along the limiter's rod (0 without a Rod).
+	TransmittedLostW float64
+	TransmittedShare float64
+	CoilK, RodK      float64
+
+	DownLossW      float64 // heater mode: downward loss from the glass underside, W
 	UncoveredLossW float64 // heater mode: loss from glass not under the pan, W
 	GlassMaxK      float64 // heater mode: highest glass temperature, K
 
 	WaterW float64 // heat into the water, W (equals PowerW at steady state)
+
+	// Temperature mode: PowerLimited says the rated power capped the heat
+	// and the top ran TopShiftK (K) below its set point everywhere.
+	PowerLimited bool
+	TopShiftK    float64
 
 	LinearIterations int     // total linear (PCG) iterations over all outer iterations
 	OuterIterations  int     // nonlinear outer iterations

@@ -1,0 +1,215 @@
+package pipeline
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"gapflux/thermal"
+)
+
+// SensitivityRow is one line of the heat section's sensitivity table: the
+// loss against the flat twin with one hob setting moved, scan and flat
+// twin both re-solved (issue 9 part 6).
+type SensitivityRow struct {
+	Setting      string  `json:"setting"`        // the job key moved
+	Change       string  `json:"change"`         // by how much ("+40 K", "-10 %")
+	LossPct      float64 `json:"loss_pct"`       // loss_pct with the setting moved
+	DeltaLossPct float64 `json:"delta_loss_pct"` // its change from the reported loss_pct, percentage points
+}
+
+// sensitivityCase moves one hob setting of a plate problem. limiterK,
+// when not 0, is the change of the limiter setting, K: a solve whose heater
+// ran at full duty with its sensed temperature more than |limiterK| below
+// the limiter is the same with the limiter moved, and is not repeated.
+type sensitivityCase struct {
+	setting, change string
+	edit            func(p *thermal.Problem)
+	limiterK        float64
+}
+
+// Tolerances of the sensitivity re-solves: looser than the reported
+// solve's (1e-10 and 1e-6 K), which moves loss_pct by under 1e-3 points
+// (the powers to about 1e-6 relative) and halves the iterations.
+const (
+	sensitivityRelTol   = 1e-7
+	sensitivityOuterTol = 1e-3 // K
+)
+
+// sensitivityCases returns the hob settings that drive loss_pct in the
+// job's mode, each moved down and up: the limiter (regulator) setting by
+// ±40 K, the glass window's transmittance by ±0.1 and the rated power by
+// ±10 % (DESIGN 5.3; issue 9 part 6). The steps are ours.
+func sensitivityCases(job Job) []sensitivityCase {
+	heater := func(f func(h *thermal.HeaterHob)) func(p *thermal.Problem) {
+		return func(p *thermal.Problem) {
+			h := *p.Heater
+			if h.Coil != nil {
+				c := *h.Coil
+				h.Coil = &c
+			}
+			f(&h)
+			p.Heater = &h
+		}
+	}
+	var out []sensitivityCase
+	switch job.Hob.Mode {
+	case "temperature":
+		if !job.Hob.PowerLimited {
+			return nil
+		}
+		for _, s := range []float64{-0.1, 0.1} {
+			out = append(out, sensitivityCase{"rated power", fmt.Sprintf("%+.0f %%", 100*s), func(p *thermal.Problem) {
+				t := *p.Temperature
+				t.RatedPowerW *= 1 + s
+				p.Temperature = &t
+			}, 0})
+		}
+		return out
+	}
+	limiter := "hob.limiter_c"
+	if job.Hob.Mode == "solid-plate" {
+		limiter = "hob.temperature_c"
+	}
+	for _, d := range []float64{-40, 40} {
+		out = append(out, sensitivityCase{limiter, fmt.Sprintf("%+.0f K", d), heater(func(h *thermal.HeaterHob) { h.LimiterK += d }), d})
+	}
+	if job.Hob.Mode == "heater" {
+		for _, d := range []float64{-0.1, 0.1} {
+			out = append(out, sensitivityCase{"hob.glass_tau", fmt.Sprintf("%+.1f", d), heater(func(h *thermal.HeaterHob) {
+				h.Coil.Tau = math.Min(math.Max(h.Coil.Tau+d, 0), 0.99)
+			}), 0})
+		}
+	}
+	for _, s := range []float64{-0.1, 0.1} {
+		out = append(out, sensitivityCase{"hob.heater_power_w", fmt.Sprintf("%+.0f %%", 100*s), heater(func(h *thermal.HeaterHob) { h.PowerW *= 1 + s }), 0})
+	}
+	return out
+}
+
+// sensitivityCellM is the cell of the grid the sensitivity re-solves run
+// on: the analysis grid sampled every f cells, f the whole number nearest
+// to 2 mm / cell (at least 1). Our choice: at 0.5 mm cells it cuts the
+// cells 16-fold, and loss_pct of the demo's bases on 2 mm cells is within
+// a point of the 0.5 mm figure, while only differences are taken.
+const sensitivityCellM = 2e-3
+
+// sensitivity gives loss_pct with each hob setting of sensitivityCases
+// moved. The scan and its flat twin are solved on a coarser grid
+// (coarsen; sensitivityCellM), once as reported and once per moved
+// setting, warm-started from the analysis's solutions sampled to it and
+// to the looser sensitivity tolerances (a limiter move that cannot change
+// a solve is skipped). Each row's DeltaLossPct is the coarse difference,
+// and its LossPct the reported loss plus that difference. solve is the
+// analysis's plate solve of an edited problem.
+func sensitivity(ctx context.Context, job Job, prob *thermal.Problem, scanIf, flatIf thermal.Interface,
+	solScan, solFlat *thermal.Solution, solve func(context.Context, *thermal.Problem) (*thermal.Solution, error)) ([]SensitivityRow, error) {
+	cases := sensitivityCases(job)
+	if solFlat.PowerW <= 0 || len(cases) == 0 {
+		return nil, nil
+	}
+	reported := 100 * (1 - solScan.PowerW/solFlat.PowerW)
+	f := max(1, int(math.Round(sensitivityCellM/prob.Grid.CellM)))
+	type side struct {
+		p    *thermal.Problem
+		base *thermal.Solution
+	}
+	var sides [2]side
+	for i, run := range []struct {
+		iface thermal.Interface
+		sol   *thermal.Solution
+	}{{scanIf, solScan}, {flatIf, solFlat}} {
+		p := coarsen(prob, f, run.iface, run.sol)
+		p.TWaterK = job.Water.SteadyC + kelvin
+		p.RelTol, p.OuterTolK = sensitivityRelTol, sensitivityOuterTol
+		b, err := solve(ctx, p)
+		if err != nil {
+			return nil, fmt.Errorf("sensitivity: coarse solve: %w", err)
+		}
+		sides[i] = side{p, b}
+	}
+	if sides[1].base.PowerW <= 0 {
+		return nil, nil
+	}
+	base := 100 * (1 - sides[0].base.PowerW/sides[1].base.PowerW)
+	var rows []SensitivityRow
+	for _, c := range cases {
+		var pw [2]float64
+		for i, sd := range sides {
+			b := sd.base
+			if c.limiterK != 0 && b.DutyPct == 100 && b.RodK > 0 && b.RodK < sd.p.Heater.LimiterK-math.Abs(c.limiterK) {
+				pw[i] = b.PowerW
+				continue
+			}
+			p := *sd.p
+			p.InitialTPanK, p.InitialTGlassK, p.InitialDutyPct = b.TPanK, b.TGlassK, b.DutyPct
+			c.edit(&p)
+			s, err := solve(ctx, &p)
+			if err != nil {
+				return nil, fmt.Errorf("sensitivity to %s %s: %w", c.setting, c.change, err)
+			}
+			pw[i] = s.PowerW
+		}
+		d := 100*(1-pw[0]/pw[1]) - base
+		rows = append(rows, SensitivityRow{Setting: c.setting, Change: c.change,
+			LossPct: roundTo(reported+d, 3), DeltaLossPct: roundTo(d, 3)})
+	}
+	return rows, nil
+}
+
+// coarsen returns the plate problem p on the grid that keeps every f-th
+// cell in x and y (cell (f·i + f/2, f·j + f/2) of p's grid becomes cell
+// (i, j), its centre unchanged), with the interface iface and the
+// temperature-mode top sampled there, and the warm start sampled from
+// sol. f = 1 returns a copy of p.
+func coarsen(p *thermal.Problem, f int, iface thermal.Interface, sol *thermal.Solution) *thermal.Problem {
+	q := *p
+	g := p.Grid
+	o := f / 2
+	cg := thermal.Grid{Nx: (g.Nx - o + f - 1) / f, Ny: (g.Ny - o + f - 1) / f, CellM: g.CellM * float64(f),
+		X0M: g.X0M + float64(o)*g.CellM, Y0M: g.Y0M + float64(o)*g.CellM}
+	idx := make([]int, cg.Len())
+	for j := 0; j < cg.Ny; j++ {
+		for i := 0; i < cg.Nx; i++ {
+			idx[j*cg.Nx+i] = (f*j+o)*g.Nx + f*i + o
+		}
+	}
+	pick := func(v []float64) []float64 {
+		if v == nil {
+			return nil
+		}
+		out := make([]float64, len(idx))
+		for k, fk := range idx {
+			out[k] = v[fk]
+		}
+		return out
+	}
+	q.Grid = cg
+	q.InBase = make([]bool, len(idx))
+	for k, fk := range idx {
+		q.InBase[k] = p.InBase[fk]
+	}
+	q.Interface = sampledInterface{iface, idx}
+	if p.Temperature != nil {
+		t := *p.Temperature
+		t.TopK = pick(t.TopK)
+		q.Temperature = &t
+	}
+	q.InitialTPanK, q.InitialTGlassK, q.InitialDutyPct = nil, nil, 0
+	if sol != nil {
+		// Only cells with a node are read by the solver; NaN elsewhere is fine.
+		q.InitialTPanK, q.InitialTGlassK, q.InitialDutyPct = pick(sol.TPanK), pick(sol.TGlassK), sol.DutyPct
+	}
+	return &q
+}
+
+// sampledInterface is an interface evaluated at the fine-grid cells idx of
+// a coarse grid's cells.
+type sampledInterface struct {
+	in  thermal.Interface
+	idx []int
+}
+
+func (s sampledInterface) H(k int, tHobK, tPanK float64) (solid, gas, rad float64) {
+	return s.in.H(s.idx[k], tHobK, tPanK)
+}
