@@ -104,8 +104,81 @@ type Levelled struct {
 	// DroppedFraction is PointsDropped over the distinct input points
 	// (PointsMerged not counted).
 	DroppedFraction float64
+	// DroppedBeyondRim counts the dropped points outside the rim circle;
+	// DroppedAtBaseHeight those of them within the base's height band
+	// (base-like points cut off: a flange, or a lifted edge taken for a
+	// corner), the rest rising into a corner and wall or falling away.
+	// DroppedOffPlane counts the dropped points inside the circle but
+	// outside the band (strays, a handle).
+	DroppedBeyondRim, DroppedAtBaseHeight, DroppedOffPlane int
+	// DroppedBySector counts the dropped points in 8 sectors of 45° about
+	// the base centre, the first from +x to 45° toward +y, base frame.
+	DroppedBySector [8]int
+	// DropReason says, when more than DropReportFraction of the points
+	// were dropped, how many, where and why; else "".
+	DropReason string
 	// Warnings holds notes for the report.
 	Warnings []string
+}
+
+// DropReportFraction is the share of dropped points above which
+// Levelled.DropReason explains them. Our choice.
+const DropReportFraction = 0.05
+
+// dropTally counts the points Level drops, by reason and sector.
+type dropTally struct {
+	beyond, level, offPlane int
+	sector                  [8]int
+}
+
+// add counts a dropped point at base coordinates (u, v, w); out says it
+// lies beyond the rim circle, band is the base's height band.
+func (d *dropTally) add(u, v, w float64, out bool, band float64) {
+	switch {
+	case !out:
+		d.offPlane++
+	case math.Abs(w) <= band:
+		d.beyond++
+		d.level++
+	default:
+		d.beyond++
+	}
+	// The octant without trigonometry: quadrant by signs, then which of
+	// |u|, |v| is larger.
+	var q int
+	switch {
+	case u >= 0 && v >= 0:
+		q = 0
+	case u < 0 && v >= 0:
+		q = 2
+	case u < 0:
+		q = 4
+	default:
+		q = 6
+	}
+	if (q == 0 || q == 4) == (math.Abs(v) > math.Abs(u)) {
+		q++
+	}
+	d.sector[q]++
+}
+
+// reason says how many of n points were dropped, why and where.
+func (d *dropTally) reason(n int, band, far float64) string {
+	total := d.beyond + d.offPlane
+	pct := func(k int) float64 { return 100 * float64(k) / float64(n) }
+	s := fmt.Sprintf("%.0f %% of the points were not kept as base: %.1f %% beyond the rim circle rising into a corner or wall, "+
+		"%.1f %% beyond it within %.1f mm of the base plane (a flange, or a lifted edge taken for a corner?), %.1f %% inside it but more than %.1f mm off the base plane (strays, a handle?)",
+		pct(total), pct(d.beyond-d.level), pct(d.level), band*1e3, pct(d.offPlane), far*1e3)
+	best := 0
+	for q := range d.sector {
+		if d.sector[q] > d.sector[best] {
+			best = q
+		}
+	}
+	if total > 0 && 4*d.sector[best] > total {
+		s += fmt.Sprintf("; %.0f %% of them between %d° and %d°", 100*float64(d.sector[best])/float64(total), 45*best, 45*best+45)
+	}
+	return s
 }
 
 // frame is an orthonormal frame: e[0], e[1] span the base plane, e[2] is
@@ -458,14 +531,21 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	// 7. Keep the base; a repeated point keeps its first occurrence.
 	pts = all
 	far := max(0.1*radius, 1.5*rim.band+0.02*radius)
+	level := 1.5*rim.band + 0.005*radius // base height, for the drop report
 	keep := make([]int32, len(pts))
 	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
 	r2 := radius * radius
 	nKeep := int32(0)
+	var drop dropTally
 	for i, p := range pts {
 		u, v, w := bf.coords(p)
-		if u*u+v*v > r2 || math.Abs(w) > far || (rep != nil && rep[i] != int32(i)) {
+		if rep != nil && rep[i] != int32(i) {
 			keep[i] = -1
+			continue
+		}
+		if out := u*u+v*v > r2; out || math.Abs(w) > far {
+			keep[i] = -1
+			drop.add(u, v, w, out, level)
 			continue
 		}
 		keep[i] = nKeep
@@ -515,6 +595,11 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	out.Cloud = lc
 	out.PointsDropped = len(pts) - len(lc.Points) - merged
 	out.DroppedFraction = float64(out.PointsDropped) / float64(len(pts)-merged)
+	out.DroppedBeyondRim, out.DroppedAtBaseHeight, out.DroppedOffPlane = drop.beyond, drop.level, drop.offPlane
+	out.DroppedBySector = drop.sector
+	if out.DroppedFraction > DropReportFraction {
+		out.DropReason = drop.reason(len(pts)-merged, level, far)
+	}
 	if opt.Reuse {
 		*c = Cloud{} // its storage now belongs to the output
 	}
