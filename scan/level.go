@@ -345,7 +345,9 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	if merged > 0 {
 		pts = uniquePoints(pts, rep, merged)
 		out.PointsMerged = merged
-		if float64(merged) > 0.01*float64(len(all)) {
+		// A mesh's repeated vertices are shared corners, not a doubled
+		// scan: only a cloud's are worth a warning.
+		if len(c.Triangles) == 0 && float64(merged) > 0.01*float64(len(all)) {
 			out.Warnings = append(out.Warnings, fmt.Sprintf("%d of %d points (%.0f %%) repeat another point exactly (is the scan written more than once into the file?); "+
 				"each was counted once", merged, len(all), 100*float64(merged)/float64(len(all))))
 		}
