@@ -11,7 +11,9 @@ import (
 // each) with (n+1)² distinct vertices.
 func gridSoup(n int) *Mesh {
 	m := &Mesh{}
-	p := func(i, j int) r3.Vec { return r3.Vec{X: float64(i) * 0.5, Y: float64(j) * 0.25, Z: float64((i*j)%5) - 2} }
+	p := func(i, j int) r3.Vec {
+		return r3.Vec{X: float64(i) * 0.5, Y: float64(j) * 0.25, Z: float64((i*j)%5) - 2}
+	}
 	for j := range n {
 		for i := range n {
 			m.Vertices = append(m.Vertices, p(i, j), p(i+1, j), p(i+1, j+1), p(i, j), p(i+1, j+1), p(i, j+1))
