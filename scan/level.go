@@ -143,12 +143,15 @@ func (d *dropTally) add(u, v, w float64, out bool, band float64) {
 	default:
 		d.beyond++
 	}
-	// The octant without trigonometry: quadrant by signs, then which of
-	// |u|, |v| is larger.
-	var q int
+	d.sector[octant(u, v)]++
+}
+
+// octant returns the 45° sector of (u, v), 0 from +u toward +v, without
+// trigonometry: the quadrant by signs, then which of |u| and |v| is larger.
+func octant(u, v float64) int {
+	q := 0
 	switch {
 	case u >= 0 && v >= 0:
-		q = 0
 	case u < 0 && v >= 0:
 		q = 2
 	case u < 0:
@@ -156,10 +159,10 @@ func (d *dropTally) add(u, v, w float64, out bool, band float64) {
 	default:
 		q = 6
 	}
-	if (q == 0 || q == 4) == (math.Abs(v) > math.Abs(u)) {
+	if (q == 0 || q == 4) == (v*v > u*u) {
 		q++
 	}
-	d.sector[q]++
+	return q
 }
 
 // reason says how many of n points were dropped, why and where.
@@ -1192,16 +1195,18 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, err
 	return res, nil
 }
 
-// extentRadius returns the 99.5th percentile of the distance of pts from
-// (uc, vc) in the plane of f: how far out the scan reaches, strays aside.
+// extentRadius returns the 99.5th percentile of the distance of pts (up to
+// 20 000 of them) from (uc, vc) in the plane of f: how far out the scan
+// reaches, strays aside.
 func extentRadius(pts []r3.Vec, f *frame, uc, vc float64) float64 {
 	if len(pts) == 0 {
 		return 0
 	}
-	d := make([]float64, len(pts))
-	for i, p := range pts {
-		u, v, _ := f.coords(p)
-		d[i] = math.Hypot(u-uc, v-vc)
+	step := max(1, len(pts)/20000)
+	d := make([]float64, 0, len(pts)/step+1)
+	for i := 0; i < len(pts); i += step {
+		u, v, _ := f.coords(pts[i])
+		d = append(d, math.Hypot(u-uc, v-vc))
 	}
 	return quickSelect(d, int(0.995*float64(len(d)-1)))
 }

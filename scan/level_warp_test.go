@@ -142,3 +142,14 @@ func TestLevelDropReport(t *testing.T) {
 		})
 	}
 }
+
+func TestOctant(t *testing.T) {
+	for q := range 8 {
+		for _, off := range []float64{1, 22.5, 44} {
+			a := (45*float64(q) + off) * math.Pi / 180
+			if got := octant(math.Cos(a), math.Sin(a)); got != q {
+				t.Errorf("octant at %.1f° = %d, want %d", 45*float64(q)+off, got, q)
+			}
+		}
+	}
+}
