@@ -13,6 +13,10 @@ import (
 type welder struct {
 	table []int32
 	mask  uint64
+	// recent maps a hash to the last vertex seen with it: a mesh file
+	// names a vertex again within a few rows of facets, so most lookups
+	// end here, in a table that stays in the processor's cache.
+	recent [1 << 14]int32
 }
 
 // vertexKey returns the bits of v with −0 read as +0.
@@ -33,6 +37,9 @@ func hashVertex(k [3]uint64) uint64 {
 func newWelder(n int) *welder {
 	w := &welder{}
 	w.resize(1 << bits.Len(uint(max(2*n, 1024)-1)))
+	for i := range w.recent {
+		w.recent[i] = -1
+	}
 	return w
 }
 
@@ -54,14 +61,22 @@ func (w *welder) add(vs *[]r3.Vec, v r3.Vec) int32 {
 		}
 	}
 	key := vertexKey(v)
-	for h := hashVertex(key) & w.mask; ; h = (h + 1) & w.mask {
+	hv := hashVertex(key)
+	r := &w.recent[hv>>50] // the top 14 bits; the table uses the low ones
+	if j := *r; j >= 0 && vertexKey((*vs)[j]) == key {
+		return j
+	}
+	for h := hv & w.mask; ; h = (h + 1) & w.mask {
 		j := w.table[h]
 		if j < 0 {
-			w.table[h] = int32(len(*vs))
+			j = int32(len(*vs))
+			w.table[h] = j
 			*vs = append(*vs, v)
-			return w.table[h]
+			*r = j
+			return j
 		}
 		if vertexKey((*vs)[j]) == key {
+			*r = j
 			return j
 		}
 	}
