@@ -213,8 +213,11 @@ func newFrame(o, n r3.Vec) frame {
 // of the footprint) and keeps the base only.
 //
 // Steps:
+//  0. Points that repeat another exactly count once (Levelled.PointsMerged).
 //  1. A first plane by principal components (the smallest-eigenvalue
-//     eigenvector of the covariance) of up to 150 000 points.
+//     eigenvector of the covariance) of up to 150 000 points, without
+//     those further from their coordinate-wise median than 4 times the
+//     median distance (stray points metres away).
 //  2. Coarse cells (about 64 across) each get a least-squares plane. The
 //     dominant cell slope (the peak of their 2-D slope histogram) tilts the
 //     normal onto the base, which stays flat while a wall or corner spreads
@@ -224,21 +227,28 @@ func newFrame(o, n r3.Vec) frame {
 //     base candidate. The plane is refitted to its inner 90 % by principal
 //     components, trimming points beyond 3.5 robust standard deviations.
 //  4. The rim: in 24 to 72 angular sectors about the candidate's centre,
-//     the median height profile along the radius (bins of R/400 or wider)
-//     is walked outward from 0.6 R until its slope (least squares over
-//     five bins) departs from the base's own trend (a quadratic fitted to
-//     the profile between 0.6 R and 0.9 R) by more than MaxSlopeDeg, or
-//     the data end. A circle is fitted to these rim points (algebraic fit
-//     of Kåsa 1976, then geometric least squares by Gauss-Newton),
-//     trimming rim points off by more than 3 robust standard deviations.
+//     the median height profile along the radius (bins of R/400 or wider,
+//     out to where the scan ends but at most 3 R) is walked outward from
+//     0.6 R until its slope (least squares over five bins) departs from
+//     the base's own trend (a quadratic fitted to the profile between
+//     0.6 R and 0.9 R) by more than MaxSlopeDeg, or the data end. A
+//     departure ends the base only when a wall follows: the profile turns
+//     steeper than 50° within R/4 and rises more than R/200. Otherwise the
+//     base itself is warped (a lifted rim) and the walk goes on, measuring
+//     departures from the new slope. A circle is fitted to these rim
+//     points (algebraic fit of Kåsa 1976, then geometric least squares by
+//     Gauss-Newton), trimming rim points off by more than 3 robust
+//     standard deviations.
 //  5. The plane is refitted to the points inside the rim circle.
 //  6. The outer face: Face if given; else facet or point normals (the
 //     outer face's normals point to the hob, −z); else the wall or corner,
 //     which rises into the pan (+z); else the outer face is assumed to
 //     face scanner +z, with a warning.
 //
-// Points beyond the rim circle or further than a tenth of the radius from
-// the base plane are dropped.
+// Points beyond the rim circle or further from the base plane than a
+// tenth of the radius (or than 1.5 times the base's own height band plus
+// R/50, for a warped base) are dropped; Levelled says how many, where and
+// why.
 //
 // A pan base (not a hob top) read from a file whose unit was not given
 // as an option (Cloud.UnitSource "default" or "header") must measure
