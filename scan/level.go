@@ -134,14 +134,13 @@ type dropTally struct {
 // add counts a dropped point at base coordinates (u, v, w); out says it
 // lies beyond the rim circle, band is the base's height band.
 func (d *dropTally) add(u, v, w float64, out bool, band float64) {
-	switch {
-	case !out:
+	if out {
+		d.beyond++
+		if w*w <= band*band {
+			d.level++
+		}
+	} else {
 		d.offPlane++
-	case math.Abs(w) <= band:
-		d.beyond++
-		d.level++
-	default:
-		d.beyond++
 	}
 	d.sector[octant(u, v)]++
 }
@@ -150,16 +149,15 @@ func (d *dropTally) add(u, v, w float64, out bool, band float64) {
 // trigonometry: the quadrant by signs, then which of |u| and |v| is larger.
 func octant(u, v float64) int {
 	q := 0
-	switch {
-	case u >= 0 && v >= 0:
-	case u < 0 && v >= 0:
-		q = 2
-	case u < 0:
+	if v < 0 {
 		q = 4
-	default:
-		q = 6
+		u, v = -u, -v
 	}
-	if (q == 0 || q == 4) == (v*v > u*u) {
+	if u < 0 {
+		q += 2
+		u, v = v, -u
+	}
+	if v > u {
 		q++
 	}
 	return q
