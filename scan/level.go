@@ -104,8 +104,82 @@ type Levelled struct {
 	// DroppedFraction is PointsDropped over the distinct input points
 	// (PointsMerged not counted).
 	DroppedFraction float64
+	// DroppedBeyondRim counts the dropped points outside the rim circle;
+	// DroppedAtBaseHeight those of them within the base's height band
+	// (base-like points cut off: a flange, or a lifted edge taken for a
+	// corner), the rest rising into a corner and wall or falling away.
+	// DroppedOffPlane counts the dropped points inside the circle but
+	// outside the band (strays, a handle).
+	DroppedBeyondRim, DroppedAtBaseHeight, DroppedOffPlane int
+	// DroppedBySector counts the dropped points in 8 sectors of 45° about
+	// the base centre, the first from +x to 45° toward +y, base frame.
+	DroppedBySector [8]int
+	// DropReason says, when more than DropReportFraction of the points
+	// were dropped, how many, where and why; else "".
+	DropReason string
 	// Warnings holds notes for the report.
 	Warnings []string
+}
+
+// DropReportFraction is the share of dropped points above which
+// Levelled.DropReason explains them. Our choice.
+const DropReportFraction = 0.05
+
+// dropTally counts the points Level drops, by reason and sector.
+type dropTally struct {
+	beyond, level, offPlane int
+	sector                  [8]int
+}
+
+// add counts a dropped point at base coordinates (u, v, w); out says it
+// lies beyond the rim circle, band is the base's height band.
+func (d *dropTally) add(u, v, w float64, out bool, band float64) {
+	if out {
+		d.beyond++
+		if w*w <= band*band {
+			d.level++
+		}
+	} else {
+		d.offPlane++
+	}
+	d.sector[octant(u, v)]++
+}
+
+// octant returns the 45° sector of (u, v), 0 from +u toward +v, without
+// trigonometry: the quadrant by signs, then which of |u| and |v| is larger.
+func octant(u, v float64) int {
+	q := 0
+	if v < 0 {
+		q = 4
+		u, v = -u, -v
+	}
+	if u < 0 {
+		q += 2
+		u, v = v, -u
+	}
+	if v > u {
+		q++
+	}
+	return q
+}
+
+// reason says how many of n points were dropped, why and where.
+func (d *dropTally) reason(n int, band, far float64) string {
+	total := d.beyond + d.offPlane
+	pct := func(k int) float64 { return 100 * float64(k) / float64(n) }
+	s := fmt.Sprintf("%.0f %% of the points were not kept as base: %.1f %% beyond the rim circle rising into a corner or wall, "+
+		"%.1f %% beyond it within %.1f mm of the base plane (a flange, or a lifted edge taken for a corner?), %.1f %% inside it but more than %.1f mm off the base plane (strays, a handle?)",
+		pct(total), pct(d.beyond-d.level), pct(d.level), band*1e3, pct(d.offPlane), far*1e3)
+	best := 0
+	for q := range d.sector {
+		if d.sector[q] > d.sector[best] {
+			best = q
+		}
+	}
+	if total > 0 && 4*d.sector[best] > total {
+		s += fmt.Sprintf("; %.0f %% of them between %d° and %d°", 100*float64(d.sector[best])/float64(total), 45*best, 45*best+45)
+	}
+	return s
 }
 
 // frame is an orthonormal frame: e[0], e[1] span the base plane, e[2] is
@@ -137,8 +211,11 @@ func newFrame(o, n r3.Vec) frame {
 // of the footprint) and keeps the base only.
 //
 // Steps:
+//  0. Points that repeat another exactly count once (Levelled.PointsMerged).
 //  1. A first plane by principal components (the smallest-eigenvalue
-//     eigenvector of the covariance) of up to 150 000 points.
+//     eigenvector of the covariance) of up to 150 000 points, without
+//     those further from their coordinate-wise median than 4 times the
+//     median distance (stray points metres away).
 //  2. Coarse cells (about 64 across) each get a least-squares plane. The
 //     dominant cell slope (the peak of their 2-D slope histogram) tilts the
 //     normal onto the base, which stays flat while a wall or corner spreads
@@ -148,21 +225,28 @@ func newFrame(o, n r3.Vec) frame {
 //     base candidate. The plane is refitted to its inner 90 % by principal
 //     components, trimming points beyond 3.5 robust standard deviations.
 //  4. The rim: in 24 to 72 angular sectors about the candidate's centre,
-//     the median height profile along the radius (bins of R/400 or wider)
-//     is walked outward from 0.6 R until its slope (least squares over
-//     five bins) departs from the base's own trend (a quadratic fitted to
-//     the profile between 0.6 R and 0.9 R) by more than MaxSlopeDeg, or
-//     the data end. A circle is fitted to these rim points (algebraic fit
-//     of Kåsa 1976, then geometric least squares by Gauss-Newton),
-//     trimming rim points off by more than 3 robust standard deviations.
+//     the median height profile along the radius (bins of R/400 or wider,
+//     out to where the scan ends but at most 3 R) is walked outward from
+//     0.6 R until its slope (least squares over five bins) departs from
+//     the base's own trend (a quadratic fitted to the profile between
+//     0.6 R and 0.9 R) by more than MaxSlopeDeg, or the data end. A
+//     departure ends the base only when a wall follows: the profile turns
+//     steeper than 50° within R/4 and rises more than R/200. Otherwise the
+//     base itself is warped (a lifted rim) and the walk goes on, measuring
+//     departures from the new slope. A circle is fitted to these rim
+//     points (algebraic fit of Kåsa 1976, then geometric least squares by
+//     Gauss-Newton), trimming rim points off by more than 3 robust
+//     standard deviations.
 //  5. The plane is refitted to the points inside the rim circle.
 //  6. The outer face: Face if given; else facet or point normals (the
 //     outer face's normals point to the hob, −z); else the wall or corner,
 //     which rises into the pan (+z); else the outer face is assumed to
 //     face scanner +z, with a warning.
 //
-// Points beyond the rim circle or further than a tenth of the radius from
-// the base plane are dropped.
+// Points beyond the rim circle or further from the base plane than a
+// tenth of the radius (or than 1.5 times the base's own height band plus
+// R/50, for a warped base) are dropped; Levelled says how many, where and
+// why.
 //
 // A pan base (not a hob top) read from a file whose unit was not given
 // as an option (Cloud.UnitSource "default" or "header") must measure
@@ -272,7 +356,9 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	if merged > 0 {
 		pts = uniquePoints(pts, rep, merged)
 		out.PointsMerged = merged
-		if float64(merged) > 0.01*float64(len(all)) {
+		// A mesh's repeated vertices are shared corners, not a doubled
+		// scan: only a cloud's are worth a warning.
+		if len(c.Triangles) == 0 && float64(merged) > 0.01*float64(len(all)) {
 			out.Warnings = append(out.Warnings, fmt.Sprintf("%d of %d points (%.0f %%) repeat another point exactly (is the scan written more than once into the file?); "+
 				"each was counted once", merged, len(all), 100*float64(merged)/float64(len(all))))
 		}
@@ -458,14 +544,21 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	// 7. Keep the base; a repeated point keeps its first occurrence.
 	pts = all
 	far := max(0.1*radius, 1.5*rim.band+0.02*radius)
+	level := 1.5*rim.band + 0.005*radius // base height, for the drop report
 	keep := make([]int32, len(pts))
 	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
 	r2 := radius * radius
 	nKeep := int32(0)
+	var drop dropTally
 	for i, p := range pts {
 		u, v, w := bf.coords(p)
-		if u*u+v*v > r2 || math.Abs(w) > far || (rep != nil && rep[i] != int32(i)) {
+		if rep != nil && rep[i] != int32(i) {
 			keep[i] = -1
+			continue
+		}
+		if out := u*u+v*v > r2; out || math.Abs(w) > far {
+			keep[i] = -1
+			drop.add(u, v, w, out, level)
 			continue
 		}
 		keep[i] = nKeep
@@ -515,6 +608,11 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	out.Cloud = lc
 	out.PointsDropped = len(pts) - len(lc.Points) - merged
 	out.DroppedFraction = float64(out.PointsDropped) / float64(len(pts)-merged)
+	out.DroppedBeyondRim, out.DroppedAtBaseHeight, out.DroppedOffPlane = drop.beyond, drop.level, drop.offPlane
+	out.DroppedBySector = drop.sector
+	if out.DroppedFraction > DropReportFraction {
+		out.DropReason = drop.reason(len(pts)-merged, level, far)
+	}
 	if opt.Reuse {
 		*c = Cloud{} // its storage now belongs to the output
 	}
@@ -1105,16 +1203,18 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, err
 	return res, nil
 }
 
-// extentRadius returns the 99.5th percentile of the distance of pts from
-// (uc, vc) in the plane of f: how far out the scan reaches, strays aside.
+// extentRadius returns the 99.5th percentile of the distance of pts (up to
+// 20 000 of them) from (uc, vc) in the plane of f: how far out the scan
+// reaches, strays aside.
 func extentRadius(pts []r3.Vec, f *frame, uc, vc float64) float64 {
 	if len(pts) == 0 {
 		return 0
 	}
-	d := make([]float64, len(pts))
-	for i, p := range pts {
-		u, v, _ := f.coords(p)
-		d[i] = math.Hypot(u-uc, v-vc)
+	step := max(1, len(pts)/20000)
+	d := make([]float64, 0, len(pts)/step+1)
+	for i := 0; i < len(pts); i += step {
+		u, v, _ := f.coords(pts[i])
+		d = append(d, math.Hypot(u-uc, v-vc))
 	}
 	return quickSelect(d, int(0.995*float64(len(d)-1)))
 }

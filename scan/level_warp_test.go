@@ -72,3 +72,84 @@ func TestLevelWarpedBase(t *testing.T) {
 		})
 	}
 }
+
+// TestLevelDropReport: Levelled says how many points were dropped, where
+// and why, once more than DropReportFraction of them were.
+func TestLevelDropReport(t *testing.T) {
+	const R = 0.08
+	walled := synthBase{R: R, Shape: dish(0.2e-3, R), CornerM: 5e-3, WallM: 15e-3, NoiseM: 10e-6, N: 40000, Seed: 41}
+	tests := []struct {
+		name                string
+		sb                  synthBase
+		tab                 int // points of a flat tab at base height, 0°–30°, r 1.25R–1.6R
+		wantReason          []string
+		beyondMin, levelMin int
+		sector              int // the sector holding most dropped points, -1: none asked
+	}{
+		{name: "lifted rim, no wall: nothing to report",
+			sb: synthBase{R: 0.1, Shape: lift(0.05, 0.1, 10e-3, 1), NoiseM: 10e-6, N: 40000, Seed: 42}, sector: -1},
+		{name: "corner and wall", sb: walled, wantReason: []string{"beyond the rim circle rising into a corner or wall"},
+			beyondMin: 10000, sector: -1},
+		{name: "corner, wall and a flat tab beyond", sb: walled, tab: 8000,
+			wantReason: []string{"of the base plane (a flange", "between 0° and 45°"}, beyondMin: 18000, levelMin: 7900, sector: 0},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			c := tt.sb.build()
+			for i := range tt.tab {
+				r := R * (1.25 + 0.35*float64(i%97)/97)
+				th := math.Pi / 6 * float64(i/97) / float64(tt.tab/97+1)
+				c.Points = append(c.Points, r3.Vec{X: r * math.Cos(th), Y: r * math.Sin(th), Z: 0.3e-3 * float64(i%7) / 7})
+			}
+			l, err := Level(newScanner(FaceDown, 0, 0, 0, r3.Vec{Z: 0.3}).apply(c), LevelOptions{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			t.Logf("radius %.2f mm, dropped %d: beyond %d (at base height %d), off plane %d, sectors %v; %q",
+				l.RadiusM*1e3, l.PointsDropped, l.DroppedBeyondRim, l.DroppedAtBaseHeight, l.DroppedOffPlane, l.DroppedBySector, l.DropReason)
+			if got := l.DroppedBeyondRim + l.DroppedOffPlane; got != l.PointsDropped {
+				t.Errorf("reasons add up to %d, dropped %d", got, l.PointsDropped)
+			}
+			sum := 0
+			for _, k := range l.DroppedBySector {
+				sum += k
+			}
+			if sum != l.PointsDropped {
+				t.Errorf("sectors add up to %d, dropped %d", sum, l.PointsDropped)
+			}
+			if len(tt.wantReason) == 0 && tt.beyondMin == 0 && l.DropReason != "" {
+				t.Errorf("reason %q, want none", l.DropReason)
+			}
+			for _, w := range tt.wantReason {
+				if !strings.Contains(l.DropReason, w) {
+					t.Errorf("reason %q lacks %q", l.DropReason, w)
+				}
+			}
+			if l.DroppedBeyondRim < tt.beyondMin || l.DroppedAtBaseHeight < tt.levelMin {
+				t.Errorf("beyond %d (at base height %d), want at least %d (%d)", l.DroppedBeyondRim, l.DroppedAtBaseHeight, tt.beyondMin, tt.levelMin)
+			}
+			if tt.sector >= 0 {
+				best := 0
+				for q, k := range l.DroppedBySector {
+					if k > l.DroppedBySector[best] {
+						best = q
+					}
+				}
+				if best != tt.sector {
+					t.Errorf("most dropped points in sector %d, want %d", best, tt.sector)
+				}
+			}
+		})
+	}
+}
+
+func TestOctant(t *testing.T) {
+	for q := range 8 {
+		for _, off := range []float64{1, 22.5, 44} {
+			a := (45*float64(q) + off) * math.Pi / 180
+			if got := octant(math.Cos(a), math.Sin(a)); got != q {
+				t.Errorf("octant at %.1f° = %d, want %d", 45*float64(q)+off, got, q)
+			}
+		}
+	}
+}

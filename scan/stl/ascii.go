@@ -17,6 +17,10 @@ import (
 func (d *decoder) ascii() (*Mesh, error) {
 	l := newLexer(d.br, 1, 0)
 	p := &asciiParser{d: d, l: l, m: &Mesh{}}
+	if d.opt.Weld {
+		p.m.Faces = [][3]int32{}
+		d.weld = newWelder(1 << 12)
+	}
 	if err := p.parse(); err != nil {
 		return nil, err
 	}
@@ -162,7 +166,7 @@ func (p *asciiParser) facet() error {
 	if err := p.keyword("loop"); err != nil {
 		return err
 	}
-	if len(p.m.Vertices)+3 > p.d.opt.MaxPoints {
+	if 3*len(p.m.Normals)+3 > min(p.d.opt.MaxPoints, math.MaxInt32) {
 		return &ParseError{Name: p.d.opt.Name, Line: line, Column: col, Offset: off,
 			Err: fmt.Errorf("%w: more than %d vertices", ErrTooManyPoints, p.d.opt.MaxPoints)}
 	}
@@ -196,7 +200,12 @@ func (p *asciiParser) facet() error {
 		return err
 	}
 	p.m.Normals = append(p.m.Normals, n)
-	p.m.Vertices = append(p.m.Vertices, vs[:]...)
+	if w := p.d.weld; w != nil {
+		vv := &p.m.Vertices
+		p.m.Faces = append(p.m.Faces, [3]int32{w.add(vv, vs[0]), w.add(vv, vs[1]), w.add(vv, vs[2])})
+	} else {
+		p.m.Vertices = append(p.m.Vertices, vs[:]...)
+	}
 	return nil
 }
 

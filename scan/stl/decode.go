@@ -53,9 +53,10 @@ func Decode(r io.Reader, opt Options) (*Mesh, error) {
 }
 
 type decoder struct {
-	br  *bufio.Reader
-	opt Options
-	buf []byte
+	br   *bufio.Reader
+	opt  Options
+	buf  []byte
+	weld *welder // nil unless opt.Weld
 }
 
 func (d *decoder) errAt(off int64, err error) *ParseError {
@@ -119,6 +120,9 @@ func (d *decoder) binary() (*Mesh, error) {
 		return nil, d.errAt(80, fmt.Errorf("%w: %d facets (%d vertices), limit %d vertices",
 			ErrTooManyPoints, n, 3*n, d.opt.MaxPoints))
 	}
+	if d.opt.Weld && 3*n > math.MaxInt32 {
+		return nil, d.errAt(80, fmt.Errorf("%w: %d facets could have more vertices than int32 indices reach", ErrTooManyPoints, n))
+	}
 	want := headerLen + facetLen*n
 	c := n
 	if d.opt.SizeBytes > 0 {
@@ -129,7 +133,14 @@ func (d *decoder) binary() (*Mesh, error) {
 	} else {
 		c = min(n, growCap)
 	}
-	m.Vertices = make([]r3.Vec, 0, 3*c)
+	if d.opt.Weld {
+		// A mesh has about half as many vertices as facets.
+		m.Vertices = make([]r3.Vec, 0, c/2+16)
+		m.Faces = make([][3]int32, 0, c)
+		d.weld = newWelder(int(c/2 + 16))
+	} else {
+		m.Vertices = make([]r3.Vec, 0, 3*c)
+	}
 	m.Normals = make([]r3.Vec, 0, c)
 	d.buf = make([]byte, chunkFacets*facetLen)
 	for i := int64(0); i < n; {
@@ -141,7 +152,7 @@ func (d *decoder) binary() (*Mesh, error) {
 			return nil, d.errAt(off, eofErr(err,
 				fmt.Sprintf("in facet %d of %d", i+int64(got)/facetLen, n)))
 		}
-		if j := decodeFacets(m, b, n); j >= 0 {
+		if j := decodeFacets(m, b, n, d.weld); j >= 0 {
 			off := headerLen + (i+int64(j/12))*facetLen + 4*int64(j%12)
 			return nil, d.errAt(off, fmt.Errorf("%w in facet %d", ErrNotFinite, i+int64(j/12)))
 		}
@@ -157,15 +168,20 @@ func (d *decoder) binary() (*Mesh, error) {
 }
 
 // decodeFacets appends the facets in b to m, which will hold at most n
-// facets. It returns -1, or the index (12 per facet) of the first
-// coordinate that is not finite. Non-finite normals are stored as zero.
-func decodeFacets(m *Mesh, b []byte, n int64) int {
+// facets, welding the vertices when w is not nil. It returns -1, or the
+// index (12 per facet) of the first coordinate that is not finite.
+// Non-finite normals are stored as zero.
+func decodeFacets(m *Mesh, b []byte, n int64, w *welder) int {
 	vs, ns := m.Vertices, m.Normals
 	if k := len(b) / facetLen; cap(ns)-len(ns) < k {
 		// Double rather than let append grow by 1.25: fewer copies of
 		// large slices on streams of unknown size.
 		c := max(min(2*cap(ns), int(n)), len(ns)+k)
-		vs = append(make([]r3.Vec, 0, 3*c), vs...)
+		if w == nil {
+			vs = append(make([]r3.Vec, 0, 3*c), vs...)
+		} else {
+			m.Faces = append(make([][3]int32, 0, c), m.Faces...)
+		}
 		ns = append(make([]r3.Vec, 0, c), ns...)
 	}
 	for f := 0; f+facetLen <= len(b); f += facetLen {
@@ -184,8 +200,12 @@ func decodeFacets(m *Mesh, b []byte, n int64) int {
 			nrm = r3.Vec{}
 		}
 		ns = append(ns, nrm)
-		vs = append(vs, r3.Vec{X: v[3], Y: v[4], Z: v[5]},
-			r3.Vec{X: v[6], Y: v[7], Z: v[8]}, r3.Vec{X: v[9], Y: v[10], Z: v[11]})
+		a, b, c := r3.Vec{X: v[3], Y: v[4], Z: v[5]}, r3.Vec{X: v[6], Y: v[7], Z: v[8]}, r3.Vec{X: v[9], Y: v[10], Z: v[11]}
+		if w == nil {
+			vs = append(vs, a, b, c)
+		} else {
+			m.Faces = append(m.Faces, [3]int32{w.add(&vs, a), w.add(&vs, b), w.add(&vs, c)})
+		}
 	}
 	m.Vertices, m.Normals = vs, ns
 	return -1

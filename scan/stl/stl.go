@@ -23,8 +23,12 @@ import (
 
 // Mesh is a triangle soup as stored in an STL file.
 type Mesh struct {
-	// Vertices holds three vertices per facet, in file units.
+	// Vertices holds three vertices per facet, in file units; or, when
+	// the mesh was read with Options.Weld, each distinct vertex once.
 	Vertices []r3.Vec
+	// Faces indexes Vertices, three per facet, when the mesh was read
+	// with Options.Weld; else nil.
+	Faces [][3]int32
 	// Normals holds one normal per facet as stored (it may be zero).
 	Normals []r3.Vec
 	// Header is the binary file's 80-byte header with trailing NULs
@@ -35,8 +39,14 @@ type Mesh struct {
 	Binary bool
 }
 
-// Facets returns the number of facets, len(m.Vertices)/3.
-func (m *Mesh) Facets() int { return len(m.Vertices) / 3 }
+// Facets returns the number of facets: len(m.Faces) for a welded mesh,
+// else len(m.Vertices)/3.
+func (m *Mesh) Facets() int {
+	if m.Faces != nil {
+		return len(m.Faces)
+	}
+	return len(m.Vertices) / 3
+}
 
 // Options controls Decode.
 type Options struct {
@@ -46,9 +56,14 @@ type Options struct {
 	// between binary and ASCII and bounds allocations. Zero or negative
 	// means unknown (a pipe or a decompressed stream).
 	SizeBytes int64
-	// MaxPoints caps the number of vertices (3 per facet);
+	// MaxPoints caps the number of vertices (3 per facet, welded or not);
 	// 0 means DefaultMaxPoints.
 	MaxPoints int
+	// Weld stores each distinct vertex once (exactly equal coordinates)
+	// with Mesh.Faces indexing them, instead of three vertices per facet:
+	// a mesh's vertex is shared by about six facets, so this holds about
+	// 60 bytes per facet instead of 96, at the cost of a hash table.
+	Weld bool
 }
 
 // DefaultMaxPoints is the vertex cap used when Options.MaxPoints is 0.
