@@ -165,7 +165,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
 	rep.Geometry = geometryReport(form, grid, filt, lev, job)
-	qg.gridded(grid.Raw, lev, filt)
+	qg.gridded(grid, lev, filt)
 	if qg.judge(rep, false) {
 		return res, nil
 	}

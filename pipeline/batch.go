@@ -371,7 +371,7 @@ func planTasks(dir, out string, opt BatchOptions, log *runLog) ([]ScanTask, []Su
 // most every opt.SummaryEvery while it runs and once at the end.
 func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRows []SummaryRow, input *SummaryInput,
 	dir, out string, log *runLog) (*BatchResult, error) {
-	res := &BatchResult{Total: len(tasks)}
+	res := &BatchResult{Total: len(tasks) + len(problemRows)}
 	rows := make([]SummaryRow, len(tasks), len(tasks)+len(problemRows))
 	for i, t := range tasks {
 		rows[i] = notRunRow(t)

@@ -89,14 +89,24 @@ func newGate(job Job, unit string) *gate {
 func (g *gate) levelled(lev *scan.Levelled, sample []r3.Vec, bandM float64) {
 	g.in.DiameterM, g.in.FaceSource = 2*lev.RadiusM, lev.FaceSource
 	g.in.FootprintDiameterM = footprintDiameterM(sample, lev, bandM)
+	// Base-like points cut off by segmentation (at the base's height but
+	// beyond the rim circle: a flange, or a lifted edge taken for a
+	// corner), against the base's points; the corner and wall, which rise
+	// out of the base's height band, and strays do not count.
+	if kept := len(lev.Cloud.Points); kept > 0 {
+		g.in.PointsDroppedPct = 100 * float64(lev.DroppedAtBaseHeight) / float64(kept+lev.DroppedAtBaseHeight)
+		g.in.PointsDroppedWhere = lev.DropReason
+	}
 }
 
 // gridded takes the figures known once the base is gridded and filtered:
-// coverage, largest hole and rim completeness (measured on the grid, see
-// measureCover) and the noise the form filter removed.
-func (g *gate) gridded(raw *scan.Surface, lev *scan.Levelled, filt *scan.FilterResult) {
-	c := measureCover(raw, lev.RadiusM, len(lev.Cloud.Points))
-	g.in.CoveragePct, g.in.LargestHoleM = c.CoveragePct, c.LargestHoleM
+// coverage and the largest hole as the gridding measured them from the
+// points (scan.Gridded: within 1.5 point spacings of a measured point;
+// largest empty circle), the rim gaps measured on the grid (measureCover),
+// and the noise the form filter removed.
+func (g *gate) gridded(grid *scan.Gridded, lev *scan.Levelled, filt *scan.FilterResult) {
+	c := measureCover(grid.Raw, lev.RadiusM, len(lev.Cloud.Points))
+	g.in.CoveragePct, g.in.LargestHoleM = grid.CoveragePct, grid.LargestHoleM
 	g.in.RimLargestGapDeg, g.in.RimMissingPct = c.RimLargestGapDeg, c.RimMissingPct
 	g.in.NoiseM = filt.NoiseM
 }

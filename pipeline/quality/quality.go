@@ -118,7 +118,7 @@ func DefaultLimits() Limits {
 		CoverageWarnMinPct: 95, CoverageRejectMinPct: 60,
 		HoleWarnMaxPct: 10, HoleRejectMaxPct: 40,
 		RimGapWarnMaxDeg: 30, RimMissingRejectMaxPct: 25,
-		DroppedWarnMaxPct: 5, DroppedRejectMaxPct: 50,
+		DroppedWarnMaxPct: 10, DroppedRejectMaxPct: 50,
 		FootprintWarnMinPct: 80,
 		NoiseGapWarnMaxPct:  20, // a fifth of the mean gap (DESIGN 5.0)
 	}

@@ -86,11 +86,11 @@ func TestChecksAtLimits(t *testing.T) {
 		{"rim missing at reject", func(in *Input) { in.RimMissingPct = 25 }, RimMissing, OK, ""},
 		{"rim missing above reject", func(in *Input) { in.RimMissingPct = 25 + eps }, RimMissing, Reject, "reject above 25 %"},
 
-		// Points dropped by segmentation: warn above 5 %, reject above 50 %.
+		// Points dropped by segmentation: warn above 10 %, reject above 50 %.
 		{"dropped few", func(in *Input) { in.PointsDroppedPct = 1 }, PointsDropped, OK, ""},
-		{"dropped at warn", func(in *Input) { in.PointsDroppedPct = 5 }, PointsDropped, OK, ""},
+		{"dropped at warn", func(in *Input) { in.PointsDroppedPct = 10 }, PointsDropped, OK, ""},
 		{"dropped above warn", func(in *Input) {
-			in.PointsDroppedPct, in.PointsDroppedWhere = 5+eps, "beyond the rim circle"
+			in.PointsDroppedPct, in.PointsDroppedWhere = 10+eps, "beyond the rim circle"
 		}, PointsDropped, Warn, "(beyond the rim circle)"},
 		{"dropped at reject", func(in *Input) { in.PointsDroppedPct = 50 }, PointsDropped, Warn, ""},
 		{"dropped above reject", func(in *Input) { in.PointsDroppedPct = 50 + eps }, PointsDropped, Reject, "--diameter-mm"},
