@@ -268,6 +268,9 @@ dispatch:
 	if err := writeSummaryFiles(out, res.Summary); err != nil {
 		return res, fmt.Errorf("writing summary: %w", err)
 	}
+	if err := WriteIndexHTML(out, res.Summary); err != nil {
+		return res, fmt.Errorf("writing index.html: %w", err)
+	}
 	fmt.Fprintf(logw, "%s batch end: ran %d, skipped %d, not run %d, interrupted %v\n",
 		time.Now().Format(time.RFC3339), res.Ran, res.Skipped, res.Summary.Counts[StatusNotRun], res.Interrupted)
 	return res, nil
