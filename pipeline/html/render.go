@@ -7,7 +7,7 @@ import (
 	"fmt"
 	"html/template"
 	"io"
-	"strings"
+	"path"
 )
 
 //go:embed page.css
@@ -34,7 +34,14 @@ var funcs = template.FuncMap{
 		return template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(b))
 	},
 	"cellmap": func(m *CellMap) (template.HTML, error) { return m.SVG() },
-	"upper":   strings.ToUpper,
+	// dir and base split a scan's slash path for display.
+	"dir": func(p string) string {
+		if d := path.Dir(p); d != "." {
+			return d + "/"
+		}
+		return ""
+	},
+	"base":  path.Base,
 	"pct1":    func(v float64) string { return fmt.Sprintf("%.1f", v) },
 }
 

@@ -71,7 +71,7 @@ func TestWriteIndex(t *testing.T) {
 	s := b.String()
 	for _, w := range []string{`<li class="status-failed"><b>1</b> failed</li>`, `data-type="num" data-key="loss" class="num">loss %</th>`,
 		`<tr class="row status-failed" data-order="0">`, `<tr class="row status-ok" data-order="1">`,
-		`href="a/ok%20stl.stl/report.html"`, `src="data:image/png;base64,iVBORw=="`, `<td data-sort="3.3" class="num">3.3</td>`,
+		`href="a/ok%20stl.stl/report.html"`, `src="data:image/png;base64,iVBORw=="`, `<td data-sort="3.3" class="num">3.3</td>`, `<span class="dir">a/</span><a href="a/ok%20stl.stl/report.html">ok stl.stl</a>`,
 		`<td data-sort="" class="num"></td>`, "byte 80: truncated", "<script>// Sort the index table"} {
 		if !strings.Contains(s, w) {
 			t.Errorf("index lacks %q", w)

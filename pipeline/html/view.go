@@ -74,6 +74,14 @@ type Table struct {
 	Rows    [][]string
 }
 
+// Halves splits the table's rows into two tables with the same columns,
+// the first holding the extra row of an odd count (the print layout sets
+// them side by side).
+func (t Table) Halves() [2]Table {
+	h := (len(t.Rows) + 1) / 2
+	return [2]Table{{Columns: t.Columns, Rows: t.Rows[:h]}, {Columns: t.Columns, Rows: t.Rows[h:]}}
+}
+
 // IndexPage is everything index.html shows for a batch.
 type IndexPage struct {
 	Title  string
