@@ -41,8 +41,8 @@ var funcs = template.FuncMap{
 		}
 		return ""
 	},
-	"base":  path.Base,
-	"pct1":    func(v float64) string { return fmt.Sprintf("%.1f", v) },
+	"base": path.Base,
+	"pct1": func(v float64) string { return fmt.Sprintf("%.1f", v) },
 }
 
 var (
