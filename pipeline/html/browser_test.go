@@ -230,7 +230,7 @@ func printShot(t *testing.T, b *browser, dir, name string) {
 		t.Fatal(err)
 	}
 	screenshot(t, b, dir, name)
-	if err := chromedp.Do(b.ctx, media(""), chromedp.EmulateReset()); err != nil {
+	if err := chromedp.Do(b.ctx, media(""), chromedp.EmulateViewport(1280, 900)); err != nil {
 		t.Fatal(err)
 	}
 }
