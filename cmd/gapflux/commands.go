@@ -316,8 +316,9 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) (int,
 	}
 	fmt.Fprintln(stdout)
 	fmt.Fprint(stdout, res.Summary.Table())
-	fmt.Fprintf(stdout, "\nsummary table: %s\n", filepath.Join(results, "summary.csv"))
-	fmt.Fprintf(stdout, "per scan (maps gap.png and flux.png, ring chart rings.png, rings.csv, report.json, fields.vti): %s/<scan>/\n", results)
+	fmt.Fprintf(stdout, "\nopen in a browser: %s\n", filepath.Join(results, "index.html"))
+	fmt.Fprintf(stdout, "summary table: %s\n", filepath.Join(results, "summary.csv"))
+	fmt.Fprintf(stdout, "per scan (report.html, maps gap.png and flux.png, ring chart rings.png, rings.csv, report.json, fields.vti): %s/<scan>/\n", results)
 	fmt.Fprintf(stdout, "the demo's pans, hob and numbers are invented; one file is deliberately broken to show a failed row.\n")
 	return exitOK, nil
 }
