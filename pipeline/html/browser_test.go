@@ -215,6 +215,104 @@ func smallBatch(t *testing.T) (out string, sum *pipeline.Summary) {
 	return out, res.Summary
 }
 
+// checkLossSort clicks the index's loss heading twice and checks that the
+// losses read ascending, then descending, with the scans that have none
+// last both times; wantLosses is how many scans have a loss.
+func checkLossSort(t *testing.T, b *browser, wantLosses int) {
+	t.Helper()
+	// Sort by loss: ascending, then descending; scans without a loss last.
+	lossCol := `Array.from(document.querySelectorAll("#scans thead th")).findIndex(function (h) { return h.dataset.key === "loss"; })`
+	readLoss := `Array.from(document.querySelectorAll("#scans tbody tr")).map(function (r) { return r.cells[` + lossCol + `].dataset.sort; })`
+	for _, dir := range []string{"ascending", "descending"} {
+		if err := chromedp.Do(b.ctx, chromedp.Click(`#scans th[data-key="loss"]`)); err != nil {
+			t.Fatal(err)
+		}
+		got := eval[[]string](t, b, readLoss)
+		var nums []float64
+		for i, s := range got {
+			if s == "" {
+				for _, rest := range got[i:] {
+					if rest != "" {
+						t.Errorf("sort %s: an empty loss before a number: %q", dir, got)
+					}
+				}
+				break
+			}
+			v, err := strconv.ParseFloat(s, 64)
+			if err != nil {
+				t.Fatalf("loss cell %q: %v", s, err)
+			}
+			nums = append(nums, v)
+		}
+		if len(nums) != wantLosses {
+			t.Errorf("sort %s: %d losses, want %d (%q)", dir, len(nums), wantLosses, got)
+		}
+		sorted := sort.SliceIsSorted(nums, func(i, j int) bool { return nums[i] < nums[j] })
+		if dir == "descending" {
+			sorted = sort.SliceIsSorted(nums, func(i, j int) bool { return nums[i] > nums[j] })
+		}
+		if !sorted || (len(nums) >= 2 && nums[0] == nums[len(nums)-1]) {
+			t.Errorf("sort %s: losses %v", dir, nums)
+		}
+		if aria := eval[string](t, b, `document.querySelector('#scans th[data-key="loss"]').getAttribute("aria-sort")`); aria != dir {
+			t.Errorf("after clicking: aria-sort %q, want %q", aria, dir)
+		}
+	}
+}
+
+// TestDemoPagesInBrowser runs the demo batch and checks its index and
+// every scan page in headless Chromium: no console errors or network
+// requests, every picture rendered, one row per scan, sorting by loss, each
+// page printed on one A4 sheet.
+func TestDemoPagesInBrowser(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs the demo batch and a browser")
+	}
+	b := newBrowser(t)
+	dir := t.TempDir()
+	if err := pipeline.WriteDemoScans(dir); err != nil {
+		t.Fatal(err)
+	}
+	job, err := pipeline.ReadJobFile(filepath.Join(dir, "job.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(t.TempDir(), "results")
+	res, err := pipeline.RunBatch(context.Background(), pipeline.BatchOptions{Dir: dir, Out: out, Job: job, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	shots := shotDir(t)
+	b.open(t, filepath.Join(out, "index.html"))
+	if n := eval[int](t, b, `document.querySelectorAll("#scans tbody tr").length`); n != len(res.Summary.Rows) {
+		t.Errorf("index has %d rows, want %d", n, len(res.Summary.Rows))
+	}
+	losses := 0
+	for _, r := range res.Summary.Rows {
+		if r.LossPct != nil {
+			losses++
+		}
+	}
+	checkImages(t, b, "index.html", losses)
+	checkLossSort(t, b, losses)
+	screenshot(t, b, shots, "demo-index.png")
+	for _, r := range res.Summary.Rows {
+		if r.Status == pipeline.StatusFailed {
+			continue
+		}
+		page := filepath.Join(pipeline.ScanOutDir(out, r.Path), "report.html")
+		b.open(t, page)
+		checkImages(t, b, r.Path, 4)
+		pdf, err := chromedp.Run(b.ctx, chromedp.PrintToPDF(chromedp.PDFPreferCSSPageSize()))
+		if err != nil {
+			t.Fatalf("%s: printing: %v", r.Path, err)
+		}
+		if n := pdfPages(pdf); n != 1 {
+			t.Errorf("%s: printed on %d A4 pages, want 1", r.Path, n)
+		}
+	}
+}
+
 // printShot screenshots the page as printed: print media at the width of
 // an A4 sheet inside 10 mm margins (190 mm at 96 px per inch), then
 // restores the screen.
@@ -293,44 +391,7 @@ func TestPagesInBrowser(t *testing.T) {
 	checkImages(t, b, "index.html", 2)
 	screenshot(t, b, shots, "index.png")
 
-	// Sort by loss: ascending, then descending; scans without a loss last.
-	lossCol := `Array.from(document.querySelectorAll("#scans thead th")).findIndex(function (h) { return h.dataset.key === "loss"; })`
-	readLoss := `Array.from(document.querySelectorAll("#scans tbody tr")).map(function (r) { return r.cells[` + lossCol + `].dataset.sort; })`
-	for _, dir := range []string{"ascending", "descending"} {
-		if err := chromedp.Do(b.ctx, chromedp.Click(`#scans th[data-key="loss"]`)); err != nil {
-			t.Fatal(err)
-		}
-		got := eval[[]string](t, b, readLoss)
-		var nums []float64
-		for i, s := range got {
-			if s == "" {
-				for _, rest := range got[i:] {
-					if rest != "" {
-						t.Errorf("sort %s: an empty loss before a number: %q", dir, got)
-					}
-				}
-				break
-			}
-			v, err := strconv.ParseFloat(s, 64)
-			if err != nil {
-				t.Fatalf("loss cell %q: %v", s, err)
-			}
-			nums = append(nums, v)
-		}
-		if len(nums) != 2 {
-			t.Errorf("sort %s: %d losses, want 2 (%q)", dir, len(nums), got)
-		}
-		sorted := sort.SliceIsSorted(nums, func(i, j int) bool { return nums[i] < nums[j] })
-		if dir == "descending" {
-			sorted = sort.SliceIsSorted(nums, func(i, j int) bool { return nums[i] > nums[j] })
-		}
-		if !sorted || (len(nums) == 2 && nums[0] == nums[1]) {
-			t.Errorf("sort %s: losses %v", dir, nums)
-		}
-		if aria := eval[string](t, b, `document.querySelector('#scans th[data-key="loss"]').getAttribute("aria-sort")`); aria != dir {
-			t.Errorf("after clicking: aria-sort %q, want %q", aria, dir)
-		}
-	}
+	checkLossSort(t, b, 2)
 	screenshot(t, b, shots, "index-sorted.png")
 
 	// Every link of the index opens; each scan page shows its verdict.
