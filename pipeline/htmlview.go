@@ -22,10 +22,16 @@ import (
 )
 
 // writeReportHTML writes dir/report.html from res and the SVG pictures
-// already written into dir.
+// writePictures has just written into dir (only those this result drew,
+// never one left by an earlier run).
 func writeReportHTML(dir string, res *Result) error {
 	pics := map[string][]byte{}
+	drawn := map[string]bool{"gap": res.Form != nil && res.GapM != nil, "flux": res.Form != nil && res.GapM != nil && res.Scan != nil,
+		"rings": len(res.Report.Rings) > 0}
 	for _, name := range []string{"gap", "flux", "rings"} {
+		if !drawn[name] {
+			continue
+		}
 		b, err := os.ReadFile(filepath.Join(dir, name+".svg"))
 		if err == nil {
 			pics[name] = b

@@ -136,3 +136,30 @@ func TestWriteFieldsOption(t *testing.T) {
 		t.Errorf("outputs.fields = zip: err = %v, want an error naming the key", err)
 	}
 }
+
+// TestReportHTMLIgnoresStalePictures: a rejected scan's page embeds no map
+// left in its folder by an earlier run.
+func TestReportHTMLIgnoresStalePictures(t *testing.T) {
+	dir := t.TempDir()
+	stale := []byte(`<svg xmlns="http://www.w3.org/2000/svg"><text>stale map</text></svg>`)
+	for _, n := range []string{"gap.svg", "flux.svg", "rings.svg"} {
+		if err := os.WriteFile(filepath.Join(dir, n), stale, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	res := &Result{Name: "pan.stl", Report: &Report{Quality: &QualityReport{Status: "reject",
+		Checks: []QualityCheck{{Name: "diameter_mm", Status: "reject", Message: "try --units in"}}}}}
+	if err := writeReportHTML(dir, res); err != nil {
+		t.Fatal(err)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "report.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if bytes.Contains(b, []byte("data:image/svg")) {
+		t.Error("the page embeds a picture this result did not draw")
+	}
+	if !bytes.Contains(b, []byte("REJECTED")) || !bytes.Contains(b, []byte("try --units in")) {
+		t.Error("the page lacks the rejection and its reason")
+	}
+}
