@@ -54,6 +54,8 @@ type Result struct {
 	ZoneDiameterM   float64
 	ZoneCentreM     [2]float64
 	PartNumber, Lot string
+	// Job is the effective job the scan was analysed with.
+	Job Job
 }
 
 // AnalyzeScan is the batch's AnalyzeFunc: it analyses task's scan and
@@ -85,7 +87,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		return nil, err
 	}
 	rep := &Report{Schema: SchemaReport, Warnings: []string{}}
-	res := &Result{Report: rep, Name: in.Name}
+	res := &Result{Report: rep, Name: in.Name, Job: job}
 	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
 
 	// Read and level the pan scan.

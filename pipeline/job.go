@@ -33,6 +33,7 @@ type Job struct {
 	Tolerances ToleranceJob  `toml:"tolerances"`
 	Limits     LimitsJob     `toml:"limits"`
 	Quality    QualityJob    `toml:"quality"`
+	Outputs    OutputsJob    `toml:"outputs"`
 	Materials  []MaterialJob `toml:"material"`
 }
 
@@ -185,6 +186,7 @@ func DefaultJob() Job {
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
 		Quality:    defaultQualityJob(),
+		Outputs:    OutputsJob{Fields: FieldsCompressed},
 	}
 }
 

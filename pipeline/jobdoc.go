@@ -235,6 +235,9 @@ func jobKeys() []keySpec {
 		{key: "quality.noise_gap_warn_max_pct", doc: "scanner noise against the mean gap above which the scan warns", unit: "%", lo: 0, hi: 1000,
 			why: "a fifth of the mean gap by default (DESIGN 5.0)"},
 
+		{key: "outputs.fields", doc: "fields.vti: zlib-compressed (VTK's own compression), plain (uncompressed, base64) or off (not written)",
+			oneOf: []string{FieldsCompressed, FieldsPlain, FieldsOff}},
+
 		{key: "material.name", doc: "material name (a new one, or a built-in one to override)"},
 		{key: "material.conductivity_w_mk", doc: "thermal conductivity", unit: "W/(m·K)", lo: 0.01, hi: 2500, zero: "keep the built-in value",
 			why: "physical: from insulating ceramics to diamond"},

@@ -3,9 +3,12 @@ package pipeline
 import (
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
+	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -62,18 +65,40 @@ func WriteOutputs(res *Result, dir string) error {
 	if err := writePictures(dir, res); err != nil {
 		return err
 	}
-	if res.Form != nil {
-		if err := WriteFileAtomic(filepath.Join(dir, "fields.vti"), func(w io.Writer) error {
-			return WriteVTI(w, res.vtiGrid(), res.vtiFields())
-		}); err != nil {
-			return err
-		}
+	if err := writeFields(dir, res); err != nil {
+		return err
+	}
+	if err := writeReportHTML(dir, res); err != nil {
+		return err
 	}
 	b, err := MarshalReport(rep)
 	if err != nil {
 		return err
 	}
 	return WriteBytesAtomic(filepath.Join(dir, "report.json"), b)
+}
+
+// writeFields writes fields.vti as the job's outputs.fields says: zlib
+// compressed (the default), plain, or not at all (then an old one is
+// removed, so the folder never holds fields of an earlier run).
+func writeFields(dir string, res *Result) error {
+	path := filepath.Join(dir, "fields.vti")
+	write := WriteVTICompressed
+	switch res.Job.Outputs.Fields {
+	case FieldsOff:
+		if err := os.Remove(path); err != nil && !errors.Is(err, fs.ErrNotExist) {
+			return err
+		}
+		return nil
+	case FieldsPlain:
+		write = WriteVTI
+	}
+	if res.Form == nil {
+		return nil
+	}
+	return WriteFileAtomic(path, func(w io.Writer) error {
+		return write(w, res.vtiGrid(), res.vtiFields())
+	})
 }
 
 func (res *Result) vtiGrid() VTIGrid {

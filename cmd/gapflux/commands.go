@@ -327,8 +327,9 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) (int,
 	}
 	fmt.Fprintln(stdout)
 	fmt.Fprint(stdout, res.Summary.Table())
-	fmt.Fprintf(stdout, "\nsummary table: %s (run log: %s)\n", filepath.Join(results, "summary.csv"), filepath.Join(results, "run.log"))
-	fmt.Fprintf(stdout, "per scan (maps gap.png and flux.png, ring chart rings.png, rings.csv, report.json, fields.vti): %s\n",
+	fmt.Fprintf(stdout, "\nopen in a browser: %s\n", filepath.Join(results, "index.html"))
+	fmt.Fprintf(stdout, "summary table: %s (run log: %s)\n", filepath.Join(results, "summary.csv"), filepath.Join(results, "run.log"))
+	fmt.Fprintf(stdout, "per scan (report.html, maps gap.png and flux.png, ring chart rings.png, rings.csv, report.json, fields.vti): %s\n",
 		filepath.Join(results, pipeline.ScansDir, "<scan>"))
 	fmt.Fprintf(stdout, "the demo's pans, hob and numbers are invented. The failed row (%s) is on purpose: that file is cut short to show what a broken scan gives.\n",
 		pipeline.DemoBrokenScan)
