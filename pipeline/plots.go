@@ -20,6 +20,7 @@ import (
 	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
 
+	"gapflux/internal/order"
 	"gapflux/scan"
 )
 
@@ -796,7 +797,7 @@ func robustRange(values []float64) (lo, hi float64, clipped bool) {
 	if len(v) == 0 {
 		return 0, 1, false
 	}
-	if p := selectRank(v, int(0.995*float64(len(v)-1))); p-lo < 0.5*(hi-lo) {
+	if p := order.Select(v, int(0.995*float64(len(v)-1))); p-lo < 0.5*(hi-lo) {
 		hi, clipped = p, true
 	}
 	if hi-lo < 1e-12*math.Max(1, math.Abs(hi)) {
@@ -805,47 +806,6 @@ func robustRange(values []float64) (lo, hi float64, clipped bool) {
 	return lo, hi, clipped
 }
 
-// selectRank returns the k-th smallest of v (k from 0), reordering v:
-// Hoare's selection with a median-of-three pivot.
-func selectRank(v []float64, k int) float64 {
-	lo, hi := 0, len(v)-1
-	for lo < hi {
-		mid := lo + (hi-lo)/2
-		if v[mid] < v[lo] {
-			v[mid], v[lo] = v[lo], v[mid]
-		}
-		if v[hi] < v[lo] {
-			v[hi], v[lo] = v[lo], v[hi]
-		}
-		if v[hi] < v[mid] {
-			v[hi], v[mid] = v[mid], v[hi]
-		}
-		pivot := v[mid]
-		i, j := lo, hi
-		for i <= j {
-			for v[i] < pivot {
-				i++
-			}
-			for v[j] > pivot {
-				j--
-			}
-			if i <= j {
-				v[i], v[j] = v[j], v[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return v[k]
-		}
-	}
-	return v[k]
-}
 
 // shortTicks are gonum's default ticks labelled with at most four
 // significant digits and no trailing zeros ("250", not "250.00").

@@ -12,11 +12,9 @@ import (
 	"image/png"
 	"io"
 	"math"
-	"math/rand/v2"
 	"os"
 	"os/exec"
 	"path/filepath"
-	"slices"
 	"strings"
 	"testing"
 
@@ -569,25 +567,6 @@ func TestPictureLabels(t *testing.T) {
 	for _, tt := range tests {
 		if got := titleText("t", tt.l); got != tt.want {
 			t.Errorf("%+v: %q, want %q", tt.l, got, tt.want)
-		}
-	}
-}
-
-// TestSelectRank compares selection with sorting on random data with
-// many ties.
-func TestSelectRank(t *testing.T) {
-	rng := rand.New(rand.NewPCG(1, 2))
-	for _, n := range []int{1, 2, 3, 10, 101, 5000} {
-		v := make([]float64, n)
-		for i := range v {
-			v[i] = float64(rng.IntN(n/3 + 1))
-		}
-		sorted := slices.Clone(v)
-		slices.Sort(sorted)
-		for _, k := range []int{0, n / 2, int(0.995 * float64(n-1)), n - 1} {
-			if got := selectRank(slices.Clone(v), k); got != sorted[k] {
-				t.Errorf("n %d rank %d: %g, want %g", n, k, got, sorted[k])
-			}
 		}
 	}
 }

@@ -3,6 +3,8 @@ package scan
 import (
 	"math"
 	"slices"
+
+	"gapflux/internal/order"
 )
 
 // Coverage rules (our own choices, stated in the report's documentation).
@@ -207,7 +209,7 @@ func PointSpacing(x, y []float64, areaM2 float64) Spacing {
 		return Spacing{}
 	}
 	med := medianInPlace(d)
-	return Spacing{MedianM: med, P90M: quickSelect(d, min(len(d)-1, len(d)*9/10))}
+	return Spacing{MedianM: med, P90M: order.Select(d, min(len(d)-1, len(d)*9/10))}
 }
 
 // Coverage describes how much of the base disc the scan measured.

@@ -8,6 +8,8 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"gapflux/internal/order"
 )
 
 // DefaultMaxSlopeDeg is the default rim slope limit, degrees: the base ends
@@ -295,8 +297,8 @@ func scanWidth(pts []r3.Vec) (float64, bool) {
 			w = append(w, [3]float64{pts[i].X, pts[i].Y, pts[i].Z}[k])
 		}
 		n := len(w) - 1
-		lo := quickSelect(w, n/100)
-		hi := quickSelect(w, n-n/100)
+		lo := order.Select(w, n/100)
+		hi := order.Select(w, n-n/100)
 		width = max(width, hi-lo)
 	}
 	return width, !math.IsInf(width, 0) && width > 0
@@ -1216,7 +1218,7 @@ func extentRadius(pts []r3.Vec, f *frame, uc, vc float64) float64 {
 		u, v, _ := f.coords(pts[i])
 		d = append(d, math.Hypot(u-uc, v-vc))
 	}
-	return quickSelect(d, int(0.995*float64(len(d)-1)))
+	return order.Select(d, int(0.995*float64(len(d)-1)))
 }
 
 // profileTrend fits w = t0 + t1·r + t2·r² by least squares to the valid
@@ -1489,7 +1491,7 @@ func wallFace(pts []r3.Vec, f *frame, radius, dr float64) float64 {
 		return 0
 	}
 	k := min(len(rimW)-1, int(0.99*float64(len(rimW))))
-	hb := quickSelect(rimW, k)
+	hb := order.Select(rimW, k)
 	lim := hb + 0.01*radius
 	pos, neg := 0, 0
 	for _, w := range outer {
@@ -1530,7 +1532,7 @@ func outlineRim(pts []r3.Vec, f *frame, uc, vc, r0 float64) (rimFit, bool) {
 	if len(inner) < 10 {
 		return rimFit{}, false
 	}
-	band := max(0.03*r0, 3*quickSelect(inner, int(0.95*float64(len(inner)-1))))
+	band := max(0.03*r0, 3*order.Select(inner, int(0.95*float64(len(inner)-1))))
 	best := make([]float64, ns)
 	bu, bv := make([]float64, ns), make([]float64, ns)
 	for _, p := range pts {
