@@ -806,7 +806,6 @@ func robustRange(values []float64) (lo, hi float64, clipped bool) {
 	return lo, hi, clipped
 }
 
-
 // shortTicks are gonum's default ticks labelled with at most four
 // significant digits and no trailing zeros ("250", not "250.00").
 type shortTicks struct{}
