@@ -102,11 +102,11 @@ func (g *gate) levelled(lev *scan.Levelled, sample []r3.Vec, bandM float64) {
 // gridded takes the figures known once the base is gridded and filtered:
 // coverage and the largest hole as the gridding measured them from the
 // points (scan.Gridded: within 1.5 point spacings of a measured point;
-// largest empty circle), the rim gaps measured on the grid (rimCover),
+// largest empty circle), the rim gaps from the gridding's rim sectors (rimCover),
 // and the noise the form filter removed.
 func (g *gate) gridded(grid *scan.Gridded, lev *scan.Levelled, filt *scan.FilterResult) {
 	g.in.CoveragePct, g.in.LargestHoleM = grid.CoveragePct, grid.LargestHoleM
-	g.in.RimLargestGapDeg, g.in.RimMissingPct = rimCover(grid.Raw, lev.RadiusM, grid.PointSpacingM)
+	g.in.RimLargestGapDeg, g.in.RimMissingPct = rimCover(grid.RimSectorsMissing)
 	g.in.NoiseM = filt.NoiseM
 }
 

@@ -47,3 +47,59 @@ func TestAnalyzeLiftedRingEndToEnd(t *testing.T) {
 	}
 	t.Logf("diameter %.2f mm, loss %.1f %%, tip force %.1f N, shape %s", rep.Geometry.DiameterMM, rep.Heat.LossPct, tip, rep.Geometry.Shape)
 }
+
+// TestQualityGateMissingParts (issue 8, "how it is checked"): a 40 mm hole
+// is reported within 10 % and warns; a 90° rim sector missing and half the
+// base missing are named by the gate (warn or reject), never passed
+// silently. Synthetic 200 mm dishes, 1 mm cloud spacing; the truth is the
+// cut geometry.
+func TestQualityGateMissingParts(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end")
+	}
+	dir := t.TempDir()
+	base := synth.Spec{Shape: synth.Dish, DiameterM: 0.2, SagM: 0.2e-3, NoiseM: 8e-6, SpacingM: 1e-3, Seed: 5}
+	tests := []struct {
+		name   string
+		edit   func(*synth.Spec)
+		check  string // the quality check that must not be ok
+		status string // its least status
+	}{
+		{"40 mm hole", func(s *synth.Spec) { s.HoleList = []synth.Hole{{XM: 0.03, YM: 0.01, DiameterM: 0.04}} }, "largest_hole_mm", "warn"},
+		{"90° rim sector missing", func(s *synth.Spec) { s.Sectors = []synth.Sector{{FromDeg: 0, ToDeg: 90, InnerM: 0.06}} }, "rim_missing_pct", "warn"},
+		{"half the base missing", func(s *synth.Spec) { s.Sectors = []synth.Sector{{FromDeg: 90, ToDeg: 270}} }, "rim_missing_pct", "reject"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			spec := base
+			tc.edit(&spec)
+			pan := writeSynth(t, dir, "gate", spec, synth.Encoding{Format: "xyz"})
+			res, err := Analyze(context.Background(), ScanInput{PanPath: pan, Name: "gate.xyz", Job: DefaultJob()})
+			if err != nil {
+				t.Fatal(err)
+			}
+			q := res.Report.Quality
+			var found bool
+			for _, c := range q.Checks {
+				if c.Name != tc.check {
+					continue
+				}
+				found = true
+				fig := math.NaN()
+				if c.Figure != nil {
+					fig = *c.Figure
+				}
+				t.Logf("%s: %s %.2f (%s); gate %s", c.Name, c.Status, fig, c.Message, q.Status)
+				if c.Status == "ok" || c.Status == "not-measured" || (tc.status == "reject" && c.Status != "reject") {
+					t.Errorf("%s is %s, want at least %s", c.Name, c.Status, tc.status)
+				}
+				if tc.check == "largest_hole_mm" && math.Abs(fig-40) > 4 {
+					t.Errorf("largest hole %.2f mm, want 40 ± 10 %%", fig)
+				}
+			}
+			if !found {
+				t.Errorf("no check %s in %+v", tc.check, q.Checks)
+			}
+		})
+	}
+}
