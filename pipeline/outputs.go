@@ -62,6 +62,9 @@ func WriteOutputs(res *Result, dir string) error {
 	if err := writePictures(dir, res); err != nil {
 		return err
 	}
+	if err := writeHotPictures(dir, res); err != nil {
+		return err
+	}
 	if res.Form != nil {
 		if err := WriteFileAtomic(filepath.Join(dir, "fields.vti"), func(w io.Writer) error {
 			return WriteVTI(w, res.vtiGrid(), res.vtiFields())
@@ -229,6 +232,9 @@ func HumanSummary(res *Result) string {
 			fmt.Fprintf(&b, "  (quasi-steady: the glass itself holds %.0f kJ when hot, %.0f kJ under the flat twin, not charged above)\n",
 				*hh.GlassHeatKJ, *hh.FlatGlassHeatKJ)
 		}
+	}
+	if h, g := rep.Hot, rep.Geometry; h != nil && g != nil {
+		b.WriteString(hotSummary(h, g.DiameterMM))
 	}
 	if v := rep.Verdict; v != nil {
 		if v.Pass {
