@@ -385,12 +385,7 @@ func hotSummary(h *HotReport, diameterMM float64) string {
 func stateVerdict(job Job, rep *Report) *VerdictReport {
 	cold := *rep
 	cold.Hot = nil
-	h := rep.Hot
-	hot := &Report{
-		Geometry: &GeometryReport{ConcavityMM: h.ConcavityMM, ConcavityPctOfDiameter: h.ConcavityPctOfDiameter, FlatnessMZMM: h.FlatnessMZMM},
-		Pose:     h.Pose,
-		Heat:     &HeatReport{LossPct: h.LossPct},
-	}
+	hot := hotOnlyReport(rep.Hot)
 	v := &VerdictReport{Pass: true, Reasons: []string{}}
 	add := func(state string, r *Report) {
 		sv := verdict(job, r)

@@ -117,3 +117,99 @@ func TestStateVerdict(t *testing.T) {
 		}
 	}
 }
+
+// TestDesignChecks runs the design sweep of issue 11's checks: a single
+// 3 mm stainless base on the default zone, free edge, and a 4 mm
+// aluminium one.
+func TestDesignChecks(t *testing.T) {
+	if testing.Short() {
+		t.Skip("a design sweep runs the coupled hot state per row")
+	}
+	job := stainlessJob()
+	start := time.Now()
+	tab, err := Design(context.Background(), DesignOptions{Job: job, FromMM: -0.2, ToMM: 0.8, StepMM: 0.1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("stainless sweep of %d rows: %v", len(tab.Rows), time.Since(start))
+	var buf bytes.Buffer
+	if err := WriteDesignCSV(&buf, tab); err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("\n%s%s", buf.String(), tab.Statement)
+	var flat DesignRow
+	for _, r := range tab.Rows {
+		if r.ColdConcavityMM == 0 {
+			flat = r
+		}
+		if !r.Converged {
+			t.Errorf("cold %g mm: not converged in %d rounds", r.ColdConcavityMM, r.Iterations)
+		}
+	}
+	// The flat base domes hot; the mean-flux estimate α q̄ R²/(2k) with
+	// α = 17.3e-6 1/K, k = 16.2 W/(m·K) (contact.Materials ss-304) and the
+	// flat twin's mean flux (an upper bound of the hot base's) is the
+	// order of it; the coupled test in hot_chain_test.go bounds it closely.
+	q := tab.FlatPowerW / (math.Pi * 0.1 * 0.1)
+	est := 17.3e-6 * q * 0.1 * 0.1 / (2 * 16.2) * 1e3
+	if !(flat.HotConcavityMM < -0.5*est && flat.HotConcavityMM > -2*est) {
+		t.Errorf("flat stainless: hot concavity %.3f mm, want a dome of 0.5 to 2 × α q̄ R²/(2k) = %.3f mm", flat.HotConcavityMM, est)
+	}
+	// With enough cold concavity it ends flatter hot than the flat base.
+	flatter := false
+	for _, r := range tab.Rows {
+		flatter = flatter || r.ColdConcavityMM > 0 && math.Abs(r.HotConcavityMM) < 0.5*math.Abs(flat.HotConcavityMM)
+	}
+	if !flatter {
+		t.Error("no cold concavity makes the stainless base flatter hot than the flat base")
+	}
+	// The hot loss is least at a positive cold concavity.
+	if !(tab.LeastLossColdMM > 0) {
+		t.Errorf("least hot loss at cold concavity %g mm, want positive", tab.LeastLossColdMM)
+	}
+	out := t.TempDir()
+	if err := WriteDesign(out, tab); err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range []string{"design.csv", "design.json", "design.png", "design.svg"} {
+		if st, err := os.Stat(filepath.Join(out, f)); err != nil || st.Size() == 0 {
+			t.Errorf("%s: %v", f, err)
+		}
+	}
+
+	// A 4 mm aluminium base bows far less: α/k is about 7× smaller
+	// (24e-6/222 against 17.3e-6/16.2; contact.Materials).
+	al := DefaultJob()
+	alTab, err := Design(context.Background(), DesignOptions{Job: al, FromMM: 0, ToMM: 0, StepMM: 0.1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a := alTab.Rows[0]
+	t.Logf("flat aluminium: hot concavity %.4f mm, loss %.2f %%", a.HotConcavityMM, a.HotLossPct)
+	if !(math.Abs(a.HotConcavityMM) < math.Abs(flat.HotConcavityMM)/4) {
+		t.Errorf("flat aluminium: hot concavity %.4f mm, want under a quarter of the stainless %.4f mm", a.HotConcavityMM, flat.HotConcavityMM)
+	}
+}
+
+func TestParseColdRange(t *testing.T) {
+	for _, tc := range []struct {
+		in             string
+		from, to, step float64
+		ok             bool
+	}{
+		{"-0.2:0.6:0.05", -0.2, 0.6, 0.05, true},
+		{"0:0:1", 0, 0, 1, true},
+		{"0.5:0.1:0.1", 0, 0, 0, false},
+		{"0:1:0", 0, 0, 0, false},
+		{"0:1", 0, 0, 0, false},
+		{"0:NaN:0.1", 0, 0, 0, false},
+		{"0:100:0.1", 0, 0, 0, false},
+		{"0:30:0.1", 0, 0, 0, false}, // 301 rows
+		{"a:1:0.1", 0, 0, 0, false},
+	} {
+		f, to, s, err := ParseColdRange(tc.in)
+		if (err == nil) != tc.ok || tc.ok && (f != tc.from || to != tc.to || s != tc.step) {
+			t.Errorf("ParseColdRange(%q) = %g, %g, %g, %v", tc.in, f, to, s, err)
+		}
+	}
+}
