@@ -146,14 +146,37 @@ func TestDesignChecks(t *testing.T) {
 			t.Errorf("cold %g mm: not converged in %d rounds", r.ColdConcavityMM, r.Iterations)
 		}
 	}
-	// The flat base domes hot; the mean-flux estimate α q̄ R²/(2k) with
-	// α = 17.3e-6 1/K, k = 16.2 W/(m·K) (contact.Materials ss-304) and the
-	// flat twin's mean flux (an upper bound of the hot base's) is the
-	// order of it; the coupled test in hot_chain_test.go bounds it closely.
-	q := tab.FlatPowerW / (math.Pi * 0.1 * 0.1)
+	// The flat base domes hot by roughly α q̄ R²/(2k) for its mean flux q̄
+	// (Timoshenko & Woinowsky-Krieger 1959, thermal bending of a free
+	// plate; α = 17.3e-6 1/K, k = 16.2 W/(m·K): contact.Materials ss-304).
+	// More, in fact: the domed base touches at its centre, where the flux
+	// then gathers, and a free plate's centre height weights the moment
+	// near the centre (see hot_chain_test.go): 0.9 to 1.6 times.
+	q := tab.FlatPowerW * (1 - flat.HotLossPct/100) / (math.Pi * 0.1 * 0.1)
 	est := 17.3e-6 * q * 0.1 * 0.1 / (2 * 16.2) * 1e3
-	if !(flat.HotConcavityMM < -0.5*est && flat.HotConcavityMM > -2*est) {
-		t.Errorf("flat stainless: hot concavity %.3f mm, want a dome of 0.5 to 2 × α q̄ R²/(2k) = %.3f mm", flat.HotConcavityMM, est)
+	t.Logf("flat stainless: mean hot flux %.1f kW/m², hot dome %.4f mm, α q̄ R²/(2k) = %.4f mm (ratio %.3f)", q/1e3, -flat.HotConcavityMM, est, -flat.HotConcavityMM/est)
+	if !(flat.HotConcavityMM < -0.9*est && flat.HotConcavityMM > -1.6*est) {
+		t.Errorf("flat stainless: hot concavity %.3f mm, want a dome of 0.9 to 1.6 × α q̄ R²/(2k) = %.3f mm", flat.HotConcavityMM, est)
+	}
+
+	// The edge conditions: a clamped rim holds a uniform thermal moment
+	// flat (Timoshenko & Woinowsky-Krieger 1959: a clamped plate under a
+	// uniform thermal moment does not deflect), so only the moment's
+	// variation over the base bows it; the wall lies between.
+	domes := map[string]float64{}
+	for _, edge := range []string{"clamped", "wall"} {
+		j := stainlessJob()
+		j.Hot.Edge = edge
+		et, err := Design(context.Background(), DesignOptions{Job: j, FromMM: 0, ToMM: 0, StepMM: 0.1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		domes[edge] = -et.Rows[0].HotConcavityMM
+	}
+	t.Logf("flat stainless hot dome: free %.4f mm, wall %.4f mm, clamped %.4f mm", -flat.HotConcavityMM, domes["wall"], domes["clamped"])
+	if !(math.Abs(domes["clamped"]) < 0.25*-flat.HotConcavityMM && domes["wall"] < -flat.HotConcavityMM && domes["wall"] > domes["clamped"]) {
+		t.Errorf("hot dome free %.4f, wall %.4f, clamped %.4f mm: want clamped under a quarter of free and wall between",
+			-flat.HotConcavityMM, domes["wall"], domes["clamped"])
 	}
 	// With enough cold concavity it ends flatter hot than the flat base.
 	flatter := false
@@ -211,5 +234,50 @@ func TestParseColdRange(t *testing.T) {
 		if (err == nil) != tc.ok || tc.ok && (f != tc.from || to != tc.to || s != tc.step) {
 			t.Errorf("ParseColdRange(%q) = %g, %g, %g, %v", tc.in, f, to, s, err)
 		}
+	}
+}
+
+// BenchmarkAnalyzeHot is the whole analysis of a 200 mm dished stainless
+// base scanned at 0.5 mm spacing (as BenchmarkAnalyze), default heater
+// job, without and with the hot state: the difference is the hot state's
+// cost per scan.
+func BenchmarkAnalyzeHot(b *testing.B) {
+	dir := b.TempDir()
+	path := writeSynth(b, dir, "dish", synth.Spec{Shape: synth.Dish, DiameterM: 0.2, SagM: 0.4e-3, NoiseM: 8e-6, Seed: 1},
+		synth.Encoding{Format: "ply", Binary: true})
+	for _, hot := range []bool{false, true} {
+		b.Run(map[bool]string{false: "cold", true: "hot"}[hot], func(b *testing.B) {
+			job := stainlessJob()
+			job.Hot.Enabled = hot
+			for b.Loop() {
+				res, err := Analyze(context.Background(), ScanInput{PanPath: path, Name: "dish.ply", Job: job})
+				if err != nil {
+					b.Fatal(err)
+				}
+				if h := res.Report.Hot; h != nil {
+					b.ReportMetric(float64(h.Iterations), "rounds")
+					b.ReportMetric(res.Report.Geometry.CellMM, "cell_mm")
+				}
+			}
+		})
+	}
+}
+
+// BenchmarkDesign25 is a design sweep over 25 cold concavities of a
+// 200 mm single 3 mm stainless base on the default zone (2 mm cells).
+func BenchmarkDesign25(b *testing.B) {
+	for b.Loop() {
+		t, err := Design(context.Background(), DesignOptions{Job: stainlessJob(), FromMM: -0.4, ToMM: 0.8, StepMM: 0.05})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if len(t.Rows) != 25 {
+			b.Fatalf("%d rows", len(t.Rows))
+		}
+		rounds := 0
+		for _, r := range t.Rows {
+			rounds += r.Iterations
+		}
+		b.ReportMetric(float64(rounds)/25, "rounds/row")
 	}
 }
