@@ -375,7 +375,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 
 	if job.Hot.Enabled { // the base as it is when cooking (issue 11)
 		if res.Hot, err = hotStage(ctx, hotInput{job: job, lib: lib, surf: surf, hob: hob, inBase: inBase, radiusM: lev.RadiusM,
-			ip: ip, prob: prob, flat: solFlat, flatIf: flatField, cold: solScan, coldMM: rep.Geometry.ConcavityMM}); err != nil {
+			ip: ip, prob: prob, flat: solFlat, flatIf: flatField, cold: solScan, coldSolved: true, coldMM: rep.Geometry.ConcavityMM}); err != nil {
 			return nil, fmt.Errorf("%s: hot state: %w", in.Name, err)
 		}
 		rep.Hot, rep.Warnings = res.Hot.Report, append(rep.Warnings, res.Hot.Warnings...)

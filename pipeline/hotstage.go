@@ -84,7 +84,10 @@ type hotInput struct {
 	prob    *thermal.Problem // the plate problem without interface and water temperature
 	flat    *thermal.Solution
 	flatIf  thermal.Interface
-	cold    *thermal.Solution // cold scan's steady solution: warm start (nil: none)
+	cold    *thermal.Solution // warm start of the first round (nil: none)
+	// coldSolved says cold is the steady solution of this very cold base,
+	// so the first round takes it instead of solving again.
+	coldSolved bool
 	coldMM  float64           // cold concavity, mm
 	solves  *solveCache       // shared between calls (design); nil: a new one
 }
@@ -207,9 +210,11 @@ func hotStage(ctx context.Context, in hotInput) (*HotResult, error) {
 		gap := contact.Gap(hot, in.hob, pose)
 		mask, p, a := contact.ContactPressure(gap, in.inBase, cellA, loadN, in.ip.SigmaM)
 		f := &contact.Field{Params: in.ip, GapM: gap, Contact: mask, PressurePa: p}
-		sol, err := in.solves.solve(ctx, in.prob, f, steadyK, last, false)
-		if err != nil {
-			return nil, nil, fmt.Errorf("plate solve: %w", err)
+		sol := in.cold // a first round on a cold base solved already
+		if out.ColdScan != nil || !in.coldSolved || sol == nil {
+			if sol, err = in.solves.solve(ctx, in.prob, f, steadyK, last, false); err != nil {
+				return nil, nil, fmt.Errorf("plate solve: %w", err)
+			}
 		}
 		if out.ColdScan == nil {
 			out.ColdScan = sol
