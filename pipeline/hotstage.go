@@ -88,8 +88,8 @@ type hotInput struct {
 	// coldSolved says cold is the steady solution of this very cold base,
 	// so the first round takes it instead of solving again.
 	coldSolved bool
-	coldMM  float64           // cold concavity, mm
-	solves  *solveCache       // shared between calls (design); nil: a new one
+	coldMM     float64     // cold concavity, mm
+	solves     *solveCache // shared between calls (design); nil: a new one
 }
 
 // solveCache runs the plate solves of the hot stage, warm-started, and
