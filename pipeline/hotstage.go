@@ -449,3 +449,37 @@ func writeHotPictures(dir string, res *Result) error {
 	bspec.Unit, bspec.Values, bspec.MarksMM, bspec.MarkLabel = "bow when hot, + into the pan (µm)", inBase(h.State.BowM, 1e6), nil, ""
 	return writeMapFiles(dir, "bow", &bspec)
 }
+
+// hotFields are the hot state's per-cell fields of fields.vti: hot height
+// (µm), thermal bow (µm, + into the pan), hot gap (mm), hot contact, hot
+// base temperature (°C) and hot flux (kW/m²); none without a hot state.
+func (res *Result) hotFields() []VTIField {
+	h, s := res.Hot, res.Form
+	if h == nil || s == nil {
+		return nil
+	}
+	scaled := func(src []float64, f func(float64) float64) []float64 {
+		out := make([]float64, len(s.ZM))
+		for k := range out {
+			out[k] = math.NaN()
+			if s.InBase(k) && !math.IsNaN(src[k]) {
+				out[k] = f(src[k])
+			}
+		}
+		return out
+	}
+	contactMask := make([]float64, len(s.ZM))
+	for k, in := range h.Contact {
+		if in {
+			contactMask[k] = 1
+		}
+	}
+	return []VTIField{
+		{Name: "hot_height_um", Values: scaled(h.State.SurfaceZM, func(v float64) float64 { return v * 1e6 })},
+		{Name: "bow_um", Values: scaled(h.State.BowM, func(v float64) float64 { return v * 1e6 })},
+		{Name: "hot_gap_mm", Values: scaled(h.GapM, func(v float64) float64 { return v * 1e3 })},
+		{Name: "hot_contact", Values: contactMask, UInt8: true},
+		{Name: "hot_base_c", Values: scaled(h.Scan.TPanK, func(v float64) float64 { return v - kelvin })},
+		{Name: "hot_flux_kw_m2", Values: scaled(h.Scan.FluxWM2, func(v float64) float64 { return v / 1e3 })},
+	}
+}

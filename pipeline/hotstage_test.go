@@ -79,6 +79,15 @@ func TestAnalyzeHotState(t *testing.T) {
 			t.Errorf("%s: %v", f, err)
 		}
 	}
+	vti, err := os.ReadFile(filepath.Join(out, "fields.vti"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, name := range []string{"hot_height_um", "bow_um", "hot_gap_mm", "hot_contact", "hot_base_c", "hot_flux_kw_m2"} {
+		if !bytes.Contains(vti, []byte(`Name="`+name+`"`)) {
+			t.Errorf("fields.vti has no %s array", name)
+		}
+	}
 	// Deterministic: the same inputs give the same report bytes.
 	res2, err := Analyze(context.Background(), ScanInput{PanPath: path, Name: "flat.ply", Job: job})
 	if err != nil {

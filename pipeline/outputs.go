@@ -162,7 +162,7 @@ func (res *Result) vtiFields() []VTIField {
 			fields = append(fields, VTIField{Name: "glass_c", Values: g})
 		}
 	}
-	return fields
+	return append(fields, res.hotFields()...)
 }
 
 // bendAxis is the bend axis of a bent base, degrees (0 if not reported).
