@@ -36,6 +36,13 @@ type HotReport struct {
 	ConcavityPctOfDiameter float64 `json:"concavity_pct_of_diameter"`
 	ConcavityChangeMM      float64 `json:"concavity_change_mm"` // hot − cold; negative: bowed toward a dome
 	FlatnessMZMM           float64 `json:"flatness_mz_mm"`
+	// FlatHotColdMM is where this base sits against the design band: the
+	// cold concavity that would make it flat hot, cold − hot concavity, to
+	// first order (the heat's bow taken as independent of the cold
+	// concavity, as it is within about 5 % in the design table of a
+	// stainless base from −0.2 to +0.6 mm; "gapflux design" gives the
+	// band itself).
+	FlatHotColdMM float64 `json:"flat_hot_cold_concavity_mm"`
 	// MaxBowMM is the largest |w| over the base, w the thermal deflection
 	// about the plane of the rim (+ into the pan); CentreBowMM is w at the
 	// base centre.
@@ -266,6 +273,7 @@ func hotReport(in hotInput, st *HotState, out *HotResult, info bow.Info, edge bo
 		ConcavityPctOfDiameter: roundTo(form.ConcavityPctOfDiameter, 4),
 		ConcavityChangeMM:      roundTo(form.ConcavityM*1e3-in.coldMM, 4),
 		FlatnessMZMM:           roundTo(form.FlatnessMZM*1e3, 4),
+		FlatHotColdMM:          roundTo(in.coldMM-form.ConcavityM*1e3, 4),
 		Pose:                   poseReport(out.Pose, restOptions(job, in.ip).CentreOfMassM, job),
 	}
 	if edge.Kind == bow.EdgeWall {
@@ -381,6 +389,8 @@ func hotSummary(h *HotReport, diameterMM float64) string {
 		shape, rock, math.Abs(h.ConcavityChangeMM), toward, h.Edge, h.Iterations)
 	fmt.Fprintf(&b, "  hot: %.1f %% of the base in contact, %.1f %% of the heating power lost, heat-up %+.1f %% against the flat twin\n",
 		h.Gap.ContactAreaPct, h.LossPct, h.ExtraTimePct)
+	fmt.Fprintf(&b, "  hot: a cold concavity of about %+.2f mm would make this base flat hot (first order; \"gapflux design\" gives the band)\n",
+		h.FlatHotColdMM)
 	return b.String()
 }
 

@@ -67,6 +67,10 @@ func TestAnalyzeHotState(t *testing.T) {
 	if h.Pose.Rocks && !hotFail {
 		t.Errorf("the hot base rocks but the verdict has no hot reason: %q", rep.Verdict.Reasons)
 	}
+	if want := rep.Geometry.ConcavityMM - h.ConcavityMM; math.Abs(h.FlatHotColdMM-want) > 1e-3 {
+		t.Errorf("flat-hot cold concavity %.4f mm, want cold − hot = %.4f mm", h.FlatHotColdMM, want)
+	}
+	t.Logf("summary:\n%s", HumanSummary(res))
 	if !strings.Contains(HumanSummary(res), "hot, the base domes by") {
 		t.Errorf("summary has no hot line:\n%s", HumanSummary(res))
 	}
