@@ -56,6 +56,7 @@ type Result struct {
 	PartNumber, Lot string
 	// Job is the effective job the scan was analysed with.
 	Job Job
+	Hot *HotResult // the hot state (hot.enabled), else nil
 }
 
 // AnalyzeScan is the batch's AnalyzeFunc: it analyses task's scan and
@@ -374,6 +375,13 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Heatup = hu.report
 	rep.Warnings = append(rep.Warnings, hu.warnings...)
 
+	if job.Hot.Enabled { // the base as it is when cooking (issue 11)
+		if res.Hot, err = hotStage(ctx, hotInput{job: job, lib: lib, surf: surf, hob: hob, inBase: inBase, radiusM: lev.RadiusM,
+			ip: ip, prob: prob, flat: solFlat, flatIf: flatField, cold: solScan, coldSolved: true, coldMM: rep.Geometry.ConcavityMM}); err != nil {
+			return nil, fmt.Errorf("%s: hot state: %w", in.Name, err)
+		}
+		rep.Hot, rep.Warnings = res.Hot.Report, append(rep.Warnings, res.Hot.Warnings...)
+	}
 	rep.Verdict = verdict(job, rep)
 	return res, nil
 }

@@ -34,7 +34,22 @@ type Job struct {
 	Limits     LimitsJob     `toml:"limits"`
 	Quality    QualityJob    `toml:"quality"`
 	Outputs    OutputsJob    `toml:"outputs"`
+	Hot        HotJob        `toml:"hot"`
 	Materials  []MaterialJob `toml:"material"`
+}
+
+// HotJob sets the hot state: the base as it is when cooking, bowed by its
+// own heat (DESIGN 5.5, issue 11).
+type HotJob struct {
+	Enabled         bool    `toml:"enabled"`           // run the coupled hot state (analyze --hot)
+	ScanC           float64 `toml:"scan_c"`            // temperature at which the base was scanned
+	Edge            string  `toml:"edge"`              // "free", "clamped" or "wall"
+	WallThicknessMM float64 `toml:"wall_thickness_mm"` // edge "wall": 0 = the base's layers continue up the wall
+	WallMaterial    string  `toml:"wall_material"`     // edge "wall" with a thickness: "" = the first base layer's material
+	BendCellMM      float64 `toml:"bend_cell_mm"`      // bending grid cell; 0 = automatic (40 cells across)
+	ToleranceUM     float64 `toml:"tolerance_um"`      // the iteration ends when the bow changes less than this
+	MaxIterations   int     `toml:"max_iterations"`
+	Verdict         string  `toml:"verdict"` // judge the "cold", the "hot" or "both" states
 }
 
 // GridJob sets the gridding, filtering and ring geometry.
@@ -187,6 +202,7 @@ func DefaultJob() Job {
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
 		Quality:    defaultQualityJob(),
 		Outputs:    OutputsJob{Fields: FieldsCompressed},
+		Hot:        HotJob{ScanC: 20, Edge: "free", ToleranceUM: 1, MaxIterations: DefaultHotMaxIter, Verdict: "both"},
 	}
 }
 

@@ -65,6 +65,9 @@ func WriteOutputs(res *Result, dir string) error {
 	if err := writePictures(dir, res); err != nil {
 		return err
 	}
+	if err := writeHotPictures(dir, res); err != nil {
+		return err
+	}
 	if err := writeFields(dir, res); err != nil {
 		return err
 	}
@@ -184,7 +187,7 @@ func (res *Result) vtiFields() []VTIField {
 			fields = append(fields, VTIField{Name: "glass_c", Values: g})
 		}
 	}
-	return fields
+	return append(fields, res.hotFields()...)
 }
 
 // bendAxis is the bend axis of a bent base, degrees (0 if not reported).
@@ -254,6 +257,9 @@ func HumanSummary(res *Result) string {
 			fmt.Fprintf(&b, "  (quasi-steady: the glass itself holds %.0f kJ when hot, %.0f kJ under the flat twin, not charged above)\n",
 				*hh.GlassHeatKJ, *hh.FlatGlassHeatKJ)
 		}
+	}
+	if h, g := rep.Hot, rep.Geometry; h != nil && g != nil {
+		b.WriteString(hotSummary(h, g.DiameterMM))
 	}
 	if v := rep.Verdict; v != nil {
 		if v.Pass {

@@ -14,6 +14,7 @@ type Report struct {
 	Gap      *GapReport      `json:"gap,omitempty"`
 	Heat     *HeatReport     `json:"heat,omitempty"`
 	Heatup   *HeatupReport   `json:"heatup,omitempty"`
+	Hot      *HotReport      `json:"hot,omitempty"` // the base when cooking (hot.enabled)
 	Verdict  *VerdictReport  `json:"verdict,omitempty"`
 	Rings    []RingReport    `json:"rings,omitempty"`
 	Warnings []string        `json:"warnings"`

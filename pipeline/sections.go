@@ -244,6 +244,9 @@ func ringReports(rings []thermal.Ring) []RingReport {
 
 // verdict judges the report against the job's tolerances.
 func verdict(job Job, rep *Report) *VerdictReport {
+	if rep.Hot != nil {
+		return stateVerdict(job, rep) // cold, hot or both (hot.verdict)
+	}
 	t := job.Tolerances
 	v := &VerdictReport{Pass: true, Reasons: []string{}}
 	fail := func(format string, a ...any) {

@@ -108,6 +108,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int
 		err = cmdSynth(args[1:], stdout, stderr)
 	case "demo":
 		code, err = cmdDemo(ctx, args[1:], stdout, stderr)
+	case "design":
+		code, err = cmdDesign(ctx, args[1:], stdout, stderr)
 	case "materials":
 		err = cmdMaterials(args[1:], stdout, stderr)
 	case "job":
