@@ -102,6 +102,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int
 		code, err = cmdAnalyze(ctx, args[1:], stdout, stderr)
 	case "batch":
 		code, err = cmdBatch(ctx, args[1:], stdout, stderr)
+	case "compare":
+		code, err = cmdCompare(ctx, args[1:], stdout, stderr)
 	case "merge":
 		code, err = cmdMerge(args[1:], stdout, stderr)
 	case "synth":
