@@ -56,10 +56,13 @@ type Comparison struct {
 // AlignmentFacts is the fitted transform: the place at p in A's frame is at
 // R(angle)·p + shift in B's frame.
 type AlignmentFacts struct {
-	AngleDeg     *float64   `json:"angle_deg"` // null when the base's form does not fix it
-	AngleDefined bool       `json:"angle_defined"`
-	AngleNote    string     `json:"angle_note"`
-	ShiftMM      [2]float64 `json:"shift_mm"`
+	AngleDeg     *float64 `json:"angle_deg"` // null when the base's form does not fix it
+	AngleDefined bool     `json:"angle_defined"`
+	AngleNote    string   `json:"angle_note"`
+	// AnglePeriodDeg is 360° over the form's rotational symmetry: the
+	// turn is known modulo this (180° for a saddle or a one-way bend).
+	AnglePeriodDeg *float64   `json:"angle_period_deg"`
+	ShiftMM        [2]float64 `json:"shift_mm"`
 	// SwingUM is the range of the height RMS over a full turn, µm: how
 	// strongly the form fixes the angle.
 	SwingUM     float64 `json:"swing_um"`
@@ -108,6 +111,7 @@ type CompareResult struct {
 	Comparison  *Comparison
 	Grid        *scan.Surface // A's form grid
 	RadiusM     float64
+	Names       [2]string // how the maps name A and B
 	HeightDiffM []float64 // B − A − mean, m
 	GapDiffM    []float64 // gap B − gap A, m
 }
@@ -166,6 +170,7 @@ func Compare(ctx context.Context, in CompareInput) (*CompareResult, error) {
 		c.Warnings = append(c.Warnings, c.Alignment.AngleNote)
 	}
 	out := &CompareResult{Comparison: c, Grid: a.Form, RadiusM: radius}
+	out.Names = [2]string{filepath.Base(in.A), filepath.Base(in.B)}
 	out.HeightDiffM, c.HeightDiff = heightDiff(a.Form, b.Form, fit, radius)
 	bGap := align.Resample(b.Form, b.GapM, a.Form, fit)
 	out.GapDiffM = make([]float64, len(bGap))
@@ -186,8 +191,12 @@ func alignmentFacts(fit *align.Result) AlignmentFacts {
 		ShiftMM: [2]float64{roundTo(fit.ShiftM[0]*1e3, 4), roundTo(fit.ShiftM[1]*1e3, 4)}}
 	if fit.Defined {
 		deg := roundTo(fit.AngleRad*180/math.Pi, 3)
-		f.AngleDeg = &deg
-		f.AngleNote = "fitted: the height difference over the common base is least at this turn of B about the base axis"
+		period := 360 / float64(fit.Fold)
+		f.AngleDeg, f.AnglePeriodDeg = &deg, &period
+		f.AngleNote = "fitted: the height difference over the common base is least at this turn of B about the base axis (counter-clockwise seen from inside the pan)"
+		if fit.Fold > 1 {
+			f.AngleNote += fmt.Sprintf("; the form looks the same turned by %.0f°, so the turn is known only modulo %.0f°", period, period)
+		}
 	} else {
 		f.AngleNote = fmt.Sprintf("undefined: the base is rotationally symmetric to within %.1f µm (the height difference changes by %.2f µm over a full turn), so the turn between the scans cannot be told; compared as scanned (0°)",
 			align.DefaultFlatTolM*1e6, fit.SwingM*1e6)
@@ -387,8 +396,8 @@ func writeChangeMaps(dir string, r *CompareResult) error {
 		v                 []float64
 		scale             float64
 	}{
-		{"height_change", "height change B − A (mean removed)", "height change (µm)", r.HeightDiffM, 1e6},
-		{"gap_change", "gap change B − A", "gap change (mm)", r.GapDiffM, 1e3},
+		{"height_change", fmt.Sprintf("height change %s − %s (mean removed)", r.Names[1], r.Names[0]), "height change (µm)", r.HeightDiffM, 1e6},
+		{"gap_change", fmt.Sprintf("gap change %s − %s", r.Names[1], r.Names[0]), "gap change (mm)", r.GapDiffM, 1e3},
 	}
 	for _, m := range maps {
 		vals := make([]float64, len(m.v))

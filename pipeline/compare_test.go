@@ -67,6 +67,9 @@ func TestCompare(t *testing.T) {
 				t.Fatalf("angle defined = %v (swing %.2f µm, note %q), want %v", al.AngleDefined, al.SwingUM, al.AngleNote, tc.wantDefined)
 			}
 			if tc.wantDefined {
+				if al.AnglePeriodDeg == nil || *al.AnglePeriodDeg != 180 {
+					t.Errorf("angle period %v, want 180° (a saddle)", fmtOpt(al.AnglePeriodDeg))
+				}
 				e := math.Mod(*al.AngleDeg-tc.wantAngle+720, 180)
 				if e = math.Min(e, 180-e); e > 0.5 {
 					t.Errorf("angle %.3f°, want %.1f° (mod 180°) ± 0.5°", *al.AngleDeg, tc.wantAngle)

@@ -76,6 +76,12 @@ type Result struct {
 	SwingM float64
 	// CoarseMinDeg is the best angle of the coarse search, degrees.
 	CoarseMinDeg float64
+	// Fold is the largest n ≤ 6 for which the form looks the same turned
+	// by 360°/n (the coarse objective is within the flat tolerance of its
+	// minimum at every multiple of 360°/n from it): 2 for a saddle or a
+	// one-way bend. The angle is then known only modulo 360°/Fold; 1 when
+	// no such symmetry is seen or the angle is not defined.
+	Fold int
 	// Evaluations counts objective evaluations.
 	Evaluations int
 }
@@ -151,11 +157,13 @@ func Fit(ctx context.Context, a, b *scan.Surface, radiusM float64, opt Options) 
 	steps := int(math.Ceil(360 / opt.CoarseStepDeg))
 	step := 2 * math.Pi / float64(steps)
 	lo, hi, best := math.Inf(1), math.Inf(-1), 0
+	fs := make([]float64, steps)
 	for i := range steps {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
 		f := obj(coarse, float64(i)*step, 0, 0)
+		fs[i] = f
 		if f < lo {
 			lo, best = f, i
 		}
@@ -166,6 +174,10 @@ func Fit(ctx context.Context, a, b *scan.Surface, radiusM float64, opt Options) 
 	}
 	res.SwingM, res.CoarseMinDeg = hi-lo, float64(best)*step*180/math.Pi
 	res.Defined = !math.IsInf(hi, 1) && res.SwingM >= opt.FlatTolM
+	res.Fold = 1
+	if res.Defined {
+		res.Fold = fold(fs, best, opt.FlatTolM)
+	}
 	theta := 0.0
 	if res.Defined {
 		c := float64(best) * step
@@ -182,6 +194,25 @@ func Fit(ctx context.Context, a, b *scan.Surface, radiusM float64, opt Options) 
 		return nil, fmt.Errorf("%w at the fitted angle", ErrNoOverlap)
 	}
 	return res, nil
+}
+
+// fold returns the largest n ≤ 6 dividing len(fs) for which fs is within
+// tol of fs[best] at every multiple of len(fs)/n from best.
+func fold(fs []float64, best int, tol float64) int {
+	n := len(fs)
+	for k := 6; k >= 2; k-- {
+		if n%k != 0 {
+			continue
+		}
+		same := true
+		for m := 1; m < k && same; m++ {
+			same = fs[(best+m*n/k)%n]-fs[best] < tol
+		}
+		if same {
+			return k
+		}
+	}
+	return 1
 }
 
 // polish refines the angle (when defined) and the shift (when allowed) by

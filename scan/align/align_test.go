@@ -42,6 +42,14 @@ func saddleBend(x, y float64) float64 {
 	return 0.2e-3*(x*x-y*y)/r2 + 0.1e-3*u*u/r2 + 0.05e-3*x/testR
 }
 
+func saddle(x, y float64) float64 { return 0.2e-3 * (x*x - y*y) / (testR * testR) }
+
+// fourLobes is r⁴·cos 4φ: the same turned by 90°.
+func fourLobes(x, y float64) float64 {
+	r2 := testR * testR
+	return 0.2e-3 * (x*x*x*x - 6*x*x*y*y + y*y*y*y) / (r2 * r2)
+}
+
 func dish(x, y float64) float64 { return 0.3e-3 * (1 - (x*x+y*y)/(testR*testR)) }
 
 func angleErrDeg(gotRad, wantDeg float64) float64 {
@@ -57,10 +65,13 @@ func TestFit(t *testing.T) {
 		thetaDeg    float64
 		shift       [2]float64
 		wantDefined bool
+		wantFold    int
 	}{
-		{"saddle+bend turned 37°", saddleBend, 37, [2]float64{}, true},
-		{"saddle+bend turned 211.5°, shifted 0.6 mm", saddleBend, 211.5, [2]float64{0.6e-3, -0.3e-3}, true},
-		{"symmetric dish turned 37°", dish, 37, [2]float64{}, false},
+		{"saddle+bend turned 37°", saddleBend, 37, [2]float64{}, true, 1},
+		{"saddle+bend turned 211.5°, shifted 0.6 mm", saddleBend, 211.5, [2]float64{0.6e-3, -0.3e-3}, true, 1},
+		{"saddle alone turned 37°: the same every 180°", saddle, 37, [2]float64{}, true, 2},
+		{"four-lobed form turned 37°: the same every 90°", fourLobes, 37, [2]float64{}, true, 4},
+		{"symmetric dish turned 37°", dish, 37, [2]float64{}, false, 1},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -78,10 +89,14 @@ func TestFit(t *testing.T) {
 			if want := noise * math.Sqrt2 * 1.1; r.RMSM > want {
 				t.Errorf("RMS at the fit %.2f µm, want ≤ %.2f µm (noise level)", r.RMSM*1e6, want*1e6)
 			}
+			if r.Fold != tc.wantFold {
+				t.Errorf("Fold = %d, want %d", r.Fold, tc.wantFold)
+			}
 			if !tc.wantDefined {
 				return
 			}
-			if e := angleErrDeg(r.AngleRad, tc.thetaDeg); e > 0.1 {
+			period := 360 / float64(tc.wantFold)
+			if e := math.Mod(angleErrDeg(r.AngleRad, tc.thetaDeg), period); math.Min(e, period-e) > 0.1 {
 				t.Errorf("angle %.3f°, want %.1f° ± 0.1°", r.AngleRad*180/math.Pi, tc.thetaDeg)
 			}
 			// A shift s of a quadratic form of rim sag S moves heights by
