@@ -126,9 +126,10 @@ var headlineFigures = [][2]string{
 	{"heatup", "time_s"}, {"heatup", "extra_time_pct"}, {"heatup", "extra_energy_kj"},
 }
 
-// Compare analyses both scans with the same job, aligns B onto A (rotation
-// about the base axis and a small shift, package align), and returns the
-// differences.
+// Compare analyses both scans with the same job (or reads a report folder
+// of an earlier analysis: report.json and fields.vti), aligns B onto A
+// (rotation about the base axis and a small shift, package align), and
+// returns the differences.
 func Compare(ctx context.Context, in CompareInput) (*CompareResult, error) {
 	tol := in.DiameterTolMM
 	if tol == 0 {
@@ -138,52 +139,155 @@ func Compare(ctx context.Context, in CompareInput) (*CompareResult, error) {
 		return nil, fmt.Errorf("compare: diameter tolerance %g mm out of range (0, 50]", tol)
 	}
 	for _, p := range []string{in.A, in.B} {
-		if st, err := os.Stat(p); err != nil || !st.Mode().IsRegular() {
-			return nil, fmt.Errorf("%s: not a readable scan file; check the path", p)
+		if _, err := os.Stat(p); err != nil {
+			return nil, fmt.Errorf("%s: not a readable scan file or report folder; check the path", p)
 		}
 	}
-	var res [2]*Result
+	var sides [2]*compareSide
 	for i, p := range []string{in.A, in.B} {
-		r, err := Analyze(ctx, ScanInput{PanPath: p, Name: p, HobPath: in.HobPath, Job: in.Job})
+		s, err := loadSide(ctx, p, in)
 		if err != nil {
 			return nil, err
 		}
-		if r.Report.Rejected() || r.Form == nil || r.GapM == nil {
-			return nil, fmt.Errorf("%s: the scan was rejected by the data-quality checks (see its report: gapflux analyze %s); compare needs two complete analyses", p, p)
-		}
-		res[i] = r
+		sides[i] = s
 	}
-	a, b := res[0], res[1]
-	dA, dB := a.Report.Geometry.DiameterMM, b.Report.Geometry.DiameterMM
+	a, b := sides[0], sides[1]
+	dA, dB := a.rep.Geometry.DiameterMM, b.rep.Geometry.DiameterMM
 	if math.Abs(dA-dB) > tol {
 		return nil, fmt.Errorf("%s is %.1f mm across and %s %.1f mm: more than %.1f mm apart, so not two scans of one base; check the files, or their units (--units)",
 			in.A, dA, in.B, dB, tol)
 	}
-	radius := math.Min(a.RadiusM, b.RadiusM)
-	fit, err := align.Fit(ctx, a.Form, b.Form, radius, in.Align)
+	radius := math.Min(a.radiusM, b.radiusM)
+	fit, err := align.Fit(ctx, a.form, b.form, radius, in.Align)
 	if err != nil {
 		return nil, fmt.Errorf("compare %s with %s: %w", in.A, in.B, err)
 	}
-	c := &Comparison{Schema: SchemaCompare, A: a.Report.Input.Pan, B: b.Report.Input.Pan, Warnings: []string{}}
+	c := &Comparison{Schema: SchemaCompare, A: a.rep.Input.Pan, B: b.rep.Input.Pan, Warnings: []string{}}
 	c.Alignment = alignmentFacts(fit)
 	if !fit.Defined {
 		c.Warnings = append(c.Warnings, c.Alignment.AngleNote)
 	}
-	out := &CompareResult{Comparison: c, Grid: a.Form, RadiusM: radius}
+	if ja, jb := a.rep.Input.JobSHA256, b.rep.Input.JobSHA256; ja != jb && (a.folder || b.folder) {
+		c.Warnings = append(c.Warnings, "the two analyses used different jobs (their job hashes differ): a change of a heat figure may come from the job, not the base; analyse both scans with one job")
+	}
+	out := &CompareResult{Comparison: c, Grid: a.form, RadiusM: radius}
 	out.Names = [2]string{filepath.Base(in.A), filepath.Base(in.B)}
-	out.HeightDiffM, c.HeightDiff = heightDiff(a.Form, b.Form, fit, radius)
-	bGap := align.Resample(b.Form, b.GapM, a.Form, fit)
+	out.HeightDiffM, c.HeightDiff = heightDiff(a.form, b.form, fit, radius)
+	bGap := align.Resample(b.form, b.gapM, a.form, fit)
 	out.GapDiffM = make([]float64, len(bGap))
 	for k := range bGap {
-		out.GapDiffM[k] = bGap[k] - a.GapM[k] // NaN propagates outside the common base
+		out.GapDiffM[k] = bGap[k] - a.gapM[k] // NaN propagates outside the common base
 		if math.IsNaN(out.HeightDiffM[k]) {
 			out.GapDiffM[k] = math.NaN()
 		}
 	}
-	if err := compareReports(c, a.Report, b.Report); err != nil {
+	compareReports(c, [2]map[string]any{a.repMap, b.repMap}, a.rep, b.rep)
+	return out, nil
+}
+
+// compareSide is one side of a comparison: the filtered form and the gap
+// on its grid, the base radius and the report.
+type compareSide struct {
+	form    *scan.Surface
+	gapM    []float64
+	radiusM float64
+	rep     *Report
+	repMap  map[string]any
+	folder  bool // read from a report folder
+}
+
+// maxReportBytes bounds a report.json read back (our bound: a report with
+// its ring table is tens of kilobytes).
+const maxReportBytes = 16 << 20
+
+// loadSide analyses the scan at path, or reads the report folder at path.
+func loadSide(ctx context.Context, path string, in CompareInput) (*compareSide, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, fmt.Errorf("%s: not a readable scan file or report folder; check the path", path)
+	}
+	if st.IsDir() {
+		return loadReportFolder(path, in.Job.Limits.MaxCells)
+	}
+	r, err := Analyze(ctx, ScanInput{PanPath: path, Name: path, HobPath: in.HobPath, Job: in.Job})
+	if err != nil {
 		return nil, err
 	}
-	return out, nil
+	if r.Report.Rejected() || r.Form == nil || r.GapM == nil || r.Report.Geometry == nil {
+		return nil, fmt.Errorf("%s: the scan was rejected by the data-quality checks (see its report: gapflux analyze %s); compare needs two complete analyses", path, path)
+	}
+	m, err := reportMap(r.Report)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return &compareSide{form: r.Form, gapM: r.GapM, radiusM: r.RadiusM, rep: r.Report, repMap: m}, nil
+}
+
+func reportMap(r *Report) (map[string]any, error) {
+	raw, err := json.Marshal(r)
+	if err != nil {
+		return nil, err
+	}
+	var m map[string]any
+	return m, json.Unmarshal(raw, &m)
+}
+
+// loadReportFolder reads report.json and fields.vti (height_um,
+// cell_state, gap_mm) of an earlier analysis.
+func loadReportFolder(dir string, maxCells int) (*compareSide, error) {
+	rp := filepath.Join(dir, "report.json")
+	raw, err := readBounded(rp, maxReportBytes)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w; a report folder holds the report.json and fields.vti of gapflux analyze --out", dir, err)
+	}
+	s := &compareSide{rep: &Report{}, folder: true}
+	if err := json.Unmarshal(raw, s.rep); err != nil {
+		return nil, fmt.Errorf("%s: not a gapflux report: %v", rp, err)
+	}
+	if err := json.Unmarshal(raw, &s.repMap); err != nil {
+		return nil, fmt.Errorf("%s: not a gapflux report: %v", rp, err)
+	}
+	if g := s.rep.Geometry; g == nil || s.rep.Rejected() || !(g.DiameterMM > 0 && g.DiameterMM < 1e4) {
+		return nil, fmt.Errorf("%s: the report holds no complete analysis (rejected, or no geometry); compare needs two", rp)
+	}
+	s.radiusM = s.rep.Geometry.DiameterMM / 2e3
+	v, err := ReadVTI(filepath.Join(dir, "fields.vti"), maxCells, "height_um", "cell_state", "gap_mm")
+	if err != nil {
+		return nil, fmt.Errorf("%w (a report folder written with --fields off cannot be compared: analyse again with --fields compressed)", err)
+	}
+	g := v.Grid
+	s.form = scan.NewSurface(g.Nx, g.Ny, g.SpacingMM/1e3, g.X0MM/1e3, g.Y0MM/1e3)
+	s.gapM = make([]float64, g.Nx*g.Ny)
+	h, st, gap := v.Fields["height_um"], v.Fields["cell_state"], v.Fields["gap_mm"]
+	for k := range s.gapM {
+		s.gapM[k] = math.NaN()
+		if st[k] == 0 || math.IsNaN(h[k]) || math.IsInf(h[k], 0) {
+			continue
+		}
+		s.form.State[k] = scan.CellState(min(st[k], float64(scan.Filled)))
+		s.form.ZM[k] = h[k] / 1e6
+		if !math.IsInf(gap[k], 0) {
+			s.gapM[k] = gap[k] / 1e3
+		}
+	}
+	return s, nil
+}
+
+// readBounded reads a whole file of at most maxBytes.
+func readBounded(path string, maxBytes int64) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	raw, err := io.ReadAll(io.LimitReader(f, maxBytes+1))
+	if err != nil {
+		return nil, err
+	}
+	if int64(len(raw)) > maxBytes {
+		return nil, fmt.Errorf("%s: larger than %d bytes", path, maxBytes)
+	}
+	return raw, nil
 }
 
 func alignmentFacts(fit *align.Result) AlignmentFacts {
@@ -236,19 +340,9 @@ func heightDiff(a, b *scan.Surface, fit *align.Result, radiusM float64) ([]float
 }
 
 // compareReports fills the figure and ring changes and the permanent set
-// from the two reports, read through their JSON so that a section added
-// later (an uncertainty section) is picked up by name.
-func compareReports(c *Comparison, a, b *Report) error {
-	var m [2]map[string]any
-	for i, r := range []*Report{a, b} {
-		raw, err := json.Marshal(r)
-		if err != nil {
-			return fmt.Errorf("compare: %w", err)
-		}
-		if err := json.Unmarshal(raw, &m[i]); err != nil {
-			return fmt.Errorf("compare: %w", err)
-		}
-	}
+// from the two reports, read through their JSON (m) so that a section
+// added later (an uncertainty section) is picked up by name.
+func compareReports(c *Comparison, m [2]map[string]any, a, b *Report) {
 	for _, f := range headlineFigures {
 		fc := FigureChange{Figure: f[1], A: figure(m[0], f[0], f[1]), B: figure(m[1], f[0], f[1])}
 		if fc.A != nil && fc.B != nil {
@@ -269,7 +363,6 @@ func compareReports(c *Comparison, a, b *Report) error {
 	if len(a.Rings) != len(b.Rings) {
 		c.Warnings = append(c.Warnings, fmt.Sprintf("the scans have %d and %d rings; only the %d common rings are compared", len(a.Rings), len(b.Rings), len(c.Rings)))
 	}
-	return nil
 }
 
 // figure returns m[section][key] when it is a number.

@@ -178,3 +178,67 @@ func TestCompareBadInput(t *testing.T) {
 		})
 	}
 }
+
+// TestCompareReportFolders compares the folders of two earlier analyses,
+// and a folder against a scan: the same alignment as from the scans.
+func TestCompareReportFolders(t *testing.T) {
+	if testing.Short() {
+		t.Skip("three whole analyses")
+	}
+	dir := t.TempDir()
+	enc := synth.Encoding{Format: "ply", Binary: true}
+	spec := synth.Spec{Shape: synth.Saddle, DiameterM: 0.14, SagM: 0.3e-3, NoiseM: 5e-6, SpacingM: 1e-3, Seed: 1}
+	pa := writeSynth(t, dir, "a", spec, enc)
+	spec.FormTurnDeg, spec.Seed = 37, 2
+	pb := writeSynth(t, dir, "b", spec, enc)
+	folders := map[string]string{}
+	for name, p := range map[string]string{"a": pa, "b": pb} {
+		res, err := Analyze(context.Background(), ScanInput{PanPath: p, Name: name, Job: smallJob()})
+		if err != nil {
+			t.Fatal(err)
+		}
+		folders[name] = filepath.Join(dir, "out-"+name)
+		if err := WriteOutputs(res, folders[name]); err != nil {
+			t.Fatal(err)
+		}
+	}
+	noFields := filepath.Join(dir, "no-fields")
+	os.MkdirAll(noFields, 0o755)
+	raw, _ := os.ReadFile(filepath.Join(folders["a"], "report.json"))
+	os.WriteFile(filepath.Join(noFields, "report.json"), raw, 0o644)
+	tests := []struct {
+		name, a, b string
+		wantErr    string
+	}{
+		{"folder against folder", folders["a"], folders["b"], ""},
+		{"folder against scan", folders["a"], pb, ""},
+		{"folder without fields.vti", noFields, folders["b"], "fields.vti"},
+		{"empty folder", t.TempDir(), folders["b"], "report.json"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			r, err := Compare(context.Background(), CompareInput{A: tc.a, B: tc.b, Job: smallJob()})
+			if tc.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.wantErr) {
+					t.Fatalf("error %v, want one about %s", err, tc.wantErr)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			c := r.Comparison
+			al := c.Alignment
+			if al.AngleDeg == nil {
+				t.Fatalf("angle undefined: %s", al.AngleNote)
+			}
+			e := math.Mod(*al.AngleDeg-37+720, 180)
+			if e = math.Min(e, 180-e); e > 0.5 {
+				t.Errorf("angle %.3f°, want 37° (mod 180°) ± 0.5°", *al.AngleDeg)
+			}
+			if c.HeightDiff.RMSUM > 5 || math.Abs(c.PermanentSetMM) > 0.01 {
+				t.Errorf("height change RMS %.2f µm (want ≤ 5), permanent set %.4f mm (want 0 ± 0.01)", c.HeightDiff.RMSUM, c.PermanentSetMM)
+			}
+		})
+	}
+}

@@ -15,13 +15,17 @@ or the two are not scans of one base (diameters too far apart); 2 usage or confi
 error (flags, job file, a missing scan).
 `
 
+const compareAbout = `A is the reference (before), B the later one: each a scan, or the folder of an earlier
+"gapflux analyze --out" (report.json and fields.vti). Scans are analysed with the same
+job; B is turned about the base axis (fitted) onto A, and the changes B − A are written.
+`
+
 // cmdCompare compares two scans of one base (issue 12 part 5).
 func cmdCompare(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
 	const usage = "compare A B --out DIR [--hob HOB] [--job JOB.toml] [--diameter-tol-mm 2]"
 	fs := newFlags("compare", usage, stderr)
 	fs.Usage = func() {
-		fmt.Fprintf(stderr, "usage: gapflux %s\n\nA is the reference scan (before), B the later one; both are analysed with the same job,\nB is turned about the base axis (fitted) onto A, and the changes B − A are written.\n\nflags:\n%s\n%s%s",
-			usage, fs.FlagUsages(), compareExitCodes, oomNote)
+		fmt.Fprintf(stderr, "usage: gapflux %s\n\n%s\nflags:\n%s\n%s%s", usage, compareAbout, fs.FlagUsages(), compareExitCodes, oomNote)
 	}
 	jf := addJobFlags(fs)
 	hob := fs.String("hob", "", "hob top for both analyses: a scan or a radial profile CSV (r_mm,z_mm); default an ideal flat hob")
@@ -46,8 +50,13 @@ func cmdCompare(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 		return exitUsage, usageError{err}
 	}
 	a, b := fs.Arg(0), fs.Arg(1)
-	if err := checkInputFiles(a, b, *hob); err != nil {
-		return exitUsage, err
+	for _, p := range []string{a, b} {
+		if _, err := os.Stat(p); err != nil {
+			return exitUsage, usagef("%s: not a readable scan file or report folder; check the path", p)
+		}
+	}
+	if st, err := os.Stat(*hob); *hob != "" && (err != nil || st.IsDir()) {
+		return exitUsage, usagef("%s: not a readable hob file; check the path", *hob)
 	}
 	r, err := pipeline.Compare(ctx, pipeline.CompareInput{A: a, B: b, HobPath: *hob, Job: job, DiameterTolMM: *tol})
 	if err != nil {
@@ -60,19 +69,6 @@ func cmdCompare(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 		printComparison(stdout, r.Comparison, *out)
 	}
 	return exitOK, nil
-}
-
-// checkInputFiles says which named file is missing or a folder.
-func checkInputFiles(paths ...string) error {
-	for _, p := range paths {
-		if p == "" {
-			continue
-		}
-		if st, err := os.Stat(p); err != nil || st.IsDir() {
-			return usagef("%s: not a readable scan file; check the path", p)
-		}
-	}
-	return nil
 }
 
 func printComparison(w io.Writer, c *pipeline.Comparison, out string) {

@@ -35,7 +35,7 @@ func TestCompareCommand(t *testing.T) {
 	}{
 		{"no --out", []string{"compare", a, a}, exitUsage, "--out"},
 		{"one scan", []string{"compare", a, "--out", out}, exitUsage, "two scan files"},
-		{"missing B", []string{"compare", a, filepath.Join(dir, "gone.ply"), "--out", out}, exitUsage, "gone.ply: not a readable scan file"},
+		{"missing B", []string{"compare", a, filepath.Join(dir, "gone.ply"), "--out", out}, exitUsage, "gone.ply: not a readable scan file or report folder"},
 		{"bad tolerance", []string{"compare", a, a, "--out", out, "--diameter-tol-mm", "-1"}, exitUsage, "diameter-tol-mm"},
 		{"help", []string{"compare", "--help"}, exitOK, "exit codes: 0 "},
 	}
