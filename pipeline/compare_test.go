@@ -242,3 +242,48 @@ func TestCompareReportFolders(t *testing.T) {
 		})
 	}
 }
+
+// TestCompareReportsUncertainty feeds compareReports reports with and
+// without an uncertainty section (its layout is not settled: a number or
+// an object with u, or expanded and k, are read).
+func TestCompareReportsUncertainty(t *testing.T) {
+	rep := func(conc float64, unc any) map[string]any {
+		m := map[string]any{"geometry": map[string]any{"concavity_mm": conc, "flatness_mz_mm": 0.2}}
+		if unc != nil {
+			m["uncertainty"] = unc
+		}
+		return m
+	}
+	tests := []struct {
+		name   string
+		ua, ub any
+		wantU  float64 // of the concavity change; 0 = none
+	}{
+		{"none", nil, nil, 0},
+		{"only A", map[string]any{"concavity_mm": 0.003}, nil, 0},
+		{"numbers", map[string]any{"concavity_mm": 0.003}, map[string]any{"concavity_mm": 0.004}, 0.005},
+		{"objects", map[string]any{"concavity_mm": map[string]any{"u": 0.006}},
+			map[string]any{"concavity_mm": map[string]any{"expanded": 0.016, "k": 2.0}}, 0.01},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			var c Comparison
+			compareReports(&c, [2]map[string]any{rep(0.30, tc.ua), rep(0.42, tc.ub)}, &Report{}, &Report{})
+			if math.Abs(c.PermanentSetMM-0.12) > 1e-9 {
+				t.Errorf("permanent set %g mm, want 0.12", c.PermanentSetMM)
+			}
+			got := c.PermanentSetUMM
+			if (got != nil) != (tc.wantU != 0) || got != nil && math.Abs(*got-tc.wantU) > 1e-9 {
+				t.Errorf("u = %v, want %g (√(u_A² + u_B²), JCGM 100:2008 eq. 10)", fmtOpt(got), tc.wantU)
+			}
+			for _, f := range c.Figures {
+				if f.Figure == "flatness_mz_mm" && (f.Change == nil || *f.Change != 0 || f.UChange != nil) {
+					t.Errorf("flatness change %v ± %v, want 0 without u", fmtOpt(f.Change), fmtOpt(f.UChange))
+				}
+				if f.Figure == "loss_pct" && (f.A != nil || f.Change != nil) {
+					t.Error("a figure missing from both reports must stay null")
+				}
+			}
+		})
+	}
+}
