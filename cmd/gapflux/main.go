@@ -38,6 +38,8 @@ commands:
                  one scan: form, rest pose, gap, heat, heat-up, verdict
   batch DIR --out OUT [--job JOB.toml] [--workers N] [--shard K/N] [--force]
                  every scan under DIR; resumable; summary.csv and summary.json
+  compare A B --out DIR [--job JOB.toml]
+                 two scans (or report folders) of one base: what changed
   merge OUT1 OUT2 ... --out OUT
                  combine the outputs of batch shards into one summary
   synth [--shape dish] [--sag-mm 0.4] ... --out FILE
