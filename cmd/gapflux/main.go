@@ -38,6 +38,8 @@ commands:
                  one scan: form, rest pose, gap, heat, heat-up, verdict
   batch DIR --out OUT [--job JOB.toml] [--workers N] [--shard K/N] [--force]
                  every scan under DIR; resumable; summary.csv and summary.json
+  compare A B --out DIR [--job JOB.toml]
+                 two scans (or report folders) of one base: what changed
   merge OUT1 OUT2 ... --out OUT
                  combine the outputs of batch shards into one summary
   synth [--shape dish] [--sag-mm 0.4] ... --out FILE
@@ -102,6 +104,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int
 		code, err = cmdAnalyze(ctx, args[1:], stdout, stderr)
 	case "batch":
 		code, err = cmdBatch(ctx, args[1:], stdout, stderr)
+	case "compare":
+		code, err = cmdCompare(ctx, args[1:], stdout, stderr)
 	case "merge":
 		code, err = cmdMerge(args[1:], stdout, stderr)
 	case "synth":
