@@ -169,6 +169,10 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	if qg.judge(rep, false) {
 		return res, nil
 	}
+	// The levelled points (the scan's storage, some 100 MB for 2 M points
+	// with normals) are not needed past here: let them go before the
+	// plate solves allocate theirs.
+	lev.Cloud = nil
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
