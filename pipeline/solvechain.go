@@ -29,14 +29,21 @@ func (c *solveChain) solve(ctx context.Context, prob *thermal.Problem, iface the
 	return s, err
 }
 
-// both runs a and b at once (b in a new goroutine) and returns their errors.
+// both runs a and b at once (b in a new goroutine) and returns their
+// errors. A panic in b is raised again in the caller's goroutine, so that
+// the batch's recover still turns it into a failed scan.
 func both(a, b func() error) (errA, errB error) {
 	done := make(chan struct{})
+	var panicked any
 	go func() {
 		defer close(done)
+		defer func() { panicked = recover() }()
 		errB = b()
 	}()
 	errA = a()
 	<-done
+	if panicked != nil {
+		panic(panicked)
+	}
 	return errA, errB
 }
