@@ -172,6 +172,10 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	if qg.judge(rep, false) {
 		return res, nil
 	}
+	// The levelled points (the scan's storage, some 100 MB for 2 M points
+	// with normals) are not needed past here: let them go before the
+	// plate solves allocate theirs.
+	lev.Cloud = nil
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -252,28 +256,22 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	// Each interface's solves start from its previous solution (the
 	// heat-up samples neighbouring water temperatures in a fixed order, so
 	// this stays deterministic).
-	last := map[thermal.Interface]*thermal.Solution{}
-	var solver thermal.Solver
+	// The scan and the flat twin are independent: each has its own solver
+	// (work buffers) and warm start, so their solves may run at once.
+	chains := map[thermal.Interface]*solveChain{scanField: {}, flatField: {}}
 	solve := func(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
-		p := *prob
-		p.Interface, p.TWaterK = iface, tWaterK
-		if w := last[iface]; w != nil {
-			p.InitialTPanK, p.InitialTGlassK, p.InitialDutyPct = w.TPanK, w.TGlassK, w.DutyPct
-		}
-		s, err := solver.SolveContext(ctx, &p)
-		if err == nil {
-			last[iface] = s
-		}
-		return s, err
+		return chains[iface].solve(ctx, prob, iface, tWaterK)
 	}
 	steadyK := job.Water.SteadyC + kelvin
-	solScan, err := solve(scanField, steadyK)
-	if err != nil {
-		return nil, fmt.Errorf("%s: plate solve: %w", in.Name, err)
+	var solScan, solFlat *thermal.Solution
+	errScan, errFlat := both(
+		func() (err error) { solScan, err = solve(scanField, steadyK); return err },
+		func() (err error) { solFlat, err = solve(flatField, steadyK); return err })
+	if errScan != nil {
+		return nil, fmt.Errorf("%s: plate solve: %w", in.Name, errScan)
 	}
-	solFlat, err := solve(flatField, steadyK)
-	if err != nil {
-		return nil, fmt.Errorf("%s: plate solve (flat twin): %w", in.Name, err)
+	if errFlat != nil {
+		return nil, fmt.Errorf("%s: plate solve (flat twin): %w", in.Name, errFlat)
 	}
 	res.Scan, res.Flat = solScan, solFlat
 	rep.Warnings = append(rep.Warnings, prefixed("scan: ", solScan.Warnings)...)
@@ -299,9 +297,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		rep.Heat.GlassHeatKJ, rep.Heat.FlatGlassHeatKJ = stored(solScan), stored(solFlat)
 	}
 	rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
-		func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) {
-			return solver.SolveContext(ctx, p)
-		})
+		[2]*thermal.Solver{&chains[scanField].solver, &chains[flatField].solver})
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", in.Name, err)
 	}

@@ -424,7 +424,9 @@ type heatupOut struct {
 }
 
 // heatupReport integrates the heat-up of the water load for the scan and
-// its flat twin (DESIGN 5.4; quasi-steady, see thermal.Heatup).
+// its flat twin (DESIGN 5.4; quasi-steady, see thermal.Heatup). power(scanIf)
+// and power(flatIf) run in two goroutines at once, so they must share no
+// solver.
 func heatupReport(ctx context.Context, job Job, lib []contact.Material, radiusM float64,
 	power func(thermal.Interface) thermal.PowerFunc, scanIf, flatIf thermal.Interface) (*heatupOut, error) {
 	panCp := job.Pan.CpJKgK
@@ -463,17 +465,21 @@ func heatupReport(ctx context.Context, job Job, lib []contact.Material, radiusM 
 		}
 		return thermal.HeatupContext(ctx, load, power(iface), opt)
 	}
-	s, err := run(scanIf)
-	if err != nil {
+	// The scan's and the flat twin's heat-ups are independent (power gives
+	// each interface its own solver): they run at once.
+	var s, f *thermal.HeatupResult
+	errScan, errFlat := both(
+		func() (err error) { s, err = run(scanIf); return err },
+		func() (err error) { f, err = run(flatIf); return err })
+	if err := errScan; err != nil {
 		var stall *thermal.StallError
 		if errors.As(err, &stall) {
 			return nil, fmt.Errorf("the water never reaches %.0f °C on this base: heat in equals losses at %.1f °C", job.Water.ToC, stall.StallK-kelvin)
 		}
 		return nil, err
 	}
-	f, err := run(flatIf)
-	if err != nil {
-		return nil, fmt.Errorf("flat twin: %w", err)
+	if errFlat != nil {
+		return nil, fmt.Errorf("flat twin: %w", errFlat)
 	}
 	kg := job.Water.MassKg
 	hr := &HeatupReport{

@@ -319,7 +319,7 @@ func TestSensitivity(t *testing.T) {
 	if !(s.DutyPct < 100) {
 		t.Fatalf("poor interface: duty %g %%, want the limiter cycling", s.DutyPct)
 	}
-	rows, err := sensitivity(t.Context(), job, p, poor, flat, s, f, solve)
+	rows, err := sensitivity(t.Context(), job, p, poor, flat, s, f, [2]*thermal.Solver{new(thermal.Solver), &sv})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -100,61 +100,72 @@ const sensitivityCellM = 2e-3
 // setting, warm-started from the analysis's solutions sampled to it and
 // to the looser sensitivity tolerances (a limiter move that cannot change
 // a solve is skipped). Each row's DeltaLossPct is the coarse difference,
-// and its LossPct the reported loss plus that difference. solve is the
-// analysis's plate solve of an edited problem.
+// and its LossPct the reported loss plus that difference. The scan's
+// solves run on solvers[0] and the flat twin's on solvers[1], the two
+// sides at once (they share nothing).
 func sensitivity(ctx context.Context, job Job, prob *thermal.Problem, scanIf, flatIf thermal.Interface,
-	solScan, solFlat *thermal.Solution, solve func(context.Context, *thermal.Problem) (*thermal.Solution, error)) ([]SensitivityRow, error) {
+	solScan, solFlat *thermal.Solution, solvers [2]*thermal.Solver) ([]SensitivityRow, error) {
 	cases := sensitivityCases(job)
 	if solFlat.PowerW <= 0 || len(cases) == 0 {
 		return nil, nil
 	}
 	reported := 100 * (1 - solScan.PowerW/solFlat.PowerW)
 	f := max(1, int(math.Round(sensitivityCellM/prob.Grid.CellM)))
-	type side struct {
-		p    *thermal.Problem
-		base *thermal.Solution
+	var basePW [2]float64 // per side: the coarse reported power, W
+	var pw [2][]float64   // per side and case: the power with the setting moved, W
+	side := func(i int, iface thermal.Interface, sol *thermal.Solution) error {
+		var err error
+		basePW[i], pw[i], err = sensitivitySide(ctx, job, coarsen(prob, f, iface, sol), cases, solvers[i])
+		return err
 	}
-	var sides [2]side
-	for i, run := range []struct {
-		iface thermal.Interface
-		sol   *thermal.Solution
-	}{{scanIf, solScan}, {flatIf, solFlat}} {
-		p := coarsen(prob, f, run.iface, run.sol)
-		p.TWaterK = job.Water.SteadyC + kelvin
-		p.RelTol, p.OuterTolK = sensitivityRelTol, sensitivityOuterTol
-		b, err := solve(ctx, p)
-		if err != nil {
-			return nil, fmt.Errorf("sensitivity: coarse solve: %w", err)
-		}
-		sides[i] = side{p, b}
+	errScan, errFlat := both(
+		func() error { return side(0, scanIf, solScan) },
+		func() error { return side(1, flatIf, solFlat) })
+	if errScan != nil {
+		return nil, errScan
 	}
-	if sides[1].base.PowerW <= 0 {
+	if errFlat != nil {
+		return nil, errFlat
+	}
+	if basePW[1] <= 0 {
 		return nil, nil
 	}
-	base := 100 * (1 - sides[0].base.PowerW/sides[1].base.PowerW)
+	base := 100 * (1 - basePW[0]/basePW[1])
 	var rows []SensitivityRow
-	for _, c := range cases {
-		var pw [2]float64
-		for i, sd := range sides {
-			b := sd.base
-			if c.limiterK != 0 && b.DutyPct == 100 && b.RodK > 0 && b.RodK < sd.p.Heater.LimiterK-math.Abs(c.limiterK) {
-				pw[i] = b.PowerW
-				continue
-			}
-			p := *sd.p
-			p.InitialTPanK, p.InitialTGlassK, p.InitialDutyPct = b.TPanK, b.TGlassK, b.DutyPct
-			c.edit(&p)
-			s, err := solve(ctx, &p)
-			if err != nil {
-				return nil, fmt.Errorf("sensitivity to %s %s: %w", c.setting, c.change, err)
-			}
-			pw[i] = s.PowerW
-		}
-		d := 100*(1-pw[0]/pw[1]) - base
-		rows = append(rows, SensitivityRow{Setting: c.setting, Change: c.change,
+	for c, cs := range cases {
+		d := 100*(1-pw[0][c]/pw[1][c]) - base
+		rows = append(rows, SensitivityRow{Setting: cs.setting, Change: cs.change,
 			LossPct: roundTo(reported+d, 3), DeltaLossPct: roundTo(d, 3)})
 	}
 	return rows, nil
+}
+
+// sensitivitySide solves the coarse problem p (scan or flat twin) as
+// reported and with each case's setting moved, on solver sv, and returns
+// the reported power and each case's power, W.
+func sensitivitySide(ctx context.Context, job Job, p *thermal.Problem, cases []sensitivityCase, sv *thermal.Solver) (float64, []float64, error) {
+	p.TWaterK = job.Water.SteadyC + kelvin
+	p.RelTol, p.OuterTolK = sensitivityRelTol, sensitivityOuterTol
+	b, err := sv.SolveContext(ctx, p)
+	if err != nil {
+		return 0, nil, fmt.Errorf("sensitivity: coarse solve: %w", err)
+	}
+	pw := make([]float64, len(cases))
+	for i, c := range cases {
+		if c.limiterK != 0 && b.DutyPct == 100 && b.RodK > 0 && b.RodK < p.Heater.LimiterK-math.Abs(c.limiterK) {
+			pw[i] = b.PowerW
+			continue
+		}
+		q := *p
+		q.InitialTPanK, q.InitialTGlassK, q.InitialDutyPct = b.TPanK, b.TGlassK, b.DutyPct
+		c.edit(&q)
+		s, err := sv.SolveContext(ctx, &q)
+		if err != nil {
+			return 0, nil, fmt.Errorf("sensitivity to %s %s: %w", c.setting, c.change, err)
+		}
+		pw[i] = s.PowerW
+	}
+	return b.PowerW, pw, nil
 }
 
 // coarsen returns the plate problem p on the grid that keeps every f-th

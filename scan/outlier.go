@@ -233,14 +233,18 @@ func refStart(g refGrid, cellOf []int32, z []float64) []float64 {
 		zs[fill[q]] = z[i]
 		fill[q]++
 	}
+	// Each cell's samples are its own slice of zs: the rows of cells are
+	// split between the workers with no effect on the result.
 	med := make([]float64, nc)
-	for q := range nc {
-		if a := zs[start[q]:start[q+1]]; len(a) > 0 {
-			med[q] = medianInPlace(a)
-		} else {
-			med[q] = nan
+	parallelRows(g.ny, func(j0, j1 int) {
+		for q := j0 * g.nx; q < j1*g.nx; q++ {
+			if a := zs[start[q]:start[q+1]]; len(a) > 0 {
+				med[q] = medianInPlace(a)
+			} else {
+				med[q] = nan
+			}
 		}
-	}
+	})
 	f := make([]float64, nc)
 	parallelRows(g.ny, func(j0, j1 int) {
 		buf := make([]float64, 0, (2*refMedianHalf+1)*(2*refMedianHalf+1))

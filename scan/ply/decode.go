@@ -9,6 +9,8 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"runtime"
+	"sync"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -492,6 +494,14 @@ func (d *decoder) binaryVertices(e *element, u *use, rec int) error {
 		}
 	}
 	big := d.order == binary.BigEndian
+	if same == kFloat32 || same == kFloat64 {
+		pts, nrm, err := d.floatVertices(e, rec, off[:nc], same == kFloat32, big, pts, nrm)
+		if err != nil {
+			return err
+		}
+		d.c.Points, d.c.Normals = pts, nrm
+		return nil
+	}
 	per := int64(bufSize / rec)
 	for i := int64(0); i < e.count; {
 		k := min(e.count-i, per)
@@ -506,24 +516,17 @@ func (d *decoder) binaryVertices(e *element, u *use, rec int) error {
 			nrm = grow(nrm, int(k), e.count)
 		}
 		var bad int // 1 + index in b of the first non-finite value
-		switch same {
-		case kFloat32:
-			pts, nrm, bad = records32(pts, nrm, b, rec, off[:nc], big)
-		case kFloat64:
-			pts, nrm, bad = records64(pts, nrm, b, rec, off[:nc], big)
-		default:
-			var v [6]float64
-			for r := 0; r < int(k) && bad == 0; r++ {
-				rb := b[r*rec : (r+1)*rec]
-				for j := 0; j < nc; j++ {
-					if v[j] = scalar(rb[off[j]:], kd[j], d.order); !finite(v[j]) {
-						bad = r*rec + off[j] + 1
-					}
+		var v [6]float64
+		for r := 0; r < int(k) && bad == 0; r++ {
+			rb := b[r*rec : (r+1)*rec]
+			for j := 0; j < nc; j++ {
+				if v[j] = scalar(rb[off[j]:], kd[j], d.order); !finite(v[j]) {
+					bad = r*rec + off[j] + 1
 				}
-				pts = append(pts, r3.Vec{X: v[0], Y: v[1], Z: v[2]})
-				if u.normals {
-					nrm = append(nrm, r3.Vec{X: v[3], Y: v[4], Z: v[5]})
-				}
+			}
+			pts = append(pts, r3.Vec{X: v[0], Y: v[1], Z: v[2]})
+			if u.normals {
+				nrm = append(nrm, r3.Vec{X: v[3], Y: v[4], Z: v[5]})
 			}
 		}
 		if bad > 0 {
@@ -537,14 +540,100 @@ func (d *decoder) binaryVertices(e *element, u *use, rec int) error {
 	return nil
 }
 
-// records32 appends the points (and normals, when off has 6 entries) of
-// the fixed-size records in b whose coordinates are all float32 at the
-// given offsets. bad is 1 + the index in b of the first non-finite value,
-// or 0.
-func records32(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) (_, _ []r3.Vec, bad int) {
+// floatChunk is the most bytes of vertex records floatVertices decodes at
+// once; floatSplit the fewest records it shares between goroutines.
+const (
+	floatChunk = 1 << 20
+	floatSplit = 4096
+)
+
+// floatVertices reads the count fixed-size records of vertex element e
+// whose coordinates (at byte offsets off, 3 or 6 of them) are all float32
+// (f32) or all float64, appending them to pts (and nrm). It reads up to
+// floatChunk bytes at a time and decodes each chunk's records in
+// contiguous parts, one per available processor, into their places in the
+// slices: the result does not depend on the split.
+func (d *decoder) floatVertices(e *element, rec int, off []int, f32, big bool, pts, nrm []r3.Vec) (_, _ []r3.Vec, err error) {
+	per := int64(max(1, floatChunk/rec))
+	buf := make([]byte, min(per, e.count)*int64(rec))
+	parts := max(1, runtime.GOMAXPROCS(0))
+	for i := int64(0); i < e.count; {
+		k := min(e.count-i, per)
+		want := int(k) * rec
+		b := buf[:want]
+		if got, err := io.ReadFull(d.lr.br, b); err != nil {
+			d.lr.off += int64(got)
+			return nil, nil, d.binaryError(d.lr.off, e, i+int64(got/rec), err)
+		}
+		n0 := len(pts)
+		pts = grow(pts, int(k), e.count)[:n0+int(k)]
+		var dn []r3.Vec
+		if nrm != nil {
+			nrm = grow(nrm, int(k), e.count)[:n0+int(k)]
+			dn = nrm[n0:]
+		}
+		bad := decodeFloatRecords(pts[n0:], dn, b, rec, off, f32, big, parts)
+		if bad > 0 {
+			return nil, nil, d.binaryError(d.lr.off+int64(bad-1), e, i+int64((bad-1)/rec), ErrNotFinite)
+		}
+		d.lr.off += int64(want)
+		i += k
+	}
+	return pts, nrm, nil
+}
+
+// decodeFloatRecords decodes the records in b into pts (and nrm when not
+// nil), split into up to parts contiguous runs decoded at once. It returns
+// 1 + the index in b of the first non-finite value, or 0.
+func decodeFloatRecords(pts, nrm []r3.Vec, b []byte, rec int, off []int, f32, big bool, parts int) int {
+	n := len(b) / rec
+	parts = min(parts, max(1, n/floatSplit))
+	one := func(r0, r1 int) int {
+		var dn []r3.Vec
+		if nrm != nil {
+			dn = nrm[r0:r1]
+		}
+		bb := b[r0*rec : r1*rec]
+		var bad int
+		if f32 {
+			bad = fill32(pts[r0:r1], dn, bb, rec, off, big)
+		} else {
+			bad = fill64(pts[r0:r1], dn, bb, rec, off, big)
+		}
+		if bad > 0 {
+			bad += r0 * rec
+		}
+		return bad
+	}
+	if parts == 1 {
+		return one(0, n)
+	}
+	bad := make([]int, parts)
+	var wg sync.WaitGroup
+	for t := range parts {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			bad[t] = one(t*n/parts, (t+1)*n/parts)
+		}()
+	}
+	wg.Wait()
+	for _, v := range bad {
+		if v > 0 {
+			return v // the first in file order
+		}
+	}
+	return 0
+}
+
+// fill32 decodes the fixed-size records in b, whose coordinates are all
+// float32 at the given offsets, into pts[r] (and nrm[r] when nrm is not
+// nil, off then has 6 entries). It returns 1 + the index in b of the
+// first non-finite value, or 0.
+func fill32(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) int {
 	var v [6]float64
-	for r := 0; r+rec <= len(b); r += rec {
-		rb := b[r : r+rec]
+	for r := range pts {
+		rb := b[r*rec : (r+1)*rec]
 		for j, o := range off {
 			var u uint32
 			if big {
@@ -553,23 +642,23 @@ func records32(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) (_, _ 
 				u = binary.LittleEndian.Uint32(rb[o:])
 			}
 			if u&0x7f800000 == 0x7f800000 {
-				return pts, nrm, r + o + 1
+				return r*rec + o + 1
 			}
 			v[j] = float64(math.Float32frombits(u))
 		}
-		pts = append(pts, r3.Vec{X: v[0], Y: v[1], Z: v[2]})
-		if len(off) == 6 {
-			nrm = append(nrm, r3.Vec{X: v[3], Y: v[4], Z: v[5]})
+		pts[r] = r3.Vec{X: v[0], Y: v[1], Z: v[2]}
+		if nrm != nil {
+			nrm[r] = r3.Vec{X: v[3], Y: v[4], Z: v[5]}
 		}
 	}
-	return pts, nrm, 0
+	return 0
 }
 
-// records64 is records32 for float64 coordinates.
-func records64(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) (_, _ []r3.Vec, bad int) {
+// fill64 is fill32 for float64 coordinates.
+func fill64(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) int {
 	var v [6]float64
-	for r := 0; r+rec <= len(b); r += rec {
-		rb := b[r : r+rec]
+	for r := range pts {
+		rb := b[r*rec : (r+1)*rec]
 		for j, o := range off {
 			var u uint64
 			if big {
@@ -578,16 +667,16 @@ func records64(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) (_, _ 
 				u = binary.LittleEndian.Uint64(rb[o:])
 			}
 			if u&0x7ff0000000000000 == 0x7ff0000000000000 {
-				return pts, nrm, r + o + 1
+				return r*rec + o + 1
 			}
 			v[j] = math.Float64frombits(u)
 		}
-		pts = append(pts, r3.Vec{X: v[0], Y: v[1], Z: v[2]})
-		if len(off) == 6 {
-			nrm = append(nrm, r3.Vec{X: v[3], Y: v[4], Z: v[5]})
+		pts[r] = r3.Vec{X: v[0], Y: v[1], Z: v[2]}
+		if nrm != nil {
+			nrm[r] = r3.Vec{X: v[3], Y: v[4], Z: v[5]}
 		}
 	}
-	return pts, nrm, 0
+	return 0
 }
 
 // binaryRecords reads the records of e one property at a time: an element

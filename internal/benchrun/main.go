@@ -1,0 +1,76 @@
+// Command benchrun runs one command several times and prints one row of the
+// bench script's table: the median wall time, the median user+sys CPU time
+// and the largest peak resident set size of the runs (scripts/bench.sh).
+//
+// Usage:
+//
+//	go run ./internal/benchrun -n 3 -label NAME -- COMMAND [ARG...]
+//
+// Exit codes 0 and 1 of the command count as a run (gapflux analyze exits 1
+// for a scan out of tolerance); any other code stops benchrun with an error.
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"os"
+	"os/exec"
+	"slices"
+	"time"
+)
+
+func main() {
+	n := flag.Int("n", 3, "number of runs")
+	label := flag.String("label", "", "row label")
+	header := flag.Bool("header", false, "print the table header and exit")
+	flag.Parse()
+	if *header {
+		fmt.Printf("%-28s %6s %12s %14s %14s\n", "case", "runs", "wall_s(med)", "cpu_s(med)", "peak_rss_mb")
+		return
+	}
+	if flag.NArg() == 0 || *n < 1 {
+		fmt.Fprintln(os.Stderr, "benchrun: usage: benchrun [-n RUNS] [-label NAME] -- COMMAND [ARG...]")
+		os.Exit(2)
+	}
+	var wall, cpu []float64
+	var rssMB float64
+	for range *n {
+		w, c, r, err := run(flag.Args())
+		if err != nil {
+			fmt.Fprintf(os.Stderr, "benchrun: %s: %v\n", *label, err)
+			os.Exit(1)
+		}
+		wall, cpu, rssMB = append(wall, w), append(cpu, c), max(rssMB, r)
+	}
+	fmt.Printf("%-28s %6d %12.3f %14.3f %14.1f\n", *label, *n, median(wall), median(cpu), rssMB)
+}
+
+// run runs the command once and returns its wall time and user+sys CPU
+// time, s, and its peak resident set size, MB (0 where the system does not
+// tell).
+func run(args []string) (wallS, cpuS, rssMB float64, err error) {
+	cmd := exec.Command(args[0], args[1:]...)
+	cmd.Stdout, cmd.Stderr = os.Stdout, os.Stderr
+	t0 := time.Now()
+	err = cmd.Run()
+	wallS = time.Since(t0).Seconds()
+	var ee *exec.ExitError
+	if errors.As(err, &ee) && ee.ExitCode() == 1 {
+		err = nil
+	}
+	if err != nil {
+		return 0, 0, 0, err
+	}
+	st := cmd.ProcessState
+	return wallS, (st.UserTime() + st.SystemTime()).Seconds(), peakRSSMB(st), nil
+}
+
+func median(v []float64) float64 {
+	s := slices.Clone(v)
+	slices.Sort(s)
+	if len(s)%2 == 1 {
+		return s[len(s)/2]
+	}
+	return (s[len(s)/2-1] + s[len(s)/2]) / 2
+}

@@ -1,0 +1,9 @@
+//go:build !linux
+
+package main
+
+import "os"
+
+// peakRSSMB is 0 outside Linux (ru_maxrss is in bytes on macOS and absent
+// on Windows; not measured there).
+func peakRSSMB(*os.ProcessState) float64 { return 0 }
