@@ -53,6 +53,10 @@ type BatchOptions struct {
 	Dir     string // folder of scans
 	Out     string // output folder
 	Job     Job    // defaults for every scan
+	// Override, when set, is applied to the job of a row that names its
+	// own job file (the command line's job flags win over every job file;
+	// manifest columns still win over both). Opt.Job has it applied already.
+	Override func(Job) (Job, error)
 	Workers int    // 0 = number of CPUs
 	Force   bool   // re-run scans whose outputs are current
 	Shard   Shard
@@ -518,7 +522,7 @@ func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string, log *
 		}
 		return oc
 	}
-	t, sha, jobSHA, err := effectiveTask(t, opt.Job, dir)
+	t, sha, jobSHA, err := effectiveTask(t, opt.Job, dir, opt.Override)
 	if err != nil {
 		return fail(err, sha, "")
 	}
@@ -552,11 +556,16 @@ func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string, log *
 
 // effectiveTask applies the manifest row (its job file, overrides and hob)
 // to t and hashes the scan and its effective job. Job errors are *JobError.
-func effectiveTask(t ScanTask, job Job, dir string) (ScanTask, string, string, error) {
+func effectiveTask(t ScanTask, job Job, dir string, override func(Job) (Job, error)) (ScanTask, string, string, error) {
 	if t.Meta.Job != "" {
 		j, err := ReadJobFile(filepath.Join(dir, filepath.FromSlash(t.Meta.Job)))
 		if err != nil {
 			return t, "", "", err
+		}
+		if override != nil {
+			if j, err = override(j); err != nil {
+				return t, "", "", &JobError{Name: t.Meta.Job, Msg: err.Error()}
+			}
 		}
 		job = j
 	}

@@ -18,7 +18,7 @@ import (
 
 func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
 	fs := newFlags("analyze", "analyze PAN [--hob HOB] [--job JOB.toml] [--out DIR] [--json]", stderr)
-	jf := addJobFlags(fs)
+	jf := addJobFlags(fs, "job file (TOML); \"gapflux job\" prints every key with its default")
 	hob := fs.String("hob", "", "hob top: a scan (STL, PLY, XYZ/CSV) or a radial profile CSV (r_mm,z_mm); default an ideal flat hob")
 	out := fs.String("out", "", "write report.json, rings.csv, maps and fields.vti into this folder")
 	asJSON := fs.Bool("json", false, "also print report.json to stdout")
@@ -30,7 +30,7 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 		fs.Usage()
 		return exitUsage, usagef("want exactly one scan file, got %d arguments", fs.NArg())
 	}
-	job, err := jf.job()
+	job, err := jf.job("")
 	if err != nil {
 		return exitUsage, err
 	}
@@ -80,13 +80,13 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 
 func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
 	fs := newFlags("batch", "batch DIR --out OUT [--job JOB.toml] [--workers N] [--shard K/N] [--force]", stderr)
-	jobPath := fs.String("job", "", "job file (default: DIR/job.toml when present, else the built-in defaults)")
 	out := fs.String("out", "", "output folder (required)")
 	workers := fs.Int("workers", runtime.NumCPU(), "scans analysed at once")
 	shard := fs.String("shard", "", "run only slice K of N of the sorted scan list (default: from the scheduler's array-job variables when set)")
 	force := fs.Bool("force", false, "re-run scans whose outputs are already current")
 	quiet := fs.Bool("quiet", false, "print nothing but errors (for cron)")
 	progress := fs.String("progress", "auto", "auto (bar on a terminal, lines otherwise), bar, lines or none")
+	jf := addJobFlags(fs, "job file (default: DIR/job.toml when present, else the built-in defaults)")
 	if err := parse(fs, args); err != nil {
 		return exitUsage, err
 	}
@@ -95,11 +95,11 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 		return exitUsage, usagef("want one scan folder and --out")
 	}
 	dir := fs.Arg(0)
-	job, err := batchJob(dir, *jobPath)
+	job, err := jf.job(filepath.Join(dir, pipeline.JobName))
 	if err != nil {
 		return exitUsage, err
 	}
-	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force}
+	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force, Override: jf.apply}
 	if *shard != "" {
 		if opt.Shard, err = pipeline.ParseShard(*shard); err != nil {
 			return exitUsage, usageError{err}
@@ -193,12 +193,20 @@ func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
 
 func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("synth", "synth [flags] --out FILE", stderr)
-	shape := fs.String("shape", "dish", "base form: flat, dish, dome, saddle, tilt or bend")
+	shape := fs.String("shape", "dish", "base form: flat, dish, dome, saddle, tilt, bend or cone (hob top: flat, dome or dish)")
 	diam := fs.Float64("diameter-mm", 200, "base diameter, mm")
-	sag := fs.Float64("sag-mm", 0.4, "form amplitude, mm (dish/dome: centre height against the rim)")
+	sag := fs.Float64("sag-mm", 0.4, "form amplitude, mm (dish/dome: centre height against the rim; 0 for --shape flat unless given)")
+	turn := fs.Float64("turn-deg", 0, "turn the form about z, degrees (a bend's rim rises along this direction, its axis is 90° from it)")
+	coneStart := fs.Float64("cone-start-mm", 0, "cone: radius of the flat centre, mm, beyond which the ring lifts to --sag-mm at the rim (0 = half the radius)")
 	noise := fs.Float64("noise-um", 8, "scanner noise σ, µm")
-	spikes := fs.Float64("spikes", 0, "fraction of points turned into spikes")
-	holes := fs.Int("holes", 0, "number of unmeasured holes")
+	spikes := fs.Float64("spikes", 0, "fraction of points turned into spikes (0 … 0.5)")
+	spikeMM := fs.String("spike-mm", "", "spike and streak heights MIN,MAX, mm (default 0.2,2)")
+	streaks := fs.Int("streaks", 0, "number of streaks (a line of points lifted together, as glare makes)")
+	streakMM := fs.Float64("streak-mm", 0, "streak length, mm (0 = 3 mm)")
+	holes := fs.Int("holes", 0, "number of unmeasured holes at random places (2 … 4 mm radius)")
+	holeAt := fs.StringArray("hole", nil, "an unmeasured hole X,Y,D in mm (centre and diameter, base frame); repeatable")
+	sector := fs.StringArray("missing-sector", nil, "leave out the points between FROM,TO degrees (from +x, counter-clockwise) beyond radius INNER mm: FROM,TO[,INNER]; repeatable")
+	jitter := fs.Float64("jitter", 0, "move each cloud point by up to ± this fraction of half the spacing (0 … 1)")
 	corner := fs.Float64("corner-mm", 0, "corner radius, mm (0 = base only)")
 	wall := fs.Float64("wall-mm", 0, "wall height above the base, mm")
 	spacing := fs.Float64("spacing-mm", 0.5, "point spacing, mm")
@@ -211,7 +219,9 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	format := fs.String("format", "", "stl, ply, xyz or csv (default from --out's extension)")
 	binary := fs.Bool("binary", true, "binary STL/PLY")
 	bigEndian := fs.Bool("big-endian", false, "binary_big_endian PLY")
-	unit := fs.String("unit", "mm", "unit of the numbers written: mm, m, um or in")
+	units := fs.String("units", "mm", "unit of the numbers written: mm, m, um or in")
+	fs.StringVar(units, "unit", "mm", "old spelling of --units")
+	fs.MarkDeprecated("unit", "use --units")
 	hobTop := fs.Bool("hob-top", false, "write a hob top (300 mm glass plate, top up) instead of a pan base")
 	out := fs.String("out", "", "scan file to write; a .truth.json sidecar is written beside it (required)")
 	if err := parse(fs, args); err != nil {
@@ -221,13 +231,16 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 		fs.Usage()
 		return usagef("--out is required")
 	}
+	if synth.Shape(*shape) == synth.Flat && !fs.Changed("sag-mm") {
+		*sag = 0 // flat means flat; --sag-mm given with it crowns a hob top
+	}
 	r, err := parseFloats(*rot, 3)
 	if err != nil {
-		return usagef("--rotate-deg: %v", err)
+		return usagef("--rotate-deg %v", err)
 	}
 	o, err := parseFloats(*off, 3)
 	if err != nil {
-		return usagef("--shift-mm: %v", err)
+		return usagef("--shift-mm %v", err)
 	}
 	name := filepath.Base(*out)
 	gz := strings.HasSuffix(strings.ToLower(name), ".gz")
@@ -235,7 +248,7 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if gz {
 		base = strings.TrimSuffix(base, filepath.Ext(base))
 	}
-	enc := synth.Encoding{Format: *format, Binary: *binary, BigEndian: *bigEndian, Gzip: gz, Unit: *unit}
+	enc := synth.Encoding{Format: *format, Binary: *binary, BigEndian: *bigEndian, Gzip: gz, Unit: *units}
 	if enc.Format == "" {
 		ext := strings.ToLower(filepath.Ext(strings.TrimSuffix(name, ".gz")))
 		enc.Format = strings.TrimPrefix(ext, ".")
@@ -243,17 +256,24 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if enc.Format == "xyz" || enc.Format == "csv" {
 		enc.Binary = false
 	}
+	rotDeg, offM := [3]float64{r[0], r[1], r[2]}, [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}
 	var sc *synth.Scan
 	if *hobTop {
 		sc, err = synth.GenerateHob(synth.HobSpec{Name: base, Shape: synth.Shape(*shape), SagM: *sag / 1e3,
 			NoiseM: *noise / 1e6, SpikeFraction: *spikes, Mesh: *mesh || enc.Format == "stl", Normals: *normals,
-			RotationDeg: [3]float64{r[0], r[1], r[2]}, OffsetM: [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}, Seed: *seed})
+			RotationDeg: rotDeg, OffsetM: offM, Seed: *seed})
 	} else {
-		sc, err = synth.Generate(synth.Spec{Name: base, Shape: synth.Shape(*shape), DiameterM: *diam / 1e3,
+		spec := synth.Spec{Name: base, Shape: synth.Shape(*shape), DiameterM: *diam / 1e3,
 			SagM: *sag / 1e3, NoiseM: *noise / 1e6, SpikeFraction: *spikes, Holes: *holes,
 			CornerRadiusM: *corner / 1e3, WallHeightM: *wall / 1e3, SpacingM: *spacing / 1e3,
 			Mesh: *mesh || enc.Format == "stl", Normals: *normals, Face: *face,
-			RotationDeg: [3]float64{r[0], r[1], r[2]}, OffsetM: [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}, Seed: *seed})
+			RotationDeg: rotDeg, OffsetM: offM, Seed: *seed,
+			ConeStartM: *coneStart / 1e3, FormTurnDeg: *turn, Streaks: *streaks, StreakLengthM: *streakMM / 1e3,
+			JitterFraction: *jitter}
+		if err := synthArtefacts(&spec, *spikeMM, *holeAt, *sector); err != nil {
+			return err
+		}
+		sc, err = synth.Generate(spec)
 	}
 	if err != nil {
 		return usageError{err}
@@ -265,7 +285,46 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(stdout, "wrote %s (%d points) and %s\n", scanPath, sc.Truth.Points, truthPath)
+	if t := sc.Truth.Triangles; t > 0 {
+		fmt.Fprintf(stdout, "wrote %s (%d vertices, %d triangles) and %s\n", scanPath, sc.Truth.Points, t, truthPath)
+	} else {
+		fmt.Fprintf(stdout, "wrote %s (%d points) and %s\n", scanPath, sc.Truth.Points, truthPath)
+	}
+	return nil
+}
+
+// synthArtefacts parses synth's --spike-mm, --hole and --missing-sector into
+// spec (mm and degrees on the command line, metres in the spec).
+func synthArtefacts(spec *synth.Spec, spikeMM string, holes, sectors []string) error {
+	if spikeMM != "" {
+		v, err := parseFloats(spikeMM, 2)
+		if err != nil {
+			return usagef("--spike-mm %v", err)
+		}
+		spec.SpikeMinM, spec.SpikeMaxM = v[0]/1e3, v[1]/1e3
+	}
+	for _, h := range holes {
+		v, err := parseFloats(h, 3)
+		if err != nil {
+			return usagef("--hole %v (X,Y,D in mm)", err)
+		}
+		spec.HoleList = append(spec.HoleList, synth.Hole{XM: v[0] / 1e3, YM: v[1] / 1e3, DiameterM: v[2] / 1e3})
+	}
+	for _, s := range sectors {
+		n := 3
+		if strings.Count(s, ",") == 1 {
+			n = 2
+		}
+		v, err := parseFloats(s, n)
+		if err != nil {
+			return usagef("--missing-sector %v (FROM,TO degrees, optionally ,INNER mm)", err)
+		}
+		sec := synth.Sector{FromDeg: v[0], ToDeg: v[1]}
+		if n == 3 {
+			sec.InnerM = v[2] / 1e3
+		}
+		spec.Sectors = append(spec.Sectors, sec)
+	}
 	return nil
 }
 

@@ -223,11 +223,11 @@ func TestBatchCommand(t *testing.T) {
 // the job file's (here the default) values.
 func TestFlagsOverrideJob(t *testing.T) {
 	fs := newFlags("analyze", "", &bytes.Buffer{})
-	jf := addJobFlags(fs)
+	jf := addJobFlags(fs, "job file")
 	if err := parse(fs, []string{"--cell-mm", "1.5", "--mode", "temperature", "--offset-mm", "3,-4", "--units", "in", "--water-c", "45"}); err != nil {
 		t.Fatal(err)
 	}
-	job, err := jf.job()
+	job, err := jf.job("")
 	if err != nil {
 		t.Fatal(err)
 	}
