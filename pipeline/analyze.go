@@ -129,12 +129,17 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		return nil, fmt.Errorf("%s: levelling: %w", in.Name, err)
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
+	rep.Input.Pan.DistinctPoints = rep.Input.Pan.Points - lev.PointsMerged
 	cloud = nil
 	// The data-quality gate (DESIGN 5.0): a rejected scan stops here or
 	// after gridding, before pose and heat, with the reason in its report.
 	qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
 	if qg.judge(rep, false) {
 		return res, nil
+	}
+	// Water load, zone and zone power left at 0 follow the base's size.
+	if rep.Input.FittedToBase, err = job.fitToBase(2 * lev.RadiusM * 1e3); err != nil {
+		return nil, fmt.Errorf("%s: %w", in.Name, err)
 	}
 	// Every grid of the analysis is bounded before the first is allocated.
 	if err := job.planGrids(lev.RadiusM).check(&job); err != nil {

@@ -53,10 +53,6 @@ type BatchOptions struct {
 	Dir     string // folder of scans
 	Out     string // output folder
 	Job     Job    // defaults for every scan
-	// Override, when set, is applied to the job of a row that names its
-	// own job file (the command line's job flags win over every job file;
-	// manifest columns still win over both). Opt.Job has it applied already.
-	Override func(Job) (Job, error)
 	Workers int    // 0 = number of CPUs
 	Force   bool   // re-run scans whose outputs are current
 	Shard   Shard
@@ -69,6 +65,10 @@ type BatchOptions struct {
 	Analyze AnalyzeFunc
 	// SummaryEvery bounds how often the summary is rewritten while running.
 	SummaryEvery time.Duration
+	// Override, when set, is applied to the job file a manifest row names
+	// (the command line's job flags win over every job file; the row's own
+	// columns win over both). Job has it applied already.
+	Override func(Job) (Job, error)
 }
 
 // BatchResult tells what a batch did.
@@ -304,7 +304,7 @@ func prepareOutput(out string, lock *OutputLock, log *runLog) error {
 		return fmt.Errorf("removing temporary files under %s: %w", out, err)
 	}
 	if n > 0 {
-		log.printf("removed %d temporary file(s) (%s*) left under %s by an interrupted run", n, TempPrefix, out)
+		log.printf("removed %s (%s*) left under %s by an interrupted run", counted(n, "temporary file", "temporary files"), TempPrefix, out)
 	}
 	marker := filepath.Join(out, OutputMarker)
 	if _, err := os.Lstat(marker); err != nil {

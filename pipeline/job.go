@@ -169,7 +169,7 @@ func DefaultJob() Job {
 		},
 		Hob: HobJob{
 			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0, // 0: from the material
-			TemperatureC: 250, HeaterPowerW: 1800, ZoneDiameterMM: 180, DownLossWM2K: 10,
+			TemperatureC: 250, HeaterPowerW: 0, ZoneDiameterMM: 0, DownLossWM2K: 10, // 0: fitted to the base (fitbase.go)
 			LimiterC: 560, MarginMM: 30, RoomC: 23, PowerLimited: true,
 			CoilEmissivity: 0.85, GlassTau: 0.65, GlassWindowLoUM: 0.7, GlassWindowHiUM: 2.7,
 			PlateMaterial: "cast-iron", PlateThicknessMM: 8,
@@ -179,7 +179,8 @@ func DefaultJob() Job {
 			MicrohardnessMPa: 600, PanAccommodation: 0.8, HobAccommodation: 0.8, GasPressureKPa: 101.325,
 		},
 		Water: WaterJob{
-			MassKg: 1.5, FromC: 15, ToC: 90, SteadyC: 60, Side: "fixed", HWM2K: 1000,
+			MassKg: 0, FromC: 15, // water 0: fitted to the base (fitbase.go)
+			ToC: 90, SteadyC: 60, Side: "fixed", HWM2K: 1000,
 			RohsenowSurface: thermal.DefaultRohsenowSurface, Emissivity: 0.95, Evaporation: false,
 		},
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
@@ -610,11 +611,12 @@ func (j *Job) crossProblems(bad map[string]bool) []*KeyError {
 		add("hob.glass_window_hi_um", []string{"hob.glass_window_lo_um"}, "hob.glass_window_hi_um must be above hob.glass_window_lo_um (got %s and %s µm)",
 			fmtNum(j.Hob.GlassWindowHiUM), fmtNum(j.Hob.GlassWindowLoUM))
 	}
-	if j.Hob.RodLengthMM != 0 && j.Hob.RodLengthMM > j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM {
+	// A zone of 0 is fitted to the base later (fitToBase checks the rod then).
+	if j.Hob.ZoneDiameterMM != 0 && j.Hob.RodLengthMM != 0 && j.Hob.RodLengthMM > j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM {
 		add("hob.rod_length_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_length_mm = %s mm is longer than the zone and its margin (%s mm)",
 			fmtNum(j.Hob.RodLengthMM), fmtNum(j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM))
 	}
-	if math.Abs(j.Hob.RodOffsetMM) > j.Hob.ZoneDiameterMM/2 {
+	if j.Hob.ZoneDiameterMM != 0 && math.Abs(j.Hob.RodOffsetMM) > j.Hob.ZoneDiameterMM/2 {
 		add("hob.rod_offset_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_offset_mm = %s mm puts the rod outside the zone (radius %s mm)",
 			fmtNum(j.Hob.RodOffsetMM), fmtNum(j.Hob.ZoneDiameterMM/2))
 	}

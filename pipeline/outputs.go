@@ -174,7 +174,7 @@ func bendAxis(g *GeometryReport) float64 {
 func HumanSummary(res *Result) string {
 	rep := res.Report
 	var b strings.Builder
-	fmt.Fprintf(&b, "%s (%s, %d points)\n", res.Name, rep.Input.Pan.Format, rep.Input.Pan.Points)
+	fmt.Fprintf(&b, "%s (%s, %s)\n", res.Name, rep.Input.Pan.Format, inputCounts(rep.Input.Pan))
 	if q := rep.Quality; q != nil {
 		fmt.Fprintf(&b, "  %s\n", qualityLine(q))
 	}

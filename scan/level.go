@@ -272,7 +272,10 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	if merged > 0 {
 		pts = uniquePoints(pts, rep, merged)
 		out.PointsMerged = merged
-		if float64(merged) > 0.01*float64(len(all)) {
+		// A triangle soup (an STL: three vertices per facet) repeats each
+		// shared vertex by construction; only other repeats are news.
+		soup := len(c.Triangles) > 0 && len(all) == 3*len(c.Triangles)
+		if !soup && float64(merged) > 0.01*float64(len(all)) {
 			out.Warnings = append(out.Warnings, fmt.Sprintf("%d of %d points (%.0f %%) repeat another point exactly (is the scan written more than once into the file?); "+
 				"each was counted once", merged, len(all), 100*float64(merged)/float64(len(all))))
 		}
