@@ -126,7 +126,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		}
 	}
 	if err != nil {
-		return nil, fmt.Errorf("%s: levelling: %w", in.Name, err)
+		return nil, stageErr(in.Name, "levelling", err)
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
 	rep.Input.Pan.DistinctPoints = rep.Input.Pan.Points - lev.PointsMerged
@@ -151,7 +151,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK,
 		MaxCells: job.Limits.MaxCells, MaxCellM: job.Grid.CutoffMM / 1e3 / 4})
 	if err != nil {
-		return nil, fmt.Errorf("%s: gridding: %w", in.Name, err)
+		return nil, stageErr(in.Name, "gridding", err)
 	}
 	job.Grid.CellMM = grid.Raw.CellM * 1e3 // the cell used (grid.cell_mm = 0 asks for an automatic one)
 	if err := checkFilter(&job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
@@ -159,14 +159,14 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	filt, err := scan.Filter(grid.Raw, scan.FilterOptions{CutoffM: job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(job.Grid.Filter)})
 	if err != nil {
-		return nil, fmt.Errorf("%s: form filter: %w", in.Name, err)
+		return nil, stageErr(in.Name, "form filter", err)
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 	form, err := scan.MeasureForm(filt.Form, lev.RadiusM)
 	if err != nil {
-		return nil, fmt.Errorf("%s: form: %w", in.Name, err)
+		return nil, stageErr(in.Name, "form", err)
 	}
 	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
 	rep.Geometry = geometryReport(form, grid, filt, lev, job)
@@ -213,7 +213,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		CentreOfMassM: comM, RockLimitM: job.Grid.RockMM / 1e3, Seed: restSeed,
 		BandM: contact.ContactBandSigmas * ip.SigmaM, WeightN: loadN, TipForceLimitN: job.Grid.RockForceN})
 	if err != nil {
-		return nil, fmt.Errorf("%s: rest pose: %w", in.Name, err)
+		return nil, stageErr(in.Name, "rest pose", err)
 	}
 	res.Pose = pose
 	rep.Pose = poseReport(pose, comM, job)
@@ -271,11 +271,11 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	steadyK := job.Water.SteadyC + kelvin
 	solScan, err := solve(scanField, steadyK)
 	if err != nil {
-		return nil, fmt.Errorf("%s: plate solve: %w", in.Name, err)
+		return nil, stageErr(in.Name, "plate solve", err)
 	}
 	solFlat, err := solve(flatField, steadyK)
 	if err != nil {
-		return nil, fmt.Errorf("%s: plate solve (flat twin): %w", in.Name, err)
+		return nil, stageErr(in.Name, "plate solve (flat twin)", err)
 	}
 	res.Scan, res.Flat = solScan, solFlat
 	rep.Warnings = append(rep.Warnings, prefixed("scan: ", solScan.Warnings)...)
@@ -327,7 +327,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rings, err := thermal.Rings(thermal.RingInput{Grid: prob.Grid, InBase: inBase, WidthM: job.Grid.RingMM / 1e3,
 		GapM: gap, Contact: mask, Scan: solScan, Flat: solFlat})
 	if err != nil {
-		return nil, fmt.Errorf("%s: rings: %w", in.Name, err)
+		return nil, stageErr(in.Name, "rings", err)
 	}
 	res.Rings = rings
 	rep.Rings = ringReports(rings)
@@ -372,7 +372,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	hu, err := heatupReport(ctx, job, lib, lev.RadiusM, power, scanField, flatField)
 	if err != nil {
-		return nil, fmt.Errorf("%s: heat-up: %w", in.Name, err)
+		return nil, stageErr(in.Name, "heat-up", err)
 	}
 	rep.Heatup = hu.report
 	rep.Warnings = append(rep.Warnings, hu.warnings...)

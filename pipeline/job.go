@@ -212,6 +212,32 @@ type KeyError struct {
 
 func (e *KeyError) Error() string { return e.Msg }
 
+// choiceText lists the allowed strings for a message: "mm", "m" or "in";
+// an empty choice is said in words ("or left empty for the default"), not
+// listed as a blank.
+func choiceText(oneOf []string) string {
+	var q []string
+	empty := false
+	for _, o := range oneOf {
+		if o == "" {
+			empty = true
+			continue
+		}
+		q = append(q, strconv.Quote(o))
+	}
+	text := q[len(q)-1]
+	if len(q) > 1 {
+		text = strings.Join(q[:len(q)-1], ", ") + " or " + text
+	}
+	if len(q) > 1 {
+		text = "one of " + text
+	}
+	if empty {
+		text += ", or left empty for the default"
+	}
+	return text
+}
+
 // InvalidJobError lists every value of a job that Validate refused.
 type InvalidJobError struct {
 	Problems []*KeyError
@@ -568,11 +594,7 @@ func (j *Job) rangeProblems() (probs []*KeyError, bad map[string]bool) {
 		case reflect.String:
 			if s.oneOf != nil && !slices.Contains(s.oneOf, v.String()) {
 				bad[spec] = true
-				q := make([]string, len(s.oneOf))
-				for i, o := range s.oneOf {
-					q[i] = strconv.Quote(o)
-				}
-				add(key, "%s must be one of %s (got %q)", key, strings.Join(q, ", "), v.String())
+				add(key, "%s must be %s (got %q)", key, choiceText(s.oneOf), v.String())
 			}
 		}
 	})

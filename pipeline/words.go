@@ -26,3 +26,44 @@ func inputCounts(f FileReport) string {
 	}
 	return counted(f.Points, "point", "points")
 }
+
+// stageError is an analysis step's error as users read it: the scan's
+// name, the step in plain words, then the cause without the package and
+// step prefixes the lower layers put on it ("scan: level: ", "thermal:
+// heat-up: "), which would only repeat the step ("form: scan: form: ...").
+type stageError struct {
+	name, stage string
+	err         error
+}
+
+func (e *stageError) Error() string {
+	return e.name + ": " + e.stage + ": " + trimPrefixes(e.err.Error())
+}
+
+func (e *stageError) Unwrap() error { return e.err }
+
+// stageErr wraps err as the failure of the analysis step stage of the
+// scan name.
+func stageErr(name, stage string, err error) error {
+	return &stageError{name: name, stage: stage, err: err}
+}
+
+// layerPrefixes are the prefixes of the lower layers' errors that name a
+// package and a step, which stageError drops.
+var layerPrefixes = []string{
+	"scan: level: ", "scan: grid: ", "scan: filter: ", "scan: form: ", "scan: shape: ", "scan: zernike: ",
+	"contact: rest: ", "thermal: heat-up: ", "thermal: rings: ", "thermal: glass: ", "thermal: ", "scan: ", "contact: ",
+}
+
+// trimPrefixes drops the layer prefixes at the start of s.
+func trimPrefixes(s string) string {
+	for again := true; again; {
+		again = false
+		for _, p := range layerPrefixes {
+			if len(s) > len(p) && s[:len(p)] == p {
+				s, again = s[len(p):], true
+			}
+		}
+	}
+	return s
+}

@@ -91,16 +91,89 @@ exit code 2); no program can catch that. The job's limits and grid bounds keep a
 below it; on a small machine give batch fewer --workers.
 `
 
-// parse parses args, mapping -h to errHelp and flag errors to usage errors.
+// parse parses args, mapping -h to errHelp and flag errors to usage errors
+// that say what to try: the nearest flag for an unknown one, the kind of
+// value a flag wants for a bad one.
 func parse(fs *pflag.FlagSet, args []string) error {
 	err := fs.Parse(args)
 	if errors.Is(err, pflag.ErrHelp) {
 		return errHelp
 	}
-	if err != nil {
-		return usageError{err}
+	if err == nil {
+		return nil
 	}
-	return nil
+	help := fmt.Sprintf("\"gapflux %s --help\" lists every flag", fs.Name())
+	var notExist *pflag.NotExistError
+	var invalid *pflag.InvalidValueError
+	var needs *pflag.ValueRequiredError
+	switch {
+	case errors.As(err, &notExist) && notExist.GetSpecifiedName() != "":
+		name := notExist.GetSpecifiedName()
+		if near := nearestFlag(fs, name); near != "" {
+			return usagef("unknown flag --%s: did you mean --%s? (%s)", name, near, help)
+		}
+		return usagef("unknown flag --%s (%s)", name, help)
+	case errors.As(err, &invalid):
+		f := invalid.GetFlag()
+		return usagef("--%s %q: want %s (%s)", f.Name, invalid.GetValue(), valueKind(f), help)
+	case errors.As(err, &needs) && needs.GetSpecifiedName() != "":
+		return usagef("--%s needs a value (%s)", needs.GetSpecifiedName(), help)
+	}
+	return usageError{fmt.Errorf("%w (%s)", err, help)}
+}
+
+// valueKind says in words what a flag's value must be.
+func valueKind(f *pflag.Flag) string {
+	switch f.Value.Type() {
+	case "float64":
+		return "a number"
+	case "int", "uint64":
+		return "a whole number"
+	case "bool":
+		return "true or false"
+	}
+	return "a " + f.Value.Type()
+}
+
+// nearestFlag returns the visible flag of fs closest to name (at most two
+// edits away, or name a prefix of it, or it of name), "" when none is.
+func nearestFlag(fs *pflag.FlagSet, name string) string {
+	best, bestD := "", 3
+	fs.VisitAll(func(f *pflag.Flag) {
+		if f.Hidden || f.Deprecated != "" {
+			return
+		}
+		d := editDistance(name, f.Name)
+		if d > 2 && (strings.HasPrefix(f.Name, name) || strings.HasPrefix(name, f.Name)) && len(name) >= 3 {
+			d = 2
+		}
+		if d < bestD {
+			best, bestD = f.Name, d
+		}
+	})
+	return best
+}
+
+// editDistance is the Levenshtein distance between a and b (in bytes; flag
+// names are ASCII).
+func editDistance(a, b string) int {
+	prev := make([]int, len(b)+1)
+	cur := make([]int, len(b)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(a); i++ {
+		cur[0] = i
+		for j := 1; j <= len(b); j++ {
+			cost := 1
+			if a[i-1] == b[j-1] {
+				cost = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(b)]
 }
 
 // jobFlags are the flags that override job keys: one definition shared by
@@ -212,9 +285,36 @@ func (j *jobFlags) apply(job pipeline.Job) (pipeline.Job, error) {
 		job.Pan.OffsetMM = [2]float64{xy[0], xy[1]}
 	}
 	if err := job.Validate(); err != nil {
-		return job, err
+		return job, flagNamed(j.fs, err)
 	}
 	return job, nil
+}
+
+// flagKeys maps the job keys the override flags set to the flags.
+var flagKeys = map[string]string{
+	"grid.units": "units", "grid.face": "face", "grid.cell_mm": "cell-mm", "grid.cutoff_mm": "cutoff-mm",
+	"grid.ring_mm": "ring-mm", "grid.rock_mm": "rock-mm", "grid.diameter_mm": "diameter-mm",
+	"pan.offset_mm": "offset-mm", "hob.mode": "mode", "water.steady_c": "water-c", "water.mass_kg": "water-kg",
+	"hob.zone_diameter_mm": "zone-mm", "limits.max_points": "max-points",
+}
+
+// flagNamed prefixes each problem of a job-validation error whose key a
+// flag on the command line set with that flag ("--units: grid.units must
+// be ..."), so the message points at what the user typed.
+func flagNamed(fs *pflag.FlagSet, err error) error {
+	var inv *pipeline.InvalidJobError
+	if !errors.As(err, &inv) {
+		return err
+	}
+	msgs := make([]string, len(inv.Problems))
+	for i, p := range inv.Problems {
+		msgs[i] = p.Msg
+		key := strings.SplitN(p.Key, "[", 2)[0]
+		if f, ok := flagKeys[key]; ok && fs.Changed(f) {
+			msgs[i] = "--" + f + ": " + p.Msg
+		}
+	}
+	return fmt.Errorf("%s", strings.Join(msgs, "; "))
 }
 
 // parseFloats parses n comma-separated numbers.

@@ -33,7 +33,7 @@ func TestUsageAndHelp(t *testing.T) {
 		{[]string{"frobnicate"}, exitUsage, `unknown command "frobnicate"`},
 		{[]string{"analyze"}, exitUsage, "want exactly one scan file"},
 		{[]string{"analyze", "--cell-mm", "-1", "x.stl"}, exitUsage, "grid.cell_mm must be 0 (automatic) or in [0.01, 10] mm (got -1"},
-		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag: --nope"},
+		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag --nope"},
 		{[]string{"analyze", "--offset-mm", "3", "x.stl"}, exitUsage, "want 2 comma-separated numbers"},
 		{[]string{"analyze", "--help"}, exitOK, "--cell-mm"},
 		{[]string{"analyze", "no-such-file.stl"}, exitUsage, "no-such-file.stl: not a readable scan file"},
