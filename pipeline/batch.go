@@ -387,8 +387,8 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		return s
 	}
 	host, _ := os.Hostname()
-	log.printf("batch start: %d scans (shard %s) from %s into %s on %s, pid %d, %d workers",
-		len(tasks), opt.Shard, dir, out, host, os.Getpid(), opt.Workers)
+	log.printf("batch start: %s (shard %s) from %s into %s on %s, pid %d, %s",
+		counted(len(tasks), "scan", "scans"), opt.Shard, dir, out, host, os.Getpid(), counted(opt.Workers, "worker", "workers"))
 	if opt.Progress != nil {
 		opt.Progress.Start(len(tasks))
 	}

@@ -360,7 +360,7 @@ func TestBatchRemovesTempLeftovers(t *testing.T) {
 		}
 	}
 	log, _ := os.ReadFile(filepath.Join(out, "run.log"))
-	if !strings.Contains(string(log), "removed 3 temporary file(s)") {
+	if !strings.Contains(string(log), "removed 3 temporary files") {
 		t.Errorf("run.log does not count the removed files:\n%s", log)
 	}
 }

@@ -137,11 +137,11 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	}
 	if !*quiet {
 		c := res.Summary.Counts
-		fmt.Fprintf(stdout, "%d scans: %d ok, %d out of tolerance, %d rejected, %d failed, %d not run (analysed %d, outputs current %d)\n",
-			res.Total, c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusRejected], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
+		fmt.Fprintf(stdout, "%s: %d ok, %d out of tolerance, %d rejected, %d failed, %d not run (analysed %d, outputs current %d)\n",
+			plural(res.Total, "scan", "scans"), c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusRejected], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
 		fmt.Fprintf(stdout, "summary: %s; per scan: %s\n", filepath.Join(*out, "summary.csv"), filepath.Join(*out, pipeline.ScansDir, "<scan>"))
 		if res.ConfigFailures > 0 {
-			fmt.Fprintf(stdout, "%d scans failed because of a job file (see their rows): fix it and run the same command again\n", res.ConfigFailures)
+			fmt.Fprintf(stdout, "%s failed because of a job file (see the reason column): fix it and run the same command again\n", plural(res.ConfigFailures, "scan", "scans"))
 		}
 		if res.Interrupted {
 			fmt.Fprintf(stdout, "interrupted: run the same command again to finish the remaining scans\n")
@@ -182,7 +182,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
 	if err != nil {
 		return exitUsage, err
 	}
-	fmt.Fprintf(stdout, "merged %d scans into %s\n", len(s.Rows), filepath.Join(*out, "summary.csv"))
+	fmt.Fprintf(stdout, "merged %s into %s\n", plural(len(s.Rows), "scan", "scans"), filepath.Join(*out, "summary.csv"))
 	for _, r := range s.Rows {
 		if r.Status != pipeline.StatusOK {
 			return exitFail, nil
@@ -392,4 +392,12 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) (int,
 	fmt.Fprintf(stdout, "the demo's pans, hob and numbers are invented. The failed row (%s) is on purpose: that file is cut short to show what a broken scan gives.\n",
 		pipeline.DemoBrokenScan)
 	return exitOK, nil
+}
+
+// plural writes n with the singular or plural noun: "1 scan", "3 scans".
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
 }

@@ -3,10 +3,10 @@ package main
 import (
 	"os"
 	"path/filepath"
-	"strings"
-	"testing"
 	"regexp"
 	"strconv"
+	"strings"
+	"testing"
 	"unicode/utf16"
 )
 
@@ -136,4 +136,3 @@ func TestMessagesSayWhatToDo(t *testing.T) {
 		})
 	}
 }
-
