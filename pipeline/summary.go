@@ -245,13 +245,7 @@ func (s *Summary) Table() string {
 	fmt.Fprintf(&buf, "%-28s %-16s %-7s %8s %9s %8s %6s %8s %7s %9s %s\n",
 		"scan", "status", "quality", "diam_mm", "concav_mm", "mz_mm", "rocks", "loss_pct", "glass_c", "extra_pct", "note")
 	for _, r := range s.Rows {
-		note := r.Reasons
-		if r.Status == StatusFailed {
-			note = r.Error
-		}
-		if len(note) > 70 {
-			note = note[:67] + "..."
-		}
+		note := r.ShortReason()
 		fmt.Fprintf(&buf, "%-28s %-16s %-7s %8s %9s %8s %6s %8s %7s %9s %s\n",
 			clip(r.Path, 28), r.Status, r.Quality, fnum(r.DiameterMM, 1), fnum(r.ConcavityMM, 3), fnum(r.FlatnessMZMM, 3),
 			fbool(r.Rocks), fnum(r.LossPct, 1), fnum(r.GlassMaxC, 0), fnum(r.ExtraTimePct, 1), note)
