@@ -3,6 +3,7 @@ package pipeline
 import (
 	"fmt"
 	"math"
+	"strings"
 )
 
 // The defaults that follow the base (issue 15, item 8). A job key of 0 asks
@@ -95,4 +96,19 @@ func (j *Job) fitToBase(baseMM float64) (*FittedDefaults, error) {
 	}
 	f.Rule = fitRule
 	return &f, nil
+}
+
+// fittedText lists the fitted values for the printed summary.
+func fittedText(f *FittedDefaults) string {
+	var parts []string
+	if f.ZoneDiameterMM > 0 {
+		parts = append(parts, fmt.Sprintf("zone %s mm", fmtNum(f.ZoneDiameterMM)))
+	}
+	if f.HeaterPowerW > 0 {
+		parts = append(parts, fmt.Sprintf("zone power %s W", fmtNum(f.HeaterPowerW)))
+	}
+	if f.WaterKg > 0 {
+		parts = append(parts, fmt.Sprintf("water %s kg", fmtNum(f.WaterKg)))
+	}
+	return strings.Join(parts, ", ") + " (set them in the job, or --zone-mm, --water-kg)"
 }

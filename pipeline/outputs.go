@@ -222,6 +222,9 @@ func HumanSummary(res *Result) string {
 				*h.GlassMaxC, *h.FlatGlassMaxC, *h.HeaterDutyPct, *h.FlatHeaterDutyPct)
 		}
 	}
+	if f := rep.Input.FittedToBase; f != nil {
+		fmt.Fprintf(&b, "  fitted to the base (job keys left at 0): %s\n", fittedText(f))
+	}
 	if h := rep.Heatup; h != nil {
 		fmt.Fprintf(&b, "  heat-up of %.2f kg water %.0f→%.0f °C: %.0f s against %.0f s flat (+%.1f %%), %.1f kJ more energy\n",
 			h.WaterKg, h.FromC, h.ToC, h.TimeS, h.FlatTimeS, h.ExtraTimePct, h.ExtraEnergyKJ)

@@ -27,8 +27,8 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 		return exitUsage, err
 	}
 	if fs.NArg() != 1 {
-		fs.Usage()
-		return exitUsage, usagef("want exactly one scan file, got %d arguments", fs.NArg())
+		return exitUsage, usagef("want exactly one scan file, got %s (usage: gapflux analyze PAN [flags]; \"gapflux analyze --help\" lists the flags)",
+			plural(fs.NArg(), "argument", "arguments"))
 	}
 	job, err := jf.job("")
 	if err != nil {
@@ -90,9 +90,12 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	if err := parse(fs, args); err != nil {
 		return exitUsage, err
 	}
-	if fs.NArg() != 1 || *out == "" {
-		fs.Usage()
-		return exitUsage, usagef("want one scan folder and --out")
+	switch {
+	case fs.NArg() != 1:
+		return exitUsage, usagef("want one scan folder, got %s (usage: gapflux batch DIR --out OUT [flags]; \"gapflux batch --help\" lists the flags)",
+			plural(fs.NArg(), "argument", "arguments"))
+	case *out == "":
+		return exitUsage, usagef("--out OUT is missing: the folder for the results (usage: gapflux batch DIR --out OUT [flags])")
 	}
 	dir := fs.Arg(0)
 	job, err := jf.job(filepath.Join(dir, pipeline.JobName))
@@ -175,8 +178,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
 		return exitUsage, err
 	}
 	if fs.NArg() < 1 || *out == "" {
-		fs.Usage()
-		return exitUsage, usagef("want shard output folders and --out")
+		return exitUsage, usagef("want shard output folders and --out (usage: gapflux merge OUT1 OUT2 ... --out OUT)")
 	}
 	s, err := pipeline.Merge(fs.Args(), *out)
 	if err != nil {
@@ -228,8 +230,7 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *out == "" {
-		fs.Usage()
-		return usagef("--out is required")
+		return usagef("--out is required: the scan file to write, e.g. --out pan.stl (\"gapflux synth --help\" lists the shapes and faults)")
 	}
 	if synth.Shape(*shape) == synth.Flat && !fs.Changed("sag-mm") {
 		*sag = 0 // flat means flat; --sag-mm given with it crowns a hob top

@@ -218,7 +218,7 @@ func addJobFlags(fs *pflag.FlagSet, jobHelp string) *jobFlags {
 	fs.StringVar(&j.offsetMM, "offset-mm", "", "pan centre relative to the hob centre, X,Y in mm (default 0,0)")
 	fs.StringVar(&j.mode, "mode", "", "hob model: heater, temperature or solid-plate (default from the job: heater)")
 	fs.Float64Var(&j.waterC, "water-c", d.Water.SteadyC, "water temperature of the steady heat figures, °C")
-	fs.Float64Var(&j.waterKg, "water-kg", d.Water.MassKg, "water load, kg (0 = scaled to the base diameter, see \"gapflux job\")")
+	fs.Float64Var(&j.waterKg, "water-kg", d.Water.MassKg, "water load, kg (0 = fitted to the base diameter, see \"gapflux job\")")
 	fs.Float64Var(&j.zoneMM, "zone-mm", d.Hob.ZoneDiameterMM, "heating zone diameter, mm (0 = fitted to the base diameter, see \"gapflux job\")")
 	fs.IntVar(&j.maxPoints, "max-points", d.Limits.MaxPoints, "refuse scans with more points than this")
 	return j

@@ -39,7 +39,7 @@ func TestUsageAndHelp(t *testing.T) {
 		{[]string{"analyze", "no-such-file.stl"}, exitUsage, "no-such-file.stl: not a readable scan file"},
 		{[]string{"analyze", "--hob", "no-such-hob.xyz", "../../testdata/dish.stl"}, exitUsage, "no-such-hob.xyz"},
 		{[]string{"batch", "no-such-dir", "--out", filepath.Join(t.TempDir(), "o")}, exitUsage, "not a readable folder"},
-		{[]string{"batch", "somewhere"}, exitUsage, "want one scan folder and --out"},
+		{[]string{"batch", "somewhere"}, exitUsage, "--out OUT is missing"},
 		{[]string{"batch", "no-such-dir", "--out", "x", "--shard", "4/3"}, exitUsage, "1 <= K <= N"},
 		{[]string{"merge", "--out", "x"}, exitUsage, "want shard output folders"},
 		{[]string{"synth"}, exitUsage, "--out is required"},
