@@ -281,7 +281,7 @@ func readJob(r io.Reader, name string) (Job, map[string]keyPos, error) {
 			e := strict.Errors[0]
 			row, col := e.Position()
 			return job, nil, &JobError{Name: name, Line: row, Col: col,
-				Msg: fmt.Sprintf("unknown key %q", strings.Join(e.Key(), "."))}
+				Msg: unknownKeyText(strings.Join(e.Key(), "."))}
 		}
 		var de *toml.DecodeError
 		if errors.As(err, &de) {

@@ -1,6 +1,9 @@
 package pipeline
 
-import "fmt"
+import (
+	"fmt"
+	"strings"
+)
 
 // counted writes n with the singular or plural noun: "1 check", "3 checks".
 func counted(n int, one, many string) string {
@@ -66,4 +69,59 @@ func trimPrefixes(s string) string {
 		}
 	}
 	return s
+}
+
+// unknownKeyText is the message for a job key that does not exist, with
+// the nearest known key when one is close (a typo).
+func unknownKeyText(key string) string {
+	var keys []string
+	for _, k := range jobKeys() {
+		keys = append(keys, k.key)
+	}
+	if near := Nearest(key, keys); near != "" {
+		return fmt.Sprintf("unknown key %q: did you mean %q? (\"gapflux job\" prints every key)", key, near)
+	}
+	return fmt.Sprintf("unknown key %q (\"gapflux job\" prints every key)", key)
+}
+
+// Nearest returns the candidate closest to word, a likely typo of it: at
+// most two edits away (Levenshtein), or, for a word of three letters or
+// more, a prefix of it or it a prefix of the candidate; "" when none is, or
+// when word is itself a candidate.
+func Nearest(word string, candidates []string) string {
+	best, bestD := "", 3
+	for _, c := range candidates {
+		if c == word {
+			return ""
+		}
+		d := editDistance(word, c)
+		if d > 2 && len(word) >= 3 && (strings.HasPrefix(c, word) || strings.HasPrefix(word, c)) {
+			d = 2
+		}
+		if d < bestD {
+			best, bestD = c, d
+		}
+	}
+	return best
+}
+
+// editDistance is the Levenshtein distance between a and b, in bytes.
+func editDistance(a, b string) int {
+	prev := make([]int, len(b)+1)
+	cur := make([]int, len(b)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(a); i++ {
+		cur[0] = i
+		for j := 1; j <= len(b); j++ {
+			cost := 1
+			if a[i-1] == b[j-1] {
+				cost = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(b)]
 }

@@ -277,7 +277,8 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 		sc, err = synth.Generate(spec)
 	}
 	if err != nil {
-		return usageError{err}
+		// "synth: invalid spec: " says nothing the command name does not.
+		return usagef("%s", strings.TrimPrefix(err.Error(), synth.ErrSpec.Error()+": "))
 	}
 	if err := os.MkdirAll(filepath.Dir(*out), 0o755); err != nil {
 		return err

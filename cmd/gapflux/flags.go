@@ -135,45 +135,16 @@ func valueKind(f *pflag.Flag) string {
 	return "a " + f.Value.Type()
 }
 
-// nearestFlag returns the visible flag of fs closest to name (at most two
-// edits away, or name a prefix of it, or it of name), "" when none is.
+// nearestFlag returns the visible flag of fs a typo of name most likely
+// meant, "" when none is near.
 func nearestFlag(fs *pflag.FlagSet, name string) string {
-	best, bestD := "", 3
+	var names []string
 	fs.VisitAll(func(f *pflag.Flag) {
-		if f.Hidden || f.Deprecated != "" {
-			return
-		}
-		d := editDistance(name, f.Name)
-		if d > 2 && (strings.HasPrefix(f.Name, name) || strings.HasPrefix(name, f.Name)) && len(name) >= 3 {
-			d = 2
-		}
-		if d < bestD {
-			best, bestD = f.Name, d
+		if !f.Hidden && f.Deprecated == "" {
+			names = append(names, f.Name)
 		}
 	})
-	return best
-}
-
-// editDistance is the Levenshtein distance between a and b (in bytes; flag
-// names are ASCII).
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(b)]
+	return pipeline.Nearest(name, names)
 }
 
 // jobFlags are the flags that override job keys: one definition shared by
