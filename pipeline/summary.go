@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path"
 	"sort"
 	"strconv"
 	"strings"
@@ -157,14 +158,16 @@ const reasonRunes = 80
 // column: empty for an ok row; else the error (failed), the data-quality
 // finding (rejected), the first tolerance missed and how many more
 // (out-of-tolerance), or that the batch was interrupted (not-run); at most
-// 80 characters. The full texts stay in the error and reasons columns.
+// 80 characters, without the scan's name the row already gives. The full texts stay in the error and reasons columns.
 func (r SummaryRow) ShortReason() string {
 	var s string
 	switch r.Status {
 	case StatusOK:
 		return ""
 	case StatusFailed:
-		s = r.Error
+		// The row names the scan already.
+		s = strings.TrimPrefix(r.Error, path.Base(r.Path)+": ")
+		s = strings.TrimPrefix(s, r.Path+": ")
 	case StatusNotRun:
 		s = "interrupted: run the same batch again"
 	default:

@@ -12,7 +12,7 @@ import (
 // short reason, an ok row none.
 func TestSummaryCSVOrderAndReason(t *testing.T) {
 	f := func(v float64) *float64 { return &v }
-	long := "pan.stl: levelling: " + strings.Repeat("the base could not be found ", 5)
+	long := "b.stl: levelling: " + strings.Repeat("the base could not be found ", 5)
 	rows := []SummaryRow{
 		{Path: "a.stl", Status: StatusOK, PartNumber: "P1", Lot: "L1", LossPct: f(3.25)},
 		{Path: "b.stl", Status: StatusFailed, Error: long},
@@ -38,7 +38,7 @@ func TestSummaryCSVOrderAndReason(t *testing.T) {
 	}
 	want := map[string]string{
 		"a.stl": "",
-		"b.stl": string([]rune(long)[:79]) + "…",
+		"b.stl": string([]rune(strings.TrimPrefix(long, "b.stl: "))[:79]) + "…",
 		"c.stl": "loss 12.5 % above 10 % (+1 more)",
 		"d.stl": "diameter 8 mm: is the file in inches? try --units in",
 		"e.stl": "interrupted: run the same batch again",
