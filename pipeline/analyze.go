@@ -129,15 +129,20 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		}
 	}
 	if err != nil {
-		return nil, fmt.Errorf("%s: levelling: %w", in.Name, err)
+		return nil, stageErr(in.Name, "levelling", err)
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
+	rep.Input.Pan.DistinctPoints = rep.Input.Pan.Points - lev.PointsMerged
 	cloud = nil
 	// The data-quality gate (DESIGN 5.0): a rejected scan stops here or
 	// after gridding, before pose and heat, with the reason in its report.
 	qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
 	if qg.judge(rep, false) {
 		return res, nil
+	}
+	// Water load, zone and zone power left at 0 follow the base's size.
+	if rep.Input.FittedToBase, err = job.fitToBase(2 * lev.RadiusM * 1e3); err != nil {
+		return nil, fmt.Errorf("%s: %w", in.Name, err)
 	}
 	// Every grid of the analysis is bounded before the first is allocated.
 	if err := job.planGrids(lev.RadiusM).check(&job); err != nil {
@@ -149,7 +154,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK,
 		MaxCells: job.Limits.MaxCells, MaxCellM: job.Grid.CutoffMM / 1e3 / 4})
 	if err != nil {
-		return nil, fmt.Errorf("%s: gridding: %w", in.Name, err)
+		return nil, stageErr(in.Name, "gridding", err)
 	}
 	job.Grid.CellMM = grid.Raw.CellM * 1e3 // the cell used (grid.cell_mm = 0 asks for an automatic one)
 	if err := checkFilter(&job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
@@ -157,14 +162,14 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	filt, err := scan.Filter(grid.Raw, scan.FilterOptions{CutoffM: job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(job.Grid.Filter)})
 	if err != nil {
-		return nil, fmt.Errorf("%s: form filter: %w", in.Name, err)
+		return nil, stageErr(in.Name, "form filter", err)
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 	form, err := scan.MeasureForm(filt.Form, lev.RadiusM)
 	if err != nil {
-		return nil, fmt.Errorf("%s: form: %w", in.Name, err)
+		return nil, stageErr(in.Name, "form", err)
 	}
 	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
 	rep.Geometry = geometryReport(form, grid, filt, lev, job)
@@ -215,7 +220,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		CentreOfMassM: comM, RockLimitM: job.Grid.RockMM / 1e3, Seed: restSeed,
 		BandM: contact.ContactBandSigmas * ip.SigmaM, WeightN: loadN, TipForceLimitN: job.Grid.RockForceN})
 	if err != nil {
-		return nil, fmt.Errorf("%s: rest pose: %w", in.Name, err)
+		return nil, stageErr(in.Name, "rest pose", err)
 	}
 	res.Pose = pose
 	rep.Pose = poseReport(pose, comM, job)
@@ -268,10 +273,10 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		func() (err error) { solScan, err = solve(scanField, steadyK); return err },
 		func() (err error) { solFlat, err = solve(flatField, steadyK); return err })
 	if errScan != nil {
-		return nil, fmt.Errorf("%s: plate solve: %w", in.Name, errScan)
+		return nil, stageErr(in.Name, "plate solve", errScan)
 	}
 	if errFlat != nil {
-		return nil, fmt.Errorf("%s: plate solve (flat twin): %w", in.Name, errFlat)
+		return nil, stageErr(in.Name, "plate solve (flat twin)", errFlat)
 	}
 	res.Scan, res.Flat = solScan, solFlat
 	rep.Warnings = append(rep.Warnings, prefixed("scan: ", solScan.Warnings)...)
@@ -321,7 +326,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rings, err := thermal.Rings(thermal.RingInput{Grid: prob.Grid, InBase: inBase, WidthM: job.Grid.RingMM / 1e3,
 		GapM: gap, Contact: mask, Scan: solScan, Flat: solFlat})
 	if err != nil {
-		return nil, fmt.Errorf("%s: rings: %w", in.Name, err)
+		return nil, stageErr(in.Name, "rings", err)
 	}
 	res.Rings = rings
 	rep.Rings = ringReports(rings)
@@ -366,7 +371,7 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	hu, err := heatupReport(ctx, job, lib, lev.RadiusM, power, scanField, flatField)
 	if err != nil {
-		return nil, fmt.Errorf("%s: heat-up: %w", in.Name, err)
+		return nil, stageErr(in.Name, "heat-up", err)
 	}
 	rep.Heatup = hu.report
 	rep.Warnings = append(rep.Warnings, hu.warnings...)

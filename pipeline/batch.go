@@ -65,6 +65,10 @@ type BatchOptions struct {
 	Analyze AnalyzeFunc
 	// SummaryEvery bounds how often the summary is rewritten while running.
 	SummaryEvery time.Duration
+	// Override, when set, is applied to the job file a manifest row names
+	// (the command line's job flags win over every job file; the row's own
+	// columns win over both). Job has it applied already.
+	Override func(Job) (Job, error)
 }
 
 // BatchResult tells what a batch did.
@@ -300,7 +304,7 @@ func prepareOutput(out string, lock *OutputLock, log *runLog) error {
 		return fmt.Errorf("removing temporary files under %s: %w", out, err)
 	}
 	if n > 0 {
-		log.printf("removed %d temporary file(s) (%s*) left under %s by an interrupted run", n, TempPrefix, out)
+		log.printf("removed %s (%s*) left under %s by an interrupted run", counted(n, "temporary file", "temporary files"), TempPrefix, out)
 	}
 	marker := filepath.Join(out, OutputMarker)
 	if _, err := os.Lstat(marker); err != nil {
@@ -383,8 +387,8 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		return s
 	}
 	host, _ := os.Hostname()
-	log.printf("batch start: %d scans (shard %s) from %s into %s on %s, pid %d, %d workers",
-		len(tasks), opt.Shard, dir, out, host, os.Getpid(), opt.Workers)
+	log.printf("batch start: %s (shard %s) from %s into %s on %s, pid %d, %s",
+		counted(len(tasks), "scan", "scans"), opt.Shard, dir, out, host, os.Getpid(), counted(opt.Workers, "worker", "workers"))
 	if opt.Progress != nil {
 		opt.Progress.Start(len(tasks))
 	}
@@ -522,7 +526,7 @@ func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string, log *
 		}
 		return oc
 	}
-	t, sha, jobSHA, err := effectiveTask(t, opt.Job, dir)
+	t, sha, jobSHA, err := effectiveTask(t, opt.Job, dir, opt.Override)
 	if err != nil {
 		return fail(err, sha, "")
 	}
@@ -556,11 +560,16 @@ func runOne(ctx context.Context, opt BatchOptions, t ScanTask, dir string, log *
 
 // effectiveTask applies the manifest row (its job file, overrides and hob)
 // to t and hashes the scan and its effective job. Job errors are *JobError.
-func effectiveTask(t ScanTask, job Job, dir string) (ScanTask, string, string, error) {
+func effectiveTask(t ScanTask, job Job, dir string, override func(Job) (Job, error)) (ScanTask, string, string, error) {
 	if t.Meta.Job != "" {
 		j, err := ReadJobFile(filepath.Join(dir, filepath.FromSlash(t.Meta.Job)))
 		if err != nil {
 			return t, "", "", err
+		}
+		if override != nil {
+			if j, err = override(j); err != nil {
+				return t, "", "", &JobError{Name: t.Meta.Job, Msg: err.Error()}
+			}
 		}
 		job = j
 	}

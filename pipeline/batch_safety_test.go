@@ -360,7 +360,7 @@ func TestBatchRemovesTempLeftovers(t *testing.T) {
 		}
 	}
 	log, _ := os.ReadFile(filepath.Join(out, "run.log"))
-	if !strings.Contains(string(log), "removed 3 temporary file(s)") {
+	if !strings.Contains(string(log), "removed 3 temporary files") {
 		t.Errorf("run.log does not count the removed files:\n%s", log)
 	}
 }
@@ -378,7 +378,7 @@ func TestBatchScanNamedLikeBatchFiles(t *testing.T) {
 		t.Errorf("%d scans, counts %v, want 4 ok", res.Total, res.Summary.Counts)
 	}
 	csvB, _ := readSummaries(t, out)
-	if !bytes.HasPrefix(csvB, []byte("path,status,")) {
+	if !bytes.HasPrefix(csvB, []byte("path,part_number,lot,status,reason,")) {
 		t.Errorf("summary.csv is not the summary: %.60q", csvB)
 	}
 	for _, rel := range []string{"summary.csv", "scans/summary.csv", "run.log.xyz", "scans.xyz"} {

@@ -4,9 +4,11 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"gapflux/contact"
@@ -377,6 +379,10 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 	hj.Grid.Face, hj.Grid.DiameterMM = "", 0
 	cloud, fr, err := readScan(path, filepath.Base(path), hj, "")
 	if err != nil {
+		if bareProfile(path) {
+			return nil, nil, fmt.Errorf("hob: %s: two numbers a line and no header, read as a scan (which needs x, y, z): "+
+				"if it is a radial hob profile, add the header line r_mm,z_mm (radius and height in mm) as its first line", filepath.Base(path))
+		}
 		return nil, nil, fmt.Errorf("hob: %w", err)
 	}
 	lev, err := scan.Level(cloud, scan.LevelOptions{Face: "up", HobTop: true, Reuse: true})
@@ -402,6 +408,36 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 		return nil, nil, fmt.Errorf("hob %s: %w", fr.Path, err)
 	}
 	return s, &fr, nil
+}
+
+// bareProfile reports whether a text file's first line that is neither
+// empty nor a # comment holds exactly two numbers: a radial profile
+// without its r_mm,z_mm header.
+func bareProfile(path string) bool {
+	f, err := os.Open(path)
+	if err != nil {
+		return false
+	}
+	defer f.Close()
+	buf := make([]byte, 4096)
+	n, _ := io.ReadFull(f, buf)
+	for _, line := range strings.Split(string(buf[:n]), "\n") {
+		line = strings.TrimSpace(line)
+		if line == "" || strings.HasPrefix(line, "#") {
+			continue
+		}
+		fields := strings.FieldsFunc(line, func(r rune) bool { return r == ',' || r == ';' || r == ' ' || r == '\t' })
+		if len(fields) != 2 {
+			return false
+		}
+		for _, v := range fields {
+			if _, err := strconv.ParseFloat(v, 64); err != nil {
+				return false
+			}
+		}
+		return true
+	}
+	return false
 }
 
 // isProfileCSV reports whether a CSV's header names a radial profile.

@@ -49,7 +49,7 @@ thickness_mm = 3.0
 	fmt.Println(err)
 	// Output:
 	// 2 2 heater
-	// typo.toml:2:1: unknown key "water.mass"
+	// typo.toml:2:1: unknown key "water.mass": did you mean "water.mass_kg"? ("gapflux job" prints every key)
 }
 
 // Shard 2 of 3 takes every third scan of the sorted list, starting with the

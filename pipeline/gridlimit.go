@@ -27,9 +27,18 @@ func (j *Job) planGrids(radiusM float64) gridPlan {
 
 // glassRadiusM is the radius of the glass disc modelled in heater mode
 // about the zone centre: the zone or the base, whichever reaches further,
-// plus hob.margin_mm (DESIGN 5.3).
+// plus hob.margin_mm (DESIGN 5.3). A zone of 0 (fitted to the base) is the
+// zone FitZoneMM gives the base, or while the base is not known (radiusM
+// 0) its smallest, 120 mm, so the plan stays a lower bound.
 func glassRadiusM(j *Job, offM, radiusM float64) float64 {
-	return math.Max(j.Hob.ZoneDiameterMM/2e3, offM+radiusM) + j.Hob.MarginMM/1e3
+	zoneMM := j.Hob.ZoneDiameterMM
+	if zoneMM == 0 {
+		zoneMM = fitZoneMinMM
+		if radiusM > 0 {
+			zoneMM = FitZoneMM(2 * radiusM * 1e3)
+		}
+	}
+	return math.Max(zoneMM/2e3, offM+radiusM) + j.Hob.MarginMM/1e3
 }
 
 // planCellMM is the cell edge the grids are planned with, mm: grid.cell_mm,

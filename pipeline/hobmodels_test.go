@@ -113,6 +113,7 @@ func flatScene(t *testing.T, job Job, cellM float64) (*thermal.Problem, *contact
 	t.Helper()
 	lib := contact.Materials()
 	const rM = 0.1
+	fixedScenario(&job)
 	gr := glassRadiusM(&job, 0, rM)
 	n := 2*int(math.Ceil(gr/cellM)) + 1
 	x0 := -float64(n-1) / 2 * cellM
@@ -226,6 +227,7 @@ func TestDefaultFlatHeatup(t *testing.T) {
 		t.Skip("plate solves on the default glass grid")
 	}
 	job := DefaultJob()
+	fixedScenario(&job)
 	p, f := flatScene(t, job, 0.002)
 	var sv thermal.Solver
 	solveAt := func(tK float64) *thermal.Solution {

@@ -185,7 +185,7 @@ func DefaultJob() Job {
 		},
 		Hob: HobJob{
 			Mode: "heater", Material: "glass-ceramic", ThicknessMM: 4, Emissivity: 0, // 0: from the material
-			TemperatureC: 250, HeaterPowerW: 1800, ZoneDiameterMM: 180, DownLossWM2K: 10,
+			TemperatureC: 250, HeaterPowerW: 0, ZoneDiameterMM: 0, DownLossWM2K: 10, // 0: fitted to the base (fitbase.go)
 			LimiterC: 560, MarginMM: 30, RoomC: 23, PowerLimited: true,
 			CoilEmissivity: 0.85, GlassTau: 0.65, GlassWindowLoUM: 0.7, GlassWindowHiUM: 2.7,
 			PlateMaterial: "cast-iron", PlateThicknessMM: 8,
@@ -195,7 +195,8 @@ func DefaultJob() Job {
 			MicrohardnessMPa: 600, PanAccommodation: 0.8, HobAccommodation: 0.8, GasPressureKPa: 101.325,
 		},
 		Water: WaterJob{
-			MassKg: 1.5, FromC: 15, ToC: 90, SteadyC: 60, Side: "fixed", HWM2K: 1000,
+			MassKg: 0, FromC: 15, // water 0: fitted to the base (fitbase.go)
+			ToC: 90, SteadyC: 60, Side: "fixed", HWM2K: 1000,
 			RohsenowSurface: thermal.DefaultRohsenowSurface, Emissivity: 0.95, Evaporation: false,
 		},
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
@@ -228,6 +229,32 @@ type KeyError struct {
 }
 
 func (e *KeyError) Error() string { return e.Msg }
+
+// choiceText lists the allowed strings for a message: "mm", "m" or "in";
+// an empty choice is said in words ("or left empty for the default"), not
+// listed as a blank.
+func choiceText(oneOf []string) string {
+	var q []string
+	empty := false
+	for _, o := range oneOf {
+		if o == "" {
+			empty = true
+			continue
+		}
+		q = append(q, strconv.Quote(o))
+	}
+	text := q[len(q)-1]
+	if len(q) > 1 {
+		text = strings.Join(q[:len(q)-1], ", ") + " or " + text
+	}
+	if len(q) > 1 {
+		text = "one of " + text
+	}
+	if empty {
+		text += ", or left empty for the default"
+	}
+	return text
+}
 
 // InvalidJobError lists every value of a job that Validate refused.
 type InvalidJobError struct {
@@ -272,7 +299,7 @@ func readJob(r io.Reader, name string) (Job, map[string]keyPos, error) {
 			e := strict.Errors[0]
 			row, col := e.Position()
 			return job, nil, &JobError{Name: name, Line: row, Col: col,
-				Msg: fmt.Sprintf("unknown key %q", strings.Join(e.Key(), "."))}
+				Msg: unknownKeyText(strings.Join(e.Key(), "."))}
 		}
 		var de *toml.DecodeError
 		if errors.As(err, &de) {
@@ -585,11 +612,7 @@ func (j *Job) rangeProblems() (probs []*KeyError, bad map[string]bool) {
 		case reflect.String:
 			if s.oneOf != nil && !slices.Contains(s.oneOf, v.String()) {
 				bad[spec] = true
-				q := make([]string, len(s.oneOf))
-				for i, o := range s.oneOf {
-					q[i] = strconv.Quote(o)
-				}
-				add(key, "%s must be one of %s (got %q)", key, strings.Join(q, ", "), v.String())
+				add(key, "%s must be %s (got %q)", key, choiceText(s.oneOf), v.String())
 			}
 		}
 	})
@@ -628,11 +651,12 @@ func (j *Job) crossProblems(bad map[string]bool) []*KeyError {
 		add("hob.glass_window_hi_um", []string{"hob.glass_window_lo_um"}, "hob.glass_window_hi_um must be above hob.glass_window_lo_um (got %s and %s µm)",
 			fmtNum(j.Hob.GlassWindowHiUM), fmtNum(j.Hob.GlassWindowLoUM))
 	}
-	if j.Hob.RodLengthMM != 0 && j.Hob.RodLengthMM > j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM {
+	// A zone of 0 is fitted to the base later (fitToBase checks the rod then).
+	if j.Hob.ZoneDiameterMM != 0 && j.Hob.RodLengthMM != 0 && j.Hob.RodLengthMM > j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM {
 		add("hob.rod_length_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_length_mm = %s mm is longer than the zone and its margin (%s mm)",
 			fmtNum(j.Hob.RodLengthMM), fmtNum(j.Hob.ZoneDiameterMM+2*j.Hob.MarginMM))
 	}
-	if math.Abs(j.Hob.RodOffsetMM) > j.Hob.ZoneDiameterMM/2 {
+	if j.Hob.ZoneDiameterMM != 0 && math.Abs(j.Hob.RodOffsetMM) > j.Hob.ZoneDiameterMM/2 {
 		add("hob.rod_offset_mm", []string{"hob.zone_diameter_mm"}, "hob.rod_offset_mm = %s mm puts the rod outside the zone (radius %s mm)",
 			fmtNum(j.Hob.RodOffsetMM), fmtNum(j.Hob.ZoneDiameterMM/2))
 	}

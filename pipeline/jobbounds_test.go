@@ -171,7 +171,7 @@ func TestJobBoundsIssueCases(t *testing.T) {
 		{"huge cut-off", "[grid]\ncutoff_mm = 1e9\n", []string{"grid.cutoff_mm"}, 2},
 		{"huge zone", "[hob]\nzone_diameter_mm = 1e6\n", []string{"hob.zone_diameter_mm"}, 2},
 		{"far offset", "[pan]\noffset_mm = [1e5, 0.0]\n", []string{"pan.offset_mm[0]"}, 2},
-		{"fine cells over the glass", "[grid]\ncell_mm = 0.05\n", []string{"grid.cell_mm = 0.05", "limits.max_cells", "cell_mm ≥ 0.1"}, 2},
+		{"fine cells over the glass", "[grid]\ncell_mm = 0.05\n[hob]\nzone_diameter_mm = 180.0\n", []string{"grid.cell_mm = 0.05", "limits.max_cells", "cell_mm ≥ 0.1"}, 2},
 		{"second key on its line", "[water]\nmass_kg = 1.0\n\n[hob]\nroom_c = 20.0\nmargin_mm = -1.0\n", []string{"hob.margin_mm"}, 6},
 	}
 	for _, tc := range tests {

@@ -202,7 +202,7 @@ func bendAxis(g *GeometryReport) float64 {
 func HumanSummary(res *Result) string {
 	rep := res.Report
 	var b strings.Builder
-	fmt.Fprintf(&b, "%s (%s, %d points)\n", res.Name, rep.Input.Pan.Format, rep.Input.Pan.Points)
+	fmt.Fprintf(&b, "%s (%s, %s)\n", res.Name, rep.Input.Pan.Format, inputCounts(rep.Input.Pan))
 	if q := rep.Quality; q != nil {
 		fmt.Fprintf(&b, "  %s\n", qualityLine(q))
 	}
@@ -249,6 +249,9 @@ func HumanSummary(res *Result) string {
 			fmt.Fprintf(&b, "  glass top up to %.0f °C (flat twin %.0f °C), heater duty %.0f %% (flat twin %.0f %%)\n",
 				*h.GlassMaxC, *h.FlatGlassMaxC, *h.HeaterDutyPct, *h.FlatHeaterDutyPct)
 		}
+	}
+	if f := rep.Input.FittedToBase; f != nil {
+		fmt.Fprintf(&b, "  fitted to the base (job keys left at 0): %s\n", fittedText(f))
 	}
 	if h := rep.Heatup; h != nil {
 		fmt.Fprintf(&b, "  heat-up of %.2f kg water %.0f→%.0f °C: %.0f s against %.0f s flat (+%.1f %%), %.1f kJ more energy\n",

@@ -217,10 +217,10 @@ func qualityLine(q *QualityReport) string {
 	case quality.OK:
 		return fmt.Sprintf("quality: ok (%d checks passed, %d not measured)", q.count(quality.OK), q.count(quality.NotMeasured))
 	case quality.Reject:
-		return fmt.Sprintf("quality: REJECTED, not analysed further: %s (%d check(s) reject, %d warn)",
-			q.first(), q.count(quality.Reject), q.count(quality.Warn))
+		return fmt.Sprintf("quality: REJECTED, not analysed further: %s (%s reject, %d warn)",
+			q.first(), counted(q.count(quality.Reject), "check", "checks"), q.count(quality.Warn))
 	}
-	return fmt.Sprintf("quality: warn: %s (%d check(s) warn)", q.first(), q.count(quality.Warn))
+	return fmt.Sprintf("quality: warn: %s (%s)", q.first(), counted(q.count(quality.Warn), "check warns", "checks warn"))
 }
 
 // Rejected reports whether the data-quality gate rejected the scan, which

@@ -26,17 +26,24 @@ type ReportInput struct {
 	Hob *FileReport `json:"hob,omitempty"`
 	// JobSHA256 is the hash of the effective settings (job file and flags).
 	JobSHA256 string `json:"job_sha256"`
+	// FittedToBase gives the job values left at 0 (water load, zone, zone
+	// power) and fitted to the measured base diameter, with the rule.
+	FittedToBase *FittedDefaults `json:"fitted_to_base,omitempty"`
 }
 
 // FileReport describes one input file.
 type FileReport struct {
-	Path       string `json:"path"`
-	Format     string `json:"format"`
-	SHA256     string `json:"sha256"`
-	Points     int    `json:"points"`    // points or vertices as stored (an STL stores 3 per facet)
-	Triangles  int    `json:"triangles"` // facets of a mesh, 0 for a point cloud
-	Unit       string `json:"unit"`
-	UnitSource string `json:"unit_source"`
+	Path      string `json:"path"`
+	Format    string `json:"format"`
+	SHA256    string `json:"sha256"`
+	Points    int    `json:"points"`    // points or vertices as stored (an STL stores 3 per facet)
+	Triangles int    `json:"triangles"` // facets of a mesh, 0 for a point cloud
+	// DistinctPoints counts the points (a mesh's vertices) left when exact
+	// repeats count once: an STL's vertices shared by its facets; 0 when
+	// the scan was not read that far.
+	DistinctPoints int    `json:"distinct_points"`
+	Unit           string `json:"unit"`
+	UnitSource     string `json:"unit_source"`
 }
 
 // QualityReport is the data-quality gate's outcome (DESIGN 5.0): the worst

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path"
 	"sort"
 	"strconv"
 	"strings"
@@ -136,15 +137,57 @@ func RowFromReport(rel string, rep *Report) SummaryRow {
 	return row
 }
 
-// summaryColumns are the CSV columns, in order.
+// summaryColumns are the CSV columns, in the order a spreadsheet reads
+// best: identity (path, part_number, lot), status and a short reason,
+// verdict, data quality, then the figures (each header with its unit), and
+// last the full error and verdict texts.
 var summaryColumns = []string{
-	"path", "status", "error", "quality", "warnings", "part_number", "lot",
+	"path", "part_number", "lot", "status", "reason", "pass", "quality", "warnings",
 	"diameter_mm", "flatness_mz_mm", "flatness_ls_mm", "concavity_mm", "concavity_pct_of_diameter", "shape",
 	"noise_um", "coverage_pct", "tilt_deg", "rocks", "rock_mm",
 	"contact_area_pct", "mean_gap_mm", "max_gap_mm",
 	"power_w", "flat_power_w", "loss_pct", "glass_max_c",
 	"time_s", "flat_time_s", "extra_time_pct", "extra_energy_kj",
-	"pass", "reasons",
+	"error", "reasons",
+}
+
+// reasonRunes bounds the short reason column.
+const reasonRunes = 80
+
+// ShortReason is a row's reason in a few words for the summary's reason
+// column: empty for an ok row; else the error (failed), the data-quality
+// finding (rejected), the first tolerance missed and how many more
+// (out-of-tolerance), or that the batch was interrupted (not-run); at most
+// 80 characters, without the scan's name the row already gives. The full texts stay in the error and reasons columns.
+func (r SummaryRow) ShortReason() string {
+	var s string
+	switch r.Status {
+	case StatusOK:
+		return ""
+	case StatusFailed:
+		// The row names the scan already.
+		s = strings.TrimPrefix(r.Error, path.Base(r.Path)+": ")
+		s = strings.TrimPrefix(s, r.Path+": ")
+	case StatusNotRun:
+		s = "interrupted: run the same batch again"
+	default:
+		parts := strings.Split(r.Reasons, "; ")
+		s = parts[0]
+		if len(parts) > 1 {
+			more := fmt.Sprintf(" (+%d more)", len(parts)-1)
+			return clipRunes(s, reasonRunes-len(more)) + more
+		}
+	}
+	return clipRunes(s, reasonRunes)
+}
+
+// clipRunes cuts s to at most n runes, ending it with "…" when cut.
+func clipRunes(s string, n int) string {
+	rs := []rune(s)
+	if len(rs) <= n {
+		return s
+	}
+	return strings.TrimSpace(string(rs[:n-1])) + "…"
 }
 
 // WriteCSV writes the summary as CSV with a header row.
@@ -158,14 +201,14 @@ func (s *Summary) WriteCSV(w io.Writer) error {
 		if r.Warnings != nil {
 			warnings = strconv.Itoa(*r.Warnings)
 		}
-		rec := []string{r.Path, r.Status, r.Error, r.Quality, warnings, r.PartNumber, r.Lot,
+		rec := []string{r.Path, r.PartNumber, r.Lot, r.Status, r.ShortReason(), fbool(r.Pass), r.Quality, warnings,
 			fnum(r.DiameterMM, 3), fnum(r.FlatnessMZMM, 4), fnum(r.FlatnessLSMM, 4), fnum(r.ConcavityMM, 4),
 			fnum(r.ConcavityPctOfDiameter, 4), r.Shape,
 			fnum(r.NoiseUM, 2), fnum(r.CoveragePct, 2), fnum(r.TiltDeg, 4), fbool(r.Rocks), fnum(r.RockMM, 4),
 			fnum(r.ContactAreaPct, 3), fnum(r.MeanGapMM, 4), fnum(r.MaxGapMM, 4),
 			fnum(r.PowerW, 2), fnum(r.FlatPowerW, 2), fnum(r.LossPct, 3), fnum(r.GlassMaxC, 2),
 			fnum(r.TimeS, 1), fnum(r.FlatTimeS, 1), fnum(r.ExtraTimePct, 3), fnum(r.ExtraEnergyKJ, 3),
-			fbool(r.Pass), r.Reasons,
+			r.Error, r.Reasons,
 		}
 		if err := cw.Write(rec); err != nil {
 			return err
@@ -205,13 +248,7 @@ func (s *Summary) Table() string {
 	fmt.Fprintf(&buf, "%-28s %-16s %-7s %8s %9s %8s %6s %8s %7s %9s %s\n",
 		"scan", "status", "quality", "diam_mm", "concav_mm", "mz_mm", "rocks", "loss_pct", "glass_c", "extra_pct", "note")
 	for _, r := range s.Rows {
-		note := r.Reasons
-		if r.Status == StatusFailed {
-			note = r.Error
-		}
-		if len(note) > 70 {
-			note = note[:67] + "..."
-		}
+		note := r.ShortReason()
 		fmt.Fprintf(&buf, "%-28s %-16s %-7s %8s %9s %8s %6s %8s %7s %9s %s\n",
 			clip(r.Path, 28), r.Status, r.Quality, fnum(r.DiameterMM, 1), fnum(r.ConcavityMM, 3), fnum(r.FlatnessMZMM, 3),
 			fbool(r.Rocks), fnum(r.LossPct, 1), fnum(r.GlassMaxC, 0), fnum(r.ExtraTimePct, 1), note)

@@ -130,6 +130,9 @@ func Read(r io.Reader, opt ReadOptions) (*Cloud, error) {
 		}
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
+	if enc := utf16Text(head); enc != "" {
+		return nil, fmt.Errorf("%s: the file is %s text, which no scan reader reads; save it as UTF-8 (or plain ASCII) text and try again", name, enc)
+	}
 	var c *Cloud
 	hint := ""
 	switch {
@@ -159,8 +162,61 @@ func Read(r io.Reader, opt ReadOptions) (*Cloud, error) {
 	for i, p := range c.Points {
 		c.Points[i] = r3.Scale(k, p)
 	}
+	if err := checkReach(c.Points, k, c.Unit); err != nil {
+		return nil, fmt.Errorf("%s: %w", name, err)
+	}
 	unitVecs(c.Normals)
 	return c, nil
+}
+
+// MaxReachM bounds the coordinates of a scan, m: 1000 km, far beyond any
+// scanner, yet above a pan in micrometres read as metres (300 km), which
+// the unit checks downstream name. A larger value is a corrupt or
+// mistyped number, and would overflow the levelling's sums of squares.
+const MaxReachM = 1e6
+
+// checkReach returns an error naming the first point with a coordinate
+// beyond MaxReachM, in the file's unit (k metres per unit) and order.
+func checkReach(pts []r3.Vec, k float64, unit string) error {
+	for i, p := range pts {
+		for a, v := range [3]float64{p.X, p.Y, p.Z} {
+			if math.Abs(v) > MaxReachM {
+				return fmt.Errorf("point %d (in the file's order) has %c = %g %s, beyond any scan's reach (%g km); correct or remove that value, and check the file's unit (--units)",
+					i+1, "xyz"[a], v/k, unit, MaxReachM/1e3)
+			}
+		}
+	}
+	return nil
+}
+
+// utf16Text returns "UTF-16" (with its byte order) when head starts with a
+// UTF-16 byte order mark, or is ASCII text written as UTF-16 without one
+// (a NUL beside every character of its first line), else "".
+func utf16Text(head []byte) string {
+	switch {
+	case len(head) >= 2 && head[0] == 0xFF && head[1] == 0xFE:
+		return "UTF-16 (little-endian)"
+	case len(head) >= 2 && head[0] == 0xFE && head[1] == 0xFF:
+		return "UTF-16 (big-endian)"
+	}
+	n := min(len(head), 64) &^ 1
+	if n < 8 {
+		return ""
+	}
+	for _, odd := range []int{1, 0} { // little-endian: the NULs are at odd offsets
+		ok := true
+		for i := 0; i < n && ok; i += 2 {
+			c, z := head[i+1-odd], head[i+odd]
+			ok = z == 0 && (c == '\t' || c == '\n' || c == '\r' || c >= 0x20 && c < 0x7f)
+		}
+		if ok {
+			if odd == 1 {
+				return "UTF-16 (little-endian)"
+			}
+			return "UTF-16 (big-endian)"
+		}
+	}
+	return ""
 }
 
 // isPLY reports whether head starts with the PLY magic line.

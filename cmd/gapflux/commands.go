@@ -18,7 +18,7 @@ import (
 
 func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
 	fs := newFlags("analyze", "analyze PAN [--hob HOB] [--job JOB.toml] [--out DIR] [--json]", stderr)
-	jf := addJobFlags(fs)
+	jf := addJobFlags(fs, "job file (TOML); \"gapflux job\" prints every key with its default")
 	hob := fs.String("hob", "", "hob top: a scan (STL, PLY, XYZ/CSV) or a radial profile CSV (r_mm,z_mm); default an ideal flat hob")
 	out := fs.String("out", "", "write report.json, rings.csv, maps and fields.vti into this folder")
 	asJSON := fs.Bool("json", false, "also print report.json to stdout")
@@ -27,10 +27,10 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 		return exitUsage, err
 	}
 	if fs.NArg() != 1 {
-		fs.Usage()
-		return exitUsage, usagef("want exactly one scan file, got %d arguments", fs.NArg())
+		return exitUsage, usagef("want exactly one scan file, got %s (usage: gapflux analyze PAN [flags]; \"gapflux analyze --help\" lists the flags)",
+			plural(fs.NArg(), "argument", "arguments"))
 	}
-	job, err := jf.job()
+	job, err := jf.job("")
 	if err != nil {
 		return exitUsage, err
 	}
@@ -80,26 +80,29 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 
 func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
 	fs := newFlags("batch", "batch DIR --out OUT [--job JOB.toml] [--workers N] [--shard K/N] [--force]", stderr)
-	jobPath := fs.String("job", "", "job file (default: DIR/job.toml when present, else the built-in defaults)")
 	out := fs.String("out", "", "output folder (required)")
 	workers := fs.Int("workers", runtime.NumCPU(), "scans analysed at once")
 	shard := fs.String("shard", "", "run only slice K of N of the sorted scan list (default: from the scheduler's array-job variables when set)")
 	force := fs.Bool("force", false, "re-run scans whose outputs are already current")
 	quiet := fs.Bool("quiet", false, "print nothing but errors (for cron)")
 	progress := fs.String("progress", "auto", "auto (bar on a terminal, lines otherwise), bar, lines or none")
+	jf := addJobFlags(fs, "job file (default: DIR/job.toml when present, else the built-in defaults)")
 	if err := parse(fs, args); err != nil {
 		return exitUsage, err
 	}
-	if fs.NArg() != 1 || *out == "" {
-		fs.Usage()
-		return exitUsage, usagef("want one scan folder and --out")
+	switch {
+	case fs.NArg() != 1:
+		return exitUsage, usagef("want one scan folder, got %s (usage: gapflux batch DIR --out OUT [flags]; \"gapflux batch --help\" lists the flags)",
+			plural(fs.NArg(), "argument", "arguments"))
+	case *out == "":
+		return exitUsage, usagef("--out OUT is missing: the folder for the results (usage: gapflux batch DIR --out OUT [flags])")
 	}
 	dir := fs.Arg(0)
-	job, err := batchJob(dir, *jobPath)
+	job, err := jf.job(filepath.Join(dir, pipeline.JobName))
 	if err != nil {
 		return exitUsage, err
 	}
-	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force}
+	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force, Override: jf.apply}
 	if *shard != "" {
 		if opt.Shard, err = pipeline.ParseShard(*shard); err != nil {
 			return exitUsage, usageError{err}
@@ -137,11 +140,11 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	}
 	if !*quiet {
 		c := res.Summary.Counts
-		fmt.Fprintf(stdout, "%d scans: %d ok, %d out of tolerance, %d rejected, %d failed, %d not run (analysed %d, outputs current %d)\n",
-			res.Total, c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusRejected], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
+		fmt.Fprintf(stdout, "%s: %d ok, %d out of tolerance, %d rejected, %d failed, %d not run (analysed %d, outputs current %d)\n",
+			plural(res.Total, "scan", "scans"), c[pipeline.StatusOK], c[pipeline.StatusOut], c[pipeline.StatusRejected], c[pipeline.StatusFailed], c[pipeline.StatusNotRun], res.Ran, res.Skipped)
 		fmt.Fprintf(stdout, "summary: %s; per scan: %s\n", filepath.Join(*out, "summary.csv"), filepath.Join(*out, pipeline.ScansDir, "<scan>"))
 		if res.ConfigFailures > 0 {
-			fmt.Fprintf(stdout, "%d scans failed because of a job file (see their rows): fix it and run the same command again\n", res.ConfigFailures)
+			fmt.Fprintf(stdout, "%s failed because of a job file (see the reason column): fix it and run the same command again\n", plural(res.ConfigFailures, "scan", "scans"))
 		}
 		if res.Interrupted {
 			fmt.Fprintf(stdout, "interrupted: run the same command again to finish the remaining scans\n")
@@ -175,14 +178,13 @@ func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
 		return exitUsage, err
 	}
 	if fs.NArg() < 1 || *out == "" {
-		fs.Usage()
-		return exitUsage, usagef("want shard output folders and --out")
+		return exitUsage, usagef("want shard output folders and --out (usage: gapflux merge OUT1 OUT2 ... --out OUT)")
 	}
 	s, err := pipeline.Merge(fs.Args(), *out)
 	if err != nil {
 		return exitUsage, err
 	}
-	fmt.Fprintf(stdout, "merged %d scans into %s\n", len(s.Rows), filepath.Join(*out, "summary.csv"))
+	fmt.Fprintf(stdout, "merged %s into %s\n", plural(len(s.Rows), "scan", "scans"), filepath.Join(*out, "summary.csv"))
 	for _, r := range s.Rows {
 		if r.Status != pipeline.StatusOK {
 			return exitFail, nil
@@ -193,12 +195,20 @@ func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
 
 func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("synth", "synth [flags] --out FILE", stderr)
-	shape := fs.String("shape", "dish", "base form: flat, dish, dome, saddle, tilt or bend")
+	shape := fs.String("shape", "dish", "base form: flat, dish, dome, saddle, tilt, bend or cone (hob top: flat, dome or dish)")
 	diam := fs.Float64("diameter-mm", 200, "base diameter, mm")
-	sag := fs.Float64("sag-mm", 0.4, "form amplitude, mm (dish/dome: centre height against the rim)")
+	sag := fs.Float64("sag-mm", 0.4, "form amplitude, mm (dish/dome: centre height against the rim; 0 for --shape flat unless given)")
+	turn := fs.Float64("turn-deg", 0, "turn the form about z, degrees (a bend's rim rises along this direction, its axis is 90° from it)")
+	coneStart := fs.Float64("cone-start-mm", 0, "cone: radius of the flat centre, mm, beyond which the ring lifts to --sag-mm at the rim (0 = half the radius)")
 	noise := fs.Float64("noise-um", 8, "scanner noise σ, µm")
-	spikes := fs.Float64("spikes", 0, "fraction of points turned into spikes")
-	holes := fs.Int("holes", 0, "number of unmeasured holes")
+	spikes := fs.Float64("spikes", 0, "fraction of points turned into spikes (0 … 0.5)")
+	spikeMM := fs.String("spike-mm", "", "spike and streak heights MIN,MAX, mm (default 0.2,2)")
+	streaks := fs.Int("streaks", 0, "number of streaks (a line of points lifted together, as glare makes)")
+	streakMM := fs.Float64("streak-mm", 0, "streak length, mm (0 = 3 mm)")
+	holes := fs.Int("holes", 0, "number of unmeasured holes at random places (2 … 4 mm radius)")
+	holeAt := fs.StringArray("hole", nil, "an unmeasured hole X,Y,D in mm (centre and diameter, base frame); repeatable")
+	sector := fs.StringArray("missing-sector", nil, "leave out the points between FROM,TO degrees (from +x, counter-clockwise) beyond radius INNER mm: FROM,TO[,INNER]; repeatable")
+	jitter := fs.Float64("jitter", 0, "move each cloud point by up to ± this fraction of half the spacing (0 … 1)")
 	corner := fs.Float64("corner-mm", 0, "corner radius, mm (0 = base only)")
 	wall := fs.Float64("wall-mm", 0, "wall height above the base, mm")
 	spacing := fs.Float64("spacing-mm", 0.5, "point spacing, mm")
@@ -211,23 +221,27 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	format := fs.String("format", "", "stl, ply, xyz or csv (default from --out's extension)")
 	binary := fs.Bool("binary", true, "binary STL/PLY")
 	bigEndian := fs.Bool("big-endian", false, "binary_big_endian PLY")
-	unit := fs.String("unit", "mm", "unit of the numbers written: mm, m, um or in")
+	units := fs.String("units", "mm", "unit of the numbers written: mm, m, um or in")
+	fs.StringVar(units, "unit", "mm", "old spelling of --units")
+	fs.MarkDeprecated("unit", "use --units")
 	hobTop := fs.Bool("hob-top", false, "write a hob top (300 mm glass plate, top up) instead of a pan base")
 	out := fs.String("out", "", "scan file to write; a .truth.json sidecar is written beside it (required)")
 	if err := parse(fs, args); err != nil {
 		return err
 	}
 	if *out == "" {
-		fs.Usage()
-		return usagef("--out is required")
+		return usagef("--out is required: the scan file to write, e.g. --out pan.stl (\"gapflux synth --help\" lists the shapes and faults)")
+	}
+	if synth.Shape(*shape) == synth.Flat && !fs.Changed("sag-mm") {
+		*sag = 0 // flat means flat; --sag-mm given with it crowns a hob top
 	}
 	r, err := parseFloats(*rot, 3)
 	if err != nil {
-		return usagef("--rotate-deg: %v", err)
+		return usagef("--rotate-deg %v", err)
 	}
 	o, err := parseFloats(*off, 3)
 	if err != nil {
-		return usagef("--shift-mm: %v", err)
+		return usagef("--shift-mm %v", err)
 	}
 	name := filepath.Base(*out)
 	gz := strings.HasSuffix(strings.ToLower(name), ".gz")
@@ -235,7 +249,7 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if gz {
 		base = strings.TrimSuffix(base, filepath.Ext(base))
 	}
-	enc := synth.Encoding{Format: *format, Binary: *binary, BigEndian: *bigEndian, Gzip: gz, Unit: *unit}
+	enc := synth.Encoding{Format: *format, Binary: *binary, BigEndian: *bigEndian, Gzip: gz, Unit: *units}
 	if enc.Format == "" {
 		ext := strings.ToLower(filepath.Ext(strings.TrimSuffix(name, ".gz")))
 		enc.Format = strings.TrimPrefix(ext, ".")
@@ -243,20 +257,28 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if enc.Format == "xyz" || enc.Format == "csv" {
 		enc.Binary = false
 	}
+	rotDeg, offM := [3]float64{r[0], r[1], r[2]}, [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}
 	var sc *synth.Scan
 	if *hobTop {
 		sc, err = synth.GenerateHob(synth.HobSpec{Name: base, Shape: synth.Shape(*shape), SagM: *sag / 1e3,
 			NoiseM: *noise / 1e6, SpikeFraction: *spikes, Mesh: *mesh || enc.Format == "stl", Normals: *normals,
-			RotationDeg: [3]float64{r[0], r[1], r[2]}, OffsetM: [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}, Seed: *seed})
+			RotationDeg: rotDeg, OffsetM: offM, Seed: *seed})
 	} else {
-		sc, err = synth.Generate(synth.Spec{Name: base, Shape: synth.Shape(*shape), DiameterM: *diam / 1e3,
+		spec := synth.Spec{Name: base, Shape: synth.Shape(*shape), DiameterM: *diam / 1e3,
 			SagM: *sag / 1e3, NoiseM: *noise / 1e6, SpikeFraction: *spikes, Holes: *holes,
 			CornerRadiusM: *corner / 1e3, WallHeightM: *wall / 1e3, SpacingM: *spacing / 1e3,
 			Mesh: *mesh || enc.Format == "stl", Normals: *normals, Face: *face,
-			RotationDeg: [3]float64{r[0], r[1], r[2]}, OffsetM: [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}, Seed: *seed})
+			RotationDeg: rotDeg, OffsetM: offM, Seed: *seed,
+			ConeStartM: *coneStart / 1e3, FormTurnDeg: *turn, Streaks: *streaks, StreakLengthM: *streakMM / 1e3,
+			JitterFraction: *jitter}
+		if err := synthArtefacts(&spec, *spikeMM, *holeAt, *sector); err != nil {
+			return err
+		}
+		sc, err = synth.Generate(spec)
 	}
 	if err != nil {
-		return usageError{err}
+		// "synth: invalid spec: " says nothing the command name does not.
+		return usagef("%s", strings.TrimPrefix(err.Error(), synth.ErrSpec.Error()+": "))
 	}
 	if err := os.MkdirAll(filepath.Dir(*out), 0o755); err != nil {
 		return err
@@ -265,7 +287,46 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(stdout, "wrote %s (%d points) and %s\n", scanPath, sc.Truth.Points, truthPath)
+	if t := sc.Truth.Triangles; t > 0 {
+		fmt.Fprintf(stdout, "wrote %s (%d vertices, %d triangles) and %s\n", scanPath, sc.Truth.Points, t, truthPath)
+	} else {
+		fmt.Fprintf(stdout, "wrote %s (%d points) and %s\n", scanPath, sc.Truth.Points, truthPath)
+	}
+	return nil
+}
+
+// synthArtefacts parses synth's --spike-mm, --hole and --missing-sector into
+// spec (mm and degrees on the command line, metres in the spec).
+func synthArtefacts(spec *synth.Spec, spikeMM string, holes, sectors []string) error {
+	if spikeMM != "" {
+		v, err := parseFloats(spikeMM, 2)
+		if err != nil {
+			return usagef("--spike-mm %v", err)
+		}
+		spec.SpikeMinM, spec.SpikeMaxM = v[0]/1e3, v[1]/1e3
+	}
+	for _, h := range holes {
+		v, err := parseFloats(h, 3)
+		if err != nil {
+			return usagef("--hole %v (X,Y,D in mm)", err)
+		}
+		spec.HoleList = append(spec.HoleList, synth.Hole{XM: v[0] / 1e3, YM: v[1] / 1e3, DiameterM: v[2] / 1e3})
+	}
+	for _, s := range sectors {
+		n := 3
+		if strings.Count(s, ",") == 1 {
+			n = 2
+		}
+		v, err := parseFloats(s, n)
+		if err != nil {
+			return usagef("--missing-sector %v (FROM,TO degrees, optionally ,INNER mm)", err)
+		}
+		sec := synth.Sector{FromDeg: v[0], ToDeg: v[1]}
+		if n == 3 {
+			sec.InnerM = v[2] / 1e3
+		}
+		spec.Sectors = append(spec.Sectors, sec)
+	}
 	return nil
 }
 
@@ -334,4 +395,12 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) (int,
 	fmt.Fprintf(stdout, "the demo's pans, hob and numbers are invented. The failed row (%s) is on purpose: that file is cut short to show what a broken scan gives.\n",
 		pipeline.DemoBrokenScan)
 	return exitOK, nil
+}
+
+// plural writes n with the singular or plural noun: "1 scan", "3 scans".
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
 }

@@ -27,7 +27,7 @@ func cmdCompare(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 	fs.Usage = func() {
 		fmt.Fprintf(stderr, "usage: gapflux %s\n\n%s\nflags:\n%s\n%s%s", usage, compareAbout, fs.FlagUsages(), compareExitCodes, oomNote)
 	}
-	jf := addJobFlags(fs)
+	jf := addJobFlags(fs, "job file for both analyses (TOML); \"gapflux job\" prints every key with its default")
 	hob := fs.String("hob", "", "hob top for both analyses: a scan or a radial profile CSV (r_mm,z_mm); default an ideal flat hob")
 	out := fs.String("out", "", "write compare.json, compare.csv, compare_rings.csv and the change maps into this folder (required)")
 	tol := fs.Float64("diameter-tol-mm", pipeline.DefaultDiameterTolMM, "largest difference of the two diameters, mm, for one base")
@@ -42,7 +42,7 @@ func cmdCompare(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 	if !(*tol > 0 && *tol <= 50) {
 		return exitUsage, usagef("--diameter-tol-mm %g: want a length in (0, 50] mm", *tol)
 	}
-	job, err := jf.job()
+	job, err := jf.job("")
 	if err != nil {
 		return exitUsage, err
 	}

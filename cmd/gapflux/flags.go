@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
 	"strconv"
 	"strings"
 
@@ -21,9 +22,41 @@ func newFlags(name, usage string, stderr io.Writer) *pflag.FlagSet {
 	fs.SortFlags = false
 	fs.SetOutput(stderr)
 	fs.Usage = func() {
-		fmt.Fprintf(stderr, "usage: gapflux %s\n\nflags:\n%s\n%s", usage, fs.FlagUsages(), exitCodesHelp(name))
+		fmt.Fprintf(stderr, "usage: gapflux %s\n\n%sflags:\n%s\n%s", usage, commandAbout[name], fs.FlagUsages(), exitCodesHelp(name))
 	}
 	return fs
+}
+
+// commandAbout is the paragraph a command's --help prints above its flags.
+var commandAbout = map[string]string{
+	"analyze": `Analyses one scan of a pan base (STL, PLY, XYZ/CSV, optionally .gz): form, rest pose on
+the hob, gap, heat flow, heat-up, verdict. Prints a short summary; --out writes every output.
+The job flags below override the keys of the job file (or of the defaults).
+
+`,
+	"batch": `Analyses every scan under DIR (recursively) and writes OUT/summary.csv, OUT/summary.json,
+OUT/run.log and one folder per scan under OUT/scans/. Only new or changed scans are
+analysed again. Files the batch reads from DIR itself:
+  job.toml      the job for every scan, when --job is not given ("gapflux job" prints one)
+  manifest.csv  optional, one row per scan: path (required), part_number, lot, hob, job,
+                pan_mass_kg, water_mass_kg, base_material, base_thickness_mm, face, units,
+                diameter_mm (see README.md, "Inputs")
+The job flags below override the keys of every job file, the batch's and those a
+manifest row names; a manifest row's own columns win over both.
+
+`,
+	"synth": `Writes a synthetic scan of an invented pan base (or, with --hob-top, of a hob's
+glass top) and a .truth.json file beside it with the exact form it was made from.
+
+`,
+	"merge": `Joins the output folders of batch shards (--shard K/N) into one summary, identical
+to a single run.
+
+`,
+	"demo": `Synthesises a small invented product line into DIR/scans and runs the batch on it into
+DIR/results.
+
+`,
 }
 
 // exitCodesHelp is the exit-code paragraph of a command's --help.
@@ -58,19 +91,65 @@ exit code 2); no program can catch that. The job's limits and grid bounds keep a
 below it; on a small machine give batch fewer --workers.
 `
 
-// parse parses args, mapping -h to errHelp and flag errors to usage errors.
+// parse parses args, mapping -h to errHelp and flag errors to usage errors
+// that say what to try: the nearest flag for an unknown one, the kind of
+// value a flag wants for a bad one.
 func parse(fs *pflag.FlagSet, args []string) error {
 	err := fs.Parse(args)
 	if errors.Is(err, pflag.ErrHelp) {
 		return errHelp
 	}
-	if err != nil {
-		return usageError{err}
+	if err == nil {
+		return nil
 	}
-	return nil
+	help := fmt.Sprintf("\"gapflux %s --help\" lists every flag", fs.Name())
+	var notExist *pflag.NotExistError
+	var invalid *pflag.InvalidValueError
+	var needs *pflag.ValueRequiredError
+	switch {
+	case errors.As(err, &notExist) && notExist.GetSpecifiedName() != "":
+		name := notExist.GetSpecifiedName()
+		if near := nearestFlag(fs, name); near != "" {
+			return usagef("unknown flag --%s: did you mean --%s? (%s)", name, near, help)
+		}
+		return usagef("unknown flag --%s (%s)", name, help)
+	case errors.As(err, &invalid):
+		f := invalid.GetFlag()
+		return usagef("--%s %q: want %s (%s)", f.Name, invalid.GetValue(), valueKind(f), help)
+	case errors.As(err, &needs) && needs.GetSpecifiedName() != "":
+		return usagef("--%s needs a value (%s)", needs.GetSpecifiedName(), help)
+	}
+	return usageError{fmt.Errorf("%w (%s)", err, help)}
 }
 
-// jobFlags are the flags that override job keys.
+// valueKind says in words what a flag's value must be.
+func valueKind(f *pflag.Flag) string {
+	switch f.Value.Type() {
+	case "float64":
+		return "a number"
+	case "int", "uint64":
+		return "a whole number"
+	case "bool":
+		return "true or false"
+	}
+	return "a " + f.Value.Type()
+}
+
+// nearestFlag returns the visible flag of fs a typo of name most likely
+// meant, "" when none is near.
+func nearestFlag(fs *pflag.FlagSet, name string) string {
+	var names []string
+	fs.VisitAll(func(f *pflag.Flag) {
+		if !f.Hidden && f.Deprecated == "" {
+			names = append(names, f.Name)
+		}
+	})
+	return pipeline.Nearest(name, names)
+}
+
+// jobFlags are the flags that override job keys: one definition shared by
+// every command that runs analyses (analyze, batch, and any later one), so
+// each flag has one spelling, one meaning and one help line everywhere.
 type jobFlags struct {
 	fs         *pflag.FlagSet
 	jobPath    string
@@ -84,26 +163,39 @@ type jobFlags struct {
 	offsetMM   string
 	mode       string
 	waterC     float64
+	waterKg    float64
+	zoneMM     float64
 	maxPoints  int
 	fields     string
+	hot        bool
 }
 
-func addJobFlags(fs *pflag.FlagSet) *jobFlags {
+// jobOverrideFlags names the flags addJobFlags defines besides --job, in
+// their help order.
+var jobOverrideFlags = []string{"units", "face", "cell-mm", "cutoff-mm", "ring-mm", "rock-mm", "diameter-mm",
+	"offset-mm", "mode", "water-c", "water-kg", "zone-mm", "max-points", "fields", "hot"}
+
+// addJobFlags defines --job (with jobHelp as its help line) and the flags
+// that override job keys on fs.
+func addJobFlags(fs *pflag.FlagSet, jobHelp string) *jobFlags {
 	d := pipeline.DefaultJob()
 	j := &jobFlags{fs: fs}
-	fs.StringVar(&j.jobPath, "job", "", "job file (TOML); \"gapflux job\" prints every key with its default")
-	fs.StringVar(&j.units, "units", "", "unit of the scan's numbers: mm, m, um or in (default: header hint, else mm)")
+	fs.StringVar(&j.jobPath, "job", "", jobHelp)
+	fs.StringVar(&j.units, "units", "", "unit of the scan's numbers: mm, m, um or in (default: the file's header hint, else mm)")
 	fs.StringVar(&j.face, "face", "", "which way the base's outer face looks in the scan: up (toward scanner +z) or down (default: detect)")
 	fs.Float64Var(&j.cellMM, "cell-mm", d.Grid.CellMM, "grid cell size, mm (0 = automatic from the point spacing)")
-	fs.Float64Var(&j.cutoffMM, "cutoff-mm", d.Grid.CutoffMM, "ISO 16610-61 Gaussian form-filter cut-off, mm (0 = off)")
+	fs.Float64Var(&j.cutoffMM, "cutoff-mm", d.Grid.CutoffMM, "form-filter cut-off, mm (0 = no filter)")
 	fs.Float64Var(&j.ringMM, "ring-mm", d.Grid.RingMM, "ring width of the ring table, mm")
 	fs.Float64Var(&j.rockMM, "rock-mm", d.Grid.RockMM, "the pan rocks when the pressed rim drops more than this, mm")
 	fs.Float64Var(&j.diameterMM, "diameter-mm", 0, "base diameter, mm (default: circle fit to the base boundary)")
 	fs.StringVar(&j.offsetMM, "offset-mm", "", "pan centre relative to the hob centre, X,Y in mm (default 0,0)")
-	fs.StringVar(&j.mode, "mode", "", "hob model: heater or temperature (default from the job: heater)")
+	fs.StringVar(&j.mode, "mode", "", "hob model: heater, temperature or solid-plate (default from the job: heater)")
 	fs.Float64Var(&j.waterC, "water-c", d.Water.SteadyC, "water temperature of the steady heat figures, °C")
+	fs.Float64Var(&j.waterKg, "water-kg", d.Water.MassKg, "water load, kg (0 = fitted to the base diameter, see \"gapflux job\")")
+	fs.Float64Var(&j.zoneMM, "zone-mm", d.Hob.ZoneDiameterMM, "heating zone diameter, mm (0 = fitted to the base diameter, see \"gapflux job\")")
 	fs.IntVar(&j.maxPoints, "max-points", d.Limits.MaxPoints, "refuse scans with more points than this")
 	fs.StringVar(&j.fields, "fields", d.Outputs.Fields, "fields.vti: compressed, plain or off")
+	fs.BoolVar(&j.hot, "hot", d.Hot.Enabled, "also solve the hot state: the base bowed by its own heat ([hot] in the job; about +70 % time)")
 	return j
 }
 
@@ -115,49 +207,91 @@ func (j *jobFlags) name() string {
 	return "job (defaults and flags)"
 }
 
-// job reads the job file (or the defaults) and applies the flags that were
-// given on the command line.
-func (j *jobFlags) job() (pipeline.Job, error) {
+// job reads the job file (--job, else defaultPath when it is not "" and
+// exists, else the built-in defaults) and applies the flags that were given
+// on the command line. It returns the job file used ("" for none).
+func (j *jobFlags) job(defaultPath string) (pipeline.Job, error) {
 	job := pipeline.DefaultJob()
+	if j.jobPath == "" && defaultPath != "" {
+		if st, err := os.Stat(defaultPath); err == nil && !st.IsDir() {
+			j.jobPath = defaultPath
+		}
+	}
 	if j.jobPath != "" {
 		var err error
 		if job, err = pipeline.ReadJobFile(j.jobPath); err != nil {
 			return job, usageError{err}
 		}
 	}
-	// Each flag given on the command line overrides its job key.
-	overrides := []struct {
-		flag  string
-		apply func()
-	}{
-		{"units", func() { job.Grid.Units = j.units }},
-		{"face", func() { job.Grid.Face = j.face }},
-		{"cell-mm", func() { job.Grid.CellMM = j.cellMM }},
-		{"cutoff-mm", func() { job.Grid.CutoffMM = j.cutoffMM }},
-		{"ring-mm", func() { job.Grid.RingMM = j.ringMM }},
-		{"rock-mm", func() { job.Grid.RockMM = j.rockMM }},
-		{"diameter-mm", func() { job.Grid.DiameterMM = j.diameterMM }},
-		{"mode", func() { job.Hob.Mode = j.mode }},
-		{"water-c", func() { job.Water.SteadyC = j.waterC }},
-		{"max-points", func() { job.Limits.MaxPoints = j.maxPoints }},
-		{"fields", func() { job.Outputs.Fields = j.fields }},
+	job, err := j.apply(job)
+	if err != nil {
+		return job, usageError{err}
 	}
-	for _, o := range overrides {
-		if j.fs.Changed(o.flag) {
-			o.apply()
+	return job, nil
+}
+
+// apply returns job with the keys of the flags given on the command line
+// replaced, validated.
+func (j *jobFlags) apply(job pipeline.Job) (pipeline.Job, error) {
+	overrides := map[string]func(){
+		"units":       func() { job.Grid.Units = j.units },
+		"face":        func() { job.Grid.Face = j.face },
+		"cell-mm":     func() { job.Grid.CellMM = j.cellMM },
+		"cutoff-mm":   func() { job.Grid.CutoffMM = j.cutoffMM },
+		"ring-mm":     func() { job.Grid.RingMM = j.ringMM },
+		"rock-mm":     func() { job.Grid.RockMM = j.rockMM },
+		"diameter-mm": func() { job.Grid.DiameterMM = j.diameterMM },
+		"mode":        func() { job.Hob.Mode = j.mode },
+		"water-c":     func() { job.Water.SteadyC = j.waterC },
+		"water-kg":    func() { job.Water.MassKg = j.waterKg },
+		"zone-mm":     func() { job.Hob.ZoneDiameterMM = j.zoneMM },
+		"max-points":  func() { job.Limits.MaxPoints = j.maxPoints },
+		"fields":      func() { job.Outputs.Fields = j.fields },
+		"hot":         func() { job.Hot.Enabled = j.hot },
+	}
+	for _, name := range jobOverrideFlags {
+		if f := overrides[name]; f != nil && j.fs.Changed(name) {
+			f()
 		}
 	}
 	if j.fs.Changed("offset-mm") {
 		xy, err := parseFloats(j.offsetMM, 2)
 		if err != nil {
-			return job, usagef("--offset-mm: %v", err)
+			return job, fmt.Errorf("--offset-mm %v", err)
 		}
 		job.Pan.OffsetMM = [2]float64{xy[0], xy[1]}
 	}
 	if err := job.Validate(); err != nil {
-		return job, usageError{err}
+		return job, flagNamed(j.fs, err)
 	}
 	return job, nil
+}
+
+// flagKeys maps the job keys the override flags set to the flags.
+var flagKeys = map[string]string{
+	"grid.units": "units", "grid.face": "face", "grid.cell_mm": "cell-mm", "grid.cutoff_mm": "cutoff-mm",
+	"grid.ring_mm": "ring-mm", "grid.rock_mm": "rock-mm", "grid.diameter_mm": "diameter-mm",
+	"pan.offset_mm": "offset-mm", "hob.mode": "mode", "water.steady_c": "water-c", "water.mass_kg": "water-kg",
+	"hob.zone_diameter_mm": "zone-mm", "limits.max_points": "max-points", "outputs.fields": "fields", "hot.enabled": "hot",
+}
+
+// flagNamed prefixes each problem of a job-validation error whose key a
+// flag on the command line set with that flag ("--units: grid.units must
+// be ..."), so the message points at what the user typed.
+func flagNamed(fs *pflag.FlagSet, err error) error {
+	var inv *pipeline.InvalidJobError
+	if !errors.As(err, &inv) {
+		return err
+	}
+	msgs := make([]string, len(inv.Problems))
+	for i, p := range inv.Problems {
+		msgs[i] = p.Msg
+		key := strings.SplitN(p.Key, "[", 2)[0]
+		if f, ok := flagKeys[key]; ok && fs.Changed(f) {
+			msgs[i] = "--" + f + ": " + p.Msg
+		}
+	}
+	return fmt.Errorf("%s", strings.Join(msgs, "; "))
 }
 
 // parseFloats parses n comma-separated numbers.

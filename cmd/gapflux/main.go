@@ -12,6 +12,7 @@ import (
 	"os"
 	"os/signal"
 	"runtime/debug"
+	"strings"
 	"syscall"
 
 	"gapflux/pipeline"
@@ -64,6 +65,9 @@ far below it.
 Ctrl-C or SIGTERM stops a batch cleanly: no new scan starts, running scans
 stop, and the summary lists them as not-run; a second Ctrl-C ends at once.
 `
+
+// commands lists the commands, for suggestions on a typo.
+var commands = []string{"analyze", "batch", "merge", "synth", "demo", "materials", "job", "version", "help"}
 
 // version is set at build time with -ldflags "-X main.version=...".
 var version = "0.1.0-dev"
@@ -123,13 +127,18 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, helpText)
 	default:
-		err = usagef("unknown command %q; run \"gapflux help\"", args[0])
+		if near := pipeline.Nearest(args[0], commands); near != "" {
+			err = usagef("unknown command %q: did you mean %q? (\"gapflux help\" lists the commands)", args[0], near)
+		} else {
+			err = usagef("unknown command %q (\"gapflux help\" lists the commands)", args[0])
+		}
 	}
 	if err != nil {
 		if errors.Is(err, errHelp) {
 			return exitOK
 		}
-		fmt.Fprintf(stderr, "gapflux %s: %v\n", args[0], err)
+		// A lower layer may name the command again ("merge: ..."): once is enough.
+		fmt.Fprintf(stderr, "gapflux %s: %s\n", args[0], strings.TrimPrefix(err.Error(), args[0]+": "))
 		var ue usageError
 		if errors.As(err, &ue) || pipeline.IsConfigError(err) {
 			return exitUsage

@@ -33,14 +33,14 @@ func TestUsageAndHelp(t *testing.T) {
 		{[]string{"frobnicate"}, exitUsage, `unknown command "frobnicate"`},
 		{[]string{"analyze"}, exitUsage, "want exactly one scan file"},
 		{[]string{"analyze", "--cell-mm", "-1", "x.stl"}, exitUsage, "grid.cell_mm must be 0 (automatic) or in [0.01, 10] mm (got -1"},
-		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag: --nope"},
+		{[]string{"analyze", "--nope", "x.stl"}, exitUsage, "unknown flag --nope"},
 		{[]string{"analyze", "--fields", "zip", "x.stl"}, exitUsage, "outputs.fields"},
 		{[]string{"analyze", "--offset-mm", "3", "x.stl"}, exitUsage, "want 2 comma-separated numbers"},
 		{[]string{"analyze", "--help"}, exitOK, "--cell-mm"},
 		{[]string{"analyze", "no-such-file.stl"}, exitUsage, "no-such-file.stl: not a readable scan file"},
 		{[]string{"analyze", "--hob", "no-such-hob.xyz", "../../testdata/dish.stl"}, exitUsage, "no-such-hob.xyz"},
 		{[]string{"batch", "no-such-dir", "--out", filepath.Join(t.TempDir(), "o")}, exitUsage, "not a readable folder"},
-		{[]string{"batch", "somewhere"}, exitUsage, "want one scan folder and --out"},
+		{[]string{"batch", "somewhere"}, exitUsage, "--out OUT is missing"},
 		{[]string{"batch", "no-such-dir", "--out", "x", "--shard", "4/3"}, exitUsage, "1 <= K <= N"},
 		{[]string{"merge", "--out", "x"}, exitUsage, "want shard output folders"},
 		{[]string{"synth"}, exitUsage, "--out is required"},
@@ -224,11 +224,11 @@ func TestBatchCommand(t *testing.T) {
 // the job file's (here the default) values.
 func TestFlagsOverrideJob(t *testing.T) {
 	fs := newFlags("analyze", "", &bytes.Buffer{})
-	jf := addJobFlags(fs)
+	jf := addJobFlags(fs, "job file")
 	if err := parse(fs, []string{"--cell-mm", "1.5", "--mode", "temperature", "--offset-mm", "3,-4", "--units", "in", "--water-c", "45"}); err != nil {
 		t.Fatal(err)
 	}
-	job, err := jf.job()
+	job, err := jf.job("")
 	if err != nil {
 		t.Fatal(err)
 	}

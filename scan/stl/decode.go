@@ -127,8 +127,12 @@ func (d *decoder) binary() (*Mesh, error) {
 	c := n
 	if d.opt.SizeBytes > 0 {
 		if d.opt.SizeBytes != want {
-			return nil, d.errAt(80, fmt.Errorf("%w: %d facets need %d bytes, file has %d",
-				ErrSizeMismatch, n, want, d.opt.SizeBytes))
+			hint := "the file is cut short (an interrupted copy or export?): export or copy it again"
+			if d.opt.SizeBytes > want {
+				hint = "the file holds more than its facets: export it again as one binary STL"
+			}
+			return nil, d.errAt(80, fmt.Errorf("%w: %d facets need %d bytes, file has %d; %s",
+				ErrSizeMismatch, n, want, d.opt.SizeBytes, hint))
 		}
 	} else {
 		c = min(n, growCap)

@@ -180,7 +180,7 @@ func TestDecodeErrors(t *testing.T) {
 		{name: "binary cut at facet 1", in: good[:134], offset: 134, err: io.ErrUnexpectedEOF, msg: "in facet 1 of 2"},
 		{name: "binary cut in last byte", in: good[:183], offset: 183, err: io.ErrUnexpectedEOF},
 		{name: "binary size known, cut", in: good[:150], size: -2, offset: 80, err: ErrSizeMismatch,
-			msg: "t.stl: byte 80: file size does not match facet count: 2 facets need 184 bytes, file has 150"},
+			msg: "t.stl: byte 80: file size does not match facet count: 2 facets need 184 bytes, file has 150; the file is cut short (an interrupted copy or export?): export or copy it again"},
 		{name: "binary size known, extra", in: append(bytes.Clone(good), 0), size: -2, offset: 80, err: ErrSizeMismatch},
 		{name: "binary stream, extra", in: append(bytes.Clone(good), 1, 2), offset: 184, err: ErrSizeMismatch},
 		{name: "binary NaN x", in: nanAt(3), offset: 84 + 50 + 12, err: ErrNotFinite, msg: "byte 146: coordinate is not finite in facet 1"},

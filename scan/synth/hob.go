@@ -17,7 +17,9 @@ type HobSpec struct {
 	SideM float64
 	// Shape is Flat, Dome or Dish; "" means Flat. With a = SideM/2 and
 	// S = SagM, a dome is z = S·(1 − r²/a²) (centre S above the inscribed
-	// circle) and a dish its negative.
+	// circle) and a dish its negative. Flat with SagM = 0 is z = 0; Flat
+	// with a non-zero SagM is the dome of that sag, and its Truth says
+	// "dome".
 	Shape Shape
 	SagM  float64
 	// NoiseM is the σ of white Gaussian noise along the normal, m.
@@ -43,6 +45,9 @@ type HobSpec struct {
 func GenerateHob(h HobSpec) (*Scan, error) {
 	if h.Shape == "" {
 		h.Shape = Flat
+	}
+	if h.Shape == Flat && h.SagM != 0 {
+		h.Shape = Dome // the sag asked for wins over the word; the truth says so
 	}
 	if h.SideM == 0 {
 		h.SideM = DefaultHobSideM

@@ -373,6 +373,21 @@ func (f form) flatness() float64 {
 	return 0
 }
 
+// shapeList lists the shapes for a message: "flat, dome, ... or cone".
+func shapeList() string {
+	var b []byte
+	for i, k := range Shapes {
+		switch {
+		case i == len(Shapes)-1:
+			b = append(b, " or "...)
+		case i > 0:
+			b = append(b, ", "...)
+		}
+		b = append(b, k...)
+	}
+	return string(b)
+}
+
 func knownShape(s Shape) bool {
 	for _, k := range Shapes {
 		if s == k {
@@ -407,7 +422,7 @@ func (s Spec) withDefaults() (Spec, error) {
 	}
 	switch {
 	case !knownShape(s.Shape):
-		return bad("unknown shape %q", s.Shape)
+		return bad("unknown shape %q, want %s", s.Shape, shapeList())
 	case s.Face != "up" && s.Face != "down":
 		return bad("face %q, want up or down", s.Face)
 	case !finite(s.DiameterM, s.SagM, s.NoiseM, s.SpikeFraction, s.CornerRadiusM, s.WallHeightM, s.SpacingM,

@@ -75,7 +75,7 @@ func Decode(r io.Reader, opt Options) (*Cloud, error) {
 					continue
 				case n == len(f)/2:
 					return nil, d.errAt(len(bytes.TrimRight(line, " \t\r\v\f"))+1,
-						fmt.Errorf("%w: %d numbers, need 3", ErrFieldCount, n))
+						fmt.Errorf("%w: %d numbers, need 3 (x, y, z of a point on every line)", ErrFieldCount, n))
 				default:
 					header = bytes.Clone(line)
 					headerLine, headerOff = d.line, d.off
@@ -289,7 +289,7 @@ func (d *decoder) point(line []byte) error {
 	d.pos = split(line, d.delim, d.pos)
 	if len(d.pos) < 2*d.need {
 		end := len(bytes.TrimRight(line, " \t\r\v\f")) + 1
-		return d.errAt(end, fmt.Errorf("%w: %d, need %d", ErrFieldCount, len(d.pos)/2, d.need))
+		return d.errAt(end, fmt.Errorf("%w: %d, need %d as the first line sets; fix or remove this line", ErrFieldCount, len(d.pos)/2, d.need))
 	}
 	if len(d.c.Points) >= d.opt.MaxPoints {
 		return d.errAt(0, fmt.Errorf("%w: more than %d", ErrTooManyPoints, d.opt.MaxPoints))

@@ -98,7 +98,7 @@ func TestDecodeErrors(t *testing.T) {
 		msg    string
 	}{
 		{name: "two numbers", in: "1 2 3\n4 5\n", line: 2, col: 4, offset: 9, err: ErrFieldCount,
-			msg: "t.xyz: line 2, column 4: too few columns: 2, need 3"},
+			msg: "t.xyz: line 2, column 4: too few columns: 2, need 3 as the first line sets; fix or remove this line"},
 		{name: "two numbers first", in: "# c\n1 2  \n", line: 2, col: 4, offset: 7, err: ErrFieldCount},
 		{name: "two numbers, comma", in: "1,2,3\n4,5\n", line: 2, col: 4, offset: 9, err: ErrFieldCount},
 		{name: "empty field", in: "1,2,3\n4,,6\n", line: 2, col: 3, offset: 8, err: ErrSyntax, msg: `line 2, column 3: not a number`},

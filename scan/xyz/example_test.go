@@ -29,7 +29,7 @@ id;X [mm];Y [mm];Z [mm];quality
 	// Output:
 	// 3 points, delimiter ';', unit "mm", header true
 	// {10 0 0.021}
-	// short.xyz: line 2, column 4: too few columns: 2, need 3
+	// short.xyz: line 2, column 4: too few columns: 2, need 3 as the first line sets; fix or remove this line
 }
 
 func ExampleWrite() {

@@ -1,0 +1,57 @@
+package pipeline
+
+import (
+	"bytes"
+	"encoding/csv"
+	"strings"
+	"testing"
+)
+
+// TestSummaryCSVOrderAndReason (issue 15, item 10): identity, status and
+// reason, verdict and quality lead the columns; every non-ok row has a
+// short reason, an ok row none.
+func TestSummaryCSVOrderAndReason(t *testing.T) {
+	f := func(v float64) *float64 { return &v }
+	long := "b.stl: levelling: " + strings.Repeat("the base could not be found ", 5)
+	rows := []SummaryRow{
+		{Path: "a.stl", Status: StatusOK, PartNumber: "P1", Lot: "L1", LossPct: f(3.25)},
+		{Path: "b.stl", Status: StatusFailed, Error: long},
+		{Path: "c.stl", Status: StatusOut, Reasons: "loss 12.5 % above 10 %; rocks"},
+		{Path: "d.stl", Status: StatusRejected, Reasons: "diameter 8 mm: is the file in inches? try --units in"},
+		{Path: "e.stl", Status: StatusNotRun},
+	}
+	var buf bytes.Buffer
+	if err := NewSummary(rows).WriteCSV(&buf); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := csv.NewReader(&buf).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := strings.Join(recs[0][:8], ","); got != "path,part_number,lot,status,reason,pass,quality,warnings" {
+		t.Errorf("leading columns %s", got)
+	}
+	for _, h := range recs[0][8:30] {
+		if h != "shape" && h != "rocks" && !strings.Contains(h, "_") {
+			t.Errorf("figure column %q has no unit", h)
+		}
+	}
+	want := map[string]string{
+		"a.stl": "",
+		"b.stl": string([]rune(strings.TrimPrefix(long, "b.stl: "))[:79]) + "…",
+		"c.stl": "loss 12.5 % above 10 % (+1 more)",
+		"d.stl": "diameter 8 mm: is the file in inches? try --units in",
+		"e.stl": "interrupted: run the same batch again",
+	}
+	for _, r := range recs[1:] {
+		if w := want[r[0]]; strings.TrimSpace(r[4]) != strings.TrimSpace(w) {
+			t.Errorf("%s: reason %q, want %q", r[0], r[4], w)
+		}
+		if len([]rune(r[4])) > 80 {
+			t.Errorf("%s: reason of %d characters", r[0], len([]rune(r[4])))
+		}
+	}
+	if recs[1][1] != "P1" || recs[1][2] != "L1" || recs[1][3] != StatusOK {
+		t.Errorf("identity of the ok row: %v", recs[1][:4])
+	}
+}
