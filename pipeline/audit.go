@@ -80,7 +80,9 @@ func (h AuditHob) file() AuditFile {
 	return AuditFile{Path: h.Path, FromReport: h.FromReport, SHA256: h.SHA256}
 }
 
-func (h *AuditHob) setFile(f AuditFile) { h.Path, h.FromReport, h.SHA256 = f.Path, f.FromReport, f.SHA256 }
+func (h *AuditHob) setFile(f AuditFile) {
+	h.Path, h.FromReport, h.SHA256 = f.Path, f.FromReport, f.SHA256
+}
 
 // AuditMaterial is one material the analysis used: its values in the units
 // of the job's [[material]] keys, and per value where it comes from.
