@@ -458,10 +458,15 @@ func RerunReport(ctx context.Context, reportPath string) (*Rerun, error) {
 	}
 	job := a.Job.Job
 	hobPath := ""
-	if a.Hob.Source == HobScan || a.Hob.Source == HobProfile {
+	switch a.Hob.Source {
+	case HobScan, HobProfile:
 		if hobPath, err = findInput(dir, a.Hob.file(), "hob", reportPath); err != nil {
 			return nil, err
 		}
+	case HobFlat, HobJobProfile:
+	default:
+		return nil, configf("%s: audit.hob.source %q is none of %q, %q, %q, %q", reportPath, a.Hob.Source,
+			HobFlat, HobScan, HobProfile, HobJobProfile)
 	}
 	for _, fk := range job.fileKeys() {
 		if *fk.p == "" {
@@ -478,8 +483,9 @@ func RerunReport(ctx context.Context, reportPath string) (*Rerun, error) {
 	if err := CheckJob(job, reportPath+" (the recorded job)"); err != nil {
 		return nil, &ConfigError{Err: err}
 	}
-	res, err := Analyze(ctx, ScanInput{PanPath: panPath, Name: rep.Input.Pan.Path, HobPath: hobPath, Job: job,
-		InputSHA: a.Scan.SHA256})
+	// The scan is hashed again as it is read: a file changed since
+	// findInput checked it shows as a difference.
+	res, err := Analyze(ctx, ScanInput{PanPath: panPath, Name: rep.Input.Pan.Path, HobPath: hobPath, Job: job})
 	if err != nil {
 		return nil, err
 	}

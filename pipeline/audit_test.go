@@ -301,6 +301,23 @@ func TestRerunBatchReports(t *testing.T) {
 		t.Errorf("re-run from the batch folder: %v %v", err, rr.Differences)
 	}
 
+	// Another build of gapflux: only the tool's version differs.
+	other := filepath.Join(t.TempDir(), "report.json")
+	ob := bytes.Replace(b, []byte(`"version": "devel"`), []byte(`"version": "v9.9.9"`), 1)
+	if bytes.Equal(ob, b) {
+		t.Fatal("test data: no devel version in the report")
+	}
+	if err := os.WriteFile(other, ob, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	rr, err := RerunReport(context.Background(), other)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(rr.Differences, []string{"audit.tool.version"}) || !rr.OnlyToolDiffers() {
+		t.Errorf("another build: differences %q, want only audit.tool.version", rr.Differences)
+	}
+
 	// Bad inputs.
 	noAudit := filepath.Join(t.TempDir(), "report.json")
 	var rep map[string]json.RawMessage
@@ -390,5 +407,38 @@ func TestRerunAnalyzeReport(t *testing.T) {
 				t.Errorf("no from_report path in the audit")
 			}
 		})
+	}
+}
+
+// TestRerunRejectedReport: a scan the quality gate rejects (a base with
+// two holes under a job that rejects below 100 % coverage) still carries
+// its audit and re-runs byte for byte.
+func TestRerunRejectedReport(t *testing.T) {
+	dir := t.TempDir()
+	pan := writeSynth(t, dir, "pan", synth.Spec{Shape: synth.Dish, DiameterM: 0.12, SagM: 0.15e-3, NoiseM: 3e-6, SpacingM: 2e-3, Holes: 2, Seed: 6},
+		synth.Encoding{Format: "xyz"})
+	out := filepath.Join(dir, "out")
+	job := smallJob()
+	job.Grid.CellMM = 2
+	job.Quality.CoverageWarnMinPct, job.Quality.CoverageRejectMinPct = 100, 100
+	res, err := Analyze(context.Background(), ScanInput{PanPath: pan, Name: "pan.xyz", Job: job, ReportDir: out})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !res.Report.Rejected() || res.Report.Audit == nil {
+		t.Fatalf("rejected %v, audit %v; want a rejected report with its audit", res.Report.Rejected(), res.Report.Audit != nil)
+	}
+	if err := WriteOutputs(res, out); err != nil {
+		t.Fatal(err)
+	}
+	rr, err := RerunReport(context.Background(), filepath.Join(out, "report.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !rr.Identical() {
+		t.Errorf("re-run differs in %q", rr.Differences)
+	}
+	if got := rr.Result.Report.Audit.Scan.FromReport; got != "../pan.xyz" {
+		t.Errorf("scan from the report folder %q, want ../pan.xyz", got)
 	}
 }
