@@ -30,6 +30,10 @@ type ScanInput struct {
 	Job     Job
 	// InputSHA and JobSHA are the hashes to record; empty means compute.
 	InputSHA, JobSHA string
+	// Root is the folder the audit's paths are relative to (a batch's
+	// folder; "" = as given); ReportDir is where report.json goes ("" =
+	// unknown). See AuditReport.
+	Root, ReportDir string
 }
 
 // Result holds a scan's report and the per-cell fields its maps and field
@@ -63,11 +67,11 @@ type Result struct {
 // writes every output into task.OutDir.
 func AnalyzeScan(ctx context.Context, task ScanTask, inputSHA, jobSHA string) (*Report, error) {
 	res, err := Analyze(ctx, ScanInput{PanPath: task.Path, Name: task.Rel, HobPath: task.HobPath,
-		Job: task.Job, InputSHA: inputSHA, JobSHA: jobSHA})
+		Job: task.Job, InputSHA: inputSHA, JobSHA: jobSHA, Root: taskRoot(task), ReportDir: task.OutDir})
 	if err != nil {
 		return nil, err
 	}
-	res.PartNumber, res.Lot = task.Meta.PartNumber, task.Meta.Lot
+	setAuditManifest(res, task.Meta)
 	if err := WriteOutputs(res, task.OutDir); err != nil {
 		return nil, err
 	}
@@ -111,6 +115,9 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		}
 	}
 	rep.Input.JobSHA256 = jobSHA
+	if rep.Audit, err = buildAudit(in, job, lib, fileRep.SHA256); err != nil {
+		return nil, fmt.Errorf("%s: audit: %w", in.Name, err)
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

@@ -196,10 +196,6 @@ type compareSide struct {
 	folder  bool // read from a report folder
 }
 
-// maxReportBytes bounds a report.json read back (our bound: a report with
-// its ring table is tens of kilobytes).
-const maxReportBytes = 16 << 20
-
 // loadSide analyses the scan at path, or reads the report folder at path.
 func loadSide(ctx context.Context, path string, in CompareInput) (*compareSide, error) {
 	st, err := os.Stat(path)

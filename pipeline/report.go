@@ -18,6 +18,11 @@ type Report struct {
 	Verdict  *VerdictReport  `json:"verdict,omitempty"`
 	Rings    []RingReport    `json:"rings,omitempty"`
 	Warnings []string        `json:"warnings"`
+
+	// Audit trail (issue 12 part 1; audit.go): the tool, the input files,
+	// the whole effective job and the materials used, enough for
+	// "gapflux analyze --from-report" to run the analysis again.
+	Audit *AuditReport `json:"audit,omitempty"`
 }
 
 // ReportInput identifies what was analysed.

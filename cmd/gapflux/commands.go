@@ -17,14 +17,18 @@ import (
 )
 
 func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (int, error) {
-	fs := newFlags("analyze", "analyze PAN [--hob HOB] [--job JOB.toml] [--out DIR] [--json]", stderr)
+	fs := newFlags("analyze", "analyze PAN [--hob HOB] [--job JOB.toml] [--out DIR] [--json]  |  analyze --from-report REPORT.json [--out DIR] [--json]", stderr)
 	jf := addJobFlags(fs, "job file (TOML); \"gapflux job\" prints every key with its default")
 	hob := fs.String("hob", "", "hob top: a scan (STL, PLY, XYZ/CSV) or a radial profile CSV (r_mm,z_mm); default an ideal flat hob")
 	out := fs.String("out", "", "write report.json, rings.csv, maps and fields.vti into this folder")
 	asJSON := fs.Bool("json", false, "also print report.json to stdout")
 	quiet := fs.Bool("quiet", false, "print nothing but errors (and --json)")
+	fromReport := fs.String("from-report", "", "run again the analysis a report.json records (its scan, hob and whole job) and check that it reproduces the report byte for byte")
 	if err := parse(fs, args); err != nil {
 		return exitUsage, err
+	}
+	if *fromReport != "" {
+		return analyzeFromReport(ctx, fs, *fromReport, *out, *asJSON, *quiet, stdout, stderr)
 	}
 	if fs.NArg() != 1 {
 		return exitUsage, usagef("want exactly one scan file, got %s (usage: gapflux analyze PAN [flags]; \"gapflux analyze --help\" lists the flags)",
@@ -46,7 +50,7 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 	if err := pipeline.CheckJob(job, jf.name()); err != nil {
 		return exitUsage, usageError{err}
 	}
-	res, err := pipeline.Analyze(ctx, pipeline.ScanInput{PanPath: pan, Name: filepath.Base(pan), HobPath: *hob, Job: job})
+	res, err := pipeline.Analyze(ctx, pipeline.ScanInput{PanPath: pan, Name: filepath.Base(pan), HobPath: *hob, Job: job, ReportDir: *out})
 	if err != nil {
 		return exitFail, err
 	}
