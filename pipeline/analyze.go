@@ -86,7 +86,6 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	rep := &Report{Schema: SchemaReport, Warnings: []string{}}
 	res := &Result{Report: rep, Name: in.Name}
-	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
 
 	// Read and level the pan scan.
 	cloud, fileRep, err := readScan(in.PanPath, in.Name, job, in.InputSHA)
@@ -197,6 +196,26 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Input.Hob = hobRep
 	res.Hob = hob
 
+	sin := SurfaceInput{Name: in.Name, Job: job, Lib: lib, Surf: surf, Hob: hob, OffsetM: offsetM,
+		GlassRM: glassR, Heater: heater, RadiusM: lev.RadiusM, gate: qg}
+	if _, err := analyzeSurface(ctx, sin, rep, res); err != nil {
+		return nil, err
+	}
+	if err := judge(ctx, sin, grid.Raw, filt, res); err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// analyzeSurface runs the chain from the (padded) form surface on: rest
+// pose, gap and contact, interface, plate solves of the scan and its flat
+// twin, rings and heat-up, filling rep and res. It reads no file, so the
+// uncertainty trials re-run it on perturbed inputs (stages.go).
+func analyzeSurface(ctx context.Context, in SurfaceInput, rep *Report, res *Result) (*Result, error) {
+	job, lib, surf, hob, qg := in.Job, in.Lib, in.Surf, in.Hob, in.gate
+	offsetM, glassR, heater := in.OffsetM, in.GlassRM, in.Heater
+	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
+
 	// Rest pose, gap and contact.
 	ip, err := interfaceParams(job, lib)
 	if err != nil {
@@ -223,8 +242,10 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
 	res.Contact = mask
 	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
-	qg.in.MeanGapM = rep.Gap.MeanGapMM / 1e3
-	qg.judge(rep, true) // the noise check only warns
+	if qg != nil {
+		qg.in.MeanGapM = rep.Gap.MeanGapMM / 1e3
+		qg.judge(rep, true) // the noise check only warns
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -250,6 +271,9 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	// heat-up samples neighbouring water temperatures in a fixed order, so
 	// this stays deterministic).
 	last := map[thermal.Interface]*thermal.Solution{}
+	if in.Warm != nil { // a trial starts from the nominal solutions
+		last[scanField], last[flatField] = in.Warm.Scan, in.Warm.Flat
+	}
 	var solver thermal.Solver
 	solve := func(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
 		p := *prob
@@ -295,12 +319,14 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		}
 		rep.Heat.GlassHeatKJ, rep.Heat.FlatGlassHeatKJ = stored(solScan), stored(solFlat)
 	}
-	rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
-		func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) {
-			return solver.SolveContext(ctx, p)
-		})
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	if !in.Trial { // the trials need no sensitivity table
+		rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
+			func(ctx context.Context, p *thermal.Problem) (*thermal.Solution, error) {
+				return solver.SolveContext(ctx, p)
+			})
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", in.Name, err)
+		}
 	}
 	fillGapConductance(rep.Gap, solScan, inBase)
 	hobT := solScan.TGlassK
@@ -365,14 +391,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 			return s.PowerW, source(s), nil
 		}
 	}
-	hu, err := heatupReport(ctx, job, lib, lev.RadiusM, power, scanField, flatField)
+	hu, err := heatupReport(ctx, job, lib, in.RadiusM, power, scanField, flatField)
 	if err != nil {
 		return nil, fmt.Errorf("%s: heat-up: %w", in.Name, err)
 	}
 	rep.Heatup = hu.report
 	rep.Warnings = append(rep.Warnings, hu.warnings...)
-
-	rep.Verdict = verdict(job, rep)
 	return res, nil
 }
 

@@ -25,15 +25,18 @@ import (
 // name; DefaultJob gives the defaults, which are our own invented scenario
 // (DESIGN 5.3a), not any standard's values.
 type Job struct {
-	Grid       GridJob       `toml:"grid"`
-	Pan        PanJob        `toml:"pan"`
-	Hob        HobJob        `toml:"hob"`
-	Interface  InterfaceJob  `toml:"interface"`
-	Water      WaterJob      `toml:"water"`
-	Tolerances ToleranceJob  `toml:"tolerances"`
-	Limits     LimitsJob     `toml:"limits"`
-	Quality    QualityJob    `toml:"quality"`
-	Materials  []MaterialJob `toml:"material"`
+	Grid       GridJob      `toml:"grid"`
+	Pan        PanJob       `toml:"pan"`
+	Hob        HobJob       `toml:"hob"`
+	Interface  InterfaceJob `toml:"interface"`
+	Water      WaterJob     `toml:"water"`
+	Tolerances ToleranceJob `toml:"tolerances"`
+	Limits     LimitsJob    `toml:"limits"`
+	Quality    QualityJob   `toml:"quality"`
+	// Uncertainty sets the Monte Carlo evaluation and the decision rule
+	// (DESIGN 5.6, uncertainty.go).
+	Uncertainty UncertaintyJob `toml:"uncertainty"`
+	Materials   []MaterialJob  `toml:"material"`
 }
 
 // GridJob sets the gridding, filtering and ring geometry.
@@ -185,6 +188,9 @@ func DefaultJob() Job {
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
 		Quality:    defaultQualityJob(),
+		Uncertainty: UncertaintyJob{Mode: "off", Decision: "guarded", Seed: 1, NoiseFactor: 1,
+			PanSqPct: 30, HobSqPct: 30, SlopePct: 40, MicrohardnessPct: 20, Accommodation: 0.1,
+			ConductivityPct: 5, ThicknessMM: 0.05, PanEmissivity: 0.05, HobEmissivity: 0.05},
 	}
 }
 

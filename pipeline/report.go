@@ -15,8 +15,10 @@ type Report struct {
 	Heat     *HeatReport     `json:"heat,omitempty"`
 	Heatup   *HeatupReport   `json:"heatup,omitempty"`
 	Verdict  *VerdictReport  `json:"verdict,omitempty"`
-	Rings    []RingReport    `json:"rings,omitempty"`
-	Warnings []string        `json:"warnings"`
+	// Uncertainty is the Monte Carlo evaluation (uncertainty.mode not "off").
+	Uncertainty *UncertaintyReport `json:"uncertainty,omitempty"`
+	Rings       []RingReport       `json:"rings,omitempty"`
+	Warnings    []string           `json:"warnings"`
 }
 
 // ReportInput identifies what was analysed.
@@ -236,6 +238,11 @@ type HeatupReport struct {
 type VerdictReport struct {
 	Pass    bool     `json:"pass"`
 	Reasons []string `json:"reasons"`
+	// Result is "pass", "fail" or "inconclusive" under Rule, the decision
+	// rule applied (decision.go); Limits gives each limit's outcome.
+	Result string         `json:"result"`
+	Rule   string         `json:"rule"`
+	Limits []LimitVerdict `json:"limits"`
 }
 
 // RingReport is one row of the ring table.
