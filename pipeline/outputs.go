@@ -230,11 +230,12 @@ func HumanSummary(res *Result) string {
 				*hh.GlassHeatKJ, *hh.FlatGlassHeatKJ)
 		}
 	}
+	b.WriteString(uncertaintyText(rep.Uncertainty))
 	if v := rep.Verdict; v != nil {
 		if v.Pass {
 			fmt.Fprintf(&b, "  verdict: PASS\n")
 		} else {
-			fmt.Fprintf(&b, "  verdict: FAIL\n")
+			fmt.Fprintf(&b, "  verdict: %s\n", strings.ToUpper(v.Result))
 			for _, r := range v.Reasons {
 				fmt.Fprintf(&b, "    - %s\n", r)
 			}

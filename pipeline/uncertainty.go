@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 
 	"gapflux/contact"
 	"gapflux/scan"
@@ -570,4 +571,35 @@ func budget(ctx context.Context, t *trialRunner, xs [][]float64, ys [][nFig]floa
 	}
 	b.LossPct, b.ConcavityMM = lines(figLoss), lines(figConcavity)
 	return b, nil
+}
+
+// uncertaintyText gives the summary's lines of the uncertainty section:
+// each figure as value ± U with U = 2u (coverage factor k = 2), U to two
+// significant digits and the value to the same decimal place, and the
+// 95 % interval from the trials.
+func uncertaintyText(u *UncertaintyReport) string {
+	if u == nil {
+		return ""
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, "  uncertainty (%d Monte Carlo trials, %s mode; U = 2u, interval 95 %%):\n", u.Trials, u.Mode)
+	for _, f := range []struct {
+		name, unit string
+		f          *FigureUncertainty
+	}{{"concavity", "mm", u.ConcavityMM}, {"flatness (minimum zone)", "mm", u.FlatnessMZMM}, {"rock", "mm", u.RockMM},
+		{"tip force", "N", u.TipForceN}, {"contact area", "%", u.ContactAreaPct}, {"loss", "%", u.LossPct}, {"extra heat-up time", "%", u.ExtraTimePct}} {
+		if f.f == nil {
+			continue
+		}
+		U := 2 * f.f.U
+		dec := 0
+		if U > 0 {
+			dec = max(0, 1-int(math.Floor(math.Log10(U))))
+		}
+		fmt.Fprintf(&b, "    %s %.*f ± %.*f %s [%.*f, %.*f]\n", f.name, dec, f.f.Value, dec, U, f.unit, dec, f.f.Low, dec, f.f.High)
+	}
+	if !u.Converged {
+		fmt.Fprintf(&b, "    (the trial cap of %d was reached before every figure met its numerical tolerance)\n", u.MaxTrials)
+	}
+	return b.String()
 }

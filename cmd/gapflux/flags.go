@@ -85,6 +85,7 @@ type jobFlags struct {
 	mode       string
 	waterC     float64
 	maxPoints  int
+	uncert     string
 }
 
 func addJobFlags(fs *pflag.FlagSet) *jobFlags {
@@ -102,6 +103,7 @@ func addJobFlags(fs *pflag.FlagSet) *jobFlags {
 	fs.StringVar(&j.mode, "mode", "", "hob model: heater or temperature (default from the job: heater)")
 	fs.Float64Var(&j.waterC, "water-c", d.Water.SteadyC, "water temperature of the steady heat figures, °C")
 	fs.IntVar(&j.maxPoints, "max-points", d.Limits.MaxPoints, "refuse scans with more points than this")
+	fs.StringVar(&j.uncert, "uncertainty", d.Uncertainty.Mode, "Monte Carlo uncertainty of the figures: off, fast or full (uncertainty.mode)")
 	return j
 }
 
@@ -138,6 +140,7 @@ func (j *jobFlags) job() (pipeline.Job, error) {
 		{"mode", func() { job.Hob.Mode = j.mode }},
 		{"water-c", func() { job.Water.SteadyC = j.waterC }},
 		{"max-points", func() { job.Limits.MaxPoints = j.maxPoints }},
+		{"uncertainty", func() { job.Uncertainty.Mode = j.uncert }},
 	}
 	for _, o := range overrides {
 		if j.fs.Changed(o.flag) {
