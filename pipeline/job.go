@@ -188,7 +188,7 @@ func DefaultJob() Job {
 		Tolerances: ToleranceJob{ConcavityMinPct: 0, ConcavityMaxPct: 0.5, FlatnessMZMaxMM: 1.0, LossMaxPct: 10},
 		Limits:     LimitsJob{MaxPoints: 20_000_000, MaxFileMB: 2048, MaxCells: 4_000_000},
 		Quality:    defaultQualityJob(),
-		Uncertainty: UncertaintyJob{Mode: "off", Decision: "guarded", Seed: 1, NoiseFactor: 1,
+		Uncertainty: UncertaintyJob{Mode: "off", Decision: "guarded", Seed: 1, NoiseFactor: 1, RadiusMM: 0.03,
 			PanSqPct: 30, HobSqPct: 30, SlopePct: 40, MicrohardnessPct: 20, Accommodation: 0.1,
 			ConductivityPct: 5, ThicknessMM: 0.05, PanEmissivity: 0.05, HobEmissivity: 0.05},
 	}

@@ -22,6 +22,7 @@ type UncertaintyJob struct {
 	Seed             int     `toml:"seed"`              // PCG seed of the trials
 	MaxTrials        int     `toml:"max_trials"`        // 0 = by mode
 	NoiseFactor      float64 `toml:"noise_factor"`      // trial noise, multiple of the filter residual RMS
+	RadiusMM         float64 `toml:"radius_mm"`         // normal standard deviation of the base radius (rim circle fit)
 	PanSqPct         float64 `toml:"pan_sq_pct"`        // rectangular half-width, % of interface.pan_sq_um
 	HobSqPct         float64 `toml:"hob_sq_pct"`        // rectangular half-width, % of interface.hob_sq_um
 	SlopePct         float64 `toml:"slope_pct"`         // rectangular half-width, % of the combined slope
@@ -151,7 +152,7 @@ func clamp(v, lo, hi float64) float64 { return math.Min(hi, math.Max(lo, v)) }
 
 // mcInputs lists the property inputs of job with a non-zero width, in a
 // fixed order (the slope last: it scales the slope of the drawn roughness).
-func mcInputs(job Job, lib []contact.Material) ([]mcInput, error) {
+func mcInputs(job Job, lib []contact.Material, radiusM float64) ([]mcInput, error) {
 	uj := job.Uncertainty
 	panMat, err := contact.LookupMaterial(lib, job.Pan.Layers[0].Material)
 	if err != nil {
@@ -174,6 +175,8 @@ func mcInputs(job Job, lib []contact.Material) ([]mcInput, error) {
 		out = append(out, mcInput{UncertaintyInput: UncertaintyInput{Name: name, Key: key, Distribution: dist,
 			Nominal: nominal, Width: width, U: u, Unit: unit}, rect: rect, apply: apply})
 	}
+	add("base radius (rim circle fit)", "uncertainty.radius_mm", "mm", false, radiusM*1e3, uj.RadiusMM,
+		func(*Job, []contact.Material, float64) {}) // trialRunner.run applies it
 	ij := job.Interface
 	add("interface.pan_sq_um", "uncertainty.pan_sq_pct", "µm", true, ij.PanSqUM, ij.PanSqUM*uj.PanSqPct/100,
 		func(j *Job, _ []contact.Material, v float64) { j.Interface.PanSqUM = math.Max(v, 0.001) })
@@ -233,6 +236,7 @@ func perturbed(job Job, lib []contact.Material, inputs []mcInput, x []float64) (
 type trialRunner struct {
 	in      SurfaceInput
 	raw     *scan.Surface
+	form    *scan.Surface // the nominal form-filtered surface (unpadded)
 	fopt    scan.FilterOptions
 	inputs  []mcInput
 	sigmaM  float64 // noise RMS of a trial, m
@@ -244,6 +248,12 @@ type trialRunner struct {
 func (t *trialRunner) run(ctx context.Context, x, noise []float64) ([nFig]float64, error) {
 	y := t.nominal
 	in := t.in
+	for i, m := range t.inputs {
+		if m.Key == "uncertainty.radius_mm" {
+			in.RadiusM = math.Max(x[i], 1) / 1e3
+		}
+	}
+	surf := t.form
 	if noise != nil {
 		r := t.raw.Clone()
 		n := 0
@@ -257,17 +267,20 @@ func (t *trialRunner) run(ctx context.Context, x, noise []float64) ([nFig]float6
 		if err != nil {
 			return y, fmt.Errorf("form filter: %w", err)
 		}
-		form, err := scan.MeasureForm(f.Form, in.RadiusM)
+		surf = f.Form
+		in.Surf = surf
+		if in.Heater {
+			if in.Surf, err = padSurface(surf, in.padHalfM(), in.Job.Limits.MaxCells); err != nil {
+				return y, err
+			}
+		}
+	}
+	if noise != nil || in.RadiusM != t.in.RadiusM {
+		form, err := scan.MeasureForm(surf, in.RadiusM)
 		if err != nil {
 			return y, fmt.Errorf("form: %w", err)
 		}
 		y[figConcavity], y[figFlatness] = form.ConcavityM*1e3, form.FlatnessMZM*1e3
-		in.Surf = f.Form
-		if in.Heater {
-			if in.Surf, err = padSurface(in.Surf, in.padHalfM(), in.Job.Limits.MaxCells); err != nil {
-				return y, err
-			}
-		}
 	}
 	in.Job, in.Lib = perturbed(in.Job, in.Lib, t.inputs, x)
 	in.Trial, in.gate = true, nil
@@ -307,12 +320,12 @@ func figuresOf(y [nFig]float64, res *Result) [nFig]float64 {
 // The budget comes from one-at-a-time sensitivity coefficients (budget).
 func evaluateUncertainty(ctx context.Context, in SurfaceInput, raw *scan.Surface, filt *scan.FilterResult, res *Result) (*UncertaintyReport, error) {
 	uj := in.Job.Uncertainty
-	inputs, err := mcInputs(in.Job, in.Lib)
+	inputs, err := mcInputs(in.Job, in.Lib, in.RadiusM)
 	if err != nil {
 		return nil, err
 	}
 	in.Warm = &warmStart{Scan: res.Scan, Flat: res.Flat}
-	t := &trialRunner{in: in, raw: raw, inputs: inputs, sigmaM: uj.NoiseFactor * filt.NoiseM,
+	t := &trialRunner{in: in, raw: raw, form: filt.Form, inputs: inputs, sigmaM: uj.NoiseFactor * filt.NoiseM,
 		fopt: scan.FilterOptions{CutoffM: in.Job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(in.Job.Grid.Filter)}}
 	form, err := scan.MeasureForm(filt.Form, in.RadiusM)
 	if err != nil {
@@ -352,7 +365,7 @@ func evaluateUncertainty(ctx context.Context, in SurfaceInput, raw *scan.Surface
 		Notes: []string{
 			fmt.Sprintf("scanner noise: Gaussian, RMS %.3g µm (uncertainty.noise_factor × the form filter's residual RMS) added to every measured cell of the raw grid, which is filtered again; filled cells keep their interpolated heights", t.sigmaM*1e6),
 			"property draws re-run the chain from the interface on (pose, gap, interface, plate solves, rings, heat-up); trials start their solves from the nominal solutions and use the same thermal grid as the nominal analysis (no coarsening)",
-			"grid placement, the pan's placement on the zone and the hob settings are not yet drawn",
+			"the base radius draw re-measures the form on the drawn disc and carries the radius into the heat-up; grid placement, the pan's placement on the zone and the hob settings are not yet drawn",
 		},
 	}
 	for _, m := range inputs {

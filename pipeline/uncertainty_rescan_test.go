@@ -31,16 +31,15 @@ func rescan(t *testing.T, dir string, i int) string {
 		synth.Encoding{Format: "ply", Binary: true})
 }
 
-// TestUncertaintyRescans: with the property uncertainties off, the
-// reported standard uncertainty of loss_pct (from the noise draws of each
-// scan) agrees with the spread of 8 re-scans of one base within a factor
-// of 1.5 either way (issue 10; measured 1.11). The spread of 8 values has
-// a relative standard error of about 27 %, so the factor is about 1.5 of
-// those. concavity_mm does not meet it yet: measured u/spread = 0.55. Its
-// re-scans also move the rim circle fit (R varies by about ±0.04 mm, and
-// concavity goes as R²) and the grid placement, which the trials do not
-// draw; the test holds concavity to a factor 2.5 until they do. The same
-// scan analysed twice gives the same bytes.
+// TestUncertaintyRescans: with the property uncertainties off (noise and
+// the base radius drawn), the reported standard uncertainty of
+// concavity_mm and loss_pct agrees with the spread of 8 re-scans of one
+// base (new noise, a new frame) within a factor of 1.5 either way (issue
+// 10). The spread of 8 values has a relative standard error of about
+// 27 %, so the factor is about 1.5 of those. Without the radius draw,
+// concavity's u was 0.55 of the spread: its re-scans move the rim circle
+// fit (±0.04 mm here) and concavity goes as R². The same scan analysed
+// twice gives the same bytes.
 func TestUncertaintyRescans(t *testing.T) {
 	if testing.Short() {
 		t.Skip("9 analyses with Monte Carlo trials: about a minute")
@@ -81,7 +80,7 @@ func TestUncertaintyRescans(t *testing.T) {
 		value  []float64
 		u      []float64
 		factor float64
-	}{{"concavity_mm", conc, uc, 2.5}, {"loss_pct", loss, ul, 1.5}} {
+	}{{"concavity_mm", conc, uc, 1.5}, {"loss_pct", loss, ul, 1.5}} {
 		_, spread := meanStd(f.value)
 		rms := 0.0
 		for _, x := range f.u {
