@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 )
 
@@ -47,6 +48,7 @@ func TestMonteCarloAdditiveModel(t *testing.T) {
 				t.Fatalf("not converged after %d trials", len(ys))
 			}
 			f := figureStats(ys, figLoss, 0, delta[figLoss])
+			t.Logf("u = %.3f, interval [%.3f, %.3f], %d trials", f.U, f.Low, f.High, f.Trials)
 			tol := f.Tolerance
 			if tol != 0.5 {
 				t.Errorf("tolerance δ = %g, want 0.5 for u = 2 at one significant digit", tol)
@@ -128,5 +130,22 @@ func TestDecisionRule(t *testing.T) {
 				t.Errorf("summary status %q, want %q", row.Status, tc.status)
 			}
 		})
+	}
+}
+
+// TestUncertaintyText: the summary gives value ± U with U = 2u to two
+// significant digits and the value to the same decimal place.
+func TestUncertaintyText(t *testing.T) {
+	u := &UncertaintyReport{Trials: 40, Mode: "fast", MaxTrials: 40, Converged: true,
+		ConcavityMM: &FigureUncertainty{Value: 0.29964, U: 0.000305, Low: 0.29903, High: 0.30021},
+		LossPct:     &FigureUncertainty{Value: 18.064, U: 1.133, Low: 15.9, High: 20.3}}
+	got := uncertaintyText(u)
+	for _, want := range []string{"concavity 0.29964 ± 0.00061 mm [0.29903, 0.30021]", "loss 18.1 ± 2.3 % [15.9, 20.3]"} {
+		if !strings.Contains(got, want) {
+			t.Errorf("summary lacks %q:\n%s", want, got)
+		}
+	}
+	if uncertaintyText(nil) != "" {
+		t.Error("no section should print nothing")
 	}
 }
