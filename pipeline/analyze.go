@@ -93,7 +93,6 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	}
 	rep := &Report{Schema: SchemaReport, Warnings: []string{}}
 	res := &Result{Report: rep, Name: in.Name, Job: job}
-	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
 
 	// Read and level the pan scan.
 	cloud, fileRep, err := readScan(in.PanPath, in.Name, job, in.InputSHA)
@@ -216,6 +215,26 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	rep.Input.Hob = hobRep
 	res.Hob = hob
 
+	sin := SurfaceInput{Name: in.Name, Job: job, Lib: lib, Surf: surf, Hob: hob, OffsetM: offsetM,
+		GlassRM: glassR, Heater: heater, RadiusM: lev.RadiusM, gate: qg}
+	if _, err := analyzeSurface(ctx, sin, rep, res); err != nil {
+		return nil, err
+	}
+	if err := judge(ctx, sin, grid.Raw, filt, res); err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// analyzeSurface runs the chain from the (padded) form surface on: rest
+// pose, gap and contact, interface, plate solves of the scan and its flat
+// twin, rings and heat-up, filling rep and res. It reads no file, so the
+// uncertainty trials re-run it on perturbed inputs (stages.go).
+func analyzeSurface(ctx context.Context, in SurfaceInput, rep *Report, res *Result) (*Result, error) {
+	job, lib, surf, hob, qg := in.Job, in.Lib, in.Surf, in.Hob, in.gate
+	offsetM, glassR, heater := in.OffsetM, in.GlassRM, in.Heater
+	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
+
 	// Rest pose, gap and contact.
 	ip, err := interfaceParams(job, lib)
 	if err != nil {
@@ -242,8 +261,10 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
 	res.Contact = mask
 	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
-	qg.in.MeanGapM = rep.Gap.MeanGapMM / 1e3
-	qg.judge(rep, true) // the noise check only warns
+	if qg != nil {
+		qg.in.MeanGapM = rep.Gap.MeanGapMM / 1e3
+		qg.judge(rep, true) // the noise check only warns
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -271,6 +292,9 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	// The scan and the flat twin are independent: each has its own solver
 	// (work buffers) and warm start, so their solves may run at once.
 	chains := map[thermal.Interface]*solveChain{scanField: {}, flatField: {}}
+	if in.Warm != nil { // a trial starts from the nominal solutions
+		chains[scanField].last, chains[flatField].last = in.Warm.Scan, in.Warm.Flat
+	}
 	solve := func(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
 		return chains[iface].solve(ctx, prob, iface, tWaterK)
 	}
@@ -308,10 +332,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		}
 		rep.Heat.GlassHeatKJ, rep.Heat.FlatGlassHeatKJ = stored(solScan), stored(solFlat)
 	}
-	rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
-		[2]*thermal.Solver{&chains[scanField].solver, &chains[flatField].solver})
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	if !in.Trial { // the trials need no sensitivity table
+		rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
+			[2]*thermal.Solver{&chains[scanField].solver, &chains[flatField].solver})
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", in.Name, err)
+		}
 	}
 	fillGapConductance(rep.Gap, solScan, inBase)
 	hobT := solScan.TGlassK
@@ -376,21 +402,20 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 			return s.PowerW, source(s), nil
 		}
 	}
-	hu, err := heatupReport(ctx, job, lib, lev.RadiusM, power, scanField, flatField)
+	hu, err := heatupReport(ctx, job, lib, in.RadiusM, power, scanField, flatField)
 	if err != nil {
 		return nil, stageErr(in.Name, "heat-up", err)
 	}
 	rep.Heatup = hu.report
 	rep.Warnings = append(rep.Warnings, hu.warnings...)
 
-	if job.Hot.Enabled { // the base as it is when cooking (issue 11)
-		if res.Hot, err = hotStage(ctx, hotInput{job: job, lib: lib, surf: surf, hob: hob, inBase: inBase, radiusM: lev.RadiusM,
+	if job.Hot.Enabled && !in.Trial { // the base as it is when cooking (issue 11)
+		if res.Hot, err = hotStage(ctx, hotInput{job: job, lib: lib, surf: surf, hob: hob, inBase: inBase, radiusM: in.RadiusM,
 			ip: ip, prob: prob, flat: solFlat, flatIf: flatField, cold: solScan, coldSolved: true, coldMM: rep.Geometry.ConcavityMM}); err != nil {
 			return nil, fmt.Errorf("%s: hot state: %w", in.Name, err)
 		}
 		rep.Hot, rep.Warnings = res.Hot.Report, append(rep.Warnings, res.Hot.Warnings...)
 	}
-	rep.Verdict = verdict(job, rep)
 	return res, nil
 }
 

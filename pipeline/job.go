@@ -25,17 +25,18 @@ import (
 // name; DefaultJob gives the defaults, which are our own invented scenario
 // (DESIGN 5.3a), not any standard's values.
 type Job struct {
-	Grid       GridJob       `toml:"grid"`
-	Pan        PanJob        `toml:"pan"`
-	Hob        HobJob        `toml:"hob"`
-	Interface  InterfaceJob  `toml:"interface"`
-	Water      WaterJob      `toml:"water"`
-	Tolerances ToleranceJob  `toml:"tolerances"`
-	Limits     LimitsJob     `toml:"limits"`
-	Quality    QualityJob    `toml:"quality"`
-	Outputs    OutputsJob    `toml:"outputs"`
-	Hot        HotJob        `toml:"hot"`
-	Materials  []MaterialJob `toml:"material"`
+	Grid        GridJob        `toml:"grid"`
+	Pan         PanJob         `toml:"pan"`
+	Hob         HobJob         `toml:"hob"`
+	Interface   InterfaceJob   `toml:"interface"`
+	Water       WaterJob       `toml:"water"`
+	Tolerances  ToleranceJob   `toml:"tolerances"`
+	Limits      LimitsJob      `toml:"limits"`
+	Quality     QualityJob     `toml:"quality"`
+	Outputs     OutputsJob     `toml:"outputs"`
+	Hot         HotJob         `toml:"hot"`
+	Uncertainty UncertaintyJob `toml:"uncertainty"`
+	Materials   []MaterialJob  `toml:"material"`
 }
 
 // HotJob sets the hot state: the base as it is when cooking, bowed by its
@@ -204,6 +205,9 @@ func DefaultJob() Job {
 		Quality:    defaultQualityJob(),
 		Outputs:    OutputsJob{Fields: FieldsCompressed},
 		Hot:        HotJob{ScanC: 20, Edge: "free", ToleranceUM: 1, MaxIterations: DefaultHotMaxIter, Verdict: "both"},
+		Uncertainty: UncertaintyJob{Mode: "off", Decision: "guarded", Seed: 1, NoiseFactor: 1, RadiusMM: 0.03,
+			PanSqPct: 30, HobSqPct: 30, SlopePct: 40, MicrohardnessPct: 20, Accommodation: 0.1,
+			ConductivityPct: 5, ThicknessMM: 0.05, PanEmissivity: 0.05, HobEmissivity: 0.05},
 	}
 }
 

@@ -264,11 +264,12 @@ func HumanSummary(res *Result) string {
 	if h, g := rep.Hot, rep.Geometry; h != nil && g != nil {
 		b.WriteString(hotSummary(h, g.DiameterMM))
 	}
+	b.WriteString(uncertaintyText(rep.Uncertainty))
 	if v := rep.Verdict; v != nil {
 		if v.Pass {
 			fmt.Fprintf(&b, "  verdict: PASS\n")
 		} else {
-			fmt.Fprintf(&b, "  verdict: FAIL\n")
+			fmt.Fprintf(&b, "  verdict: %s\n", strings.ToUpper(v.Result))
 			for _, r := range v.Reasons {
 				fmt.Fprintf(&b, "    - %s\n", r)
 			}

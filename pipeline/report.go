@@ -16,8 +16,10 @@ type Report struct {
 	Heatup   *HeatupReport   `json:"heatup,omitempty"`
 	Hot      *HotReport      `json:"hot,omitempty"` // the base when cooking (hot.enabled)
 	Verdict  *VerdictReport  `json:"verdict,omitempty"`
-	Rings    []RingReport    `json:"rings,omitempty"`
-	Warnings []string        `json:"warnings"`
+	// Uncertainty is the Monte Carlo evaluation (uncertainty.mode not "off").
+	Uncertainty *UncertaintyReport `json:"uncertainty,omitempty"`
+	Rings       []RingReport       `json:"rings,omitempty"`
+	Warnings    []string           `json:"warnings"`
 
 	// Audit trail (issue 12 part 1; audit.go): the tool, the input files,
 	// the whole effective job and the materials used, enough for
@@ -249,6 +251,11 @@ type HeatupReport struct {
 type VerdictReport struct {
 	Pass    bool     `json:"pass"`
 	Reasons []string `json:"reasons"`
+	// Result is "pass", "fail" or "inconclusive" under Rule, the decision
+	// rule applied (decision.go); Limits gives each limit's outcome.
+	Result string         `json:"result"`
+	Rule   string         `json:"rule"`
+	Limits []LimitVerdict `json:"limits"`
 }
 
 // RingReport is one row of the ring table.

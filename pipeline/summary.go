@@ -25,6 +25,9 @@ const (
 	// StatusRejected: the data-quality gate stopped the scan before pose
 	// and heat (report.json's quality section says why).
 	StatusRejected = "rejected"
+	// StatusInconclusive: under guarded acceptance a limit's 95 % interval
+	// straddles it and none lies wholly beyond (report.json's verdict).
+	StatusInconclusive = "inconclusive"
 )
 
 // SummaryRow is one scan's line in the batch summary. Figures are pointers so
@@ -59,8 +62,13 @@ type SummaryRow struct {
 	FlatTimeS              *float64 `json:"flat_time_s"`
 	ExtraTimePct           *float64 `json:"extra_time_pct"`
 	ExtraEnergyKJ          *float64 `json:"extra_energy_kj"`
-	Pass                   *bool    `json:"pass"`
-	Reasons                string   `json:"reasons"`
+	// The 95 % coverage intervals (uncertainty.mode not "off").
+	LossPctLow      *float64 `json:"loss_pct_low"`
+	LossPctHigh     *float64 `json:"loss_pct_high"`
+	ConcavityMMLow  *float64 `json:"concavity_mm_low"`
+	ConcavityMMHigh *float64 `json:"concavity_mm_high"`
+	Pass            *bool    `json:"pass"`
+	Reasons         string   `json:"reasons"`
 }
 
 // Summary is the batch summary: rows sorted by path, and counts derived from
@@ -88,7 +96,7 @@ type SummaryInput struct {
 func NewSummary(rows []SummaryRow) *Summary {
 	rows = append([]SummaryRow(nil), rows...)
 	sort.Slice(rows, func(i, j int) bool { return rows[i].Path < rows[j].Path })
-	counts := map[string]int{StatusOK: 0, StatusFailed: 0, StatusOut: 0, StatusRejected: 0, StatusNotRun: 0, "total": len(rows)}
+	counts := map[string]int{StatusOK: 0, StatusFailed: 0, StatusOut: 0, StatusInconclusive: 0, StatusRejected: 0, StatusNotRun: 0, "total": len(rows)}
 	for _, r := range rows {
 		counts[r.Status]++
 	}
@@ -127,10 +135,21 @@ func RowFromReport(rel string, rep *Report) SummaryRow {
 		row.TimeS, row.FlatTimeS = f(h.TimeS), f(h.FlatTimeS)
 		row.ExtraTimePct, row.ExtraEnergyKJ = f(h.ExtraTimePct), f(h.ExtraEnergyKJ)
 	}
+	if u := rep.Uncertainty; u != nil {
+		if l := u.LossPct; l != nil {
+			row.LossPctLow, row.LossPctHigh = f(l.Low), f(l.High)
+		}
+		if c := u.ConcavityMM; c != nil {
+			row.ConcavityMMLow, row.ConcavityMMHigh = f(c.Low), f(c.High)
+		}
+	}
 	if v := rep.Verdict; v != nil {
 		row.Pass = b(v.Pass)
 		row.Reasons = strings.Join(v.Reasons, "; ")
-		if !v.Pass {
+		switch {
+		case v.Result == ResultInconclusive:
+			row.Status = StatusInconclusive
+		case !v.Pass:
 			row.Status = StatusOut
 		}
 	}
@@ -148,6 +167,7 @@ var summaryColumns = []string{
 	"contact_area_pct", "mean_gap_mm", "max_gap_mm",
 	"power_w", "flat_power_w", "loss_pct", "glass_max_c",
 	"time_s", "flat_time_s", "extra_time_pct", "extra_energy_kj",
+	"loss_pct_low", "loss_pct_high", "concavity_mm_low", "concavity_mm_high",
 	"error", "reasons",
 }
 
@@ -208,6 +228,7 @@ func (s *Summary) WriteCSV(w io.Writer) error {
 			fnum(r.ContactAreaPct, 3), fnum(r.MeanGapMM, 4), fnum(r.MaxGapMM, 4),
 			fnum(r.PowerW, 2), fnum(r.FlatPowerW, 2), fnum(r.LossPct, 3), fnum(r.GlassMaxC, 2),
 			fnum(r.TimeS, 1), fnum(r.FlatTimeS, 1), fnum(r.ExtraTimePct, 3), fnum(r.ExtraEnergyKJ, 3),
+			fnum(r.LossPctLow, 3), fnum(r.LossPctHigh, 3), fnum(r.ConcavityMMLow, 4), fnum(r.ConcavityMMHigh, 4),
 			r.Error, r.Reasons,
 		}
 		if err := cw.Write(rec); err != nil {

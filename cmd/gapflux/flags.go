@@ -168,6 +168,7 @@ type jobFlags struct {
 	maxPoints  int
 	fields     string
 	hot        bool
+	uncert     string
 }
 
 // jobOverrideFlags names the flags addJobFlags defines besides --job, in
@@ -196,6 +197,7 @@ func addJobFlags(fs *pflag.FlagSet, jobHelp string) *jobFlags {
 	fs.IntVar(&j.maxPoints, "max-points", d.Limits.MaxPoints, "refuse scans with more points than this")
 	fs.StringVar(&j.fields, "fields", d.Outputs.Fields, "fields.vti: compressed, plain or off")
 	fs.BoolVar(&j.hot, "hot", d.Hot.Enabled, "also solve the hot state: the base bowed by its own heat ([hot] in the job; about +70 % time)")
+	fs.StringVar(&j.uncert, "uncertainty", d.Uncertainty.Mode, "Monte Carlo uncertainty of the figures: off, fast or full (uncertainty.mode)")
 	return j
 }
 

@@ -1,0 +1,124 @@
+package pipeline
+
+import (
+	"bytes"
+	"context"
+	"fmt"
+	"math"
+	"path/filepath"
+	"testing"
+
+	"gapflux/scan/synth"
+)
+
+// rescanJob is a cheap job for the re-scan tests: temperature mode (no
+// glass grid), 1 mm cells, noise draws only (every property exact).
+func rescanJob() Job {
+	job := DefaultJob()
+	job.Hob.Mode = "temperature"
+	job.Grid.CellMM = 1
+	u := &job.Uncertainty
+	u.Mode, u.MaxTrials = "fast", 20
+	u.PanSqPct, u.HobSqPct, u.SlopePct, u.MicrohardnessPct, u.Accommodation = 0, 0, 0, 0, 0
+	u.ConductivityPct, u.ThicknessMM, u.PanEmissivity, u.HobEmissivity = 0, 0, 0, 0
+	return job
+}
+
+// rescan writes re-scan i of one dished base: new noise and a new frame.
+func rescan(t *testing.T, dir string, i int) string {
+	return writeSynth(t, dir, fmt.Sprintf("dish%d", i), synth.Spec{Shape: synth.Dish, DiameterM: 0.16, SagM: 0.3e-3,
+		NoiseM: 8e-6, SpacingM: 1e-3, Seed: uint64(100 + i), RotationDeg: [3]float64{0.3 * float64(i), -0.2 * float64(i), 17 * float64(i)}},
+		synth.Encoding{Format: "ply", Binary: true})
+}
+
+// TestUncertaintyRescans: with the property uncertainties off (noise and
+// the base radius drawn), the reported standard uncertainty of
+// concavity_mm and loss_pct agrees with the spread of 8 re-scans of one
+// base (new noise, a new frame) within a factor of 1.5 either way (issue
+// 10). The spread of 8 values has a relative standard error of about
+// 27 %, so the factor is about 1.5 of those. Without the radius draw,
+// concavity's u was 0.55 of the spread: its re-scans move the rim circle
+// fit (±0.04 mm here) and concavity goes as R². The same scan analysed
+// twice gives the same bytes.
+func TestUncertaintyRescans(t *testing.T) {
+	if testing.Short() {
+		t.Skip("9 analyses with Monte Carlo trials: about a minute")
+	}
+	dir := t.TempDir()
+	job := rescanJob()
+	var conc, loss, uc, ul []float64
+	var first []byte
+	for i := range 8 {
+		path := rescan(t, dir, i)
+		res, err := Analyze(context.Background(), ScanInput{PanPath: path, Name: filepath.Base(path), Job: job})
+		if err != nil {
+			t.Fatal(err)
+		}
+		u := res.Report.Uncertainty
+		if u == nil || u.ConcavityMM == nil || u.LossPct == nil {
+			t.Fatalf("scan %d: no uncertainty section", i)
+		}
+		conc, loss = append(conc, u.ConcavityMM.Value), append(loss, u.LossPct.Value)
+		uc, ul = append(uc, u.ConcavityMM.U), append(ul, u.LossPct.U)
+		if i == 0 {
+			if first, err = MarshalReport(res.Report); err != nil {
+				t.Fatal(err)
+			}
+			again, err := Analyze(context.Background(), ScanInput{PanPath: path, Name: filepath.Base(path), Job: job})
+			if err != nil {
+				t.Fatal(err)
+			}
+			b, _ := MarshalReport(again.Report)
+			if !bytes.Equal(first, b) {
+				t.Errorf("the same scan gave different report bytes with uncertainty on")
+			}
+			t.Logf("trials %d, converged %v", u.Trials, u.Converged)
+		}
+	}
+	for _, f := range []struct {
+		name   string
+		value  []float64
+		u      []float64
+		factor float64
+	}{{"concavity_mm", conc, uc, 1.5}, {"loss_pct", loss, ul, 1.5}} {
+		_, spread := meanStd(f.value)
+		rms := 0.0
+		for _, x := range f.u {
+			rms += x * x
+		}
+		rms = math.Sqrt(rms / float64(len(f.u)))
+		t.Logf("%s: re-scan spread %.4g, reported u (RMS of 8) %.4g, ratio %.2f", f.name, spread, rms, rms/spread)
+		if !(rms <= f.factor*spread && spread <= f.factor*rms) {
+			t.Errorf("%s: reported u %.4g against the re-scan spread %.4g: not within a factor %g", f.name, rms, spread, f.factor)
+		}
+	}
+}
+
+// BenchmarkUncertainty measures the cost per scan of uncertainty.mode
+// off, fast and full on the re-scan test's base (160 mm dish, 1 mm cells,
+// temperature mode, every default input distribution), and reports the
+// trials used.
+func BenchmarkUncertainty(b *testing.B) {
+	dir := b.TempDir()
+	path := writeSynth(b, dir, "dish", synth.Spec{Shape: synth.Dish, DiameterM: 0.16, SagM: 0.3e-3,
+		NoiseM: 8e-6, SpacingM: 1e-3, Seed: 100}, synth.Encoding{Format: "ply", Binary: true})
+	for _, mode := range []string{"off", "fast", "full"} {
+		b.Run(mode, func(b *testing.B) {
+			job := DefaultJob()
+			job.Hob.Mode = "temperature"
+			job.Grid.CellMM = 1
+			job.Uncertainty.Mode = mode
+			trials := 0
+			for i := 0; i < b.N; i++ {
+				res, err := Analyze(context.Background(), ScanInput{PanPath: path, Name: "dish", Job: job})
+				if err != nil {
+					b.Fatal(err)
+				}
+				if u := res.Report.Uncertainty; u != nil {
+					trials += u.Trials
+				}
+			}
+			b.ReportMetric(float64(trials)/float64(b.N), "trials/scan")
+		})
+	}
+}
