@@ -65,6 +65,9 @@ type BatchOptions struct {
 	Analyze AnalyzeFunc
 	// SummaryEvery bounds how often the summary is rewritten while running.
 	SummaryEvery time.Duration
+	// History is the history database the batch's rows are appended to;
+	// "" means OUT/history.sqlite (HistoryFile).
+	History string
 }
 
 // BatchResult tells what a batch did.
@@ -77,6 +80,9 @@ type BatchResult struct {
 	// ConfigFailures counts the rows that failed because of a job file (the
 	// batch's or one a manifest row names) rather than the scan.
 	ConfigFailures int
+	// HistoryErr is why the rows could not be added to the history
+	// database (logged; it does not change the exit code).
+	HistoryErr error
 }
 
 // ExitCode is 0 when every scan passed; 2 when a row failed because of a
@@ -382,6 +388,7 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		s.Input = input
 		return s
 	}
+	started := time.Now()
 	host, _ := os.Hostname()
 	log.printf("batch start: %d scans (shard %s) from %s into %s on %s, pid %d, %d workers",
 		len(tasks), opt.Shard, dir, out, host, os.Getpid(), opt.Workers)
@@ -433,6 +440,7 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		log.printf("writing index.html: %v", err)
 		return res, fmt.Errorf("writing index.html into %s: %w", opt.Out, err)
 	}
+	logHistory(ctx, opt, out, res, started, log)
 	log.printf("batch end: ran %d, skipped %d, not run %d, interrupted %v",
 		res.Ran, res.Skipped, res.Summary.Counts[StatusNotRun], res.Interrupted)
 	return res, nil
