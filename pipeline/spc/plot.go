@@ -77,7 +77,8 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 		p.Title.Text += fmt.Sprintf(" (provisional limits: %d points)", c.Baseline)
 	}
 	p.Y.Label.Text = l.Unit
-	p.X.Label.Text = "point (in the order measured)"
+	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4)", c.Baseline)
+	p.X.Label.TextStyle.Font.Size = vg.Points(8)
 	p.X.Tick.Marker = intTicks{}
 	n := len(c.Values)
 	lo, hi := c.LCL, c.UCL
@@ -113,8 +114,9 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = "moving range"
-	p.Y.Label.Text = "|xᵢ − xᵢ₋₁|"
-	p.X.Label.Text = "point"
+	p.Y.Label.Text = "moving range"
+	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range)"
+	p.X.Label.TextStyle.Font.Size = vg.Points(8)
 	p.X.Tick.Marker = intTicks{}
 	n := len(c.Values)
 	hi := c.MRUCL
@@ -129,7 +131,7 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	if err := c.addSeries(p, c.MR, 1); err != nil {
 		return nil, err
 	}
-	addHLine(p, c.MRCentre, false, n, "MR̄")
+	addHLine(p, c.MRCentre, false, n, "mean MR")
 	addHLine(p, c.MRUCL, true, n, "UCL")
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
 	var flagged plotter.XYs
@@ -177,6 +179,7 @@ func addHLine(p *plot.Plot, y float64, dashed bool, n int, label string) {
 		lab.TextStyle[0].XAlign = draw.XRight
 		lab.TextStyle[0].YAlign = draw.YBottom
 		lab.TextStyle[0].Font.Size = vg.Points(7)
+		lab.Offset = vg.Point{X: -vg.Points(2), Y: vg.Points(2)}
 		p.Add(lab)
 	}
 }
@@ -201,8 +204,6 @@ func addSignals(p *plot.Plot, flagged plotter.XYs) error {
 	ring.Color = inkSignal
 	ring.Radius = vg.Points(6)
 	p.Add(ring)
-	p.Legend.Add("out of control", ring)
-	p.Legend.Top = true
 	return nil
 }
 
