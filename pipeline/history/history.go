@@ -183,6 +183,9 @@ type querier interface {
 func (s *Store) version(ctx context.Context, q querier) (int, error) {
 	var app, ver, tables int
 	if err := q.QueryRowContext(ctx, "PRAGMA application_id").Scan(&app); err != nil {
+		if isBusy(err) {
+			return 0, err
+		}
 		return 0, fmt.Errorf("%w: %v", ErrNotHistory, err)
 	}
 	if err := q.QueryRowContext(ctx, "PRAGMA user_version").Scan(&ver); err != nil {

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"sync"
 	"testing"
@@ -198,5 +199,55 @@ func TestSeriesBadQuery(t *testing.T) {
 	}
 	if _, err := s.Series(context.Background(), "P", "loss_pct; DROP TABLE runs"); !errors.Is(err, ErrUnknownFigure) {
 		t.Errorf("bad figure: %v", err)
+	}
+}
+
+// Two processes (this test binary run twice as writers) append to one file
+// at once, as two batches on one machine sharing --history.
+func TestConcurrentProcesses(t *testing.T) {
+	if db := os.Getenv("GAPFLUX_HISTORY_WRITER"); db != "" {
+		writer(t, db, os.Getenv("GAPFLUX_HISTORY_NAME"))
+		return
+	}
+	db := filepath.Join(t.TempDir(), "h.sqlite")
+	var cmds []*exec.Cmd
+	for _, name := range []string{"p1", "p2"} {
+		cmd := exec.Command(os.Args[0], "-test.run=^TestConcurrentProcesses$")
+		cmd.Env = append(os.Environ(), "GAPFLUX_HISTORY_WRITER="+db, "GAPFLUX_HISTORY_NAME="+name)
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		cmds = append(cmds, cmd)
+	}
+	for _, cmd := range cmds {
+		if err := cmd.Wait(); err != nil {
+			t.Fatalf("writer process: %v", err)
+		}
+	}
+	s, err := OpenExisting(context.Background(), db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	if runs, rows, err := s.Counts(context.Background()); err != nil || runs != 20 || rows != 200 {
+		t.Fatalf("%d runs, %d rows (%v); want 20 and 200", runs, rows, err)
+	}
+}
+
+func writer(t *testing.T, db, name string) {
+	ctx := context.Background()
+	s, err := Open(ctx, db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	for b := range 10 {
+		var rows []Row
+		for k := range 10 {
+			rows = append(rows, row(fmt.Sprintf("%s/%d/%d.stl", name, b, k), "PN", fmt.Sprint(name, b, k), 1))
+		}
+		if _, _, err := s.Append(ctx, Run{Started: time.Unix(int64(b), 0)}, rows); err != nil {
+			t.Fatal(err)
+		}
 	}
 }
