@@ -14,7 +14,7 @@
 //
 // Version 1:
 //
-//	runs(run_id INTEGER PRIMARY KEY, started_utc TEXT, summary_sha256 TEXT,
+//	runs(run_id INTEGER PRIMARY KEY, started_utc TEXT (UTC, fixed-width RFC 3339), summary_sha256 TEXT,
 //	     output_dir TEXT, rows_added INTEGER)
 //	measurements(run_id, path, part_number, lot, status, quality,
 //	     input_sha256, job_sha256, <one REAL column per name in Figures>,
@@ -60,6 +60,10 @@ const ApplicationID = 0x67666873
 
 // BusyTimeout is how long a statement waits for another writer's lock.
 const BusyTimeout = 10 * time.Second
+
+// timeLayout stores times in UTC with a fixed width, so that the text
+// sorts in time order (RFC 3339 with nanoseconds, trailing zeros kept).
+const timeLayout = "2006-01-02T15:04:05.000000000Z07:00"
 
 // maxAttempts bounds the retries of a write transaction that still found
 // the database busy after BusyTimeout.
@@ -317,7 +321,7 @@ func (s *Store) Append(ctx context.Context, run Run, rows []Row) (runID int64, a
 	err = s.withTx(ctx, func(ctx context.Context, tx *sql.Tx) error {
 		runID, added = 0, 0
 		res, err := tx.ExecContext(ctx, `INSERT INTO runs(started_utc, summary_sha256, output_dir, rows_added) VALUES (?, ?, ?, 0)`,
-			run.Started.UTC().Format(time.RFC3339Nano), run.SummarySHA256, run.OutputDir)
+			run.Started.UTC().Format(timeLayout), run.SummarySHA256, run.OutputDir)
 		if err != nil {
 			return err
 		}

@@ -62,7 +62,18 @@ func TestAppendKeysOnPathInputJob(t *testing.T) {
 			t.Errorf("point %d = %v, want %v", i, p.Value, want[i])
 		}
 	}
-	if !pts[2].Started.Equal(t0.Add(24 * time.Hour)) {
+	// Order within one second: a start 0.5 s later sorts after (a text
+	// column of variable-width times would put "00.5Z" before "00Z").
+	if _, _, err := s.Append(ctx, Run{Started: t0.Add(-500 * time.Millisecond)}, []Row{row("c.stl", "PN-1", "sha-c", 1)}); err != nil {
+		t.Fatal(err)
+	}
+	if _, _, err := s.Append(ctx, Run{Started: t0.Add(-time.Second)}, []Row{row("d.stl", "PN-1", "sha-d", 2)}); err != nil {
+		t.Fatal(err)
+	}
+	if pts, _ = s.Series(ctx, "PN-1", "loss_pct"); len(pts) != 6 || pts[0].Value != 2 || pts[1].Value != 1 || pts[2].Value != 3 {
+		t.Errorf("series after two earlier runs: %+v, want 2, 1, 3, ...", pts)
+	}
+	if !pts[4].Started.Equal(t0.Add(24 * time.Hour)) {
 		t.Errorf("point 3 started %v, want night 2", pts[2].Started)
 	}
 }
