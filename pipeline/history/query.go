@@ -69,7 +69,7 @@ ORDER BY r.started_utc, m.run_id, m.path`, figure, figure)
 		if err := rows.Scan(&p.RunID, &started, &p.Path, &p.Lot, &p.Status, &p.InputSHA256, &p.Value); err != nil {
 			return nil, fmt.Errorf("history %s: %w", s.path, err)
 		}
-		if p.Started, err = time.Parse(timeLayout, started); err != nil {
+		if p.Started, err = time.Parse(time.RFC3339Nano, started); err != nil { // any RFC 3339 width
 			return nil, fmt.Errorf("history %s: run %d: start time %q: %w", s.path, p.RunID, started, err)
 		}
 		out = append(out, p)

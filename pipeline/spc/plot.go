@@ -207,23 +207,25 @@ func addSignals(p *plot.Plot, flagged plotter.XYs) error {
 	return nil
 }
 
-// intTicks labels whole point numbers only.
+// intTicks labels whole point numbers: every 1, 2, 5, 10, 20, 50, ...
+// points, the smallest step giving at most 12 labels.
 type intTicks struct{}
 
 func (intTicks) Ticks(lo, hi float64) []plot.Tick {
-	ticks := plot.DefaultTicks{}.Ticks(lo, hi)
-	out := ticks[:0]
-	for _, t := range ticks {
-		if t.Value != math.Trunc(t.Value) {
-			if t.Label == "" {
-				out = append(out, t)
-			}
-			continue
-		}
-		if t.Label != "" {
-			t.Label = strconv.Itoa(int(t.Value))
-		}
-		out = append(out, t)
+	first, last := int(math.Ceil(lo)), int(math.Floor(hi))
+	if last < first {
+		return nil
 	}
-	return out
+	step := 1
+	for k := 0; (last-first)/step >= 12; k++ {
+		step = []int{2, 5, 10}[k%3] * int(math.Pow(10, float64(k/3)))
+	}
+	var ticks []plot.Tick
+	for v := (first + step - 1) / step * step; v <= last; v += step {
+		ticks = append(ticks, plot.Tick{Value: float64(v), Label: strconv.Itoa(v)})
+	}
+	if first == 1 && (len(ticks) == 0 || ticks[0].Value != 1) {
+		ticks = append([]plot.Tick{{Value: 1, Label: "1"}}, ticks...)
+	}
+	return ticks
 }

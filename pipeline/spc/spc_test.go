@@ -237,3 +237,22 @@ func TestWrite(t *testing.T) {
 		t.Error("gif: no error")
 	}
 }
+
+func TestIntTicks(t *testing.T) {
+	for _, tc := range []struct {
+		lo, hi float64
+		want   []float64
+	}{
+		{0.5, 2.5, []float64{1, 2}},
+		{0.5, 36.5, []float64{1, 5, 10, 15, 20, 25, 30, 35}},
+		{0.5, 400.5, []float64{1, 50, 100, 150, 200, 250, 300, 350, 400}},
+	} {
+		var got []float64
+		for _, tk := range (intTicks{}).Ticks(tc.lo, tc.hi) {
+			got = append(got, tk.Value)
+		}
+		if !slices.Equal(got, tc.want) {
+			t.Errorf("ticks of [%v, %v] = %v, want %v", tc.lo, tc.hi, got, tc.want)
+		}
+	}
+}
