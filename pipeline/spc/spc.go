@@ -23,9 +23,11 @@ import (
 )
 
 // Control-chart constants for subgroups of n = 2 (the moving range of two
-// successive individuals). Source: Montgomery 2013, Appendix Table VI;
-// ISO 7870-2:2013, Table 2; the same values are tabulated by PQ Systems'
-// formula pages (E₂ = 2.660, D₄ = 3.268 there, rounded the other way).
+// successive individuals). Source: Montgomery 2013, Appendix Table VI, and
+// ISO 7870-2:2013's table of factors (both from memory); checked against
+// the tables of PQ Systems' "Quality Advisor" formula pages (E₂ = 2.660 =
+// 3/d₂, D₄ = 3.268 there, rounded the other way) and JMP's documentation of
+// individuals-chart limits (σ̂ = MR̄/d₂(2)).
 const (
 	D2 = 1.128 // expected range of two standard normal values
 	D4 = 3.267 // upper moving-range limit factor

@@ -141,9 +141,10 @@ func TestStepShiftFlagged(t *testing.T) {
 //	WE4: 2·(1/2)⁸                                  = 0.00781
 //
 // (a point "fires" when it completes the pattern; the in-control average
-// run length of the four rules together is 91.75 points, Champ & Woodall
-// 1987, Technometrics 29(4) — the per-point rate differs because signals
-// cluster.) Tolerance: ±25 % of the nominal count, about 4 standard errors
+// run length of the four rules together is 91.75 points — Champ & Woodall
+// 1987, Technometrics 29(4), from memory; the figure checked against the
+// Wikipedia article "Western Electric rules" — the per-point rate differs
+// because signals cluster.) Tolerance: ±25 % of the nominal count, about 4 standard errors
 // for 100 000 points after allowing for clustering (a run rule's signals
 // come in bursts of about 2 for WE4, which triples the variance).
 func TestFalseAlarmRate(t *testing.T) {
