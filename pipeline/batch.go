@@ -69,6 +69,9 @@ type BatchOptions struct {
 	// (the command line's job flags win over every job file; the row's own
 	// columns win over both). Job has it applied already.
 	Override func(Job) (Job, error)
+	// History is the history database the batch's rows are appended to;
+	// "" means OUT/history.sqlite (HistoryFile).
+	History string
 }
 
 // BatchResult tells what a batch did.
@@ -81,6 +84,9 @@ type BatchResult struct {
 	// ConfigFailures counts the rows that failed because of a job file (the
 	// batch's or one a manifest row names) rather than the scan.
 	ConfigFailures int
+	// HistoryErr is why the rows could not be added to the history
+	// database (logged; it does not change the exit code).
+	HistoryErr error
 }
 
 // ExitCode is 0 when every scan passed; 2 when a row failed because of a
@@ -386,6 +392,7 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		s.Input = input
 		return s
 	}
+	started := time.Now()
 	host, _ := os.Hostname()
 	log.printf("batch start: %s (shard %s) from %s into %s on %s, pid %d, %s",
 		counted(len(tasks), "scan", "scans"), opt.Shard, dir, out, host, os.Getpid(), counted(opt.Workers, "worker", "workers"))
@@ -437,6 +444,7 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		log.printf("writing index.html: %v", err)
 		return res, fmt.Errorf("writing index.html into %s: %w", opt.Out, err)
 	}
+	logHistory(ctx, opt, out, res, started, log)
 	log.printf("batch end: ran %d, skipped %d, not run %d, interrupted %v",
 		res.Ran, res.Skipped, res.Summary.Counts[StatusNotRun], res.Interrupted)
 	return res, nil

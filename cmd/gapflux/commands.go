@@ -91,6 +91,7 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	quiet := fs.Bool("quiet", false, "print nothing but errors (for cron)")
 	progress := fs.String("progress", "auto", "auto (bar on a terminal, lines otherwise), bar, lines or none")
 	jf := addJobFlags(fs, "job file (default: DIR/job.toml when present, else the built-in defaults)")
+	hist := fs.String("history", "", "history database the batch's rows are added to (default OUT/history.sqlite)")
 	if err := parse(fs, args); err != nil {
 		return exitUsage, err
 	}
@@ -106,7 +107,7 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	if err != nil {
 		return exitUsage, err
 	}
-	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force, Override: jf.apply}
+	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force, Override: jf.apply, History: *hist}
 	if *shard != "" {
 		if opt.Shard, err = pipeline.ParseShard(*shard); err != nil {
 			return exitUsage, usageError{err}
@@ -141,6 +142,9 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 		// run maps configuration errors to exitUsage and the rest (a summary
 		// that could not be written) to exitFail.
 		return exitFail, err
+	}
+	if res.HistoryErr != nil {
+		fmt.Fprintf(stderr, "gapflux batch: warning: %v\n", res.HistoryErr)
 	}
 	if !*quiet {
 		c := res.Summary.Counts

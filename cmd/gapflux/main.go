@@ -43,6 +43,8 @@ commands:
                  two scans (or report folders) of one base: what changed
   merge OUT1 OUT2 ... --out OUT
                  combine the outputs of batch shards into one summary
+  trend --history DB [--part P] [--figure loss_pct] --out DIR
+                 control charts (individuals, moving range) per part number
   synth [--shape dish] [--sag-mm 0.4] ... --out FILE
                  write a synthetic scan of an invented pan (or --hob-top)
   demo [--out DIR]
@@ -112,6 +114,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int
 		code, err = cmdCompare(ctx, args[1:], stdout, stderr)
 	case "merge":
 		code, err = cmdMerge(args[1:], stdout, stderr)
+	case "trend":
+		code, err = cmdTrend(ctx, args[1:], stdout, stderr)
 	case "synth":
 		err = cmdSynth(args[1:], stdout, stderr)
 	case "demo":

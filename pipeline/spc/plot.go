@@ -1,0 +1,231 @@
+package spc
+
+import (
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"strconv"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
+)
+
+// Labels name what a chart shows.
+type Labels struct {
+	Title string // e.g. "part PN-100: loss_pct"
+	Unit  string // the axis label of the individuals, e.g. "loss_pct (%)"
+}
+
+// Picture size and resolution.
+const (
+	pictureW   = 7 * vg.Inch
+	pictureH   = 6 * vg.Inch
+	pictureDPI = 120
+)
+
+// Ink of the charts: dark grey data, black limits, signals as large open
+// squares so they stay visible in greyscale.
+var (
+	inkData   = color.NRGBA{R: 0x30, G: 0x30, B: 0x40, A: 0xff}
+	inkLimit  = color.NRGBA{R: 0x00, G: 0x00, B: 0x00, A: 0xff}
+	inkSignal = color.NRGBA{R: 0xb0, G: 0x10, B: 0x10, A: 0xff}
+	inkBase   = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
+)
+
+// Write draws the chart as PNG or SVG ("png", "svg"): the individuals on
+// top, the moving ranges below, each with its centre line (solid) and
+// limits (dashed), a dotted line after the last baseline point, and points
+// that break a rule marked with an open square.
+func (c *Chart) Write(w io.Writer, format string, l Labels) error {
+	var cw vg.CanvasWriterTo
+	switch format {
+	case "png":
+		cw = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(pictureW, pictureH), vgimg.UseDPI(pictureDPI))}
+	case "svg":
+		cw = vgsvg.NewWith(vgsvg.UseWH(pictureW, pictureH))
+	default:
+		return fmt.Errorf("picture format %q: want png or svg", format)
+	}
+	top, err := c.individualsPanel(l)
+	if err != nil {
+		return err
+	}
+	bottom, err := c.rangePanel(l)
+	if err != nil {
+		return err
+	}
+	plots := [][]*plot.Plot{{top}, {bottom}}
+	dc := draw.New(cw)
+	tiles := draw.Tiles{Rows: 2, Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadX: vg.Points(6), PadY: vg.Points(10),
+		PadLeft: vg.Points(4), PadRight: vg.Points(10)}
+	canvases := plot.Align(plots, tiles, dc)
+	top.Draw(canvases[0][0])
+	bottom.Draw(canvases[1][0])
+	_, err = cw.WriteTo(w)
+	return err
+}
+
+func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
+	p := plot.New()
+	p.Title.Text = l.Title + ": individuals"
+	if c.Provisional {
+		p.Title.Text += fmt.Sprintf(" (provisional limits: %d points)", c.Baseline)
+	}
+	p.Y.Label.Text = l.Unit
+	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4)", c.Baseline)
+	p.X.Label.TextStyle.Font.Size = vg.Points(8)
+	p.X.Tick.Marker = intTicks{}
+	n := len(c.Values)
+	lo, hi := c.LCL, c.UCL
+	for _, v := range c.Values {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	pad := 0.08 * (hi - lo)
+	if pad == 0 {
+		pad = 1
+	}
+	p.Y.Min, p.Y.Max = lo-pad, hi+pad
+	p.X.Min, p.X.Max = 0.5, float64(n)+0.5
+	if err := c.addSeries(p, c.Values, 0); err != nil {
+		return nil, err
+	}
+	for _, h := range []struct {
+		y      float64
+		dashed bool
+		label  string
+	}{{c.Centre, false, "CL"}, {c.UCL, true, "UCL"}, {c.LCL, true, "LCL"}} {
+		addHLine(p, h.y, h.dashed, n, h.label)
+	}
+	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
+	var flagged plotter.XYs
+	for i, s := range c.Signals {
+		if len(s) > 0 {
+			flagged = append(flagged, plotter.XY{X: float64(i + 1), Y: c.Values[i]})
+		}
+	}
+	return p, addSignals(p, flagged)
+}
+
+func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
+	p := plot.New()
+	p.Title.Text = "moving range"
+	p.Y.Label.Text = "moving range"
+	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range)"
+	p.X.Label.TextStyle.Font.Size = vg.Points(8)
+	p.X.Tick.Marker = intTicks{}
+	n := len(c.Values)
+	hi := c.MRUCL
+	for _, v := range c.MR[1:] {
+		hi = math.Max(hi, v)
+	}
+	if hi == 0 {
+		hi = 1
+	}
+	p.Y.Min, p.Y.Max = 0, hi*1.08
+	p.X.Min, p.X.Max = 0.5, float64(n)+0.5
+	if err := c.addSeries(p, c.MR, 1); err != nil {
+		return nil, err
+	}
+	addHLine(p, c.MRCentre, false, n, "mean MR")
+	addHLine(p, c.MRUCL, true, n, "UCL")
+	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
+	var flagged plotter.XYs
+	for i, s := range c.MRSignals {
+		if s {
+			flagged = append(flagged, plotter.XY{X: float64(i + 1), Y: c.MR[i]})
+		}
+	}
+	return p, addSignals(p, flagged)
+}
+
+// addSeries draws v[from:] as a line with dots at x = index+1.
+func (c *Chart) addSeries(p *plot.Plot, v []float64, from int) error {
+	xy := make(plotter.XYs, 0, len(v))
+	for i := from; i < len(v); i++ {
+		xy = append(xy, plotter.XY{X: float64(i + 1), Y: v[i]})
+	}
+	if len(xy) == 0 {
+		return nil
+	}
+	line, points, err := plotter.NewLinePoints(xy)
+	if err != nil {
+		return err
+	}
+	line.Color = inkData
+	line.Width = vg.Points(1)
+	points.Shape = draw.CircleGlyph{}
+	points.Color = inkData
+	points.Radius = vg.Points(2.2)
+	p.Add(line, points)
+	return nil
+}
+
+func addHLine(p *plot.Plot, y float64, dashed bool, n int, label string) {
+	l, _ := plotter.NewLine(plotter.XYs{{X: 0.5, Y: y}, {X: float64(n) + 0.5, Y: y}})
+	l.Color = inkLimit
+	l.Width = vg.Points(0.8)
+	if dashed {
+		l.Dashes = []vg.Length{vg.Points(5), vg.Points(3)}
+	}
+	p.Add(l)
+	lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: float64(n) + 0.5, Y: y}},
+		Labels: []string{label + " " + strconv.FormatFloat(y, 'g', 4, 64)}})
+	if err == nil {
+		lab.TextStyle[0].XAlign = draw.XRight
+		lab.TextStyle[0].YAlign = draw.YBottom
+		lab.TextStyle[0].Font.Size = vg.Points(7)
+		lab.Offset = vg.Point{X: -vg.Points(2), Y: vg.Points(2)}
+		p.Add(lab)
+	}
+}
+
+func addBaselineMark(p *plot.Plot, baseline int, lo, hi float64) {
+	x := float64(baseline) + 0.5
+	l, _ := plotter.NewLine(plotter.XYs{{X: x, Y: lo}, {X: x, Y: hi}})
+	l.Color = inkBase
+	l.Dashes = []vg.Length{vg.Points(1), vg.Points(2)}
+	p.Add(l)
+}
+
+func addSignals(p *plot.Plot, flagged plotter.XYs) error {
+	if len(flagged) == 0 {
+		return nil
+	}
+	ring, err := plotter.NewScatter(flagged)
+	if err != nil {
+		return err
+	}
+	ring.Shape = draw.SquareGlyph{}
+	ring.Color = inkSignal
+	ring.Radius = vg.Points(6)
+	p.Add(ring)
+	return nil
+}
+
+// intTicks labels whole point numbers: every 1, 2, 5, 10, 20, 50, ...
+// points, the smallest step giving at most 12 labels.
+type intTicks struct{}
+
+func (intTicks) Ticks(lo, hi float64) []plot.Tick {
+	first, last := int(math.Ceil(lo)), int(math.Floor(hi))
+	if last < first {
+		return nil
+	}
+	step := 1
+	for k := 0; (last-first)/step >= 12; k++ {
+		step = []int{2, 5, 10}[k%3] * int(math.Pow(10, float64(k/3)))
+	}
+	var ticks []plot.Tick
+	for v := (first + step - 1) / step * step; v <= last; v += step {
+		ticks = append(ticks, plot.Tick{Value: float64(v), Label: strconv.Itoa(v)})
+	}
+	if first == 1 && (len(ticks) == 0 || ticks[0].Value != 1) {
+		ticks = append([]plot.Tick{{Value: 1, Label: "1"}}, ticks...)
+	}
+	return ticks
+}
