@@ -162,6 +162,10 @@ func Design(ctx context.Context, opt DesignOptions) (*DesignTable, error) {
 		return nil, fmt.Errorf("job: %w", err)
 	}
 	job.Hot.Enabled = true
+	// Water, zone and power left at 0 are fitted to the base, as for a scan.
+	if _, err := job.fitToBase(opt.DiameterMM); err != nil {
+		return nil, fmt.Errorf("job: %w", err)
+	}
 	base, err := newDesignBase(ctx, job, opt.DiameterMM/2e3)
 	if err != nil {
 		return nil, err
@@ -440,15 +444,5 @@ func WriteDesignChart(w io.Writer, t *DesignTable, format string) error {
 		p.X.Tick.Marker, p.Y.Tick.Marker = shortTicks{}, shortTicks{}
 	}
 	rc.panels = [2]*plot.Plot{top, bottom}
-	c, err := newCanvas(format, ringChartW, ringChartH)
-	if err != nil {
-		return err
-	}
-	plotCs, legendCs := rc.layout(draw.New(c))
-	for k, p := range rc.panels {
-		p.Draw(plotCs[k])
-		rc.legends[k].Draw(legendCs[k])
-	}
-	_, err = c.WriteTo(w)
-	return err
+	return rc.write(w, format)
 }

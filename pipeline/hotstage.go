@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"sync"
 
 	"gapflux/bow"
 	"gapflux/contact"
@@ -101,8 +102,11 @@ type hotInput struct {
 
 // solveCache runs the plate solves of the hot stage, warm-started, and
 // keeps the solutions of fixed interfaces (the flat twin) by water
-// temperature, so a design sweep solves the flat twin once.
+// temperature, so a design sweep solves the flat twin once. Its solves
+// are serialised (the heat-ups of the hot base and the flat twin call it
+// from two goroutines; one solver's work buffers serve one solve at a time).
 type solveCache struct {
+	mu     sync.Mutex
 	solver thermal.Solver
 	memo   map[solveKey]*thermal.Solution
 }
@@ -117,6 +121,8 @@ func newSolveCache() *solveCache { return &solveCache{memo: map[solveKey]*therma
 // solve solves prob with iface at water temperature tK, from start when
 // given; the solution is kept when keep is set.
 func (c *solveCache) solve(ctx context.Context, prob *thermal.Problem, iface thermal.Interface, tK float64, start *thermal.Solution, keep bool) (*thermal.Solution, error) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
 	if s := c.memo[solveKey{iface, tK}]; s != nil {
 		return s, nil
 	}
@@ -433,16 +439,7 @@ func writeHotPictures(dir string, res *Result) error {
 	if v := res.Report.Verdict; v != nil {
 		labels.Verdict = map[bool]string{true: "PASS", false: "FAIL"}[v.Pass]
 	}
-	inBase := func(src []float64, scale float64) []float64 {
-		out := make([]float64, len(src))
-		for k, v := range src {
-			out[k] = math.NaN()
-			if s.InBase(k) {
-				out[k] = v * scale
-			}
-		}
-		return out
-	}
+	inBase := func(src []float64, scale float64) []float64 { return baseValues(s, src, scale) }
 	spec := &MapSpec{Title: "hot gap under " + res.Name, Labels: labels, Unit: "gap when hot (mm)", Nx: s.Nx, Ny: s.Ny,
 		X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, CellMM: s.CellM * 1e3, Values: inBase(h.GapM, 1e3),
 		Controls: gapControls, MarkLabel: "support points when hot", BaseRadiusMM: res.RadiusM * 1e3,

@@ -599,6 +599,12 @@ func WriteRingChart(w io.Writer, s *RingChartSpec, format string) error {
 	if err != nil {
 		return err
 	}
+	return rc.write(w, format)
+}
+
+// write draws the chart's two panels and their legends as format ("png"
+// or "svg") to w.
+func (rc *ringChart) write(w io.Writer, format string) error {
 	c, err := newCanvas(format, ringChartW, ringChartH)
 	if err != nil {
 		return err
@@ -848,16 +854,7 @@ func writePictures(dir string, res *Result) error {
 	}
 	title := res.Name
 	if s := res.Form; s != nil && res.GapM != nil {
-		inBase := func(src []float64, scale float64) []float64 {
-			out := make([]float64, len(src))
-			for k, v := range src {
-				out[k] = math.NaN()
-				if s.InBase(k) {
-					out[k] = v * scale
-				}
-			}
-			return out
-		}
+		inBase := func(src []float64, scale float64) []float64 { return baseValues(s, src, scale) }
 		spec := &MapSpec{Title: "gap under " + title, Labels: labels, Unit: "gap (mm)", Nx: s.Nx, Ny: s.Ny,
 			X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, CellMM: s.CellM * 1e3, Values: inBase(res.GapM, 1e3),
 			Controls: gapControls, MarkLabel: "support points", BaseRadiusMM: res.RadiusM * 1e3,
@@ -894,6 +891,19 @@ func writePictures(dir string, res *Result) error {
 		}
 	}
 	return nil
+}
+
+// baseValues returns src scaled by scale in the base cells of s and NaN
+// elsewhere (a map draws only the base).
+func baseValues(s *scan.Surface, src []float64, scale float64) []float64 {
+	out := make([]float64, len(src))
+	for k, v := range src {
+		out[k] = math.NaN()
+		if s.InBase(k) {
+			out[k] = v * scale
+		}
+	}
+	return out
 }
 
 // unmeasured marks the Filled cells of s with no Measured cell among their
