@@ -136,7 +136,7 @@ func figureSections(rep *Report, t ToleranceJob) []html.Section {
 				Flag: c < t.ConcavityMinPct-shapeTolPct || c > t.ConcavityMaxPct+shapeTolPct},
 			{Label: "flatness, minimum zone", Value: num(g.FlatnessMZMM, 3), Unit: "mm", Flag: g.FlatnessMZMM > t.FlatnessMZMaxMM},
 			{Label: "flatness, least squares", Value: num(g.FlatnessLSMM, 3), Unit: "mm"},
-			{Label: "measured cells", Value: num(g.CoveragePct, 1), Unit: "%", Note: "of the base; the rest interpolated"},
+			{Label: "coverage", Value: num(g.CoveragePct, 1), Unit: "%", Note: "of the base within 1.5 point spacings of a point; " + num(g.MeasuredCellsPct, 1) + " % of cells hold data"},
 			{Label: "scanner noise", Value: num(g.NoiseUM, 1), Unit: "µm", Note: "filter cut-off " + num(g.CutoffMM, 1) + " mm, cell " + num(g.CellMM, 2) + " mm"},
 		}})
 	}
@@ -344,10 +344,9 @@ func indexView(out string, s *Summary) *html.IndexPage {
 	text := func(t string) html.Cell { return html.Cell{Text: t, Sort: t} }
 	for _, r := range rows {
 		dir := ScanOutDir(out, r.Path)
-		ir := html.IndexRow{Name: r.Path, Status: r.Status, Note: r.Reasons, Thumb: thumbnail(filepath.Join(dir, "gap.png"), 192)}
-		if r.Status == StatusFailed {
-			ir.Note = r.Error
-		}
+		// The note is the row's reason in a few words (the summary's reason
+		// column); the page behind the link has the full text.
+		ir := html.IndexRow{Name: r.Path, Status: r.Status, Note: r.ShortReason(), Thumb: thumbnail(filepath.Join(dir, "gap.png"), 192)}
 		for _, target := range []string{"report.html", "error.json"} {
 			if _, err := os.Stat(filepath.Join(dir, target)); err == nil {
 				ir.Link = relLink(out, filepath.Join(dir, target))
