@@ -428,7 +428,9 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		}()
 	}
 	if dispatch(ctx, len(tasks), jobs) {
+		mu.Lock() // the workers' res.add may set it too
 		res.Interrupted = true
+		mu.Unlock()
 	}
 	close(jobs)
 	wg.Wait()

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"strings"
+	"sync/atomic"
 	"testing"
 	"time"
 
@@ -248,14 +249,14 @@ func TestJobProfilePathsStayInside(t *testing.T) {
 
 // countdownCtx is a context whose Err turns to context.Canceled after n
 // calls: a deterministic stand-in for a Ctrl-C in the middle of a stage.
+// It is safe for the concurrent scan and flat-twin solves.
 type countdownCtx struct {
 	context.Context
-	n int
+	n atomic.Int64
 }
 
 func (c *countdownCtx) Err() error {
-	c.n--
-	if c.n < 0 {
+	if c.n.Add(-1) < 0 {
 		return context.Canceled
 	}
 	return nil
@@ -353,7 +354,8 @@ func TestAnalyzeCancelledInsideSolve(t *testing.T) {
 	job := smallJob()
 	// Analyze checks the context a handful of times between its stages
 	// before the first solve; 12 checks end inside that solve.
-	ctx := &countdownCtx{Context: context.Background(), n: 12}
+	ctx := &countdownCtx{Context: context.Background()}
+	ctx.n.Store(12)
 	res, err := Analyze(ctx, ScanInput{PanPath: path, Name: "pan", Job: job})
 	if !errors.Is(err, context.Canceled) || res != nil {
 		t.Fatalf("result %v, error %v; want context.Canceled", res != nil, err)
