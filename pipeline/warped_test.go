@@ -5,6 +5,7 @@ import (
 	"math"
 	"testing"
 
+	"gapflux/scan"
 	"gapflux/scan/synth"
 )
 
@@ -66,7 +67,7 @@ func TestQualityGateMissingParts(t *testing.T) {
 		status string // its least status
 	}{
 		{"40 mm hole", func(s *synth.Spec) { s.HoleList = []synth.Hole{{XM: 0.03, YM: 0.01, DiameterM: 0.04}} }, "largest_hole_mm", "warn"},
-		{"90° rim sector missing", func(s *synth.Spec) { s.Sectors = []synth.Sector{{FromDeg: 0, ToDeg: 90, InnerM: 0.06}} }, "rim_missing_pct", "warn"},
+		{"90° rim sector missing", func(s *synth.Spec) { s.Sectors = []synth.Sector{{FromDeg: 0, ToDeg: 90, InnerM: 0.06}} }, "rim_largest_gap_deg", "warn"},
 		{"half the base missing", func(s *synth.Spec) { s.Sectors = []synth.Sector{{FromDeg: 90, ToDeg: 270}} }, "rim_missing_pct", "reject"},
 	}
 	for _, tc := range tests {
@@ -101,5 +102,31 @@ func TestQualityGateMissingParts(t *testing.T) {
 				t.Errorf("no check %s in %+v", tc.check, q.Checks)
 			}
 		})
+	}
+}
+
+// TestLevelMissingRimSector: with a 90° sector of the rim (and its corner
+// and wall) missing, the rim circle is still the base's: the sector's data
+// edge, 40 mm inside the rim, must not pull the fit (least-median start of
+// the circle fit). Truth: 200 mm, centred; tolerance 2 mm on the diameter
+// and the centre (the corner's foot, common practice for this check).
+func TestLevelMissingRimSector(t *testing.T) {
+	dir := t.TempDir()
+	spec := synth.Spec{Shape: synth.Dish, DiameterM: 0.2, SagM: 0.2e-3, NoiseM: 8e-6, SpacingM: 1e-3, Seed: 5,
+		Sectors: []synth.Sector{{FromDeg: 0, ToDeg: 90, InnerM: 0.06}}}
+	pan := writeSynth(t, dir, "sector", spec, synth.Encoding{Format: "xyz"})
+	c, err := scan.ReadFile(pan, scan.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	lev, err := scan.Level(c, scan.LevelOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := 2 * lev.RadiusM * 1e3; math.Abs(d-200) > 2 {
+		t.Errorf("diameter %.2f mm, want 200 ± 2", d)
+	}
+	if off := math.Hypot(lev.OriginM.X, lev.OriginM.Y) * 1e3; off > 2 {
+		t.Errorf("centre %.2f mm off, want within 2 mm", off)
 	}
 }

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
@@ -1263,10 +1264,7 @@ func profileTrend(prof, pos []float64, valid []bool, r1, r2 float64) [3]float64 
 // floor) and refits, then refines the centre and radius by geometric
 // least squares (Gauss-Newton). It returns the number of points used.
 func robustCircle(u, v []float64, floor float64) (cu, cv, r float64, used int, ok bool) {
-	keep := make([]bool, len(u))
-	for i := range keep {
-		keep[i] = true
-	}
+	keep := lmedsKeep(u, v, floor)
 	for range 4 {
 		cu, cv, r, ok = kasaCircle(u, v, keep)
 		if !ok {
@@ -1334,6 +1332,87 @@ func robustCircle(u, v []float64, floor float64) (cu, cv, r float64, used int, o
 		}
 	}
 	return cu, cv, r, used, r > 0
+}
+
+// lmedsKeep marks the points to start the circle fit from: those near the
+// circle of least median of squared residuals over seeded random triples
+// (Rousseeuw 1984, least median of squares; scale s0 = 1.4826 (1 + 5/(n−3))
+// × the median absolute residual, Rousseeuw & Leroy 1987, from memory),
+// kept when within max(2.5 s0, floor). A contiguous arc of the rim whose
+// edge the search found too far in (a missing sector: the data end there)
+// then cannot pull the first fit off centre, as it can pull the algebraic
+// fit over every point. With fewer than 8 points, no usable triple, or an
+// algebraic fit whose median residual is within 3 × the least median (+
+// floor), every point is kept.
+func lmedsKeep(u, v []float64, floor float64) []bool {
+	n := len(u)
+	keep := make([]bool, n)
+	for i := range keep {
+		keep[i] = true
+	}
+	if n < 8 {
+		return keep
+	}
+	rng := rand.New(rand.NewPCG(0x5eed, uint64(n)))
+	res := make([]float64, n)
+	best, bu, bv, br := math.Inf(1), 0.0, 0.0, 0.0
+	for range 300 {
+		i, j, k := rng.IntN(n), rng.IntN(n), rng.IntN(n)
+		cu, cv, r, ok := circleThrough(u[i], v[i], u[j], v[j], u[k], v[k])
+		if !ok {
+			continue
+		}
+		for p := range n {
+			res[p] = math.Abs(math.Hypot(u[p]-cu, v[p]-cv) - r)
+		}
+		if m := order.Select(res, n/2); m < best {
+			best, bu, bv, br = m, cu, cv, r
+		}
+	}
+	if math.IsInf(best, 1) {
+		return keep
+	}
+	// Only when the algebraic fit over every point is far worse (a group
+	// of rim points off the circle pulls it) does the least-median circle
+	// choose the start; else every point starts, as before.
+	if cu, cv, r, ok := kasaCircle(u, v, keep); ok {
+		for p := range n {
+			res[p] = math.Abs(math.Hypot(u[p]-cu, v[p]-cv) - r)
+		}
+		if all := order.Select(res, n/2); all <= 3*best+floor {
+			return keep
+		}
+	}
+	lim := max(2.5*1.4826*(1+5/float64(n-3))*best, floor)
+	kept := 0
+	for p := range n {
+		keep[p] = math.Abs(math.Hypot(u[p]-bu, v[p]-bv)-br) <= lim
+		if keep[p] {
+			kept++
+		}
+	}
+	if kept < n/2 { // not a majority: fall back to every point
+		for p := range keep {
+			keep[p] = true
+		}
+	}
+	return keep
+}
+
+// circleThrough returns the circle through three points; ok is false when
+// they are (nearly) collinear.
+func circleThrough(x1, y1, x2, y2, x3, y3 float64) (cu, cv, r float64, ok bool) {
+	ax, ay := x2-x1, y2-y1
+	bx, by := x3-x1, y3-y1
+	d := 2 * (ax*by - ay*bx)
+	scale := (ax*ax + ay*ay) * (bx*bx + by*by)
+	if d == 0 || d*d < 1e-18*scale {
+		return 0, 0, 0, false
+	}
+	a2, b2 := ax*ax+ay*ay, bx*bx+by*by
+	ux := (by*a2 - ay*b2) / d
+	uy := (ax*b2 - bx*a2) / d
+	return x1 + ux, y1 + uy, math.Hypot(ux, uy), true
 }
 
 // kasaCircle fits u² + v² + D·u + E·v + F = 0 by linear least squares over
