@@ -48,7 +48,7 @@ C2_UMK = 14387.76877
 # 0.634, F(0->20000) = 0.986; Example 12.10 (p. 768) F(0->6000) = 0.738 and,
 # between the rows 1400 and 1600, F(0->1500) = 0.014; Example 12.8 (p. 761)
 # F(0->1740) = 0.0335 and F(0->14500) = 0.9664, between rows 1600/1800 and
-# 14000/15000. Seen in a public transcription of the examples [S].
+# 14000/15000. Read in a published copy of those worked examples [S].
 # Off-row values are checked as the book gets them: linear interpolation
 # between the bracketing rows. Tolerance: half a unit of the last printed
 # digit, except at 14500: there the example's 0.9664 is 5.1e-4 above the
