@@ -78,7 +78,10 @@ func AnalyzeScan(ctx context.Context, task ScanTask, inputSHA, jobSHA string) (*
 	return res.Report, nil
 }
 
-// Analyze runs the whole chain on one scan.
+// Analyze runs the whole chain on one scan: read and level, the quality
+// gate and the base grid, the hob on that grid, then analyzeSurface and
+// judge. A scan the quality gate rejects returns its result with the
+// reason in its report and no error.
 func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	job := in.Job
 	if err := job.Validate(); err != nil {
@@ -92,117 +95,182 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		return nil, err
 	}
 	rep := &Report{Schema: SchemaReport, Warnings: []string{}}
-	res := &Result{Report: rep, Name: in.Name, Job: job}
-
-	// Read and level the pan scan.
-	cloud, fileRep, err := readScan(in.PanPath, in.Name, job, in.InputSHA)
+	a := &analysis{in: in, job: job, lib: lib, rep: rep, res: &Result{Report: rep, Name: in.Name, Job: job}}
+	if stop, err := a.readAndLevel(ctx); err != nil || stop {
+		return a.stopped(err)
+	}
+	if stop, err := a.gateAndGrid(ctx); err != nil || stop {
+		return a.stopped(err)
+	}
+	sin, err := a.padAndHob()
 	if err != nil {
 		return nil, err
 	}
+	if _, err := analyzeSurface(ctx, sin, rep, a.res); err != nil {
+		return nil, err
+	}
+	if err := judge(ctx, sin, a.grid.Raw, a.filt, a.res); err != nil {
+		return nil, err
+	}
+	return a.res, nil
+}
+
+// analysis is the state Analyze's stages hand on, in the order they fill
+// it. job is the effective job: fitting to the base and the grid's
+// automatic cell change it.
+type analysis struct {
+	in  ScanInput
+	job Job
+	lib []contact.Material
+	rep *Report
+	res *Result
+
+	qg   *gate              // the data-quality gate (DESIGN 5.0)
+	lev  *scan.Levelled     // levelled points and base radius
+	grid *scan.Gridded      // gridded heights
+	filt *scan.FilterResult // form-filtered heights
+}
+
+// stopped is what Analyze returns when a stage ends the analysis: the
+// error, or the result a rejecting quality gate left.
+func (a *analysis) stopped(err error) (*Result, error) {
+	if err != nil {
+		return nil, err
+	}
+	return a.res, nil
+}
+
+// readAndLevel reads and hashes the pan scan, records the job's hash and
+// the audit, levels the points and asks the quality gate about the
+// levelled base. stop is true when the gate rejects the scan.
+func (a *analysis) readAndLevel(ctx context.Context) (stop bool, err error) {
+	in, job, rep := a.in, a.job, a.rep
+	cloud, fileRep, err := readScan(in.PanPath, in.Name, job, in.InputSHA)
+	if err != nil {
+		return false, err
+	}
 	rep.Input.Pan = fileRep
 	rep.Warnings = append(rep.Warnings, cloud.Warnings...)
-	jobSHA := in.JobSHA
-	if jobSHA == "" {
-		hobSHA := ""
-		if in.HobPath != "" {
-			if hobSHA, err = FileSHA256(in.HobPath); err != nil {
-				return nil, fmt.Errorf("hob: %w", err)
-			}
-		}
-		if jobSHA, err = JobHash(job, hobSHA); err != nil {
-			return nil, err
-		}
+	if rep.Input.JobSHA256, err = inputJobSHA(in, job); err != nil {
+		return false, err
 	}
-	rep.Input.JobSHA256 = jobSHA
-	if rep.Audit, err = buildAudit(in, job, lib, fileRep.SHA256); err != nil {
-		return nil, fmt.Errorf("%s: audit: %w", in.Name, err)
+	if rep.Audit, err = buildAudit(in, job, a.lib, fileRep.SHA256); err != nil {
+		return false, fmt.Errorf("%s: audit: %w", in.Name, err)
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return false, err
 	}
 	footprint := sampleFootprint(cloud.Points) // Level reuses the cloud's storage
 	lev, err := scan.Level(cloud, scan.LevelOptions{
 		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg, Reuse: true})
-	qg := newGate(job, fileRep.Unit)
+	a.qg = newGate(job, fileRep.Unit)
 	var sizeErr *scan.SizeError
 	if errors.As(err, &sizeErr) {
 		// A base implausible for cookware in the unit it was read in,
 		// which another unit would make plausible: the gate rejects it
 		// with the units hint instead of failing the scan.
-		qg.in.DiameterM = sizeErr.DiameterM
-		if qg.judge(rep, false) {
-			return res, nil
+		a.qg.in.DiameterM = sizeErr.DiameterM
+		if a.qg.judge(rep, false) {
+			return true, nil
 		}
 	}
 	if err != nil {
-		return nil, stageErr(in.Name, "levelling", err)
+		return false, stageErr(in.Name, "levelling", err)
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
 	rep.Input.Pan.DistinctPoints = rep.Input.Pan.Points - lev.PointsMerged
 	cloud = nil
+	a.lev = lev
 	// The data-quality gate (DESIGN 5.0): a rejected scan stops here or
 	// after gridding, before pose and heat, with the reason in its report.
-	qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
-	if qg.judge(rep, false) {
-		return res, nil
+	a.qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
+	return a.qg.judge(rep, false), nil
+}
+
+// inputJobSHA is the job hash to record: the one given, else the hash of
+// the job and of the hob file it names.
+func inputJobSHA(in ScanInput, job Job) (string, error) {
+	if in.JobSHA != "" {
+		return in.JobSHA, nil
 	}
+	hobSHA := ""
+	if in.HobPath != "" {
+		var err error
+		if hobSHA, err = FileSHA256(in.HobPath); err != nil {
+			return "", fmt.Errorf("hob: %w", err)
+		}
+	}
+	return JobHash(job, hobSHA)
+}
+
+// gateAndGrid fits the job's base-sized defaults, bounds every grid,
+// grids and form-filters the levelled base, measures its form and asks
+// the quality gate about the grid. stop is true when the gate rejects
+// the scan.
+func (a *analysis) gateAndGrid(ctx context.Context) (stop bool, err error) {
+	name, job, rep, lev := a.in.Name, &a.job, a.rep, a.lev
 	// Water load, zone and zone power left at 0 follow the base's size.
 	if rep.Input.FittedToBase, err = job.fitToBase(2 * lev.RadiusM * 1e3); err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+		return false, fmt.Errorf("%s: %w", name, err)
 	}
 	// Every grid of the analysis is bounded before the first is allocated.
-	if err := job.planGrids(lev.RadiusM).check(&job); err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	if err := job.planGrids(lev.RadiusM).check(job); err != nil {
+		return false, fmt.Errorf("%s: %w", name, err)
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return false, err
 	}
 	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK,
 		MaxCells: job.Limits.MaxCells, MaxCellM: job.Grid.CutoffMM / 1e3 / 4})
 	if err != nil {
-		return nil, stageErr(in.Name, "gridding", err)
+		return false, stageErr(name, "gridding", err)
 	}
 	job.Grid.CellMM = grid.Raw.CellM * 1e3 // the cell used (grid.cell_mm = 0 asks for an automatic one)
-	if err := checkFilter(&job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	if err := checkFilter(job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
+		return false, fmt.Errorf("%s: %w", name, err)
 	}
 	filt, err := scan.Filter(grid.Raw, scan.FilterOptions{CutoffM: job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(job.Grid.Filter)})
 	if err != nil {
-		return nil, stageErr(in.Name, "form filter", err)
+		return false, stageErr(name, "form filter", err)
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return false, err
 	}
 	form, err := scan.MeasureForm(filt.Form, lev.RadiusM)
 	if err != nil {
-		return nil, stageErr(in.Name, "form", err)
+		return false, stageErr(name, "form", err)
 	}
-	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
-	rep.Geometry = geometryReport(form, grid, filt, lev, job)
-	qg.gridded(grid, lev, filt)
-	if qg.judge(rep, false) {
-		return res, nil
+	a.grid, a.filt = grid, filt
+	a.res.Raw, a.res.RadiusM = grid.Raw, lev.RadiusM
+	rep.Geometry = geometryReport(form, grid, filt, lev, *job)
+	a.qg.gridded(grid, lev, filt)
+	if a.qg.judge(rep, false) {
+		return true, nil
 	}
 	// The levelled points (the scan's storage, some 100 MB for 2 M points
 	// with normals) are not needed past here: let them go before the
 	// plate solves allocate theirs.
 	lev.Cloud = nil
-	if err := ctx.Err(); err != nil {
-		return nil, err
-	}
+	return false, ctx.Err()
+}
 
-	// Pad the grid to cover the glass of a heater zone (DESIGN 5.3).
+// padAndHob pads the form surface to cover the glass of a heater zone
+// (DESIGN 5.3), places the hob top on the pan grid and returns the input
+// of analyzeSurface.
+func (a *analysis) padAndHob() (SurfaceInput, error) {
+	in, job, res := a.in, a.job, a.res
 	offsetM := [2]float64{job.Pan.OffsetMM[0] / 1e3, job.Pan.OffsetMM[1] / 1e3}
 	heater := job.heated()
 	res.HeaterOn = heater
 	res.ZoneDiameterM, res.ZoneCentreM = job.Hob.ZoneDiameterMM/1e3, [2]float64{-offsetM[0], -offsetM[1]}
 	glassR := 0.0
-	surf := filt.Form
+	surf := a.filt.Form
 	if heater {
 		off := math.Hypot(offsetM[0], offsetM[1])
-		glassR = glassRadiusM(&job, off, lev.RadiusM)
+		glassR = glassRadiusM(&job, off, a.lev.RadiusM)
+		var err error
 		if surf, err = padSurface(surf, off+glassR, job.Limits.MaxCells); err != nil {
-			return nil, fmt.Errorf("%s: %w", in.Name, err)
+			return SurfaceInput{}, fmt.Errorf("%s: %w", in.Name, err)
 		}
 	}
 	res.Form = surf
@@ -210,20 +278,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	// Hob top on the pan grid.
 	hob, hobRep, err := hobSurface(in.HobPath, surf, offsetM, job)
 	if err != nil {
-		return nil, err
+		return SurfaceInput{}, err
 	}
-	rep.Input.Hob = hobRep
+	a.rep.Input.Hob = hobRep
 	res.Hob = hob
-
-	sin := SurfaceInput{Name: in.Name, Job: job, Lib: lib, Surf: surf, Hob: hob, OffsetM: offsetM,
-		GlassRM: glassR, Heater: heater, RadiusM: lev.RadiusM, gate: qg}
-	if _, err := analyzeSurface(ctx, sin, rep, res); err != nil {
-		return nil, err
-	}
-	if err := judge(ctx, sin, grid.Raw, filt, res); err != nil {
-		return nil, err
-	}
-	return res, nil
+	return SurfaceInput{Name: in.Name, Job: job, Lib: a.lib, Surf: surf, Hob: hob, OffsetM: offsetM,
+		GlassRM: glassR, Heater: heater, RadiusM: a.lev.RadiusM, gate: a.qg}, nil
 }
 
 // analyzeSurface runs the chain from the (padded) form surface on: rest
