@@ -78,7 +78,10 @@ func AnalyzeScan(ctx context.Context, task ScanTask, inputSHA, jobSHA string) (*
 	return res.Report, nil
 }
 
-// Analyze runs the whole chain on one scan.
+// Analyze runs the whole chain on one scan: read and level, the quality
+// gate and the base grid, the hob on that grid, then analyzeSurface and
+// judge. A scan the quality gate rejects returns its result with the
+// reason in its report and no error.
 func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	job := in.Job
 	if err := job.Validate(); err != nil {
@@ -92,117 +95,182 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 		return nil, err
 	}
 	rep := &Report{Schema: SchemaReport, Warnings: []string{}}
-	res := &Result{Report: rep, Name: in.Name, Job: job}
-
-	// Read and level the pan scan.
-	cloud, fileRep, err := readScan(in.PanPath, in.Name, job, in.InputSHA)
+	a := &analysis{in: in, job: job, lib: lib, rep: rep, res: &Result{Report: rep, Name: in.Name, Job: job}}
+	if stop, err := a.readAndLevel(ctx); err != nil || stop {
+		return a.stopped(err)
+	}
+	if stop, err := a.gateAndGrid(ctx); err != nil || stop {
+		return a.stopped(err)
+	}
+	sin, err := a.padAndHob()
 	if err != nil {
 		return nil, err
 	}
+	if _, err := analyzeSurface(ctx, sin, rep, a.res); err != nil {
+		return nil, err
+	}
+	if err := judge(ctx, sin, a.grid.Raw, a.filt, a.res); err != nil {
+		return nil, err
+	}
+	return a.res, nil
+}
+
+// analysis is the state Analyze's stages hand on, in the order they fill
+// it. job is the effective job: fitting to the base and the grid's
+// automatic cell change it.
+type analysis struct {
+	in  ScanInput
+	job Job
+	lib []contact.Material
+	rep *Report
+	res *Result
+
+	qg   *gate              // the data-quality gate (DESIGN 5.0)
+	lev  *scan.Levelled     // levelled points and base radius
+	grid *scan.Gridded      // gridded heights
+	filt *scan.FilterResult // form-filtered heights
+}
+
+// stopped is what Analyze returns when a stage ends the analysis: the
+// error, or the result a rejecting quality gate left.
+func (a *analysis) stopped(err error) (*Result, error) {
+	if err != nil {
+		return nil, err
+	}
+	return a.res, nil
+}
+
+// readAndLevel reads and hashes the pan scan, records the job's hash and
+// the audit, levels the points and asks the quality gate about the
+// levelled base. stop is true when the gate rejects the scan.
+func (a *analysis) readAndLevel(ctx context.Context) (stop bool, err error) {
+	in, job, rep := a.in, a.job, a.rep
+	cloud, fileRep, err := readScan(in.PanPath, in.Name, job, in.InputSHA)
+	if err != nil {
+		return false, err
+	}
 	rep.Input.Pan = fileRep
 	rep.Warnings = append(rep.Warnings, cloud.Warnings...)
-	jobSHA := in.JobSHA
-	if jobSHA == "" {
-		hobSHA := ""
-		if in.HobPath != "" {
-			if hobSHA, err = FileSHA256(in.HobPath); err != nil {
-				return nil, fmt.Errorf("hob: %w", err)
-			}
-		}
-		if jobSHA, err = JobHash(job, hobSHA); err != nil {
-			return nil, err
-		}
+	if rep.Input.JobSHA256, err = inputJobSHA(in, job); err != nil {
+		return false, err
 	}
-	rep.Input.JobSHA256 = jobSHA
-	if rep.Audit, err = buildAudit(in, job, lib, fileRep.SHA256); err != nil {
-		return nil, fmt.Errorf("%s: audit: %w", in.Name, err)
+	if rep.Audit, err = buildAudit(in, job, a.lib, fileRep.SHA256); err != nil {
+		return false, fmt.Errorf("%s: audit: %w", in.Name, err)
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return false, err
 	}
 	footprint := sampleFootprint(cloud.Points) // Level reuses the cloud's storage
 	lev, err := scan.Level(cloud, scan.LevelOptions{
 		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg, Reuse: true})
-	qg := newGate(job, fileRep.Unit)
+	a.qg = newGate(job, fileRep.Unit)
 	var sizeErr *scan.SizeError
 	if errors.As(err, &sizeErr) {
 		// A base implausible for cookware in the unit it was read in,
 		// which another unit would make plausible: the gate rejects it
 		// with the units hint instead of failing the scan.
-		qg.in.DiameterM = sizeErr.DiameterM
-		if qg.judge(rep, false) {
-			return res, nil
+		a.qg.in.DiameterM = sizeErr.DiameterM
+		if a.qg.judge(rep, false) {
+			return true, nil
 		}
 	}
 	if err != nil {
-		return nil, stageErr(in.Name, "levelling", err)
+		return false, stageErr(in.Name, "levelling", err)
 	}
 	rep.Warnings = append(rep.Warnings, lev.Warnings...)
 	rep.Input.Pan.DistinctPoints = rep.Input.Pan.Points - lev.PointsMerged
 	cloud = nil
+	a.lev = lev
 	// The data-quality gate (DESIGN 5.0): a rejected scan stops here or
 	// after gridding, before pose and heat, with the reason in its report.
-	qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
-	if qg.judge(rep, false) {
-		return res, nil
+	a.qg.levelled(lev, footprint, job.Quality.FootprintBandMM/1e3)
+	return a.qg.judge(rep, false), nil
+}
+
+// inputJobSHA is the job hash to record: the one given, else the hash of
+// the job and of the hob file it names.
+func inputJobSHA(in ScanInput, job Job) (string, error) {
+	if in.JobSHA != "" {
+		return in.JobSHA, nil
 	}
+	hobSHA := ""
+	if in.HobPath != "" {
+		var err error
+		if hobSHA, err = FileSHA256(in.HobPath); err != nil {
+			return "", fmt.Errorf("hob: %w", err)
+		}
+	}
+	return JobHash(job, hobSHA)
+}
+
+// gateAndGrid fits the job's base-sized defaults, bounds every grid,
+// grids and form-filters the levelled base, measures its form and asks
+// the quality gate about the grid. stop is true when the gate rejects
+// the scan.
+func (a *analysis) gateAndGrid(ctx context.Context) (stop bool, err error) {
+	name, job, rep, lev := a.in.Name, &a.job, a.rep, a.lev
 	// Water load, zone and zone power left at 0 follow the base's size.
 	if rep.Input.FittedToBase, err = job.fitToBase(2 * lev.RadiusM * 1e3); err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+		return false, fmt.Errorf("%s: %w", name, err)
 	}
 	// Every grid of the analysis is bounded before the first is allocated.
-	if err := job.planGrids(lev.RadiusM).check(&job); err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	if err := job.planGrids(lev.RadiusM).check(job); err != nil {
+		return false, fmt.Errorf("%s: %w", name, err)
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return false, err
 	}
 	grid, err := scan.Grid(lev, scan.GridOptions{CellM: job.Grid.CellMM / 1e3, OutlierK: job.Grid.OutlierK,
 		MaxCells: job.Limits.MaxCells, MaxCellM: job.Grid.CutoffMM / 1e3 / 4})
 	if err != nil {
-		return nil, stageErr(in.Name, "gridding", err)
+		return false, stageErr(name, "gridding", err)
 	}
 	job.Grid.CellMM = grid.Raw.CellM * 1e3 // the cell used (grid.cell_mm = 0 asks for an automatic one)
-	if err := checkFilter(&job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
-		return nil, fmt.Errorf("%s: %w", in.Name, err)
+	if err := checkFilter(job, "the base grid", grid.Raw.Nx, grid.Raw.Ny); err != nil {
+		return false, fmt.Errorf("%s: %w", name, err)
 	}
 	filt, err := scan.Filter(grid.Raw, scan.FilterOptions{CutoffM: job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(job.Grid.Filter)})
 	if err != nil {
-		return nil, stageErr(in.Name, "form filter", err)
+		return false, stageErr(name, "form filter", err)
 	}
 	if err := ctx.Err(); err != nil {
-		return nil, err
+		return false, err
 	}
 	form, err := scan.MeasureForm(filt.Form, lev.RadiusM)
 	if err != nil {
-		return nil, stageErr(in.Name, "form", err)
+		return false, stageErr(name, "form", err)
 	}
-	res.Raw, res.RadiusM = grid.Raw, lev.RadiusM
-	rep.Geometry = geometryReport(form, grid, filt, lev, job)
-	qg.gridded(grid, lev, filt)
-	if qg.judge(rep, false) {
-		return res, nil
+	a.grid, a.filt = grid, filt
+	a.res.Raw, a.res.RadiusM = grid.Raw, lev.RadiusM
+	rep.Geometry = geometryReport(form, grid, filt, lev, *job)
+	a.qg.gridded(grid, lev, filt)
+	if a.qg.judge(rep, false) {
+		return true, nil
 	}
 	// The levelled points (the scan's storage, some 100 MB for 2 M points
 	// with normals) are not needed past here: let them go before the
 	// plate solves allocate theirs.
 	lev.Cloud = nil
-	if err := ctx.Err(); err != nil {
-		return nil, err
-	}
+	return false, ctx.Err()
+}
 
-	// Pad the grid to cover the glass of a heater zone (DESIGN 5.3).
+// padAndHob pads the form surface to cover the glass of a heater zone
+// (DESIGN 5.3), places the hob top on the pan grid and returns the input
+// of analyzeSurface.
+func (a *analysis) padAndHob() (SurfaceInput, error) {
+	in, job, res := a.in, a.job, a.res
 	offsetM := [2]float64{job.Pan.OffsetMM[0] / 1e3, job.Pan.OffsetMM[1] / 1e3}
 	heater := job.heated()
 	res.HeaterOn = heater
 	res.ZoneDiameterM, res.ZoneCentreM = job.Hob.ZoneDiameterMM/1e3, [2]float64{-offsetM[0], -offsetM[1]}
 	glassR := 0.0
-	surf := filt.Form
+	surf := a.filt.Form
 	if heater {
 		off := math.Hypot(offsetM[0], offsetM[1])
-		glassR = glassRadiusM(&job, off, lev.RadiusM)
+		glassR = glassRadiusM(&job, off, a.lev.RadiusM)
+		var err error
 		if surf, err = padSurface(surf, off+glassR, job.Limits.MaxCells); err != nil {
-			return nil, fmt.Errorf("%s: %w", in.Name, err)
+			return SurfaceInput{}, fmt.Errorf("%s: %w", in.Name, err)
 		}
 	}
 	res.Form = surf
@@ -210,20 +278,12 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 	// Hob top on the pan grid.
 	hob, hobRep, err := hobSurface(in.HobPath, surf, offsetM, job)
 	if err != nil {
-		return nil, err
+		return SurfaceInput{}, err
 	}
-	rep.Input.Hob = hobRep
+	a.rep.Input.Hob = hobRep
 	res.Hob = hob
-
-	sin := SurfaceInput{Name: in.Name, Job: job, Lib: lib, Surf: surf, Hob: hob, OffsetM: offsetM,
-		GlassRM: glassR, Heater: heater, RadiusM: lev.RadiusM, gate: qg}
-	if _, err := analyzeSurface(ctx, sin, rep, res); err != nil {
-		return nil, err
-	}
-	if err := judge(ctx, sin, grid.Raw, filt, res); err != nil {
-		return nil, err
-	}
-	return res, nil
+	return SurfaceInput{Name: in.Name, Job: job, Lib: a.lib, Surf: surf, Hob: hob, OffsetM: offsetM,
+		GlassRM: glassR, Heater: heater, RadiusM: a.lev.RadiusM, gate: a.qg}, nil
 }
 
 // analyzeSurface runs the chain from the (padded) form surface on: rest
@@ -231,153 +291,242 @@ func Analyze(ctx context.Context, in ScanInput) (*Result, error) {
 // twin, rings and heat-up, filling rep and res. It reads no file, so the
 // uncertainty trials re-run it on perturbed inputs (stages.go).
 func analyzeSurface(ctx context.Context, in SurfaceInput, rep *Report, res *Result) (*Result, error) {
-	job, lib, surf, hob, qg := in.Job, in.Lib, in.Surf, in.Hob, in.gate
-	offsetM, glassR, heater := in.OffsetM, in.GlassRM, in.Heater
-	warn := func(format string, a ...any) { rep.Warnings = append(rep.Warnings, fmt.Sprintf(format, a...)) }
-
-	// Rest pose, gap and contact.
-	ip, err := interfaceParams(job, lib)
-	if err != nil {
+	s := &surfaceRun{ctx: ctx, in: in, rep: rep, res: res}
+	if err := s.poseAndGap(); err != nil {
 		return nil, err
 	}
-	loadN := (job.Pan.MassKg + job.Water.MassKg) * gravityMS2
+	if err := s.interfaceFields(); err != nil {
+		return nil, err
+	}
+	if err := s.solveBoth(); err != nil {
+		return nil, err
+	}
+	if err := s.glassHeat(); err != nil {
+		return nil, err
+	}
+	if err := s.heatChecks(); err != nil {
+		return nil, err
+	}
+	if err := s.heatup(); err != nil {
+		return nil, err
+	}
+	if err := s.hot(); err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// surfaceRun is the state analyzeSurface's stages hand on, in the order
+// they fill it.
+type surfaceRun struct {
+	ctx context.Context
+	in  SurfaceInput
+	rep *Report
+	res *Result
+
+	// poseAndGap
+	ip         contact.InterfaceParams
+	loadN      float64   // pan and water weight, N
+	inBase     []bool    // cells of the base
+	cellA      float64   // cell area, m²
+	gap        []float64 // gap to the hob, m
+	mask       []bool    // cells in contact
+	pressurePa float64   // mean contact pressure, Pa
+
+	// interfaceFields
+	scanField, flatField *contact.Field
+	baseArea             float64 // base area, m²
+	prob                 *thermal.Problem
+
+	// solveBoth
+	chains           map[thermal.Interface]*solveChain
+	steadyK          float64 // steady water temperature, K
+	solScan, solFlat *thermal.Solution
+}
+
+// solve solves the plate problem with iface at water temperature tWaterK
+// (K), from iface's previous solution. Each interface's solves start from
+// its previous solution (the heat-up samples neighbouring water
+// temperatures in a fixed order, so this stays deterministic).
+func (s *surfaceRun) solve(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
+	return s.chains[iface].solve(s.ctx, s.prob, iface, tWaterK)
+}
+
+// poseAndGap finds the rest pose on the hob, the gap and contact map and
+// the contact pressure, and lets the quality gate warn about noise.
+func (s *surfaceRun) poseAndGap() error {
+	job, surf, hob, rep, res := s.in.Job, s.in.Surf, s.in.Hob, s.rep, s.res
+	ip, err := interfaceParams(job, s.in.Lib)
+	if err != nil {
+		return err
+	}
+	s.ip = ip
+	s.loadN = (job.Pan.MassKg + job.Water.MassKg) * gravityMS2
 	comM := [2]float64{job.Pan.CentreOfMassMM[0] / 1e3, job.Pan.CentreOfMassMM[1] / 1e3}
 	pose, err := contact.Rest(surf, hob, contact.RestOptions{
 		CentreOfMassM: comM, RockLimitM: job.Grid.RockMM / 1e3, Seed: restSeed,
-		BandM: contact.ContactBandSigmas * ip.SigmaM, WeightN: loadN, TipForceLimitN: job.Grid.RockForceN})
+		BandM: contact.ContactBandSigmas * ip.SigmaM, WeightN: s.loadN, TipForceLimitN: job.Grid.RockForceN})
 	if err != nil {
-		return nil, stageErr(in.Name, "rest pose", err)
+		return stageErr(s.in.Name, "rest pose", err)
 	}
 	res.Pose = pose
 	rep.Pose = poseReport(pose, comM, job)
-	gap := contact.Gap(surf, hob, pose)
-	res.GapM = gap
+	s.gap = contact.Gap(surf, hob, pose)
+	res.GapM = s.gap
 
-	inBase := make([]bool, len(surf.State))
-	for k := range inBase {
-		inBase[k] = surf.InBase(k)
+	s.inBase = make([]bool, len(surf.State))
+	for k := range s.inBase {
+		s.inBase[k] = surf.InBase(k)
 	}
-	cellA := surf.CellM * surf.CellM
-	mask, pressurePa, areaM2 := contact.ContactPressure(gap, inBase, cellA, loadN, ip.SigmaM)
-	res.Contact = mask
-	rep.Gap = gapReport(gap, mask, inBase, pressurePa, areaM2, ip)
-	if qg != nil {
+	s.cellA = surf.CellM * surf.CellM
+	var areaM2 float64
+	s.mask, s.pressurePa, areaM2 = contact.ContactPressure(s.gap, s.inBase, s.cellA, s.loadN, ip.SigmaM)
+	res.Contact = s.mask
+	rep.Gap = gapReport(s.gap, s.mask, s.inBase, s.pressurePa, areaM2, ip)
+	if qg := s.in.gate; qg != nil {
 		qg.in.MeanGapM = rep.Gap.MeanGapMM / 1e3
 		qg.judge(rep, true) // the noise check only warns
 	}
-	if err := ctx.Err(); err != nil {
-		return nil, err
-	}
+	return s.ctx.Err()
+}
 
-	// Heat: the scan and its flat twin.
-	flatMask := append([]bool(nil), inBase...)
-	flatGap := make([]float64, len(gap))
-	baseArea := 0.0
+// interfaceFields builds the interface of the scan and of its flat twin
+// (full contact over the base at the mean pressure) and the plate problem
+// both are solved on.
+func (s *surfaceRun) interfaceFields() error {
+	flatMask := append([]bool(nil), s.inBase...)
+	flatGap := make([]float64, len(s.gap))
+	s.baseArea = 0.0
 	for k := range flatGap {
-		if !inBase[k] {
+		if !s.inBase[k] {
 			flatGap[k] = math.NaN()
 		} else {
-			baseArea += cellA
+			s.baseArea += s.cellA
 		}
 	}
-	scanField := &contact.Field{Params: ip, GapM: gap, Contact: mask, PressurePa: pressurePa}
-	flatField := &contact.Field{Params: ip, GapM: flatGap, Contact: flatMask, PressurePa: loadN / baseArea}
-	prob, err := plateProblem(job, lib, surf, inBase, offsetM, glassR)
+	s.scanField = &contact.Field{Params: s.ip, GapM: s.gap, Contact: s.mask, PressurePa: s.pressurePa}
+	s.flatField = &contact.Field{Params: s.ip, GapM: flatGap, Contact: flatMask, PressurePa: s.loadN / s.baseArea}
+	in := s.in
+	prob, err := plateProblem(in.Job, in.Lib, in.Surf, s.inBase, in.OffsetM, in.GlassRM)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	// Each interface's solves start from its previous solution (the
-	// heat-up samples neighbouring water temperatures in a fixed order, so
-	// this stays deterministic).
-	// The scan and the flat twin are independent: each has its own solver
-	// (work buffers) and warm start, so their solves may run at once.
-	chains := map[thermal.Interface]*solveChain{scanField: {}, flatField: {}}
-	if in.Warm != nil { // a trial starts from the nominal solutions
-		chains[scanField].last, chains[flatField].last = in.Warm.Scan, in.Warm.Flat
+	s.prob = prob
+	return nil
+}
+
+// solveBoth solves the scan and its flat twin at the steady water
+// temperature and records their warnings and the heat report. The scan
+// and the flat twin are independent: each has its own solver (work
+// buffers) and warm start, so their solves may run at once.
+func (s *surfaceRun) solveBoth() error {
+	s.chains = map[thermal.Interface]*solveChain{s.scanField: {}, s.flatField: {}}
+	if s.in.Warm != nil { // a trial starts from the nominal solutions
+		s.chains[s.scanField].last, s.chains[s.flatField].last = s.in.Warm.Scan, s.in.Warm.Flat
 	}
-	solve := func(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
-		return chains[iface].solve(ctx, prob, iface, tWaterK)
-	}
-	steadyK := job.Water.SteadyC + kelvin
+	s.steadyK = s.in.Job.Water.SteadyC + kelvin
 	var solScan, solFlat *thermal.Solution
 	errScan, errFlat := both(
-		func() (err error) { solScan, err = solve(scanField, steadyK); return err },
-		func() (err error) { solFlat, err = solve(flatField, steadyK); return err })
+		func() (err error) { solScan, err = s.solve(s.scanField, s.steadyK); return err },
+		func() (err error) { solFlat, err = s.solve(s.flatField, s.steadyK); return err })
 	if errScan != nil {
-		return nil, stageErr(in.Name, "plate solve", errScan)
+		return stageErr(s.in.Name, "plate solve", errScan)
 	}
 	if errFlat != nil {
-		return nil, stageErr(in.Name, "plate solve (flat twin)", errFlat)
+		return stageErr(s.in.Name, "plate solve (flat twin)", errFlat)
 	}
-	res.Scan, res.Flat = solScan, solFlat
+	s.solScan, s.solFlat = solScan, solFlat
+	rep := s.rep
+	s.res.Scan, s.res.Flat = solScan, solFlat
 	rep.Warnings = append(rep.Warnings, prefixed("scan: ", solScan.Warnings)...)
 	rep.Warnings = append(rep.Warnings, prefixed("flat twin: ", solFlat.Warnings)...)
-	rep.Heat = heatReport(job, solScan, solFlat, baseArea)
-	if heater {
-		_, name, thickMM := hobPlate(job)
-		glass, err := contact.LookupMaterial(lib, name)
-		if err != nil {
-			return nil, err
-		}
-		perK := glass.DensityKgM3 * glass.CpJKgK * thickMM / 1e3 * cellA // J/K per glass cell
-		stored := func(s *thermal.Solution) *float64 {
-			e := 0.0
-			for _, t := range s.TGlassK {
-				if !math.IsNaN(t) {
-					e += perK * (t - (job.Hob.RoomC + kelvin))
-				}
+	rep.Heat = heatReport(s.in.Job, solScan, solFlat, s.baseArea)
+	return nil
+}
+
+// glassHeat records, in heater mode, the heat stored in the glass above
+// room temperature under the scan and under its flat twin, kJ.
+func (s *surfaceRun) glassHeat() error {
+	if !s.in.Heater {
+		return nil
+	}
+	job := s.in.Job
+	_, name, thickMM := hobPlate(job)
+	glass, err := contact.LookupMaterial(s.in.Lib, name)
+	if err != nil {
+		return err
+	}
+	perK := glass.DensityKgM3 * glass.CpJKgK * thickMM / 1e3 * s.cellA // J/K per glass cell
+	stored := func(sol *thermal.Solution) *float64 {
+		e := 0.0
+		for _, t := range sol.TGlassK {
+			if !math.IsNaN(t) {
+				e += perK * (t - (job.Hob.RoomC + kelvin))
 			}
-			e = roundTo(e/1e3, 2)
-			return &e
 		}
-		rep.Heat.GlassHeatKJ, rep.Heat.FlatGlassHeatKJ = stored(solScan), stored(solFlat)
+		e = roundTo(e/1e3, 2)
+		return &e
 	}
-	if !in.Trial { // the trials need no sensitivity table
-		rep.Heat.Sensitivity, err = sensitivity(ctx, job, prob, scanField, flatField, solScan, solFlat,
-			[2]*thermal.Solver{&chains[scanField].solver, &chains[flatField].solver})
+	s.rep.Heat.GlassHeatKJ, s.rep.Heat.FlatGlassHeatKJ = stored(s.solScan), stored(s.solFlat)
+	return nil
+}
+
+// heatChecks adds the sensitivity table (not in a trial), the gap
+// conductance, the interface and zone-power warnings and the per-ring
+// flux to the report.
+func (s *surfaceRun) heatChecks() error {
+	job, rep, solScan, solFlat := s.in.Job, s.rep, s.solScan, s.solFlat
+	if !s.in.Trial { // the trials need no sensitivity table
+		var err error
+		rep.Heat.Sensitivity, err = sensitivity(s.ctx, job, s.prob, s.scanField, s.flatField, solScan, solFlat,
+			[2]*thermal.Solver{&s.chains[s.scanField].solver, &s.chains[s.flatField].solver})
 		if err != nil {
-			return nil, fmt.Errorf("%s: %w", in.Name, err)
+			return fmt.Errorf("%s: %w", s.in.Name, err)
 		}
 	}
-	fillGapConductance(rep.Gap, solScan, inBase)
+	fillGapConductance(rep.Gap, solScan, s.inBase)
 	hobT := solScan.TGlassK
-	if prob.Temperature != nil {
-		hobT = prob.Temperature.TopK
+	if s.prob.Temperature != nil {
+		hobT = s.prob.Temperature.TopK
 	}
-	rep.Warnings = append(rep.Warnings, interfaceWarnings(scanField, hobT, solScan.TPanK, rep.Heat.SolidPct)...)
+	rep.Warnings = append(rep.Warnings, interfaceWarnings(s.scanField, hobT, solScan.TPanK, rep.Heat.SolidPct)...)
 	if job.Hob.Mode == "temperature" && !job.Hob.PowerLimited {
 		rated := job.Hob.RatedPowerDensityKW
 		if rated == 0 {
 			rated = job.Hob.HeaterPowerW / (math.Pi * math.Pow(job.Hob.ZoneDiameterMM/2e3, 2)) / 1e3
 		}
 		if rep.Heat.FlatMeanFluxKWM2 > rated {
-			warn("temperature mode: the flat twin draws %.0f kW/m², beyond the rated %.0f kW/m² of a %.0f W, %.0f mm zone; a real zone could not hold the hob at %.0f °C, so losses are overstated",
-				rep.Heat.FlatMeanFluxKWM2, rated, job.Hob.HeaterPowerW, job.Hob.ZoneDiameterMM, job.Hob.TemperatureC)
+			rep.Warnings = append(rep.Warnings, fmt.Sprintf("temperature mode: the flat twin draws %.0f kW/m², beyond the rated %.0f kW/m² of a %.0f W, %.0f mm zone; a real zone could not hold the hob at %.0f °C, so losses are overstated",
+				rep.Heat.FlatMeanFluxKWM2, rated, job.Hob.HeaterPowerW, job.Hob.ZoneDiameterMM, job.Hob.TemperatureC))
 		}
 	}
 
-	rings, err := thermal.Rings(thermal.RingInput{Grid: prob.Grid, InBase: inBase, WidthM: job.Grid.RingMM / 1e3,
-		GapM: gap, Contact: mask, Scan: solScan, Flat: solFlat})
+	rings, err := thermal.Rings(thermal.RingInput{Grid: s.prob.Grid, InBase: s.inBase, WidthM: job.Grid.RingMM / 1e3,
+		GapM: s.gap, Contact: s.mask, Scan: solScan, Flat: solFlat})
 	if err != nil {
-		return nil, stageErr(in.Name, "rings", err)
+		return stageErr(s.in.Name, "rings", err)
 	}
-	res.Rings = rings
+	s.res.Rings = rings
 	rep.Rings = ringReports(rings)
+	return nil
+}
 
-	// Heat-up of the water load.
-	// Heat into the pan and power drawn, as functions of the water
-	// temperature. With a fixed water-side h the base power is linear in
-	// the water temperature: a line through the steady solve and one more
-	// at the start temperature gives heat-up times within 0.1 % of seven
-	// solved samples on the demo's bases, so it is used; the curved
-	// natural and boiling water sides are solved at each sample.
-	source := func(s *thermal.Solution) float64 {
-		if s.HeaterW > 0 {
-			return s.HeaterW
+// heatup times the heat-up of the water load under the scan and its flat
+// twin. Heat into the pan and power drawn are functions of the water
+// temperature. With a fixed water-side h the base power is linear in the
+// water temperature: a line through the steady solve and one more at the
+// start temperature gives heat-up times within 0.1 % of seven solved
+// samples on the demo's bases, so it is used; the curved natural and
+// boiling water sides are solved at each sample.
+func (s *surfaceRun) heatup() error {
+	job, steadyK := s.in.Job, s.steadyK
+	source := func(sol *thermal.Solution) float64 {
+		if sol.HeaterW > 0 {
+			return sol.HeaterW
 		}
-		return s.PowerW
+		return sol.PowerW
 	}
-	steady := map[thermal.Interface]*thermal.Solution{scanField: solScan, flatField: solFlat}
+	steady := map[thermal.Interface]*thermal.Solution{s.scanField: s.solScan, s.flatField: s.solFlat}
 	fromK := job.Water.FromC + kelvin
 	power := func(iface thermal.Interface) thermal.PowerFunc {
 		if job.Water.Side == "fixed" && math.Abs(steadyK-fromK) >= 5 {
@@ -386,7 +535,7 @@ func analyzeSurface(ctx context.Context, in SurfaceInput, rep *Report, res *Resu
 			return func(tWaterK float64) (float64, float64, error) {
 				if s0 == nil {
 					var err error
-					if s0, err = solve(iface, fromK); err != nil {
+					if s0, err = s.solve(iface, fromK); err != nil {
 						return 0, 0, err
 					}
 				}
@@ -395,28 +544,36 @@ func analyzeSurface(ctx context.Context, in SurfaceInput, rep *Report, res *Resu
 			}
 		}
 		return func(tWaterK float64) (float64, float64, error) {
-			s, err := solve(iface, tWaterK)
+			sol, err := s.solve(iface, tWaterK)
 			if err != nil {
 				return 0, 0, err
 			}
-			return s.PowerW, source(s), nil
+			return sol.PowerW, source(sol), nil
 		}
 	}
-	hu, err := heatupReport(ctx, job, lib, in.RadiusM, power, scanField, flatField)
+	hu, err := heatupReport(s.ctx, job, s.in.Lib, s.in.RadiusM, power, s.scanField, s.flatField)
 	if err != nil {
-		return nil, stageErr(in.Name, "heat-up", err)
+		return stageErr(s.in.Name, "heat-up", err)
 	}
-	rep.Heatup = hu.report
-	rep.Warnings = append(rep.Warnings, hu.warnings...)
+	s.rep.Heatup = hu.report
+	s.rep.Warnings = append(s.rep.Warnings, hu.warnings...)
+	return nil
+}
 
-	if job.Hot.Enabled && !in.Trial { // the base as it is when cooking (issue 11)
-		if res.Hot, err = hotStage(ctx, hotInput{job: job, lib: lib, surf: surf, hob: hob, inBase: inBase, radiusM: in.RadiusM,
-			ip: ip, prob: prob, flat: solFlat, flatIf: flatField, cold: solScan, coldSolved: true, coldMM: rep.Geometry.ConcavityMM}); err != nil {
-			return nil, fmt.Errorf("%s: hot state: %w", in.Name, err)
-		}
-		rep.Hot, rep.Warnings = res.Hot.Report, append(rep.Warnings, res.Hot.Warnings...)
+// hot runs the hot stage when the job asks for it (not in a trial): the
+// base as it is when cooking (issue 11).
+func (s *surfaceRun) hot() error {
+	in, rep, res := s.in, s.rep, s.res
+	if !in.Job.Hot.Enabled || in.Trial {
+		return nil
 	}
-	return res, nil
+	var err error
+	if res.Hot, err = hotStage(s.ctx, hotInput{job: in.Job, lib: in.Lib, surf: in.Surf, hob: in.Hob, inBase: s.inBase, radiusM: in.RadiusM,
+		ip: s.ip, prob: s.prob, flat: s.solFlat, flatIf: s.flatField, cold: s.solScan, coldSolved: true, coldMM: rep.Geometry.ConcavityMM}); err != nil {
+		return fmt.Errorf("%s: hot state: %w", in.Name, err)
+	}
+	rep.Hot, rep.Warnings = res.Hot.Report, append(rep.Warnings, res.Hot.Warnings...)
+	return nil
 }
 
 func prefixed(p string, ws []string) []string {
