@@ -35,108 +35,38 @@ const (
 // decision rule (DESIGN 5.6). Without an uncertainty section, or with
 // uncertainty.decision = "simple", it is simple acceptance on the measured
 // values with verdict's reasons; otherwise guarded acceptance on the 95 %
-// intervals: a limit passes when the interval lies on its good side, fails
-// when it lies wholly beyond, and is inconclusive when it straddles the
-// limit. The overall result is fail when any limit fails, else
-// inconclusive when any is, else pass; Pass is true only for pass.
+// intervals (ISO 14253-1, ILAC-G8): a limit passes when the interval lies on
+// its good side, fails when it lies wholly beyond, and is inconclusive when
+// it straddles the limit. The overall result is fail when any limit fails,
+// else inconclusive when any is, else pass; Pass is true only for pass.
 func decide(job Job, rep *Report) *VerdictReport {
 	v := verdict(job, rep)
 	u := rep.Uncertainty
-	v.Rule = ruleSimpleOff
-	if u != nil {
-		v.Rule = ruleSimple
-		if job.Uncertainty.Decision == "guarded" {
-			v.Rule = ruleGuarded
-		}
-	}
+	v.Rule = decisionRule(job, u)
 	guarded := v.Rule == ruleGuarded
 	if guarded {
 		v.Reasons = []string{}
 	}
 	v.Limits = []LimitVerdict{}
-	t := job.Tolerances
-	check := func(fig, unit string, value float64, fu *FigureUncertainty, scale, limit float64, upper bool) {
-		lv := LimitVerdict{Figure: fig, Value: value, Bound: "min", Limit: limit}
-		if upper {
-			lv.Bound = "max"
-		}
-		bad := func(x float64) bool { return upper && x > limit || !upper && x < limit }
-		lv.Result = ResultPass
-		if bad(value) {
-			lv.Result = ResultFail
-		}
-		if fu != nil {
-			lo, hi := roundSig(fu.Low*scale, 6), roundSig(fu.High*scale, 6)
-			lv.Low, lv.High = &lo, &hi
-			if guarded {
-				switch {
-				case bad(lo) && bad(hi):
-					lv.Result = ResultFail
-					v.Reasons = append(v.Reasons, fmt.Sprintf("%s %s%s: its 95 %% interval [%s, %s] lies beyond the %s %s%s", fig, fmtNum(value), unit, fmtNum(lo), fmtNum(hi), lv.Bound, fmtNum(limit), unit))
-				case bad(lo) || bad(hi):
-					lv.Result = ResultInconclusive
-					v.Reasons = append(v.Reasons, fmt.Sprintf("%s %s%s: its 95 %% interval [%s, %s] straddles the %s %s%s (inconclusive)", fig, fmtNum(value), unit, fmtNum(lo), fmtNum(hi), lv.Bound, fmtNum(limit), unit))
-				default:
-					lv.Result = ResultPass
-				}
-			}
-		}
+	add := func(lv LimitVerdict, reason string) {
 		v.Limits = append(v.Limits, lv)
+		if reason != "" {
+			v.Reasons = append(v.Reasons, reason)
+		}
 	}
+	t := job.Tolerances
 	if g := rep.Geometry; g != nil {
-		var fc, ff *FigureUncertainty
-		if u != nil {
-			fc, ff = u.ConcavityMM, u.FlatnessMZMM
+		for _, c := range geometryChecks(t, g, u) {
+			add(judgeLimit(c, guarded))
 		}
-		scale := 0.0
-		if g.DiameterMM > 0 {
-			scale = 100 / g.DiameterMM
-		}
-		// Within ±shapeTolPct a base is flat (verdict's band).
-		check("concavity_pct_of_diameter", " %", g.ConcavityPctOfDiameter, fc, scale, t.ConcavityMinPct-shapeTolPct, false)
-		check("concavity_pct_of_diameter", " %", g.ConcavityPctOfDiameter, fc, scale, t.ConcavityMaxPct+shapeTolPct, true)
-		check("flatness_mz_mm", " mm", g.FlatnessMZMM, ff, 1, t.FlatnessMZMaxMM, true)
 	}
 	if p := rep.Pose; p != nil && !t.RockingAllowed {
-		lv := LimitVerdict{Figure: "rocks", Bound: "max", Limit: 0, Value: 0, Result: ResultPass}
-		if p.Rocks {
-			lv.Value, lv.Result = 1, ResultFail
-		}
-		if u != nil && guarded {
-			// The share of the trials that rock decides: all or none.
-			share := u.RocksPct / 100
-			lo, hi := share, share
-			lv.Low, lv.High = &lo, &hi
-			switch {
-			case share == 0:
-				lv.Result = ResultPass
-			case share == 1:
-				lv.Result = ResultFail
-				v.Reasons = append(v.Reasons, "the pan rocks in every trial: "+rockWords(p))
-			default:
-				lv.Result = ResultInconclusive
-				v.Reasons = append(v.Reasons, fmt.Sprintf("the pan rocks in %.0f %% of the trials (inconclusive)", u.RocksPct))
-			}
-		}
-		v.Limits = append(v.Limits, lv)
+		add(judgeRocking(p, u, guarded))
 	}
 	if h := rep.Heat; h != nil {
-		var fl *FigureUncertainty
-		if u != nil {
-			fl = u.LossPct
-		}
-		check("loss_pct", " %", h.LossPct, fl, 1, t.LossMaxPct, true)
+		add(judgeLimit(lossCheck(t, h, u), guarded))
 	}
-	v.Result = ResultPass
-	for _, lv := range v.Limits {
-		if lv.Result == ResultFail {
-			v.Result = ResultFail
-			break
-		}
-		if lv.Result == ResultInconclusive {
-			v.Result = ResultInconclusive
-		}
-	}
+	v.Result = limitsResult(v.Limits)
 	if guarded {
 		v.Pass = v.Result == ResultPass
 	} else if !v.Pass {
@@ -145,4 +75,142 @@ func decide(job Job, rep *Report) *VerdictReport {
 		v.Result = ResultPass
 	}
 	return v
+}
+
+// decisionRule chooses the verdict's decision rule: simple acceptance when
+// the uncertainty was not evaluated (u is nil) or the job asks for it, else
+// guarded acceptance (ISO 14253-1, ILAC-G8).
+func decisionRule(job Job, u *UncertaintyReport) string {
+	switch {
+	case u == nil:
+		return ruleSimpleOff
+	case job.Uncertainty.Decision == "guarded":
+		return ruleGuarded
+	default:
+		return ruleSimple
+	}
+}
+
+// limitCheck is one tolerance limit to judge: a figure's measured value in
+// its report unit, its uncertainty (nil when not evaluated, else in SI with
+// scale converting it to the report unit), and the limit with its side.
+type limitCheck struct {
+	fig, unit string  // figure name and its unit as the reasons print it (" %", " mm")
+	value     float64 // measured value, report unit
+	fu        *FigureUncertainty
+	scale     float64 // report unit per unit of fu
+	limit     float64 // report unit
+	upper     bool    // true: a maximum; false: a minimum
+}
+
+// geometryChecks lists the shape limits: concavity (% of the diameter)
+// against its minimum and maximum, each widened by the flat band
+// ±shapeTolPct of verdict, and the minimum-zone flatness (mm) against its
+// maximum. u may be nil.
+func geometryChecks(t ToleranceJob, g *GeometryReport, u *UncertaintyReport) []limitCheck {
+	var fc, ff *FigureUncertainty
+	if u != nil {
+		fc, ff = u.ConcavityMM, u.FlatnessMZMM
+	}
+	scale := 0.0
+	if g.DiameterMM > 0 {
+		scale = 100 / g.DiameterMM
+	}
+	// Within ±shapeTolPct a base is flat (verdict's band).
+	return []limitCheck{
+		{fig: "concavity_pct_of_diameter", unit: " %", value: g.ConcavityPctOfDiameter, fu: fc, scale: scale, limit: t.ConcavityMinPct - shapeTolPct, upper: false},
+		{fig: "concavity_pct_of_diameter", unit: " %", value: g.ConcavityPctOfDiameter, fu: fc, scale: scale, limit: t.ConcavityMaxPct + shapeTolPct, upper: true},
+		{fig: "flatness_mz_mm", unit: " mm", value: g.FlatnessMZMM, fu: ff, scale: 1, limit: t.FlatnessMZMaxMM, upper: true},
+	}
+}
+
+// lossCheck is the limit on the heating power lost against the flat twin,
+// in % of the power. u may be nil.
+func lossCheck(t ToleranceJob, h *HeatReport, u *UncertaintyReport) limitCheck {
+	var fl *FigureUncertainty
+	if u != nil {
+		fl = u.LossPct
+	}
+	return limitCheck{fig: "loss_pct", unit: " %", value: h.LossPct, fu: fl, scale: 1, limit: t.LossMaxPct, upper: true}
+}
+
+// judgeLimit judges one limit. Under simple acceptance the measured value
+// decides and the 95 % interval, when evaluated, is only reported; under
+// guarded acceptance (ISO 14253-1, ILAC-G8) the interval decides: pass when
+// it lies wholly on the good side, fail when wholly beyond, inconclusive when
+// it straddles the limit. The reason is "" unless a guarded limit fails or is
+// inconclusive.
+func judgeLimit(c limitCheck, guarded bool) (LimitVerdict, string) {
+	lv := LimitVerdict{Figure: c.fig, Value: c.value, Bound: "min", Limit: c.limit}
+	if c.upper {
+		lv.Bound = "max"
+	}
+	bad := func(x float64) bool { return c.upper && x > c.limit || !c.upper && x < c.limit }
+	lv.Result = ResultPass
+	if bad(c.value) {
+		lv.Result = ResultFail
+	}
+	if c.fu == nil {
+		return lv, ""
+	}
+	lo, hi := roundSig(c.fu.Low*c.scale, 6), roundSig(c.fu.High*c.scale, 6)
+	lv.Low, lv.High = &lo, &hi
+	if !guarded {
+		return lv, ""
+	}
+	switch {
+	case bad(lo) && bad(hi):
+		lv.Result = ResultFail
+		return lv, fmt.Sprintf("%s %s%s: its 95 %% interval [%s, %s] lies beyond the %s %s%s", c.fig, fmtNum(c.value), c.unit, fmtNum(lo), fmtNum(hi), lv.Bound, fmtNum(c.limit), c.unit)
+	case bad(lo) || bad(hi):
+		lv.Result = ResultInconclusive
+		return lv, fmt.Sprintf("%s %s%s: its 95 %% interval [%s, %s] straddles the %s %s%s (inconclusive)", c.fig, fmtNum(c.value), c.unit, fmtNum(lo), fmtNum(hi), lv.Bound, fmtNum(c.limit), c.unit)
+	default:
+		lv.Result = ResultPass
+		return lv, ""
+	}
+}
+
+// judgeRocking judges the no-rocking limit (value 1 when the pan rocks, else
+// 0; maximum 0). Under guarded acceptance the share of the Monte Carlo
+// trials that rock decides, all or none: none passes, all fails, any other
+// share is inconclusive. The reason is "" unless a guarded limit fails or is
+// inconclusive. u may be nil.
+func judgeRocking(p *PoseReport, u *UncertaintyReport, guarded bool) (LimitVerdict, string) {
+	lv := LimitVerdict{Figure: "rocks", Bound: "max", Limit: 0, Value: 0, Result: ResultPass}
+	if p.Rocks {
+		lv.Value, lv.Result = 1, ResultFail
+	}
+	if u == nil || !guarded {
+		return lv, ""
+	}
+	share := u.RocksPct / 100
+	lo, hi := share, share
+	lv.Low, lv.High = &lo, &hi
+	switch {
+	case share == 0:
+		lv.Result = ResultPass
+		return lv, ""
+	case share == 1:
+		lv.Result = ResultFail
+		return lv, "the pan rocks in every trial: " + rockWords(p)
+	default:
+		lv.Result = ResultInconclusive
+		return lv, fmt.Sprintf("the pan rocks in %.0f %% of the trials (inconclusive)", u.RocksPct)
+	}
+}
+
+// limitsResult is the result over the limits: fail when any limit fails,
+// else inconclusive when any is, else pass.
+func limitsResult(limits []LimitVerdict) string {
+	result := ResultPass
+	for _, lv := range limits {
+		if lv.Result == ResultFail {
+			return ResultFail
+		}
+		if lv.Result == ResultInconclusive {
+			result = ResultInconclusive
+		}
+	}
+	return result
 }

@@ -50,16 +50,29 @@ const (
 // on one core at the measured ~40 ns per cell and tap).
 const filterTapsPerCell = 64
 
-// jobKeys returns the specification of every job key, in file order.
+// jobKeys returns the specification of every job key, in file order: the
+// tables in the order JobDoc prints them.
 func jobKeys() []keySpec {
-	var surfaces []string
-	for _, sf := range thermal.RohsenowSurfaces() {
-		surfaces = append(surfaces, sf.Name)
+	var keys []keySpec
+	for _, table := range [][]keySpec{
+		gridKeys(), panKeys(), hobKeys(), interfaceKeys(),
+		waterKeys(), toleranceKeys(), limitKeys(), qualityKeys(),
+		outputKeys(), hotKeys(), uncertaintyKeys(), materialKeys(),
+	} {
+		keys = append(keys, table...)
 	}
-	const (
-		frac   = "physical: a fraction"
-		tempOK = "our bound: liquid water at 1 atm, away from freezing"
-	)
+	return keys
+}
+
+// Reasons shared by the ranges of several tables' keys.
+const (
+	whyFraction    = "physical: a fraction"
+	whyLiquidWater = "our bound: liquid water at 1 atm, away from freezing"
+)
+
+// gridKeys returns the specification of the keys of the [grid] table: the
+// grid, the form filter and the base segmentation, in file order.
+func gridKeys() []keySpec {
 	return []keySpec{
 		{key: "grid.cell_mm", doc: "grid cell edge (0 = automatic: the median point spacing rounded up to 0.05 mm, kept within 0.5 to 2 mm and at most a quarter of the cut-off)", unit: "mm", lo: 0.01, hi: 10, zero: "automatic",
 			why: "our bound: finer than any pan scanner's point spacing, coarser leaves a small base under 10 cells across; limits.max_cells bounds the grid as well"},
@@ -80,14 +93,21 @@ func jobKeys() []keySpec {
 			why: "cookware: pan and pot bases are about 80 to 400 mm across; 10 to 1000 mm leaves room"},
 		{key: "grid.max_slope_deg", doc: "base segmentation slope limit", unit: "°", lo: 0.1, hi: 45, zero: "the built-in 3°",
 			why: "our bound: a base ends where its wall starts, well under 45°"},
+	}
+}
 
+// panKeys returns the specification of the keys of the [pan] table and its
+// [[pan.layers]]: the pan's mass, emissivities, position and base layers, in
+// file order.
+func panKeys() []keySpec {
+	return []keySpec{
 		{key: "pan.mass_kg", doc: "mass of the empty pan", unit: "kg", lo: 0.01, hi: 50,
 			why: "cookware: from a small aluminium pan (0.3 kg) to a large cast-iron pot (under 20 kg)"},
 		{key: "pan.cp_j_kgk", doc: "specific heat of the pan", unit: "J/(kg·K)", lo: 100, hi: 2500, zero: "from the first base layer's material",
 			why: "physical: solid metals and ceramics lie between about 130 (lead) and 1900 (beryllium) J/(kg·K)"},
-		{key: "pan.emissivity", doc: "outer face of the base, toward the hob", lo: 0, hi: 1, loOpen: true, zero: "from the first layer's material (gapflux materials)", why: frac,
+		{key: "pan.emissivity", doc: "outer face of the base, toward the hob", lo: 0, hi: 1, loOpen: true, zero: "from the first layer's material (gapflux materials)", why: whyFraction,
 			src: "the material library (alu-1050: 0.09, commercial aluminium sheet, Omega emissivity table)"},
-		{key: "pan.wall_emissivity", doc: "outer wall, for heat-up losses", lo: 0, hi: 1, loOpen: true, why: frac, src: "ours (a dulled aluminium wall)"},
+		{key: "pan.wall_emissivity", doc: "outer wall, for heat-up losses", lo: 0, hi: 1, loOpen: true, why: whyFraction, src: "ours (a dulled aluminium wall)"},
 		{key: "pan.inner_diameter_mm", doc: "open water surface and wetted wall", unit: "mm", lo: 10, hi: 1000, zero: "the base diameter",
 			why: "cookware: as grid.diameter_mm"},
 		{key: "pan.centre_of_mass_mm", doc: "centre of mass in the base frame, x and y", unit: "mm", lo: -500, hi: 500,
@@ -97,14 +117,20 @@ func jobKeys() []keySpec {
 		{key: "pan.layers.material", doc: "a name from \"gapflux materials\" or a [[material]] below"},
 		{key: "pan.layers.thickness_mm", doc: "layer thickness", unit: "mm", lo: 0.01, hi: 30,
 			why: "cookware: clad and impact-bonded layers are 0.3 to 10 mm; cast bases up to about 20 mm"},
+	}
+}
 
+// hobKeys returns the specification of the keys of the [hob] table: the
+// hob's mode, plate, heater, limiter and room, in file order.
+func hobKeys() []keySpec {
+	return []keySpec{
 		{key: "hob.mode", doc: "\"heater\" (radiant zone under glass-ceramic), \"temperature\" (a top held at temperature_c, see power_limited) or \"solid-plate\" (a heated plate of plate_material and plate_thickness_mm whose regulator holds temperature_c along the rod, at most heater_power_w)",
 			oneOf: []string{"heater", "temperature", "solid-plate"},
 			src:   "ours (the common radiant glass-ceramic zone, DESIGN 5.3a)"},
 		{key: "hob.material", doc: "hob plate material (heater mode: the glass)", src: "ours (black LAS glass-ceramic)"},
 		{key: "hob.thickness_mm", doc: "hob plate thickness", unit: "mm", lo: 0.5, hi: 30,
 			why: "hob: glass-ceramic tops are 3 to 6 mm, cast-iron plates up to about 20 mm", src: "ours (a common 4 mm top)"},
-		{key: "hob.emissivity", doc: "top surface", lo: 0, hi: 1, loOpen: true, zero: "from hob.material (gapflux materials)", why: frac,
+		{key: "hob.emissivity", doc: "top surface", lo: 0, hi: 1, loOpen: true, zero: "from hob.material (gapflux materials)", why: whyFraction,
 			src: "the material library (glass-ceramic: 0.90 ± 0.05, estimate from glass tables)"},
 		{key: "hob.temperature_c", doc: "temperature mode: uniform top temperature (the set point); solid-plate mode: the regulator setting", unit: "°C", lo: 1, hi: 800,
 			why: "hob: glass-ceramic tops are rated to about 700 °C; must be above water.steady_c", src: "ours"},
@@ -118,9 +144,9 @@ func jobKeys() []keySpec {
 		{key: "hob.power_profile", doc: "heater mode: CSV r_mm,relative power density (\"\" = uniform); relative to the job file's folder", path: true},
 		{key: "hob.down_loss_w_m2k", doc: "heater mode: glass to the room below", unit: "W/(m²·K)", lo: 0, hi: 1000,
 			why: "our bound: 1000 W/(m²·K) is forced liquid cooling, not a hob", src: "ours (an insulated heater dish)"},
-		{key: "hob.coil_emissivity", doc: "heater mode: total emissivity of the glowing element; its temperature follows from its radiative balance with the glass underside", lo: 0, hi: 1, loOpen: true, why: frac,
+		{key: "hob.coil_emissivity", doc: "heater mode: total emissivity of the glowing element; its temperature follows from its radiative balance with the glass underside", lo: 0, hi: 1, loOpen: true, why: whyFraction,
 			src: "ours (oxidised Fe-Cr-Al and Ni-Cr resistance alloys are about 0.7 to 0.9, from memory)"},
-		{key: "hob.glass_tau", doc: "heater mode: transmittance of the glass in its near-infrared window (the element's radiation in the window passes to the pan; the glass is opaque beyond)", lo: 0, hi: 1, hiOpen: true, why: frac,
+		{key: "hob.glass_tau", doc: "heater mode: transmittance of the glass in its near-infrared window (the element's radiation in the window passes to the pan; the glass is opaque beyond)", lo: 0, hi: 1, hiOpen: true, why: whyFraction,
 			src: "US patent 10562807 B2 (SCHOTT, priority 2008), claim 1: a dyed 4 mm glass-ceramic cooktop transmits 50 to 80 % at 1600 nm; 0.65 is the midpoint (ours)"},
 		{key: "hob.glass_window_lo_um", doc: "heater mode: lower edge of the glass's near-infrared window", unit: "µm", lo: 0.2, hi: 20,
 			why: "physical: from the ultraviolet to the far infrared",
@@ -147,7 +173,14 @@ func jobKeys() []keySpec {
 			why:  "hob: a 1.8 kW, 180 mm zone gives 71 kW/m²"},
 		{key: "hob.power_limited", doc: "temperature mode: the top holds temperature_c only while the rated power allows, and beyond it the hob delivers its rated power and the top follows (a thermostat-controlled plate at full power), for scan and flat twin alike; false holds temperature_c whatever it costs (a bench fixture)",
 			src: "ours (DESIGN 5.3: a real zone cannot deliver more than its rating)"},
+	}
+}
 
+// interfaceKeys returns the specification of the keys of the [interface]
+// table: the contact conductance model and its surface properties, in file
+// order.
+func interfaceKeys() []keySpec {
+	return []keySpec{
 		{key: "interface.model", doc: "solid-spot conductance correlation: \"cmy-plastic\" is Cooper–Mikic–Yovanovich with Yovanovich's (1982) fit 1.25·(P/H_c)^0.95; \"mikic-elastic\" is Mikic (1974) elastic, 1.54·(√2·P/(m·E′))^0.94; \"mikic-plastic\" is the old name of \"cmy-plastic\", still accepted",
 			oneOf: []string{contact.ModelPlastic, contact.ModelElastic, contact.ModelPlasticOld},
 			src:   "Yovanovich (2005), IEEE Trans. CPT 28(2), recommends the CMY plastic model for first loading of rough metal contacts"},
@@ -163,18 +196,28 @@ func jobKeys() []keySpec {
 			src: "Antonetti, Whittle & Simons (1991), m = 0.125·(σ/µm)^0.402"},
 		{key: "interface.microhardness_mpa", doc: "contact microhardness of the softer surface", unit: "MPa", lo: 10, hi: 20000,
 			why: "physical: from soft lead (about 50 MPa) to hardened steel and ceramics (about 10 GPa)", src: "ours (a soft aluminium alloy's order of magnitude)"},
-		{key: "interface.pan_accommodation", doc: "thermal accommodation coefficient of air on the pan", lo: 0, hi: 1, loOpen: true, why: frac,
+		{key: "interface.pan_accommodation", doc: "thermal accommodation coefficient of air on the pan", lo: 0, hi: 1, loOpen: true, why: whyFraction,
 			src: "ours (air on engineering metal surfaces is about 0.8 to 0.9, from memory)"},
-		{key: "interface.hob_accommodation", doc: "and on the hob", lo: 0, hi: 1, loOpen: true, why: frac, src: "ours, as pan_accommodation"},
+		{key: "interface.hob_accommodation", doc: "and on the hob", lo: 0, hi: 1, loOpen: true, why: whyFraction, src: "ours, as pan_accommodation"},
 		{key: "interface.gas_pressure_kpa", doc: "pressure of the air in the gap", unit: "kPa", lo: 1, hi: 1000,
 			why: "our bound: from a vacuum test chamber to ten atmospheres", src: "standard atmosphere, 101.325 kPa"},
+	}
+}
 
+// waterKeys returns the specification of the keys of the [water] table: the
+// water load, its heat-up and its boiling and surface losses, in file order.
+func waterKeys() []keySpec {
+	var surfaces []string
+	for _, sf := range thermal.RohsenowSurfaces() {
+		surfaces = append(surfaces, sf.Name)
+	}
+	return []keySpec{
 		{key: "water.mass_kg", doc: "water load", unit: "kg", lo: 0.01, hi: 50,
 			zero: "filled a third of the base diameter deep over pan.inner_diameter_mm (1.52 kg on a 180 mm base, 0.06 kg on 60 mm, 5.7 kg on 280 mm), to 10 g",
 			why:  "cookware: up to a large stockpot's fill", src: "ours (no standard's table could be checked)"},
-		{key: "water.from_c", doc: "heat-up start", unit: "°C", lo: 0.5, hi: 100, why: tempOK + "; below to_c", src: "ours"},
-		{key: "water.to_c", doc: "heat-up end", unit: "°C", lo: 0.5, hi: 100, why: tempOK, src: "ours"},
-		{key: "water.steady_c", doc: "water temperature of the steady heat figures", unit: "°C", lo: 0.5, hi: 100, why: tempOK, src: "ours"},
+		{key: "water.from_c", doc: "heat-up start", unit: "°C", lo: 0.5, hi: 100, why: whyLiquidWater + "; below to_c", src: "ours"},
+		{key: "water.to_c", doc: "heat-up end", unit: "°C", lo: 0.5, hi: 100, why: whyLiquidWater, src: "ours"},
+		{key: "water.steady_c", doc: "water temperature of the steady heat figures", unit: "°C", lo: 0.5, hi: 100, why: whyLiquidWater, src: "ours"},
 		{key: "water.side", doc: "\"fixed\" (h_w_m2k), \"natural\" (natural convection) or \"boiling\" (Rohsenow above 100 °C)", oneOf: []string{"fixed", "natural", "boiling"},
 			src: "ours (a fixed h makes the loss figure independent of a boiling correlation's ±100 % scatter)"},
 		{key: "water.h_w_m2k", doc: "water-side coefficient when side = \"fixed\"", unit: "W/(m²·K)", lo: 1, hi: 100000,
@@ -187,9 +230,15 @@ func jobKeys() []keySpec {
 			why: "physical: published water-surface values are 0.0027 to 0.013 (Incropera Table 10.1)"},
 		{key: "water.rohsenow_n", doc: "Rohsenow Prandtl exponent n", lo: 0.5, hi: 3, zero: "from rohsenow_surface (1.0 for water on the Incropera rows)",
 			why: "physical: 1.0 for water, 1.7 for other liquids (Incropera eq. 10.5)"},
-		{key: "water.emissivity", doc: "open water surface", lo: 0, hi: 1, loOpen: true, why: frac, src: "ours (water is 0.95 to 0.96 in the infrared, from memory)"},
+		{key: "water.emissivity", doc: "open water surface", lo: 0, hi: 1, loOpen: true, why: whyFraction, src: "ours (water is 0.95 to 0.96 in the infrared, from memory)"},
 		{key: "water.evaporation", doc: "latent heat lost from the open surface (heat-mass analogy; overstates near 90 °C)", src: "ours (off: the analogy overstates near 90 °C)"},
+	}
+}
 
+// toleranceKeys returns the specification of the keys of the [tolerances]
+// table: the limits the verdict judges, in file order.
+func toleranceKeys() []keySpec {
+	return []keySpec{
 		{key: "tolerances.concavity_min_pct", doc: "concavity below this share of the diameter fails (0 forbids a convex base)", unit: "%", lo: -5, hi: 5,
 			why: "our bound: 5 % is 10 mm on a 200 mm base"},
 		{key: "tolerances.concavity_max_pct", doc: "concavity above this share of the diameter fails", unit: "%", lo: -5, hi: 5,
@@ -199,14 +248,26 @@ func jobKeys() []keySpec {
 		{key: "tolerances.loss_max_pct", doc: "largest heating power lost against the flat twin", unit: "%", lo: 0, hi: 100, loOpen: true,
 			why: "physical: a share of the power"},
 		{key: "tolerances.rocking_allowed", doc: "a rocking pan passes"},
+	}
+}
 
+// limitKeys returns the specification of the keys of the [limits] table: the
+// size caps on scans and grids, in file order.
+func limitKeys() []keySpec {
+	return []keySpec{
 		{key: "limits.max_points", doc: "refuse scans with more points than this", lo: 1000, hi: 200_000_000,
 			why: "our bound: about 25 GB at the ~125 bytes per point of the 250 MB per 2 M points budget"},
 		{key: "limits.max_file_mb", doc: "refuse scan files larger than this", unit: "MB", lo: 0.001, hi: 100_000,
 			why: "our bound"},
 		{key: "limits.max_cells", doc: "largest grid, in cells, of any grid the analysis builds (the base grid, the glass grid around it, a hob scan's grid)", lo: 10_000, hi: 50_000_000,
 			why: "our bound: about 540 bytes a cell at the peak of an analysis (measured), so the default 4 M cells is about 2.2 GB and a 1000×1000 grid about 0.6 GB; the form filter may take at most 64 × max_cells cell-kernel products"},
+	}
+}
 
+// qualityKeys returns the specification of the keys of the [quality] table:
+// the scan quality gates that warn or reject, in file order.
+func qualityKeys() []keySpec {
+	return []keySpec{
 		{key: "quality.diameter_warn_min_mm", doc: "a base narrower than this warns (check the units)", unit: "mm", lo: 1, hi: 2000,
 			why: "our bound; default 100 mm, below a small milk pan's base"},
 		{key: "quality.diameter_warn_max_mm", doc: "a base wider than this warns", unit: "mm", lo: 1, hi: 2000,
@@ -237,9 +298,22 @@ func jobKeys() []keySpec {
 			why: "our bound; default 15 mm: a base may lift up to 15 mm at the rim"},
 		{key: "quality.noise_gap_warn_max_pct", doc: "scanner noise against the mean gap above which the scan warns", unit: "%", lo: 0, hi: 1000,
 			why: "a fifth of the mean gap by default (DESIGN 5.0)"},
+	}
+}
 
+// outputKeys returns the specification of the keys of the [outputs] table:
+// the optional output files, in file order.
+func outputKeys() []keySpec {
+	return []keySpec{
 		{key: "outputs.fields", doc: "fields.vti: zlib-compressed (VTK's own compression), plain (uncompressed, base64) or off (not written)",
 			oneOf: []string{FieldsCompressed, FieldsPlain, FieldsOff}},
+	}
+}
+
+// hotKeys returns the specification of the keys of the [hot] table: the
+// coupled hot state (the base bowed by its own heat), in file order.
+func hotKeys() []keySpec {
+	return []keySpec{
 		{key: "hot.enabled", doc: "run the coupled hot state: the base bowed by its own heat, posed, gapped and solved again until its shape settles (analyze --hot); off by default because it repeats the plate solve several times",
 			src: "ours (its cost: see the README)"},
 		{key: "hot.scan_c", doc: "temperature of the base when it was scanned: the layers' thermal expansion counts from it", unit: "°C", lo: -20, hi: 60,
@@ -257,6 +331,14 @@ func jobKeys() []keySpec {
 			why: "our bound: the under-relaxed iteration settles in 3 to 10 rounds on the demo's bases"},
 		{key: "hot.verdict", doc: "which state the verdict judges when the hot state runs: \"cold\" (as scanned), \"hot\" (as when cooking) or \"both\" (each must pass)",
 			oneOf: []string{"cold", "hot", "both"}, src: "ours (both: a base must be right on the scanner and on the hob)"},
+	}
+}
+
+// uncertaintyKeys returns the specification of the keys of the [uncertainty]
+// table: the Monte Carlo evaluation (JCGM 101) and the verdict's decision
+// rule, in file order.
+func uncertaintyKeys() []keySpec {
+	return []keySpec{
 		{key: "uncertainty.mode", doc: "Monte Carlo evaluation of the headline figures' uncertainty (JCGM 101): \"off\", \"fast\" (at most 40 trials) or \"full\" (at most 200 trials); each trial re-runs the chain from the form filter (a noise draw) and from the interface (the property draws)",
 			oneOf: []string{"off", "fast", "full"}, src: "ours: off by default, a trial costs about one analysis without its sensitivity table"},
 		{key: "uncertainty.decision", doc: "decision rule of the verdict when the uncertainty is evaluated: \"guarded\" acceptance (pass only when the 95 % interval lies inside the limits, fail only when it lies outside, else inconclusive; ISO 14253-1, ILAC-G8) or \"simple\" acceptance (the measured value against the limits)",
@@ -287,7 +369,13 @@ func jobKeys() []keySpec {
 			why: "physical: a fraction", src: "ours: ±0.05, bare aluminium runs 0.05 to 0.3 as it oxidises (from memory)"},
 		{key: "uncertainty.hob_emissivity", doc: "half-width of the rectangular distribution of the hob top's emissivity, kept in (0, 1]", lo: 0, hi: 0.5, zero: "the input is exact",
 			why: "physical: a fraction", src: "the material library's glass-ceramic entry, 0.90 ± 0.05 (estimate from glass tables), taken as a rectangular half-width"},
+	}
+}
 
+// materialKeys returns the specification of the keys of the [[material]]
+// tables: a lab's own or overridden materials, in file order.
+func materialKeys() []keySpec {
+	return []keySpec{
 		{key: "material.name", doc: "material name (a new one, or a built-in one to override)"},
 		{key: "material.conductivity_w_mk", doc: "thermal conductivity", unit: "W/(m·K)", lo: 0.01, hi: 2500, zero: "keep the built-in value",
 			why: "physical: from insulating ceramics to diamond"},
@@ -303,7 +391,7 @@ func jobKeys() []keySpec {
 			why: "physical: from glass-ceramic (near 0) to polymers"},
 		{key: "material.hardness_mpa", doc: "hardness", unit: "MPa", lo: 10, hi: 100000, zero: "keep the built-in value",
 			why: "physical: up to diamond (about 100 GPa)"},
-		{key: "material.emissivity", doc: "emissivity", lo: 0, hi: 1, loOpen: true, zero: "keep the built-in value", why: frac},
+		{key: "material.emissivity", doc: "emissivity", lo: 0, hi: 1, loOpen: true, zero: "keep the built-in value", why: whyFraction},
 		{key: "material.source", doc: "where the values come from"},
 	}
 }
