@@ -434,43 +434,74 @@ func rasterise(s *Surface, base, have []bool, c *Cloud) error {
 // slope at the rim) by Jacobi-preconditioned conjugate gradients. It
 // returns the number of iterations.
 func inpaint(s *Surface, have []bool) int {
-	nx, ny := s.Nx, s.Ny
-	n := nx * ny
-	num := make([]int32, n)
-	var unk []int32
-	for q := range n {
-		num[q] = -1
-		if s.State[q] == Filled {
-			num[q] = int32(len(unk))
-			unk = append(unk, int32(q))
-		}
-	}
-	if len(unk) == 0 {
+	h := newHoles(s)
+	if len(h.unk) == 0 {
 		return 0
 	}
-	nbrs := func(q int, f func(p int)) {
-		i, j := q%nx, q/nx
-		if i > 0 && s.State[q-1] != Outside {
-			f(q - 1)
-		}
-		if i < nx-1 && s.State[q+1] != Outside {
-			f(q + 1)
-		}
-		if j > 0 && s.State[q-nx] != Outside {
-			f(q - nx)
-		}
-		if j < ny-1 && s.State[q+nx] != Outside {
-			f(q + nx)
+	h.peel(have)
+	deg, b, x := h.system()
+	it := h.solve(deg, b, x)
+	for t, q := range h.unk {
+		s.ZM[q] = x[t]
+	}
+	return it
+}
+
+// holes numbers the Filled cells of a surface (the unknowns of the
+// harmonic fill): unk lists their cell indices, num maps a cell index to
+// its unknown number or -1.
+type holes struct {
+	s   *Surface
+	num []int32
+	unk []int32
+}
+
+// newHoles numbers the Filled cells of s.
+func newHoles(s *Surface) *holes {
+	n := s.Nx * s.Ny
+	h := &holes{s: s, num: make([]int32, n)}
+	for q := range n {
+		h.num[q] = -1
+		if s.State[q] == Filled {
+			h.num[q] = int32(len(h.unk))
+			h.unk = append(h.unk, int32(q))
 		}
 	}
-	// Starting guess: peel the holes layer by layer from their edges,
-	// each cell taking the mean of its neighbours already set.
+	return h
+}
+
+// nbrs calls f for each 4-neighbour of cell q that is not Outside, in
+// the order left, right, below, above.
+func (h *holes) nbrs(q int, f func(p int)) {
+	s := h.s
+	nx, ny := s.Nx, s.Ny
+	i, j := q%nx, q/nx
+	if i > 0 && s.State[q-1] != Outside {
+		f(q - 1)
+	}
+	if i < nx-1 && s.State[q+1] != Outside {
+		f(q + 1)
+	}
+	if j > 0 && s.State[q-nx] != Outside {
+		f(q - nx)
+	}
+	if j < ny-1 && s.State[q+nx] != Outside {
+		f(q + nx)
+	}
+}
+
+// peel writes the starting guess for the fill into s.ZM (m): the holes
+// are peeled layer by layer from their edges, each cell taking the mean
+// height of its neighbours already set (cells with data, have, are set
+// from the start).
+func (h *holes) peel(have []bool) {
+	s := h.s
 	set := append([]bool(nil), have...)
-	layer := make([]int32, 0, len(unk))
-	inLayer := make([]bool, n)
-	for _, q := range unk {
+	layer := make([]int32, 0, len(h.unk))
+	inLayer := make([]bool, s.Nx*s.Ny)
+	for _, q := range h.unk {
 		hit := false
-		nbrs(int(q), func(p int) { hit = hit || set[p] })
+		h.nbrs(int(q), func(p int) { hit = hit || set[p] })
 		if hit {
 			layer = append(layer, q)
 			inLayer[q] = true
@@ -479,7 +510,7 @@ func inpaint(s *Surface, have []bool) int {
 	for len(layer) > 0 {
 		for _, q := range layer {
 			sum, cnt := 0.0, 0
-			nbrs(int(q), func(p int) {
+			h.nbrs(int(q), func(p int) {
 				if set[p] {
 					sum += s.ZM[p]
 					cnt++
@@ -492,7 +523,7 @@ func inpaint(s *Surface, have []bool) int {
 		}
 		var next []int32
 		for _, q := range layer {
-			nbrs(int(q), func(p int) {
+			h.nbrs(int(q), func(p int) {
 				if !set[p] && !inLayer[p] && s.State[p] == Filled {
 					inLayer[p] = true
 					next = append(next, int32(p))
@@ -501,37 +532,51 @@ func inpaint(s *Surface, have []bool) int {
 		}
 		layer = next
 	}
-	// A x = b with (A x)_u = deg_u x_u − Σ unknown neighbours,
-	// b_u = Σ known neighbours.
-	m := len(unk)
-	deg := make([]float64, m)
-	b := make([]float64, m)
-	x := make([]float64, m)
-	for t, q := range unk {
-		nbrs(int(q), func(p int) {
+}
+
+// system assembles A x = b with (A x)_u = deg_u x_u − Σ unknown
+// neighbours, b_u = Σ known neighbour heights (m); x starts from the
+// current heights of the unknown cells (m).
+func (h *holes) system() (deg, b, x []float64) {
+	m := len(h.unk)
+	deg = make([]float64, m)
+	b = make([]float64, m)
+	x = make([]float64, m)
+	for t, q := range h.unk {
+		h.nbrs(int(q), func(p int) {
 			deg[t]++
-			if num[p] < 0 {
-				b[t] += s.ZM[p]
+			if h.num[p] < 0 {
+				b[t] += h.s.ZM[p]
 			}
 		})
-		x[t] = s.ZM[q]
+		x[t] = h.s.ZM[q]
 	}
-	apply := func(dst, v []float64) {
-		for t, q := range unk {
-			a := deg[t] * v[t]
-			nbrs(int(q), func(p int) {
-				if u := num[p]; u >= 0 {
-					a -= v[u]
-				}
-			})
-			dst[t] = a
-		}
+	return deg, b, x
+}
+
+// apply sets dst = A v for the fill's Laplacian A with diagonal deg.
+func (h *holes) apply(dst, v, deg []float64) {
+	for t, q := range h.unk {
+		a := deg[t] * v[t]
+		h.nbrs(int(q), func(p int) {
+			if u := h.num[p]; u >= 0 {
+				a -= v[u]
+			}
+		})
+		dst[t] = a
 	}
+}
+
+// solve runs Jacobi-preconditioned conjugate gradients on A x = b from
+// the guess in x (m), until |r|² ≤ 1e-24 |b|² or 20000 iterations, and
+// returns the number of iterations.
+func (h *holes) solve(deg, b, x []float64) int {
+	m := len(x)
 	r := make([]float64, m)
 	z := make([]float64, m)
 	d := make([]float64, m)
 	ad := make([]float64, m)
-	apply(ad, x)
+	h.apply(ad, x, deg)
 	bn := 0.0
 	for t := range r {
 		r[t] = b[t] - ad[t]
@@ -553,7 +598,7 @@ func inpaint(s *Surface, have []bool) int {
 		if rr <= tol2 || rz == 0 {
 			break
 		}
-		apply(ad, d)
+		h.apply(ad, d, deg)
 		dad := 0.0
 		for t := range d {
 			dad += d[t] * ad[t]
@@ -576,9 +621,6 @@ func inpaint(s *Surface, have []bool) int {
 		for t := range d {
 			d[t] = z[t] + beta*d[t]
 		}
-	}
-	for t, q := range unk {
-		s.ZM[q] = x[t]
 	}
 	return it
 }
