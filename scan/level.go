@@ -947,242 +947,25 @@ type rimFit struct {
 // fitRim finds the base rim along radial profiles in angular sectors about
 // (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
 func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, error) {
-	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
-	// Density from the inner disc.
-	nInner, nAnn := 0, 0
-	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
-	for _, p := range pts {
-		u, v, _ := f.coords(p)
-		du, dv := u-uc, v-vc
-		rr := du*du + dv*dv
-		if rr < in2 {
-			nInner++
-		}
-		if rr >= lo2 && rr < hi2 {
-			nAnn++
-		}
+	rb, err := binRim(pts, f, uc, vc, r0, rq)
+	if err != nil {
+		return rimFit{}, err
 	}
-	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
-	// denser scans.
-	step := max(1, nAnn/(30*72*int(400*(rhi-rlo)/r0)))
-	nAnn = nAnn/step + 1
-	ar, aa, aw := make([]float64, 0, nAnn), make([]float64, 0, nAnn), make([]float64, 0, nAnn)
-	for i := 0; i < len(pts); i += step {
-		u, v, w := f.coords(pts[i])
-		du, dv := u-uc, v-vc
-		rr := du*du + dv*dv
-		if rr >= lo2 && rr < hi2 {
-			ar = append(ar, math.Sqrt(rr))
-			aa = append(aa, math.Atan2(dv, du))
-			aw = append(aw, w)
-		}
+	ns, nb, dr := rb.ns, rb.nb, rb.dr
+	sp := &rimProfile{
+		prof:  make([]float64, nb), // median height per bin
+		pos:   make([]float64, nb), // mean radius per bin
+		valid: make([]bool, nb),
 	}
-	rho := float64(nInner/step) / (math.Pi * 0.81 * r0 * r0) // points per m²
-	ring := rho * 2 * math.Pi * r0                           // points per m of radius, all sectors
-	ns := min(72, max(24, int(ring*r0/400/20)))
-	dr := max(r0/400, 20*float64(ns)/ring)
-	const minCount = 4
-	wallRun := wallRunFrac * r0
-	var nb, nsb int
-	var start []int32
-	var ws []float64
-	key := make([]int32, len(ar))
-	// Bin into (sector, radial bin); widen the bins while more than a
-	// fifth of the inner ones are empty (structured meshes and scan lines
-	// leave regular gaps).
-	for try := 0; ; try++ {
-		nb = int(math.Ceil((rhi - rlo) / dr))
-		if nb < 8 {
-			return rimFit{}, errors.New("scan: level: too few points near the rim")
-		}
-		nsb = ns * nb
-		start = make([]int32, nsb+1)
-		for i := range ar {
-			s := int((aa[i] + math.Pi) / (2 * math.Pi) * float64(ns))
-			s = min(ns-1, max(0, s))
-			bb := min(nb-1, int((ar[i]-rlo)/dr))
-			key[i] = int32(s*nb + bb)
-			start[key[i]+1]++
-		}
-		k0, k1 := int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)
-		full, all := 0, 0
-		for s := range ns {
-			for bb := k0; bb < k1; bb++ {
-				all++
-				if start[s*nb+bb+1] >= minCount {
-					full++
-				}
-			}
-		}
-		for k := range nsb {
-			start[k+1] += start[k]
-		}
-		if 5*full >= 4*all || try == 5 {
-			break
-		}
-		dr *= 1.5
-	}
-	ws = make([]float64, len(ar))
-	rs := make([]float64, len(ar))
-	fill := append([]int32(nil), start[:nsb]...)
-	for i, k := range key {
-		ws[fill[k]] = aw[i]
-		rs[fill[k]] = ar[i]
-		fill[k]++
-	}
-	prof := make([]float64, nb) // median height per bin
-	pos := make([]float64, nb)  // mean radius per bin
-	valid := make([]bool, nb)
 	var eu, ev []float64
-	kStart := int((0.6*r0 - rlo) / dr)
+	kStart := int((0.6*r0 - rb.rlo) / dr)
 	var band float64
 	var warped int
 	for s := range ns {
-		for bb := range nb {
-			lo, hi := start[s*nb+bb], start[s*nb+bb+1]
-			valid[bb] = hi-lo >= minCount
-			if !valid[bb] {
-				continue
-			}
-			prof[bb] = medianInPlace(ws[lo:hi])
-			m := 0.0
-			for _, r := range rs[lo:hi] {
-				m += r
-			}
-			pos[bb] = m / float64(hi-lo)
-		}
-		// slope is the least-squares slope of the profile over bins
-		// k−2 … k+2, against the bins' mean radii.
-		slope := func(k int) (float64, bool) {
-			var sx, sy, sxx, sxy float64
-			m := 0
-			for t := k - 2; t <= k+2; t++ {
-				if t < 0 || t >= nb || !valid[t] {
-					continue
-				}
-				x := pos[t] - pos[k]
-				sx += x
-				sy += prof[t]
-				sxx += x * x
-				sxy += x * prof[t]
-				m++
-			}
-			if m < 4 || !valid[k] {
-				return 0, false
-			}
-			fm := float64(m)
-			den := sxx - sx*sx/fm
-			if !(den > 0) {
-				return 0, false
-			}
-			return (sxy - sx*sy/fm) / den, true
-		}
-		trend := profileTrend(prof, pos, valid, 0.6*r0, 0.9*r0)
-		// The limit grows with the scatter of the detrended slopes on the
-		// inner part of the profile (3 robust standard deviations), so that
-		// scanner noise alone does not end the base early.
-		thr := tanMax
-		var inner []float64
-		for k := kStart; k < nb && pos[k] < 0.9*r0; k++ {
-			if sl, okS := slope(k); okS {
-				inner = append(inner, sl-trend[1]-2*trend[2]*pos[k])
-			}
-		}
-		if len(inner) >= 8 {
-			med := medianInPlace(append([]float64(nil), inner...))
-			for i := range inner {
-				inner[i] = math.Abs(inner[i] - med)
-			}
-			thr = max(thr, 3*1.4826*medianInPlace(inner))
-		}
-		// A change of slope is the corner only when a wall follows: the
-		// profile turns steeper than wallSlope within wallRun. Otherwise
-		// the base itself is warped (a lifted rim), and the walk goes on
-		// against the new slope.
-		// The slope is the local least-squares one or, where too few bins
-		// are left for it (a vertical wall fills one bin), the step from
-		// the previous measured bin; the rise since k must exceed 0.5 % of
-		// r0, which no noise in the bins' medians does.
-		wallNear := func(k int) bool {
-			prev := k
-			for t := k + 1; t < nb && pos[t] <= pos[k]+wallRun; t++ {
-				if !valid[t] {
-					continue
-				}
-				st, okT := slope(t)
-				step := math.Abs(prof[t]-prof[prev]) / (pos[t] - pos[prev])
-				prev = t
-				if math.Abs(prof[t]-prof[k]) > 0.005*r0 && (okT && math.Abs(st) > wallSlope || step > wallSlope) {
-					return true
-				}
-			}
-			return false
-		}
-		bias, warp := 0.0, false // after a warp: the slope followed instead of the trend
-		edge, top := -1.0, 0.0
-		good, prevK, prevS := 0, -1, 0.0
-		for k := kStart; k < nb; k++ {
-			if !valid[k] {
-				more := false
-				for t := k + 1; t < min(nb, k+4); t++ {
-					more = more || valid[t]
-				}
-				if !more {
-					// Data end: the last bin holding points. For points
-					// spread evenly up to the edge their mean radius lies
-					// halfway between the bin's inner bound and the edge.
-					if good >= 3 {
-						last := k - 1
-						for !valid[last] {
-							last--
-						}
-						binLo := rlo + float64(last)*dr
-						edge = min(2*pos[last]-binLo, binLo+dr)
-					}
-					break
-				}
-				continue
-			}
-			sl, okS := slope(k)
-			if !okS {
-				continue
-			}
-			raw := sl
-			if warp {
-				sl -= bias
-			} else {
-				sl -= trend[1] + 2*trend[2]*pos[k]
-			}
-			if math.Abs(sl) > thr {
-				// A corner keeps rising; a noise spike does not: the edge
-				// needs one of the next two measured slopes over the limit
-				// too.
-				confirmed, seen := false, 0
-				for t := k + 1; t < nb && seen < 2; t++ {
-					if st, okT := slope(t); okT {
-						seen++
-						confirmed = confirmed || math.Abs(st-trend[1]-2*trend[2]*pos[t]) > thr
-					}
-				}
-				if !confirmed && seen == 2 {
-					continue
-				}
-				if !wallNear(k) {
-					warp, bias = true, raw
-					good, prevK, prevS = good+1, k, 0
-					top = max(top, math.Abs(prof[k]))
-					continue
-				}
-				if good >= 3 {
-					// Interpolate where the slope crosses the limit.
-					a, b := math.Abs(prevS), math.Abs(sl)
-					edge = pos[prevK] + (thr-a)/(b-a)*(pos[k]-pos[prevK])
-				}
-				break
-			}
-			good, prevK, prevS = good+1, k, sl
-			top = max(top, math.Abs(prof[k]))
-		}
+		rb.profile(s, sp)
+		trend := profileTrend(sp.prof, sp.pos, sp.valid, 0.6*r0, 0.9*r0)
+		thr := sp.slopeLimit(trend, kStart, r0, tanMax)
+		edge, top, warp := sp.edge(trend, thr, kStart, rb.rlo, dr, r0)
 		if edge < 0 {
 			continue
 		}
@@ -1204,6 +987,295 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, err
 	}
 	res.u, res.v, res.r, res.used = cu, cv, r, used
 	return res, nil
+}
+
+// rimMinCount is the fewest points a (sector, radial bin) needs to count.
+const rimMinCount = 4
+
+// rimBins holds the points of the rim annulus sorted by (sector, radial
+// bin): bin k of sector s holds ws[start[s*nb+k]:start[s*nb+k+1]] (heights,
+// m) and rs[...] (radii from the centre, m). Radial bins of width dr (m)
+// start at radius rlo (m).
+type rimBins struct {
+	ns, nb  int
+	rlo, dr float64
+	start   []int32
+	ws, rs  []float64
+}
+
+// annulusPoints returns the radius (m), angle (rad) and height (m) of the
+// points between radii rlo and rhi (m) about (uc, vc), thinned to some 30
+// points per bin of r0/400 in 72 sectors, with the thinning step and the
+// point density of the inner disc (radius 0.9 r0) in points per m².
+func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64) (ar, aa, aw []float64, rho float64) {
+	// Density from the inner disc.
+	nInner, nAnn := 0, 0
+	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
+	for _, p := range pts {
+		u, v, _ := f.coords(p)
+		du, dv := u-uc, v-vc
+		rr := du*du + dv*dv
+		if rr < in2 {
+			nInner++
+		}
+		if rr >= lo2 && rr < hi2 {
+			nAnn++
+		}
+	}
+	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
+	// denser scans.
+	step := max(1, nAnn/(30*72*int(400*(rhi-rlo)/r0)))
+	nAnn = nAnn/step + 1
+	ar, aa, aw = make([]float64, 0, nAnn), make([]float64, 0, nAnn), make([]float64, 0, nAnn)
+	for i := 0; i < len(pts); i += step {
+		u, v, w := f.coords(pts[i])
+		du, dv := u-uc, v-vc
+		rr := du*du + dv*dv
+		if rr >= lo2 && rr < hi2 {
+			ar = append(ar, math.Sqrt(rr))
+			aa = append(aa, math.Atan2(dv, du))
+			aw = append(aw, w)
+		}
+	}
+	rho = float64(nInner/step) / (math.Pi * 0.81 * r0 * r0) // points per m²
+	return ar, aa, aw, rho
+}
+
+// binRim sorts the points of the annulus about (uc, vc) that may hold the
+// rim (r0 is the first guess of the radius, rq the scan's extent, m) into
+// angular sectors and radial bins. The sector count follows the point
+// density; the bins are widened while more than a fifth of the inner ones
+// (0.6–0.9 r0) are empty (structured meshes and scan lines leave regular
+// gaps).
+func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64) (*rimBins, error) {
+	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
+	ar, aa, aw, rho := annulusPoints(pts, f, uc, vc, r0, rlo, rhi)
+	ring := rho * 2 * math.Pi * r0 // points per m of radius, all sectors
+	ns := min(72, max(24, int(ring*r0/400/20)))
+	dr := max(r0/400, 20*float64(ns)/ring)
+	var nb, nsb int
+	var start []int32
+	key := make([]int32, len(ar))
+	for try := 0; ; try++ {
+		nb = int(math.Ceil((rhi - rlo) / dr))
+		if nb < 8 {
+			return nil, errors.New("scan: level: too few points near the rim")
+		}
+		nsb = ns * nb
+		start = make([]int32, nsb+1)
+		for i := range ar {
+			s := int((aa[i] + math.Pi) / (2 * math.Pi) * float64(ns))
+			s = min(ns-1, max(0, s))
+			bb := min(nb-1, int((ar[i]-rlo)/dr))
+			key[i] = int32(s*nb + bb)
+			start[key[i]+1]++
+		}
+		k0, k1 := int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)
+		full, all := 0, 0
+		for s := range ns {
+			for bb := k0; bb < k1; bb++ {
+				all++
+				if start[s*nb+bb+1] >= rimMinCount {
+					full++
+				}
+			}
+		}
+		for k := range nsb {
+			start[k+1] += start[k]
+		}
+		if 5*full >= 4*all || try == 5 {
+			break
+		}
+		dr *= 1.5
+	}
+	ws := make([]float64, len(ar))
+	rs := make([]float64, len(ar))
+	fill := append([]int32(nil), start[:nsb]...)
+	for i, k := range key {
+		ws[fill[k]] = aw[i]
+		rs[fill[k]] = ar[i]
+		fill[k]++
+	}
+	return &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, start: start, ws: ws, rs: rs}, nil
+}
+
+// rimProfile is one sector's radial profile: per radial bin the median
+// height (m), the mean radius (m) and whether the bin holds enough points.
+type rimProfile struct {
+	prof, pos []float64
+	valid     []bool
+}
+
+// profile fills sp with sector s's profile (the bins' heights are
+// reordered in place by the median).
+func (rb *rimBins) profile(s int, sp *rimProfile) {
+	for bb := range rb.nb {
+		lo, hi := rb.start[s*rb.nb+bb], rb.start[s*rb.nb+bb+1]
+		sp.valid[bb] = hi-lo >= rimMinCount
+		if !sp.valid[bb] {
+			continue
+		}
+		sp.prof[bb] = medianInPlace(rb.ws[lo:hi])
+		m := 0.0
+		for _, r := range rb.rs[lo:hi] {
+			m += r
+		}
+		sp.pos[bb] = m / float64(hi-lo)
+	}
+}
+
+// slope is the least-squares slope (m/m) of the profile over bins
+// k−2 … k+2, against the bins' mean radii.
+func (sp *rimProfile) slope(k int) (float64, bool) {
+	nb := len(sp.prof)
+	var sx, sy, sxx, sxy float64
+	m := 0
+	for t := k - 2; t <= k+2; t++ {
+		if t < 0 || t >= nb || !sp.valid[t] {
+			continue
+		}
+		x := sp.pos[t] - sp.pos[k]
+		sx += x
+		sy += sp.prof[t]
+		sxx += x * x
+		sxy += x * sp.prof[t]
+		m++
+	}
+	if m < 4 || !sp.valid[k] {
+		return 0, false
+	}
+	fm := float64(m)
+	den := sxx - sx*sx/fm
+	if !(den > 0) {
+		return 0, false
+	}
+	return (sxy - sx*sy/fm) / den, true
+}
+
+// slopeLimit returns the slope limit (m/m) that ends the base: tanMax, or
+// more with the scatter of the detrended slopes on the inner part of the
+// profile (3 robust standard deviations), so that scanner noise alone
+// does not end the base early.
+func (sp *rimProfile) slopeLimit(trend [3]float64, kStart int, r0, tanMax float64) float64 {
+	nb := len(sp.prof)
+	thr := tanMax
+	var inner []float64
+	for k := kStart; k < nb && sp.pos[k] < 0.9*r0; k++ {
+		if sl, okS := sp.slope(k); okS {
+			inner = append(inner, sl-trend[1]-2*trend[2]*sp.pos[k])
+		}
+	}
+	if len(inner) >= 8 {
+		med := medianInPlace(append([]float64(nil), inner...))
+		for i := range inner {
+			inner[i] = math.Abs(inner[i] - med)
+		}
+		thr = max(thr, 3*1.4826*medianInPlace(inner))
+	}
+	return thr
+}
+
+// wallNear reports whether a wall follows bin k: the profile turns steeper
+// than wallSlope within wallRunFrac·r0. The slope is the local
+// least-squares one or, where too few bins are left for it (a vertical
+// wall fills one bin), the step from the previous measured bin; the rise
+// since k must exceed 0.5 % of r0, which no noise in the bins' medians
+// does.
+func (sp *rimProfile) wallNear(k int, r0 float64) bool {
+	nb := len(sp.prof)
+	prof, pos, valid := sp.prof, sp.pos, sp.valid
+	wallRun := wallRunFrac * r0
+	prev := k
+	for t := k + 1; t < nb && pos[t] <= pos[k]+wallRun; t++ {
+		if !valid[t] {
+			continue
+		}
+		st, okT := sp.slope(t)
+		step := math.Abs(prof[t]-prof[prev]) / (pos[t] - pos[prev])
+		prev = t
+		if math.Abs(prof[t]-prof[k]) > 0.005*r0 && (okT && math.Abs(st) > wallSlope || step > wallSlope) {
+			return true
+		}
+	}
+	return false
+}
+
+// edge walks the profile outwards from bin kStart and returns the rim
+// radius (m, negative when none is found), the largest |height| inside it
+// (m) and whether the base goes on past a change of slope that is not the
+// corner (warp). The edge is where the detrended slope crosses thr and a
+// wall follows (interpolated), or where the data end. A change of slope
+// with no wall after it is the base itself warping (a lifted rim): the
+// walk goes on against the new slope.
+func (sp *rimProfile) edge(trend [3]float64, thr float64, kStart int, rlo, dr, r0 float64) (edge, top float64, warp bool) {
+	nb := len(sp.prof)
+	prof, pos, valid := sp.prof, sp.pos, sp.valid
+	bias := 0.0 // after a warp: the slope followed instead of the trend
+	edge = -1.0
+	good, prevK, prevS := 0, -1, 0.0
+	for k := kStart; k < nb; k++ {
+		if !valid[k] {
+			more := false
+			for t := k + 1; t < min(nb, k+4); t++ {
+				more = more || valid[t]
+			}
+			if !more {
+				// Data end: the last bin holding points. For points
+				// spread evenly up to the edge their mean radius lies
+				// halfway between the bin's inner bound and the edge.
+				if good >= 3 {
+					last := k - 1
+					for !valid[last] {
+						last--
+					}
+					binLo := rlo + float64(last)*dr
+					edge = min(2*pos[last]-binLo, binLo+dr)
+				}
+				break
+			}
+			continue
+		}
+		sl, okS := sp.slope(k)
+		if !okS {
+			continue
+		}
+		raw := sl
+		if warp {
+			sl -= bias
+		} else {
+			sl -= trend[1] + 2*trend[2]*pos[k]
+		}
+		if math.Abs(sl) > thr {
+			// A corner keeps rising; a noise spike does not: the edge
+			// needs one of the next two measured slopes over the limit
+			// too.
+			confirmed, seen := false, 0
+			for t := k + 1; t < nb && seen < 2; t++ {
+				if st, okT := sp.slope(t); okT {
+					seen++
+					confirmed = confirmed || math.Abs(st-trend[1]-2*trend[2]*pos[t]) > thr
+				}
+			}
+			if !confirmed && seen == 2 {
+				continue
+			}
+			if !sp.wallNear(k, r0) {
+				warp, bias = true, raw
+				good, prevK, prevS = good+1, k, 0
+				top = max(top, math.Abs(prof[k]))
+				continue
+			}
+			if good >= 3 {
+				// Interpolate where the slope crosses the limit.
+				a, b := math.Abs(prevS), math.Abs(sl)
+				edge = pos[prevK] + (thr-a)/(b-a)*(pos[k]-pos[prevK])
+			}
+			break
+		}
+		good, prevK, prevS = good+1, k, sl
+		top = max(top, math.Abs(prof[k]))
+	}
+	return edge, top, warp
 }
 
 // extentRadius returns the 99.5th percentile of the distance of pts (up to
