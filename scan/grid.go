@@ -107,38 +107,81 @@ type Gridded struct {
 // Coverage, the largest hole and the rim's completeness are measured from
 // the kept points (see Coverage).
 func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
+	k, err := checkGridInput(l, opt)
+	if err != nil {
+		return nil, err
+	}
+	r := l.RadiusM
+	c := l.Cloud
+	bp := basePoints(c.Points, r)
+	sp := PointSpacing(bp.x, bp.y, math.Pi*r*r)
+	g := &Gridded{PointSpacingM: sp.MedianM}
+	cell, err := gridCell(opt, g.PointSpacingM, r)
+	if err != nil {
+		return nil, err
+	}
+	s, base, nBase := baseSurface(r, cell)
+	g.Raw = s
+	have := make([]bool, len(base))
+	kept, err := sampleBase(g, s, base, have, c, bp, k)
+	if err != nil {
+		return nil, err
+	}
+	nMeas, err := markStates(s, base, have)
+	if err != nil {
+		return nil, err
+	}
+	g.FillIterations = inpaint(s, have)
+	g.MeasuredCellsPct = 100 * float64(nMeas) / float64(nBase)
+	cv := measureCoverage(s, kept.x, kept.y, r, sp)
+	g.CoveragePct, g.LargestHoleM = cv.CoveragePct, cv.LargestHoleM
+	g.RimCompletenessPct, g.RimSectorsMissing = cv.RimCompletenessPct, cv.RimSectorsMissing
+	if g.CoveragePct < 90 {
+		g.Warnings = append(g.Warnings, fmt.Sprintf("only %.1f %% of the base lies within %.1f point spacings of a measured point; the rest is interpolated",
+			g.CoveragePct, CoverageSpacings))
+	}
+	return g, nil
+}
+
+// checkGridInput validates the levelled scan and the grid options and
+// returns the outlier threshold k (a multiple of the robust local sigma;
+// DefaultOutlierK when opt.OutlierK is 0).
+func checkGridInput(l *Levelled, opt GridOptions) (float64, error) {
 	if l == nil || l.Cloud == nil {
-		return nil, errors.New("scan: grid: no levelled scan")
+		return 0, errors.New("scan: grid: no levelled scan")
 	}
 	if math.IsNaN(opt.MaxCellM) || math.IsInf(opt.MaxCellM, 0) || opt.MaxCellM < 0 {
-		return nil, fmt.Errorf("scan: grid: largest cell %g m is not finite and non-negative", opt.MaxCellM)
+		return 0, fmt.Errorf("scan: grid: largest cell %g m is not finite and non-negative", opt.MaxCellM)
 	}
 	if math.IsNaN(opt.CellM) || math.IsInf(opt.CellM, 0) || opt.CellM < 0 {
-		return nil, fmt.Errorf("scan: grid: cell length %g m is not positive and finite (0 = automatic)", opt.CellM)
+		return 0, fmt.Errorf("scan: grid: cell length %g m is not positive and finite (0 = automatic)", opt.CellM)
 	}
 	k := opt.OutlierK
 	if k == 0 {
 		k = DefaultOutlierK
 	}
 	if !(k > 0) {
-		return nil, fmt.Errorf("scan: grid: outlier threshold %g is not positive", opt.OutlierK)
+		return 0, fmt.Errorf("scan: grid: outlier threshold %g is not positive", opt.OutlierK)
 	}
 	r := l.RadiusM
 	if !(r > 0) || math.IsInf(r, 0) {
-		return nil, fmt.Errorf("scan: grid: base radius %g m is not positive and finite", r)
+		return 0, fmt.Errorf("scan: grid: base radius %g m is not positive and finite", r)
 	}
-	c := l.Cloud
-	for i, p := range c.Points {
+	for i, p := range l.Cloud.Points {
 		if !finite3(p) {
-			return nil, fmt.Errorf("scan: grid: point %d is not finite", i)
+			return 0, fmt.Errorf("scan: grid: point %d is not finite", i)
 		}
 	}
-	bp := basePoints(c.Points, r)
-	sp := PointSpacing(bp.x, bp.y, math.Pi*r*r)
-	g := &Gridded{PointSpacingM: sp.MedianM}
+	return k, nil
+}
+
+// gridCell returns the cell edge in m: opt.CellM, or AutoCellM of the
+// median point spacing spacingM (m) capped at opt.MaxCellM. It fails when
+// the square grid over a base of radius r (m) would exceed the cell limit.
+func gridCell(opt GridOptions, spacingM, r float64) (float64, error) {
 	cell := opt.CellM
 	if cell == 0 {
-		cell = AutoCellM(g.PointSpacingM)
+		cell = AutoCellM(spacingM)
 		if opt.MaxCellM > 0 {
 			cell = min(cell, opt.MaxCellM)
 		}
@@ -148,14 +191,20 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 		limit = min(limit, float64(opt.MaxCells))
 	}
 	if sideF := 2*math.Floor(r/cell+1e-9) + 1; sideF*sideF > limit { // in floats: no overflow
-		return nil, fmt.Errorf("scan: grid: %.0f×%.0f cells for a %.1f mm base at %.3g mm cells is too many (the limit is %.0f cells); use larger cells",
+		return 0, fmt.Errorf("scan: grid: %.0f×%.0f cells for a %.1f mm base at %.3g mm cells is too many (the limit is %.0f cells); use larger cells",
 			sideF, sideF, 2e3*r, cell*1e3, limit)
 	}
+	return cell, nil
+}
+
+// baseSurface allocates the square surface of cell edge cell (m) centred
+// on the origin that holds the base disc of radius r (m), and returns it
+// with the mask of cells whose centres lie in the disc and their count.
+func baseSurface(r, cell float64) (s *Surface, base []bool, nBase int) {
 	half := int(math.Floor(r/cell + 1e-9))
 	side := 2*half + 1
-	s := NewSurface(side, side, cell, -float64(half)*cell, -float64(half)*cell)
-	base := make([]bool, side*side)
-	nBase := 0
+	s = NewSurface(side, side, cell, -float64(half)*cell, -float64(half)*cell)
+	base = make([]bool, side*side)
 	r2 := r * r * (1 + 1e-12)
 	for j := range side {
 		y := s.Y(j)
@@ -167,27 +216,40 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 			}
 		}
 	}
-	g.Raw = s
-	have := make([]bool, side*side)
+	return s, base, nBase
+}
+
+// sampleBase fills the cells of s from the cloud c: a mesh is rasterised
+// and its outlying cells rejected; a point cloud has its outlying points
+// (threshold k robust sigmas) removed and is binned by median height. It
+// sets have for every cell with data, records the outliers in g and
+// returns the base points kept.
+func sampleBase(g *Gridded, s *Surface, base, have []bool, c *Cloud, bp samples, k float64) (samples, error) {
 	kept := bp
 	if len(c.Triangles) > 0 {
 		if err := rasterise(s, base, have, c); err != nil {
-			return nil, err
+			return kept, err
 		}
 		g.OutliersRemoved, g.OutlierSigmaM = rejectMeshCells(s, have, g.PointSpacingM, k)
-	} else {
-		out, sigma := LocalOutliers(bp.x, bp.y, bp.z, g.PointSpacingM, k)
-		g.OutlierSigmaM = sigma
-		for t, o := range out {
-			if o {
-				g.Outliers = append(g.Outliers, bp.id[t])
-			}
-		}
-		g.OutliersRemoved = len(g.Outliers)
-		kept = bp.without(out)
-		binCloud(s, base, have, kept)
+		return kept, nil
 	}
+	out, sigma := LocalOutliers(bp.x, bp.y, bp.z, g.PointSpacingM, k)
+	g.OutlierSigmaM = sigma
+	for t, o := range out {
+		if o {
+			g.Outliers = append(g.Outliers, bp.id[t])
+		}
+	}
+	g.OutliersRemoved = len(g.Outliers)
+	kept = bp.without(out)
+	binCloud(s, base, have, kept)
+	return kept, nil
+}
 
+// markStates sets each cell's state: Measured where it has data, Filled
+// elsewhere in the base disc, Outside (height NaN) beyond it. It returns
+// the number of measured cells, and an error when there are none.
+func markStates(s *Surface, base, have []bool) (int, error) {
 	nMeas := 0
 	for p := range have {
 		if have[p] {
@@ -195,7 +257,7 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 		}
 	}
 	if nMeas == 0 {
-		return nil, errors.New("scan: grid: no scan data inside the base disc")
+		return 0, errors.New("scan: grid: no scan data inside the base disc")
 	}
 	for p := range base {
 		switch {
@@ -208,16 +270,7 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 			s.ZM[p] = nan
 		}
 	}
-	g.FillIterations = inpaint(s, have)
-	g.MeasuredCellsPct = 100 * float64(nMeas) / float64(nBase)
-	cv := measureCoverage(s, kept.x, kept.y, r, sp)
-	g.CoveragePct, g.LargestHoleM = cv.CoveragePct, cv.LargestHoleM
-	g.RimCompletenessPct, g.RimSectorsMissing = cv.RimCompletenessPct, cv.RimSectorsMissing
-	if g.CoveragePct < 90 {
-		g.Warnings = append(g.Warnings, fmt.Sprintf("only %.1f %% of the base lies within %.1f point spacings of a measured point; the rest is interpolated",
-			g.CoveragePct, CoverageSpacings))
-	}
-	return g, nil
+	return nMeas, nil
 }
 
 // samples are scan points inside the base disc: positions, heights and
@@ -381,43 +434,74 @@ func rasterise(s *Surface, base, have []bool, c *Cloud) error {
 // slope at the rim) by Jacobi-preconditioned conjugate gradients. It
 // returns the number of iterations.
 func inpaint(s *Surface, have []bool) int {
-	nx, ny := s.Nx, s.Ny
-	n := nx * ny
-	num := make([]int32, n)
-	var unk []int32
-	for q := range n {
-		num[q] = -1
-		if s.State[q] == Filled {
-			num[q] = int32(len(unk))
-			unk = append(unk, int32(q))
-		}
-	}
-	if len(unk) == 0 {
+	h := newHoles(s)
+	if len(h.unk) == 0 {
 		return 0
 	}
-	nbrs := func(q int, f func(p int)) {
-		i, j := q%nx, q/nx
-		if i > 0 && s.State[q-1] != Outside {
-			f(q - 1)
-		}
-		if i < nx-1 && s.State[q+1] != Outside {
-			f(q + 1)
-		}
-		if j > 0 && s.State[q-nx] != Outside {
-			f(q - nx)
-		}
-		if j < ny-1 && s.State[q+nx] != Outside {
-			f(q + nx)
+	h.peel(have)
+	deg, b, x := h.system()
+	it := h.solve(deg, b, x)
+	for t, q := range h.unk {
+		s.ZM[q] = x[t]
+	}
+	return it
+}
+
+// holes numbers the Filled cells of a surface (the unknowns of the
+// harmonic fill): unk lists their cell indices, num maps a cell index to
+// its unknown number or -1.
+type holes struct {
+	s   *Surface
+	num []int32
+	unk []int32
+}
+
+// newHoles numbers the Filled cells of s.
+func newHoles(s *Surface) *holes {
+	n := s.Nx * s.Ny
+	h := &holes{s: s, num: make([]int32, n)}
+	for q := range n {
+		h.num[q] = -1
+		if s.State[q] == Filled {
+			h.num[q] = int32(len(h.unk))
+			h.unk = append(h.unk, int32(q))
 		}
 	}
-	// Starting guess: peel the holes layer by layer from their edges,
-	// each cell taking the mean of its neighbours already set.
+	return h
+}
+
+// nbrs calls f for each 4-neighbour of cell q that is not Outside, in
+// the order left, right, below, above.
+func (h *holes) nbrs(q int, f func(p int)) {
+	s := h.s
+	nx, ny := s.Nx, s.Ny
+	i, j := q%nx, q/nx
+	if i > 0 && s.State[q-1] != Outside {
+		f(q - 1)
+	}
+	if i < nx-1 && s.State[q+1] != Outside {
+		f(q + 1)
+	}
+	if j > 0 && s.State[q-nx] != Outside {
+		f(q - nx)
+	}
+	if j < ny-1 && s.State[q+nx] != Outside {
+		f(q + nx)
+	}
+}
+
+// peel writes the starting guess for the fill into s.ZM (m): the holes
+// are peeled layer by layer from their edges, each cell taking the mean
+// height of its neighbours already set (cells with data, have, are set
+// from the start).
+func (h *holes) peel(have []bool) {
+	s := h.s
 	set := append([]bool(nil), have...)
-	layer := make([]int32, 0, len(unk))
-	inLayer := make([]bool, n)
-	for _, q := range unk {
+	layer := make([]int32, 0, len(h.unk))
+	inLayer := make([]bool, s.Nx*s.Ny)
+	for _, q := range h.unk {
 		hit := false
-		nbrs(int(q), func(p int) { hit = hit || set[p] })
+		h.nbrs(int(q), func(p int) { hit = hit || set[p] })
 		if hit {
 			layer = append(layer, q)
 			inLayer[q] = true
@@ -426,7 +510,7 @@ func inpaint(s *Surface, have []bool) int {
 	for len(layer) > 0 {
 		for _, q := range layer {
 			sum, cnt := 0.0, 0
-			nbrs(int(q), func(p int) {
+			h.nbrs(int(q), func(p int) {
 				if set[p] {
 					sum += s.ZM[p]
 					cnt++
@@ -439,7 +523,7 @@ func inpaint(s *Surface, have []bool) int {
 		}
 		var next []int32
 		for _, q := range layer {
-			nbrs(int(q), func(p int) {
+			h.nbrs(int(q), func(p int) {
 				if !set[p] && !inLayer[p] && s.State[p] == Filled {
 					inLayer[p] = true
 					next = append(next, int32(p))
@@ -448,37 +532,51 @@ func inpaint(s *Surface, have []bool) int {
 		}
 		layer = next
 	}
-	// A x = b with (A x)_u = deg_u x_u − Σ unknown neighbours,
-	// b_u = Σ known neighbours.
-	m := len(unk)
-	deg := make([]float64, m)
-	b := make([]float64, m)
-	x := make([]float64, m)
-	for t, q := range unk {
-		nbrs(int(q), func(p int) {
+}
+
+// system assembles A x = b with (A x)_u = deg_u x_u − Σ unknown
+// neighbours, b_u = Σ known neighbour heights (m); x starts from the
+// current heights of the unknown cells (m).
+func (h *holes) system() (deg, b, x []float64) {
+	m := len(h.unk)
+	deg = make([]float64, m)
+	b = make([]float64, m)
+	x = make([]float64, m)
+	for t, q := range h.unk {
+		h.nbrs(int(q), func(p int) {
 			deg[t]++
-			if num[p] < 0 {
-				b[t] += s.ZM[p]
+			if h.num[p] < 0 {
+				b[t] += h.s.ZM[p]
 			}
 		})
-		x[t] = s.ZM[q]
+		x[t] = h.s.ZM[q]
 	}
-	apply := func(dst, v []float64) {
-		for t, q := range unk {
-			a := deg[t] * v[t]
-			nbrs(int(q), func(p int) {
-				if u := num[p]; u >= 0 {
-					a -= v[u]
-				}
-			})
-			dst[t] = a
-		}
+	return deg, b, x
+}
+
+// apply sets dst = A v for the fill's Laplacian A with diagonal deg.
+func (h *holes) apply(dst, v, deg []float64) {
+	for t, q := range h.unk {
+		a := deg[t] * v[t]
+		h.nbrs(int(q), func(p int) {
+			if u := h.num[p]; u >= 0 {
+				a -= v[u]
+			}
+		})
+		dst[t] = a
 	}
+}
+
+// solve runs Jacobi-preconditioned conjugate gradients on A x = b from
+// the guess in x (m), until |r|² ≤ 1e-24 |b|² or 20000 iterations, and
+// returns the number of iterations.
+func (h *holes) solve(deg, b, x []float64) int {
+	m := len(x)
 	r := make([]float64, m)
 	z := make([]float64, m)
 	d := make([]float64, m)
 	ad := make([]float64, m)
-	apply(ad, x)
+	h.apply(ad, x, deg)
 	bn := 0.0
 	for t := range r {
 		r[t] = b[t] - ad[t]
@@ -500,7 +598,7 @@ func inpaint(s *Surface, have []bool) int {
 		if rr <= tol2 || rz == 0 {
 			break
 		}
-		apply(ad, d)
+		h.apply(ad, d, deg)
 		dad := 0.0
 		for t := range d {
 			dad += d[t] * ad[t]
@@ -523,9 +621,6 @@ func inpaint(s *Surface, have []bool) int {
 		for t := range d {
 			d[t] = z[t] + beta*d[t]
 		}
-	}
-	for t, q := range unk {
-		s.ZM[q] = x[t]
 	}
 	return it
 }

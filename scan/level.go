@@ -307,55 +307,117 @@ func scanWidth(pts []r3.Vec) (float64, bool) {
 
 // level is Level without the size check.
 func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
+	tanMax, tanCoarse, err := checkLevelInput(c, opt)
+	if err != nil {
+		return nil, err
+	}
+	out := &Levelled{}
+
+	// 0. Points repeated exactly count once.
+	all := c.Points
+	pts, rep, merged := mergeRepeats(c, out)
+
+	// 1. First plane from a subsample, without far strays.
+	sub, f, err := firstPlane(pts)
+	if err != nil {
+		return nil, err
+	}
+
+	// 2. Tilt the normal onto the dominant cell slope.
+	f, uvw, cg, g, err := tiltFrame(sub, f, tanCoarse)
+	if err != nil {
+		return nil, err
+	}
+
+	// 3. Base candidate by flood fill; plane on its inner part.
+	f, uc, vc, r0, c1, n2, err := baseCandidate(sub, uvw, cg, g, f, tanCoarse)
+	if err != nil {
+		return nil, err
+	}
+
+	// 4. Rim circle, searched out to where the scan ends (a warped base
+	// may reach well beyond its flat part).
+	rim, radius, err := rimCircle(pts, sub, &f, uc, vc, r0, tanMax, opt, out)
+	if err != nil {
+		return nil, err
+	}
+	centre := r3.Add(f.o, r3.Add(r3.Scale(rim.u, f.e[0]), r3.Scale(rim.v, f.e[1])))
+
+	// 5. Plane refit on the base inside the rim.
+	f = refitPlane(pts, f, rim, radius, centre, c1, n2)
+
+	// 6. Outer face. up is the base normal oriented to scanner +z.
+	bf := faceFrame(c, pts, f, radius, rim.dr, opt, out)
+	out.Rotation = [3][3]float64{
+		{bf.e[0].X, bf.e[0].Y, bf.e[0].Z},
+		{bf.e[1].X, bf.e[1].Y, bf.e[1].Z},
+		{bf.e[2].X, bf.e[2].Y, bf.e[2].Z},
+	}
+	out.OriginM = bf.o
+	out.RadiusM = radius
+
+	// 7. Keep the base; a repeated point keeps its first occurrence.
+	return keepBase(c, all, rep, merged, &bf, radius, rim.band, opt.Reuse, out)
+}
+
+// checkLevelInput validates the cloud and the options and returns the
+// tangents of the fine slope limit and of the coarse stage's limit.
+func checkLevelInput(c *Cloud, opt LevelOptions) (tanMax, tanCoarse float64, err error) {
 	if c == nil {
-		return nil, errors.New("scan: level: nil cloud")
+		return 0, 0, errors.New("scan: level: nil cloud")
 	}
 	switch opt.Face {
 	case "", FaceUp, FaceDown:
 	default:
-		return nil, fmt.Errorf("scan: level: face %q is not %q or %q", opt.Face, FaceUp, FaceDown)
+		return 0, 0, fmt.Errorf("scan: level: face %q is not %q or %q", opt.Face, FaceUp, FaceDown)
 	}
 	if math.IsNaN(opt.DiameterM) || math.IsInf(opt.DiameterM, 0) || opt.DiameterM < 0 {
-		return nil, fmt.Errorf("scan: level: diameter %g m is not a finite non-negative length", opt.DiameterM)
+		return 0, 0, fmt.Errorf("scan: level: diameter %g m is not a finite non-negative length", opt.DiameterM)
 	}
 	slopeDeg := opt.MaxSlopeDeg
 	if slopeDeg == 0 {
 		slopeDeg = DefaultMaxSlopeDeg
 	}
 	if !(slopeDeg > 0 && slopeDeg <= 30) {
-		return nil, fmt.Errorf("scan: level: slope limit %g° is not in (0°, 30°]", opt.MaxSlopeDeg)
+		return 0, 0, fmt.Errorf("scan: level: slope limit %g° is not in (0°, 30°]", opt.MaxSlopeDeg)
 	}
-	tanMax := math.Tan(slopeDeg * math.Pi / 180)
+	tanMax = math.Tan(slopeDeg * math.Pi / 180)
 	// The coarse stage only separates the base from the corner and wall;
 	// it allows a strongly warped base (a 3.5 % dish slopes 8° at the rim).
-	tanCoarse := math.Tan(max(2*slopeDeg, 8) * math.Pi / 180)
+	tanCoarse = math.Tan(max(2*slopeDeg, 8) * math.Pi / 180)
 	pts := c.Points
 	if len(pts) < minLevelPoints {
-		return nil, fmt.Errorf("scan: level: %d points; need at least %d to find the base", len(pts), minLevelPoints)
+		return 0, 0, fmt.Errorf("scan: level: %d points; need at least %d to find the base", len(pts), minLevelPoints)
 	}
 	for i, p := range pts {
 		if !finite3(p) {
-			return nil, fmt.Errorf("scan: level: point %d has a non-finite coordinate (%g, %g, %g)", i, p.X, p.Y, p.Z)
+			return 0, 0, fmt.Errorf("scan: level: point %d has a non-finite coordinate (%g, %g, %g)", i, p.X, p.Y, p.Z)
 		}
 	}
 	if len(c.Normals) != 0 && len(c.Normals) != len(pts) {
-		return nil, fmt.Errorf("scan: level: %d normals for %d points", len(c.Normals), len(pts))
+		return 0, 0, fmt.Errorf("scan: level: %d normals for %d points", len(c.Normals), len(pts))
 	}
 	if len(c.FacetNormals) != 0 && len(c.FacetNormals) != len(c.Triangles) {
-		return nil, fmt.Errorf("scan: level: %d facet normals for %d triangles", len(c.FacetNormals), len(c.Triangles))
+		return 0, 0, fmt.Errorf("scan: level: %d facet normals for %d triangles", len(c.FacetNormals), len(c.Triangles))
 	}
 	for t, tri := range c.Triangles {
 		for _, v := range tri {
 			if v < 0 || int(v) >= len(pts) {
-				return nil, fmt.Errorf("scan: level: triangle %d refers to vertex %d of %d", t, v, len(pts))
+				return 0, 0, fmt.Errorf("scan: level: triangle %d refers to vertex %d of %d", t, v, len(pts))
 			}
 		}
 	}
-	out := &Levelled{}
+	return tanMax, tanCoarse, nil
+}
 
-	// 0. Points repeated exactly count once.
-	all := pts
-	rep, merged := findRepeats(pts)
+// mergeRepeats returns the cloud's points with exact repeats counted once,
+// the map of each point to its first occurrence (nil when none repeat) and
+// the number merged; it records the count, and a warning for a cloud with
+// many, in out.
+func mergeRepeats(c *Cloud, out *Levelled) (pts []r3.Vec, rep []int32, merged int) {
+	all := c.Points
+	pts = all
+	rep, merged = findRepeats(pts)
 	if merged > 0 {
 		pts = uniquePoints(pts, rep, merged)
 		out.PointsMerged = merged
@@ -366,8 +428,13 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 				"each was counted once", merged, len(all), 100*float64(merged)/float64(len(all))))
 		}
 	}
+	return pts, rep, merged
+}
 
-	// 1. First plane from a subsample, without far strays.
+// firstPlane returns a subsample of at most about 150000 points without
+// far strays and the frame of their principal-component plane, its
+// normal towards scanner +z.
+func firstPlane(pts []r3.Vec) ([]r3.Vec, frame, error) {
 	stride := max(1, (len(pts)+149999)/150000)
 	sub := make([]r3.Vec, 0, len(pts)/stride+1)
 	for i := 0; i < len(pts); i += stride {
@@ -376,14 +443,18 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	sub = trimFar(sub)
 	c0, n0, ok := pcaPlane(sub)
 	if !ok {
-		return nil, errors.New("scan: level: points are degenerate (all on a line or a point)")
+		return nil, frame{}, errors.New("scan: level: points are degenerate (all on a line or a point)")
 	}
 	if n0.Z < 0 {
 		n0 = r3.Scale(-1, n0)
 	}
-	f := newFrame(c0, n0)
+	return sub, newFrame(c0, n0), nil
+}
 
-	// 2. Tilt the normal onto the dominant cell slope.
+// tiltFrame tilts the frame's normal onto the dominant slope of the
+// coarse cells (slopes up to tanCoarse) and returns the new frame, the
+// subsample's coordinates in it (m), its coarse grid and the cell edge g (m).
+func tiltFrame(sub []r3.Vec, f frame, tanCoarse float64) (frame, [][3]float64, *coarseGrid, float64, error) {
 	uvw := make([][3]float64, len(sub))
 	project := func() {
 		for i, p := range sub {
@@ -396,22 +467,28 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	cg := newCoarseGrid(uvw, g)
 	a, b, ok := cg.dominantSlope(tanCoarse)
 	if !ok {
-		return nil, errors.New("scan: level: no flat region found (is this a scan of a base?)")
+		return f, nil, nil, 0, errors.New("scan: level: no flat region found (is this a scan of a base?)")
 	}
 	n1 := r3.Unit(r3.Add(f.e[2], r3.Add(r3.Scale(-a, f.e[0]), r3.Scale(-b, f.e[1]))))
 	if n1.Z < 0 {
 		n1 = r3.Scale(-1, n1)
 	}
-	f = newFrame(c0, n1)
+	f = newFrame(f.o, n1)
 	project()
 	cg = newCoarseGrid(uvw, g)
+	return f, uvw, cg, g, nil
+}
 
-	// 3. Base candidate by flood fill; plane on its inner part.
+// baseCandidate finds the flat base by flood fill of the coarse cells and
+// fits a robust plane to its inner part (radius 0.9 r0). It returns that
+// plane's frame, the candidate's centre (uc, vc) in it and its
+// equal-area radius r0 (m), and the plane's point c1 and normal n2.
+func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f frame, tanCoarse float64) (
+	nf frame, uc, vc, r0 float64, c1, n2 r3.Vec, err error) {
 	comp := cg.baseComponent(tanCoarse)
 	if len(comp) < 4 {
-		return nil, errors.New("scan: level: no flat base found (fewer than 4 flat cells connected to the centre)")
+		return f, 0, 0, 0, c1, n2, errors.New("scan: level: no flat base found (fewer than 4 flat cells connected to the centre)")
 	}
-	var uc, vc float64
 	for _, q := range comp {
 		u, v := cg.centre(q)
 		uc += u
@@ -419,7 +496,7 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 	uc /= float64(len(comp))
 	vc /= float64(len(comp))
-	r0 := math.Sqrt(float64(len(comp)) * g * g / math.Pi)
+	r0 = math.Sqrt(float64(len(comp)) * g * g / math.Pi)
 	inComp := make([]bool, cg.nu*cg.nv)
 	for _, q := range comp {
 		inComp[q] = true
@@ -434,25 +511,29 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	centre := r3.Add(f.o, r3.Add(r3.Scale(uc, f.e[0]), r3.Scale(vc, f.e[1])))
 	c1, n2, ok := robustPlane(inner)
 	if !ok {
-		return nil, errors.New("scan: level: base candidate is degenerate")
+		return f, 0, 0, 0, c1, n2, errors.New("scan: level: base candidate is degenerate")
 	}
 	if n2.Z < 0 {
 		n2 = r3.Scale(-1, n2)
 	}
 	f = newFrame(c1, n2)
 	uc, vc, _ = f.coords(centre)
+	return f, uc, vc, r0, c1, n2, nil
+}
 
-	// 4. Rim circle, searched out to where the scan ends (a warped base
-	// may reach well beyond its flat part).
-	rq := extentRadius(sub, &f, uc, vc)
-	rim, err := fitRim(pts, &f, uc, vc, r0, rq, tanMax)
+// rimCircle fits the footprint circle (fitRim, or outlineRim for sparse
+// scans) and returns it with the base radius used (m): the fitted one, or
+// half opt.DiameterM when given. Warnings go to out.
+func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt LevelOptions, out *Levelled) (rimFit, float64, error) {
+	rq := extentRadius(sub, f, uc, vc)
+	rim, err := fitRim(pts, f, uc, vc, r0, rq, tanMax)
 	if err != nil {
 		// Sparse scans (a few points per millimetre of rim) defeat the
 		// profile search: fall back to a circle through the outline of
 		// the points near the base plane.
-		fb, ok := outlineRim(pts, &f, uc, vc, r0)
+		fb, ok := outlineRim(pts, f, uc, vc, r0)
 		if !ok {
-			return nil, err
+			return rim, 0, err
 		}
 		rim = fb
 		out.Warnings = append(out.Warnings, fmt.Sprintf("too few points for the rim profile search (%v); the footprint circle was fitted to the outline of the points near the base plane", err))
@@ -470,9 +551,14 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 				opt.DiameterM*1e3, 2e3*rim.r, 100*d))
 		}
 	}
-	centre = r3.Add(f.o, r3.Add(r3.Scale(rim.u, f.e[0]), r3.Scale(rim.v, f.e[1])))
+	return rim, radius, nil
+}
 
-	// 5. Plane refit on the base inside the rim.
+// refitPlane refits the robust plane on the points inside the rim circle
+// (a subsample of at most about 200000) and returns its frame with origin
+// at the footprint centre moved onto the plane; when the fit fails, the
+// candidate plane (c1, n2) is kept.
+func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n2 r3.Vec) frame {
 	stride2 := max(1, (len(pts)+199999)/200000)
 	basePts := make([]r3.Vec, 0, len(pts)/stride2+1)
 	for i := 0; i < len(pts); i += stride2 {
@@ -488,19 +574,23 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 		}
 		// Keep the footprint centre; move it onto the new plane.
 		centre = r3.Sub(centre, r3.Scale(r3.Dot(r3.Sub(centre, c2), n3), n3))
-		f = newFrame(centre, n3)
-	} else {
-		f = newFrame(r3.Sub(centre, r3.Scale(r3.Dot(r3.Sub(centre, c1), n2), n2)), n2)
+		return newFrame(centre, n3)
 	}
+	return newFrame(r3.Sub(centre, r3.Scale(r3.Dot(r3.Sub(centre, c1), n2), n2)), n2)
+}
 
-	// 6. Outer face. up is the base normal oriented to scanner +z.
+// faceFrame decides which side of the base is the outer face (from the
+// face option, the normals, the wall, or assumed towards the scanner) and
+// returns the base frame: +z into the pan (out of the hob with
+// opt.HobTop). The source and any warnings go to out.
+func faceFrame(c *Cloud, pts []r3.Vec, f frame, radius, dr float64, opt LevelOptions, out *Levelled) frame {
 	up := f.e[2]
 	if math.Abs(up.Z) < 0.5 {
 		out.Warnings = append(out.Warnings, fmt.Sprintf("the base plane is %.0f° from the scanner's x-y plane; face up/down refers to scanner +z",
 			math.Acos(math.Abs(up.Z))*180/math.Pi))
 	}
 	nSign, nDetail := normalsFace(c, &f, radius)
-	wSign := wallFace(pts, &f, radius, rim.dr)
+	wSign := wallFace(pts, &f, radius, dr)
 	var zSign float64 // +1: base +z along up, −1: against up
 	switch {
 	case opt.Face != "":
@@ -535,21 +625,44 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	if opt.HobTop {
 		ez = r3.Scale(-1, ez)
 	}
-	bf := newFrame(f.o, ez)
-	out.Rotation = [3][3]float64{
-		{bf.e[0].X, bf.e[0].Y, bf.e[0].Z},
-		{bf.e[1].X, bf.e[1].Y, bf.e[1].Z},
-		{bf.e[2].X, bf.e[2].Y, bf.e[2].Z},
-	}
-	out.OriginM = bf.o
-	out.RadiusM = radius
+	return newFrame(f.o, ez)
+}
 
-	// 7. Keep the base; a repeated point keeps its first occurrence.
-	pts = all
-	far := max(0.1*radius, 1.5*rim.band+0.02*radius)
-	level := 1.5*rim.band + 0.005*radius // base height, for the drop report
-	keep := make([]int32, len(pts))
+// keepBase keeps the points of pts (all the cloud's points) inside the
+// base cylinder (radius m, height within far of the plane), each repeated
+// point once, moves them and the cloud's normals and triangles into the
+// base frame bf, and records the drops in out. band (m) is the rim
+// search's largest base height. With reuse the cloud's storage is reused
+// and c is emptied.
+func keepBase(c *Cloud, pts []r3.Vec, rep []int32, merged int, bf *frame, radius, band float64, reuse bool, out *Levelled) (*Levelled, error) {
+	far := max(0.1*radius, 1.5*band+0.02*radius)
+	level := 1.5*band + 0.005*radius // base height, for the drop report
+	keep, drop := baseMask(pts, rep, bf, radius, far, level)
 	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
+	compactInto(lc, c, pts, rep, keep, bf, reuse)
+	out.Cloud = lc
+	out.PointsDropped = len(pts) - len(lc.Points) - merged
+	out.DroppedFraction = float64(out.PointsDropped) / float64(len(pts)-merged)
+	out.DroppedBeyondRim, out.DroppedAtBaseHeight, out.DroppedOffPlane = drop.beyond, drop.level, drop.offPlane
+	out.DroppedBySector = drop.sector
+	if out.DroppedFraction > DropReportFraction {
+		out.DropReason = drop.reason(len(pts)-merged, level, far)
+	}
+	if reuse {
+		*c = Cloud{} // its storage now belongs to the output
+	}
+	if len(lc.Points) < 3 {
+		return nil, errors.New("scan: level: fewer than 3 points left on the base")
+	}
+	return out, nil
+}
+
+// baseMask numbers the points kept on the base (index in the output, or
+// -1): not a repeat, within radius (m) of the axis and within far (m) of
+// the plane in frame bf. It tallies the dropped ones against the base
+// height level (m).
+func baseMask(pts []r3.Vec, rep []int32, bf *frame, radius, far, level float64) ([]int32, dropTally) {
+	keep := make([]int32, len(pts))
 	r2 := radius * radius
 	nKeep := int32(0)
 	var drop dropTally
@@ -567,9 +680,21 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 		keep[i] = nKeep
 		nKeep++
 	}
-	// Kept items move to an index no larger than their own, so the output
-	// can be compacted into the input's storage in one forward pass.
-	if opt.Reuse {
+	return keep, drop
+}
+
+// compactInto fills lc with the kept points, normals, triangles and facet
+// normals of c, rotated into frame bf. With reuse the output takes c's
+// storage: kept items move to an index no larger than their own, so one
+// forward pass compacts them in place.
+func compactInto(lc, c *Cloud, pts []r3.Vec, rep, keep []int32, bf *frame, reuse bool) {
+	nKeep := 0
+	for _, k := range keep {
+		if k >= 0 {
+			nKeep++
+		}
+	}
+	if reuse {
 		lc.Points = pts[:0]
 		if len(c.Normals) != 0 {
 			lc.Normals = c.Normals[:0]
@@ -608,21 +733,6 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 			lc.FacetNormals = append(lc.FacetNormals, bf.rotate(facetNormals[t]))
 		}
 	}
-	out.Cloud = lc
-	out.PointsDropped = len(pts) - len(lc.Points) - merged
-	out.DroppedFraction = float64(out.PointsDropped) / float64(len(pts)-merged)
-	out.DroppedBeyondRim, out.DroppedAtBaseHeight, out.DroppedOffPlane = drop.beyond, drop.level, drop.offPlane
-	out.DroppedBySector = drop.sector
-	if out.DroppedFraction > DropReportFraction {
-		out.DropReason = drop.reason(len(pts)-merged, level, far)
-	}
-	if opt.Reuse {
-		*c = Cloud{} // its storage now belongs to the output
-	}
-	if len(lc.Points) < 3 {
-		return nil, errors.New("scan: level: fewer than 3 points left on the base")
-	}
-	return out, nil
 }
 
 // rotate expresses the direction d in the frame's axes.
@@ -947,242 +1057,25 @@ type rimFit struct {
 // fitRim finds the base rim along radial profiles in angular sectors about
 // (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
 func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, error) {
-	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
-	// Density from the inner disc.
-	nInner, nAnn := 0, 0
-	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
-	for _, p := range pts {
-		u, v, _ := f.coords(p)
-		du, dv := u-uc, v-vc
-		rr := du*du + dv*dv
-		if rr < in2 {
-			nInner++
-		}
-		if rr >= lo2 && rr < hi2 {
-			nAnn++
-		}
+	rb, err := binRim(pts, f, uc, vc, r0, rq)
+	if err != nil {
+		return rimFit{}, err
 	}
-	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
-	// denser scans.
-	step := max(1, nAnn/(30*72*int(400*(rhi-rlo)/r0)))
-	nAnn = nAnn/step + 1
-	ar, aa, aw := make([]float64, 0, nAnn), make([]float64, 0, nAnn), make([]float64, 0, nAnn)
-	for i := 0; i < len(pts); i += step {
-		u, v, w := f.coords(pts[i])
-		du, dv := u-uc, v-vc
-		rr := du*du + dv*dv
-		if rr >= lo2 && rr < hi2 {
-			ar = append(ar, math.Sqrt(rr))
-			aa = append(aa, math.Atan2(dv, du))
-			aw = append(aw, w)
-		}
+	ns, nb, dr := rb.ns, rb.nb, rb.dr
+	sp := &rimProfile{
+		prof:  make([]float64, nb), // median height per bin
+		pos:   make([]float64, nb), // mean radius per bin
+		valid: make([]bool, nb),
 	}
-	rho := float64(nInner/step) / (math.Pi * 0.81 * r0 * r0) // points per m²
-	ring := rho * 2 * math.Pi * r0                           // points per m of radius, all sectors
-	ns := min(72, max(24, int(ring*r0/400/20)))
-	dr := max(r0/400, 20*float64(ns)/ring)
-	const minCount = 4
-	wallRun := wallRunFrac * r0
-	var nb, nsb int
-	var start []int32
-	var ws []float64
-	key := make([]int32, len(ar))
-	// Bin into (sector, radial bin); widen the bins while more than a
-	// fifth of the inner ones are empty (structured meshes and scan lines
-	// leave regular gaps).
-	for try := 0; ; try++ {
-		nb = int(math.Ceil((rhi - rlo) / dr))
-		if nb < 8 {
-			return rimFit{}, errors.New("scan: level: too few points near the rim")
-		}
-		nsb = ns * nb
-		start = make([]int32, nsb+1)
-		for i := range ar {
-			s := int((aa[i] + math.Pi) / (2 * math.Pi) * float64(ns))
-			s = min(ns-1, max(0, s))
-			bb := min(nb-1, int((ar[i]-rlo)/dr))
-			key[i] = int32(s*nb + bb)
-			start[key[i]+1]++
-		}
-		k0, k1 := int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)
-		full, all := 0, 0
-		for s := range ns {
-			for bb := k0; bb < k1; bb++ {
-				all++
-				if start[s*nb+bb+1] >= minCount {
-					full++
-				}
-			}
-		}
-		for k := range nsb {
-			start[k+1] += start[k]
-		}
-		if 5*full >= 4*all || try == 5 {
-			break
-		}
-		dr *= 1.5
-	}
-	ws = make([]float64, len(ar))
-	rs := make([]float64, len(ar))
-	fill := append([]int32(nil), start[:nsb]...)
-	for i, k := range key {
-		ws[fill[k]] = aw[i]
-		rs[fill[k]] = ar[i]
-		fill[k]++
-	}
-	prof := make([]float64, nb) // median height per bin
-	pos := make([]float64, nb)  // mean radius per bin
-	valid := make([]bool, nb)
 	var eu, ev []float64
-	kStart := int((0.6*r0 - rlo) / dr)
+	kStart := int((0.6*r0 - rb.rlo) / dr)
 	var band float64
 	var warped int
 	for s := range ns {
-		for bb := range nb {
-			lo, hi := start[s*nb+bb], start[s*nb+bb+1]
-			valid[bb] = hi-lo >= minCount
-			if !valid[bb] {
-				continue
-			}
-			prof[bb] = medianInPlace(ws[lo:hi])
-			m := 0.0
-			for _, r := range rs[lo:hi] {
-				m += r
-			}
-			pos[bb] = m / float64(hi-lo)
-		}
-		// slope is the least-squares slope of the profile over bins
-		// k−2 … k+2, against the bins' mean radii.
-		slope := func(k int) (float64, bool) {
-			var sx, sy, sxx, sxy float64
-			m := 0
-			for t := k - 2; t <= k+2; t++ {
-				if t < 0 || t >= nb || !valid[t] {
-					continue
-				}
-				x := pos[t] - pos[k]
-				sx += x
-				sy += prof[t]
-				sxx += x * x
-				sxy += x * prof[t]
-				m++
-			}
-			if m < 4 || !valid[k] {
-				return 0, false
-			}
-			fm := float64(m)
-			den := sxx - sx*sx/fm
-			if !(den > 0) {
-				return 0, false
-			}
-			return (sxy - sx*sy/fm) / den, true
-		}
-		trend := profileTrend(prof, pos, valid, 0.6*r0, 0.9*r0)
-		// The limit grows with the scatter of the detrended slopes on the
-		// inner part of the profile (3 robust standard deviations), so that
-		// scanner noise alone does not end the base early.
-		thr := tanMax
-		var inner []float64
-		for k := kStart; k < nb && pos[k] < 0.9*r0; k++ {
-			if sl, okS := slope(k); okS {
-				inner = append(inner, sl-trend[1]-2*trend[2]*pos[k])
-			}
-		}
-		if len(inner) >= 8 {
-			med := medianInPlace(append([]float64(nil), inner...))
-			for i := range inner {
-				inner[i] = math.Abs(inner[i] - med)
-			}
-			thr = max(thr, 3*1.4826*medianInPlace(inner))
-		}
-		// A change of slope is the corner only when a wall follows: the
-		// profile turns steeper than wallSlope within wallRun. Otherwise
-		// the base itself is warped (a lifted rim), and the walk goes on
-		// against the new slope.
-		// The slope is the local least-squares one or, where too few bins
-		// are left for it (a vertical wall fills one bin), the step from
-		// the previous measured bin; the rise since k must exceed 0.5 % of
-		// r0, which no noise in the bins' medians does.
-		wallNear := func(k int) bool {
-			prev := k
-			for t := k + 1; t < nb && pos[t] <= pos[k]+wallRun; t++ {
-				if !valid[t] {
-					continue
-				}
-				st, okT := slope(t)
-				step := math.Abs(prof[t]-prof[prev]) / (pos[t] - pos[prev])
-				prev = t
-				if math.Abs(prof[t]-prof[k]) > 0.005*r0 && (okT && math.Abs(st) > wallSlope || step > wallSlope) {
-					return true
-				}
-			}
-			return false
-		}
-		bias, warp := 0.0, false // after a warp: the slope followed instead of the trend
-		edge, top := -1.0, 0.0
-		good, prevK, prevS := 0, -1, 0.0
-		for k := kStart; k < nb; k++ {
-			if !valid[k] {
-				more := false
-				for t := k + 1; t < min(nb, k+4); t++ {
-					more = more || valid[t]
-				}
-				if !more {
-					// Data end: the last bin holding points. For points
-					// spread evenly up to the edge their mean radius lies
-					// halfway between the bin's inner bound and the edge.
-					if good >= 3 {
-						last := k - 1
-						for !valid[last] {
-							last--
-						}
-						binLo := rlo + float64(last)*dr
-						edge = min(2*pos[last]-binLo, binLo+dr)
-					}
-					break
-				}
-				continue
-			}
-			sl, okS := slope(k)
-			if !okS {
-				continue
-			}
-			raw := sl
-			if warp {
-				sl -= bias
-			} else {
-				sl -= trend[1] + 2*trend[2]*pos[k]
-			}
-			if math.Abs(sl) > thr {
-				// A corner keeps rising; a noise spike does not: the edge
-				// needs one of the next two measured slopes over the limit
-				// too.
-				confirmed, seen := false, 0
-				for t := k + 1; t < nb && seen < 2; t++ {
-					if st, okT := slope(t); okT {
-						seen++
-						confirmed = confirmed || math.Abs(st-trend[1]-2*trend[2]*pos[t]) > thr
-					}
-				}
-				if !confirmed && seen == 2 {
-					continue
-				}
-				if !wallNear(k) {
-					warp, bias = true, raw
-					good, prevK, prevS = good+1, k, 0
-					top = max(top, math.Abs(prof[k]))
-					continue
-				}
-				if good >= 3 {
-					// Interpolate where the slope crosses the limit.
-					a, b := math.Abs(prevS), math.Abs(sl)
-					edge = pos[prevK] + (thr-a)/(b-a)*(pos[k]-pos[prevK])
-				}
-				break
-			}
-			good, prevK, prevS = good+1, k, sl
-			top = max(top, math.Abs(prof[k]))
-		}
+		rb.profile(s, sp)
+		trend := profileTrend(sp.prof, sp.pos, sp.valid, 0.6*r0, 0.9*r0)
+		thr := sp.slopeLimit(trend, kStart, r0, tanMax)
+		edge, top, warp := sp.edge(trend, thr, kStart, rb.rlo, dr, r0)
 		if edge < 0 {
 			continue
 		}
@@ -1204,6 +1097,295 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, err
 	}
 	res.u, res.v, res.r, res.used = cu, cv, r, used
 	return res, nil
+}
+
+// rimMinCount is the fewest points a (sector, radial bin) needs to count.
+const rimMinCount = 4
+
+// rimBins holds the points of the rim annulus sorted by (sector, radial
+// bin): bin k of sector s holds ws[start[s*nb+k]:start[s*nb+k+1]] (heights,
+// m) and rs[...] (radii from the centre, m). Radial bins of width dr (m)
+// start at radius rlo (m).
+type rimBins struct {
+	ns, nb  int
+	rlo, dr float64
+	start   []int32
+	ws, rs  []float64
+}
+
+// annulusPoints returns the radius (m), angle (rad) and height (m) of the
+// points between radii rlo and rhi (m) about (uc, vc), thinned to some 30
+// points per bin of r0/400 in 72 sectors, with the thinning step and the
+// point density of the inner disc (radius 0.9 r0) in points per m².
+func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64) (ar, aa, aw []float64, rho float64) {
+	// Density from the inner disc.
+	nInner, nAnn := 0, 0
+	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
+	for _, p := range pts {
+		u, v, _ := f.coords(p)
+		du, dv := u-uc, v-vc
+		rr := du*du + dv*dv
+		if rr < in2 {
+			nInner++
+		}
+		if rr >= lo2 && rr < hi2 {
+			nAnn++
+		}
+	}
+	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
+	// denser scans.
+	step := max(1, nAnn/(30*72*int(400*(rhi-rlo)/r0)))
+	nAnn = nAnn/step + 1
+	ar, aa, aw = make([]float64, 0, nAnn), make([]float64, 0, nAnn), make([]float64, 0, nAnn)
+	for i := 0; i < len(pts); i += step {
+		u, v, w := f.coords(pts[i])
+		du, dv := u-uc, v-vc
+		rr := du*du + dv*dv
+		if rr >= lo2 && rr < hi2 {
+			ar = append(ar, math.Sqrt(rr))
+			aa = append(aa, math.Atan2(dv, du))
+			aw = append(aw, w)
+		}
+	}
+	rho = float64(nInner/step) / (math.Pi * 0.81 * r0 * r0) // points per m²
+	return ar, aa, aw, rho
+}
+
+// binRim sorts the points of the annulus about (uc, vc) that may hold the
+// rim (r0 is the first guess of the radius, rq the scan's extent, m) into
+// angular sectors and radial bins. The sector count follows the point
+// density; the bins are widened while more than a fifth of the inner ones
+// (0.6–0.9 r0) are empty (structured meshes and scan lines leave regular
+// gaps).
+func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64) (*rimBins, error) {
+	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
+	ar, aa, aw, rho := annulusPoints(pts, f, uc, vc, r0, rlo, rhi)
+	ring := rho * 2 * math.Pi * r0 // points per m of radius, all sectors
+	ns := min(72, max(24, int(ring*r0/400/20)))
+	dr := max(r0/400, 20*float64(ns)/ring)
+	var nb, nsb int
+	var start []int32
+	key := make([]int32, len(ar))
+	for try := 0; ; try++ {
+		nb = int(math.Ceil((rhi - rlo) / dr))
+		if nb < 8 {
+			return nil, errors.New("scan: level: too few points near the rim")
+		}
+		nsb = ns * nb
+		start = make([]int32, nsb+1)
+		for i := range ar {
+			s := int((aa[i] + math.Pi) / (2 * math.Pi) * float64(ns))
+			s = min(ns-1, max(0, s))
+			bb := min(nb-1, int((ar[i]-rlo)/dr))
+			key[i] = int32(s*nb + bb)
+			start[key[i]+1]++
+		}
+		k0, k1 := int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)
+		full, all := 0, 0
+		for s := range ns {
+			for bb := k0; bb < k1; bb++ {
+				all++
+				if start[s*nb+bb+1] >= rimMinCount {
+					full++
+				}
+			}
+		}
+		for k := range nsb {
+			start[k+1] += start[k]
+		}
+		if 5*full >= 4*all || try == 5 {
+			break
+		}
+		dr *= 1.5
+	}
+	ws := make([]float64, len(ar))
+	rs := make([]float64, len(ar))
+	fill := append([]int32(nil), start[:nsb]...)
+	for i, k := range key {
+		ws[fill[k]] = aw[i]
+		rs[fill[k]] = ar[i]
+		fill[k]++
+	}
+	return &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, start: start, ws: ws, rs: rs}, nil
+}
+
+// rimProfile is one sector's radial profile: per radial bin the median
+// height (m), the mean radius (m) and whether the bin holds enough points.
+type rimProfile struct {
+	prof, pos []float64
+	valid     []bool
+}
+
+// profile fills sp with sector s's profile (the bins' heights are
+// reordered in place by the median).
+func (rb *rimBins) profile(s int, sp *rimProfile) {
+	for bb := range rb.nb {
+		lo, hi := rb.start[s*rb.nb+bb], rb.start[s*rb.nb+bb+1]
+		sp.valid[bb] = hi-lo >= rimMinCount
+		if !sp.valid[bb] {
+			continue
+		}
+		sp.prof[bb] = medianInPlace(rb.ws[lo:hi])
+		m := 0.0
+		for _, r := range rb.rs[lo:hi] {
+			m += r
+		}
+		sp.pos[bb] = m / float64(hi-lo)
+	}
+}
+
+// slope is the least-squares slope (m/m) of the profile over bins
+// k−2 … k+2, against the bins' mean radii.
+func (sp *rimProfile) slope(k int) (float64, bool) {
+	nb := len(sp.prof)
+	var sx, sy, sxx, sxy float64
+	m := 0
+	for t := k - 2; t <= k+2; t++ {
+		if t < 0 || t >= nb || !sp.valid[t] {
+			continue
+		}
+		x := sp.pos[t] - sp.pos[k]
+		sx += x
+		sy += sp.prof[t]
+		sxx += x * x
+		sxy += x * sp.prof[t]
+		m++
+	}
+	if m < 4 || !sp.valid[k] {
+		return 0, false
+	}
+	fm := float64(m)
+	den := sxx - sx*sx/fm
+	if !(den > 0) {
+		return 0, false
+	}
+	return (sxy - sx*sy/fm) / den, true
+}
+
+// slopeLimit returns the slope limit (m/m) that ends the base: tanMax, or
+// more with the scatter of the detrended slopes on the inner part of the
+// profile (3 robust standard deviations), so that scanner noise alone
+// does not end the base early.
+func (sp *rimProfile) slopeLimit(trend [3]float64, kStart int, r0, tanMax float64) float64 {
+	nb := len(sp.prof)
+	thr := tanMax
+	var inner []float64
+	for k := kStart; k < nb && sp.pos[k] < 0.9*r0; k++ {
+		if sl, okS := sp.slope(k); okS {
+			inner = append(inner, sl-trend[1]-2*trend[2]*sp.pos[k])
+		}
+	}
+	if len(inner) >= 8 {
+		med := medianInPlace(append([]float64(nil), inner...))
+		for i := range inner {
+			inner[i] = math.Abs(inner[i] - med)
+		}
+		thr = max(thr, 3*1.4826*medianInPlace(inner))
+	}
+	return thr
+}
+
+// wallNear reports whether a wall follows bin k: the profile turns steeper
+// than wallSlope within wallRunFrac·r0. The slope is the local
+// least-squares one or, where too few bins are left for it (a vertical
+// wall fills one bin), the step from the previous measured bin; the rise
+// since k must exceed 0.5 % of r0, which no noise in the bins' medians
+// does.
+func (sp *rimProfile) wallNear(k int, r0 float64) bool {
+	nb := len(sp.prof)
+	prof, pos, valid := sp.prof, sp.pos, sp.valid
+	wallRun := wallRunFrac * r0
+	prev := k
+	for t := k + 1; t < nb && pos[t] <= pos[k]+wallRun; t++ {
+		if !valid[t] {
+			continue
+		}
+		st, okT := sp.slope(t)
+		step := math.Abs(prof[t]-prof[prev]) / (pos[t] - pos[prev])
+		prev = t
+		if math.Abs(prof[t]-prof[k]) > 0.005*r0 && (okT && math.Abs(st) > wallSlope || step > wallSlope) {
+			return true
+		}
+	}
+	return false
+}
+
+// edge walks the profile outwards from bin kStart and returns the rim
+// radius (m, negative when none is found), the largest |height| inside it
+// (m) and whether the base goes on past a change of slope that is not the
+// corner (warp). The edge is where the detrended slope crosses thr and a
+// wall follows (interpolated), or where the data end. A change of slope
+// with no wall after it is the base itself warping (a lifted rim): the
+// walk goes on against the new slope.
+func (sp *rimProfile) edge(trend [3]float64, thr float64, kStart int, rlo, dr, r0 float64) (edge, top float64, warp bool) {
+	nb := len(sp.prof)
+	prof, pos, valid := sp.prof, sp.pos, sp.valid
+	bias := 0.0 // after a warp: the slope followed instead of the trend
+	edge = -1.0
+	good, prevK, prevS := 0, -1, 0.0
+	for k := kStart; k < nb; k++ {
+		if !valid[k] {
+			more := false
+			for t := k + 1; t < min(nb, k+4); t++ {
+				more = more || valid[t]
+			}
+			if !more {
+				// Data end: the last bin holding points. For points
+				// spread evenly up to the edge their mean radius lies
+				// halfway between the bin's inner bound and the edge.
+				if good >= 3 {
+					last := k - 1
+					for !valid[last] {
+						last--
+					}
+					binLo := rlo + float64(last)*dr
+					edge = min(2*pos[last]-binLo, binLo+dr)
+				}
+				break
+			}
+			continue
+		}
+		sl, okS := sp.slope(k)
+		if !okS {
+			continue
+		}
+		raw := sl
+		if warp {
+			sl -= bias
+		} else {
+			sl -= trend[1] + 2*trend[2]*pos[k]
+		}
+		if math.Abs(sl) > thr {
+			// A corner keeps rising; a noise spike does not: the edge
+			// needs one of the next two measured slopes over the limit
+			// too.
+			confirmed, seen := false, 0
+			for t := k + 1; t < nb && seen < 2; t++ {
+				if st, okT := sp.slope(t); okT {
+					seen++
+					confirmed = confirmed || math.Abs(st-trend[1]-2*trend[2]*pos[t]) > thr
+				}
+			}
+			if !confirmed && seen == 2 {
+				continue
+			}
+			if !sp.wallNear(k, r0) {
+				warp, bias = true, raw
+				good, prevK, prevS = good+1, k, 0
+				top = max(top, math.Abs(prof[k]))
+				continue
+			}
+			if good >= 3 {
+				// Interpolate where the slope crosses the limit.
+				a, b := math.Abs(prevS), math.Abs(sl)
+				edge = pos[prevK] + (thr-a)/(b-a)*(pos[k]-pos[prevK])
+			}
+			break
+		}
+		good, prevK, prevS = good+1, k, sl
+		top = max(top, math.Abs(prof[k]))
+	}
+	return edge, top, warp
 }
 
 // extentRadius returns the 99.5th percentile of the distance of pts (up to
