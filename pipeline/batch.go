@@ -348,7 +348,7 @@ func planTasks(dir, out string, opt BatchOptions, log *runLog) ([]ScanTask, []Su
 		}
 		return false
 	}
-	disc, err := Discover(dir, skip)
+	disc, err := Discover(dir, skip, opt.Job.FilePaths())
 	if err != nil {
 		return nil, nil, nil, &ConfigError{Err: err}
 	}

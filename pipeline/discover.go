@@ -325,12 +325,13 @@ type Discovery struct {
 
 // Discover reads dir's manifest.csv (when there is one) and lists dir's
 // scans with DiscoverScans, leaving out the hob and job files the manifest
-// names. A bad manifest row fails the scan it names; a row whose path is
+// names, the profiles those jobs name, and jobFiles (absolute paths of the
+// profiles the batch's own job names; those outside dir are ignored). A bad manifest row fails the scan it names; a row whose path is
 // unusable is an entry of its own, "manifest.csv line N"; a row that names
 // no scan is an entry with that problem. The error is a *ManifestError when
 // the manifest as a whole is unusable (a configuration error), or says that
 // dir cannot be listed.
-func Discover(dir string, skip func(path string) bool) (*Discovery, error) {
+func Discover(dir string, skip func(path string) bool, jobFiles []string) (*Discovery, error) {
 	m, err := readManifestFile(dir)
 	if err != nil {
 		return nil, err
@@ -344,6 +345,7 @@ func Discover(dir string, skip func(path string) bool) (*Discovery, error) {
 		problems[p] = append(problems[p], msg)
 	}
 	exclude := map[string]bool{}
+	excludeInside(dir, jobFiles, exclude)
 	if m != nil {
 		checkManifestFiles(dir, m)
 		for _, r := range m.Rows {
@@ -351,6 +353,9 @@ func Discover(dir string, skip func(path string) bool) (*Discovery, error) {
 				if f != "" {
 					exclude[f] = true
 				}
+			}
+			if r.Job != "" {
+				excludeJobFiles(dir, r.Job, exclude)
 			}
 		}
 		for _, pr := range m.Problems {
@@ -397,6 +402,41 @@ func Discover(dir string, skip func(path string) bool) (*Discovery, error) {
 	}
 	sort.Slice(d.Entries, func(i, j int) bool { return d.Entries[i].Path < d.Entries[j].Path })
 	return d, nil
+}
+
+// excludeInside adds to exclude the slash-separated path, relative to dir,
+// of every file in files (absolute paths) that lies inside dir.
+func excludeInside(dir string, files []string, exclude map[string]bool) {
+	for _, f := range files {
+		if f == "" {
+			continue
+		}
+		absDir, err1 := filepath.Abs(dir)
+		absF, err2 := filepath.Abs(f)
+		if err1 != nil || err2 != nil {
+			continue
+		}
+		rel, err := filepath.Rel(absDir, absF)
+		if err == nil && filepath.IsLocal(rel) {
+			exclude[filepath.ToSlash(rel)] = true
+		}
+	}
+}
+
+// excludeJobFiles adds to exclude the profiles named by the job file rel
+// (a manifest row's job): a hob profile is a CSV like a scan, and must not
+// be listed as one. An unreadable job is left for the row's own analysis
+// to report.
+func excludeJobFiles(dir, rel string, exclude map[string]bool) {
+	p, err := ResolveInside(dir, rel)
+	if err != nil {
+		return
+	}
+	job, err := ReadJobFile(p)
+	if err != nil {
+		return
+	}
+	excludeInside(dir, job.FilePaths(), exclude)
 }
 
 // checkManifestFiles moves to m.Problems every row whose hob or job file is

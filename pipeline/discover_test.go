@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"syscall"
 	"testing"
@@ -287,7 +288,7 @@ func TestDiscover(t *testing.T) {
 			writeTree(t, base, map[string]string{"outside/canary.stl": "CANARY"})
 			in := filepath.Join(base, "in")
 			writeTree(t, in, tc.files)
-			d, err := Discover(in, nil)
+			d, err := Discover(in, nil, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -361,7 +362,7 @@ func TestDiscoverManifest(t *testing.T) {
 			"../x.stl,,\n" + // path escapes
 			"e.stl,,1\ne.stl,,2\n", // duplicate
 	})
-	d, err := Discover(in, nil)
+	d, err := Discover(in, nil, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -397,10 +398,60 @@ func TestDiscoverManifestConfig(t *testing.T) {
 	for name, m := range map[string]string{"link out": "->../outside/m.csv", "no path column": "lot\nL1\n"} {
 		in := filepath.Join(base, strings.ReplaceAll(name, " ", "-"))
 		writeTree(t, in, map[string]string{"a.stl": "x", ManifestName: m})
-		_, err := Discover(in, nil)
+		_, err := Discover(in, nil, nil)
 		var me *ManifestError
 		if !errors.As(err, &me) || strings.Contains(err.Error(), "SECRET") {
 			t.Errorf("%s: error %v, want a *ManifestError", name, err)
 		}
+	}
+}
+
+// TestDiscoverLeavesOutJobProfiles checks that the hob profiles named by
+// the batch's job and by a manifest row's job are not listed as scans: a
+// radial profile is a CSV like a point cloud, and listing it gave a failed
+// row ("header does not name x, y and z columns").
+func TestDiscoverLeavesOutJobProfiles(t *testing.T) {
+	in := t.TempDir()
+	writeTree(t, in, map[string]string{
+		"a.stl": "x", "b.stl": "x",
+		"glass.csv":          "r_mm,z_mm\n0,0.05\n100,0\n",
+		"hobs/other.csv":     "r_mm,z_mm\n0,0\n100,0.01\n",
+		"hobs/power.csv":     "r_mm,relative\n0,1\n100,1\n",
+		"jobs/b.toml":        "[hob]\nprofile = \"../hobs/other.csv\"\n",
+		"stray.csv":          "x,y,z\n0,0,0\n",
+		ManifestName:         "path,job\nb.stl,jobs/b.toml\n",
+		"jobs/unreadable.md": "x",
+	})
+	// jobs/b.toml names ../hobs/other.csv, outside the job's folder: that
+	// job is refused when read, so its profile stays listed; the profile of
+	// the batch's own job (power.csv, given as an absolute path) is left out.
+	// (Profiles must sit beside or under their job file.)
+	d, err := Discover(in, nil, []string{filepath.Join(in, "glass.csv"), filepath.Join(in, "hobs", "power.csv"), "/elsewhere/x.csv"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got []string
+	for _, e := range d.Entries {
+		got = append(got, e.Path)
+	}
+	want := []string{"a.stl", "b.stl", "hobs/other.csv", "stray.csv"}
+	if !slices.Equal(got, want) {
+		t.Errorf("entries %q, want %q", got, want)
+	}
+
+	// A manifest row's job beside its profile: the profile is left out.
+	writeTree(t, in, map[string]string{"hobs/b.toml": "[hob]\nprofile = \"other.csv\"\n",
+		ManifestName: "path,job\nb.stl,hobs/b.toml\n"})
+	d, err = Discover(in, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got = got[:0]
+	for _, e := range d.Entries {
+		got = append(got, e.Path)
+	}
+	want = []string{"a.stl", "b.stl", "glass.csv", "hobs/power.csv", "stray.csv"}
+	if !slices.Equal(got, want) {
+		t.Errorf("with hobs/b.toml: entries %q, want %q", got, want)
 	}
 }

@@ -525,6 +525,19 @@ func (j *Job) fileKeys() []fileKey {
 		{"hob.power_profile", &j.Hob.PowerProfile}}
 }
 
+// FilePaths returns the files the job names (hob and power or temperature
+// profiles), as they stand in the job: absolute after ReadJobFile. Empty
+// keys are left out.
+func (j *Job) FilePaths() []string {
+	var out []string
+	for _, fk := range j.fileKeys() {
+		if *fk.p != "" {
+			out = append(out, *fk.p)
+		}
+	}
+	return out
+}
+
 // files returns pointers to the job's file-name keys.
 func (j *Job) files() []*string {
 	var out []*string

@@ -260,7 +260,7 @@ func verdict(job Job, rep *Report) *VerdictReport {
 		c := g.ConcavityPctOfDiameter
 		switch {
 		case c < t.ConcavityMinPct-shapeTolPct && c < 0:
-			fail("convex base: concavity %.3f mm (%.3f %% of diameter) is below the minimum %.3f %%", g.ConcavityMM, c, t.ConcavityMinPct)
+			fail("%s: concavity %.3f mm (%.3f %% of diameter) is below the minimum %.3f %%", lowCentreWords(g.Shape), g.ConcavityMM, c, t.ConcavityMinPct)
 		case c < t.ConcavityMinPct-shapeTolPct:
 			fail("concavity %.3f %% of diameter is below the minimum %.3f %%", c, t.ConcavityMinPct)
 		case c > t.ConcavityMaxPct+shapeTolPct:
@@ -277,6 +277,21 @@ func verdict(job Job, rep *Report) *VerdictReport {
 		fail("the base loses %.1f %% of the flat twin's heating power (limit %.1f %%)", h.LossPct, t.LossMaxPct)
 	}
 	return v
+}
+
+// lowCentreWords names a base whose centre lies below its rim (negative
+// concavity) by its shape word: only a domed base is called convex; a bent
+// or saddle-shaped base is low at the centre on average only.
+func lowCentreWords(shape string) string {
+	switch shape {
+	case scan.ShapeDomed, "":
+		return "convex base"
+	case scan.ShapeBent:
+		return "bent base, centre below the rim on average"
+	case scan.ShapeSaddle:
+		return "saddle-shaped base, centre below the rim on average"
+	}
+	return "centre below the rim"
 }
 
 // rockWords says why a pan rocks (DESIGN 5.1).

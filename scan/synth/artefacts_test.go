@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -218,11 +219,34 @@ func TestBadArtefactSpec(t *testing.T) {
 		"hole size 0":       func(s *synth.Spec) { s.HoleList = []synth.Hole{{DiameterM: 0}} },
 		"empty sector":      func(s *synth.Spec) { s.Sectors = []synth.Sector{{FromDeg: 10, ToDeg: 10}} },
 		"NaN turn":          func(s *synth.Spec) { s.FormTurnDeg = math.NaN() },
+		"hole over base":    func(s *synth.Spec) { s.HoleList = []synth.Hole{{DiameterM: 0.5}} },
 	} {
 		s := baseSpec(synth.Flat, 0)
 		mod(&s)
 		if _, err := synth.Generate(s); !errors.Is(err, synth.ErrSpec) {
 			t.Errorf("%s: err %v, want ErrSpec", name, err)
+		}
+	}
+}
+
+// TestSpecErrorsInMillimetres checks that spec errors speak the flags' units
+// (mm and µm), not the spec's metres.
+func TestSpecErrorsInMillimetres(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		mod  func(*synth.Spec)
+		want string
+	}{
+		{"sag", func(s *synth.Spec) { s.SagM = 0.2 }, "sag 200 mm is more than a quarter of the diameter"},
+		{"spacing", func(s *synth.Spec) { s.SpacingM = 0.1 }, "spacing 100 mm, want > 0 and at most a quarter of the diameter (50 mm)"},
+		{"hole", func(s *synth.Spec) { s.HoleList = []synth.Hole{{DiameterM: 0.5}} }, "a 500 mm hole at (0, 0) mm covers the whole 200 mm base"},
+		{"points", func(s *synth.Spec) { s.SpacingM = 1e-5 }, "at 0.01 mm spacing on a 200 mm base"},
+	} {
+		s := baseSpec(synth.Flat, 0)
+		tc.mod(&s)
+		_, err := synth.Generate(s)
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: err %v, want it to contain %q", tc.name, err, tc.want)
 		}
 	}
 }

@@ -65,19 +65,19 @@ func GenerateHob(h HobSpec) (*Scan, error) {
 		h.RotationDeg[0], h.RotationDeg[1], h.RotationDeg[2], h.OffsetM[0], h.OffsetM[1], h.OffsetM[2]):
 		return bad("non-finite value")
 	case h.SideM <= 0:
-		return bad("side %g m, want > 0", h.SideM)
+		return bad("side %g mm, want > 0", mm(h.SideM))
 	case h.SpacingM <= 0 || h.SpacingM > h.SideM/4:
-		return bad("spacing %g m, want > 0 and at most a quarter of the side", h.SpacingM)
+		return bad("spacing %g mm, want > 0 and at most a quarter of the side (%g mm)", mm(h.SpacingM), mm(h.SideM/4))
 	case h.NoiseM < 0:
-		return bad("noise %g m, want >= 0", h.NoiseM)
+		return bad("noise %g µm, want >= 0", um(h.NoiseM))
 	case h.SpikeFraction < 0 || h.SpikeFraction > 0.5:
 		return bad("spike fraction %g, want 0 … 0.5", h.SpikeFraction)
 	case math.Abs(h.SagM) > h.SideM/4:
-		return bad("sag %g m is more than a quarter of the side", h.SagM)
+		return bad("sag %g mm is more than a quarter of the side (%g mm)", mm(h.SagM), mm(h.SideM/4))
 	}
 	n := int(math.Round(h.SideM/h.SpacingM)) + 1
 	if float64(n)*float64(n) > MaxPoints {
-		return bad("%d×%d points, more than %d", n, n, MaxPoints)
+		return bad("%d×%d points, more than %d: give a larger spacing or a smaller side", n, n, MaxPoints)
 	}
 
 	// The hob frame has +z up, so the top is the Dish form with the

@@ -429,11 +429,11 @@ func (s Spec) withDefaults() (Spec, error) {
 		s.RotationDeg[0], s.RotationDeg[1], s.RotationDeg[2], s.OffsetM[0], s.OffsetM[1], s.OffsetM[2]):
 		return bad("non-finite value")
 	case s.DiameterM <= 0:
-		return bad("diameter %g m, want > 0", s.DiameterM)
+		return bad("diameter %g mm, want > 0", mm(s.DiameterM))
 	case s.SpacingM <= 0 || s.SpacingM > s.DiameterM/4:
-		return bad("spacing %g m, want > 0 and at most a quarter of the diameter", s.SpacingM)
+		return bad("spacing %g mm, want > 0 and at most a quarter of the diameter (%g mm)", mm(s.SpacingM), mm(s.DiameterM/4))
 	case s.NoiseM < 0:
-		return bad("noise %g m, want >= 0", s.NoiseM)
+		return bad("noise %g µm, want >= 0", um(s.NoiseM))
 	case s.SpikeFraction < 0 || s.SpikeFraction > 0.5:
 		return bad("spike fraction %g, want 0 … 0.5", s.SpikeFraction)
 	case s.Holes < 0 || s.Holes > 1000:
@@ -441,7 +441,7 @@ func (s Spec) withDefaults() (Spec, error) {
 	case s.CornerRadiusM < 0 || s.WallHeightM < 0:
 		return bad("corner radius and wall height must be >= 0")
 	case math.Abs(s.SagM) > s.DiameterM/4:
-		return bad("sag %g m is more than a quarter of the diameter", s.SagM)
+		return bad("sag %g mm is more than a quarter of the diameter (%g mm)", mm(s.SagM), mm(s.DiameterM/4))
 	}
 	if err := s.checkArtefacts(); err != nil {
 		return s, err
@@ -450,7 +450,7 @@ func (s Spec) withDefaults() (Spec, error) {
 	n := math.Pi * r * r / (s.SpacingM * s.SpacingM)
 	n += 2 * math.Pi * (r + s.CornerRadiusM) * (math.Pi/2*s.CornerRadiusM + s.WallHeightM) / (s.SpacingM * s.SpacingM)
 	if n > MaxPoints {
-		return bad("about %.3g points, more than %d", n, MaxPoints)
+		return bad("about %.3g points at %g mm spacing on a %g mm base, more than %d: give a larger spacing or a smaller diameter", n, mm(s.SpacingM), mm(s.DiameterM), MaxPoints)
 	}
 	return s, nil
 }
@@ -486,15 +486,15 @@ func (s *Spec) checkArtefacts() error {
 	}
 	switch {
 	case s.ConeStartM < 0 || s.ConeStartM >= r:
-		return bad("cone start %g m, want 0 … the radius", s.ConeStartM)
+		return bad("cone start %g mm, want 0 … the radius (%g mm)", mm(s.ConeStartM), mm(r))
 	case math.Abs(s.FormTurnDeg) > 360:
 		return bad("form turn %g°, want −360 … 360", s.FormTurnDeg)
 	case s.SpikeMinM < 0 || s.SpikeMaxM < s.SpikeMinM || s.SpikeMaxM > 0.1:
-		return bad("spike heights %g … %g m, want 0 ≤ min ≤ max ≤ 0.1 m", s.SpikeMinM, s.SpikeMaxM)
+		return bad("spike heights %g … %g mm, want 0 ≤ min ≤ max ≤ 100 mm", mm(s.SpikeMinM), mm(s.SpikeMaxM))
 	case s.Streaks < 0 || s.Streaks > 100000:
 		return bad("streaks %d, want 0 … 100000", s.Streaks)
 	case s.StreakLengthM < 0 || s.StreakLengthM > max(r, defaultStreakM):
-		return bad("streak length %g m, want 0 … the radius", s.StreakLengthM)
+		return bad("streak length %g mm, want 0 … the radius (%g mm)", mm(s.StreakLengthM), mm(max(r, defaultStreakM)))
 	case s.JitterFraction < 0 || s.JitterFraction > 1:
 		return bad("jitter fraction %g, want 0 … 1", s.JitterFraction)
 	case len(s.HoleList) > 1000 || len(s.Sectors) > 1000:
@@ -502,12 +502,15 @@ func (s *Spec) checkArtefacts() error {
 	}
 	for i, h := range s.HoleList {
 		if !finite(h.XM, h.YM, h.DiameterM) || h.DiameterM <= 0 || math.Hypot(h.XM, h.YM) > r {
-			return bad("hole %d: centre (%g, %g) m, diameter %g m; want a positive diameter and the centre inside the base", i, h.XM, h.YM, h.DiameterM)
+			return bad("hole %d: centre (%g, %g) mm, diameter %g mm; want a positive diameter and the centre inside the base", i, mm(h.XM), mm(h.YM), mm(h.DiameterM))
+		}
+		if math.Hypot(h.XM, h.YM)+r <= h.DiameterM/2 {
+			return bad("hole %d: a %g mm hole at (%g, %g) mm covers the whole %g mm base; want a smaller hole", i, mm(h.DiameterM), mm(h.XM), mm(h.YM), mm(s.DiameterM))
 		}
 	}
 	for i, c := range s.Sectors {
 		if !finite(c.FromDeg, c.ToDeg, c.InnerM) || c.InnerM < 0 || c.ToDeg <= c.FromDeg || c.ToDeg-c.FromDeg > 360 {
-			return bad("sector %d: %g° … %g° from %g m; want from < to, at most 360° apart, inner radius >= 0", i, c.FromDeg, c.ToDeg, c.InnerM)
+			return bad("sector %d: %g° … %g° from %g mm; want from < to, at most 360° apart, inner radius >= 0", i, c.FromDeg, c.ToDeg, mm(c.InnerM))
 		}
 	}
 	return nil
