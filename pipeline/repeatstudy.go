@@ -51,9 +51,13 @@ type repeatFigure struct {
 
 // repeatFigures are the figures the uncertainty section carries, in its order.
 var repeatFigures = []repeatFigure{
-	{"concavity_mm", "mm", func(r *Report) (float64, bool) { return geo(r, func(g *GeometryReport) float64 { return g.ConcavityMM }) },
+	{"concavity_mm", "mm", func(r *Report) (float64, bool) {
+		return geo(r, func(g *GeometryReport) float64 { return g.ConcavityMM })
+	},
 		func(u *UncertaintyReport) *FigureUncertainty { return u.ConcavityMM }},
-	{"flatness_mz_mm", "mm", func(r *Report) (float64, bool) { return geo(r, func(g *GeometryReport) float64 { return g.FlatnessMZMM }) },
+	{"flatness_mz_mm", "mm", func(r *Report) (float64, bool) {
+		return geo(r, func(g *GeometryReport) float64 { return g.FlatnessMZMM })
+	},
 		func(u *UncertaintyReport) *FigureUncertainty { return u.FlatnessMZMM }},
 	{"rock_mm", "mm", func(r *Report) (float64, bool) {
 		if r.Pose == nil {
