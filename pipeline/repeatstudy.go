@@ -32,7 +32,7 @@ type RepeatOptions struct {
 }
 
 // RepeatFiles are the files WriteRepeat writes.
-var RepeatFiles = []string{"repeat.csv", "repeat.json", "repeat.svg"}
+var RepeatFiles = []string{"repeat.csv", "repeat.json", "repeat.svg", "repeat.png"}
 
 // Bounds of the study's input (ours: a repeatability study has tens of
 // results; a report.json of a fine grid with its rings is well under a MB).
@@ -405,13 +405,13 @@ func repeatFigureResults(reps []repeatReport) []repeat.Figure {
 	return figs
 }
 
-// WriteRepeat writes repeat.csv, repeat.json and repeat.svg into out
+// WriteRepeat writes repeat.csv, repeat.json, repeat.svg and repeat.png into out
 // (created if missing), each atomically, and returns their paths.
 func WriteRepeat(out string, st *repeat.Study) ([]string, error) {
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		return nil, fmt.Errorf("output folder %s: %w", out, err)
 	}
-	enc := []func() ([]byte, error){st.CSV, st.JSON, st.SVG}
+	enc := []func() ([]byte, error){st.CSV, st.JSON, st.SVG, st.PNG}
 	var paths []string
 	for i, name := range RepeatFiles {
 		b, err := enc[i]()

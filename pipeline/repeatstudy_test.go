@@ -80,7 +80,7 @@ func TestRepeatStudyFolders(t *testing.T) {
 	}
 	out := t.TempDir()
 	files, err := WriteRepeat(out, st)
-	if err != nil || len(files) != 3 {
+	if err != nil || len(files) != len(RepeatFiles) {
 		t.Fatalf("WriteRepeat: %v %v", files, err)
 	}
 	first, _ := os.ReadFile(files[1])

@@ -17,7 +17,7 @@ carry cover the spread: "covered" when their root mean square is at least the in
 lower end, "understated" when below; and how many results' own 95 % interval holds the
 mean of their base. Without uncertainty in the reports (uncertainty.mode off) it gives
 s_r only. DIR is a batch's output folder (the scans its summary.json lists) or any folder
-of report folders. Writes OUT/repeat.csv, OUT/repeat.json and OUT/repeat.svg.
+of report folders. Writes OUT/repeat.csv, OUT/repeat.json and the plot OUT/repeat.svg and .png.
 
 `
 
@@ -35,7 +35,7 @@ func cmdRepeat(ctx context.Context, args []string, stdout, stderr io.Writer) (in
 	fs.Usage = func() {
 		fmt.Fprintf(stderr, "usage: gapflux %s\n\n%sflags:\n%s\n%s%s", usage, repeatAbout, fs.FlagUsages(), repeatExitCodes, oomNote)
 	}
-	out := fs.String("out", "", "folder for repeat.csv, repeat.json and repeat.svg (required)")
+	out := fs.String("out", "", "folder for repeat.csv, repeat.json, repeat.svg and repeat.png (required)")
 	manifest := fs.String("manifest", "", "manifest CSV whose base_id column groups the scans by base (default: every report is of one base)")
 	mixed := fs.Bool("allow-mixed-jobs", false, "accept reports of one base analysed with different jobs (a warning instead of an error)")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")

@@ -10,6 +10,7 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
 )
 
@@ -25,14 +26,22 @@ var (
 const (
 	pictureW = 7 * vg.Inch
 	panelH   = 1.9 * vg.Inch
+	// pictureDPI is the PNG's resolution.
+	pictureDPI = 110
 )
 
-// SVG draws repeat.svg: one panel per figure that has results, top to
+// SVG is repeat.svg; see Picture.
+func (st *Study) SVG() ([]byte, error) { return st.Picture("svg") }
+
+// PNG is repeat.png; see Picture.
+func (st *Study) PNG() ([]byte, error) { return st.Picture("png") }
+
+// Picture draws the study as "svg" or "png": one panel per figure that has results, top to
 // bottom in the study's order. Each result is a dot at its place in the
 // list (bases one after another, results by name) with its 95 % interval
 // as a bar when it has one; each base with two or more results gets its
 // mean (solid) and mean ± 2 s_r (dashed), with the pooled s_r.
-func (st *Study) SVG() ([]byte, error) {
+func (st *Study) Picture(format string) ([]byte, error) {
 	var plots [][]*plot.Plot
 	for i := range st.Figures {
 		f := &st.Figures[i]
@@ -47,7 +56,16 @@ func (st *Study) SVG() ([]byte, error) {
 	if len(plots) == 0 {
 		return nil, fmt.Errorf("no figure has a result to draw")
 	}
-	c := vgsvg.NewWith(vgsvg.UseWH(pictureW, panelH*vg.Length(len(plots))))
+	h := panelH * vg.Length(len(plots))
+	var c vg.CanvasWriterTo
+	switch format {
+	case "svg":
+		c = vgsvg.NewWith(vgsvg.UseWH(pictureW, h))
+	case "png":
+		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(pictureW, h), vgimg.UseDPI(pictureDPI))}
+	default:
+		return nil, fmt.Errorf("picture format %q: want svg or png", format)
+	}
 	dc := draw.New(c)
 	tiles := draw.Tiles{Rows: len(plots), Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadX: vg.Points(6),
 		PadY: vg.Points(8), PadLeft: vg.Points(4), PadRight: vg.Points(10)}
@@ -105,7 +123,7 @@ func (f *Figure) panel() (p *plot.Plot, ok bool, err error) {
 	}
 	p.Y.Min, p.Y.Max = lo-pad, hi+pad
 	p.X.Min, p.X.Max = 0.5, x+0.5
-	p.X.Label.Text = "result (by base, then by name); bar: its 95 % interval; solid: mean of the base; dashed: mean ± 2 s_r"
+	p.X.Label.Text = "result (by base, then name); bar: its 95 % interval; solid: mean of its base; dashed: ± 2 s_r"
 	p.X.Label.TextStyle.Font.Size = vg.Points(7)
 	if len(bars) > 0 {
 		eb, err := plotter.NewYErrorBars(bars)
@@ -133,10 +151,10 @@ func (f *Figure) title() string {
 	if s == nil {
 		return f.Name + ": " + f.Note
 	}
-	t := fmt.Sprintf("%s: s_r = %s, r = %s %s (%d results, %d dof)", f.Name, num(s.SR), num(s.R), f.Unit, s.N, s.DOF)
+	t := fmt.Sprintf("%s: s_r = %.3g, r = %.3g %s (%d results, %d dof)", f.Name, s.SR, s.R, f.Unit, s.N, s.DOF)
 	switch s.Coverage {
 	case Covered, Understated:
-		t += fmt.Sprintf("; u_rms = %s, uncertainty %s", optNum(s.URMS), s.Coverage)
+		t += fmt.Sprintf("; u_rms = %.3g, uncertainty %s", *s.URMS, s.Coverage)
 	case NoUncertainty:
 		t += "; no uncertainty reported"
 	}

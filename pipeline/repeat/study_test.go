@@ -144,7 +144,7 @@ func TestOutputsDeterministic(t *testing.T) {
 	for _, enc := range []struct {
 		name string
 		f    func(*Study) ([]byte, error)
-	}{{"csv", (*Study).CSV}, {"json", (*Study).JSON}, {"svg", (*Study).SVG}} {
+	}{{"csv", (*Study).CSV}, {"json", (*Study).JSON}, {"svg", (*Study).SVG}, {"png", (*Study).PNG}} {
 		x, err := enc.f(a)
 		if err != nil {
 			t.Fatalf("%s: %v", enc.name, err)
