@@ -40,7 +40,7 @@ analysed again. Files the batch reads from DIR itself:
   job.toml      the job for every scan, when --job is not given ("gapflux job" prints one)
   manifest.csv  optional, one row per scan: path (required), part_number, lot, hob, job,
                 pan_mass_kg, water_mass_kg, base_material, base_thickness_mm, face, units,
-                diameter_mm (see README.md, "Inputs")
+                diameter_mm, base_id (read by "gapflux repeat"; see README.md, "Inputs")
 The job flags below override the keys of every job file, the batch's and those a
 manifest row names; a manifest row's own columns win over both.
 

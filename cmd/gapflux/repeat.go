@@ -33,7 +33,7 @@ func cmdRepeat(ctx context.Context, args []string, stdout, stderr io.Writer) (in
 	const usage = "repeat DIR --out OUT [--manifest MANIFEST.csv] [--allow-mixed-jobs]"
 	fs := newFlags("repeat", usage, stderr)
 	fs.Usage = func() {
-		fmt.Fprintf(stderr, "usage: gapflux %s\n\n%sflags:\n%s\n%s%s", usage, repeatAbout, fs.FlagUsages(), repeatExitCodes, oomNote)
+		fmt.Fprintf(stderr, "usage: gapflux %s\n\n%sflags:\n%s\n%s", usage, repeatAbout, fs.FlagUsages(), repeatExitCodes)
 	}
 	out := fs.String("out", "", "folder for repeat.csv, repeat.json, repeat.svg and repeat.png (required)")
 	manifest := fs.String("manifest", "", "manifest CSV whose base_id column groups the scans by base (default: every report is of one base)")
