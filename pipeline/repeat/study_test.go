@@ -164,4 +164,12 @@ func TestOutputsDeterministic(t *testing.T) {
 	if string(csv) != want {
 		t.Errorf("repeat.csv:\n%s\nwant:\n%s", csv, want)
 	}
+	js, _ := a.JSON()
+	for _, w := range []string{`"schema": "gapflux.repeat/1"`, `"s_r": 0.000298608`, `"dof": 3`, `"coverage": "covered"`, "u_rms >= sigma_r_low", `"warnings": [
+    "a warning"
+  ]`} {
+		if !bytes.Contains(js, []byte(w)) {
+			t.Errorf("repeat.json lacks %q", w)
+		}
+	}
 }

@@ -39,13 +39,17 @@ func (st *Study) CSV() ([]byte, error) {
 	return b.Bytes(), w.Error()
 }
 
-// JSON is repeat.json, indented, ending in a newline.
+// JSON is repeat.json, indented, ending in a newline; ">=" and the like
+// are written as they are, not as HTML escapes.
 func (st *Study) JSON() ([]byte, error) {
-	b, err := json.MarshalIndent(st, "", "  ")
-	if err != nil {
+	var b bytes.Buffer
+	enc := json.NewEncoder(&b)
+	enc.SetEscapeHTML(false)
+	enc.SetIndent("", "  ")
+	if err := enc.Encode(st); err != nil {
 		return nil, err
 	}
-	return append(b, '\n'), nil
+	return b.Bytes(), nil
 }
 
 // num formats a number with 6 significant digits, the shortest way.
