@@ -91,6 +91,9 @@ func repeatLine(f repeat.Figure) string {
 	switch s.Coverage {
 	case repeat.Covered, repeat.Understated:
 		line += fmt.Sprintf("; reported u %.3g %s: %s; %d of %d intervals hold the mean", *s.URMS, f.Unit, s.Coverage, s.Within, s.WithInterval)
+		if s.ValueOutside > 0 {
+			line += fmt.Sprintf("; %d of %d values lie outside their own interval", s.ValueOutside, s.WithInterval)
+		}
 	case repeat.NoUncertainty:
 		line += "; no uncertainty in the reports"
 	case repeat.Partial:

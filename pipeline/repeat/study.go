@@ -29,7 +29,8 @@ const Method = "s_r: sample standard deviation of the results of one base (divis
 	"sigma_r_low/high: 95 % chi-square interval of the true repeatability standard deviation from s_r; " +
 	"u_rms: root mean square of the standard uncertainties the results report; coverage: covered when " +
 	"u_rms >= sigma_r_low, understated when it is below (the spread is larger than the stated uncertainty can " +
-	"explain at 95 % confidence); within_interval: results whose own 95 % interval contains the mean of their base"
+	"explain at 95 % confidence); within_interval: results whose own 95 % interval contains the mean of their base; " +
+	"value_outside_interval: results whose own value lies outside their own 95 % interval (a biased interval)"
 
 // Result is one result of one figure: its value and, when the report that
 // gave it carries one, its standard uncertainty and 95 % coverage interval,
@@ -72,6 +73,10 @@ type Stats struct {
 	// out of WithInterval results that report an interval.
 	Within       int `json:"within_interval"`
 	WithInterval int `json:"with_interval"`
+	// ValueOutside counts the results whose own value lies outside their
+	// own 95 % interval: an interval not centred on the value it belongs
+	// to (a biased Monte Carlo), which the u_rms test cannot see.
+	ValueOutside int `json:"value_outside_interval"`
 }
 
 // Figure is one headline figure: its results by base and, when some base
@@ -181,6 +186,9 @@ func coverage(groups []Group, s *Stats, sr, lo float64) {
 				s.WithInterval++
 				if in {
 					s.Within++
+				}
+				if r.Value < *r.Low || r.Value > *r.High {
+					s.ValueOutside++
 				}
 			}
 		}

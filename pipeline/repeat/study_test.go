@@ -158,9 +158,9 @@ func TestOutputsDeterministic(t *testing.T) {
 	// Python 3 statistics and scipy 1.10.1: mean 0.149825, s =
 	// 0.0002986079, r = 2.8 s = 0.000836102, σ bounds (3 dof) 0.000169158 …
 	// 0.00111337, s/u = 0.746520.
-	want := "figure,unit,bases,n,mean,s_r,dof,r,sigma_r_low,sigma_r_high,u_rms,s_r_over_u,coverage,within_interval,with_interval,note\n" +
-		"concavity_mm,mm,1,4,0.149825,0.000298608,3,0.000836102,0.000169158,0.00111337,0.0004,0.74652,covered,4,4,\n" +
-		"tip_force_n,N,,,,,,,,,,,,,,no base has two results of this figure: no repeatability\n"
+	want := "figure,unit,bases,n,mean,s_r,dof,r,sigma_r_low,sigma_r_high,u_rms,s_r_over_u,coverage,within_interval,with_interval,value_outside_interval,note\n" +
+		"concavity_mm,mm,1,4,0.149825,0.000298608,3,0.000836102,0.000169158,0.00111337,0.0004,0.74652,covered,4,4,0,\n" +
+		"tip_force_n,N,,,,,,,,,,,,,,,no base has two results of this figure: no repeatability\n"
 	if string(csv) != want {
 		t.Errorf("repeat.csv:\n%s\nwant:\n%s", csv, want)
 	}
@@ -171,5 +171,25 @@ func TestOutputsDeterministic(t *testing.T) {
 		if !bytes.Contains(js, []byte(w)) {
 			t.Errorf("repeat.json lacks %q", w)
 		}
+	}
+}
+
+// TestValueOutside: intervals shifted off their values (a biased Monte
+// Carlo) are counted even when u_rms covers the spread.
+func TestValueOutside(t *testing.T) {
+	rs := results(1, 0, 1, 2, 3)
+	for i := range rs[:3] { // shift three intervals up by 2.5 u: value below low
+		*rs[i].Low += 2.5
+		*rs[i].High += 2.5
+	}
+	st, err := Assess([]Figure{{Name: "loss_pct", Unit: "%", Groups: []Group{{Results: rs}}}}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// s = 1.29 (3 dof), σ lower bound 0.731 (scipy 1.10.1): u = 1 covers.
+	// Mean 1.5: intervals [0.5,4.5] [1.5,5.5] [2.5,6.5] [1,5] → 3 hold it.
+	s := st.Figures[0].Stats
+	if s.Coverage != Covered || s.ValueOutside != 3 || s.Within != 3 || s.WithInterval != 4 {
+		t.Errorf("coverage %s, value outside %d, within %d of %d; want covered, 3, 3 of 4", s.Coverage, s.ValueOutside, s.Within, s.WithInterval)
 	}
 }

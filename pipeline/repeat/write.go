@@ -11,7 +11,7 @@ import (
 // figure's name and in the unit column; mean, s_r, r, sigma_r_low,
 // sigma_r_high and u_rms are in that unit, s_r_over_u has none.
 var CSVHeader = []string{"figure", "unit", "bases", "n", "mean", "s_r", "dof", "r", "sigma_r_low", "sigma_r_high",
-	"u_rms", "s_r_over_u", "coverage", "within_interval", "with_interval", "note"}
+	"u_rms", "s_r_over_u", "coverage", "within_interval", "with_interval", "value_outside_interval", "note"}
 
 // CSV is repeat.csv: one row per figure, in the study's order. A figure
 // without repeatability leaves its numbers empty and says why in note; mean
@@ -27,9 +27,9 @@ func (st *Study) CSV() ([]byte, error) {
 		if s := f.Stats; s != nil {
 			rec = append(rec, strconv.Itoa(s.Bases), strconv.Itoa(s.N), optNum(s.Mean), num(s.SR), strconv.Itoa(s.DOF), num(s.R),
 				num(s.SigmaLow), num(s.SigmaHigh), optNum(s.URMS), optNum(s.Ratio), s.Coverage,
-				strconv.Itoa(s.Within), strconv.Itoa(s.WithInterval), f.Note)
+				strconv.Itoa(s.Within), strconv.Itoa(s.WithInterval), strconv.Itoa(s.ValueOutside), f.Note)
 		} else {
-			rec = append(rec, "", "", "", "", "", "", "", "", "", "", "", "", "", f.Note)
+			rec = append(rec, "", "", "", "", "", "", "", "", "", "", "", "", "", "", f.Note)
 		}
 		if err := w.Write(rec); err != nil {
 			return nil, err
