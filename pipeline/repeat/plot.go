@@ -101,7 +101,7 @@ func (f *Figure) panel() (p *plot.Plot, ok bool, err error) {
 			pts = append(pts, plotter.XY{X: x, Y: r.Value})
 			widen(r.Value)
 			if r.Low != nil && r.High != nil {
-				bars = append(bars, interval{x: x, y: r.Value, lo: *r.Low, hi: *r.High})
+				bars = append(bars, interval{x: x, lo: *r.Low, hi: *r.High})
 				widen(*r.Low)
 				widen(*r.High)
 			}
@@ -174,13 +174,17 @@ func addLine(p *plot.Plot, x0, x1, y float64, dashed bool) {
 	p.Add(l)
 }
 
-// interval is one result's 95 % interval as an error bar.
-type interval struct{ x, y, lo, hi float64 }
+// interval is one result's 95 % interval as an error bar. The bar is
+// anchored at the interval's midpoint, not at the value: gonum's error bars
+// take the absolute value of each offset, so a value outside its own
+// interval (a biased interval) would be drawn with a wrong bar.
+type interval struct{ x, lo, hi float64 }
 
 type intervals []interval
 
 func (v intervals) Len() int                    { return len(v) }
-func (v intervals) XY(i int) (float64, float64) { return v[i].x, v[i].y }
+func (v intervals) XY(i int) (float64, float64) { return v[i].x, (v[i].lo + v[i].hi) / 2 }
 func (v intervals) YError(i int) (float64, float64) {
-	return v[i].y - v[i].lo, v[i].hi - v[i].y
+	h := (v[i].hi - v[i].lo) / 2
+	return h, h
 }

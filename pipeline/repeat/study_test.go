@@ -193,3 +193,14 @@ func TestValueOutside(t *testing.T) {
 		t.Errorf("coverage %s, value outside %d, within %d of %d; want covered, 3, 3 of 4", s.Coverage, s.ValueOutside, s.Within, s.WithInterval)
 	}
 }
+
+// TestIntervalBar: a value outside its own interval keeps the interval's
+// ends in the picture's error bar (gonum draws |offsets| from the anchor).
+func TestIntervalBar(t *testing.T) {
+	v := intervals{{x: 1, lo: 23.119, hi: 28.524}} // loss_pct 22.055 of a biased re-scan
+	_, y := v.XY(0)
+	lo, hi := v.YError(0)
+	if !near(y-lo, 23.119, 1e-12) || !near(y+hi, 28.524, 1e-12) {
+		t.Errorf("bar %g … %g, want 23.119 … 28.524", y-lo, y+hi)
+	}
+}
