@@ -202,6 +202,9 @@ func repeatReportFiles(dir string) (files, names, warnings []string, err error) 
 				skipped++
 				continue
 			}
+			if clean, err := LocalPath(r.Path); err != nil || clean != r.Path {
+				return nil, nil, nil, configf("%s: row path %q leaves the output folder or is not clean; give the batch's output folder as the batch wrote it", sumPath, r.Path)
+			}
 			files = append(files, filepath.Join(ScanOutDir(dir, r.Path), "report.json"))
 			names = append(names, r.Path)
 		}

@@ -129,6 +129,9 @@ func TestRepeatStudyBadInput(t *testing.T) {
 		{"damaged summary", func(t *testing.T, dir string) {
 			writeRepeatFile(t, filepath.Join(dir, "summary.json"), []byte(`{"schema":"gapflux.report/1"}`))
 		}, RepeatOptions{}, "not a batch summary", ""},
+		{"summary row leaving the folder", func(t *testing.T, dir string) {
+			writeRepeatFile(t, filepath.Join(dir, "summary.json"), []byte(`{"schema":"gapflux.summary/1","rows":[{"path":"../../x","status":"ok"}]}`))
+		}, RepeatOptions{}, "leaves the output folder", ""},
 		{"summary row without its report", func(t *testing.T, dir string) {
 			writeRepeatFile(t, filepath.Join(dir, "summary.json"), []byte(`{"schema":"gapflux.summary/1","rows":[{"path":"x.ply","status":"ok"},{"path":"y.ply","status":"failed"}]}`))
 		}, RepeatOptions{}, "run the batch again", ""},
