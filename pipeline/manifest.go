@@ -11,6 +11,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 )
 
@@ -29,11 +30,14 @@ type ManifestRow struct {
 	Face         string   // overrides grid.face
 	Units        string   // overrides grid.units
 	DiameterMM   *float64 // overrides grid.diameter_mm
+	// BaseID names the physical base a scan is of; scans with one base_id
+	// are re-scans of one base for "gapflux repeat". The batch ignores it.
+	BaseID string
 }
 
 // ManifestColumns documents the manifest's columns; only path is required.
 var ManifestColumns = []string{"path", "part_number", "lot", "hob", "job", "pan_mass_kg",
-	"water_mass_kg", "base_material", "base_thickness_mm", "face", "units", "diameter_mm"}
+	"water_mass_kg", "base_material", "base_thickness_mm", "face", "units", "diameter_mm", "base_id"}
 
 // manifestMax is the largest value each numeric column accepts. They are
 // our own plausibility bounds for cookware (common practice: a pan and its
@@ -237,7 +241,23 @@ func parseManifestRow(cr *csv.Reader, rec []string, col map[string]int, nHeader 
 	row.PanMassKg, row.WaterMassKg = num("pan_mass_kg"), num("water_mass_kg")
 	row.BaseMaterial, row.BaseMM = get("base_material"), num("base_thickness_mm")
 	row.Face, row.Units, row.DiameterMM = get("face"), get("units"), num("diameter_mm")
+	if row.BaseID = get("base_id"); perr == nil && !validBaseID(row.BaseID) {
+		perr = fail("base_id", fmt.Sprintf("base_id is longer than %d bytes or holds a control character: give a short name of the base, such as its serial number", maxBaseID))
+	}
 	return row, perr
+}
+
+// maxBaseID bounds a base_id, which becomes a group name in repeat.csv and
+// repeat.json (our bound: a serial number or a short label fits).
+const maxBaseID = 100
+
+// validBaseID tells whether id is usable as a base's name: at most
+// maxBaseID bytes and no control characters ("" is no base_id).
+func validBaseID(id string) bool {
+	if len(id) > maxBaseID {
+		return false
+	}
+	return strings.IndexFunc(id, unicode.IsControl) < 0
 }
 
 // failDuplicates turns every path named on more than one line into a

@@ -40,7 +40,7 @@ analysed again. Files the batch reads from DIR itself:
   job.toml      the job for every scan, when --job is not given ("gapflux job" prints one)
   manifest.csv  optional, one row per scan: path (required), part_number, lot, hob, job,
                 pan_mass_kg, water_mass_kg, base_material, base_thickness_mm, face, units,
-                diameter_mm (see README.md, "Inputs")
+                diameter_mm, base_id (read by "gapflux repeat"; see README.md, "Inputs")
 The job flags below override the keys of every job file, the batch's and those a
 manifest row names; a manifest row's own columns win over both.
 
@@ -174,7 +174,7 @@ type jobFlags struct {
 // jobOverrideFlags names the flags addJobFlags defines besides --job, in
 // their help order.
 var jobOverrideFlags = []string{"units", "face", "cell-mm", "cutoff-mm", "ring-mm", "rock-mm", "diameter-mm",
-	"offset-mm", "mode", "water-c", "water-kg", "zone-mm", "max-points", "fields", "hot"}
+	"offset-mm", "mode", "water-c", "water-kg", "zone-mm", "max-points", "fields", "hot", "uncertainty"}
 
 // addJobFlags defines --job (with jobHelp as its help line) and the flags
 // that override job keys on fs.
@@ -250,6 +250,7 @@ func (j *jobFlags) apply(job pipeline.Job) (pipeline.Job, error) {
 		"max-points":  func() { job.Limits.MaxPoints = j.maxPoints },
 		"fields":      func() { job.Outputs.Fields = j.fields },
 		"hot":         func() { job.Hot.Enabled = j.hot },
+		"uncertainty": func() { job.Uncertainty.Mode = j.uncert },
 	}
 	for _, name := range jobOverrideFlags {
 		if f := overrides[name]; f != nil && j.fs.Changed(name) {
@@ -275,6 +276,7 @@ var flagKeys = map[string]string{
 	"grid.ring_mm": "ring-mm", "grid.rock_mm": "rock-mm", "grid.diameter_mm": "diameter-mm",
 	"pan.offset_mm": "offset-mm", "hob.mode": "mode", "water.steady_c": "water-c", "water.mass_kg": "water-kg",
 	"hob.zone_diameter_mm": "zone-mm", "limits.max_points": "max-points", "outputs.fields": "fields", "hot.enabled": "hot",
+	"uncertainty.mode": "uncertainty",
 }
 
 // flagNamed prefixes each problem of a job-validation error whose key a

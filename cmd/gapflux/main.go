@@ -41,6 +41,8 @@ commands:
                  every scan under DIR; resumable; summary.csv and summary.json
   compare A B --out DIR [--job JOB.toml]
                  two scans (or report folders) of one base: what changed
+  repeat DIR --out OUT [--manifest MANIFEST.csv]
+                 repeatability of re-scans of one base: s_r, r, uncertainty coverage
   merge OUT1 OUT2 ... --out OUT
                  combine the outputs of batch shards into one summary
   trend --history DB [--part P] [--figure loss_pct] --out DIR
@@ -69,7 +71,7 @@ stop, and the summary lists them as not-run; a second Ctrl-C ends at once.
 `
 
 // commands lists the commands, for suggestions on a typo.
-var commands = []string{"analyze", "batch", "merge", "synth", "demo", "materials", "job", "version", "help"}
+var commands = []string{"analyze", "batch", "repeat", "merge", "synth", "demo", "materials", "job", "version", "help"}
 
 // version is set at build time with -ldflags "-X main.version=...".
 var version = "0.1.0-dev"
@@ -112,6 +114,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) (code int
 		code, err = cmdBatch(ctx, args[1:], stdout, stderr)
 	case "compare":
 		code, err = cmdCompare(ctx, args[1:], stdout, stderr)
+	case "repeat":
+		code, err = cmdRepeat(ctx, args[1:], stdout, stderr)
 	case "merge":
 		code, err = cmdMerge(args[1:], stdout, stderr)
 	case "trend":
