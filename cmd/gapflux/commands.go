@@ -192,7 +192,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
 	if err != nil {
 		return exitUsage, err
 	}
-	fmt.Fprintf(stdout, "merged %s into %s\n", plural(len(s.Rows), "scan", "scans"), filepath.Join(*out, "summary.csv"))
+	fmt.Fprintf(stdout, "merged %s into %s and %s\n", plural(len(s.Rows), "scan", "scans"), filepath.Join(*out, "summary.csv"), filepath.Join(*out, "index.html"))
 	for _, r := range s.Rows {
 		if r.Status != pipeline.StatusOK {
 			return exitFail, nil
