@@ -3,6 +3,7 @@ package pipeline
 import (
 	"context"
 	"fmt"
+	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -29,9 +30,15 @@ type IndexTrend struct {
 // the batch's rows carry, from the whole history of that part in
 // tr.History (trend.Load: ISO 7870-2 individuals chart, limits from the
 // first trend.DefaultBaseline points, Western Electric rules 1-4).
-func trendView(ctx context.Context, tr IndexTrend, s *Summary) html.Trend {
+func trendView(ctx context.Context, out string, tr IndexTrend, s *Summary) html.Trend {
 	fig := trend.DefaultFigure
 	v := html.Trend{Figure: fig}
+	// The page names a database in its own folder relatively, so that it
+	// still reads right when the folder is moved.
+	shown := tr.History
+	if rel, err := filepath.Rel(out, tr.History); err == nil && out != "" && filepath.IsLocal(rel) {
+		shown = filepath.ToSlash(rel) + " (in this folder)"
+	}
 	if tr.History == "" {
 		note := tr.Note
 		if note == "" {
@@ -49,7 +56,7 @@ func trendView(ctx context.Context, tr IndexTrend, s *Summary) html.Trend {
 	slices.Sort(parts)
 	parts = slices.Compact(parts)
 	if len(parts) == 0 {
-		v.Lines = []string{"No trend chart: no scan of this batch has a part number (give them in the batch's manifest.csv, column part_number); the history is in " + tr.History + "."}
+		v.Lines = []string{"No trend chart: no scan of this batch has a part number (give them in the batch's manifest.csv, column part_number); the history is in " + shown + "."}
 		return v
 	}
 	charts, err := trend.Load(context.WithoutCancel(ctx), trend.Options{History: tr.History, Figure: fig})
@@ -66,7 +73,7 @@ func trendView(ctx context.Context, tr IndexTrend, s *Summary) html.Trend {
 		rules[i] = r.String() + " " + r.Describe()
 	}
 	v.Lines = []string{
-		"From the history database " + tr.History + ", with this batch's rows: one individuals and moving-range (I-MR) control chart per part number of this batch (ISO 7870-2 Shewhart chart), one point per scan that passed or was out of tolerance, in the order measured.",
+		"From the history database " + shown + ", with this batch's rows: one individuals and moving-range (I-MR) control chart per part number of this batch (ISO 7870-2 Shewhart chart), one point per scan that passed or was out of tolerance, in the order measured.",
 		fmt.Sprintf("Baseline window: the centre line and limits of each part come from its first %d points (X̄ ± 3σ̂ with σ̂ = mean moving range / %.3f; moving-range limit %.3f × mean moving range); a part with fewer points has provisional limits from all it has.", trend.DefaultBaseline, spc.D2, spc.D4),
 		"Run rules: Western Electric rules 1–4 on the individuals (" + strings.Join(rules, "; ") + "), and moving ranges above their limit (MR). Points out of control are marked with a square and listed under the chart.",
 	}

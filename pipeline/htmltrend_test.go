@@ -69,7 +69,7 @@ func TestIndexTrendTwoNights(t *testing.T) {
 	run()
 	page, charts := readIndex(t, out)
 	for _, want := range []string{`id="trend"`, "Trend of <code>loss_pct</code> by part number", "Western Electric rules 1–4",
-		"first 20 points", "1 point (this batch&#39;s: point 1): a chart needs at least 2."} {
+		"first 20 points", "From the history database history.sqlite (in this folder), with", "1 point (this batch&#39;s: point 1): a chart needs at least 2."} {
 		if !strings.Contains(page, want) {
 			t.Errorf("night 1: index lacks %q", want)
 		}
@@ -129,7 +129,7 @@ func TestTrendViewOneLine(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			v := trendView(context.Background(), tc.tr, tc.s)
+			v := trendView(context.Background(), t.TempDir(), tc.tr, tc.s)
 			if len(v.Lines) != 1 || !strings.Contains(v.Lines[0], tc.want) || len(v.Charts) != 0 {
 				t.Errorf("lines %q, %d charts; want one line with %q", v.Lines, len(v.Charts), tc.want)
 			}

@@ -308,7 +308,7 @@ var indexOrder = map[string]int{StatusFailed: 0, StatusRejected: 1, StatusOut: 2
 // part numbers drawn from the history database tr names (trendView).
 func WriteIndexHTML(ctx context.Context, out string, s *Summary, tr IndexTrend) error {
 	page := indexView(out, s)
-	page.Trend = trendView(ctx, tr, s)
+	page.Trend = trendView(ctx, out, tr, s)
 	return WriteFileAtomic(filepath.Join(out, "index.html"), func(w io.Writer) error {
 		return html.WriteIndex(w, page)
 	})
