@@ -1,15 +1,22 @@
 package pipeline
 
 import (
+	"bytes"
 	"context"
 	"encoding/base64"
+	"fmt"
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strings"
 	"testing"
+	"time"
 
+	"gapflux/pipeline/history"
 	"gapflux/pipeline/html"
+	"gapflux/pipeline/spc"
+	"gapflux/pipeline/trend"
 )
 
 // lossAnalyzer is fakeAnalyzer with a heat section: loss_pct is the scan's
@@ -172,5 +179,41 @@ func TestComparePageView(t *testing.T) {
 	}
 	if strings.Contains(got, "http://") || strings.Contains(got, "https://") {
 		t.Error("compare.html refers to the network")
+	}
+}
+
+// A point far out is listed under its chart with the rules it breaks and
+// named as this batch's: values 1, 1.1, 0.9, 1, 1.05, 1, 0.95, 1.02, 10 give
+// (all 9 in the provisional baseline) centre 18.02/9 = 2.002, mean moving
+// range 9.6/8 = 1.2, UCL 2.002 + 3·1.2/1.128 = 5.194 and moving-range limit
+// 3.267·1.2 = 3.920 (Montgomery 2013 §6.4): point 9 breaks WE1 and its
+// moving range 8.98 the MR limit, and point 8 completes eight points below
+// the centre line (WE4); no other point is flagged.
+func TestPartChartViewFlags(t *testing.T) {
+	vals := []float64{1, 1.1, 0.9, 1, 1.05, 1, 0.95, 1.02, 10}
+	pc := trend.PartChart{Part: "P", Figure: "loss_pct"}
+	started := time.Date(2026, 11, 30, 22, 0, 0, 0, time.UTC)
+	for i, v := range vals {
+		run := int64(1 + i/3)
+		pc.Points = append(pc.Points, history.Point{RunID: run, Started: started.Add(time.Duration(run) * 24 * time.Hour),
+			Path: fmt.Sprintf("l/s%d.stl", i+1), Lot: "L", Status: StatusOK, Value: v})
+	}
+	var err error
+	if pc.Chart, err = spc.Individuals(vals, trend.DefaultBaseline); err != nil {
+		t.Fatal(err)
+	}
+	v := partChartView(&pc, 3)
+	want := []string{"point 8: l/s8.stl, lot L = 1.02 %, batch of 2026-12-03 22:00 UTC: WE4", "point 9: l/s9.stl, lot L = 10 %, batch of 2026-12-03 22:00 UTC: WE1, MR"}
+	if !slices.Equal(v.Flagged, want) {
+		t.Errorf("flagged %q, want %q", v.Flagged, want)
+	}
+	for _, w := range []string{"9 points of loss_pct (this batch's: point 7, 8, 9)", "limits from points 1–9, provisional until 20 points",
+		"centre 2.002 %", "limits -1.189 to 5.194 %", "moving-range limit 3.92 %"} {
+		if !strings.Contains(v.Caption, w) {
+			t.Errorf("caption %q lacks %q", v.Caption, w)
+		}
+	}
+	if !bytes.HasPrefix(v.SVG, []byte("<?xml")) || !bytes.Contains(v.SVG, []byte("<svg")) {
+		t.Errorf("no SVG chart (%d bytes)", len(v.SVG))
 	}
 }
