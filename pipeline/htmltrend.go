@@ -79,35 +79,39 @@ func trendView(ctx context.Context, out string, tr IndexTrend, s *Summary) html.
 	}
 	for _, p := range parts {
 		pc := byPart[p]
-		if pc == nil || len(pc.Points) == 0 {
-			v.Charts = append(v.Charts, html.TrendChart{Part: p,
-				Caption: "No point yet: none of its scans has a stored " + fig + " (only scans that passed or were out of tolerance are charted)."})
-			continue
+		switch {
+		case pc == nil || len(pc.Points) == 0:
+			v.Few = append(v.Few, "part "+p+": no point yet; none of its scans has a stored "+fig+" (only scans that passed or were out of tolerance are charted).")
+		case pc.Chart == nil:
+			v.Few = append(v.Few, fmt.Sprintf("part %s: %d point (%s); a chart needs at least 2.", p, len(pc.Points), pointsOf(pc, tr.RunID)))
+		default:
+			v.Charts = append(v.Charts, partChartView(pc, tr.RunID))
 		}
-		v.Charts = append(v.Charts, partChartView(pc, tr.RunID))
 	}
 	return v
 }
 
-// partChartView captions one part's chart and lists its flagged points.
-func partChartView(pc *trend.PartChart, runID int64) html.TrendChart {
-	unit := figureUnit(pc.Figure)
+// pointsOf names the points of pc that the run runID added.
+func pointsOf(pc *trend.PartChart, runID int64) string {
 	var mine []string
 	for i, pt := range pc.Points {
 		if runID != 0 && pt.RunID == runID {
 			mine = append(mine, strconv.Itoa(i+1))
 		}
 	}
-	tonight := "none from this batch (its scans were recorded before, or have no " + pc.Figure + ")"
-	if len(mine) > 0 {
-		tonight = "this batch's: point " + strings.Join(mine, ", ")
+	if len(mine) == 0 {
+		return "none from this batch: its scans were recorded before, or have no " + pc.Figure
 	}
+	return "this batch's: point " + strings.Join(mine, ", ")
+}
+
+// partChartView captions the chart of one part with at least 2 points and
+// lists its flagged points.
+func partChartView(pc *trend.PartChart, runID int64) html.TrendChart {
+	unit := figureUnit(pc.Figure)
+	tonight := pointsOf(pc, runID)
 	v := html.TrendChart{Part: pc.Part, Alt: "control chart of " + pc.Figure + " for part " + pc.Part}
 	c := pc.Chart
-	if c == nil {
-		v.Caption = fmt.Sprintf("%d point (%s): a chart needs at least 2.", len(pc.Points), tonight)
-		return v
-	}
 	g := func(x float64) string { return strconv.FormatFloat(roundSig(x, 4), 'f', -1, 64) }
 	prov := ""
 	if c.Provisional {
@@ -136,11 +140,14 @@ func partChartView(pc *trend.PartChart, runID int64) html.TrendChart {
 		v.Flagged = append(v.Flagged, fmt.Sprintf("point %d: %s%s = %s%s, batch of %s: %s", i+1, pt.Path, lot, g(pt.Value), unit,
 			pt.Started.UTC().Format("2006-01-02 15:04 UTC"), strings.Join(why, ", ")))
 	}
-	if svg, err := pc.SVG(); err == nil {
-		v.SVG = svg
-	} else {
+	svg, err := pc.SVG()
+	if err != nil {
+		// Not expected (the chart is drawn in memory); the page then
+		// shows a placeholder that says so.
 		v.Caption += " The chart could not be drawn: " + err.Error() + "."
+		svg = []byte(`<svg xmlns="http://www.w3.org/2000/svg" width="300" height="40"><text x="4" y="24">chart not drawn</text></svg>`)
 	}
+	v.SVG = svg
 	return v
 }
 

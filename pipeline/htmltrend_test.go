@@ -76,7 +76,7 @@ func TestIndexTrendTwoNights(t *testing.T) {
 	run()
 	page, charts := readIndex(t, out)
 	for _, want := range []string{`id="trend"`, "Trend of <code>loss_pct</code> by part number", "Western Electric rules 1–4",
-		"first 20 points", "From the history database history.sqlite (in this folder), with", "1 point (this batch&#39;s: point 1): a chart needs at least 2."} {
+		"first 20 points", "From the history database history.sqlite (in this folder), with", "Too few points for a chart:</p><ul class=\"few\"><li>part P-1: 1 point (this batch&#39;s: point 1); a chart needs at least 2.</li>"} {
 		if !strings.Contains(page, want) {
 			t.Errorf("night 1: index lacks %q", want)
 		}

@@ -117,6 +117,9 @@ type Trend struct {
 	// says why and Charts is empty.
 	Lines  []string
 	Charts []TrendChart
+	// Few says, one line per part, why a part of the batch has no chart
+	// (fewer than 2 points).
+	Few []string
 }
 
 // TrendChart is one part number's individuals and moving-range chart.
@@ -126,7 +129,7 @@ type TrendChart struct {
 	// Flagged lists the points out of control, one line each; empty when
 	// none is.
 	Flagged []string
-	SVG     []byte // the chart as an SVG document; nil when too few points
+	SVG     []byte // the chart as an SVG document
 	Alt     string
 }
 
