@@ -70,7 +70,7 @@ type BatchOptions struct {
 	// columns win over both). Job has it applied already.
 	Override func(Job) (Job, error)
 	// History is the history database the batch's rows are appended to;
-	// "" means OUT/history.sqlite (HistoryFile).
+	// "" means OUT/history.sqlite (HistoryFile), HistoryOff none.
 	History string
 }
 

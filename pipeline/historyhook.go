@@ -18,6 +18,10 @@ import (
 // folder unless BatchOptions.History names another.
 const HistoryFile = "history.sqlite"
 
+// HistoryOff as BatchOptions.History records no history (a database file
+// named "off" is given as ./off).
+const HistoryOff = "off"
+
 // historyPath is the database a batch records into.
 func historyPath(opt BatchOptions, out string) string {
 	if opt.History != "" {
@@ -113,6 +117,10 @@ func isNaNOrInf(v float64) bool { return v != v || v > 1.7e308 || v < -1.7e308 }
 // and running the same batch again records the rows then (rows already
 // stored are not added twice).
 func logHistory(ctx context.Context, opt BatchOptions, out string, res *BatchResult, started time.Time, log *runLog) IndexTrend {
+	if opt.History == HistoryOff {
+		log.printf("history: off, nothing recorded")
+		return IndexTrend{Note: "No trend chart: the batch ran with --history off, so it recorded no history."}
+	}
 	db := historyPath(opt, out)
 	runID, added, unkeyed, err := recordHistory(ctx, opt, out, res.Summary, started)
 	if err != nil {

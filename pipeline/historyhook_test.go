@@ -121,3 +121,26 @@ func TestRowFiguresCoverHistoryColumns(t *testing.T) {
 		t.Errorf("rowFigures has %d figures, history %d", len(m), len(history.Figures))
 	}
 }
+
+// --history off records nothing, and the index says so in one line.
+func TestHistoryOff(t *testing.T) {
+	dir := makeScanDir(t, map[string]string{"manifest.csv": "path,part_number\na.xyz,P\n", "a.xyz": "a1"})
+	out := t.TempDir()
+	res, err := RunBatch(context.Background(), BatchOptions{Dir: dir, Out: out, Job: DefaultJob(), Workers: 1,
+		Analyze: (&fakeAnalyzer{}).analyze, History: HistoryOff})
+	if err != nil || res.HistoryErr != nil {
+		t.Fatalf("batch: %v; history: %v", err, res.HistoryErr)
+	}
+	for _, f := range []string{HistoryFile, HistoryOff} {
+		if _, err := os.Stat(filepath.Join(out, f)); err == nil {
+			t.Errorf("--history off wrote %s", f)
+		}
+	}
+	if _, err := os.Stat(HistoryOff); err == nil {
+		t.Errorf("--history off wrote ./%s", HistoryOff)
+	}
+	page, _ := os.ReadFile(filepath.Join(out, "index.html"))
+	if !strings.Contains(string(page), "No trend chart: the batch ran with --history off") || strings.Contains(string(page), `class="chart"`) {
+		t.Error("index.html does not say that the batch recorded no history")
+	}
+}

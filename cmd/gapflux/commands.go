@@ -91,7 +91,7 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	quiet := fs.Bool("quiet", false, "print nothing but errors (for cron)")
 	progress := fs.String("progress", "auto", "auto (bar on a terminal, lines otherwise), bar, lines or none")
 	jf := addJobFlags(fs, "job file (default: DIR/job.toml when present, else the built-in defaults)")
-	hist := fs.String("history", "", "history database the batch's rows are added to (default OUT/history.sqlite)")
+	hist := fs.String("history", "", "history database the batch's rows are added to (default OUT/history.sqlite; off: record none)")
 	if err := parse(fs, args); err != nil {
 		return exitUsage, err
 	}
