@@ -8,6 +8,7 @@ import (
 	"strconv"
 	"strings"
 
+	"gapflux/pipeline/history"
 	"gapflux/pipeline/html"
 	"gapflux/pipeline/spc"
 	"gapflux/pipeline/trend"
@@ -59,7 +60,7 @@ func trendView(ctx context.Context, out string, tr IndexTrend, s *Summary) html.
 		v.Lines = []string{"No trend chart: no scan of this batch has a part number (give them in the batch's manifest.csv, column part_number); the history is in " + shown + "."}
 		return v
 	}
-	charts, err := trend.Load(context.WithoutCancel(ctx), trend.Options{History: tr.History, Figure: fig})
+	charts, err := loadCharts(context.WithoutCancel(ctx), tr.History, fig, parts)
 	if err != nil {
 		v.Lines = []string{fmt.Sprintf("No trend chart: the history database could not be read (%v); gapflux trend --history %s draws the charts.", err, tr.History)}
 		return v
@@ -103,6 +104,30 @@ func pointsOf(pc *trend.PartChart, runID int64) string {
 		return "none from this batch: its scans were recorded before, or have no " + pc.Figure
 	}
 	return "this batch's: point " + strings.Join(mine, ", ")
+}
+
+// loadCharts loads the charts of figure for those of parts the history db
+// holds (a shared database may hold many more parts than one batch).
+func loadCharts(ctx context.Context, db, figure string, parts []string) ([]trend.PartChart, error) {
+	st, err := history.OpenExisting(ctx, db)
+	if err != nil {
+		return nil, err
+	}
+	known, err := st.Parts(ctx)
+	st.Close()
+	if err != nil {
+		return nil, err
+	}
+	var chosen []string
+	for _, p := range parts {
+		if slices.Contains(known, p) {
+			chosen = append(chosen, p)
+		}
+	}
+	if len(chosen) == 0 {
+		return nil, nil
+	}
+	return trend.Load(ctx, trend.Options{History: db, Parts: chosen, Figure: figure})
 }
 
 // partChartView captions the chart of one part with at least 2 points and

@@ -63,7 +63,7 @@ func readIndex(t *testing.T, out string) (string, map[string]string) {
 // 4 ∓ 3σ̂ = −6.638 and 14.64 %; Montgomery 2013 §6.4, the formulas of
 // package spc).
 func TestIndexTrendTwoNights(t *testing.T) {
-	manifest := "path,part_number,lot\na.xyz,P-1,L1\nbroken.xyz,P-1,L1\n"
+	manifest := "path,part_number,lot\na.xyz,P-1,L1\nbroken.xyz,P-2,L1\n"
 	dir := makeScanDir(t, map[string]string{"manifest.csv": manifest, "a.xyz": "a1", "b.xyz": "c1", "broken.xyz": "bad"})
 	out := t.TempDir()
 	run := func() {
@@ -89,6 +89,10 @@ func TestIndexTrendTwoNights(t *testing.T) {
 	}
 	run()
 	page, charts = readIndex(t, out)
+	// P-2's only scan failed: it is in the history, with no value to chart.
+	if w := "part P-2: no point yet; none of its scans has a stored loss_pct"; !strings.Contains(page, w) {
+		t.Errorf("night 2: index lacks %q", w)
+	}
 	want := "2 points of loss_pct (this batch&#39;s: point 2); limits from points 1–2, provisional until 20 points: centre 4 %, limits -6.638 to 14.64 %"
 	if !strings.Contains(page, want) {
 		t.Errorf("night 2: index lacks %q", want)
