@@ -70,7 +70,7 @@ type BatchOptions struct {
 	// columns win over both). Job has it applied already.
 	Override func(Job) (Job, error)
 	// History is the history database the batch's rows are appended to;
-	// "" means OUT/history.sqlite (HistoryFile).
+	// "" means OUT/history.sqlite (HistoryFile), HistoryOff none.
 	History string
 }
 
@@ -442,11 +442,12 @@ func runTasks(ctx context.Context, opt BatchOptions, tasks []ScanTask, problemRo
 		log.printf("writing summary: %v", err)
 		return res, fmt.Errorf("writing the summary into %s: %w; the scans' outputs are kept: fix that and run the same command again", opt.Out, err)
 	}
-	if err := WriteIndexHTML(out, res.Summary); err != nil {
+	// The history first, so that index.html charts tonight's rows too.
+	tr := logHistory(ctx, opt, out, res, started, log)
+	if err := WriteIndexHTML(ctx, out, res.Summary, tr); err != nil {
 		log.printf("writing index.html: %v", err)
 		return res, fmt.Errorf("writing index.html into %s: %w", opt.Out, err)
 	}
-	logHistory(ctx, opt, out, res, started, log)
 	log.printf("batch end: ran %d, skipped %d, not run %d, interrupted %v",
 		res.Ran, res.Skipped, res.Summary.Counts[StatusNotRun], res.Interrupted)
 	return res, nil

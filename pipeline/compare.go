@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"bytes"
 	"context"
 	"encoding/csv"
 	"encoding/json"
@@ -112,6 +113,7 @@ type CompareResult struct {
 	Grid        *scan.Surface // A's form grid
 	RadiusM     float64
 	Names       [2]string // how the maps name A and B
+	Inputs      [2]string // A and B as given (scan files or report folders)
 	HeightDiffM []float64 // B − A − mean, m
 	GapDiffM    []float64 // gap B − gap A, m
 }
@@ -172,6 +174,7 @@ func Compare(ctx context.Context, in CompareInput) (*CompareResult, error) {
 	}
 	out := &CompareResult{Comparison: c, Grid: a.form, RadiusM: radius}
 	out.Names = [2]string{filepath.Base(in.A), filepath.Base(in.B)}
+	out.Inputs = [2]string{in.A, in.B}
 	out.HeightDiffM, c.HeightDiff = heightDiff(a.form, b.form, fit, radius)
 	bGap := align.Resample(b.form, b.gapM, a.form, fit)
 	out.GapDiffM = make([]float64, len(bGap))
@@ -414,8 +417,9 @@ func ringChanges(a, b []RingReport) []RingChange {
 }
 
 // WriteCompareOutputs writes compare.json, compare.csv (the figures),
-// compare_rings.csv and the difference maps height_change and gap_change
-// (PNG and SVG) into dir, each atomically.
+// compare_rings.csv, the difference maps height_change and gap_change
+// (PNG and SVG) and compare.html (the page of them all) into dir, each
+// atomically.
 func WriteCompareOutputs(r *CompareResult, dir string) error {
 	c := r.Comparison
 	raw, err := json.MarshalIndent(c, "", "  ")
@@ -476,9 +480,15 @@ func writeRingChangeCSV(w io.Writer, rings []RingChange) error {
 	return cw.Error()
 }
 
-// writeChangeMaps draws the height and gap change maps on a colour range
+// changeMap is one difference map of a comparison.
+type changeMap struct {
+	name string // file stem
+	spec *MapSpec
+}
+
+// changeMaps lays out the height and gap change maps on a colour range
 // symmetric about zero, so zero sits mid-scale.
-func writeChangeMaps(dir string, r *CompareResult) error {
+func changeMaps(r *CompareResult) []changeMap {
 	s := r.Grid
 	maps := []struct {
 		name, title, unit string
@@ -488,6 +498,7 @@ func writeChangeMaps(dir string, r *CompareResult) error {
 		{"height_change", fmt.Sprintf("height change %s − %s (mean removed)", r.Names[1], r.Names[0]), "height change (µm)", r.HeightDiffM, 1e6},
 		{"gap_change", fmt.Sprintf("gap change %s − %s", r.Names[1], r.Names[0]), "gap change (mm)", r.GapDiffM, 1e3},
 	}
+	var out []changeMap
 	for _, m := range maps {
 		vals := make([]float64, len(m.v))
 		lim := 0.0
@@ -500,11 +511,25 @@ func writeChangeMaps(dir string, r *CompareResult) error {
 		if lim == 0 {
 			lim = 1
 		}
-		spec := &MapSpec{Title: m.title, Unit: m.unit, Nx: s.Nx, Ny: s.Ny, X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3,
-			CellMM: s.CellM * 1e3, Values: vals, Controls: gapControls, Lo: -lim, Hi: lim, BaseRadiusMM: r.RadiusM * 1e3}
-		if err := writeMapFiles(dir, m.name, spec); err != nil {
+		out = append(out, changeMap{m.name, &MapSpec{Title: m.title, Unit: m.unit, Nx: s.Nx, Ny: s.Ny, X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3,
+			CellMM: s.CellM * 1e3, Values: vals, Controls: gapControls, Lo: -lim, Hi: lim, BaseRadiusMM: r.RadiusM * 1e3}})
+	}
+	return out
+}
+
+// writeChangeMaps writes the change maps as PNG and SVG, and compare.html
+// with the SVGs inline.
+func writeChangeMaps(dir string, r *CompareResult) error {
+	svgs := map[string][]byte{}
+	for _, m := range changeMaps(r) {
+		if err := writeMapFiles(dir, m.name, m.spec); err != nil {
 			return fmt.Errorf("%s: %w", m.name, err)
 		}
+		var b bytes.Buffer
+		if err := WriteMap(&b, m.spec, "svg"); err != nil {
+			return fmt.Errorf("%s: %w", m.name, err)
+		}
+		svgs[m.name] = b.Bytes()
 	}
-	return nil
+	return writeCompareHTML(dir, r, svgs)
 }

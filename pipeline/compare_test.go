@@ -112,7 +112,7 @@ func TestCompareOutputs(t *testing.T) {
 	if err := WriteCompareOutputs(r, dir); err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []string{"compare.json", "compare.csv", "compare_rings.csv", "height_change.png", "height_change.svg", "gap_change.png", "gap_change.svg"} {
+	for _, f := range []string{"compare.json", "compare.csv", "compare_rings.csv", "height_change.png", "height_change.svg", "gap_change.png", "gap_change.svg", "compare.html"} {
 		if st, err := os.Stat(filepath.Join(dir, f)); err != nil || st.Size() == 0 {
 			t.Errorf("%s: missing or empty (%v)", f, err)
 		}
@@ -136,9 +136,23 @@ func TestCompareOutputs(t *testing.T) {
 	if err := WriteCompareOutputs(r, dir2); err != nil {
 		t.Fatal(err)
 	}
-	raw2, _ := os.ReadFile(filepath.Join(dir2, "compare.json"))
-	if string(raw) != string(raw2) {
-		t.Error("compare.json differs between two writes")
+	for _, f := range []string{"compare.json", "compare.html"} {
+		b1, _ := os.ReadFile(filepath.Join(dir, f))
+		b2, _ := os.ReadFile(filepath.Join(dir2, f))
+		if len(b1) == 0 || string(b1) != string(b2) {
+			t.Errorf("%s differs between two writes", f)
+		}
+	}
+	page, _ := os.ReadFile(filepath.Join(dir, "compare.html"))
+	angle := num(*r.Comparison.Alignment.AngleDeg, 2)
+	for _, want := range []string{`<span class="v">` + angle + `</span> <span class="u">°</span>`, "permanent set (change of concavity)",
+		"<td><code>loss_pct</code></td>", `id="rings"`} {
+		if !strings.Contains(string(page), want) {
+			t.Errorf("compare.html lacks %q", want)
+		}
+	}
+	if n := strings.Count(string(page), `<img src="data:image/svg&#43;xml;base64,`); n != 2 {
+		t.Errorf("compare.html has %d inline maps, want 2", n)
 	}
 }
 

@@ -18,6 +18,10 @@ import (
 // folder unless BatchOptions.History names another.
 const HistoryFile = "history.sqlite"
 
+// HistoryOff as BatchOptions.History records no history (a database file
+// named "off" is given as ./off).
+const HistoryOff = "off"
+
 // historyPath is the database a batch records into.
 func historyPath(opt BatchOptions, out string) string {
 	if opt.History != "" {
@@ -32,12 +36,12 @@ func historyPath(opt BatchOptions, out string) string {
 // error.json) are stored with the hashes their report.json or error.json
 // carries; not-run rows and failures without hashes (job file errors,
 // faults of the machine) have no result to keep. Writing goes on after an
-// interrupt: the rows finished are results. It returns the rows added and
-// those skipped for want of hashes.
-func recordHistory(ctx context.Context, opt BatchOptions, out string, s *Summary, started time.Time) (added, unkeyed int, err error) {
+// interrupt: the rows finished are results. It returns the run's id in the
+// database, the rows added and those skipped for want of hashes.
+func recordHistory(ctx context.Context, opt BatchOptions, out string, s *Summary, started time.Time) (runID int64, added, unkeyed int, err error) {
 	var buf bytes.Buffer
 	if err := s.WriteJSON(&buf); err != nil {
-		return 0, 0, err
+		return 0, 0, 0, err
 	}
 	sum := sha256.Sum256(buf.Bytes())
 	var rows []history.Row
@@ -56,11 +60,11 @@ func recordHistory(ctx context.Context, opt BatchOptions, out string, s *Summary
 	ctx = context.WithoutCancel(ctx)
 	st, err := history.Open(ctx, historyPath(opt, out))
 	if err != nil {
-		return 0, unkeyed, err
+		return 0, 0, unkeyed, err
 	}
 	defer st.Close()
-	_, added, err = st.Append(ctx, history.Run{Started: started, SummarySHA256: hex.EncodeToString(sum[:]), OutputDir: out}, rows)
-	return added, unkeyed, err
+	runID, added, err = st.Append(ctx, history.Run{Started: started, SummarySHA256: hex.EncodeToString(sum[:]), OutputDir: out}, rows)
+	return runID, added, unkeyed, err
 }
 
 // resultHashes reads the scan and job hashes of a row's result from its
@@ -105,18 +109,26 @@ func rowFigures(r SummaryRow) map[string]float64 {
 
 func isNaNOrInf(v float64) bool { return v != v || v > 1.7e308 || v < -1.7e308 }
 
-// logHistory runs recordHistory and logs its outcome. A history that
-// cannot be written never costs the batch its results: the error is logged
-// and kept in the result (BatchResult.HistoryErr), the exit code is the
-// batch's, and running the same batch again records the rows then (rows
-// already stored are not added twice).
-func logHistory(ctx context.Context, opt BatchOptions, out string, res *BatchResult, started time.Time, log *runLog) {
-	added, unkeyed, err := recordHistory(ctx, opt, out, res.Summary, started)
+// logHistory runs recordHistory and logs its outcome, and returns what the
+// batch's index.html charts: the database with tonight's rows in it. A
+// history that cannot be written never costs the batch its results: the
+// error is logged and kept in the result (BatchResult.HistoryErr), the exit
+// code is the batch's, the index says in one line that there is no chart,
+// and running the same batch again records the rows then (rows already
+// stored are not added twice).
+func logHistory(ctx context.Context, opt BatchOptions, out string, res *BatchResult, started time.Time, log *runLog) IndexTrend {
+	if opt.History == HistoryOff {
+		log.printf("history: off, nothing recorded")
+		return IndexTrend{Note: "No trend chart: the batch ran with --history off, so it recorded no history."}
+	}
+	db := historyPath(opt, out)
+	runID, added, unkeyed, err := recordHistory(ctx, opt, out, res.Summary, started)
 	if err != nil {
 		res.HistoryErr = fmt.Errorf("recording the batch in the history database %s: %w; the batch's results are kept: run the same command again to record them",
-			historyPath(opt, out), err)
+			db, err)
 		log.printf("%v", res.HistoryErr)
-		return
+		return IndexTrend{Note: "No trend chart: this batch's rows could not be added to the history database " + db + " (run.log says why); run the same command again to record them."}
 	}
-	log.printf("history %s: %d new rows (%d rows without a recorded result not kept)", historyPath(opt, out), added, unkeyed)
+	log.printf("history %s: %d new rows (%d rows without a recorded result not kept)", db, added, unkeyed)
+	return IndexTrend{History: db, RunID: runID}
 }

@@ -87,10 +87,16 @@ func TestHistoryFailureKeepsResults(t *testing.T) {
 	if res.ExitCode() != 0 || res.Summary.Counts[StatusOK] != 1 {
 		t.Errorf("exit code %d, ok rows %d; want 0 and 1", res.ExitCode(), res.Summary.Counts[StatusOK])
 	}
-	for _, f := range []string{"summary.csv", "summary.json", "scans/a.xyz/report.json"} {
+	for _, f := range []string{"summary.csv", "summary.json", "scans/a.xyz/report.json", "index.html"} {
 		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
 			t.Errorf("%s: %v", f, err)
 		}
+	}
+	// The index's trend section is one line saying why there is no chart.
+	page, _ := os.ReadFile(filepath.Join(out, "index.html"))
+	if !strings.Contains(string(page), "No trend chart: this batch&#39;s rows could not be added to the history database") ||
+		strings.Contains(string(page), `class="chart"`) {
+		t.Error("index.html does not say in its trend section that the history could not be written")
 	}
 	log, _ := os.ReadFile(filepath.Join(out, "run.log"))
 	if !strings.Contains(string(log), "history database") {
@@ -113,5 +119,28 @@ func TestRowFiguresCoverHistoryColumns(t *testing.T) {
 	}
 	if len(m) != len(history.Figures) {
 		t.Errorf("rowFigures has %d figures, history %d", len(m), len(history.Figures))
+	}
+}
+
+// --history off records nothing, and the index says so in one line.
+func TestHistoryOff(t *testing.T) {
+	dir := makeScanDir(t, map[string]string{"manifest.csv": "path,part_number\na.xyz,P\n", "a.xyz": "a1"})
+	out := t.TempDir()
+	res, err := RunBatch(context.Background(), BatchOptions{Dir: dir, Out: out, Job: DefaultJob(), Workers: 1,
+		Analyze: (&fakeAnalyzer{}).analyze, History: HistoryOff})
+	if err != nil || res.HistoryErr != nil {
+		t.Fatalf("batch: %v; history: %v", err, res.HistoryErr)
+	}
+	for _, f := range []string{HistoryFile, HistoryOff} {
+		if _, err := os.Stat(filepath.Join(out, f)); err == nil {
+			t.Errorf("--history off wrote %s", f)
+		}
+	}
+	if _, err := os.Stat(HistoryOff); err == nil {
+		t.Errorf("--history off wrote ./%s", HistoryOff)
+	}
+	page, _ := os.ReadFile(filepath.Join(out, "index.html"))
+	if !strings.Contains(string(page), "No trend chart: the batch ran with --history off") || strings.Contains(string(page), `class="chart"`) {
+		t.Error("index.html does not say that the batch recorded no history")
 	}
 }

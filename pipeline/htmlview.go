@@ -2,6 +2,7 @@ package pipeline
 
 import (
 	"bytes"
+	"context"
 	"errors"
 	"image"
 	"image/png"
@@ -303,9 +304,11 @@ var indexOrder = map[string]int{StatusFailed: 0, StatusRejected: 1, StatusOut: 2
 // WriteIndexHTML writes out/index.html for a batch summary: one row per
 // scan (failures and rejects first, then by path), with a thumbnail of its
 // gap map and a link to its report.html (or error.json), both found under
-// ScanOutDir(out, path).
-func WriteIndexHTML(out string, s *Summary) error {
+// ScanOutDir(out, path); under the table, the control charts of the batch's
+// part numbers drawn from the history database tr names (trendView).
+func WriteIndexHTML(ctx context.Context, out string, s *Summary, tr IndexTrend) error {
 	page := indexView(out, s)
+	page.Trend = trendView(ctx, out, tr, s)
 	return WriteFileAtomic(filepath.Join(out, "index.html"), func(w io.Writer) error {
 		return html.WriteIndex(w, page)
 	})

@@ -2,6 +2,7 @@ package pipeline
 
 import (
 	"bufio"
+	"context"
 	"crypto/rand"
 	"errors"
 	"fmt"
@@ -67,8 +68,20 @@ func Merge(inputs []string, out string) (*Summary, error) {
 	}
 	s := NewSummary(rows)
 	s.Input = input
-	return s, writeSummaryFiles(outAbs, s)
+	if err := writeSummaryFiles(outAbs, s); err != nil {
+		return s, err
+	}
+	return s, WriteIndexHTML(context.Background(), outAbs, s, IndexTrend{Note: mergeHistoryNote})
 }
+
+// mergeHistoryNote is the merged index's trend section. Merge records no
+// history of its own: each shard's batch has already appended its rows, to
+// the database its --history named (one shared database for every shard
+// holds the whole night) or to its own SHARD/history.sqlite. Appending the
+// merged rows again would add nothing to a shared database (rows are keyed
+// on path and hashes) and would start a second, partial history beside the
+// shards' ones otherwise.
+const mergeHistoryNote = "No trend chart for a merge: merge adds nothing to a history database, since each shard's batch already recorded its rows in the database its --history named (by default SHARD/history.sqlite). Give every shard the same --history DB and chart it with gapflux trend --history DB."
 
 // readShardOutputs reads each input's summary.json, refusing an input that
 // is the output folder itself.
@@ -81,16 +94,23 @@ func readShardOutputs(inputs []string, outAbs string) ([]shardOutput, error) {
 			return nil, fmt.Errorf("merge: %s: %w", in, err)
 		}
 		inInfo, err := os.Stat(inAbs)
-		if err != nil {
-			return nil, fmt.Errorf("merge: shard folder %s: %w", in, err)
+		switch {
+		case errors.Is(err, fs.ErrNotExist):
+			return nil, fmt.Errorf("merge: shard folder %s does not exist: give the --out folders of the shard batches (gapflux batch --shard K/N --out DIR), one per shard", in)
+		case err != nil:
+			return nil, fmt.Errorf("merge: shard folder %s cannot be read (%v): check its permissions", in, errors.Unwrap(err))
+		case !inInfo.IsDir():
+			return nil, fmt.Errorf("merge: %s is a file, not a shard's output folder: give the --out folders of the shard batches", in)
 		}
 		if inAbs == outAbs || (outErr == nil && os.SameFile(inInfo, outInfo)) {
 			return nil, fmt.Errorf("merge: --out %s is also an input: give a new folder for the merged output", in)
 		}
 		name := filepath.Join(in, "summary.json")
 		f, err := os.Open(name)
-		if err != nil {
-			return nil, fmt.Errorf("merge: %w (is %s a batch output folder?)", err, in)
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, fmt.Errorf("merge: %s holds no summary.json, so it is not a batch's output folder (or its batch never finished): give the --out folders of the shard batches", in)
+		} else if err != nil {
+			return nil, fmt.Errorf("merge: %s cannot be read (%v): check its permissions", name, errors.Unwrap(err))
 		}
 		s, err := ReadSummaryJSON(f, name)
 		f.Close()

@@ -8,6 +8,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -104,6 +105,15 @@ func TestMergeRefuses(t *testing.T) {
 			editSummary(t, o[1], func(s *Summary) { s.Input = nil })
 			return o, filepath.Join(base, "m")
 		}, "records no shard"},
+		{"folder missing", func(t *testing.T, base string, o []string) ([]string, string) {
+			return []string{o[0], filepath.Join(base, "shard9"), o[2]}, filepath.Join(base, "m")
+		}, "shard9 does not exist: give the --out folders of the shard batches"},
+		{"a file", func(t *testing.T, base string, o []string) ([]string, string) {
+			return []string{o[0], filepath.Join(o[1], "summary.csv"), o[2]}, filepath.Join(base, "m")
+		}, "summary.csv is a file, not a shard's output folder"},
+		{"no summary", func(t *testing.T, base string, o []string) ([]string, string) {
+			return []string{o[0], filepath.Join(o[1], ScansDir), o[2]}, filepath.Join(base, "m")
+		}, "holds no summary.json, so it is not a batch's output folder"},
 		{"row removed", func(t *testing.T, base string, o []string) ([]string, string) {
 			editSummary(t, o[1], func(s *Summary) { s.Rows = s.Rows[1:] })
 			return o, filepath.Join(base, "m")
@@ -218,5 +228,54 @@ func TestBatchManifestFaults(t *testing.T) {
 		} else if r.Status == StatusFailed || r.Lot != w {
 			t.Errorf("%s: %s lot %q, want it analysed with lot %q", r.Path, r.Status, r.Lot, w)
 		}
+	}
+}
+
+// TestMergeWritesIndex: the merged folder has an index.html with one row
+// per scan, the same table as a single run over the folder (links into the
+// merged folder resolve), and a trend section of one line saying that a
+// merge records no history.
+func TestMergeWritesIndex(t *testing.T) {
+	files := demoContents(5)
+	files["line0/bad.xyz"] = "bad"
+	dir := makeScanDir(t, files)
+	base := t.TempDir()
+	single := runShards(t, dir, filepath.Join(base, "single"), 0)[0]
+	outs := runShards(t, dir, base, 2)
+	merged := filepath.Join(base, "merged")
+	s, err := Merge(outs, merged)
+	if err != nil {
+		t.Fatal(err)
+	}
+	table := func(out string) string {
+		b, err := os.ReadFile(filepath.Join(out, "index.html"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		page := string(b)
+		i, j := strings.Index(page, "<table"), strings.Index(page, "</table>")
+		if i < 0 || j < i {
+			t.Fatalf("%s: index.html has no table", out)
+		}
+		return page[i:j]
+	}
+	got := table(merged)
+	if n := strings.Count(got, `<tr class="row status-`); n != 6 || len(s.Rows) != 6 {
+		t.Errorf("merged index: %d rows, summary %d, want 6", n, len(s.Rows))
+	}
+	if got != table(single) {
+		t.Error("merged index table differs from a single run's")
+	}
+	for _, m := range regexp.MustCompile(`href="([^"]+)"`).FindAllStringSubmatch(got, -1) {
+		if _, err := os.Stat(filepath.Join(merged, filepath.FromSlash(m[1]))); err != nil {
+			t.Errorf("merged index links to %s: %v", m[1], err)
+		}
+	}
+	b, _ := os.ReadFile(filepath.Join(merged, "index.html"))
+	if !strings.Contains(string(b), "No trend chart for a merge") {
+		t.Error("merged index does not say that a merge records no history")
+	}
+	if _, err := os.Stat(filepath.Join(merged, HistoryFile)); err == nil {
+		t.Error("merge wrote a history database")
 	}
 }

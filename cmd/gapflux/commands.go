@@ -91,7 +91,7 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	quiet := fs.Bool("quiet", false, "print nothing but errors (for cron)")
 	progress := fs.String("progress", "auto", "auto (bar on a terminal, lines otherwise), bar, lines or none")
 	jf := addJobFlags(fs, "job file (default: DIR/job.toml when present, else the built-in defaults)")
-	hist := fs.String("history", "", "history database the batch's rows are added to (default OUT/history.sqlite)")
+	hist := fs.String("history", "", "history database the batch's rows are added to (default OUT/history.sqlite; off: record none)")
 	if err := parse(fs, args); err != nil {
 		return exitUsage, err
 	}
@@ -192,7 +192,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) (int, error) {
 	if err != nil {
 		return exitUsage, err
 	}
-	fmt.Fprintf(stdout, "merged %s into %s\n", plural(len(s.Rows), "scan", "scans"), filepath.Join(*out, "summary.csv"))
+	fmt.Fprintf(stdout, "merged %s into %s and %s\n", plural(len(s.Rows), "scan", "scans"), filepath.Join(*out, "summary.csv"), filepath.Join(*out, "index.html"))
 	for _, r := range s.Rows {
 		if r.Status != pipeline.StatusOK {
 			return exitFail, nil

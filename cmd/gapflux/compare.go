@@ -29,7 +29,7 @@ func cmdCompare(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 	}
 	jf := addJobFlags(fs, "job file for both analyses (TOML); \"gapflux job\" prints every key with its default")
 	hob := fs.String("hob", "", "hob top for both analyses: a scan or a radial profile CSV (r_mm,z_mm); default an ideal flat hob")
-	out := fs.String("out", "", "write compare.json, compare.csv, compare_rings.csv and the change maps into this folder (required)")
+	out := fs.String("out", "", "write compare.json, compare.csv, compare_rings.csv, the change maps and compare.html (one page of it all) into this folder (required)")
 	tol := fs.Float64("diameter-tol-mm", pipeline.DefaultDiameterTolMM, "largest difference of the two diameters, mm, for one base")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	if err := parse(fs, args); err != nil {

@@ -55,7 +55,9 @@ func TestCompareCommand(t *testing.T) {
 	if code != exitOK || !strings.Contains(o, "turned") || !strings.Contains(o, "permanent set") {
 		t.Fatalf("exit %d:\n%s%s", code, o, e)
 	}
-	if _, err := os.Stat(filepath.Join(out, "compare.json")); err != nil {
-		t.Error(err)
+	for _, f := range []string{"compare.json", "compare.html"} {
+		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
+			t.Error(err)
+		}
 	}
 }

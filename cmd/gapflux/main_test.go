@@ -43,6 +43,7 @@ func TestUsageAndHelp(t *testing.T) {
 		{[]string{"batch", "somewhere"}, exitUsage, "--out OUT is missing"},
 		{[]string{"batch", "no-such-dir", "--out", "x", "--shard", "4/3"}, exitUsage, "1 <= K <= N"},
 		{[]string{"merge", "--out", "x"}, exitUsage, "want shard output folders"},
+		{[]string{"merge", "no-such-shard", "--out", filepath.Join(t.TempDir(), "m")}, exitFail, "shard folder no-such-shard does not exist: give the --out folders of the shard batches"},
 		{[]string{"synth"}, exitUsage, "--out is required"},
 		{[]string{"synth", "--shape", "blob", "--out", filepath.Join(t.TempDir(), "a.xyz")}, exitUsage, "shape"},
 		{[]string{"job"}, exitOK, "[interface]"},

@@ -260,6 +260,26 @@ func checkLossSort(t *testing.T, b *browser, wantLosses int) {
 	}
 }
 
+// checkTrend checks the index's trend section of smallBatch: one chart,
+// of part FP-120, with the batch's two scans as its two points, and the
+// baseline window and run rules stated.
+func checkTrend(t *testing.T, b *browser) {
+	t.Helper()
+	parts := eval[[]string](t, b, `Array.from(document.querySelectorAll("#trend figure.chart")).map(function (f) { return f.dataset.part; })`)
+	if len(parts) != 1 || parts[0] != "FP-120" {
+		t.Fatalf("trend charts of %q, want FP-120", parts)
+	}
+	if n := eval[int](t, b, `document.querySelectorAll("#trend figure.chart img").length`); n != 1 {
+		t.Errorf("trend: %d chart pictures, want 1", n)
+	}
+	text := eval[string](t, b, `document.getElementById("trend").textContent`)
+	for _, want := range []string{"2 points of loss_pct (this batch's: point 1, 2)", "first 20 points", "Western Electric rules 1–4", "history.sqlite"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("trend section lacks %q:\n%s", want, text)
+		}
+	}
+}
+
 // TestDemoPagesInBrowser runs the demo batch and checks its index and
 // every scan page in headless Chromium: no console errors or network
 // requests, every picture rendered, one row per scan, sorting by loss, each
@@ -388,7 +408,8 @@ func TestPagesInBrowser(t *testing.T) {
 	if len(order) < 2 || order[0] != pipeline.StatusFailed || order[1] != pipeline.StatusRejected {
 		t.Errorf("index order by status = %q, want failed, then rejected first", order)
 	}
-	checkImages(t, b, "index.html", 2)
+	checkImages(t, b, "index.html", 3) // two thumbnails and the trend chart
+	checkTrend(t, b)
 	screenshot(t, b, shots, "index.png")
 
 	checkLossSort(t, b, 2)
@@ -436,4 +457,67 @@ func TestPagesInBrowser(t *testing.T) {
 			t.Errorf("index links to %s, which does not exist", h)
 		}
 	}
+}
+
+// TestComparePageInBrowser compares a bent base with itself turned 30° and
+// 0.1 mm more bent, and checks compare.html in headless Chromium: no
+// console errors or network requests, both change maps rendered, one table
+// row per ring and per headline figure, the turn found, a screenshot.
+func TestComparePageInBrowser(t *testing.T) {
+	if testing.Short() {
+		t.Skip("two analyses and a browser")
+	}
+	b := newBrowser(t)
+	dir := t.TempDir()
+	spec := synth.Spec{Shape: synth.Bend, DiameterM: 0.12, SagM: 0.3e-3, NoiseM: 5e-6, SpacingM: 1.5e-3, Seed: 1}
+	later := spec
+	later.SagM, later.FormTurnDeg, later.Seed = 0.4e-3, 30, 2
+	var paths []string
+	for _, sp := range []synth.Spec{spec, later} {
+		sc, err := synth.Generate(sp)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var buf bytes.Buffer
+		if err := synth.Encode(&buf, sc, synth.Encoding{Format: "ply", Binary: true}); err != nil {
+			t.Fatal(err)
+		}
+		p := filepath.Join(dir, fmt.Sprintf("bend-%d.ply", sp.Seed))
+		if err := os.WriteFile(p, buf.Bytes(), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		paths = append(paths, p)
+	}
+	job := pipeline.DefaultJob()
+	job.Grid.CellMM = 1
+	r, err := pipeline.Compare(context.Background(), pipeline.CompareInput{A: paths[0], B: paths[1], Job: job})
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(t.TempDir(), "cmp")
+	if err := os.MkdirAll(out, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := pipeline.WriteCompareOutputs(r, out); err != nil {
+		t.Fatal(err)
+	}
+	b.open(t, filepath.Join(out, "compare.html"))
+	checkImages(t, b, "compare.html", 2)
+	c := r.Comparison
+	if n := eval[int](t, b, `document.querySelectorAll("#rings tbody tr").length`); n != len(c.Rings) || n == 0 {
+		t.Errorf("compare.html: %d ring rows, want %d", n, len(c.Rings))
+	}
+	if n := eval[int](t, b, `document.querySelectorAll("#figures tbody tr").length`); n != len(c.Figures) {
+		t.Errorf("compare.html: %d figure rows, want %d", n, len(c.Figures))
+	}
+	if c.Alignment.AngleDeg == nil {
+		t.Fatalf("no turn found: %s", c.Alignment.AngleNote)
+	}
+	text := eval[string](t, b, `document.querySelector(".headline").textContent`)
+	if want := fmt.Sprintf("%.2f", *c.Alignment.AngleDeg); !strings.Contains(text, want) {
+		t.Errorf("headline lacks the turn %s°:\n%s", want, text)
+	}
+	shots := shotDir(t)
+	screenshot(t, b, shots, "compare.png")
+	printShot(t, b, shots, "compare-print.png")
 }

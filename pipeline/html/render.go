@@ -22,6 +22,9 @@ var scanTmpl string
 //go:embed index.tmpl
 var indexTmpl string
 
+//go:embed compare.tmpl
+var compareTmpl string
+
 // funcs are the templates' helpers.
 var funcs = template.FuncMap{
 	"css": func() template.CSS { return template.CSS(pageCSS) },
@@ -46,8 +49,9 @@ var funcs = template.FuncMap{
 }
 
 var (
-	scanT  = template.Must(template.New("scan").Funcs(funcs).Parse(scanTmpl))
-	indexT = template.Must(template.New("index").Funcs(funcs).Parse(indexTmpl))
+	scanT    = template.Must(template.New("scan").Funcs(funcs).Parse(scanTmpl))
+	indexT   = template.Must(template.New("index").Funcs(funcs).Parse(indexTmpl))
+	compareT = template.Must(template.New("compare").Funcs(funcs).Parse(compareTmpl))
 )
 
 // WriteScan writes report.html for one scan.
@@ -63,6 +67,18 @@ func WriteIndex(w io.Writer, p *IndexPage) error {
 		}
 	}
 	return execute(w, indexT, p)
+}
+
+// WriteCompare writes compare.html for two scans of one base.
+func WriteCompare(w io.Writer, p *ComparePage) error {
+	for _, t := range []Table{p.Figures, p.Rings} {
+		for i, r := range t.Rows {
+			if len(r) != len(t.Columns) {
+				return fmt.Errorf("compare table row %d: %d cells for %d columns", i+1, len(r), len(t.Columns))
+			}
+		}
+	}
+	return execute(w, compareT, p)
 }
 
 // execute renders into a buffer first, so that a template error leaves

@@ -82,6 +82,19 @@ func (t Table) Halves() [2]Table {
 	return [2]Table{{Columns: t.Columns, Rows: t.Rows[:h]}, {Columns: t.Columns, Rows: t.Rows[h:]}}
 }
 
+// ComparePage is everything compare.html shows for two scans of one base:
+// B (the later scan) against A (the reference) in A's base frame.
+type ComparePage struct {
+	A, B string // the two scans as given
+	// Headline figures: the turn found, permanent set, height change.
+	Headline []Figure
+	Pictures []Picture // the height and gap change maps
+	Figures  Table     // headline figures of A and B and their change
+	Rings    Table     // ring-by-ring changes
+	Warnings []string
+	Inputs   []Figure // files and hashes
+}
+
 // IndexPage is everything index.html shows for a batch.
 type IndexPage struct {
 	Title  string
@@ -91,6 +104,33 @@ type IndexPage struct {
 	Columns []Column
 	Rows    []IndexRow
 	Notes   []string // lines under the table (what the statuses mean, ...)
+	// Trend is the control-chart section under the table.
+	Trend Trend
+}
+
+// Trend is the index's section of control charts drawn from the history
+// database: one chart per part number of the batch.
+type Trend struct {
+	Figure string // the charted figure, e.g. "loss_pct"
+	// Lines say where the charts come from: the database, the baseline
+	// window, the run rules. When there is nothing to chart, one line
+	// says why and Charts is empty.
+	Lines  []string
+	Charts []TrendChart
+	// Few says, one line per part, why a part of the batch has no chart
+	// (fewer than 2 points).
+	Few []string
+}
+
+// TrendChart is one part number's individuals and moving-range chart.
+type TrendChart struct {
+	Part    string
+	Caption string // points, baseline, limits, tonight's points
+	// Flagged lists the points out of control, one line each; empty when
+	// none is.
+	Flagged []string
+	SVG     []byte // the chart as an SVG document
+	Alt     string
 }
 
 // Count is the number of scans of one status.
