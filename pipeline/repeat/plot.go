@@ -3,6 +3,7 @@ package repeat
 import (
 	"bytes"
 	"fmt"
+	"gapflux/internal/ticks"
 	"image/color"
 	"math"
 
@@ -89,6 +90,7 @@ func (f *Figure) panel() (p *plot.Plot, ok bool, err error) {
 	p.Y.Label.TextStyle.Font.Size = vg.Points(8)
 	p.X.Tick.Label.Font.Size = vg.Points(7)
 	p.Y.Tick.Label.Font.Size = vg.Points(7)
+	p.Y.Tick.Marker = ticks.Distinct{}
 	var pts plotter.XYs
 	var bars intervals
 	lo, hi := math.Inf(1), math.Inf(-1)

@@ -2,6 +2,7 @@ package spc
 
 import (
 	"fmt"
+	"gapflux/internal/ticks"
 	"image/color"
 	"io"
 	"math"
@@ -79,7 +80,7 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 	p.Y.Label.Text = l.Unit
 	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4)", c.Baseline)
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
-	p.X.Tick.Marker = intTicks{}
+	p.X.Tick.Marker, p.Y.Tick.Marker = intTicks{}, ticks.Distinct{}
 	n := len(c.Values)
 	lo, hi := c.LCL, c.UCL
 	for _, v := range c.Values {
@@ -117,7 +118,7 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p.Y.Label.Text = "moving range"
 	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range)"
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
-	p.X.Tick.Marker = intTicks{}
+	p.X.Tick.Marker, p.Y.Tick.Marker = intTicks{}, ticks.Distinct{}
 	n := len(c.Values)
 	hi := c.MRUCL
 	for _, v := range c.MR[1:] {
