@@ -199,49 +199,25 @@ func (lv *level) setDiag() {
 
 // apply sets dst = A x on the active spans (dst is left as it is, zero,
 // outside them).
-func (lv *level) apply(dst, x []float64) {
+func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
+
+// applyRows sets dst = A x on the active spans, or, with b not nil, dst =
+// b − A x (the subtraction over every node of the row, so that the nodes
+// outside the spans get b − dst as well). It works row by row, both layers
+// and their coupling, so that each row's vectors are still in the cache
+// for the coupling and the subtraction; every node gets the same
+// operations in the same order as in separate passes.
+func (lv *level) applyRows(dst, x, b []float64) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
-	for l := 0; l < lv.nl; l++ {
-		kx, ky, d := lv.kx[l], lv.ky[l], lv.diag[l]
-		xl := x[l*n : (l+1)*n]
-		dl := dst[l*n : (l+1)*n]
-		for j := 0; j < ny; j++ {
-			lo, hi := lv.lo[l][j], lv.hi[l][j]
-			if lo >= hi {
-				continue
-			}
-			row := j * nx
-			if j == 0 || j == ny-1 || nx < 3 {
-				for i := lo; i < hi; i++ {
-					p := row + i
-					dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, i, j, p, 0)
-				}
-				continue
-			}
-			i := lo
-			if i == 0 {
-				dl[row] = d[row]*xl[row] - nbSum(kx, ky, xl, nx, ny, 0, j, row, 0)
-				i = 1
-			}
-			end := min(hi, nx-1)
-			xr, xn, xs := xl[row:row+nx], xl[row-nx:row], xl[row+nx:row+2*nx]
-			kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
-			dr, or := d[row:row+nx], dl[row:row+nx]
-			for ; i < end; i++ {
-				or[i] = dr[i]*xr[i] - kr[i-1]*xr[i-1] - kr[i]*xr[i+1] - kn[i]*xn[i] - ks[i]*xs[i]
-			}
-			if hi == nx {
-				p := row + nx - 1
-				dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
-			}
+	for j := 0; j < ny; j++ {
+		for l := 0; l < lv.nl; l++ {
+			lv.applyRow(dst[l*n:(l+1)*n], x[l*n:(l+1)*n], l, j)
 		}
-	}
-	if lv.nl == 2 {
-		c := lv.cpl
-		x0, x1 := x[:n], x[n:2*n]
-		d0, d1 := dst[:n], dst[n:2*n]
-		// Couplings exist only at cells with both layers.
-		for j := 0; j < ny; j++ {
+		if lv.nl == 2 {
+			// Couplings exist only at cells with both layers.
+			c := lv.cpl
+			x0, x1 := x[:n], x[n:2*n]
+			d0, d1 := dst[:n], dst[n:2*n]
 			lo, hi := max(lv.lo[0][j], lv.lo[1][j]), min(lv.hi[0][j], lv.hi[1][j])
 			for p := j*nx + lo; p < j*nx+hi; p++ {
 				if cp := c[p]; cp != 0 {
@@ -250,6 +226,50 @@ func (lv *level) apply(dst, x []float64) {
 				}
 			}
 		}
+		if b != nil {
+			for l := 0; l < lv.nl; l++ {
+				o := l*n + j*nx
+				r, bl := dst[o:o+nx], b[o:o+nx]
+				for i := range r {
+					r[i] = bl[i] - r[i]
+				}
+			}
+		}
+	}
+}
+
+// applyRow sets dl = (A x)_l on the span of layer l in row j, xl and dl
+// being layer l of x and of the result (without the layer coupling).
+func (lv *level) applyRow(dl, xl []float64, l, j int) {
+	nx, ny := lv.nx, lv.ny
+	kx, ky, d := lv.kx[l], lv.ky[l], lv.diag[l]
+	lo, hi := lv.lo[l][j], lv.hi[l][j]
+	if lo >= hi {
+		return
+	}
+	row := j * nx
+	if j == 0 || j == ny-1 || nx < 3 {
+		for i := lo; i < hi; i++ {
+			p := row + i
+			dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, i, j, p, 0)
+		}
+		return
+	}
+	i := lo
+	if i == 0 {
+		dl[row] = d[row]*xl[row] - nbSum(kx, ky, xl, nx, ny, 0, j, row, 0)
+		i = 1
+	}
+	end := min(hi, nx-1)
+	xr, xn, xs := xl[row:row+nx], xl[row-nx:row], xl[row+nx:row+2*nx]
+	kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
+	dr, or := d[row:row+nx], dl[row:row+nx]
+	for ; i < end; i++ {
+		or[i] = dr[i]*xr[i] - kr[i-1]*xr[i-1] - kr[i]*xr[i+1] - kn[i]*xn[i] - ks[i]*xs[i]
+	}
+	if hi == nx {
+		p := row + nx - 1
+		dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
 	}
 }
 
@@ -274,12 +294,7 @@ func (lv *level) localEnergy(x []float64) float64 {
 }
 
 // residual sets r = b − A x.
-func (lv *level) residual(r, x, b []float64) {
-	lv.apply(r, x)
-	for i := range r {
-		r[i] = b[i] - r[i]
-	}
-}
+func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b) }
 
 // nbSum returns b_p + Σ k x_q over the in-layer neighbours q of cell (i, j).
 func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {

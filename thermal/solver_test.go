@@ -541,3 +541,14 @@ func BenchmarkVCycle500(b *testing.B) {
 		s.mg.precondition(z, s.bRest)
 	}
 }
+
+// BenchmarkSetupReuse: setting up heaterFine's solve in the buffers of a
+// previous solve on the same grid (Solver reuse: the heat-up's solves).
+func BenchmarkSetupReuse(b *testing.B) {
+	p := heaterFine(333.15)
+	s := reusePlate(p, nil)
+	b.ResetTimer()
+	for range b.N {
+		s = reusePlate(p, s)
+	}
+}
