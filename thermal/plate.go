@@ -779,9 +779,12 @@ func (s *plate) run() error {
 		if err := s.mg.update(); err != nil {
 			return err
 		}
-		copy(b, s.bRest)
 		if s.bHeat != nil {
-			floats.AddScaled(b, s.duty, s.bHeat)
+			for i, h := range s.bHeat {
+				b[i] = s.bRest[i] + s.duty*h
+			}
+		} else {
+			copy(b, s.bRest)
 		}
 		copy(next, s.t)
 		state.tight = change < outerTightFactor*s.oTol
@@ -814,14 +817,14 @@ func (s *plate) run() error {
 			return err
 		}
 		change = 0
-		f := s.dir
+		f, t := s.dir, s.t
 		for i, d := range f {
 			f[i] = alpha * d
 			if v := math.Abs(f[i]); v > change {
 				change = v
 			}
+			t[i] += f[i]
 		}
-		floats.Add(s.t, f)
 		s.lastChange = change
 		// Converged when the step, or the distance to the fixed point
 		// estimated from the contraction ρ of the last two full steps,

@@ -552,3 +552,20 @@ func BenchmarkSetupReuse(b *testing.B) {
 		s = reusePlate(p, s)
 	}
 }
+
+// BenchmarkSolverHeaterFine: heaterFine from the built-in start on a
+// Solver that keeps its buffers between solves (the pipeline's case after
+// its first solve); setup included, allocation not.
+func BenchmarkSolverHeaterFine(b *testing.B) {
+	p := heaterFine(333.15)
+	var sv Solver
+	var s *Solution
+	var err error
+	for range b.N {
+		if s, err = sv.Solve(p); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(s.LinearIterations), "linear-iter")
+	b.ReportMetric(float64(s.OuterIterations), "outer-iter")
+}
