@@ -314,21 +314,29 @@ func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
 	return v
 }
 
-// sweep does one red–black Gauss–Seidel sweep, cells of colour first
-// ((i+j) mod 2 == first) before the others, solving the 2×2 block of both
-// layers of a cell together. The two half-sweeps are fused row by row (row
-// j of the first colour, then row j−1 of the second, whose neighbours are
-// then final), so the grid streams through the cache once per sweep. The
-// result is the same as two separate half-sweeps.
-func (lv *level) sweep(x, b []float64, first int) {
+// sweeps does m red–black Gauss–Seidel sweeps, in each the cells of
+// colour first ((i+j) mod 2 == first) before the others, solving the 2×2
+// block of both layers of a cell together. The half-sweeps are fused row
+// by row: sweep s relaxes row j of the first colour, then row j−1 of the
+// second (whose neighbours are then final), two rows behind sweep s−1
+// (whose rows around them are then final), so the grid streams through the
+// cache once for all m sweeps. Every cell sees the same neighbour values as
+// in m separate sweeps of two separate half-sweeps, so the result is the
+// same to the bit.
+func (lv *level) sweeps(x, b []float64, first, m int) {
 	second := 1 - first
-	for j := 0; j < lv.ny; j++ {
-		lv.relaxRow(x, b, j, first)
-		if j > 0 {
-			lv.relaxRow(x, b, j-1, second)
+	ny := lv.ny
+	for t := 0; t < ny+2*m-1; t++ {
+		for s := 0; s < m; s++ {
+			j := t - 2*s
+			if j >= 0 && j < ny {
+				lv.relaxRow(x, b, j, first)
+			}
+			if j >= 1 && j <= ny {
+				lv.relaxRow(x, b, j-1, second)
+			}
 		}
 	}
-	lv.relaxRow(x, b, lv.ny-1, second)
 }
 
 // relaxRow updates the cells of one colour in row j.
