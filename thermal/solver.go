@@ -205,13 +205,30 @@ func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
 // b − A x (the subtraction over every node of the row, so that the nodes
 // outside the spans get b − dst as well). It works row by row, both layers
 // and their coupling, so that each row's vectors are still in the cache
-// for the coupling and the subtraction; every node gets the same
-// operations in the same order as in separate passes.
+// for the coupling and the subtraction, and with two layers it does all
+// three in one loop over the interior columns where both layers are live.
+// Every node gets the same operations in the same order as in separate
+// passes.
 func (lv *level) applyRows(dst, x, b []float64) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
 	for j := 0; j < ny; j++ {
+		a, e := 0, 0 // the columns done by applyPair
+		if lv.nl == 2 && j > 0 && j < ny-1 && nx >= 3 {
+			a = max(lv.lo[0][j], lv.lo[1][j], 1)
+			e = max(a, min(lv.hi[0][j], lv.hi[1][j], nx-1))
+		}
 		for l := 0; l < lv.nl; l++ {
-			lv.applyRow(dst[l*n:(l+1)*n], x[l*n:(l+1)*n], l, j)
+			dl, xl := dst[l*n:(l+1)*n], x[l*n:(l+1)*n]
+			lo, hi := lv.lo[l][j], lv.hi[l][j]
+			if a < e {
+				lv.applyRow(dl, xl, l, j, lo, a)
+				lv.applyRow(dl, xl, l, j, e, hi)
+			} else {
+				lv.applyRow(dl, xl, l, j, lo, hi)
+			}
+		}
+		if a < e {
+			lv.applyPair(dst, x, b, j*nx+a, j*nx+e)
 		}
 		if lv.nl == 2 {
 			// Couplings exist only at cells with both layers.
@@ -219,7 +236,12 @@ func (lv *level) applyRows(dst, x, b []float64) {
 			x0, x1 := x[:n], x[n:2*n]
 			d0, d1 := dst[:n], dst[n:2*n]
 			lo, hi := max(lv.lo[0][j], lv.lo[1][j]), min(lv.hi[0][j], lv.hi[1][j])
-			for p := j*nx + lo; p < j*nx+hi; p++ {
+			for i := lo; i < hi; i++ {
+				if i == a && a < e {
+					i = e - 1
+					continue
+				}
+				p := j*nx + i
 				if cp := c[p]; cp != 0 {
 					d0[p] -= cp * x1[p]
 					d1[p] -= cp * x0[p]
@@ -230,7 +252,11 @@ func (lv *level) applyRows(dst, x, b []float64) {
 			for l := 0; l < lv.nl; l++ {
 				o := l*n + j*nx
 				r, bl := dst[o:o+nx], b[o:o+nx]
-				for i := range r {
+				for i := 0; i < len(r); i++ {
+					if i == a && a < e {
+						i = e - 1
+						continue
+					}
 					r[i] = bl[i] - r[i]
 				}
 			}
@@ -238,12 +264,13 @@ func (lv *level) applyRows(dst, x, b []float64) {
 	}
 }
 
-// applyRow sets dl = (A x)_l on the span of layer l in row j, xl and dl
-// being layer l of x and of the result (without the layer coupling).
-func (lv *level) applyRow(dl, xl []float64, l, j int) {
+// applyRow sets dl = (A x)_l on the columns [from, to) of row j, clipped
+// to the span of layer l; xl and dl are layer l of x and of the result
+// (without the layer coupling).
+func (lv *level) applyRow(dl, xl []float64, l, j, from, to int) {
 	nx, ny := lv.nx, lv.ny
 	kx, ky, d := lv.kx[l], lv.ky[l], lv.diag[l]
-	lo, hi := lv.lo[l][j], lv.hi[l][j]
+	lo, hi := max(from, lv.lo[l][j]), min(to, lv.hi[l][j])
 	if lo >= hi {
 		return
 	}
@@ -276,6 +303,45 @@ func (lv *level) applyRow(dl, xl []float64, l, j int) {
 	if hi == nx {
 		p := row + nx - 1
 		dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
+	}
+}
+
+// applyPair sets dst = A x, or b − A x when b is not nil, at the interior
+// nodes [p, e) of one row where both layers are live: each layer's row as
+// applyRow, minus the coupling, then the subtraction from b.
+func (lv *level) applyPair(dst, x, b []float64, p, e int) {
+	n, nx, w := lv.n, lv.nx, e-p
+	x0, x1, d0, d1 := x[:n], x[n:2*n], dst[:n], dst[n:2*n]
+	kx0, ky0, kx1, ky1 := lv.kx[0], lv.ky[0], lv.kx[1], lv.ky[1]
+	xw0, xc0, xe0 := x0[p-1:][:w], x0[p:][:w], x0[p+1:][:w]
+	kw0, ke0 := kx0[p-1:][:w], kx0[p:][:w]
+	xn0, xs0, kn0, ks0 := x0[p-nx:][:w], x0[p+nx:][:w], ky0[p-nx:][:w], ky0[p:][:w]
+	xw1, xc1, xe1 := x1[p-1:][:w], x1[p:][:w], x1[p+1:][:w]
+	kw1, ke1 := kx1[p-1:][:w], kx1[p:][:w]
+	xn1, xs1, kn1, ks1 := x1[p-nx:][:w], x1[p+nx:][:w], ky1[p-nx:][:w], ky1[p:][:w]
+	dc0, dc1, cc := lv.diag[0][p:][:w], lv.diag[1][p:][:w], lv.cpl[p:][:w]
+	out0, out1 := d0[p:][:w], d1[p:][:w]
+	if b == nil {
+		for m := range out0 {
+			o0 := dc0[m]*xc0[m] - kw0[m]*xw0[m] - ke0[m]*xe0[m] - kn0[m]*xn0[m] - ks0[m]*xs0[m]
+			o1 := dc1[m]*xc1[m] - kw1[m]*xw1[m] - ke1[m]*xe1[m] - kn1[m]*xn1[m] - ks1[m]*xs1[m]
+			if cp := cc[m]; cp != 0 {
+				o0 -= cp * xc1[m]
+				o1 -= cp * xc0[m]
+			}
+			out0[m], out1[m] = o0, o1
+		}
+		return
+	}
+	b0, b1 := b[p:][:w], b[n+p:][:w]
+	for m := range out0 {
+		o0 := dc0[m]*xc0[m] - kw0[m]*xw0[m] - ke0[m]*xe0[m] - kn0[m]*xn0[m] - ks0[m]*xs0[m]
+		o1 := dc1[m]*xc1[m] - kw1[m]*xw1[m] - ke1[m]*xe1[m] - kn1[m]*xn1[m] - ks1[m]*xs1[m]
+		if cp := cc[m]; cp != 0 {
+			o0 -= cp * xc1[m]
+			o1 -= cp * xc0[m]
+		}
+		out0[m], out1[m] = b0[m]-o0, b1[m]-o1
 	}
 }
 
