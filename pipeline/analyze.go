@@ -420,7 +420,11 @@ func (s *surfaceRun) interfaceFields() error {
 // and the flat twin are independent: each has its own solver (work
 // buffers) and warm start, so their solves may run at once.
 func (s *surfaceRun) solveBoth() error {
-	s.chains = map[thermal.Interface]*solveChain{s.scanField: {}, s.flatField: {}}
+	sv := s.in.solvers
+	if sv == nil {
+		sv = new([2]thermal.Solver)
+	}
+	s.chains = map[thermal.Interface]*solveChain{s.scanField: {solver: &sv[0]}, s.flatField: {solver: &sv[1]}}
 	if s.in.Warm != nil { // a trial starts from the nominal solutions
 		s.chains[s.scanField].last, s.chains[s.flatField].last = s.in.Warm.Scan, s.in.Warm.Flat
 	}
@@ -479,7 +483,7 @@ func (s *surfaceRun) heatChecks() error {
 	if !s.in.Trial { // the trials need no sensitivity table
 		var err error
 		rep.Heat.Sensitivity, err = sensitivity(s.ctx, job, s.prob, s.scanField, s.flatField, solScan, solFlat,
-			[2]*thermal.Solver{&s.chains[s.scanField].solver, &s.chains[s.flatField].solver})
+			[2]*thermal.Solver{s.chains[s.scanField].solver, s.chains[s.flatField].solver})
 		if err != nil {
 			return fmt.Errorf("%s: %w", s.in.Name, err)
 		}

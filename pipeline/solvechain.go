@@ -10,7 +10,7 @@ import (
 // buffers) and the last solution, the warm start of its next solve. Two
 // chains share nothing, so they may run in two goroutines.
 type solveChain struct {
-	solver thermal.Solver
+	solver *thermal.Solver
 	last   *thermal.Solution
 }
 

@@ -38,6 +38,10 @@ type SurfaceInput struct {
 	Trial bool
 	Warm  *warmStart
 	gate  *gate
+	// solvers, when set, are the solvers (work buffers) of the scan's and
+	// the flat twin's solves, kept from one trial to the next so that a
+	// trial does not allocate them again; nil means new ones.
+	solvers *[2]thermal.Solver
 }
 
 // warmStart holds the nominal solutions of the scan and its flat twin.

@@ -10,6 +10,7 @@ import (
 
 	"gapflux/contact"
 	"gapflux/scan"
+	"gapflux/thermal"
 )
 
 // UncertaintyJob sets the Monte Carlo evaluation of the headline figures'
@@ -235,6 +236,7 @@ func perturbed(job Job, lib []contact.Material, inputs []mcInput, x []float64) (
 // trialRunner re-runs the chain for the trials.
 type trialRunner struct {
 	in      SurfaceInput
+	solvers [2]thermal.Solver // the trials' plate solvers, reused from trial to trial
 	raw     *scan.Surface
 	form    *scan.Surface // the nominal form-filtered surface (unpadded)
 	fopt    scan.FilterOptions
@@ -283,7 +285,7 @@ func (t *trialRunner) run(ctx context.Context, x, noise []float64) ([nFig]float6
 		y[figConcavity], y[figFlatness] = form.ConcavityM*1e3, form.FlatnessMZM*1e3
 	}
 	in.Job, in.Lib = perturbed(in.Job, in.Lib, t.inputs, x)
-	in.Trial, in.gate = true, nil
+	in.Trial, in.gate, in.solvers = true, nil, &t.solvers
 	rep := &Report{}
 	res := &Result{Report: rep}
 	if _, err := analyzeSurface(ctx, in, rep, res); err != nil {

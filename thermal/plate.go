@@ -119,13 +119,45 @@ func Solve(p *Problem) (*Solution, error) {
 }
 
 // Solver solves plate problems one after another, keeping the large work
-// buffers of its last solve (~100 MB on a fine heater grid) for the next
-// one on a grid of the same size and layer count, so that a scan, its flat
-// twin and the water temperatures of a heat-up do not allocate each time.
-// The zero value is ready to use. A Solver must not be used concurrently.
+// buffers of its solves (~100 MB on a fine heater grid) for the next one on
+// a grid of the same size and layer count, so that a scan, its flat twin
+// and the water temperatures of a heat-up do not allocate each time. It
+// keeps the buffers of the last solverCache grid shapes, so that a few
+// solves on a coarser grid between two on the fine one (the pipeline's
+// sensitivity table between the steady solve and the heat-up) do not drop
+// the fine grid's buffers. The zero value is ready to use. A Solver must
+// not be used concurrently.
 type Solver struct {
-	ws  *plate
-	key [3]int // grid Nx, Ny and layer count of ws
+	ws [solverCache]cachedPlate // most recently used first
+}
+
+// solverCache is the number of grid shapes whose work buffers a Solver
+// keeps.
+const solverCache = 2
+
+// cachedPlate is the work buffers of one grid shape.
+type cachedPlate struct {
+	s   *plate
+	key [3]int // grid Nx, Ny and layer count of s
+}
+
+// take removes and returns the buffers kept for key (nil if none).
+func (sv *Solver) take(key [3]int) *plate {
+	for i, c := range sv.ws {
+		if c.s != nil && c.key == key {
+			copy(sv.ws[i:], sv.ws[i+1:])
+			sv.ws[len(sv.ws)-1] = cachedPlate{}
+			return c.s
+		}
+	}
+	return nil
+}
+
+// keep puts s, the buffers of grid shape key, first, dropping the least
+// recently used shape when the cache is full.
+func (sv *Solver) keep(s *plate, key [3]int) {
+	copy(sv.ws[1:], sv.ws[:len(sv.ws)-1])
+	sv.ws[0] = cachedPlate{s: s, key: key}
 }
 
 // Solve is like the package-level Solve, reusing sv's work buffers; the
@@ -157,17 +189,13 @@ func (sv *Solver) solveOnce(ctx context.Context, p *Problem) (*Solution, error) 
 	if p.Heater != nil {
 		key[2] = 2
 	}
-	var old *plate
-	if sv.ws != nil && sv.key == key {
-		old = sv.ws
-	}
-	s := reusePlate(p, old)
+	s := reusePlate(p, sv.take(key))
 	s.ctx, s.cg.ctx = ctx, ctx
 	defer func() {
 		// Keep the buffers, drop the references to the caller's data.
 		s.p, s.pan, s.water, s.warnings = nil, nil, waterLaw{}, nil
 		s.ctx, s.cg.ctx = nil, nil
-		sv.ws, sv.key = s, key
+		sv.keep(s, key)
 	}()
 	if err := s.warmStart(); err != nil {
 		return nil, err
@@ -751,9 +779,12 @@ func (s *plate) run() error {
 		if err := s.mg.update(); err != nil {
 			return err
 		}
-		copy(b, s.bRest)
 		if s.bHeat != nil {
-			floats.AddScaled(b, s.duty, s.bHeat)
+			for i, h := range s.bHeat {
+				b[i] = s.bRest[i] + s.duty*h
+			}
+		} else {
+			copy(b, s.bRest)
 		}
 		copy(next, s.t)
 		state.tight = change < outerTightFactor*s.oTol
@@ -786,14 +817,14 @@ func (s *plate) run() error {
 			return err
 		}
 		change = 0
-		f := s.dir
+		f, t := s.dir, s.t
 		for i, d := range f {
 			f[i] = alpha * d
 			if v := math.Abs(f[i]); v > change {
 				change = v
 			}
+			t[i] += f[i]
 		}
-		floats.Add(s.t, f)
 		s.lastChange = change
 		// Converged when the step, or the distance to the fixed point
 		// estimated from the contraction ρ of the last two full steps,

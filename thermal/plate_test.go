@@ -901,6 +901,48 @@ func TestWorkspaceReuse(t *testing.T) {
 	}
 }
 
+// TestSolverCache: a Solver keeps the buffers of its last two grid shapes:
+// a fine solve, one on a coarser grid and the fine one again (as the
+// pipeline runs the steady solve, the sensitivity table and the heat-up)
+// reuse the fine buffers the second time and give the same bits as fresh
+// solves; a third shape drops the least recently used one.
+func TestSolverCache(t *testing.T) {
+	fine := heaterScene(0.004, stubRad{gas: 60, eps1: 0.9, eps2: 0.3})
+	coarse := heaterScene(0.008, stubRad{gas: 60, eps1: 0.9, eps2: 0.3})
+	temp := patchProblem(32, 0.002, 0.01)
+	var sv Solver
+	for i, p := range []*Problem{fine, coarse, fine, coarse, temp, fine} {
+		want, err := solveFresh(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		key := [3]int{p.Grid.Nx, p.Grid.Ny, 1}
+		if p.Heater != nil {
+			key[2] = 2
+		}
+		var kept *plate
+		for _, c := range sv.ws {
+			if c.key == key {
+				kept = c.s
+			}
+		}
+		got, err := sv.Solve(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if d := sameSolution(got, want); d != "" {
+			t.Errorf("solve %d: %s", i, d)
+		}
+		// Solves 2 and 3 find their shape kept; 5 finds fine dropped by temp.
+		if wantKept := i == 2 || i == 3; (kept != nil) != wantKept {
+			t.Errorf("solve %d: buffers kept %v, want %v", i, kept != nil, wantKept)
+		}
+		if sv.ws[0].key != key || (kept != nil && sv.ws[0].s != kept) {
+			t.Errorf("solve %d: the buffers used are not first in the cache", i)
+		}
+	}
+}
+
 // TestWarmStart: starting from the solution at a neighbouring water
 // temperature (5 K away) reaches the same state as a cold start (both
 // within OuterTolK = 1e-6 K of it, so within 1e-5 K of each other) with

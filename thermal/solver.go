@@ -199,57 +199,149 @@ func (lv *level) setDiag() {
 
 // apply sets dst = A x on the active spans (dst is left as it is, zero,
 // outside them).
-func (lv *level) apply(dst, x []float64) {
+func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
+
+// applyRows sets dst = A x on the active spans, or, with b not nil, dst =
+// b − A x (the subtraction over every node of the row, so that the nodes
+// outside the spans get b − dst as well). It works row by row, both layers
+// and their coupling, so that each row's vectors are still in the cache
+// for the coupling and the subtraction, and with two layers it does all
+// three in one loop over the interior columns where both layers are live.
+// Every node gets the same operations in the same order as in separate
+// passes.
+func (lv *level) applyRows(dst, x, b []float64) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
-	for l := 0; l < lv.nl; l++ {
-		kx, ky, d := lv.kx[l], lv.ky[l], lv.diag[l]
-		xl := x[l*n : (l+1)*n]
-		dl := dst[l*n : (l+1)*n]
-		for j := 0; j < ny; j++ {
+	for j := 0; j < ny; j++ {
+		a, e := 0, 0 // the columns done by applyPair
+		if lv.nl == 2 && j > 0 && j < ny-1 && nx >= 3 {
+			a = max(lv.lo[0][j], lv.lo[1][j], 1)
+			e = max(a, min(lv.hi[0][j], lv.hi[1][j], nx-1))
+		}
+		for l := 0; l < lv.nl; l++ {
+			dl, xl := dst[l*n:(l+1)*n], x[l*n:(l+1)*n]
 			lo, hi := lv.lo[l][j], lv.hi[l][j]
-			if lo >= hi {
-				continue
-			}
-			row := j * nx
-			if j == 0 || j == ny-1 || nx < 3 {
-				for i := lo; i < hi; i++ {
-					p := row + i
-					dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, i, j, p, 0)
-				}
-				continue
-			}
-			i := lo
-			if i == 0 {
-				dl[row] = d[row]*xl[row] - nbSum(kx, ky, xl, nx, ny, 0, j, row, 0)
-				i = 1
-			}
-			end := min(hi, nx-1)
-			xr, xn, xs := xl[row:row+nx], xl[row-nx:row], xl[row+nx:row+2*nx]
-			kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
-			dr, or := d[row:row+nx], dl[row:row+nx]
-			for ; i < end; i++ {
-				or[i] = dr[i]*xr[i] - kr[i-1]*xr[i-1] - kr[i]*xr[i+1] - kn[i]*xn[i] - ks[i]*xs[i]
-			}
-			if hi == nx {
-				p := row + nx - 1
-				dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
+			if a < e {
+				lv.applyRow(dl, xl, l, j, lo, a)
+				lv.applyRow(dl, xl, l, j, e, hi)
+			} else {
+				lv.applyRow(dl, xl, l, j, lo, hi)
 			}
 		}
-	}
-	if lv.nl == 2 {
-		c := lv.cpl
-		x0, x1 := x[:n], x[n:2*n]
-		d0, d1 := dst[:n], dst[n:2*n]
-		// Couplings exist only at cells with both layers.
-		for j := 0; j < ny; j++ {
+		if a < e {
+			lv.applyPair(dst, x, b, j*nx+a, j*nx+e)
+		}
+		if lv.nl == 2 {
+			// Couplings exist only at cells with both layers.
+			c := lv.cpl
+			x0, x1 := x[:n], x[n:2*n]
+			d0, d1 := dst[:n], dst[n:2*n]
 			lo, hi := max(lv.lo[0][j], lv.lo[1][j]), min(lv.hi[0][j], lv.hi[1][j])
-			for p := j*nx + lo; p < j*nx+hi; p++ {
+			for i := lo; i < hi; i++ {
+				if i == a && a < e {
+					i = e - 1
+					continue
+				}
+				p := j*nx + i
 				if cp := c[p]; cp != 0 {
 					d0[p] -= cp * x1[p]
 					d1[p] -= cp * x0[p]
 				}
 			}
 		}
+		if b != nil {
+			for l := 0; l < lv.nl; l++ {
+				o := l*n + j*nx
+				r, bl := dst[o:o+nx], b[o:o+nx]
+				for i := 0; i < len(r); i++ {
+					if i == a && a < e {
+						i = e - 1
+						continue
+					}
+					r[i] = bl[i] - r[i]
+				}
+			}
+		}
+	}
+}
+
+// applyRow sets dl = (A x)_l on the columns [from, to) of row j, clipped
+// to the span of layer l; xl and dl are layer l of x and of the result
+// (without the layer coupling).
+func (lv *level) applyRow(dl, xl []float64, l, j, from, to int) {
+	nx, ny := lv.nx, lv.ny
+	kx, ky, d := lv.kx[l], lv.ky[l], lv.diag[l]
+	lo, hi := max(from, lv.lo[l][j]), min(to, lv.hi[l][j])
+	if lo >= hi {
+		return
+	}
+	row := j * nx
+	if j == 0 || j == ny-1 || nx < 3 {
+		for i := lo; i < hi; i++ {
+			p := row + i
+			dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, i, j, p, 0)
+		}
+		return
+	}
+	i := lo
+	if i == 0 {
+		dl[row] = d[row]*xl[row] - nbSum(kx, ky, xl, nx, ny, 0, j, row, 0)
+		i = 1
+	}
+	if end := min(hi, nx-1); i < end {
+		// The columns [i, end) of the row, every slice of the same length
+		// (no bounds checks in the loop): west, centre and east values and
+		// faces, the north and south rows.
+		p, w := row+i, end-i
+		xw, xc, xe := xl[p-1:][:w], xl[p:][:w], xl[p+1:][:w]
+		kw, ke := kx[p-1:][:w], kx[p:][:w]
+		xn, xs, kn, ks := xl[p-nx:][:w], xl[p+nx:][:w], ky[p-nx:][:w], ky[p:][:w]
+		dc, out := d[p:][:w], dl[p:][:w]
+		for m := range out {
+			out[m] = dc[m]*xc[m] - kw[m]*xw[m] - ke[m]*xe[m] - kn[m]*xn[m] - ks[m]*xs[m]
+		}
+	}
+	if hi == nx {
+		p := row + nx - 1
+		dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
+	}
+}
+
+// applyPair sets dst = A x, or b − A x when b is not nil, at the interior
+// nodes [p, e) of one row where both layers are live: each layer's row as
+// applyRow, minus the coupling, then the subtraction from b.
+func (lv *level) applyPair(dst, x, b []float64, p, e int) {
+	n, nx, w := lv.n, lv.nx, e-p
+	x0, x1, d0, d1 := x[:n], x[n:2*n], dst[:n], dst[n:2*n]
+	kx0, ky0, kx1, ky1 := lv.kx[0], lv.ky[0], lv.kx[1], lv.ky[1]
+	xw0, xc0, xe0 := x0[p-1:][:w], x0[p:][:w], x0[p+1:][:w]
+	kw0, ke0 := kx0[p-1:][:w], kx0[p:][:w]
+	xn0, xs0, kn0, ks0 := x0[p-nx:][:w], x0[p+nx:][:w], ky0[p-nx:][:w], ky0[p:][:w]
+	xw1, xc1, xe1 := x1[p-1:][:w], x1[p:][:w], x1[p+1:][:w]
+	kw1, ke1 := kx1[p-1:][:w], kx1[p:][:w]
+	xn1, xs1, kn1, ks1 := x1[p-nx:][:w], x1[p+nx:][:w], ky1[p-nx:][:w], ky1[p:][:w]
+	dc0, dc1, cc := lv.diag[0][p:][:w], lv.diag[1][p:][:w], lv.cpl[p:][:w]
+	out0, out1 := d0[p:][:w], d1[p:][:w]
+	if b == nil {
+		for m := range out0 {
+			o0 := dc0[m]*xc0[m] - kw0[m]*xw0[m] - ke0[m]*xe0[m] - kn0[m]*xn0[m] - ks0[m]*xs0[m]
+			o1 := dc1[m]*xc1[m] - kw1[m]*xw1[m] - ke1[m]*xe1[m] - kn1[m]*xn1[m] - ks1[m]*xs1[m]
+			if cp := cc[m]; cp != 0 {
+				o0 -= cp * xc1[m]
+				o1 -= cp * xc0[m]
+			}
+			out0[m], out1[m] = o0, o1
+		}
+		return
+	}
+	b0, b1 := b[p:][:w], b[n+p:][:w]
+	for m := range out0 {
+		o0 := dc0[m]*xc0[m] - kw0[m]*xw0[m] - ke0[m]*xe0[m] - kn0[m]*xn0[m] - ks0[m]*xs0[m]
+		o1 := dc1[m]*xc1[m] - kw1[m]*xw1[m] - ke1[m]*xe1[m] - kn1[m]*xn1[m] - ks1[m]*xs1[m]
+		if cp := cc[m]; cp != 0 {
+			o0 -= cp * xc1[m]
+			o1 -= cp * xc0[m]
+		}
+		out0[m], out1[m] = b0[m]-o0, b1[m]-o1
 	}
 }
 
@@ -274,12 +366,7 @@ func (lv *level) localEnergy(x []float64) float64 {
 }
 
 // residual sets r = b − A x.
-func (lv *level) residual(r, x, b []float64) {
-	lv.apply(r, x)
-	for i := range r {
-		r[i] = b[i] - r[i]
-	}
-}
+func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b) }
 
 // nbSum returns b_p + Σ k x_q over the in-layer neighbours q of cell (i, j).
 func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
@@ -299,21 +386,29 @@ func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
 	return v
 }
 
-// sweep does one red–black Gauss–Seidel sweep, cells of colour first
-// ((i+j) mod 2 == first) before the others, solving the 2×2 block of both
-// layers of a cell together. The two half-sweeps are fused row by row (row
-// j of the first colour, then row j−1 of the second, whose neighbours are
-// then final), so the grid streams through the cache once per sweep. The
-// result is the same as two separate half-sweeps.
-func (lv *level) sweep(x, b []float64, first int) {
+// sweeps does m red–black Gauss–Seidel sweeps, in each the cells of
+// colour first ((i+j) mod 2 == first) before the others, solving the 2×2
+// block of both layers of a cell together. The half-sweeps are fused row
+// by row: sweep s relaxes row j of the first colour, then row j−1 of the
+// second (whose neighbours are then final), two rows behind sweep s−1
+// (whose rows around them are then final), so the grid streams through the
+// cache once for all m sweeps. Every cell sees the same neighbour values as
+// in m separate sweeps of two separate half-sweeps, so the result is the
+// same to the bit.
+func (lv *level) sweeps(x, b []float64, first, m int) {
 	second := 1 - first
-	for j := 0; j < lv.ny; j++ {
-		lv.relaxRow(x, b, j, first)
-		if j > 0 {
-			lv.relaxRow(x, b, j-1, second)
+	ny := lv.ny
+	for t := 0; t < ny+2*m-1; t++ {
+		for s := 0; s < m; s++ {
+			j := t - 2*s
+			if j >= 0 && j < ny {
+				lv.relaxRow(x, b, j, first)
+			}
+			if j >= 1 && j <= ny {
+				lv.relaxRow(x, b, j-1, second)
+			}
 		}
 	}
-	lv.relaxRow(x, b, lv.ny-1, second)
 }
 
 // relaxRow updates the cells of one colour in row j.
@@ -343,12 +438,7 @@ func (lv *level) relaxRow(x, b []float64, j, colour int) {
 			x[row] = nbSum(kx, ky, x, nx, ny, 0, j, row, b[row]) / d[row]
 			i = 2
 		}
-		xr, xn, xs := x[row:row+nx], x[row-nx:row], x[row+nx:row+2*nx]
-		kr, kn, ks := kx[row:row+nx], ky[row-nx:row], ky[row:row+nx]
-		br, ir := b[row:row+nx], lv.inv[row:row+nx]
-		for end := min(hi, nx-1); i < end; i += 2 {
-			xr[i] = (br[i] + kr[i-1]*xr[i-1] + kr[i]*xr[i+1] + kn[i]*xn[i] + ks[i]*xs[i]) * ir[i]
-		}
+		relaxRange(x, kx, ky, b, lv.inv, row+i, row+min(hi, nx-1), nx)
 		if lastEdge {
 			p := row + nx - 1
 			x[p] = nbSum(kx, ky, x, nx, ny, nx-1, j, p, b[p]) / d[p]
@@ -387,29 +477,68 @@ func (lv *level) relaxRow(x, b []float64, j, colour int) {
 		edge(0)
 		i = 2
 	}
-	xr0, xn0, xs0 := x0[row:row+nx], x0[row-nx:row], x0[row+nx:row+2*nx]
-	kr0, kn0, ks0 := kx0[row:row+nx], ky0[row-nx:row], ky0[row:row+nx]
-	xr1, xn1, xs1 := x1[row:row+nx], x1[row-nx:row], x1[row+nx:row+2*nx]
-	kr1, kn1, ks1 := kx1[row:row+nx], ky1[row-nx:row], ky1[row:row+nx]
-	br0, br1 := b0[row:row+nx], b1[row:row+nx]
-	dr0, dr1, cr, ir := d0[row:row+nx], d1[row:row+nx], c[row:row+nx], lv.inv[row:row+nx]
 	// Outside the pan span only the glass node is live (the pan node is an
 	// identity row with zero value and right-hand side, d0 = 1, c = 0).
+	// Each range starts on a cell of the colour (i) and advances i past it
+	// by a whole number of steps of 2.
 	end := min(hi, nx-1)
-	for e := min(end, lv.lo[0][j]); i < e; i += 2 {
-		xr1[i] = (br1[i] + kr1[i-1]*xr1[i-1] + kr1[i]*xr1[i+1] + kn1[i]*xn1[i] + ks1[i]*xs1[i]) * ir[i]
+	next := func(e int) int { return max(i, i+(e-i+1)&^1) }
+	if e := min(end, lv.lo[0][j]); i < e {
+		relaxRange(x1, kx1, ky1, b1, lv.inv, row+i, row+e, nx)
+		i = next(e)
 	}
-	for e := min(end, lv.hi[0][j]); i < e; i += 2 {
-		r0 := br0[i] + kr0[i-1]*xr0[i-1] + kr0[i]*xr0[i+1] + kn0[i]*xn0[i] + ks0[i]*xs0[i]
-		r1 := br1[i] + kr1[i-1]*xr1[i-1] + kr1[i]*xr1[i+1] + kn1[i]*xn1[i] + ks1[i]*xs1[i]
-		cp, id := cr[i], ir[i]
-		xr0[i] = (dr1[i]*r0 + cp*r1) * id
-		xr1[i] = (cp*r0 + dr0[i]*r1) * id
+	if e := min(end, lv.hi[0][j]); i < e {
+		relaxBlockRange(lv, x0, x1, b0, b1, row+i, row+e)
+		i = next(e)
 	}
-	for ; i < end; i += 2 {
-		xr1[i] = (br1[i] + kr1[i-1]*xr1[i-1] + kr1[i]*xr1[i+1] + kn1[i]*xn1[i] + ks1[i]*xs1[i]) * ir[i]
+	if i < end {
+		relaxRange(x1, kx1, ky1, b1, lv.inv, row+i, row+end, nx)
 	}
 	if lastEdge {
 		edge(nx - 1)
+	}
+}
+
+// relaxRange relaxes the cells p, p+2, … below e of one layer's vector x
+// (faces kx, ky, right-hand side b, inverse diagonal inv), all of them in
+// one interior row of width nx away from its first and last columns. The
+// slices are cut to the same length first, so that the loop runs without
+// bounds checks; the arithmetic is that of nbSum times the inverse.
+func relaxRange(x, kx, ky, b, inv []float64, p, e, nx int) {
+	w := e - p
+	if w <= 0 {
+		return
+	}
+	xw, xc, xe := x[p-1:][:w], x[p:][:w], x[p+1:][:w]
+	kw, ke := kx[p-1:][:w], kx[p:][:w]
+	xn, xs, kn, ks := x[p-nx:][:w], x[p+nx:][:w], ky[p-nx:][:w], ky[p:][:w]
+	bc, ic := b[p:][:w], inv[p:][:w]
+	for m := 0; m < len(xc); m += 2 {
+		xc[m] = (bc[m] + kw[m]*xw[m] + ke[m]*xe[m] + kn[m]*xn[m] + ks[m]*xs[m]) * ic[m]
+	}
+}
+
+// relaxBlockRange is relaxRange for the cells where both layers are live,
+// solving each cell's 2×2 block [d0 −c; −c d1] by its inverse determinant.
+func relaxBlockRange(lv *level, x0, x1, b0, b1 []float64, p, e int) {
+	nx, w := lv.nx, e-p
+	if w <= 0 {
+		return
+	}
+	kx0, ky0, kx1, ky1 := lv.kx[0], lv.ky[0], lv.kx[1], lv.ky[1]
+	xw0, xc0, xe0 := x0[p-1:][:w], x0[p:][:w], x0[p+1:][:w]
+	kw0, ke0 := kx0[p-1:][:w], kx0[p:][:w]
+	xn0, xs0, kn0, ks0 := x0[p-nx:][:w], x0[p+nx:][:w], ky0[p-nx:][:w], ky0[p:][:w]
+	xw1, xc1, xe1 := x1[p-1:][:w], x1[p:][:w], x1[p+1:][:w]
+	kw1, ke1 := kx1[p-1:][:w], kx1[p:][:w]
+	xn1, xs1, kn1, ks1 := x1[p-nx:][:w], x1[p+nx:][:w], ky1[p-nx:][:w], ky1[p:][:w]
+	bc0, bc1 := b0[p:][:w], b1[p:][:w]
+	dc0, dc1, cc, ic := lv.diag[0][p:][:w], lv.diag[1][p:][:w], lv.cpl[p:][:w], lv.inv[p:][:w]
+	for m := 0; m < len(xc0); m += 2 {
+		r0 := bc0[m] + kw0[m]*xw0[m] + ke0[m]*xe0[m] + kn0[m]*xn0[m] + ks0[m]*xs0[m]
+		r1 := bc1[m] + kw1[m]*xw1[m] + ke1[m]*xe1[m] + kn1[m]*xn1[m] + ks1[m]*xs1[m]
+		cp, id := cc[m], ic[m]
+		xc0[m] = (dc1[m]*r0 + cp*r1) * id
+		xc1[m] = (cp*r0 + dc0[m]*r1) * id
 	}
 }

@@ -541,3 +541,55 @@ func BenchmarkVCycle500(b *testing.B) {
 		s.mg.precondition(z, s.bRest)
 	}
 }
+
+// BenchmarkSetupReuse: setting up heaterFine's solve in the buffers of a
+// previous solve on the same grid (Solver reuse: the heat-up's solves).
+func BenchmarkSetupReuse(b *testing.B) {
+	p := heaterFine(333.15)
+	s := reusePlate(p, nil)
+	b.ResetTimer()
+	for range b.N {
+		s = reusePlate(p, s)
+	}
+}
+
+// BenchmarkSolverHeaterFine: heaterFine from the built-in start on a
+// Solver that keeps its buffers between solves (the pipeline's case after
+// its first solve); setup included, allocation not.
+func BenchmarkSolverHeaterFine(b *testing.B) {
+	p := heaterFine(333.15)
+	var sv Solver
+	var s *Solution
+	var err error
+	for range b.N {
+		if s, err = sv.Solve(p); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(s.LinearIterations), "linear-iter")
+	b.ReportMetric(float64(s.OuterIterations), "outer-iter")
+}
+
+// BenchmarkSolveHeaterGrid: heaterFine's zone, base and interface on 2, 1
+// and 0.5 mm cells (131², 261² and 521² cells, two layers), each on a
+// Solver reusing its buffers: the outer and linear iteration counts should
+// not grow with the grid.
+func BenchmarkSolveHeaterGrid(b *testing.B) {
+	for _, cell := range []float64{0.002, 0.001, 0.0005} {
+		p := heaterScene(cell, stubRad{gas: 60, eps1: 0.9, eps2: 0.3})
+		p.Water = FixedWater{HWM2K: 1000}
+		p.TWaterK = 333.15
+		b.Run(fmt.Sprintf("%dx%d", p.Grid.Nx, p.Grid.Ny), func(b *testing.B) {
+			var sv Solver
+			var s *Solution
+			var err error
+			for range b.N {
+				if s, err = sv.Solve(p); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(s.LinearIterations), "linear-iter")
+			b.ReportMetric(float64(s.OuterIterations), "outer-iter")
+		})
+	}
+}
