@@ -67,6 +67,11 @@ type LevelOptions struct {
 	// cloud's points, normals, triangles and facet normals, which saves a
 	// copy of a large scan; the input cloud must not be used afterwards.
 	Reuse bool
+	// DropNormals leaves the point and facet normals out of the output
+	// cloud: Level uses them only to tell the outer face, and a caller
+	// that grids the base does not need them (for a 2 M-point cloud with
+	// normals this frees some 48 MB and skips rotating them).
+	DropNormals bool
 }
 
 // Levelled is a scan moved to the base frame and cut to the base.
@@ -357,6 +362,13 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	out.RadiusM = radius
 
 	// 7. Keep the base; a repeated point keeps its first occurrence.
+	if opt.DropNormals {
+		if !opt.Reuse {
+			cc := *c // the caller's cloud stays as it is
+			c = &cc
+		}
+		c.Normals, c.FacetNormals = nil, nil
+	}
 	return keepBase(c, all, rep, merged, &bf, radius, rim.band, opt.Reuse, out)
 }
 

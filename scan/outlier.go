@@ -184,7 +184,8 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	// Where the reference cannot follow the form (a kink, a sharp bend)
 	// most residuals around grow and so does the limit; isolated spikes
 	// and streaks are too few to move a median.
-	abs := make([]float64, n)
+	// res becomes |r| in place (0 for NaN, which no limit exceeds either).
+	abs := res
 	for i, r := range res {
 		abs[i] = math.Abs(r)
 		if math.IsNaN(r) {
@@ -192,12 +193,12 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 		}
 	}
 	local := refStart(g, cellOf, abs)
-	for i, r := range res {
+	for i, a := range abs {
 		s := sigma
 		if v := local[cellOf[i]]; !math.IsNaN(v) {
 			s = max(s, madToSigma*v)
 		}
-		out[i] = math.Abs(r) > k*s
+		out[i] = a > k*s
 	}
 	return out, sigma
 }
