@@ -69,11 +69,29 @@ func (g refGrid) interp(f []float64, x, y float64) float64 {
 	tx := min(max(fi-float64(i), 0), 1)
 	ty := min(max(fj-float64(j), 0), 1)
 	q := j*g.nx + i
+	w00, w10, w01, w11 := (1-tx)*(1-ty), tx*(1-ty), (1-tx)*ty, tx*ty
+	v00, v10, v01, v11 := f[q], f[q+1], f[q+g.nx], f[q+g.nx+1]
+	if sum := v00 + v10 + v01 + v11; !math.IsNaN(sum) && !math.IsInf(sum, 0) {
+		// All four corners defined (the common case): a corner of zero
+		// weight adds ±0 to both sums, the same as leaving it out below.
+		var s, w float64
+		s += w00 * v00
+		w += w00
+		s += w10 * v10
+		w += w10
+		s += w01 * v01
+		w += w01
+		s += w11 * v11
+		w += w11
+		if w > 0 {
+			return s / w
+		}
+	}
 	var s, w float64
 	for _, c := range [4]struct {
 		q int
 		w float64
-	}{{q, (1 - tx) * (1 - ty)}, {q + 1, tx * (1 - ty)}, {q + g.nx, (1 - tx) * ty}, {q + g.nx + 1, tx * ty}} {
+	}{{q, w00}, {q + 1, w10}, {q + g.nx, w01}, {q + g.nx + 1, w11}} {
 		if v := f[c.q]; !math.IsNaN(v) && c.w > 0 {
 			s += c.w * v
 			w += c.w
