@@ -3,6 +3,7 @@ package scan
 import (
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"strings"
 	"testing"
@@ -657,6 +658,32 @@ func TestLevelDropNormals(t *testing.T) {
 		if !tc.reuse && (len(in.Normals) != nIn || len(in.FacetNormals) != fIn) {
 			t.Errorf("%s: the input lost its normals: %d/%d, %d/%d", tc.name, len(in.Normals), nIn, len(in.FacetNormals), fIn)
 		}
+	}
+}
+
+// TestLevelProcessors: Level's parallel passes (rim annulus, base mask)
+// give the same result on one processor as on four.
+func TestLevelProcessors(t *testing.T) {
+	sb := synthBase{R: 0.05, Shape: dish(0.2e-3, 0.05), CornerM: 4e-3, WallM: 8e-3, N: 40000, Normals: true, Seed: 21}
+	sc := newScanner(FaceUp, 5, 20, 10, r3.Vec{Z: 0.4})
+	run := func(procs int) *Levelled {
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		l, err := Level(sc.apply(sb.build()), LevelOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return l
+	}
+	a, b := run(1), run(4)
+	if a.Rotation != b.Rotation || a.OriginM != b.OriginM || a.RadiusM != b.RadiusM || a.PointsDropped != b.PointsDropped ||
+		a.DroppedBeyondRim != b.DroppedBeyondRim || a.DroppedOffPlane != b.DroppedOffPlane || a.DroppedBySector != b.DroppedBySector {
+		t.Errorf("1 vs 4 processors: frame, radius or drops differ: %+v / %+v", a, b)
+	}
+	if a.PointsDropped == 0 {
+		t.Error("no point dropped: the test does not reach the tally")
+	}
+	if !slices.Equal(a.Cloud.Points, b.Cloud.Points) || !slices.Equal(a.Cloud.Normals, b.Cloud.Normals) {
+		t.Error("1 vs 4 processors: levelled points or normals differ")
 	}
 }
 
