@@ -142,7 +142,8 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	for i := range n {
 		cellOf[i] = int32(g.cell(x[i], y[i]))
 	}
-	f := refStart(g, cellOf, z)
+	byCell, cellStart := samplesByCell(cellOf, nc)
+	f := refStart(g, byCell, cellStart, z)
 	reg := newGaussRegression(g.nx, g.ny, refCellsPerCutoff, 1)
 	w := make([]float64, nc)
 	wz := make([]float64, nc)
@@ -157,25 +158,29 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 		if it == 0 {
 			c *= 2 // the median start is rougher than a fit
 		}
-		clear(w)
-		clear(wz)
-		for i := range n {
-			q := cellOf[i]
-			if math.IsNaN(res[i]) || math.IsNaN(f[q]) {
-				continue
+		// Each cell sums its own samples in index order: rows of cells
+		// are summed at once with the result of one pass over the samples.
+		parallelRows(g.ny, func(j0, j1 int) {
+			for q := j0 * g.nx; q < j1*g.nx; q++ {
+				var sw, swz float64
+				fq := f[q]
+				for _, i := range byCell[cellStart[q]:cellStart[q+1]] {
+					if math.IsNaN(res[i]) || math.IsNaN(fq) {
+						continue
+					}
+					bw := biweight(res[i], c)
+					if bw == 0 {
+						continue
+					}
+					sw += bw
+					swz += bw * (res[i] + fq)
+				}
+				if sw > 0 {
+					swz /= sw
+				}
+				w[q], wz[q] = sw, swz
 			}
-			bw := biweight(res[i], c)
-			if bw == 0 {
-				continue
-			}
-			w[q] += bw
-			wz[q] += bw * (res[i] + f[q])
-		}
-		for q := range nc {
-			if w[q] > 0 {
-				wz[q] /= w[q]
-			}
-		}
+		})
 		for q := range fNew {
 			fNew[q] = nan
 		}
@@ -210,7 +215,7 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 			abs[i] = 0
 		}
 	}
-	local := refStart(g, cellOf, abs)
+	local := refStart(g, byCell, cellStart, abs)
 	for i, a := range abs {
 		s := sigma
 		if v := local[cellOf[i]]; !math.IsNaN(v) {
@@ -219,6 +224,25 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 		out[i] = a > k*s
 	}
 	return out, sigma
+}
+
+// samplesByCell returns the sample indices sorted by cell, each cell's in
+// index order: cell q's are byCell[start[q]:start[q+1]].
+func samplesByCell(cellOf []int32, nc int) (byCell, start []int32) {
+	start = make([]int32, nc+1)
+	for _, q := range cellOf {
+		start[q+1]++
+	}
+	for q := range nc {
+		start[q+1] += start[q]
+	}
+	byCell = make([]int32, len(cellOf))
+	fill := append([]int32(nil), start[:nc]...)
+	for i, q := range cellOf {
+		byCell[fill[q]] = int32(i)
+		fill[q]++
+	}
+	return byCell, start
 }
 
 // newRefGrid returns a grid of cells of edge h covering the samples.
@@ -237,20 +261,11 @@ func newRefGrid(x, y []float64, h float64) refGrid {
 // refStart returns the starting reference: the median of each cell's
 // samples, then the median of those over the (2·refMedianHalf+1)² window
 // around every cell (NaN where the window is empty).
-func refStart(g refGrid, cellOf []int32, z []float64) []float64 {
+func refStart(g refGrid, byCell, start []int32, z []float64) []float64 {
 	nc := g.nx * g.ny
-	start := make([]int32, nc+1)
-	for _, q := range cellOf {
-		start[q+1]++
-	}
-	for q := range nc {
-		start[q+1] += start[q]
-	}
 	zs := make([]float64, len(z))
-	fill := append([]int32(nil), start[:nc]...)
-	for i, q := range cellOf {
-		zs[fill[q]] = z[i]
-		fill[q]++
+	for k, i := range byCell {
+		zs[k] = z[i]
 	}
 	// Each cell's samples are its own slice of zs: the rows of cells are
 	// split between the workers with no effect on the result.
