@@ -1179,30 +1179,39 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64) (ar, aa
 	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
 	// denser scans.
 	step := max(1, nAnn/(30*72*int(400*(rhi-rlo)/r0)))
-	nAnn = nAnn/step + 1
-	// Parts of the thinned points are taken at once, each into its own
-	// lists, joined in point order.
+	// Parts of the thinned points are taken at once: each counts its
+	// annulus points, then writes them at its offset, in point order.
 	nTake := (len(pts) + step - 1) / step
-	type part struct{ r, a, w []float64 }
-	parts := make([]part, rowParts(nTake))
-	parallelParts(nTake, len(parts), func(k, t0, t1 int) {
-		var pt part
+	in := func(t int) (du, dv, w, rr float64, ok bool) {
+		u, v, w := f.coords(pts[t*step])
+		du, dv = u-uc, v-vc
+		rr = du*du + dv*dv
+		return du, dv, w, rr, rr >= lo2 && rr < hi2
+	}
+	parts := rowParts(nTake)
+	off := make([]int, parts+1)
+	parallelParts(nTake, parts, func(k, t0, t1 int) {
+		c := 0
 		for t := t0; t < t1; t++ {
-			u, v, w := f.coords(pts[t*step])
-			du, dv := u-uc, v-vc
-			rr := du*du + dv*dv
-			if rr >= lo2 && rr < hi2 {
-				pt.r = append(pt.r, math.Sqrt(rr))
-				pt.a = append(pt.a, math.Atan2(dv, du))
-				pt.w = append(pt.w, w)
+			if _, _, _, _, ok := in(t); ok {
+				c++
 			}
 		}
-		parts[k] = pt
+		off[k+1] = c
 	})
-	ar, aa, aw = make([]float64, 0, nAnn), make([]float64, 0, nAnn), make([]float64, 0, nAnn)
-	for _, pt := range parts {
-		ar, aa, aw = append(ar, pt.r...), append(aa, pt.a...), append(aw, pt.w...)
+	for k := range parts {
+		off[k+1] += off[k]
 	}
+	ar, aa, aw = make([]float64, off[parts]), make([]float64, off[parts]), make([]float64, off[parts])
+	parallelParts(nTake, parts, func(k, t0, t1 int) {
+		o := off[k]
+		for t := t0; t < t1; t++ {
+			if du, dv, w, rr, ok := in(t); ok {
+				ar[o], aa[o], aw[o] = math.Sqrt(rr), math.Atan2(dv, du), w
+				o++
+			}
+		}
+	})
 	rho = float64(nInner/step) / (math.Pi * 0.81 * r0 * r0) // points per m²
 	return ar, aa, aw, rho
 }
