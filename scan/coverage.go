@@ -397,7 +397,13 @@ func rimCompleteness(x, y []float64, r, spacingM float64) (float64, []int) {
 	band = min(band, r)
 	count := make([]int, RimSectors)
 	inner := r - band
+	// A point clearly inside the band's inner circle (by far more than
+	// rounding) needs no exact radius.
+	clearIn := inner * inner * (1 - 1e-9)
 	for i := range x {
+		if x[i]*x[i]+y[i]*y[i] < clearIn {
+			continue
+		}
 		rr := math.Hypot(x[i], y[i])
 		if rr < inner || rr > r*(1+1e-9) {
 			continue
