@@ -158,29 +158,25 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 		if it == 0 {
 			c *= 2 // the median start is rougher than a fit
 		}
-		// Each cell sums its own samples in index order: rows of cells
-		// are summed at once with the result of one pass over the samples.
-		parallelRows(g.ny, func(j0, j1 int) {
-			for q := j0 * g.nx; q < j1*g.nx; q++ {
-				var sw, swz float64
-				fq := f[q]
-				for _, i := range byCell[cellStart[q]:cellStart[q+1]] {
-					if math.IsNaN(res[i]) || math.IsNaN(fq) {
-						continue
-					}
-					bw := biweight(res[i], c)
-					if bw == 0 {
-						continue
-					}
-					sw += bw
-					swz += bw * (res[i] + fq)
-				}
-				if sw > 0 {
-					swz /= sw
-				}
-				w[q], wz[q] = sw, swz
+		clear(w)
+		clear(wz)
+		for i := range n {
+			q := cellOf[i]
+			if math.IsNaN(res[i]) || math.IsNaN(f[q]) {
+				continue
 			}
-		})
+			bw := biweight(res[i], c)
+			if bw == 0 {
+				continue
+			}
+			w[q] += bw
+			wz[q] += bw * (res[i] + f[q])
+		}
+		for q := range nc {
+			if w[q] > 0 {
+				wz[q] /= w[q]
+			}
+		}
 		for q := range fNew {
 			fNew[q] = nan
 		}
