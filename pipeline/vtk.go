@@ -147,7 +147,10 @@ func zlibBlocks(raw []byte) ([]byte, error) {
 	binary.LittleEndian.PutUint64(head[8:], vtiBlockBytes)
 	binary.LittleEndian.PutUint64(head[16:], uint64(len(raw)%vtiBlockBytes))
 	var body bytes.Buffer
-	zw, err := zlib.NewWriterLevel(&body, zlib.DefaultCompression)
+	// The fastest level: some 4 % larger than the default level (a 2 M-point
+	// scan's fields, 4.40 -> 4.58 MB) in well under half the time; any
+	// zlib reader (VTK's, ReadVTI) gets the same values.
+	zw, err := zlib.NewWriterLevel(&body, zlib.BestSpeed)
 	if err != nil {
 		return nil, err
 	}
