@@ -162,7 +162,7 @@ func (a *analysis) readAndLevel(ctx context.Context) (stop bool, err error) {
 	}
 	footprint := sampleFootprint(cloud.Points) // Level reuses the cloud's storage
 	lev, err := scan.Level(cloud, scan.LevelOptions{
-		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg, Reuse: true})
+		Face: job.Grid.Face, DiameterM: job.Grid.DiameterMM / 1e3, MaxSlopeDeg: job.Grid.MaxSlopeDeg, Reuse: true, DropNormals: true})
 	a.qg = newGate(job, fileRep.Unit)
 	var sizeErr *scan.SizeError
 	if errors.As(err, &sizeErr) {

@@ -385,7 +385,7 @@ func hobSurface(path string, like *scan.Surface, offsetM [2]float64, job Job) (*
 		}
 		return nil, nil, fmt.Errorf("hob: %w", err)
 	}
-	lev, err := scan.Level(cloud, scan.LevelOptions{Face: "up", HobTop: true, Reuse: true})
+	lev, err := scan.Level(cloud, scan.LevelOptions{Face: "up", HobTop: true, Reuse: true, DropNormals: true})
 	if err != nil {
 		return nil, nil, fmt.Errorf("hob %s: levelling: %w", fr.Path, err)
 	}

@@ -51,24 +51,24 @@ func WriteRingsCSV(w io.Writer, rings []RingReport) error {
 }
 
 // WriteOutputs writes every output of one scan into dir: the maps, the ring
-// table and chart, the field file, and report.json last, so a report's
-// presence means the rest is there.
+// table and chart and the field file (these at once, up to one per
+// available processor), then report.html (which embeds the SVG maps) and
+// report.json last, so a report's presence means the rest is there.
 func WriteOutputs(res *Result, dir string) error {
 	rep := res.Report
+	var tasks []func() error
 	if len(rep.Rings) > 0 {
-		if err := WriteFileAtomic(filepath.Join(dir, "rings.csv"), func(w io.Writer) error {
-			return WriteRingsCSV(w, rep.Rings)
-		}); err != nil {
-			return err
-		}
+		tasks = append(tasks, func() error {
+			return WriteFileAtomic(filepath.Join(dir, "rings.csv"), func(w io.Writer) error {
+				return WriteRingsCSV(w, rep.Rings)
+			})
+		})
 	}
-	if err := writePictures(dir, res); err != nil {
-		return err
-	}
-	if err := writeHotPictures(dir, res); err != nil {
-		return err
-	}
-	if err := writeFields(dir, res); err != nil {
+	// fields.vti first: it is the longest single write.
+	tasks = append(tasks, func() error { return writeFields(dir, res) })
+	tasks = append(tasks, pictureTasks(dir, res)...)
+	tasks = append(tasks, func() error { return writeHotPictures(dir, res) })
+	if err := runParallel(tasks); err != nil {
 		return err
 	}
 	if err := writeReportHTML(dir, res); err != nil {

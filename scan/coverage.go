@@ -3,6 +3,7 @@ package scan
 import (
 	"math"
 	"slices"
+	"sync"
 
 	"gapflux/internal/order"
 )
@@ -198,9 +199,17 @@ func PointSpacing(x, y []float64, areaM2 float64) Spacing {
 	}
 	idx := newPointIndex(x, y, h)
 	step := max(1, n/spacingSampleMax)
-	var d []float64
-	for i := 0; i < n; i += step {
-		v := idx.nearest(x, y, x[i], y[i], int32(i), 1e-9, math.Sqrt(areaM2))
+	// The searches are shared between the processors, each into its own
+	// slot; the finite distances are then taken in sample order.
+	all := make([]float64, (n+step-1)/step)
+	parallelRows(len(all), func(s0, s1 int) {
+		for s := s0; s < s1; s++ {
+			i := s * step
+			all[s] = idx.nearest(x, y, x[i], y[i], int32(i), 1e-9, math.Sqrt(areaM2))
+		}
+	})
+	d := all[:0]
+	for _, v := range all {
 		if !math.IsInf(v, 1) {
 			d = append(d, v)
 		}
@@ -256,21 +265,30 @@ func measureCoverage(s *Surface, x, y []float64, r float64, sp Spacing) Coverage
 			seed[q] = true
 		}
 	}
+	// Rows of cells are counted at once; integer counts add up the same
+	// in any order.
+	var mu sync.Mutex
 	nBase, nCov := 0, 0
-	for q := range n {
-		if s.State[q] == Outside {
-			continue
+	parallelRows(s.Ny, func(j0, j1 int) {
+		nb, nc := 0, 0
+		for q := j0 * s.Nx; q < j1*s.Nx; q++ {
+			if s.State[q] == Outside {
+				continue
+			}
+			nb++
+			if seed[q] && reach >= s.CellM*math.Sqrt2/2 {
+				nc++
+				continue
+			}
+			cx, cy := s.X(q%s.Nx), s.Y(q/s.Nx)
+			if idx.anyWithin(x, y, cx, cy, reach) {
+				nc++
+			}
 		}
-		nBase++
-		if seed[q] && reach >= s.CellM*math.Sqrt2/2 {
-			nCov++
-			continue
-		}
-		cx, cy := s.X(q%s.Nx), s.Y(q/s.Nx)
-		if idx.anyWithin(x, y, cx, cy, reach) {
-			nCov++
-		}
-	}
+		mu.Lock()
+		nBase, nCov = nBase+nb, nCov+nc
+		mu.Unlock()
+	})
 	if nBase > 0 {
 		cv.CoveragePct = 100 * float64(nCov) / float64(nBase)
 	}
@@ -379,7 +397,13 @@ func rimCompleteness(x, y []float64, r, spacingM float64) (float64, []int) {
 	band = min(band, r)
 	count := make([]int, RimSectors)
 	inner := r - band
+	// A point clearly inside the band's inner circle (by far more than
+	// rounding) needs no exact radius.
+	clearIn := inner * inner * (1 - 1e-9)
 	for i := range x {
+		if x[i]*x[i]+y[i]*y[i] < clearIn {
+			continue
+		}
 		rr := math.Hypot(x[i], y[i])
 		if rr < inner || rr > r*(1+1e-9) {
 			continue

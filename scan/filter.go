@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 )
 
 // GaussianAlpha is the weighting constant α = sqrt(ln 2 / π) ≈ 0.4697 of
@@ -257,7 +256,8 @@ func medianStartWeights(raw *Surface, cutoffM float64, w []float64) {
 	for i := range z {
 		cellOf[i] = int32(g.cell(x[i], y[i]))
 	}
-	f := refStart(g, cellOf, slices.Clone(z))
+	byCell, start := samplesByCell(cellOf, g.nx*g.ny)
+	f := refStart(g, byCell, start, z)
 	r := make([]float64, len(z))
 	residuals(g, f, x, y, z, r)
 	c := 2 * BiweightC * max(madOf(r), outlierSigmaFloorM/madToSigma)

@@ -280,20 +280,37 @@ type samples struct {
 	id      []int32
 }
 
-// basePoints returns the points within radius r of the origin.
+// basePoints returns the points within radius r of the origin, in
+// order. Parts of the points are counted at once, then each part writes
+// its points at its offset.
 func basePoints(pts []r3.Vec, r float64) samples {
-	n := len(pts)
-	s := samples{x: make([]float64, 0, n), y: make([]float64, 0, n), z: make([]float64, 0, n), id: make([]int32, 0, n)}
 	r2 := r * r * (1 + 1e-12)
-	for i, p := range pts {
-		if p.X*p.X+p.Y*p.Y > r2 {
-			continue
+	parts := rowParts(len(pts))
+	off := make([]int, parts+1)
+	parallelParts(len(pts), parts, func(k, i0, i1 int) {
+		c := 0
+		for _, p := range pts[i0:i1] {
+			if p.X*p.X+p.Y*p.Y <= r2 {
+				c++
+			}
 		}
-		s.x = append(s.x, p.X)
-		s.y = append(s.y, p.Y)
-		s.z = append(s.z, p.Z)
-		s.id = append(s.id, int32(i))
+		off[k+1] = c
+	})
+	for k := range parts {
+		off[k+1] += off[k]
 	}
+	n := off[parts]
+	s := samples{x: make([]float64, n), y: make([]float64, n), z: make([]float64, n), id: make([]int32, n)}
+	parallelParts(len(pts), parts, func(k, i0, i1 int) {
+		o := off[k]
+		for i := i0; i < i1; i++ {
+			p := pts[i]
+			if p.X*p.X+p.Y*p.Y <= r2 {
+				s.x[o], s.y[o], s.z[o], s.id[o] = p.X, p.Y, p.Z, int32(i)
+				o++
+			}
+		}
+	})
 	return s
 }
 
@@ -351,15 +368,20 @@ func gridIndex(s *Surface, x, y float64) int {
 func binCloud(s *Surface, base, have []bool, sm samples) {
 	n := s.Nx * s.Ny
 	cellOf := make([]int32, len(sm.z))
-	start := make([]int32, n+1)
-	for i := range sm.z {
-		q := gridIndex(s, sm.x[i], sm.y[i])
-		if q < 0 || !base[q] {
-			cellOf[i] = -1
-			continue
+	parallelRows(len(sm.z), func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			q := gridIndex(s, sm.x[i], sm.y[i])
+			if q < 0 || !base[q] {
+				q = -1
+			}
+			cellOf[i] = int32(q)
 		}
-		cellOf[i] = int32(q)
-		start[q+1]++
+	})
+	start := make([]int32, n+1)
+	for _, q := range cellOf {
+		if q >= 0 {
+			start[q+1]++
+		}
 	}
 	for q := range n {
 		start[q+1] += start[q]
@@ -372,12 +394,15 @@ func binCloud(s *Surface, base, have []bool, sm samples) {
 			fill[q]++
 		}
 	}
-	for q := range n {
-		if a := zs[start[q]:start[q+1]]; len(a) > 0 {
-			s.ZM[q] = medianInPlace(a)
-			have[q] = true
+	// Each cell's heights are its own slice of zs: rows of cells at once.
+	parallelRows(s.Ny, func(j0, j1 int) {
+		for q := j0 * s.Nx; q < j1*s.Nx; q++ {
+			if a := zs[start[q]:start[q+1]]; len(a) > 0 {
+				s.ZM[q] = medianInPlace(a)
+				have[q] = true
+			}
 		}
-	}
+	})
 }
 
 // rasterise sets each base cell covered by a triangle to the lowest

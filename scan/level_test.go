@@ -3,6 +3,8 @@ package scan
 import (
 	"math"
 	"math/rand/v2"
+	"runtime"
+	"slices"
 	"strings"
 	"testing"
 
@@ -618,6 +620,70 @@ func TestLevelReuse(t *testing.T) {
 	}
 	if in.Points != nil {
 		t.Error("the reused input still holds its points")
+	}
+}
+
+// TestLevelDropNormals: without the normals in the output, the points,
+// triangles and frame are those of a normal Level, and a cloud that is
+// not reused keeps its normals.
+func TestLevelDropNormals(t *testing.T) {
+	mesh := synthBase{R: 0.05, Shape: dish(0.2e-3, 0.05), CornerM: 4e-3, WallM: 8e-3, Mesh: true, StepM: 1.5e-3, Normals: true, Seed: 13}
+	cloud := synthBase{R: 0.05, Shape: dish(0.2e-3, 0.05), CornerM: 4e-3, WallM: 8e-3, N: 30000, Normals: true, Seed: 5}
+	sc := newScanner(FaceUp, 5, 20, 10, r3.Vec{Z: 0.4})
+	for _, tc := range []struct {
+		name  string
+		sb    synthBase
+		reuse bool
+	}{{"mesh", mesh, false}, {"mesh reused", mesh, true}, {"cloud", cloud, false}, {"cloud reused", cloud, true}} {
+		a, err := Level(sc.apply(tc.sb.build()), LevelOptions{})
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		in := sc.apply(tc.sb.build())
+		nIn, fIn := len(in.Normals), len(in.FacetNormals)
+		b, err := Level(in, LevelOptions{Reuse: tc.reuse, DropNormals: true})
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		if b.Cloud.Normals != nil || b.Cloud.FacetNormals != nil {
+			t.Errorf("%s: %d normals, %d facet normals kept", tc.name, len(b.Cloud.Normals), len(b.Cloud.FacetNormals))
+		}
+		if a.Rotation != b.Rotation || a.OriginM != b.OriginM || a.RadiusM != b.RadiusM || a.FaceSource != b.FaceSource {
+			t.Errorf("%s: frame or face differs: %v %v %v %s / %v %v %v %s", tc.name,
+				a.Rotation, a.OriginM, a.RadiusM, a.FaceSource, b.Rotation, b.OriginM, b.RadiusM, b.FaceSource)
+		}
+		if !slices.Equal(a.Cloud.Points, b.Cloud.Points) || !slices.Equal(a.Cloud.Triangles, b.Cloud.Triangles) {
+			t.Errorf("%s: points or triangles differ", tc.name)
+		}
+		if !tc.reuse && (len(in.Normals) != nIn || len(in.FacetNormals) != fIn) {
+			t.Errorf("%s: the input lost its normals: %d/%d, %d/%d", tc.name, len(in.Normals), nIn, len(in.FacetNormals), fIn)
+		}
+	}
+}
+
+// TestLevelProcessors: Level's parallel passes (rim annulus, base mask)
+// give the same result on one processor as on four.
+func TestLevelProcessors(t *testing.T) {
+	sb := synthBase{R: 0.05, Shape: dish(0.2e-3, 0.05), CornerM: 4e-3, WallM: 8e-3, N: 40000, Normals: true, Seed: 21}
+	sc := newScanner(FaceUp, 5, 20, 10, r3.Vec{Z: 0.4})
+	run := func(procs int) *Levelled {
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+		l, err := Level(sc.apply(sb.build()), LevelOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return l
+	}
+	a, b := run(1), run(4)
+	if a.Rotation != b.Rotation || a.OriginM != b.OriginM || a.RadiusM != b.RadiusM || a.PointsDropped != b.PointsDropped ||
+		a.DroppedBeyondRim != b.DroppedBeyondRim || a.DroppedOffPlane != b.DroppedOffPlane || a.DroppedBySector != b.DroppedBySector {
+		t.Errorf("1 vs 4 processors: frame, radius or drops differ: %+v / %+v", a, b)
+	}
+	if a.PointsDropped == 0 {
+		t.Error("no point dropped: the test does not reach the tally")
+	}
+	if !slices.Equal(a.Cloud.Points, b.Cloud.Points) || !slices.Equal(a.Cloud.Normals, b.Cloud.Normals) {
+		t.Error("1 vs 4 processors: levelled points or normals differ")
 	}
 }
 

@@ -69,11 +69,29 @@ func (g refGrid) interp(f []float64, x, y float64) float64 {
 	tx := min(max(fi-float64(i), 0), 1)
 	ty := min(max(fj-float64(j), 0), 1)
 	q := j*g.nx + i
+	w00, w10, w01, w11 := (1-tx)*(1-ty), tx*(1-ty), (1-tx)*ty, tx*ty
+	v00, v10, v01, v11 := f[q], f[q+1], f[q+g.nx], f[q+g.nx+1]
+	if sum := v00 + v10 + v01 + v11; !math.IsNaN(sum) && !math.IsInf(sum, 0) {
+		// All four corners defined (the common case): a corner of zero
+		// weight adds ±0 to both sums, the same as leaving it out below.
+		var s, w float64
+		s += w00 * v00
+		w += w00
+		s += w10 * v10
+		w += w10
+		s += w01 * v01
+		w += w01
+		s += w11 * v11
+		w += w11
+		if w > 0 {
+			return s / w
+		}
+	}
 	var s, w float64
 	for _, c := range [4]struct {
 		q int
 		w float64
-	}{{q, (1 - tx) * (1 - ty)}, {q + 1, tx * (1 - ty)}, {q + g.nx, (1 - tx) * ty}, {q + g.nx + 1, tx * ty}} {
+	}{{q, w00}, {q + 1, w10}, {q + g.nx, w01}, {q + g.nx + 1, w11}} {
 		if v := f[c.q]; !math.IsNaN(v) && c.w > 0 {
 			s += c.w * v
 			w += c.w
@@ -124,7 +142,8 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	for i := range n {
 		cellOf[i] = int32(g.cell(x[i], y[i]))
 	}
-	f := refStart(g, cellOf, z)
+	byCell, cellStart := samplesByCell(cellOf, nc)
+	f := refStart(g, byCell, cellStart, z)
 	reg := newGaussRegression(g.nx, g.ny, refCellsPerCutoff, 1)
 	w := make([]float64, nc)
 	wz := make([]float64, nc)
@@ -184,22 +203,42 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	// Where the reference cannot follow the form (a kink, a sharp bend)
 	// most residuals around grow and so does the limit; isolated spikes
 	// and streaks are too few to move a median.
-	abs := make([]float64, n)
+	// res becomes |r| in place (0 for NaN, which no limit exceeds either).
+	abs := res
 	for i, r := range res {
 		abs[i] = math.Abs(r)
 		if math.IsNaN(r) {
 			abs[i] = 0
 		}
 	}
-	local := refStart(g, cellOf, abs)
-	for i, r := range res {
+	local := refStart(g, byCell, cellStart, abs)
+	for i, a := range abs {
 		s := sigma
 		if v := local[cellOf[i]]; !math.IsNaN(v) {
 			s = max(s, madToSigma*v)
 		}
-		out[i] = math.Abs(r) > k*s
+		out[i] = a > k*s
 	}
 	return out, sigma
+}
+
+// samplesByCell returns the sample indices sorted by cell, each cell's in
+// index order: cell q's are byCell[start[q]:start[q+1]].
+func samplesByCell(cellOf []int32, nc int) (byCell, start []int32) {
+	start = make([]int32, nc+1)
+	for _, q := range cellOf {
+		start[q+1]++
+	}
+	for q := range nc {
+		start[q+1] += start[q]
+	}
+	byCell = make([]int32, len(cellOf))
+	fill := append([]int32(nil), start[:nc]...)
+	for i, q := range cellOf {
+		byCell[fill[q]] = int32(i)
+		fill[q]++
+	}
+	return byCell, start
 }
 
 // newRefGrid returns a grid of cells of edge h covering the samples.
@@ -218,20 +257,11 @@ func newRefGrid(x, y []float64, h float64) refGrid {
 // refStart returns the starting reference: the median of each cell's
 // samples, then the median of those over the (2·refMedianHalf+1)² window
 // around every cell (NaN where the window is empty).
-func refStart(g refGrid, cellOf []int32, z []float64) []float64 {
+func refStart(g refGrid, byCell, start []int32, z []float64) []float64 {
 	nc := g.nx * g.ny
-	start := make([]int32, nc+1)
-	for _, q := range cellOf {
-		start[q+1]++
-	}
-	for q := range nc {
-		start[q+1] += start[q]
-	}
 	zs := make([]float64, len(z))
-	fill := append([]int32(nil), start[:nc]...)
-	for i, q := range cellOf {
-		zs[fill[q]] = z[i]
-		fill[q]++
+	for k, i := range byCell {
+		zs[k] = z[i]
 	}
 	// Each cell's samples are its own slice of zs: the rows of cells are
 	// split between the workers with no effect on the result.

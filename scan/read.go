@@ -159,10 +159,7 @@ func Read(r io.Reader, opt ReadOptions) (*Cloud, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
-	for i, p := range c.Points {
-		c.Points[i] = r3.Scale(k, p)
-	}
-	if err := checkReach(c.Points, k, c.Unit); err != nil {
+	if err := scaleToMetres(c.Points, k, c.Unit); err != nil {
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
 	unitVecs(c.Normals)
@@ -175,14 +172,34 @@ func Read(r io.Reader, opt ReadOptions) (*Cloud, error) {
 // mistyped number, and would overflow the levelling's sums of squares.
 const MaxReachM = 1e6
 
+// scaleToMetres multiplies the points by k (metres per unit) and then
+// checks them with checkReach. Parts of the points are done at once.
+func scaleToMetres(pts []r3.Vec, k float64, unit string) error {
+	parts := rowParts(len(pts))
+	errs := make([]error, parts)
+	parallelParts(len(pts), parts, func(t, i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			pts[i] = r3.Scale(k, pts[i])
+		}
+		errs[t] = checkReach(pts[i0:i1], i0, k, unit)
+	})
+	for _, err := range errs {
+		if err != nil {
+			return err // the first in file order
+		}
+	}
+	return nil
+}
+
 // checkReach returns an error naming the first point with a coordinate
-// beyond MaxReachM, in the file's unit (k metres per unit) and order.
-func checkReach(pts []r3.Vec, k float64, unit string) error {
+// beyond MaxReachM, in the file's unit (k metres per unit) and order; the
+// points are the file's from index first on.
+func checkReach(pts []r3.Vec, first int, k float64, unit string) error {
 	for i, p := range pts {
 		for a, v := range [3]float64{p.X, p.Y, p.Z} {
 			if math.Abs(v) > MaxReachM {
 				return fmt.Errorf("point %d (in the file's order) has %c = %g %s, beyond any scan's reach (%g km); correct or remove that value, and check the file's unit (--units)",
-					i+1, "xyz"[a], v/k, unit, MaxReachM/1e3)
+					first+i+1, "xyz"[a], v/k, unit, MaxReachM/1e3)
 			}
 		}
 	}
@@ -308,13 +325,16 @@ func readText(r io.Reader, opt ReadOptions) (*Cloud, string, error) {
 	return c, x.UnitHint, nil
 }
 
-// unitVecs scales each non-zero vector of v to unit length.
+// unitVecs scales each non-zero vector of v to unit length (parts of v
+// at once).
 func unitVecs(v []r3.Vec) {
-	for i, n := range v {
-		if l := r3.Norm(n); l > 0 && math.Abs(l-1) > 1e-12 {
-			v[i] = r3.Scale(1/l, n)
+	parallelRows(len(v), func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			if l := r3.Norm(v[i]); l > 0 && math.Abs(l-1) > 1e-12 {
+				v[i] = r3.Scale(1/l, v[i])
+			}
 		}
-	}
+	})
 }
 
 // countReader counts the bytes read through it.

@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -381,5 +382,31 @@ func TestReadCommaAmbiguity(t *testing.T) {
 		if got := len(c.Warnings) > 0; got != tc.warn {
 			t.Errorf("%q: warnings %v, want a warning %v", tc.in, c.Warnings, tc.warn)
 		}
+	}
+}
+
+// TestScaleToMetres: the points are scaled in place on any number of
+// processors, and the first point beyond MaxReachM in the file's order is
+// the one named (its 1-based number and its value in the file's unit).
+func TestScaleToMetres(t *testing.T) {
+	for _, procs := range []int{1, 4} {
+		func() {
+			defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(procs))
+			pts := make([]r3.Vec, 5000)
+			for i := range pts {
+				pts[i] = r3.Vec{X: float64(i), Y: -float64(i), Z: 1}
+			}
+			if err := scaleToMetres(pts, 1e-3, "mm"); err != nil {
+				t.Fatalf("%d processors: %v", procs, err)
+			}
+			if pts[4321] != (r3.Vec{X: 4.321, Y: -4.321, Z: 1e-3}) {
+				t.Errorf("%d processors: point 4321 is %v after scaling", procs, pts[4321])
+			}
+			pts[3999].Y, pts[4700].Z = -2e9, 5e9 // in mm: 2000 km and 5000 km
+			err := scaleToMetres(pts, 1, "mm")
+			if err == nil || !strings.Contains(err.Error(), "point 4000 (in the file's order) has y = -2e+09 mm") {
+				t.Errorf("%d processors: error %v, want point 4000's y named", procs, err)
+			}
+		}()
 	}
 }

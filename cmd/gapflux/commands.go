@@ -50,6 +50,7 @@ func cmdAnalyze(ctx context.Context, args []string, stdout, stderr io.Writer) (i
 	if err := pipeline.CheckJob(job, jf.name()); err != nil {
 		return exitUsage, usageError{err}
 	}
+	setMemoryLimit(1)
 	res, err := pipeline.Analyze(ctx, pipeline.ScanInput{PanPath: pan, Name: filepath.Base(pan), HobPath: *hob, Job: job, ReportDir: *out})
 	if err != nil {
 		return exitFail, err

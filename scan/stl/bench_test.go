@@ -23,7 +23,11 @@ func benchMesh(n int) *Mesh {
 }
 
 func benchDecode(b *testing.B, data []byte, sized bool) {
-	opt := Options{SizeBytes: -1}
+	benchDecodeWith(b, data, sized, Options{})
+}
+
+func benchDecodeWith(b *testing.B, data []byte, sized bool, opt Options) {
+	opt.SizeBytes = -1
 	if sized {
 		opt.SizeBytes = int64(len(data))
 	}
@@ -52,6 +56,13 @@ func BenchmarkDecodeBinary(b *testing.B) {
 	}
 	b.Run("sized", func(b *testing.B) { benchDecode(b, buf.Bytes(), true) })
 	b.Run("stream", func(b *testing.B) { benchDecode(b, buf.Bytes(), false) })
+	// A scanner's mesh: each vertex shared by six facets, welded as
+	// scan.Read does.
+	var grid bytes.Buffer
+	if err := WriteBinary(&grid, gridSoup(300)); err != nil {
+		b.Fatal(err)
+	}
+	b.Run("welded", func(b *testing.B) { benchDecodeWith(b, grid.Bytes(), true, Options{Weld: true}) })
 }
 
 func BenchmarkDecodeASCII(b *testing.B) {

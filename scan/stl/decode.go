@@ -7,6 +7,8 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"runtime"
+	"sync"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -20,7 +22,7 @@ const (
 	// growCap is the initial capacity, in facets, when the size is unknown.
 	growCap = 1 << 14
 	// chunkFacets is how many binary facets are read at once.
-	chunkFacets = 1310
+	chunkFacets = 20972 // 1 MiB of facets
 )
 
 // Decode reads a binary or ASCII STL file from r. It tells the two apart by
@@ -146,7 +148,8 @@ func (d *decoder) binary() (*Mesh, error) {
 		m.Vertices = make([]r3.Vec, 0, 3*c)
 	}
 	m.Normals = make([]r3.Vec, 0, c)
-	d.buf = make([]byte, chunkFacets*facetLen)
+	d.buf = make([]byte, min(n, chunkFacets)*facetLen)
+	var sc facetScratch
 	for i := int64(0); i < n; {
 		k := min(n-i, chunkFacets)
 		b := d.buf[:k*facetLen]
@@ -156,7 +159,7 @@ func (d *decoder) binary() (*Mesh, error) {
 			return nil, d.errAt(off, eofErr(err,
 				fmt.Sprintf("in facet %d of %d", i+int64(got)/facetLen, n)))
 		}
-		if j := decodeFacets(m, b, n, d.weld); j >= 0 {
+		if j := decodeFacets(m, b, n, d.weld, &sc); j >= 0 {
 			off := headerLen + (i+int64(j/12))*facetLen + 4*int64(j%12)
 			return nil, d.errAt(off, fmt.Errorf("%w in facet %d", ErrNotFinite, i+int64(j/12)))
 		}
@@ -171,13 +174,27 @@ func (d *decoder) binary() (*Mesh, error) {
 	return m, nil
 }
 
+// facetSplit is the fewest facets decodeFacets shares between goroutines.
+const facetSplit = 2048
+
+// facetScratch holds one chunk's decoded vertices and their hashes before
+// they are welded.
+type facetScratch struct {
+	verts []r3.Vec
+	hash  []uint64
+}
+
 // decodeFacets appends the facets in b to m, which will hold at most n
-// facets, welding the vertices when w is not nil. It returns -1, or the
-// index (12 per facet) of the first coordinate that is not finite.
-// Non-finite normals are stored as zero.
-func decodeFacets(m *Mesh, b []byte, n int64, w *welder) int {
+// facets, welding the vertices when w is not nil (sc then holds the
+// chunk's vertices on their way). The facets are decoded, and their
+// vertices hashed, in contiguous parts, one per available processor; the
+// vertices are then welded in file order, so the result does not depend
+// on the split. It returns -1, or the index (12 per facet) of the first
+// coordinate that is not finite. Non-finite normals are stored as zero.
+func decodeFacets(m *Mesh, b []byte, n int64, w *welder, sc *facetScratch) int {
 	vs, ns := m.Vertices, m.Normals
-	if k := len(b) / facetLen; cap(ns)-len(ns) < k {
+	k := len(b) / facetLen
+	if cap(ns)-len(ns) < k {
 		// Double rather than let append grow by 1.25: fewer copies of
 		// large slices on streams of unknown size.
 		c := max(min(2*cap(ns), int(n)), len(ns)+k)
@@ -188,14 +205,83 @@ func decodeFacets(m *Mesh, b []byte, n int64, w *welder) int {
 		}
 		ns = append(make([]r3.Vec, 0, c), ns...)
 	}
-	for f := 0; f+facetLen <= len(b); f += facetLen {
-		r := b[f : f+48]
+	n0, v0 := len(ns), len(vs)
+	ns = ns[:n0+k]
+	var verts []r3.Vec
+	var hash []uint64
+	if w == nil {
+		vs = vs[:v0+3*k]
+		verts = vs[v0:]
+	} else {
+		if cap(sc.verts) < 3*k {
+			sc.verts, sc.hash = make([]r3.Vec, 3*k), make([]uint64, 3*k)
+		}
+		verts, hash = sc.verts[:3*k], sc.hash[:3*k]
+	}
+	if bad := fillFacetsParallel(ns[n0:], verts, hash, b[:k*facetLen]); bad >= 0 {
+		m.Vertices, m.Normals = vs[:v0], ns[:n0]
+		return bad
+	}
+	if w != nil {
+		for f := range k {
+			m.Faces = append(m.Faces, [3]int32{w.addHashed(&vs, verts[3*f], hash[3*f]),
+				w.addHashed(&vs, verts[3*f+1], hash[3*f+1]), w.addHashed(&vs, verts[3*f+2], hash[3*f+2])})
+		}
+	}
+	m.Vertices, m.Normals = vs, ns
+	return -1
+}
+
+// fillFacetsParallel runs fillFacets on contiguous parts of the facets in
+// b, one per available processor, and returns the first bad index in file
+// order, or -1.
+func fillFacetsParallel(ns, verts []r3.Vec, hash []uint64, b []byte) int {
+	k := len(ns)
+	parts := min(runtime.GOMAXPROCS(0), max(1, k/facetSplit))
+	part := func(f0, f1 int) int {
+		var h []uint64
+		if hash != nil {
+			h = hash[3*f0 : 3*f1]
+		}
+		bad := fillFacets(ns[f0:f1], verts[3*f0:3*f1], h, b[f0*facetLen:f1*facetLen])
+		if bad >= 0 {
+			bad += 12 * f0
+		}
+		return bad
+	}
+	if parts == 1 {
+		return part(0, k)
+	}
+	bad := make([]int, parts)
+	var wg sync.WaitGroup
+	for t := range parts {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			bad[t] = part(t*k/parts, (t+1)*k/parts)
+		}()
+	}
+	wg.Wait()
+	for _, v := range bad {
+		if v >= 0 {
+			return v // the first in file order
+		}
+	}
+	return -1
+}
+
+// fillFacets decodes the facets in b into their normals ns (zero when not
+// finite) and vertices verts (three per facet), and the vertices' weld
+// hashes into hash when it is not nil. It returns -1, or the index (12 per
+// facet) of the first vertex coordinate that is not finite.
+func fillFacets(ns, verts []r3.Vec, hash []uint64, b []byte) int {
+	for f := range ns {
+		r := b[f*facetLen : f*facetLen+48]
 		var v [12]float64
 		for k := 0; k < 12; k++ {
 			u := binary.LittleEndian.Uint32(r[4*k:])
 			if k >= 3 && u&0x7f800000 == 0x7f800000 {
-				m.Vertices, m.Normals = vs, ns
-				return f/facetLen*12 + k
+				return f*12 + k
 			}
 			v[k] = float64(math.Float32frombits(u))
 		}
@@ -203,15 +289,15 @@ func decodeFacets(m *Mesh, b []byte, n int64, w *welder) int {
 		if math.IsNaN(v[0]+v[1]+v[2]) || math.IsInf(v[0]+v[1]+v[2], 0) {
 			nrm = r3.Vec{}
 		}
-		ns = append(ns, nrm)
-		a, b, c := r3.Vec{X: v[3], Y: v[4], Z: v[5]}, r3.Vec{X: v[6], Y: v[7], Z: v[8]}, r3.Vec{X: v[9], Y: v[10], Z: v[11]}
-		if w == nil {
-			vs = append(vs, a, b, c)
-		} else {
-			m.Faces = append(m.Faces, [3]int32{w.add(&vs, a), w.add(&vs, b), w.add(&vs, c)})
+		ns[f] = nrm
+		vf := verts[3*f : 3*f+3]
+		vf[0], vf[1], vf[2] = r3.Vec{X: v[3], Y: v[4], Z: v[5]}, r3.Vec{X: v[6], Y: v[7], Z: v[8]}, r3.Vec{X: v[9], Y: v[10], Z: v[11]}
+		if hash != nil {
+			for j := range 3 {
+				hash[3*f+j] = hashVertex(vertexKey(vf[j]))
+			}
 		}
 	}
-	m.Vertices, m.Normals = vs, ns
 	return -1
 }
 
