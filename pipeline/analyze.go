@@ -349,6 +349,11 @@ type surfaceRun struct {
 // its previous solution (the heat-up samples neighbouring water
 // temperatures in a fixed order, so this stays deterministic).
 func (s *surfaceRun) solve(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
+	if iface == s.flatField && s.in.Flat != nil { // a trial whose flat twin is unchanged
+		return s.in.Flat.solve(tWaterK, func() (*thermal.Solution, error) {
+			return s.chains[iface].solve(s.ctx, s.prob, iface, tWaterK)
+		})
+	}
 	return s.chains[iface].solve(s.ctx, s.prob, iface, tWaterK)
 }
 

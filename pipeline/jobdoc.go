@@ -369,6 +369,18 @@ func uncertaintyKeys() []keySpec {
 			why: "physical: a fraction", src: "ours: ±0.05, bare aluminium runs 0.05 to 0.3 as it oxidises (from memory)"},
 		{key: "uncertainty.hob_emissivity", doc: "half-width of the rectangular distribution of the hob top's emissivity, kept in (0, 1]", lo: 0, hi: 0.5, zero: "the input is exact",
 			why: "physical: a fraction", src: "the material library's glass-ceramic entry, 0.90 ± 0.05 (estimate from glass tables), taken as a rectangular half-width"},
+		{key: "uncertainty.limiter_k", doc: "standard deviation of the normal distribution of the limiter (regulator) setting: hob.limiter_c in heater mode, hob.temperature_c in solid-plate mode", unit: "K", lo: 0, hi: 100, zero: "the input is exact",
+			why: "our bound", src: "ours: 15 K, the unit-to-unit scatter of a rod limiter's switching point is some tens of kelvin (from memory)"},
+		{key: "uncertainty.glass_tau", doc: "half-width of the rectangular distribution of hob.glass_tau (heater mode), kept in [0, 0.99]", lo: 0, hi: 0.5, zero: "the input is exact",
+			why: "physical: a fraction", src: "ours: ±0.05, tint and make of glass-ceramic tops differ in their near-infrared window"},
+		{key: "uncertainty.power_pct", doc: "half-width of the rectangular distribution of the rated power (hob.heater_power_w, and rated_power_density_kw_m2 in temperature mode with power_limited), % of its value", unit: "%", lo: 0, hi: 50, zero: "the input is exact",
+			why: "our bound", src: "ours: ±5 %, IEC 60335-1 §10.1 lets a heating appliance's power input deviate from its rating by +5 % / −10 % (from memory)"},
+		{key: "uncertainty.placement_mm", doc: "radius of the disc on which the pan's centre is drawn (uniformly) about pan.offset_mm, the pan set down on the zone by hand; drawn only on a flat hob top (a hob scan or profile would have to be placed again)", unit: "mm", lo: 0, hi: 50, zero: "the input is exact",
+			why: "our bound: beyond it the pan leaves the zone", src: "ours: 5 mm, a pan centred by eye on a marked zone"},
+		{key: "uncertainty.grid_placement", doc: "draw the trials' grid placement: each trial's coarse grid is one of the trial_coarsen² placements of its blocks on the analysis grid (a shift of whole analysis cells); nothing with trials on the analysis grid",
+			src: "ours: on; the spread it adds is the coarse grid's, which errs high"},
+		{key: "uncertainty.trial_coarsen", doc: "cell of the trials' grid from the pose on, in analysis cells (a coarse cell takes the lowest height of its block); each chain figure of a trial is shifted by the analysis's value less the coarse nominal runs' mean, or scaled by their ratio (contact area, rock, tip force); the form figures stay on the analysis grid", lo: 1, hi: 4, zero: "2",
+			why: "our bound: at 4 a 1 mm cell becomes 4 mm, the contact patches' scale", src: "ours: 2 cuts the cells 4-fold; TestCoarseTrialsUnbiased bounds the bias left"},
 	}
 }
 

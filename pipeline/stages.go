@@ -37,6 +37,7 @@ type SurfaceInput struct {
 	// gate. Warm holds nominal solutions the trial's solves start from.
 	Trial bool
 	Warm  *warmStart
+	Flat  *flatReuse // the flat twin's solves a trial reuses (nil: none)
 	gate  *gate
 }
 
