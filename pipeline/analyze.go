@@ -416,6 +416,9 @@ func (s *surfaceRun) interfaceFields() error {
 	if err != nil {
 		return err
 	}
+	if in.Trial && prob.Heater != nil { // the sensitivity table's tolerances: loss_pct to about 1e-3 points
+		prob.RelTol, prob.OuterTolK = sensitivityRelTol, sensitivityOuterTol
+	}
 	s.prob = prob
 	return nil
 }
