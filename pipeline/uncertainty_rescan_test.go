@@ -13,7 +13,8 @@ import (
 )
 
 // rescanJob is a cheap job for the re-scan tests: temperature mode (no
-// glass grid), 1 mm cells, noise draws only (every property exact).
+// glass grid), 1 mm cells, noise, radius and grid placement draws only
+// (every property, hob setting and the pan's placement exact).
 func rescanJob() Job {
 	job := DefaultJob()
 	job.Hob.Mode = "temperature"
@@ -22,6 +23,7 @@ func rescanJob() Job {
 	u.Mode, u.MaxTrials = "fast", 20
 	u.PanSqPct, u.HobSqPct, u.SlopePct, u.MicrohardnessPct, u.Accommodation = 0, 0, 0, 0, 0
 	u.ConductivityPct, u.ThicknessMM, u.PanEmissivity, u.HobEmissivity = 0, 0, 0, 0
+	u.LimiterK, u.GlassTau, u.PowerPct, u.PlacementMM = 0, 0, 0, 0
 	return job
 }
 
