@@ -339,8 +339,8 @@ func hotKeys() []keySpec {
 // rule, in file order.
 func uncertaintyKeys() []keySpec {
 	return []keySpec{
-		{key: "uncertainty.mode", doc: "Monte Carlo evaluation of the headline figures' uncertainty (JCGM 101): \"off\", \"fast\" (at most 40 trials) or \"full\" (at most 200 trials); each trial re-runs the chain from the form filter (a noise draw) and from the interface (the property draws)",
-			oneOf: []string{"off", "fast", "full"}, src: "ours: off by default, a trial costs about one analysis without its sensitivity table"},
+		{key: "uncertainty.mode", doc: "Monte Carlo evaluation of the headline figures' uncertainty (JCGM 101): \"off\", \"fast\" (at most 40 trials) or \"full\" (at most 200 trials); each trial draws every input, filters the noisy scan again and re-runs the chain from the pose on, on a grid of trial_coarsen analysis cells",
+			oneOf: []string{"off", "fast", "full"}, src: "ours: off by default; fast costs several analyses per scan (the README gives the measured cost)"},
 		{key: "uncertainty.decision", doc: "decision rule of the verdict when the uncertainty is evaluated: \"guarded\" acceptance (pass only when the 95 % interval lies inside the limits, fail only when it lies outside, else inconclusive; ISO 14253-1, ILAC-G8) or \"simple\" acceptance (the measured value against the limits)",
 			oneOf: []string{"guarded", "simple"}, src: "ours: guarded acceptance, the conservative reading of ISO 14253-1"},
 		{key: "uncertainty.seed", doc: "seed of the trials' random numbers (PCG), so that reports stay byte-identical", lo: 0, hi: 1 << 53,

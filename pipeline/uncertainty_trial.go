@@ -319,22 +319,35 @@ func decimate(s *scan.Surface, f, ox, oy int) *scan.Surface {
 }
 
 // hobOn returns the hob top on grid g: a flat top built on g, else the
-// nominal top hob sampled at the hob cell nearest each of g's cell
-// centres (a centre off hob's grid is Outside).
+// highest of the nominal top hob's cells whose centres lie in each of g's
+// cells (the part of the hob the pan meets, as decimate keeps the pan's
+// lowest); a cell with none of them is Outside.
 func hobOn(g, hob *scan.Surface, flat bool) *scan.Surface {
 	if flat {
 		return contact.FlatHob(g)
 	}
 	h := scan.NewSurface(g.Nx, g.Ny, g.CellM, g.X0M, g.Y0M)
+	span := func(c, c0, n int) (int, int) { return max(c0, 0), min(c0+n, c) }
 	for j := range g.Ny {
+		jy0 := int(math.Ceil((g.Y(j)-g.CellM/2-hob.Y0M)/hob.CellM - 1e-9))
+		jy1 := int(math.Floor((g.Y(j)+g.CellM/2-hob.Y0M)/hob.CellM + 1e-9))
 		for i := range g.Nx {
-			hi := int(math.Round((g.X(i) - hob.X0M) / hob.CellM))
-			hj := int(math.Round((g.Y(j) - hob.Y0M) / hob.CellM))
-			if hi < 0 || hj < 0 || hi >= hob.Nx || hj >= hob.Ny {
-				continue
+			ix0 := int(math.Ceil((g.X(i)-g.CellM/2-hob.X0M)/hob.CellM - 1e-9))
+			ix1 := int(math.Floor((g.X(i)+g.CellM/2-hob.X0M)/hob.CellM + 1e-9))
+			q := h.Index(i, j)
+			lo, hi := span(hob.Ny, jy0, jy1-jy0+1)
+			for hj := lo; hj < hi; hj++ {
+				a, b := span(hob.Nx, ix0, ix1-ix0+1)
+				for hi := a; hi < b; hi++ {
+					k := hob.Index(hi, hj)
+					if hob.State[k] == scan.Outside {
+						continue
+					}
+					if h.State[q] == scan.Outside || hob.ZM[k] > h.ZM[q] {
+						h.ZM[q], h.State[q] = hob.ZM[k], hob.State[k]
+					}
+				}
 			}
-			k, q := hob.Index(hi, hj), h.Index(i, j)
-			h.ZM[q], h.State[q] = hob.ZM[k], hob.State[k]
 		}
 	}
 	return h
