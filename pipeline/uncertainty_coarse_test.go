@@ -7,6 +7,7 @@ import (
 
 	"gapflux/scan"
 	"gapflux/scan/synth"
+	"gapflux/thermal"
 )
 
 // TestDecimate: a coarse cell is the f×f block of fine cells from
@@ -116,5 +117,35 @@ func TestCoarseTrialsUnbiased(t *testing.T) {
 				t.Errorf("concavity_mm u %g and %g: it is measured on the analysis grid by both", got[0].ConcavityMM.U, got[1].ConcavityMM.U)
 			}
 		})
+	}
+}
+
+// TestFlatReuse: the flat twin's solve at a water temperature runs once
+// per set of flat-twin inputs; a trial that draws property values or a
+// pan placement gets no reuse.
+func TestFlatReuse(t *testing.T) {
+	tr := &trialRunner{inputs: []mcInput{
+		{UncertaintyInput: UncertaintyInput{Key: "uncertainty.radius_mm", Nominal: 80}},
+		{UncertaintyInput: UncertaintyInput{Key: "uncertainty.pan_sq_pct", Nominal: 1}},
+	}, flatReuse: map[string]*flatReuse{}}
+	r := tr.flatFor([]float64{80.1, 1}, trialDraw{phase: 1})
+	if r == nil || tr.flatFor([]float64{79.9, 1}, trialDraw{phase: 1}) != r {
+		t.Fatal("a radius draw should share the flat twin of its placement")
+	}
+	if tr.flatFor([]float64{80, 1}, trialDraw{phase: 0}) == r {
+		t.Error("another grid placement shares the flat twin")
+	}
+	if tr.flatFor([]float64{80, 1.1}, trialDraw{phase: 1}) != nil || tr.flatFor([]float64{80, 1}, trialDraw{phase: 1, placeM: [2]float64{1e-3, 0}}) != nil {
+		t.Error("a property or pan placement draw should get no reuse")
+	}
+	calls := 0
+	solve := func() (*thermal.Solution, error) { calls++; return &thermal.Solution{PowerW: float64(calls)}, nil }
+	for _, tK := range []float64{333.15, 293.15, 333.15, 293.15} {
+		if _, err := r.solve(tK, solve); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if s, _ := r.solve(333.15, solve); calls != 2 || s.PowerW != 1 {
+		t.Errorf("%d solves for two water temperatures; the first gave power %g, want 1", calls, s.PowerW)
 	}
 }
