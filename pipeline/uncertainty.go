@@ -289,10 +289,11 @@ func figuresOf(y [nFig]float64, res *Result) [nFig]float64 {
 }
 
 // evaluateUncertainty runs the Monte Carlo trials on the nominal analysis
-// res (JCGM 101 §7): each trial draws every property input from its
-// distribution and, when uncertainty.noise_factor > 0, new scanner noise,
-// and re-runs the chain from the filter (noise) or the interface (only
-// properties). Batches of mcBatch trials run until every figure is stable
+// res (JCGM 101 §7): each trial draws every property and hob-setting
+// input from its distribution, new scanner noise (when
+// uncertainty.noise_factor > 0), the coarse grid's placement and the pan's
+// placement, and re-runs the chain on the coarse grid (trialRunner).
+// Batches of mcBatch trials run until every figure is stable
 // to its numerical tolerance (adaptiveStable) or the cap is reached.
 // The budget comes from one-at-a-time sensitivity coefficients (budget).
 func evaluateUncertainty(ctx context.Context, in SurfaceInput, raw *scan.Surface, filt *scan.FilterResult, res *Result) (*UncertaintyReport, error) {
