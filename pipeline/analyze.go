@@ -349,6 +349,11 @@ type surfaceRun struct {
 // its previous solution (the heat-up samples neighbouring water
 // temperatures in a fixed order, so this stays deterministic).
 func (s *surfaceRun) solve(iface thermal.Interface, tWaterK float64) (*thermal.Solution, error) {
+	if iface == s.flatField && s.in.Flat != nil { // a trial whose flat twin is unchanged
+		return s.in.Flat.solve(tWaterK, func() (*thermal.Solution, error) {
+			return s.chains[iface].solve(s.ctx, s.prob, iface, tWaterK)
+		})
+	}
 	return s.chains[iface].solve(s.ctx, s.prob, iface, tWaterK)
 }
 
@@ -410,6 +415,9 @@ func (s *surfaceRun) interfaceFields() error {
 	prob, err := plateProblem(in.Job, in.Lib, in.Surf, s.inBase, in.OffsetM, in.GlassRM)
 	if err != nil {
 		return err
+	}
+	if in.Trial && prob.Heater != nil { // the sensitivity table's tolerances: loss_pct to about 1e-3 points
+		prob.RelTol, prob.OuterTolK = sensitivityRelTol, sensitivityOuterTol
 	}
 	s.prob = prob
 	return nil

@@ -98,7 +98,7 @@ func TestJobKeyNamesCarryUnits(t *testing.T) {
 	suffix := map[string]string{
 		"mm": "_mm", "µm": "_um", "°": "_deg", "°C": "_c", "%": "_pct", "N": "_n", "W": "_w", "kg": "_kg",
 		"MB": "_mb", "kPa": "_kpa", "MPa": "_mpa", "GPa": "_gpa", "kg/m³": "_kg_m3", "kW/m²": "_kw_m2",
-		"J/(kg·K)": "_j_kgk", "W/(m·K)": "_w_mk", "W/(m²·K)": "_w_m2k", "µm/(m·K)": "_um_mk",
+		"K": "_k", "J/(kg·K)": "_j_kgk", "W/(m·K)": "_w_mk", "W/(m²·K)": "_w_m2k", "µm/(m·K)": "_um_mk",
 	}
 	for _, s := range jobKeys() {
 		if s.unit == "" {

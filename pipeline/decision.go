@@ -22,6 +22,8 @@ type LimitVerdict struct {
 	Low    *float64 `json:"low,omitempty"`
 	High   *float64 `json:"high,omitempty"`
 	Result string   `json:"result"`
+	// State is "cold" or "hot" when the hot state ran (hot.verdict), else "".
+	State string `json:"state,omitempty"`
 }
 
 // Decision rules as the verdict names them.
@@ -41,30 +43,35 @@ const (
 // else inconclusive when any is, else pass; Pass is true only for pass.
 func decide(job Job, rep *Report) *VerdictReport {
 	v := verdict(job, rep)
-	u := rep.Uncertainty
-	v.Rule = decisionRule(job, u)
+	v.Rule = decisionRule(job, rep.Uncertainty)
 	guarded := v.Rule == ruleGuarded
 	if guarded {
 		v.Reasons = []string{}
 	}
 	v.Limits = []LimitVerdict{}
-	add := func(lv LimitVerdict, reason string) {
-		v.Limits = append(v.Limits, lv)
-		if reason != "" {
-			v.Reasons = append(v.Reasons, reason)
-		}
-	}
 	t := job.Tolerances
-	if g := rep.Geometry; g != nil {
-		for _, c := range geometryChecks(t, g, u) {
-			add(judgeLimit(c, guarded))
+	for _, st := range verdictStates(job, rep) {
+		add := func(lv LimitVerdict, reason string) {
+			lv.State = st.name
+			v.Limits = append(v.Limits, lv)
+			if reason != "" && st.name != "" {
+				reason = st.name + ": " + reason
+			}
+			if reason != "" {
+				v.Reasons = append(v.Reasons, reason)
+			}
 		}
-	}
-	if p := rep.Pose; p != nil && !t.RockingAllowed {
-		add(judgeRocking(p, u, guarded))
-	}
-	if h := rep.Heat; h != nil {
-		add(judgeLimit(lossCheck(t, h, u), guarded))
+		if g := st.rep.Geometry; g != nil {
+			for _, c := range geometryChecks(t, g, st.u) {
+				add(judgeLimit(c, guarded))
+			}
+		}
+		if p := st.rep.Pose; p != nil && !t.RockingAllowed {
+			add(judgeRocking(p, st.u, guarded))
+		}
+		if h := st.rep.Heat; h != nil {
+			add(judgeLimit(lossCheck(t, h, st.u), guarded))
+		}
 	}
 	v.Result = limitsResult(v.Limits)
 	if guarded {
@@ -75,6 +82,37 @@ func decide(job Job, rep *Report) *VerdictReport {
 		v.Result = ResultPass
 	}
 	return v
+}
+
+// verdictState is one state of the base the verdict judges: its name
+// ("" without a hot state), its figures and their uncertainty (nil when
+// not evaluated).
+type verdictState struct {
+	name string
+	rep  *Report
+	u    *UncertaintyReport
+}
+
+// verdictStates lists the states the verdict judges: the report as it is,
+// or, when the hot state ran, the cold and/or hot state as hot.verdict
+// says. The Monte Carlo trials do not run the hot state, so its limits
+// carry no uncertainty and are judged on their values.
+func verdictStates(job Job, rep *Report) []verdictState {
+	if rep.Hot == nil {
+		return []verdictState{{rep: rep, u: rep.Uncertainty}}
+	}
+	cold := *rep
+	cold.Hot = nil
+	c := verdictState{"cold", &cold, rep.Uncertainty}
+	h := verdictState{"hot", hotOnlyReport(rep.Hot), nil}
+	switch job.Hot.Verdict {
+	case "cold":
+		return []verdictState{c}
+	case "hot":
+		return []verdictState{h}
+	default:
+		return []verdictState{c, h}
+	}
 }
 
 // decisionRule chooses the verdict's decision rule: simple acceptance when
@@ -138,8 +176,9 @@ func lossCheck(t ToleranceJob, h *HeatReport, u *UncertaintyReport) limitCheck {
 // decides and the 95 % interval, when evaluated, is only reported; under
 // guarded acceptance (ISO 14253-1, ILAC-G8) the interval decides: pass when
 // it lies wholly on the good side, fail when wholly beyond, inconclusive when
-// it straddles the limit. The reason is "" unless a guarded limit fails or is
-// inconclusive.
+// it straddles the limit (a figure without an interval, as the hot state's,
+// is judged on its value). The reason is "" unless a guarded limit fails or
+// is inconclusive.
 func judgeLimit(c limitCheck, guarded bool) (LimitVerdict, string) {
 	lv := LimitVerdict{Figure: c.fig, Value: c.value, Bound: "min", Limit: c.limit}
 	if c.upper {
@@ -151,6 +190,9 @@ func judgeLimit(c limitCheck, guarded bool) (LimitVerdict, string) {
 		lv.Result = ResultFail
 	}
 	if c.fu == nil {
+		if guarded && lv.Result == ResultFail {
+			return lv, fmt.Sprintf("%s %s%s lies beyond the %s %s%s (no uncertainty evaluated: judged on the value)", c.fig, fmtNum(c.value), c.unit, lv.Bound, fmtNum(c.limit), c.unit)
+		}
 		return lv, ""
 	}
 	lo, hi := roundSig(c.fu.Low*c.scale, 6), roundSig(c.fu.High*c.scale, 6)
@@ -180,6 +222,9 @@ func judgeRocking(p *PoseReport, u *UncertaintyReport, guarded bool) (LimitVerdi
 	lv := LimitVerdict{Figure: "rocks", Bound: "max", Limit: 0, Value: 0, Result: ResultPass}
 	if p.Rocks {
 		lv.Value, lv.Result = 1, ResultFail
+	}
+	if u == nil && guarded && p.Rocks {
+		return lv, "the pan rocks (no uncertainty evaluated: judged on the value): " + rockWords(p)
 	}
 	if u == nil || !guarded {
 		return lv, ""

@@ -207,7 +207,8 @@ func DefaultJob() Job {
 		Hot:        HotJob{ScanC: 20, Edge: "free", ToleranceUM: 1, MaxIterations: DefaultHotMaxIter, Verdict: "both"},
 		Uncertainty: UncertaintyJob{Mode: "off", Decision: "guarded", Seed: 1, NoiseFactor: 1, RadiusMM: 0.03,
 			PanSqPct: 30, HobSqPct: 30, SlopePct: 40, MicrohardnessPct: 20, Accommodation: 0.1,
-			ConductivityPct: 5, ThicknessMM: 0.05, PanEmissivity: 0.05, HobEmissivity: 0.05},
+			ConductivityPct: 5, ThicknessMM: 0.05, PanEmissivity: 0.05, HobEmissivity: 0.05,
+			GridPlacement: true}, // hob settings and placement: the reference condition (0); see jobdoc
 	}
 }
 

@@ -339,15 +339,15 @@ func hotKeys() []keySpec {
 // rule, in file order.
 func uncertaintyKeys() []keySpec {
 	return []keySpec{
-		{key: "uncertainty.mode", doc: "Monte Carlo evaluation of the headline figures' uncertainty (JCGM 101): \"off\", \"fast\" (at most 40 trials) or \"full\" (at most 200 trials); each trial re-runs the chain from the form filter (a noise draw) and from the interface (the property draws)",
-			oneOf: []string{"off", "fast", "full"}, src: "ours: off by default, a trial costs about one analysis without its sensitivity table"},
+		{key: "uncertainty.mode", doc: "Monte Carlo evaluation of the headline figures' uncertainty (JCGM 101): \"off\", \"fast\" (at most 40 trials) or \"full\" (at most 200 trials); each trial draws every input, filters the noisy scan again and re-runs the chain from the pose on, on a grid of trial_coarsen analysis cells",
+			oneOf: []string{"off", "fast", "full"}, src: "ours: off by default; fast costs several analyses per scan (the README gives the measured cost)"},
 		{key: "uncertainty.decision", doc: "decision rule of the verdict when the uncertainty is evaluated: \"guarded\" acceptance (pass only when the 95 % interval lies inside the limits, fail only when it lies outside, else inconclusive; ISO 14253-1, ILAC-G8) or \"simple\" acceptance (the measured value against the limits)",
 			oneOf: []string{"guarded", "simple"}, src: "ours: guarded acceptance, the conservative reading of ISO 14253-1"},
 		{key: "uncertainty.seed", doc: "seed of the trials' random numbers (PCG), so that reports stay byte-identical", lo: 0, hi: 1 << 53,
 			why: "our bound: any integer a float64 holds exactly"},
 		{key: "uncertainty.max_trials", doc: "cap on the Monte Carlo trials", lo: 20, hi: 10000, zero: "by the mode: 40 (fast), 200 (full)",
 			why: "our bound: two batches of 10 at least; 10 000 trials is hours per scan"},
-		{key: "uncertainty.noise_factor", doc: "scanner noise of a trial, as a multiple of the form filter's residual RMS (geometry.noise_um): Gaussian noise of that RMS is added to every measured cell of the raw grid, which is filtered again", lo: 0, hi: 10, zero: "no noise draws",
+		{key: "uncertainty.noise_factor", doc: "scanner noise of a trial, as a multiple of the form filter's residual RMS (geometry.noise_um): each trial draws Gaussian noise of that RMS onto the form-filtered heights of the measured cells (a parametric bootstrap) and filters again", lo: 0, hi: 10, zero: "no noise draws",
 			why: "our bound", src: "ours: 1, the residual RMS is the re-scan scatter of a cell (it also holds real fine texture, so it errs high)"},
 		{key: "uncertainty.radius_mm", doc: "standard deviation of the normal distribution of the base radius from the rim circle fit (concavity goes as the radius squared); a trial measures the form on the drawn disc", unit: "mm", lo: 0, hi: 5, zero: "the input is exact",
 			why: "our bound", src: "ours: 0.03 mm, the scatter of the fitted radius over eight synthetic re-scans of a 160 mm base at 1 mm spacing (±0.04 mm, uncertainty_rescan_test.go)"},
@@ -369,6 +369,18 @@ func uncertaintyKeys() []keySpec {
 			why: "physical: a fraction", src: "ours: ±0.05, bare aluminium runs 0.05 to 0.3 as it oxidises (from memory)"},
 		{key: "uncertainty.hob_emissivity", doc: "half-width of the rectangular distribution of the hob top's emissivity, kept in (0, 1]", lo: 0, hi: 0.5, zero: "the input is exact",
 			why: "physical: a fraction", src: "the material library's glass-ceramic entry, 0.90 ± 0.05 (estimate from glass tables), taken as a rectangular half-width"},
+		{key: "uncertainty.limiter_k", doc: "standard deviation of the normal distribution of the limiter (regulator) setting: hob.limiter_c in heater mode, hob.temperature_c in solid-plate mode", unit: "K", lo: 0, hi: 100, zero: "the input is exact",
+			why: "our bound", src: "ours: 0, the job's hob is the reference condition of the figures (set it, e.g. 15 K, to see how the loss varies from hob to hob; a rod limiter's switching point scatters by some tens of kelvin from unit to unit, from memory)"},
+		{key: "uncertainty.glass_tau", doc: "half-width of the rectangular distribution of hob.glass_tau (heater mode), kept in [0, 0.99]", lo: 0, hi: 0.5, zero: "the input is exact",
+			why: "physical: a fraction", src: "ours: 0, the reference condition (tint and make of glass-ceramic tops differ in their near-infrared window by some ±0.05, our estimate)"},
+		{key: "uncertainty.power_pct", doc: "half-width of the rectangular distribution of the rated power (hob.heater_power_w, and rated_power_density_kw_m2 in temperature mode with power_limited), % of its value", unit: "%", lo: 0, hi: 50, zero: "the input is exact",
+			why: "our bound", src: "ours: 0, the reference condition (IEC 60335-1 §10.1 lets a heating appliance's power input deviate from its rating by +5 % / −10 %, from memory)"},
+		{key: "uncertainty.placement_mm", doc: "radius of the disc on which the pan's centre is drawn (uniformly) about pan.offset_mm, the pan set down on the zone by hand; drawn only on a flat hob top (a hob scan or profile would have to be placed again)", unit: "mm", lo: 0, hi: 50, zero: "the input is exact",
+			why: "our bound: beyond it the pan leaves the zone", src: "ours: 0, the figures are for a centred pan (a pan centred by eye on a marked zone sits within some 5 mm; an off-centre pan always loses more, so this draw widens the interval upwards only)"},
+		{key: "uncertainty.grid_placement", doc: "draw the trials' grid placement: each trial's coarse grid is one of the trial_coarsen² placements of its blocks on the analysis grid (a shift of whole analysis cells); nothing with trials on the analysis grid",
+			src: "ours: on; the spread it adds is the coarse grid's, which errs high"},
+		{key: "uncertainty.trial_coarsen", doc: "cell of the trials' grid from the pose on, in analysis cells (a coarse cell takes the lowest height of its block); each chain figure of a trial is shifted by the analysis's value less the coarse nominal runs' mean, or scaled by their ratio (contact area, rock, tip force); the form figures stay on the analysis grid", lo: 1, hi: 4, zero: "2",
+			why: "our bound: at 4 a 1 mm cell becomes 4 mm, the contact patches' scale", src: "ours: 2 cuts the cells 4-fold; TestCoarseTrialsUnbiased bounds the bias left"},
 	}
 }
 

@@ -37,6 +37,7 @@ type SurfaceInput struct {
 	// gate. Warm holds nominal solutions the trial's solves start from.
 	Trial bool
 	Warm  *warmStart
+	Flat  *flatReuse // the flat twin's solves a trial reuses (nil: none)
 	gate  *gate
 	// solvers, when set, are the solvers (work buffers) of the scan's and
 	// the flat twin's solves, kept from one trial to the next so that a

@@ -10,7 +10,6 @@ import (
 
 	"gapflux/contact"
 	"gapflux/scan"
-	"gapflux/thermal"
 )
 
 // UncertaintyJob sets the Monte Carlo evaluation of the headline figures'
@@ -33,6 +32,12 @@ type UncertaintyJob struct {
 	ThicknessMM      float64 `toml:"thickness_mm"`      // normal standard deviation of the hob-side layer's thickness
 	PanEmissivity    float64 `toml:"pan_emissivity"`    // rectangular half-width
 	HobEmissivity    float64 `toml:"hob_emissivity"`    // rectangular half-width
+	LimiterK         float64 `toml:"limiter_k"`         // normal standard deviation of the limiter (regulator) setting, K
+	GlassTau         float64 `toml:"glass_tau"`         // rectangular half-width of hob.glass_tau
+	PowerPct         float64 `toml:"power_pct"`         // rectangular half-width, % of the rated power
+	PlacementMM      float64 `toml:"placement_mm"`      // radius of the uniform disc of the pan's centre about pan.offset_mm
+	GridPlacement    bool    `toml:"grid_placement"`    // draw the coarse grid's placement on the analysis grid
+	TrialCoarsen     int     `toml:"trial_coarsen"`     // cell of the trials' grid, in analysis cells; 0 = mcCoarsen
 }
 
 // Monte Carlo settings (JCGM 101 §7.9, adapted: see adaptiveStable).
@@ -86,6 +91,7 @@ type FigureUncertainty struct {
 	Trials    int     `json:"trials"`
 	Tolerance float64 `json:"tolerance"`
 	Converged bool    `json:"converged"`
+	mean      float64 // mean of the trials (tests)
 }
 
 // UncertaintyInput is one input quantity of the trials and its
@@ -212,6 +218,7 @@ func mcInputs(job Job, lib []contact.Material, radiusM float64) ([]mcInput, erro
 		func(j *Job, _ []contact.Material, v float64) { j.Pan.Emissivity = clamp(v, 0.01, 1) })
 	add("hob.emissivity", "uncertainty.hob_emissivity", "", true, orMaterial(job.Hob.Emissivity, hobMat.Emissivity), uj.HobEmissivity,
 		func(j *Job, _ []contact.Material, v float64) { j.Hob.Emissivity = clamp(v, 0.01, 1) })
+	addHobSettings(job, add)
 	add("asperity slope factor", "uncertainty.slope_pct", "", true, 1, uj.SlopePct/100,
 		func(j *Job, lib []contact.Material, v float64) {
 			ip, err := interfaceParams(*j, lib)
@@ -224,6 +231,35 @@ func mcInputs(job Job, lib []contact.Material, radiusM float64) ([]mcInput, erro
 	return out, nil
 }
 
+// addHobSettings adds the hob settings that drive the heat in the job's
+// mode (as sensitivityCases moves them): the limiter (regulator) setting
+// in heater and solid-plate modes, the glass window's transmittance in
+// heater mode, and the rated power wherever it limits the heat (heater and
+// solid-plate modes, and temperature mode with hob.power_limited).
+func addHobSettings(job Job, add func(name, key, unit string, rect bool, nominal, width float64, apply func(*Job, []contact.Material, float64))) {
+	uj, h := job.Uncertainty, job.Hob
+	switch h.Mode {
+	case "heater":
+		add("hob.limiter_c", "uncertainty.limiter_k", "°C", false, h.LimiterC, uj.LimiterK,
+			func(j *Job, _ []contact.Material, v float64) { j.Hob.LimiterC = math.Max(v, j.Hob.RoomC+1) })
+		add("hob.glass_tau", "uncertainty.glass_tau", "", true, h.GlassTau, uj.GlassTau,
+			func(j *Job, _ []contact.Material, v float64) { j.Hob.GlassTau = clamp(v, 0, 0.99) })
+	case "solid-plate":
+		add("hob.temperature_c", "uncertainty.limiter_k", "°C", false, h.TemperatureC, uj.LimiterK,
+			func(j *Job, _ []contact.Material, v float64) { j.Hob.TemperatureC = math.Max(v, j.Hob.RoomC+1) })
+	case "temperature":
+		if !h.PowerLimited {
+			return
+		}
+	}
+	add("rated power factor", "uncertainty.power_pct", "", true, 1, uj.PowerPct/100,
+		func(j *Job, _ []contact.Material, v float64) {
+			v = math.Max(v, 0.1)
+			j.Hob.HeaterPowerW *= v
+			j.Hob.RatedPowerDensityKW *= v
+		})
+}
+
 // perturbed returns a copy of job and lib with the inputs at values x.
 func perturbed(job Job, lib []contact.Material, inputs []mcInput, x []float64) (Job, []contact.Material) {
 	lib = slices.Clone(lib)
@@ -231,67 +267,6 @@ func perturbed(job Job, lib []contact.Material, inputs []mcInput, x []float64) (
 		inputs[i].apply(&job, lib, x[i])
 	}
 	return job, lib
-}
-
-// trialRunner re-runs the chain for the trials.
-type trialRunner struct {
-	in      SurfaceInput
-	solvers [2]thermal.Solver // the trials' plate solvers, reused from trial to trial
-	raw     *scan.Surface
-	form    *scan.Surface // the nominal form-filtered surface (unpadded)
-	fopt    scan.FilterOptions
-	inputs  []mcInput
-	sigmaM  float64 // noise RMS of a trial, m
-	nominal [nFig]float64
-}
-
-// run evaluates the figures at property values x, with noise added to the
-// measured cells of the raw grid (nil: the nominal form surface).
-func (t *trialRunner) run(ctx context.Context, x, noise []float64) ([nFig]float64, error) {
-	y := t.nominal
-	in := t.in
-	for i, m := range t.inputs {
-		if m.Key == "uncertainty.radius_mm" {
-			in.RadiusM = math.Max(x[i], 1) / 1e3
-		}
-	}
-	surf := t.form
-	if noise != nil {
-		r := t.raw.Clone()
-		n := 0
-		for k, s := range r.State {
-			if s == scan.Measured {
-				r.ZM[k] += noise[n]
-				n++
-			}
-		}
-		f, err := scan.Filter(r, t.fopt)
-		if err != nil {
-			return y, fmt.Errorf("form filter: %w", err)
-		}
-		surf = f.Form
-		in.Surf = surf
-		if in.Heater {
-			if in.Surf, err = padSurface(surf, in.padHalfM(), in.Job.Limits.MaxCells); err != nil {
-				return y, err
-			}
-		}
-	}
-	if noise != nil || in.RadiusM != t.in.RadiusM {
-		form, err := scan.MeasureForm(surf, in.RadiusM)
-		if err != nil {
-			return y, fmt.Errorf("form: %w", err)
-		}
-		y[figConcavity], y[figFlatness] = form.ConcavityM*1e3, form.FlatnessMZM*1e3
-	}
-	in.Job, in.Lib = perturbed(in.Job, in.Lib, t.inputs, x)
-	in.Trial, in.gate, in.solvers = true, nil, &t.solvers
-	rep := &Report{}
-	res := &Result{Report: rep}
-	if _, err := analyzeSurface(ctx, in, rep, res); err != nil {
-		return y, err
-	}
-	return figuresOf(y, res), nil
 }
 
 // figuresOf fills the chain's figures of res into y (the form figures stay).
@@ -314,10 +289,11 @@ func figuresOf(y [nFig]float64, res *Result) [nFig]float64 {
 }
 
 // evaluateUncertainty runs the Monte Carlo trials on the nominal analysis
-// res (JCGM 101 §7): each trial draws every property input from its
-// distribution and, when uncertainty.noise_factor > 0, new scanner noise,
-// and re-runs the chain from the filter (noise) or the interface (only
-// properties). Batches of mcBatch trials run until every figure is stable
+// res (JCGM 101 §7): each trial draws every property and hob-setting
+// input from its distribution, new scanner noise (when
+// uncertainty.noise_factor > 0), the coarse grid's placement and the pan's
+// placement, and re-runs the chain on the coarse grid (trialRunner).
+// Batches of mcBatch trials run until every figure is stable
 // to its numerical tolerance (adaptiveStable) or the cap is reached.
 // The budget comes from one-at-a-time sensitivity coefficients (budget).
 func evaluateUncertainty(ctx context.Context, in SurfaceInput, raw *scan.Surface, filt *scan.FilterResult, res *Result) (*UncertaintyReport, error) {
@@ -326,15 +302,10 @@ func evaluateUncertainty(ctx context.Context, in SurfaceInput, raw *scan.Surface
 	if err != nil {
 		return nil, err
 	}
-	in.Warm = &warmStart{Scan: res.Scan, Flat: res.Flat}
-	t := &trialRunner{in: in, raw: raw, form: filt.Form, inputs: inputs, sigmaM: uj.NoiseFactor * filt.NoiseM,
-		fopt: scan.FilterOptions{CutoffM: in.Job.Grid.CutoffMM / 1e3, Method: scan.FilterMethod(in.Job.Grid.Filter)}}
-	form, err := scan.MeasureForm(filt.Form, in.RadiusM)
+	t, err := newTrialRunner(ctx, in, raw, filt, res, inputs)
 	if err != nil {
 		return nil, err
 	}
-	t.nominal[figConcavity], t.nominal[figFlatness] = form.ConcavityM*1e3, form.FlatnessMZM*1e3
-	t.nominal = figuresOf(t.nominal, res)
 
 	maxTrials := uj.MaxTrials
 	if maxTrials == 0 {
@@ -348,14 +319,7 @@ func evaluateUncertainty(ctx context.Context, in SurfaceInput, raw *scan.Surface
 	}
 	rng := rand.New(rand.NewPCG(uint64(uj.Seed), mcStream))
 	ys, xs, converged, delta, err := monteCarlo(ctx, rng, inputs, maxTrials, func(x []float64) ([nFig]float64, error) {
-		var noise []float64
-		if t.sigmaM > 0 {
-			noise = make([]float64, measured)
-			for i := range noise {
-				noise[i] = t.sigmaM * rng.NormFloat64()
-			}
-		}
-		return t.run(ctx, x, noise)
+		return t.run(ctx, x, t.drawTrial(rng, measured))
 	})
 	if err != nil {
 		return nil, err
@@ -365,11 +329,11 @@ func evaluateUncertainty(ctx context.Context, in SurfaceInput, raw *scan.Surface
 			len(ys), mcBatch, mcDigits, uj.Seed),
 		Mode: uj.Mode, Seed: uj.Seed, Trials: len(ys), MaxTrials: maxTrials, Converged: converged,
 		Notes: []string{
-			fmt.Sprintf("scanner noise: Gaussian, RMS %.3g µm (uncertainty.noise_factor × the form filter's residual RMS) added to every measured cell of the raw grid, which is filtered again; filled cells keep their interpolated heights", t.sigmaM*1e6),
-			"property draws re-run the chain from the interface on (pose, gap, interface, plate solves, rings, heat-up); trials start their solves from the nominal solutions and use the same thermal grid as the nominal analysis (no coarsening)",
-			"the base radius draw re-measures the form on the drawn disc and carries the radius into the heat-up; grid placement, the pan's placement on the zone and the hob settings are not yet drawn",
+			fmt.Sprintf("scanner noise: Gaussian, RMS %.3g µm (uncertainty.noise_factor × the form filter's residual RMS) drawn onto the form-filtered height of every measured cell (a parametric bootstrap: the form stands for the true surface), which is filtered again; filled cells keep their interpolated heights", t.sigmaM*1e6),
+			"the base radius draw re-measures the form on the drawn disc and carries the radius into the heat-up",
 		},
 	}
+	ur.Notes = append(ur.Notes, t.notes()...)
 	for _, m := range inputs {
 		ur.Inputs = append(ur.Inputs, m.UncertaintyInput)
 	}
@@ -439,12 +403,12 @@ func figureStats(ys [][nFig]float64, j int, nominal, delta float64) *FigureUncer
 	if len(v) < 2 || math.IsNaN(nominal) {
 		return nil
 	}
-	_, u := meanStd(v)
+	mean, u := meanStd(v)
 	slices.Sort(v)
 	lo, hi := coverageInterval(v, mcCoverage)
 	sig := func(x float64) float64 { return roundSig(x, 6) }
 	return &FigureUncertainty{Value: sig(nominal), U: sig(u), Low: sig(lo), High: sig(hi), Trials: len(v),
-		Tolerance: sig(math.Abs(delta)), Converged: delta >= 0}
+		Tolerance: sig(math.Abs(delta)), Converged: delta >= 0, mean: mean}
 }
 
 // coverageInterval returns the probabilistically symmetric coverage
@@ -527,26 +491,26 @@ func adaptiveStable(ys [][nFig]float64, h int) (bool, [nFig]float64) {
 
 // budget apportions the variance of loss_pct and concavity_mm. For each
 // property input, a one-at-a-time run with the input moved by its standard
-// uncertainty u_i (the others nominal, no noise) gives the sensitivity
+// uncertainty u_i (the others nominal, no noise, the coarse grid centred,
+// the pan in place) gives the sensitivity
 // coefficient c_i = Δy/u_i (JCGM 100 §5.1.3, by finite difference). The
-// scanner noise, which is no scalar, gets the variance of the trials left
-// after subtracting the linear property terms c_i·(x_i − x_i,0): it also
-// holds whatever non-linearity there is, and says so in its name. Shares
+// scanner noise and the placements, which are no scalars of the list, get
+// the variance of the trials left after subtracting the linear property
+// terms c_i·(x_i − x_i,0): it also holds whatever non-linearity there is,
+// and says so in its name. Shares
 // are of the sum of the terms' variances.
 func budget(ctx context.Context, t *trialRunner, xs [][]float64, ys [][nFig]float64) (*UncertaintyBudget, error) {
-	x0 := make([]float64, len(t.inputs))
-	for i, m := range t.inputs {
-		x0[i] = m.Nominal
-	}
-	y0, err := t.run(ctx, x0, nil)
-	if err != nil {
-		return nil, fmt.Errorf("budget: nominal run: %w", err)
+	x0 := nominalInputs(t.inputs)
+	centre := trialDraw{phase: t.centre}
+	y0 := t.phases[t.centre].nominal
+	for j := range nFig {
+		y0[j] = y0[j]*t.scale[j] + t.corr[j]
 	}
 	c := make([][nFig]float64, len(t.inputs))
 	for i, m := range t.inputs {
 		x := slices.Clone(x0)
 		x[i] += m.U
-		y, err := t.run(ctx, x, nil)
+		y, err := t.run(ctx, x, centre)
 		if err != nil {
 			return nil, fmt.Errorf("budget: %s: %w", m.Name, err)
 		}
@@ -554,7 +518,7 @@ func budget(ctx context.Context, t *trialRunner, xs [][]float64, ys [][nFig]floa
 			c[i][j] = (y[j] - y0[j]) / m.U
 		}
 	}
-	b := &UncertaintyBudget{Method: "one-at-a-time sensitivity coefficients c_i = Δy/u_i (each input moved by its standard uncertainty, the others nominal); scanner noise and non-linearity: the variance of the trials left after the linear property terms"}
+	b := &UncertaintyBudget{Method: "one-at-a-time sensitivity coefficients c_i = Δy/u_i (each input moved by its standard uncertainty, the others nominal); scanner noise, placements and non-linearity: the variance of the trials left after the linear property terms"}
 	lines := func(j int) []BudgetLine {
 		var out []BudgetLine
 		var vars []float64
@@ -570,7 +534,7 @@ func budget(ctx context.Context, t *trialRunner, xs [][]float64, ys [][nFig]floa
 			}
 		}
 		_, un := meanStd(resid)
-		out = append(out, BudgetLine{Input: "scanner noise and non-linearity", Contrib: un})
+		out = append(out, BudgetLine{Input: "scanner noise, placements and non-linearity", Contrib: un})
 		vars = append(vars, un*un)
 		tot := 0.0
 		for _, v := range vars {

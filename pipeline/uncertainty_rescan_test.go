@@ -6,13 +6,15 @@ import (
 	"fmt"
 	"math"
 	"path/filepath"
+	"slices"
 	"testing"
 
 	"gapflux/scan/synth"
 )
 
 // rescanJob is a cheap job for the re-scan tests: temperature mode (no
-// glass grid), 1 mm cells, noise draws only (every property exact).
+// glass grid), 1 mm cells, noise, radius and grid placement draws only
+// (every property, hob setting and the pan's placement exact).
 func rescanJob() Job {
 	job := DefaultJob()
 	job.Hob.Mode = "temperature"
@@ -21,6 +23,7 @@ func rescanJob() Job {
 	u.Mode, u.MaxTrials = "fast", 20
 	u.PanSqPct, u.HobSqPct, u.SlopePct, u.MicrohardnessPct, u.Accommodation = 0, 0, 0, 0, 0
 	u.ConductivityPct, u.ThicknessMM, u.PanEmissivity, u.HobEmissivity = 0, 0, 0, 0
+	u.LimiterK, u.GlassTau, u.PowerPct, u.PlacementMM = 0, 0, 0, 0
 	return job
 }
 
@@ -120,5 +123,71 @@ func BenchmarkUncertainty(b *testing.B) {
 			}
 			b.ReportMetric(float64(trials)/float64(b.N), "trials/scan")
 		})
+	}
+}
+
+// TestUncertaintyRescansCover: with the property uncertainties on (the
+// interface, material and emissivity inputs at their default widths), each
+// of 8 re-scans' 95 % interval of loss_pct contains the median of the
+// other seven (issue 10). Heater mode (the default job), 1 mm cells, 20
+// trials on the coarse grid: about 27 s of CPU, skipped with -short.
+//
+// Left out, with the reason: concavity_mm, which no property moves (its
+// interval is the noise-only one, whose width TestUncertaintyRescans
+// checks; a calibrated 95 % interval misses the median of seven others
+// about 8 % of the time, so "all 8" would hold about half the time); the
+// re-drawn scanner noise, the placements and the hob settings. With those
+// drawn, the nominal loss sits at or just below the low end of its own
+// interval (measured: 6 of 8 re-scans miss, by up to 0.13 points): noise
+// added to a scan that already carries it gives trials of √2 times the
+// noise, whose loss is higher (fewer contact cells); a centred pan loses
+// least, so every placement draw raises the loss; and the default heater
+// sits just below its limiter, so only a lower limiter draw moves it.
+func TestUncertaintyRescansCover(t *testing.T) {
+	if testing.Short() {
+		t.Skip("8 analyses with Monte Carlo trials: about 40 s")
+	}
+	dir := t.TempDir()
+	job := DefaultJob()
+	job.Grid.CellMM = 1
+	u := &job.Uncertainty
+	u.Mode, u.MaxTrials = "fast", 20
+	// The default draws: scanner noise (a parametric bootstrap on the form),
+	// the rim radius and the material and surface properties; the hob
+	// settings and the placement are the reference condition (0).
+	figs := []string{"loss_pct", "flatness_mz_mm"}
+	var reps [8]*UncertaintyReport
+	for i := range reps {
+		path := rescan(t, dir, i)
+		res, err := Analyze(context.Background(), ScanInput{PanPath: path, Name: filepath.Base(path), Job: job})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if reps[i] = res.Report.Uncertainty; reps[i] == nil || reps[i].ConcavityMM == nil || reps[i].LossPct == nil {
+			t.Fatalf("scan %d: no uncertainty section", i)
+		}
+	}
+	for _, name := range figs {
+		fig := func(u *UncertaintyReport) *FigureUncertainty {
+			if name == "loss_pct" {
+				return u.LossPct
+			}
+			return u.FlatnessMZMM
+		}
+		for i, u := range reps {
+			var others []float64
+			for j, v := range reps {
+				if j != i {
+					others = append(others, fig(v).Value)
+				}
+			}
+			slices.Sort(others)
+			med := others[len(others)/2] // 7 values: the 4th
+			f := fig(u)
+			t.Logf("%s re-scan %d: %.5g [%.5g, %.5g] (midpoint %+.3g from the value), median of the others %.5g", name, i, f.Value, f.Low, f.High, (f.Low+f.High)/2-f.Value, med)
+			if med < f.Low || med > f.High {
+				t.Errorf("%s re-scan %d: 95 %% interval [%.5g, %.5g] misses the median of the others %.5g", name, i, f.Low, f.High, med)
+			}
+		}
 	}
 }
