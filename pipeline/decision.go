@@ -200,13 +200,16 @@ func judgeLimit(c limitCheck, guarded bool) (LimitVerdict, string) {
 	if !guarded {
 		return lv, ""
 	}
+	// The reason prints the value and its interval as the summary does: to
+	// the decimal place of two significant digits of U = 2u.
+	dec := expandedDecimals(2 * c.fu.U * c.scale)
 	switch {
 	case bad(lo) && bad(hi):
 		lv.Result = ResultFail
-		return lv, fmt.Sprintf("%s %s%s: its 95 %% interval [%s, %s] lies beyond the %s %s%s", c.fig, fmtNum(c.value), c.unit, fmtNum(lo), fmtNum(hi), lv.Bound, fmtNum(c.limit), c.unit)
+		return lv, fmt.Sprintf("%s %.*f%s: its 95 %% interval [%.*f, %.*f] lies beyond the %s %s%s", c.fig, dec, c.value, c.unit, dec, lo, dec, hi, lv.Bound, fmtNum(c.limit), c.unit)
 	case bad(lo) || bad(hi):
 		lv.Result = ResultInconclusive
-		return lv, fmt.Sprintf("%s %s%s: its 95 %% interval [%s, %s] straddles the %s %s%s (inconclusive)", c.fig, fmtNum(c.value), c.unit, fmtNum(lo), fmtNum(hi), lv.Bound, fmtNum(c.limit), c.unit)
+		return lv, fmt.Sprintf("%s %.*f%s: its 95 %% interval [%.*f, %.*f] straddles the %s %s%s (inconclusive)", c.fig, dec, c.value, c.unit, dec, lo, dec, hi, lv.Bound, fmtNum(c.limit), c.unit)
 	default:
 		lv.Result = ResultPass
 		return lv, ""

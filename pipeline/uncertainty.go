@@ -552,6 +552,16 @@ func budget(ctx context.Context, t *trialRunner, xs [][]float64, ys [][nFig]floa
 	return b, nil
 }
 
+// expandedDecimals returns the decimal places that give the expanded
+// uncertainty U two significant digits (0 when U is 0 or 10 and above); a
+// value and its interval are printed to the same place (JCGM 100 §7.2.6).
+func expandedDecimals(U float64) int {
+	if !(U > 0) || math.IsInf(U, 0) {
+		return 0
+	}
+	return max(0, 1-int(math.Floor(math.Log10(U))))
+}
+
 // uncertaintyText gives the summary's lines of the uncertainty section:
 // each figure as value ± U with U = 2u (coverage factor k = 2), U to two
 // significant digits and the value to the same decimal place, and the
@@ -571,10 +581,7 @@ func uncertaintyText(u *UncertaintyReport) string {
 			continue
 		}
 		U := 2 * f.f.U
-		dec := 0
-		if U > 0 {
-			dec = max(0, 1-int(math.Floor(math.Log10(U))))
-		}
+		dec := expandedDecimals(U)
 		fmt.Fprintf(&b, "    %s %.*f ± %.*f %s [%.*f, %.*f]\n", f.name, dec, f.f.Value, dec, U, f.unit, dec, f.f.Low, dec, f.f.High)
 	}
 	if !u.Converged {

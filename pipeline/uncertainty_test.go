@@ -149,3 +149,18 @@ func TestUncertaintyText(t *testing.T) {
 		t.Error("no section should print nothing")
 	}
 }
+
+// TestDecisionReasonDigits: a guarded reason prints the value and its
+// interval to the decimal place of two significant digits of U, as the
+// summary does (JCGM 100 §7.2.6), not to six digits.
+func TestDecisionReasonDigits(t *testing.T) {
+	job := DefaultJob()
+	job.Tolerances.LossMaxPct = 10
+	rep := &Report{Heat: &HeatReport{LossPct: 8.649},
+		Uncertainty: &UncertaintyReport{LossPct: &FigureUncertainty{Value: 8.649, U: 1.1, Low: 6.43389, High: 10.3427}}}
+	v := decide(job, rep)
+	want := "loss_pct 8.6 %: its 95 % interval [6.4, 10.3] straddles the max 10 % (inconclusive)"
+	if len(v.Reasons) != 1 || v.Reasons[0] != want {
+		t.Errorf("reasons %q, want [%q]", v.Reasons, want)
+	}
+}

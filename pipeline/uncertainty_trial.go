@@ -65,6 +65,32 @@ type trialRunner struct {
 	placeM    float64       // radius of the pan's placement disc, m (0: not drawn)
 	flatHob   bool          // the hob top is flat: it is rebuilt on every trial's grid
 	flatReuse map[string]*flatReuse
+
+	// concavityCorrMM is added to the concavity of every noise trial: the
+	// nominal concavity less that of the form filtered a second time
+	// without noise (refilterBias), mm.
+	concavityCorrMM float64
+}
+
+// refilterBias returns the concavity the form filter takes off when it
+// filters the nominal form a second time, as a noise trial does (form plus
+// new noise, filtered again), in mm, measured on the disc of radius
+// radiusM: the nominal concavity less the twice-filtered one. Concavity is
+// linear in the heights, so this shift alone centres the trials on the
+// measured value (a 180 mm dish: −0.0004 mm, 1.5 u, before). Flatness is
+// not shifted: it grows with the noise, and the once-filtered form holds
+// the scan's own filtered noise, which the trials must not count twice.
+func (t *trialRunner) refilterBias(radiusM float64) (float64, error) {
+	zero := make([]float64, len(t.raw.State))
+	f, err := scan.Filter(t.noisyForm(zero), t.fopt)
+	if err != nil {
+		return 0, fmt.Errorf("form filter: %w", err)
+	}
+	form, err := scan.MeasureForm(f.Form, radiusM)
+	if err != nil {
+		return 0, fmt.Errorf("form: %w", err)
+	}
+	return t.nominal[figConcavity] - form.ConcavityM*1e3, nil
 }
 
 // newTrialRunner prepares the trials of the nominal analysis res: the
@@ -84,6 +110,11 @@ func newTrialRunner(ctx context.Context, in SurfaceInput, raw *scan.Surface, fil
 	}
 	t.nominal[figConcavity], t.nominal[figFlatness] = form.ConcavityM*1e3, form.FlatnessMZM*1e3
 	t.nominal = figuresOf(t.nominal, res)
+	if t.sigmaM > 0 {
+		if t.concavityCorrMM, err = t.refilterBias(in.RadiusM); err != nil {
+			return nil, err
+		}
+	}
 
 	o := t.f / 2
 	t.phases = []coarsePhase{{ox: o, oy: o}}
@@ -245,6 +276,9 @@ func (t *trialRunner) chain(ctx context.Context, x []float64, d trialDraw) ([nFi
 			return y, nil, fmt.Errorf("form: %w", err)
 		}
 		y[figConcavity], y[figFlatness] = form.ConcavityM*1e3, form.FlatnessMZM*1e3
+		if d.noise != nil {
+			y[figConcavity] += t.concavityCorrMM
+		}
 	}
 	ph := t.phases[d.phase]
 	cs := decimate(surf, t.f, ph.ox, ph.oy)
