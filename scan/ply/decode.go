@@ -2,6 +2,7 @@ package ply
 
 import (
 	"gapflux/internal/decimal"
+	"gapflux/internal/parallel"
 
 	"bufio"
 	"bytes"
@@ -10,7 +11,6 @@ import (
 	"io"
 	"math"
 	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -605,23 +605,11 @@ func decodeFloatRecords(pts, nrm []r3.Vec, b []byte, rec int, off []int, f32, bi
 		}
 		return bad
 	}
-	if parts == 1 {
-		return one(0, n)
-	}
-	bad := make([]int, parts)
-	var wg sync.WaitGroup
-	for t := range parts {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			bad[t] = one(t*n/parts, (t+1)*n/parts)
-		}()
-	}
-	wg.Wait()
-	for _, v := range bad {
-		if v > 0 {
-			return v // the first in file order
-		}
+	if v, ok := parallel.First(n, parts, func(r0, r1 int) (int, bool) {
+		bad := one(r0, r1)
+		return bad, bad > 0
+	}); ok {
+		return v // the first in file order
 	}
 	return 0
 }

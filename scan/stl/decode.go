@@ -5,10 +5,10 @@ import (
 	"bytes"
 	"encoding/binary"
 	"fmt"
+	"gapflux/internal/parallel"
 	"io"
 	"math"
 	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -249,23 +249,11 @@ func fillFacetsParallel(ns, verts []r3.Vec, hash []uint64, b []byte) int {
 		}
 		return bad
 	}
-	if parts == 1 {
-		return part(0, k)
-	}
-	bad := make([]int, parts)
-	var wg sync.WaitGroup
-	for t := range parts {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			bad[t] = part(t*k/parts, (t+1)*k/parts)
-		}()
-	}
-	wg.Wait()
-	for _, v := range bad {
-		if v >= 0 {
-			return v // the first in file order
-		}
+	if v, ok := parallel.First(k, parts, func(f0, f1 int) (int, bool) {
+		bad := part(f0, f1)
+		return bad, bad >= 0
+	}); ok {
+		return v // the first in file order
 	}
 	return -1
 }
