@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"errors"
+	"fmt"
 	"image"
 	"image/png"
 	"io"
@@ -67,6 +68,8 @@ func scanPageView(res *Result, pics map[string][]byte) *html.ScanPage {
 		p.Status, p.Headline = "none", "NO VERDICT"
 	case v.Pass:
 		p.Status, p.Headline = "pass", "PASS"
+	case v.Result == ResultInconclusive:
+		p.Status, p.Headline, p.Reasons = "inconclusive", "INCONCLUSIVE", v.Reasons
 	default:
 		p.Status, p.Headline, p.Reasons = "fail", "FAIL", v.Reasons
 	}
@@ -77,6 +80,7 @@ func scanPageView(res *Result, pics map[string][]byte) *html.ScanPage {
 		}
 	}
 	p.Sections = figureSections(rep, res.Job.Tolerances)
+	withUncertainty(p.Sections, rep.Uncertainty)
 	p.Pictures = pictureViews(res, pics)
 	if r := res.Raw; r != nil {
 		p.CellMap = cellMapView(res, r)
@@ -121,6 +125,36 @@ func checkView(c QualityCheck) html.Check {
 	}
 	v.Limits = strings.Join(lim, "; ")
 	return v
+}
+
+// withUncertainty adds to the note of each figure the Monte Carlo
+// evaluated (u may be nil: nothing is added) its expanded uncertainty
+// U = 2u and 95 % interval, to two significant digits of U as in the
+// printed summary.
+func withUncertainty(secs []html.Section, u *UncertaintyReport) {
+	if u == nil {
+		return
+	}
+	byLabel := map[string]*FigureUncertainty{
+		"concavity (+ dished)": u.ConcavityMM, "flatness, minimum zone": u.FlatnessMZMM,
+		"rim drop when pressed": u.RockMM, "rim press that tips it": u.TipForceN,
+		"base in contact": u.ContactAreaPct, "heating power lost": u.LossPct, "extra time": u.ExtraTimePct,
+	}
+	for i := range secs {
+		for j := range secs[i].Figures {
+			f := &secs[i].Figures[j]
+			fu := byLabel[f.Label]
+			if fu == nil || f.Unit == "" {
+				continue
+			}
+			dec := expandedDecimals(2 * fu.U)
+			w := fmt.Sprintf("± %.*f %s (U, k = 2); 95 %%: %.*f to %.*f", dec, 2*fu.U, f.Unit, dec, fu.Low, dec, fu.High)
+			if f.Note != "" {
+				w += "; " + f.Note
+			}
+			f.Note = w
+		}
+	}
 }
 
 // figureSections lists the form, pose, gap, heat and heat-up figures with
@@ -299,7 +333,7 @@ func inputsView(in ReportInput) []html.Figure {
 }
 
 // indexOrder ranks statuses for the index: failures and rejects first.
-var indexOrder = map[string]int{StatusFailed: 0, StatusRejected: 1, StatusOut: 2, StatusNotRun: 3, StatusOK: 4}
+var indexOrder = map[string]int{StatusFailed: 0, StatusRejected: 1, StatusOut: 2, StatusInconclusive: 3, StatusNotRun: 4, StatusOK: 5}
 
 // WriteIndexHTML writes out/index.html for a batch summary: one row per
 // scan (failures and rejects first, then by path), with a thumbnail of its
@@ -334,10 +368,10 @@ func indexView(out string, s *Summary) *html.IndexPage {
 		return rows[i].Path < rows[j].Path
 	})
 	p := &html.IndexPage{Title: filepath.Base(out), Columns: indexColumns, Notes: []string{
-		"failed: the analysis stopped with an error (the note says why); rejected: the data-quality gate found the scan unfit for a verdict; out-of-tolerance: analysed, outside the job's limits; not-run: the batch was interrupted first.",
+		"failed: the analysis stopped with an error (the note says why); rejected: the data-quality gate found the scan unfit for a verdict; out-of-tolerance: analysed, outside the job's limits; inconclusive: a limit lies within the 95 % interval of its figure (guarded acceptance); not-run: the batch was interrupted first.",
 		"Click a column heading to sort by it, again to reverse. Each scan's page holds its figures, maps and data-quality checks.",
 	}}
-	for _, st := range []string{StatusFailed, StatusRejected, StatusOut, StatusNotRun, StatusOK} {
+	for _, st := range []string{StatusFailed, StatusRejected, StatusOut, StatusInconclusive, StatusNotRun, StatusOK} {
 		p.Counts = append(p.Counts, html.Count{Status: st, N: s.Counts[st]})
 	}
 	cell := func(v *float64, prec int) html.Cell {

@@ -26,6 +26,7 @@ func TestIndexViewOrderLinksThumbs(t *testing.T) {
 		{Path: "b/broken.stl", Status: StatusFailed, Error: "byte 80: truncated"},
 		{Path: "a/later.stl", Status: StatusNotRun},
 		{Path: "a/aa.stl", Status: StatusFailed, Error: "x"},
+		{Path: "a/maybe.stl", Status: StatusInconclusive},
 	}
 	put := func(rel, name string, b []byte) {
 		d := ScanOutDir(out, rel)
@@ -54,8 +55,8 @@ func TestIndexViewOrderLinksThumbs(t *testing.T) {
 			t.Errorf("%s: %d cells for %d columns", r.Name, len(r.Cells), len(p.Columns))
 		}
 	}
-	wantNames := []string{"a/aa.stl", "b/broken.stl", "b/rejected.stl", "a/out #1.stl", "a/later.stl", "a/ok.stl"}
-	wantLinks := []string{"", ScansDir + "/b/broken.stl/error.json", "", ScansDir + "/a/out%20%231.stl/report.html", "", ScansDir + "/a/ok.stl/report.html"} // under OUT/scans (ScanOutDir)
+	wantNames := []string{"a/aa.stl", "b/broken.stl", "b/rejected.stl", "a/out #1.stl", "a/maybe.stl", "a/later.stl", "a/ok.stl"}
+	wantLinks := []string{"", ScansDir + "/b/broken.stl/error.json", "", ScansDir + "/a/out%20%231.stl/report.html", "", "", ScansDir + "/a/ok.stl/report.html"} // under OUT/scans (ScanOutDir)
 	if strings.Join(names, "|") != strings.Join(wantNames, "|") {
 		t.Errorf("order %q, want %q", names, wantNames)
 	}
@@ -78,6 +79,35 @@ func TestIndexViewOrderLinksThumbs(t *testing.T) {
 	}
 	if p.Counts[0].Status != StatusFailed || p.Counts[0].N != 2 {
 		t.Errorf("first count %+v, want 2 failed", p.Counts[0])
+	}
+	if c := p.Counts[3]; c.Status != StatusInconclusive || c.N != 1 {
+		t.Errorf("fourth count %+v, want 1 inconclusive", c)
+	}
+}
+
+// TestScanPageInconclusive: an inconclusive verdict heads the page as
+// INCONCLUSIVE (it was shown as FAIL), with its reasons, and each figure
+// with an evaluated uncertainty carries ± U and its 95 % interval.
+func TestScanPageInconclusive(t *testing.T) {
+	rep := &Report{
+		Heat:        &HeatReport{LossPct: 8.649, Mode: "heater"},
+		Verdict:     &VerdictReport{Result: ResultInconclusive, Reasons: []string{"loss_pct 8.6 %: straddles"}},
+		Uncertainty: &UncertaintyReport{LossPct: &FigureUncertainty{Value: 8.649, U: 1.1, Low: 6.43389, High: 10.3427}},
+	}
+	p := scanPageView(&Result{Name: "pan.stl", Report: rep, Job: DefaultJob()}, nil)
+	if p.Status != "inconclusive" || p.Headline != "INCONCLUSIVE" || len(p.Reasons) != 1 {
+		t.Errorf("status %q headline %q reasons %q", p.Status, p.Headline, p.Reasons)
+	}
+	var note string
+	for _, sec := range p.Sections {
+		for _, f := range sec.Figures {
+			if f.Label == "heating power lost" {
+				note = f.Note
+			}
+		}
+	}
+	if want := "± 2.2 % (U, k = 2); 95 %: 6.4 to 10.3; limit 10.0 %"; note != want {
+		t.Errorf("loss note %q, want %q", note, want)
 	}
 }
 

@@ -96,7 +96,7 @@ func newScale(controls []color.Color, lo, hi float64) palette.ColorMap {
 type PictureLabels struct {
 	PartNumber string // from the batch manifest
 	Lot        string // from the batch manifest
-	Verdict    string // "PASS" or "FAIL", from the report
+	Verdict    string // "PASS", "FAIL" or "INCONCLUSIVE", from the report
 }
 
 // subtitle returns the second title line, "" when nothing is known.
@@ -882,8 +882,11 @@ func pictureTasks(dir string, res *Result) []func() error {
 	labels := PictureLabels{PartNumber: res.PartNumber, Lot: res.Lot}
 	if v := rep.Verdict; v != nil {
 		labels.Verdict = "FAIL"
-		if v.Pass {
+		switch {
+		case v.Pass:
 			labels.Verdict = "PASS"
+		case v.Result == ResultInconclusive:
+			labels.Verdict = "INCONCLUSIVE"
 		}
 	}
 	title := res.Name
