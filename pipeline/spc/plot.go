@@ -51,8 +51,8 @@ var (
 // Sizes of the glyphs: dot < ring < square, so none hides another.
 const (
 	radiusDot    = 2.2 // points
-	radiusMark   = 4.2 // points
-	widthMark    = 1.4 // points
+	radiusMark   = 3.7 // points
+	widthMark    = 1.1 // points
 	radiusSignal = 6.0 // points
 )
 
