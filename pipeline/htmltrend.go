@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"path/filepath"
@@ -76,7 +77,7 @@ func trendView(ctx context.Context, out string, tr IndexTrend, s *Summary) html.
 	v.Lines = []string{
 		"From the history database " + shown + ", with this batch's rows: one individuals and moving-range (I-MR) control chart per part number of this batch (ISO 7870-2 Shewhart chart), one point per scan that passed or was out of tolerance, in the order measured.",
 		fmt.Sprintf("Baseline window: the centre line and limits of each part come from its first %d points (X̄ ± 3σ̂ with σ̂ = mean moving range / %.3f; moving-range limit %.3f × mean moving range); a part with fewer points has provisional limits from all it has.", trend.DefaultBaseline, spc.D2, spc.D4),
-		"Run rules: Western Electric rules 1–4 on the individuals (" + strings.Join(rules, "; ") + "), and moving ranges above their limit (MR). Points out of control are marked with a square and listed under the chart.",
+		"Run rules: Western Electric rules 1–4 on the individuals (" + strings.Join(rules, "; ") + "), and moving ranges above their limit (MR). Points out of control are marked with a square and listed under the chart; this batch's points are ringed.",
 	}
 	for _, p := range parts {
 		pc := byPart[p]
@@ -95,8 +96,8 @@ func trendView(ctx context.Context, out string, tr IndexTrend, s *Summary) html.
 // pointsOf names the points of pc that the run runID added.
 func pointsOf(pc *trend.PartChart, runID int64) string {
 	var mine []string
-	for i, pt := range pc.Points {
-		if runID != 0 && pt.RunID == runID {
+	for i, m := range batchPoints(pc, runID) {
+		if m {
 			mine = append(mine, strconv.Itoa(i+1))
 		}
 	}
@@ -135,6 +136,9 @@ func loadCharts(ctx context.Context, db, figure string, parts []string) ([]trend
 func partChartView(pc *trend.PartChart, runID int64) html.TrendChart {
 	unit := figureUnit(pc.Figure)
 	tonight := pointsOf(pc, runID)
+	if slices.Contains(batchPoints(pc, runID), true) {
+		tonight += ", ringed on the chart"
+	}
 	v := html.TrendChart{Part: pc.Part, Alt: "control chart of " + pc.Figure + " for part " + pc.Part}
 	c := pc.Chart
 	g := func(x float64) string { return strconv.FormatFloat(roundSig(x, 4), 'f', -1, 64) }
@@ -165,7 +169,7 @@ func partChartView(pc *trend.PartChart, runID int64) html.TrendChart {
 		v.Flagged = append(v.Flagged, fmt.Sprintf("point %d: %s%s = %s%s, batch of %s: %s", i+1, pt.Path, lot, g(pt.Value), unit,
 			pt.Started.UTC().Format("2006-01-02 15:04 UTC"), strings.Join(why, ", ")))
 	}
-	svg, err := pc.SVG()
+	svg, err := chartSVG(pc, runID)
 	if err != nil {
 		// Not expected (the chart is drawn in memory); the page then
 		// shows a placeholder that says so.
@@ -174,6 +178,27 @@ func partChartView(pc *trend.PartChart, runID int64) html.TrendChart {
 	}
 	v.SVG = svg
 	return v
+}
+
+// chartSVG draws pc's chart as SVG with the points the run runID added
+// ringed (spc.Labels.Mark); gapflux trend's own charts ring none.
+func chartSVG(pc *trend.PartChart, runID int64) ([]byte, error) {
+	l := pc.Labels()
+	l.Mark = batchPoints(pc, runID)
+	l.MarkName = "this batch's points"
+	var b bytes.Buffer
+	err := pc.Chart.Write(&b, "svg", l)
+	return b.Bytes(), err
+}
+
+// batchPoints marks, per point of pc, whether the run runID added it (none
+// when runID is 0).
+func batchPoints(pc *trend.PartChart, runID int64) []bool {
+	mark := make([]bool, len(pc.Points))
+	for i, pt := range pc.Points {
+		mark[i] = runID != 0 && pt.RunID == runID
+	}
+	return mark
 }
 
 // figureUnit is the unit a history figure's name ends in, with a leading

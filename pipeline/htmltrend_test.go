@@ -93,7 +93,7 @@ func TestIndexTrendTwoNights(t *testing.T) {
 	if w := "part P-2: no point yet; none of its scans has a stored loss_pct"; !strings.Contains(page, w) {
 		t.Errorf("night 2: index lacks %q", w)
 	}
-	want := "2 points of loss_pct (this batch&#39;s: point 2); limits from points 1–2, provisional until 20 points: centre 4 %, limits -6.638 to 14.64 %"
+	want := "2 points of loss_pct (this batch&#39;s: point 2, ringed on the chart); limits from points 1–2, provisional until 20 points: centre 4 %, limits -6.638 to 14.64 %"
 	if !strings.Contains(page, want) {
 		t.Errorf("night 2: index lacks %q", want)
 	}
@@ -101,8 +101,10 @@ func TestIndexTrendTwoNights(t *testing.T) {
 	if !ok || len(charts) != 1 {
 		t.Fatalf("night 2: charts of %v, want P-1 only", keys(charts))
 	}
-	// The chart's title and the labels of its two points' ticks.
-	for _, w := range []string{"<svg", "part P-1: loss_pct: individuals", ">1</text>", ">2</text>", "CL 4"} {
+	// The chart's title, the labels of its two points' ticks and the
+	// legend of the ring on this night's point (spc draws it only when a
+	// point is ringed; TestWriteMarks there counts the rings).
+	for _, w := range []string{"<svg", "part P-1: loss_pct: individuals", ">1</text>", ">2</text>", "CL 4", "rings: this batch&#39;s points"} {
 		if !strings.Contains(svg, w) {
 			t.Errorf("night 2: chart lacks %q", w)
 		}
@@ -211,7 +213,7 @@ func TestPartChartViewFlags(t *testing.T) {
 	if !slices.Equal(v.Flagged, want) {
 		t.Errorf("flagged %q, want %q", v.Flagged, want)
 	}
-	for _, w := range []string{"9 points of loss_pct (this batch's: point 7, 8, 9)", "limits from points 1–9, provisional until 20 points",
+	for _, w := range []string{"9 points of loss_pct (this batch's: point 7, 8, 9, ringed on the chart)", "limits from points 1–9, provisional until 20 points",
 		"centre 2.002 %", "limits -1.189 to 5.194 %", "moving-range limit 3.92 %"} {
 		if !strings.Contains(v.Caption, w) {
 			t.Errorf("caption %q lacks %q", v.Caption, w)

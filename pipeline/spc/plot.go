@@ -20,6 +20,13 @@ import (
 type Labels struct {
 	Title string // e.g. "part PN-100: loss_pct"
 	Unit  string // the axis label of the individuals, e.g. "loss_pct (%)"
+	// Mark, when not nil, has one entry per point: the individuals of the
+	// points set true are ringed (an open circle around the dot), e.g. the
+	// points one batch added. nil, or all false, rings none.
+	Mark []bool
+	// MarkName says what the rings are in the axis label, e.g. "this
+	// batch's points"; "" is "marked points".
+	MarkName string
 }
 
 // Picture size and resolution.
@@ -36,12 +43,24 @@ var (
 	inkLimit  = color.NRGBA{R: 0x00, G: 0x00, B: 0x00, A: 0xff}
 	inkSignal = color.NRGBA{R: 0xb0, G: 0x10, B: 0x10, A: 0xff}
 	inkBase   = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
+	// inkMark rings marked points: a hollow circle between the dot and
+	// a signal's square, so a point both marked and flagged shows both.
+	inkMark = color.NRGBA{R: 0x10, G: 0x40, B: 0x90, A: 0xff}
+)
+
+// Sizes of the glyphs: dot < ring < square, so none hides another.
+const (
+	radiusDot    = 2.2 // points
+	radiusMark   = 3.7 // points
+	widthMark    = 1.1 // points
+	radiusSignal = 6.0 // points
 )
 
 // Write draws the chart as PNG or SVG ("png", "svg"): the individuals on
 // top, the moving ranges below, each with its centre line (solid) and
-// limits (dashed), a dotted line after the last baseline point, and points
-// that break a rule marked with an open square.
+// limits (dashed), a dotted line after the last baseline point, points
+// that break a rule marked with an open square, and the individuals l.Mark
+// sets ringed with an open circle.
 func (c *Chart) Write(w io.Writer, format string, l Labels) error {
 	var cw vg.CanvasWriterTo
 	switch format {
@@ -78,7 +97,16 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 		p.Title.Text += fmt.Sprintf(" (provisional limits: %d points)", c.Baseline)
 	}
 	p.Y.Label.Text = l.Unit
-	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4)", c.Baseline)
+	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4", c.Baseline)
+	marked := c.marked(l.Mark)
+	if len(marked) > 0 {
+		name := l.MarkName
+		if name == "" {
+			name = "marked points"
+		}
+		p.X.Label.Text += "; rings: " + name
+	}
+	p.X.Label.Text += ")"
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
 	p.X.Tick.Marker, p.Y.Tick.Marker = intTicks{}, ticks.Distinct{}
 	n := len(c.Values)
@@ -103,6 +131,9 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 		addHLine(p, h.y, h.dashed, n, h.label)
 	}
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
+	if err := addMarks(p, marked); err != nil {
+		return nil, err
+	}
 	var flagged plotter.XYs
 	for i, s := range c.Signals {
 		if len(s) > 0 {
@@ -161,7 +192,7 @@ func (c *Chart) addSeries(p *plot.Plot, v []float64, from int) error {
 	line.Width = vg.Points(1)
 	points.Shape = draw.CircleGlyph{}
 	points.Color = inkData
-	points.Radius = vg.Points(2.2)
+	points.Radius = vg.Points(radiusDot)
 	p.Add(line, points)
 	return nil
 }
@@ -203,9 +234,51 @@ func addSignals(p *plot.Plot, flagged plotter.XYs) error {
 	}
 	ring.Shape = draw.SquareGlyph{}
 	ring.Color = inkSignal
-	ring.Radius = vg.Points(6)
+	ring.Radius = vg.Points(radiusSignal)
 	p.Add(ring)
 	return nil
+}
+
+// marked returns the individuals that mark sets; entries past the last
+// point are ignored.
+func (c *Chart) marked(mark []bool) plotter.XYs {
+	var xy plotter.XYs
+	for i, m := range mark {
+		if m && i < len(c.Values) {
+			xy = append(xy, plotter.XY{X: float64(i + 1), Y: c.Values[i]})
+		}
+	}
+	return xy
+}
+
+// addMarks rings the points xy with open circles in inkMark.
+func addMarks(p *plot.Plot, xy plotter.XYs) error {
+	if len(xy) == 0 {
+		return nil
+	}
+	ring, err := plotter.NewScatter(xy)
+	if err != nil {
+		return err
+	}
+	ring.Shape = thickRing{width: vg.Points(widthMark)}
+	ring.Color = inkMark
+	ring.Radius = vg.Points(radiusMark)
+	p.Add(ring)
+	return nil
+}
+
+// thickRing is draw.RingGlyph with a chosen line width (RingGlyph's is
+// fixed at 0.5 pt, too faint to read at a glance).
+type thickRing struct{ width vg.Length }
+
+// DrawGlyph implements draw.GlyphDrawer.
+func (r thickRing) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	c.SetLineStyle(draw.LineStyle{Color: sty.Color, Width: r.width})
+	var p vg.Path
+	p.Move(vg.Point{X: pt.X + sty.Radius, Y: pt.Y})
+	p.Arc(pt, sty.Radius, 0, 2*math.Pi)
+	p.Close()
+	c.Stroke(p)
 }
 
 // intTicks labels whole point numbers: every 1, 2, 5, 10, 20, 50, ...

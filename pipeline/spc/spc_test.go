@@ -2,9 +2,12 @@ package spc
 
 import (
 	"bytes"
+	"fmt"
+	"image/color"
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -255,5 +258,52 @@ func TestIntTicks(t *testing.T) {
 		if !slices.Equal(got, tc.want) {
 			t.Errorf("ticks of [%v, %v] = %v, want %v", tc.lo, tc.hi, got, tc.want)
 		}
+	}
+}
+
+// The individuals Labels.Mark sets are ringed, one ring each, and only
+// they (vgsvg writes a stroke colour as "stroke:#RRGGBB;", upper case);
+// a point both marked and out of control keeps its square too.
+func TestWriteMarks(t *testing.T) {
+	hex := func(c color.NRGBA) string { return fmt.Sprintf("stroke:#%02X%02X%02X;", c.R, c.G, c.B) }
+	ring, square := hex(inkMark), hex(inkSignal)
+	five := []float64{10, 10.4, 9.8, 10.1, 9.9}
+	// alternating(20) then 13: WE1 on point 21 and its moving range above
+	// the limit (see TestRules), so 2 squares.
+	shifted := append(alternating(20), 13)
+	for _, tc := range []struct {
+		name           string
+		values         []float64
+		mark           []bool
+		rings, squares int
+		legend         bool
+	}{
+		{"2 of 5 marked", five, []bool{false, false, false, true, true}, 2, 0, true},
+		{"none marked (nil)", five, nil, 0, 0, false},
+		{"none marked (all false)", five, make([]bool, 5), 0, 0, false},
+		{"marks past the last point ignored", five, []bool{true, false, false, false, false, true, true}, 1, 0, true},
+		{"marked and out of control", shifted, append(make([]bool, 20), true), 1, 2, true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			c, err := Individuals(tc.values, 20)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var b bytes.Buffer
+			if err := c.Write(&b, "svg", Labels{Title: "part P", Unit: "loss_pct (%)", Mark: tc.mark, MarkName: "this batch's points"}); err != nil {
+				t.Fatal(err)
+			}
+			svg := b.String()
+			if got := strings.Count(svg, ring); got != tc.rings {
+				t.Errorf("%d rings (%q), want %d", got, ring, tc.rings)
+			}
+			if got := strings.Count(svg, square); got != tc.squares {
+				t.Errorf("%d squares (%q), want %d", got, square, tc.squares)
+			}
+			// vgsvg draws text as <text> with the string escaped.
+			if got := strings.Contains(svg, "rings: this batch&#39;s points"); got != tc.legend {
+				t.Errorf("axis label names the rings: %v, want %v", got, tc.legend)
+			}
+		})
 	}
 }
