@@ -273,7 +273,7 @@ func checkTrend(t *testing.T, b *browser) {
 		t.Errorf("trend: %d chart pictures, want 1", n)
 	}
 	text := eval[string](t, b, `document.getElementById("trend").textContent`)
-	for _, want := range []string{"2 points of loss_pct (this batch's: point 1, 2)", "first 20 points", "Western Electric rules 1–4", "history.sqlite"} {
+	for _, want := range []string{"2 points of loss_pct (this batch's: point 1, 2, ringed on the chart)", "first 20 points", "Western Electric rules 1–4", "history.sqlite"} {
 		if !strings.Contains(text, want) {
 			t.Errorf("trend section lacks %q:\n%s", want, text)
 		}
