@@ -217,7 +217,7 @@ func HumanSummary(res *Result) string {
 		}[g.Shape]
 		fmt.Fprintf(&b, "  base: diameter %.1f mm, minimum-zone flatness %.3f mm (least squares %.3f mm)\n",
 			g.DiameterMM, g.FlatnessMZMM, g.FlatnessLSMM)
-		fmt.Fprintf(&b, "  concavity %+.3f mm = %+.3f %% of diameter: %s\n", g.ConcavityMM, g.ConcavityPctOfDiameter, word)
+		fmt.Fprintf(&b, "  concavity %s mm = %s %% of diameter: %s\n", signedFixed(g.ConcavityMM, 3), signedFixed(g.ConcavityPctOfDiameter, 3), word)
 		fmt.Fprintf(&b, "  measured %.1f %% of the base, %d outliers removed, scanner noise %.1f µm (filter cut-off %.1f mm)\n",
 			g.CoveragePct, g.OutliersRemoved, g.NoiseUM, g.CutoffMM)
 	}
@@ -279,4 +279,17 @@ func HumanSummary(res *Result) string {
 		fmt.Fprintf(&b, "  warning: %s\n", w)
 	}
 	return b.String()
+}
+
+// signedFixed writes v with prec decimals and an explicit sign, except that
+// a value that rounds to zero reads "0.000" (no "-0.000" beside "+0.000").
+func signedFixed(v float64, prec int) string {
+	t := strconv.FormatFloat(v, 'f', prec, 64)
+	if strings.Trim(t, "-+0.") == "" {
+		return strings.TrimLeft(t, "-+")
+	}
+	if v > 0 {
+		return "+" + t
+	}
+	return t
 }

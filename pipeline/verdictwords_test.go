@@ -26,3 +26,16 @@ func TestVerdictLowCentreWords(t *testing.T) {
 		}
 	}
 }
+
+// TestSignedFixed: the summary's concavity line shows a sign, except on a
+// value that rounds to zero (it read "-0.000 mm = +0.000 %").
+func TestSignedFixed(t *testing.T) {
+	for _, tc := range []struct {
+		v    float64
+		want string
+	}{{0.4, "+0.400"}, {-0.25, "-0.250"}, {-0.0002, "0.000"}, {0.0004, "0.000"}, {0, "0.000"}, {-0.0005001, "-0.001"}} {
+		if got := signedFixed(tc.v, 3); got != tc.want {
+			t.Errorf("signedFixed(%g, 3) = %q, want %q", tc.v, got, tc.want)
+		}
+	}
+}
