@@ -270,7 +270,7 @@ func readRepeatReport(name string) (*Report, error) {
 	}
 	var rep Report
 	if err := json.Unmarshal(b, &rep); err != nil {
-		return nil, configf("%s: not a report (%v); analyse the scan again", name, err)
+		return nil, configf("%s: not a report of this gapflux version (%v): a report from an earlier version lacks the newer job keys; run the batch again (it re-analyses scans whose job changed) or analyse the scan again", name, err)
 	}
 	if rep.Schema != SchemaReport {
 		return nil, configf("%s: schema %q, want %q: written by another version; analyse the scan again", name, rep.Schema, SchemaReport)
