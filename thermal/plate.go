@@ -384,7 +384,7 @@ type plate struct {
 	bRest, bHeat []float64
 	hInt         []float64 // interface h per cell at the last evaluation (NaN before)
 	qLink, gLink []float64 // per node: A·q and A·g of the nonlinear link (water, uncovered glass) at assembly, W and W/K
-	dir, work    []float64 // line-search work vectors
+	dir, work    []float64 // line-search work vectors (dir shares next's storage, work cg.q's)
 	tsWater      []float64 // inner-face temperature per pan cell (warm start)
 	tsGlass      []float64 // glass top temperature per uncovered glass cell (warm start)
 	duty         float64
@@ -470,15 +470,22 @@ func reusePlate(p *Problem, old *plate) *plate {
 	s.lv = lv
 	s.mg = reuseMultigrid(lv, prev.mg)
 	s.cg = reusePCG(prev.cg, s.nl*n)
+	// Three vectors share storage whose lifetimes do not overlap (some 4 MB
+	// each on a 2 M-point scan's heater grid): the V-cycle's fine residual
+	// and the line search's work vector use the conjugate-gradient product
+	// q, which is dead while the preconditioner runs and between linear
+	// solves; the step direction overwrites the linear solution it is made
+	// from, which is not read again before the next solve refills it.
+	lv.r = s.cg.q
+	s.work = s.cg.q
 	s.t = grow(prev.t, s.nl*n)
 	s.next = grow(prev.next, s.nl*n)
+	s.dir = s.next
 	s.rhs = grow(prev.rhs, s.nl*n)
 	s.bRest = grow(prev.bRest, s.nl*n)
 	s.hInt = grow(prev.hInt, n)
 	s.qLink = grow(prev.qLink, s.nl*n)
 	s.gLink = grow(prev.gLink, s.nl*n)
-	s.dir = grow(prev.dir, s.nl*n)
-	s.work = grow(prev.work, s.nl*n)
 	s.tsWater = grow(prev.tsWater, n)
 	for k := range s.hInt {
 		s.hInt[k] = math.NaN()
