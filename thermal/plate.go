@@ -125,7 +125,8 @@ func Solve(p *Problem) (*Solution, error) {
 // keeps the buffers of the last solverCache grid shapes, so that a few
 // solves on a coarser grid between two on the fine one (the pipeline's
 // sensitivity table between the steady solve and the heat-up) do not drop
-// the fine grid's buffers. The zero value is ready to use. A Solver must
+// the fine grid's buffers; a solve on a grid drops those kept for grids of
+// fewer nodes. The zero value is ready to use. A Solver must
 // not be used concurrently.
 type Solver struct {
 	ws [solverCache]cachedPlate // most recently used first
@@ -151,6 +152,23 @@ func (sv *Solver) take(key [3]int) *plate {
 		}
 	}
 	return nil
+}
+
+// dropSmaller drops the buffers kept for grid shapes of fewer nodes than
+// key. A solve on a finer grid after some on a coarser one (the pipeline's
+// heat-up after its sensitivity table) ends the coarse solves, whose
+// buffers would otherwise stay live beside the fine ones; a coarse solve
+// after it allocates afresh, which costs little next to a fine solve.
+func (sv *Solver) dropSmaller(key [3]int) {
+	nodes := func(k [3]int) int { return k[0] * k[1] * k[2] }
+	j := 0
+	for _, c := range sv.ws {
+		if c.s != nil && nodes(c.key) >= nodes(key) {
+			sv.ws[j] = c
+			j++
+		}
+	}
+	clear(sv.ws[j:])
 }
 
 // keep puts s, the buffers of grid shape key, first, dropping the least
@@ -190,6 +208,7 @@ func (sv *Solver) solveOnce(ctx context.Context, p *Problem) (*Solution, error) 
 		key[2] = 2
 	}
 	s := reusePlate(p, sv.take(key))
+	sv.dropSmaller(key)
 	s.ctx, s.cg.ctx = ctx, ctx
 	defer func() {
 		// Keep the buffers, drop the references to the caller's data.
