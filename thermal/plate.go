@@ -400,7 +400,7 @@ type plate struct {
 	t            []float64 // state: pan nodes, then glass nodes
 	next, rhs    []float64 // run: the solution and right-hand side of the linear solves
 	t1           []float64 // heater with limiter: response T₁ to the heater at full duty
-	bRest, bHeat []float64
+	bRest, bHeat []float64 // bRest: right-hand side without the heater, set by assemble (rhs shares it)
 	hInt         []float64 // interface h per cell at the last evaluation (NaN before)
 	qLink, gLink []float64 // per node: A·q and A·g of the nonlinear link (water, uncovered glass) at assembly, W and W/K
 	dir, work    []float64 // line-search work vectors (dir shares next's storage, work cg.q's)
@@ -500,8 +500,10 @@ func reusePlate(p *Problem, old *plate) *plate {
 	s.t = grow(prev.t, s.nl*n)
 	s.next = grow(prev.next, s.nl*n)
 	s.dir = s.next
-	s.rhs = grow(prev.rhs, s.nl*n)
 	s.bRest = grow(prev.bRest, s.nl*n)
+	// The right-hand side is made from bRest in place: assemble sets every
+	// entry of bRest before each linear solve, and nothing else reads it.
+	s.rhs = s.bRest
 	s.hInt = grow(prev.hInt, n)
 	s.qLink = grow(prev.qLink, s.nl*n)
 	s.gLink = grow(prev.gLink, s.nl*n)
@@ -805,12 +807,10 @@ func (s *plate) run() error {
 		if err := s.mg.update(); err != nil {
 			return err
 		}
-		if s.bHeat != nil {
+		if s.bHeat != nil { // b is s.bRest, set afresh by assemble
 			for i, h := range s.bHeat {
-				b[i] = s.bRest[i] + s.duty*h
+				b[i] += s.duty * h
 			}
-		} else {
-			copy(b, s.bRest)
 		}
 		copy(next, s.t)
 		state.tight = change < outerTightFactor*s.oTol
@@ -1132,6 +1132,7 @@ func (s *plate) assemble() error {
 	n, a, lv := s.n, s.areaM2, s.lv
 	for k := 0; k < n; k++ {
 		if !s.pan[k] {
+			s.bRest[k] = 0
 			continue
 		}
 		tp := s.t[k]
@@ -1163,6 +1164,7 @@ func (s *plate) assemble() error {
 		for k := 0; k < n; k++ {
 			lv.cpl[k] = 0
 			if !s.glass[k] {
+				s.bRest[n+k] = 0
 				continue
 			}
 			tg := s.t[n+k]
