@@ -125,7 +125,8 @@ func Solve(p *Problem) (*Solution, error) {
 // keeps the buffers of the last solverCache grid shapes, so that a few
 // solves on a coarser grid between two on the fine one (the pipeline's
 // sensitivity table between the steady solve and the heat-up) do not drop
-// the fine grid's buffers. The zero value is ready to use. A Solver must
+// the fine grid's buffers; a solve on a grid drops those kept for grids of
+// fewer nodes. The zero value is ready to use. A Solver must
 // not be used concurrently.
 type Solver struct {
 	ws [solverCache]cachedPlate // most recently used first
@@ -151,6 +152,23 @@ func (sv *Solver) take(key [3]int) *plate {
 		}
 	}
 	return nil
+}
+
+// dropSmaller drops the buffers kept for grid shapes of fewer nodes than
+// key. A solve on a finer grid after some on a coarser one (the pipeline's
+// heat-up after its sensitivity table) ends the coarse solves, whose
+// buffers would otherwise stay live beside the fine ones; a coarse solve
+// after it allocates afresh, which costs little next to a fine solve.
+func (sv *Solver) dropSmaller(key [3]int) {
+	nodes := func(k [3]int) int { return k[0] * k[1] * k[2] }
+	j := 0
+	for _, c := range sv.ws {
+		if c.s != nil && nodes(c.key) >= nodes(key) {
+			sv.ws[j] = c
+			j++
+		}
+	}
+	clear(sv.ws[j:])
 }
 
 // keep puts s, the buffers of grid shape key, first, dropping the least
@@ -190,6 +208,7 @@ func (sv *Solver) solveOnce(ctx context.Context, p *Problem) (*Solution, error) 
 		key[2] = 2
 	}
 	s := reusePlate(p, sv.take(key))
+	sv.dropSmaller(key)
 	s.ctx, s.cg.ctx = ctx, ctx
 	defer func() {
 		// Keep the buffers, drop the references to the caller's data.
@@ -381,10 +400,10 @@ type plate struct {
 	t            []float64 // state: pan nodes, then glass nodes
 	next, rhs    []float64 // run: the solution and right-hand side of the linear solves
 	t1           []float64 // heater with limiter: response T₁ to the heater at full duty
-	bRest, bHeat []float64
+	bRest, bHeat []float64 // bRest: right-hand side without the heater, set by assemble (rhs shares it)
 	hInt         []float64 // interface h per cell at the last evaluation (NaN before)
 	qLink, gLink []float64 // per node: A·q and A·g of the nonlinear link (water, uncovered glass) at assembly, W and W/K
-	dir, work    []float64 // line-search work vectors
+	dir, work    []float64 // line-search work vectors (dir shares next's storage, work cg.q's)
 	tsWater      []float64 // inner-face temperature per pan cell (warm start)
 	tsGlass      []float64 // glass top temperature per uncovered glass cell (warm start)
 	duty         float64
@@ -470,15 +489,24 @@ func reusePlate(p *Problem, old *plate) *plate {
 	s.lv = lv
 	s.mg = reuseMultigrid(lv, prev.mg)
 	s.cg = reusePCG(prev.cg, s.nl*n)
+	// Three vectors share storage whose lifetimes do not overlap (some 4 MB
+	// each on a 2 M-point scan's heater grid): the V-cycle's fine residual
+	// and the line search's work vector use the conjugate-gradient product
+	// q, which is dead while the preconditioner runs and between linear
+	// solves; the step direction overwrites the linear solution it is made
+	// from, which is not read again before the next solve refills it.
+	lv.r = s.cg.q
+	s.work = s.cg.q
 	s.t = grow(prev.t, s.nl*n)
 	s.next = grow(prev.next, s.nl*n)
-	s.rhs = grow(prev.rhs, s.nl*n)
+	s.dir = s.next
 	s.bRest = grow(prev.bRest, s.nl*n)
+	// The right-hand side is made from bRest in place: assemble sets every
+	// entry of bRest before each linear solve, and nothing else reads it.
+	s.rhs = s.bRest
 	s.hInt = grow(prev.hInt, n)
 	s.qLink = grow(prev.qLink, s.nl*n)
 	s.gLink = grow(prev.gLink, s.nl*n)
-	s.dir = grow(prev.dir, s.nl*n)
-	s.work = grow(prev.work, s.nl*n)
 	s.tsWater = grow(prev.tsWater, n)
 	for k := range s.hInt {
 		s.hInt[k] = math.NaN()
@@ -779,12 +807,10 @@ func (s *plate) run() error {
 		if err := s.mg.update(); err != nil {
 			return err
 		}
-		if s.bHeat != nil {
+		if s.bHeat != nil { // b is s.bRest, set afresh by assemble
 			for i, h := range s.bHeat {
-				b[i] = s.bRest[i] + s.duty*h
+				b[i] += s.duty * h
 			}
-		} else {
-			copy(b, s.bRest)
 		}
 		copy(next, s.t)
 		state.tight = change < outerTightFactor*s.oTol
@@ -1106,6 +1132,7 @@ func (s *plate) assemble() error {
 	n, a, lv := s.n, s.areaM2, s.lv
 	for k := 0; k < n; k++ {
 		if !s.pan[k] {
+			s.bRest[k] = 0
 			continue
 		}
 		tp := s.t[k]
@@ -1137,6 +1164,7 @@ func (s *plate) assemble() error {
 		for k := 0; k < n; k++ {
 			lv.cpl[k] = 0
 			if !s.glass[k] {
+				s.bRest[n+k] = 0
 				continue
 			}
 			tg := s.t[n+k]

@@ -45,8 +45,10 @@ type level struct {
 func newLevel(nx, ny, nl int) *level { return reuseLevel(nil, nx, ny, nl, true) }
 
 // reuseLevel returns a zeroed level of nx × ny cells and nl layers, reusing
-// the storage of old (which may be nil). The V-cycle vectors x and b are
-// only allocated when vcycle is set (the finest level uses the caller's).
+// the storage of old (which may be nil). The V-cycle vectors x, b and r are
+// only allocated when vcycle is set: the finest level uses the caller's x
+// and b, and the caller sets its r (the plate solve lends it the conjugate-
+// gradient vector that is free while the preconditioner runs).
 func reuseLevel(old *level, nx, ny, nl int, vcycle bool) *level {
 	if old == nil {
 		old = &level{}
@@ -71,8 +73,8 @@ func reuseLevel(old *level, nx, ny, nl int, vcycle bool) *level {
 	if vcycle {
 		lv.x = grow(prev.x, nl*n)
 		lv.b = grow(prev.b, nl*n)
+		lv.r = grow(prev.r, nl*n)
 	}
-	lv.r = grow(prev.r, nl*n)
 	return lv
 }
 
