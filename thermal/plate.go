@@ -225,10 +225,30 @@ func (sv *Solver) solveOnce(ctx context.Context, p *Problem) (*Solution, error) 
 	return s.solution()
 }
 
+// validate checks a problem before its solve: the grid and base mask, the
+// models and tolerances, and the hob of the problem's mode.
 func validate(p *Problem) error {
 	if p == nil {
 		return errors.New("thermal: nil problem")
 	}
+	if err := validateGrid(p); err != nil {
+		return err
+	}
+	if err := validateModels(p); err != nil {
+		return err
+	}
+	switch {
+	case (p.Temperature == nil) == (p.Heater == nil):
+		return errors.New("thermal: exactly one of Temperature and Heater must be set")
+	case p.Temperature != nil:
+		return validateTemperature(p)
+	}
+	return validateHeater(p)
+}
+
+// validateGrid checks the grid (size, cell, origin) and that the base mask
+// fits it and holds at least one cell.
+func validateGrid(p *Problem) error {
 	g := p.Grid
 	if g.Nx <= 0 || g.Ny <= 0 || !(g.CellM > 0) || math.IsInf(g.CellM, 0) {
 		return fmt.Errorf("thermal: bad grid %d×%d, cell %g m", g.Nx, g.Ny, g.CellM)
@@ -240,15 +260,18 @@ func validate(p *Problem) error {
 	if len(p.InBase) != n {
 		return fmt.Errorf("thermal: InBase has %d cells, grid has %d", len(p.InBase), n)
 	}
-	nb := 0
 	for _, b := range p.InBase {
 		if b {
-			nb++
+			return nil
 		}
 	}
-	if nb == 0 {
-		return errors.New("thermal: no base cells")
-	}
+	return errors.New("thermal: no base cells")
+}
+
+// validateModels checks the base layers, the interface and water-side
+// models, the water temperature, the tolerances and the warm start.
+func validateModels(p *Problem) error {
+	n := p.Grid.Nx * p.Grid.Ny
 	if len(p.BaseLayers) == 0 {
 		return errors.New("thermal: no base layers")
 	}
@@ -281,64 +304,71 @@ func validate(p *Problem) error {
 	if !(p.InitialDutyPct >= 0 && p.InitialDutyPct <= 100) {
 		return fmt.Errorf("thermal: initial duty %g %% outside [0, 100]", p.InitialDutyPct)
 	}
+	return nil
+}
+
+// validateTemperature checks a temperature-mode hob: a finite, positive
+// top temperature on every base cell and a rated power ≥ 0.
+func validateTemperature(p *Problem) error {
+	n := p.Grid.Nx * p.Grid.Ny
+	t := p.Temperature.TopK
+	if len(t) != n {
+		return fmt.Errorf("thermal: TopK has %d cells, grid has %d", len(t), n)
+	}
+	for k, v := range t {
+		if p.InBase[k] && !(v > 0 && !math.IsInf(v, 0)) {
+			return fmt.Errorf("thermal: hob top temperature %g K at cell %d", v, k)
+		}
+	}
+	if r := p.Temperature.RatedPowerW; !(r >= 0) || math.IsInf(r, 0) {
+		return fmt.Errorf("thermal: rated power %g W is negative or not finite", r)
+	}
+	return nil
+}
+
+// validateHeater checks a heater-mode hob: power, zone, glass, losses,
+// limiter, and the radiant coil and limiter rod when given.
+func validateHeater(p *Problem) error {
+	h := p.Heater
 	switch {
-	case (p.Temperature == nil) == (p.Heater == nil):
-		return errors.New("thermal: exactly one of Temperature and Heater must be set")
-	case p.Temperature != nil:
-		t := p.Temperature.TopK
-		if len(t) != n {
-			return fmt.Errorf("thermal: TopK has %d cells, grid has %d", len(t), n)
+	case !(h.PowerW >= 0) || math.IsInf(h.PowerW, 0):
+		return fmt.Errorf("thermal: heater power %g W", h.PowerW)
+	case !(h.ZoneDiameterM > 0) || math.IsInf(h.ZoneDiameterM, 0):
+		return fmt.Errorf("thermal: zone diameter %g m", h.ZoneDiameterM)
+	case !finite(h.ZoneCentreM[0]) || !finite(h.ZoneCentreM[1]):
+		return fmt.Errorf("thermal: zone centre %v m is not finite", h.ZoneCentreM)
+	case !(h.GlassRadiusM >= h.ZoneDiameterM/2) || math.IsInf(h.GlassRadiusM, 0):
+		return fmt.Errorf("thermal: glass radius %g m is smaller than the zone radius %g m", h.GlassRadiusM, h.ZoneDiameterM/2)
+	case !(h.GlassEmissivity >= 0 && h.GlassEmissivity <= 1):
+		return fmt.Errorf("thermal: glass emissivity %g outside [0, 1]", h.GlassEmissivity)
+	case !(h.DownHWM2K >= 0) || math.IsInf(h.DownHWM2K, 0):
+		return fmt.Errorf("thermal: downward loss %g W/(m²·K)", h.DownHWM2K)
+	case !(h.RoomK >= fluid.AirMinK && h.RoomK <= 400):
+		return fmt.Errorf("thermal: room temperature %g K outside %g to 400 K", h.RoomK, fluid.AirMinK)
+	case !(h.TransmittedFraction >= 0 && h.TransmittedFraction < 1):
+		return fmt.Errorf("thermal: transmitted fraction %g outside [0, 1)", h.TransmittedFraction)
+	case math.IsNaN(h.LimiterK) || math.IsInf(h.LimiterK, 0):
+		return fmt.Errorf("thermal: limiter temperature %g K", h.LimiterK)
+	case h.LimiterK > 0 && h.LimiterK <= math.Max(h.RoomK, p.TWaterK):
+		return fmt.Errorf("thermal: limiter temperature %g K is not above the room and water temperatures", h.LimiterK)
+	}
+	if err := checkLayer(h.Glass); err != nil {
+		return fmt.Errorf("thermal: glass: %w", err)
+	}
+	if h.Coil != nil {
+		if err := h.Coil.validate(); err != nil {
+			return fmt.Errorf("thermal: %w", err)
 		}
-		for k, v := range t {
-			if p.InBase[k] && !(v > 0 && !math.IsInf(v, 0)) {
-				return fmt.Errorf("thermal: hob top temperature %g K at cell %d", v, k)
-			}
+		if !(p.PanEmissivity > 0 && p.PanEmissivity <= 1) {
+			return fmt.Errorf("thermal: pan emissivity %g outside (0, 1] (it absorbs the radiation passing the glass)", p.PanEmissivity)
 		}
-		if r := p.Temperature.RatedPowerW; !(r >= 0) || math.IsInf(r, 0) {
-			return fmt.Errorf("thermal: rated power %g W is negative or not finite", r)
+	}
+	if r := h.Rod; r != nil {
+		if !(r.LengthM > 0) || math.IsInf(r.LengthM, 0) || !finite(r.OffsetM) {
+			return fmt.Errorf("thermal: limiter rod length %g m, offset %g m", r.LengthM, r.OffsetM)
 		}
-	default:
-		h := p.Heater
-		switch {
-		case !(h.PowerW >= 0) || math.IsInf(h.PowerW, 0):
-			return fmt.Errorf("thermal: heater power %g W", h.PowerW)
-		case !(h.ZoneDiameterM > 0) || math.IsInf(h.ZoneDiameterM, 0):
-			return fmt.Errorf("thermal: zone diameter %g m", h.ZoneDiameterM)
-		case !finite(h.ZoneCentreM[0]) || !finite(h.ZoneCentreM[1]):
-			return fmt.Errorf("thermal: zone centre %v m is not finite", h.ZoneCentreM)
-		case !(h.GlassRadiusM >= h.ZoneDiameterM/2) || math.IsInf(h.GlassRadiusM, 0):
-			return fmt.Errorf("thermal: glass radius %g m is smaller than the zone radius %g m", h.GlassRadiusM, h.ZoneDiameterM/2)
-		case !(h.GlassEmissivity >= 0 && h.GlassEmissivity <= 1):
-			return fmt.Errorf("thermal: glass emissivity %g outside [0, 1]", h.GlassEmissivity)
-		case !(h.DownHWM2K >= 0) || math.IsInf(h.DownHWM2K, 0):
-			return fmt.Errorf("thermal: downward loss %g W/(m²·K)", h.DownHWM2K)
-		case !(h.RoomK >= fluid.AirMinK && h.RoomK <= 400):
-			return fmt.Errorf("thermal: room temperature %g K outside %g to 400 K", h.RoomK, fluid.AirMinK)
-		case !(h.TransmittedFraction >= 0 && h.TransmittedFraction < 1):
-			return fmt.Errorf("thermal: transmitted fraction %g outside [0, 1)", h.TransmittedFraction)
-		case math.IsNaN(h.LimiterK) || math.IsInf(h.LimiterK, 0):
-			return fmt.Errorf("thermal: limiter temperature %g K", h.LimiterK)
-		case h.LimiterK > 0 && h.LimiterK <= math.Max(h.RoomK, p.TWaterK):
-			return fmt.Errorf("thermal: limiter temperature %g K is not above the room and water temperatures", h.LimiterK)
-		}
-		if err := checkLayer(h.Glass); err != nil {
-			return fmt.Errorf("thermal: glass: %w", err)
-		}
-		if h.Coil != nil {
-			if err := h.Coil.validate(); err != nil {
-				return fmt.Errorf("thermal: %w", err)
-			}
-			if !(p.PanEmissivity > 0 && p.PanEmissivity <= 1) {
-				return fmt.Errorf("thermal: pan emissivity %g outside (0, 1] (it absorbs the radiation passing the glass)", p.PanEmissivity)
-			}
-		}
-		if r := h.Rod; r != nil {
-			if !(r.LengthM > 0) || math.IsInf(r.LengthM, 0) || !finite(r.OffsetM) {
-				return fmt.Errorf("thermal: limiter rod length %g m, offset %g m", r.LengthM, r.OffsetM)
-			}
-			if len(rodCells(p)) == 0 {
-				return fmt.Errorf("thermal: the limiter rod (offset %g m, length %g m) crosses no glass cell", r.OffsetM, r.LengthM)
-			}
+		if len(rodCells(p)) == 0 {
+			return fmt.Errorf("thermal: the limiter rod (offset %g m, length %g m) crosses no glass cell", r.OffsetM, r.LengthM)
 		}
 	}
 	return nil
@@ -430,7 +460,31 @@ func reusePlate(p *Problem, old *plate) *plate {
 	prev := *old
 	s := old
 	*s = plate{p: p, n: n, nl: 1, areaM2: g.CellM * g.CellM, pan: p.InBase, duty: 1, lastChange: math.Inf(1)}
-	var kBase, rb float64
+	kBase := s.setScalars()
+	s.lv = s.setupLevel(prev.lv, kBase)
+	s.mg = reuseMultigrid(s.lv, prev.mg)
+	s.cg = reusePCG(prev.cg, s.nl*n)
+	s.setupVectors(&prev)
+	if p.Heater == nil {
+		tw := p.TWaterK
+		for k := 0; k < n; k++ {
+			if s.pan[k] {
+				s.t[k] = 0.5 * (p.Temperature.TopK[k] + tw)
+			}
+		}
+		return s
+	}
+	s.setupHeater(&prev)
+	return s
+}
+
+// setScalars sets the plate's scalar constants from its problem: half the
+// base's through-thickness resistance, the tolerances, the water law and,
+// in heater mode, the glass layer's. It returns the base's in-plane
+// conductance Σ k·t, W/K.
+func (s *plate) setScalars() (kBase float64) {
+	p := s.p
+	var rb float64
 	for _, l := range p.BaseLayers {
 		kBase += l.ConductivityWMK * l.ThicknessM
 		rb += l.ThicknessM / l.ConductivityWMK
@@ -444,16 +498,25 @@ func reusePlate(p *Problem, old *plate) *plate {
 		s.oTol = defaultOuterTolK
 	}
 	s.water = newWaterLaw(p, s.halfRb)
-	h := p.Heater
-	if h != nil {
+	if h := p.Heater; h != nil {
 		s.nl = 2
 		s.halfRg = h.Glass.ThicknessM / h.Glass.ConductivityWMK / 2
 		s.uncover = glassLaw{eps: h.GlassEmissivity, roomK: h.RoomK, lM: h.GlassRadiusM / 2}
 		s.limiterK = h.LimiterK
 	}
+	return kBase
+}
 
-	lv := reuseLevel(prev.lv, g.Nx, g.Ny, s.nl, false)
+// setupLevel returns the finest level in the storage of old: the active
+// cells of each layer (the base disc; the glass disc about the zone in
+// heater mode) and the in-plane conductances between active neighbours,
+// kBase for the base and k·t of the glass, W/K.
+func (s *plate) setupLevel(old *level, kBase float64) *level {
+	p, g, n := s.p, s.p.Grid, s.n
+	h := p.Heater
+	lv := reuseLevel(old, g.Nx, g.Ny, s.nl, false)
 	copy(lv.act[0], s.pan)
+	kg := 0.0
 	if h != nil {
 		s.glass = lv.act[1]
 		r2 := h.GlassRadiusM * h.GlassRadiusM
@@ -462,9 +525,6 @@ func reusePlate(p *Problem, old *plate) *plate {
 			dx, dy := x-h.ZoneCentreM[0], y-h.ZoneCentreM[1]
 			s.glass[k] = dx*dx+dy*dy <= r2
 		}
-	}
-	kg := 0.0
-	if h != nil {
 		kg = h.Glass.ConductivityWMK * h.Glass.ThicknessM
 	}
 	// Square cells: the conductance between neighbouring centres is K·w/d = K
@@ -486,57 +546,56 @@ func reusePlate(p *Problem, old *plate) *plate {
 			}
 		}
 	}
-	s.lv = lv
-	s.mg = reuseMultigrid(lv, prev.mg)
-	s.cg = reusePCG(prev.cg, s.nl*n)
+	return lv
+}
+
+// setupVectors sizes the solve's vectors in the storage of prev and marks
+// the interface and water-side caches unset (NaN).
+func (s *plate) setupVectors(prev *plate) {
+	n, m := s.n, s.nl*s.n
 	// Three vectors share storage whose lifetimes do not overlap (some 4 MB
 	// each on a 2 M-point scan's heater grid): the V-cycle's fine residual
 	// and the line search's work vector use the conjugate-gradient product
 	// q, which is dead while the preconditioner runs and between linear
 	// solves; the step direction overwrites the linear solution it is made
 	// from, which is not read again before the next solve refills it.
-	lv.r = s.cg.q
+	s.lv.r = s.cg.q
 	s.work = s.cg.q
-	s.t = grow(prev.t, s.nl*n)
-	s.next = grow(prev.next, s.nl*n)
+	s.t = grow(prev.t, m)
+	s.next = grow(prev.next, m)
 	s.dir = s.next
-	s.bRest = grow(prev.bRest, s.nl*n)
+	s.bRest = grow(prev.bRest, m)
 	// The right-hand side is made from bRest in place: assemble sets every
 	// entry of bRest before each linear solve, and nothing else reads it.
 	s.rhs = s.bRest
 	s.hInt = grow(prev.hInt, n)
-	s.qLink = grow(prev.qLink, s.nl*n)
-	s.gLink = grow(prev.gLink, s.nl*n)
+	s.qLink = grow(prev.qLink, m)
+	s.gLink = grow(prev.gLink, m)
 	s.tsWater = grow(prev.tsWater, n)
 	for k := range s.hInt {
 		s.hInt[k] = math.NaN()
 		s.tsWater[k] = math.NaN()
 	}
-	tw := p.TWaterK
-	if h == nil {
-		for k := 0; k < n; k++ {
-			if s.pan[k] {
-				s.t[k] = 0.5 * (p.Temperature.TopK[k] + tw)
-			}
-		}
-		return s
-	}
+}
 
-	// Heater mode.
+// setupHeater prepares heater mode in the storage of prev: the heat
+// buffers, the starting temperatures, the zone's power per cell, the
+// glass-underside split and the limiter's rod cells.
+func (s *plate) setupHeater(prev *plate) {
+	p, n := s.p, s.n
+	h, tw := p.Heater, p.TWaterK
 	s.bHeat = grow(prev.bHeat, 2*n)
 	s.qHeat = s.bHeat[n:]
 	s.qTrans = s.bHeat[:n]
 	s.qZone = grow(prev.qZone, n)
 	s.tsGlass = grow(prev.tsGlass, n)
 	s.gnRatio = grow(prev.gnRatio, n)
-	rz := h.ZoneDiameterM / 2
 	// Initial glass temperature: 150 K above the room and water, or half-way
 	// to the limiter if that is lower.
 	t0Glass := math.Max(tw, h.RoomK) + 150
 	if s.limiterK > 0 {
 		t0Glass = math.Min(t0Glass, 0.5*(s.limiterK+math.Max(tw, h.RoomK)))
 	}
-	var wsum float64
 	for k := 0; k < n; k++ {
 		s.tsGlass[k] = math.NaN()
 		if s.pan[k] {
@@ -545,31 +604,11 @@ func reusePlate(p *Problem, old *plate) *plate {
 		if s.glass[k] {
 			s.t[n+k] = t0Glass
 		}
-		x, y := g.CentreM(k)
-		r := math.Hypot(x-h.ZoneCentreM[0], y-h.ZoneCentreM[1])
-		if r > rz {
-			continue
-		}
-		w := 1.0
-		if h.PowerProfile != nil {
-			w = h.PowerProfile(r)
-		}
-		if !(w >= 0) || math.IsInf(w, 0) {
-			// Reported by run.
-			s.qZone[k] = math.NaN()
-			continue
-		}
-		s.qZone[k] = w
-		wsum += w
-	}
-	for k := 0; k < n; k++ {
-		if s.qZone[k] != 0 && wsum > 0 {
-			s.qZone[k] *= h.PowerW / wsum
-		}
 		if s.glass[k] && !s.pan[k] {
 			s.nUncovered++
 		}
 	}
+	s.spreadZonePower()
 	s.gIn = 1 / (1 + h.DownHWM2K*s.halfRg)
 	s.hdEff = h.DownHWM2K * s.gIn
 	s.share = h.TransmittedFraction
@@ -583,7 +622,39 @@ func reusePlate(p *Problem, old *plate) *plate {
 	if s.limiterK > 0 {
 		s.t1 = grow(prev.t1, 2*n)
 	}
-	return s
+}
+
+// spreadZonePower sets qZone, the heater power of each cell of the zone
+// disc per unit duty, W: the rated power shared by the zone's cells in
+// proportion to the power profile (uniform without one). A profile value
+// that is negative or not finite leaves NaN in its cell (run reports it).
+func (s *plate) spreadZonePower() {
+	p, g, n := s.p, s.p.Grid, s.n
+	h := p.Heater
+	rz := h.ZoneDiameterM / 2
+	var wsum float64
+	for k := 0; k < n; k++ {
+		x, y := g.CentreM(k)
+		r := math.Hypot(x-h.ZoneCentreM[0], y-h.ZoneCentreM[1])
+		if r > rz {
+			continue
+		}
+		w := 1.0
+		if h.PowerProfile != nil {
+			w = h.PowerProfile(r)
+		}
+		if !(w >= 0) || math.IsInf(w, 0) {
+			s.qZone[k] = math.NaN()
+			continue
+		}
+		s.qZone[k] = w
+		wsum += w
+	}
+	for k := 0; k < n; k++ {
+		if s.qZone[k] != 0 && wsum > 0 {
+			s.qZone[k] *= h.PowerW / wsum
+		}
+	}
 }
 
 // fillHeat splits each zone cell's heater power (per unit duty) at the
