@@ -856,6 +856,34 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 	if len(e.props) == 0 || e.count == 0 {
 		return nil
 	}
+	d.reserveASCII(e, u)
+	slot := coordSlots(u)
+	for i := int64(0); i < e.count; i++ {
+		line, ln, lo, err := d.dataLine()
+		if err != nil {
+			if err == io.EOF {
+				err = io.ErrUnexpectedEOF
+			}
+			return d.asciiError(ln, lo, 0, e, i, err)
+		}
+		v, col, err := d.asciiRecord(line, e, u, &slot)
+		if err != nil {
+			return d.asciiError(ln, lo, col, e, i, err)
+		}
+		if u.vertex {
+			d.c.Points = append(d.c.Points, r3.Vec{X: v[0], Y: v[1], Z: v[2]})
+			if u.normals {
+				d.c.Normals = append(d.c.Normals, r3.Vec{X: v[3], Y: v[4], Z: v[5]})
+			}
+		}
+	}
+	return nil
+}
+
+// reserveASCII allocates the points, normals and faces an ASCII element
+// may hold, bounded by what the rest of the input can hold (capFor), never
+// by the header's count alone.
+func (d *decoder) reserveASCII(e *element, u *use) {
 	_, least := e.recordSize()
 	if u.vertex {
 		c := d.capFor(e.count, 2*len(e.props))
@@ -867,7 +895,12 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 	if u.faces && len(d.c.Faces) == 0 {
 		d.c.Faces = make([][3]int32, 0, d.capFor(e.count, 2*least))
 	}
-	var slot [16]int8 // which coordinate a property holds, for the first 16
+}
+
+// coordSlots maps each of the first 16 properties to the coordinate it
+// holds (index into u.coord), or -1.
+func coordSlots(u *use) [16]int8 {
+	var slot [16]int8
 	for j := range slot {
 		slot[j] = -1
 	}
@@ -876,89 +909,95 @@ func (d *decoder) asciiElement(e *element, u *use) error {
 			slot[c] = int8(k)
 		}
 	}
-	for i := int64(0); i < e.count; i++ {
-		line, ln, lo, err := d.dataLine()
-		if err != nil {
-			if err == io.EOF {
-				err = io.ErrUnexpectedEOF
-			}
-			return d.asciiError(ln, lo, 0, e, i, err)
-		}
-		var v [6]float64
-		pos := 0
-		for j, p := range e.props {
-			tok, start, next := field(line, pos)
-			pos = next
-			if tok == nil {
-				return d.asciiError(ln, lo, len(line)+1, e, i, fmt.Errorf("line ends before property %q", p.name))
-			}
-			if !p.list {
-				if !u.vertex {
-					continue
-				}
-				k := -1
-				if j < len(slot) {
-					k = int(slot[j])
-				} else {
-					for kk, c := range u.coord {
-						if c == j {
-							k = kk
-						}
-					}
-				}
-				if k < 0 {
-					continue
-				}
-				f, ok := decimal.ParseFloat(tok, false)
-				if !ok {
-					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("property %q: not a number", p.name))
-				}
-				if !finite(f) {
-					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("property %q: %w", p.name, ErrNotFinite))
-				}
-				v[k] = f
-				continue
-			}
-			n, ok := decimal.ParseInt(tok)
-			if !ok || n < 0 {
-				return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: length is not a whole number >= 0", p.name))
-			}
-			isFace := u.faces && j == u.list
-			if isFace {
-				if err := polygon(n); err != nil {
-					return d.asciiError(ln, lo, start+1, e, i, err)
-				}
-			}
-			var f fan
-			for ; n > 0; n-- {
-				tok, start, next = field(line, pos)
-				pos = next
-				if tok == nil {
-					return d.asciiError(ln, lo, len(line)+1, e, i, fmt.Errorf("line ends inside list %q", p.name))
-				}
-				if !isFace {
-					continue
-				}
-				x, ok := decimal.ParseInt(tok)
-				if !ok {
-					return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("list %q: item is not an integer", p.name))
-				}
-				if err := d.addIndex(&f, x); err != nil {
-					return d.asciiError(ln, lo, start+1, e, i, err)
-				}
-			}
-		}
-		if tok, start, _ := field(line, pos); tok != nil {
-			return d.asciiError(ln, lo, start+1, e, i, fmt.Errorf("unexpected value after the last property"))
-		}
-		if u.vertex {
-			d.c.Points = append(d.c.Points, r3.Vec{X: v[0], Y: v[1], Z: v[2]})
-			if u.normals {
-				d.c.Normals = append(d.c.Normals, r3.Vec{X: v[3], Y: v[4], Z: v[5]})
-			}
+	return slot
+}
+
+// coordOf returns the coordinate property j holds (index into u.coord),
+// or -1.
+func coordOf(u *use, slot *[16]int8, j int) int {
+	if j < len(slot) {
+		return int(slot[j])
+	}
+	k := -1
+	for kk, c := range u.coord {
+		if c == j {
+			k = kk
 		}
 	}
-	return nil
+	return k
+}
+
+// asciiRecord parses one ASCII record: the coordinates it holds (x, y, z,
+// nx, ny, nz) and, when it is the face list, its polygon into the faces.
+// On a fault it returns the 1-based column of the offending token (the
+// line's length + 1 when the line ends early).
+func (d *decoder) asciiRecord(line []byte, e *element, u *use, slot *[16]int8) (v [6]float64, col int, err error) {
+	pos := 0
+	for j, p := range e.props {
+		tok, start, next := field(line, pos)
+		pos = next
+		if tok == nil {
+			return v, len(line) + 1, fmt.Errorf("line ends before property %q", p.name)
+		}
+		if p.list {
+			if pos, col, err = d.asciiList(line, pos, tok, start, p, u.faces && j == u.list); err != nil {
+				return v, col, err
+			}
+			continue
+		}
+		if !u.vertex {
+			continue
+		}
+		k := coordOf(u, slot, j)
+		if k < 0 {
+			continue
+		}
+		f, ok := decimal.ParseFloat(tok, false)
+		if !ok {
+			return v, start + 1, fmt.Errorf("property %q: not a number", p.name)
+		}
+		if !finite(f) {
+			return v, start + 1, fmt.Errorf("property %q: %w", p.name, ErrNotFinite)
+		}
+		v[k] = f
+	}
+	if tok, start, _ := field(line, pos); tok != nil {
+		return v, start + 1, fmt.Errorf("unexpected value after the last property")
+	}
+	return v, 0, nil
+}
+
+// asciiList reads a list property whose length token tok starts at start;
+// pos is just past it. A face list's indices become faces; other lists are
+// skipped. It returns the position after the list.
+func (d *decoder) asciiList(line []byte, pos int, tok []byte, start int, p property, isFace bool) (next, col int, err error) {
+	n, ok := decimal.ParseInt(tok)
+	if !ok || n < 0 {
+		return pos, start + 1, fmt.Errorf("list %q: length is not a whole number >= 0", p.name)
+	}
+	if isFace {
+		if err := polygon(n); err != nil {
+			return pos, start + 1, err
+		}
+	}
+	var f fan
+	for ; n > 0; n-- {
+		tok, start, pos = field(line, pos)
+		if tok == nil {
+			return pos, len(line) + 1, fmt.Errorf("line ends inside list %q", p.name)
+		}
+		if !isFace {
+			continue
+		}
+		x, ok := decimal.ParseInt(tok)
+		if !ok {
+			return pos, start + 1, fmt.Errorf("list %q: item is not an integer", p.name)
+		}
+		if err := d.addIndex(&f, x); err != nil {
+			return pos, start + 1, err
+		}
+	}
+	return pos, 0, nil
 }
 
 // asciiTrailer checks that nothing but blank lines follows the last element.

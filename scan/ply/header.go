@@ -199,79 +199,112 @@ func (d *decoder) readHeader() (*header, error) {
 		if len(f) == 0 {
 			continue
 		}
-		switch f[0] {
-		case "comment":
-			text := bytes.TrimSpace(bytes.TrimPrefix(bytes.TrimLeft(line, " \t"), []byte("comment")))
-			h.comments = append(h.comments, string(text))
-		case "obj_info":
-		case "format":
-			if h.format >= 0 {
-				return nil, d.headerError(n, FormatError("second format line"))
-			}
-			if len(f) != 3 {
-				return nil, d.headerError(n, FormatError(`format line must be "format <encoding> 1.0"`))
-			}
-			switch f[1] {
-			case "ascii":
-				h.format = ASCII
-			case "binary_little_endian":
-				h.format = BinaryLittleEndian
-			case "binary_big_endian":
-				h.format = BinaryBigEndian
-			default:
-				return nil, d.headerError(n, FormatError("unknown encoding (want ascii, binary_little_endian or binary_big_endian)"))
-			}
-			if v, err := strconv.ParseFloat(f[2], 64); err != nil || v != 1 {
-				return nil, d.headerError(n, UnsupportedError("a version other than 1.0"))
-			}
-		case "element":
-			if h.format < 0 {
-				return nil, d.headerError(n, FormatError("element before the format line"))
-			}
-			if len(f) != 3 {
-				return nil, d.headerError(n, FormatError(`element line must be "element <name> <count>"`))
-			}
-			c, err := strconv.ParseInt(f[2], 10, 64)
-			if err != nil || c < 0 {
-				return nil, d.headerError(n, FormatError("element count is not a whole number >= 0"))
-			}
-			h.elems = append(h.elems, element{name: f[1], count: c, line: n})
-		case "property":
-			if len(h.elems) == 0 {
-				return nil, d.headerError(n, FormatError("property before any element"))
-			}
-			p := property{line: n}
-			switch {
-			case len(f) == 3 && f[1] != "list":
-				p.name = f[2]
-				if p.kind = kinds[f[1]]; p.kind == 0 {
-					return nil, d.headerError(n, FormatError("unknown property type"))
-				}
-			case len(f) == 5 && f[1] == "list":
-				p.name, p.list = f[4], true
-				if p.countKind = kinds[f[2]]; p.countKind == 0 || p.countKind.isFloat() {
-					return nil, d.headerError(n, FormatError("list count type is not an integer type"))
-				}
-				if p.kind = kinds[f[3]]; p.kind == 0 {
-					return nil, d.headerError(n, FormatError("unknown list item type"))
-				}
-			default:
-				return nil, d.headerError(n, FormatError(`property line must be "property <type> <name>" or "property list <count type> <item type> <name>"`))
-			}
-			e := &h.elems[len(h.elems)-1]
-			e.props = append(e.props, p)
-		case "end_header":
-			if len(f) != 1 {
-				return nil, d.headerError(n, FormatError("text after end_header"))
-			}
-			if h.format < 0 {
-				return nil, d.headerError(n, FormatError("no format line"))
-			}
+		done, err := h.addLine(f, line, n)
+		if err != nil {
+			return nil, d.headerError(n, err)
+		}
+		if done {
 			return h, nil
-		default:
-			return nil, d.headerError(n, FormatError("unknown header keyword (want format, element, property, comment, obj_info or end_header)"))
 		}
 	}
+}
+
+// addLine adds header line n (fields f of the raw line) to h. It reports
+// done at "end_header", or the line's fault.
+func (h *header) addLine(f []string, line []byte, n int) (done bool, err error) {
+	switch f[0] {
+	case "comment":
+		text := bytes.TrimSpace(bytes.TrimPrefix(bytes.TrimLeft(line, " \t"), []byte("comment")))
+		h.comments = append(h.comments, string(text))
+	case "obj_info":
+	case "format":
+		return false, h.setFormat(f)
+	case "element":
+		return false, h.addElement(f, n)
+	case "property":
+		return false, h.addProperty(f, n)
+	case "end_header":
+		if len(f) != 1 {
+			return false, FormatError("text after end_header")
+		}
+		if h.format < 0 {
+			return false, FormatError("no format line")
+		}
+		return true, nil
+	default:
+		return false, FormatError("unknown header keyword (want format, element, property, comment, obj_info or end_header)")
+	}
+	return false, nil
+}
+
+// setFormat reads a "format <encoding> 1.0" line.
+func (h *header) setFormat(f []string) error {
+	if h.format >= 0 {
+		return FormatError("second format line")
+	}
+	if len(f) != 3 {
+		return FormatError(`format line must be "format <encoding> 1.0"`)
+	}
+	switch f[1] {
+	case "ascii":
+		h.format = ASCII
+	case "binary_little_endian":
+		h.format = BinaryLittleEndian
+	case "binary_big_endian":
+		h.format = BinaryBigEndian
+	default:
+		return FormatError("unknown encoding (want ascii, binary_little_endian or binary_big_endian)")
+	}
+	if v, err := strconv.ParseFloat(f[2], 64); err != nil || v != 1 {
+		return UnsupportedError("a version other than 1.0")
+	}
+	return nil
+}
+
+// addElement reads an "element <name> <count>" line (line n). The count
+// is only a claim: readers never size anything by it.
+func (h *header) addElement(f []string, n int) error {
+	if h.format < 0 {
+		return FormatError("element before the format line")
+	}
+	if len(f) != 3 {
+		return FormatError(`element line must be "element <name> <count>"`)
+	}
+	c, err := strconv.ParseInt(f[2], 10, 64)
+	if err != nil || c < 0 {
+		return FormatError("element count is not a whole number >= 0")
+	}
+	h.elems = append(h.elems, element{name: f[1], count: c, line: n})
+	return nil
+}
+
+// addProperty reads a "property <type> <name>" or "property list <count
+// type> <item type> <name>" line (line n) into the last element.
+func (h *header) addProperty(f []string, n int) error {
+	if len(h.elems) == 0 {
+		return FormatError("property before any element")
+	}
+	p := property{line: n}
+	switch {
+	case len(f) == 3 && f[1] != "list":
+		p.name = f[2]
+		if p.kind = kinds[f[1]]; p.kind == 0 {
+			return FormatError("unknown property type")
+		}
+	case len(f) == 5 && f[1] == "list":
+		p.name, p.list = f[4], true
+		if p.countKind = kinds[f[2]]; p.countKind == 0 || p.countKind.isFloat() {
+			return FormatError("list count type is not an integer type")
+		}
+		if p.kind = kinds[f[3]]; p.kind == 0 {
+			return FormatError("unknown list item type")
+		}
+	default:
+		return FormatError(`property line must be "property <type> <name>" or "property list <count type> <item type> <name>"`)
+	}
+	e := &h.elems[len(h.elems)-1]
+	e.props = append(e.props, p)
+	return nil
 }
 
 // clip shortens a string for an error message.
