@@ -348,13 +348,15 @@ func Discover(dir string, skip func(path string) bool, jobFiles []string) (*Disc
 	excludeInside(dir, jobFiles, exclude)
 	if m != nil {
 		checkManifestFiles(dir, m)
+		jobs := map[string]bool{} // job files read, once each
 		for _, r := range m.Rows {
 			for _, f := range []string{r.Hob, r.Job} {
 				if f != "" {
 					exclude[f] = true
 				}
 			}
-			if r.Job != "" {
+			if r.Job != "" && !jobs[r.Job] {
+				jobs[r.Job] = true
 				excludeJobFiles(dir, r.Job, exclude)
 			}
 		}
