@@ -136,9 +136,9 @@ func withUncertainty(secs []html.Section, u *UncertaintyReport) {
 		return
 	}
 	byLabel := map[string]*FigureUncertainty{
-		"concavity (+ dished)": u.ConcavityMM, "flatness, minimum zone": u.FlatnessMZMM,
-		"rim drop when pressed": u.RockMM, "rim press that tips it": u.TipForceN,
-		"base in contact": u.ContactAreaPct, "heating power lost": u.LossPct, "extra time": u.ExtraTimePct,
+		"concavity (+ dished)": u.figure(figConcavity), "flatness, minimum zone": u.figure(figFlatness),
+		"rim drop when pressed": u.figure(figRock), "rim press that tips it": u.figure(figTipForce),
+		"base in contact": u.figure(figContact), "heating power lost": u.figure(figLoss), "extra time": u.figure(figExtraTime),
 	}
 	for i := range secs {
 		for j := range secs[i].Figures {

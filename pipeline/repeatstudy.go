@@ -46,7 +46,7 @@ const (
 type repeatFigure struct {
 	name, unit string
 	value      func(*Report) (float64, bool)
-	unc        func(*UncertaintyReport) *FigureUncertainty
+	fig        int // its index among the uncertainty figures (figConcavity …)
 }
 
 // repeatFigures are the figures the uncertainty section carries, in its order.
@@ -54,41 +54,41 @@ var repeatFigures = []repeatFigure{
 	{"concavity_mm", "mm", func(r *Report) (float64, bool) {
 		return geo(r, func(g *GeometryReport) float64 { return g.ConcavityMM })
 	},
-		func(u *UncertaintyReport) *FigureUncertainty { return u.ConcavityMM }},
+		figConcavity},
 	{"flatness_mz_mm", "mm", func(r *Report) (float64, bool) {
 		return geo(r, func(g *GeometryReport) float64 { return g.FlatnessMZMM })
 	},
-		func(u *UncertaintyReport) *FigureUncertainty { return u.FlatnessMZMM }},
+		figFlatness},
 	{"rock_mm", "mm", func(r *Report) (float64, bool) {
 		if r.Pose == nil {
 			return 0, false
 		}
 		return r.Pose.RockMM, true
-	}, func(u *UncertaintyReport) *FigureUncertainty { return u.RockMM }},
+	}, figRock},
 	{"tip_force_n", "N", func(r *Report) (float64, bool) {
 		if r.Pose == nil || r.Pose.TipForceN == nil {
 			return 0, false
 		}
 		return *r.Pose.TipForceN, true
-	}, func(u *UncertaintyReport) *FigureUncertainty { return u.TipForceN }},
+	}, figTipForce},
 	{"contact_area_pct", "%", func(r *Report) (float64, bool) {
 		if r.Gap == nil {
 			return 0, false
 		}
 		return r.Gap.ContactAreaPct, true
-	}, func(u *UncertaintyReport) *FigureUncertainty { return u.ContactAreaPct }},
+	}, figContact},
 	{"loss_pct", "%", func(r *Report) (float64, bool) {
 		if r.Heat == nil {
 			return 0, false
 		}
 		return r.Heat.LossPct, true
-	}, func(u *UncertaintyReport) *FigureUncertainty { return u.LossPct }},
+	}, figLoss},
 	{"extra_time_pct", "%", func(r *Report) (float64, bool) {
 		if r.Heatup == nil {
 			return 0, false
 		}
 		return r.Heatup.ExtraTimePct, true
-	}, func(u *UncertaintyReport) *FigureUncertainty { return u.ExtraTimePct }},
+	}, figExtraTime},
 }
 
 func geo(r *Report, f func(*GeometryReport) float64) (float64, bool) {
@@ -384,7 +384,7 @@ func repeatFigureResults(reps []repeatReport) []repeat.Figure {
 			}
 			res := repeat.Result{Name: r.name, Value: v}
 			if u := r.rep.Uncertainty; u != nil {
-				if fu := rf.unc(u); fu != nil {
+				if fu := u.figure(rf.fig); fu != nil {
 					res.U, res.Low, res.High = &fu.U, &fu.Low, &fu.High
 				}
 			}

@@ -140,6 +140,17 @@ const (
 var figNames = [nFig]string{"concavity_mm", "flatness_mz_mm", "rock_mm", "tip_force_n",
 	"contact_area_pct", "loss_pct", "extra_time_pct", "rocks"}
 
+// figure returns the reported uncertainty of figure j (figConcavity …
+// figExtraTime), or nil when it was not evaluated. It reads the named
+// fields, so it serves reports read back from report.json too.
+func (u *UncertaintyReport) figure(j int) *FigureUncertainty {
+	if u == nil || j < 0 || j >= figRocks {
+		return nil
+	}
+	return [figRocks]*FigureUncertainty{figConcavity: u.ConcavityMM, figFlatness: u.FlatnessMZMM, figRock: u.RockMM,
+		figTipForce: u.TipForceN, figContact: u.ContactAreaPct, figLoss: u.LossPct, figExtraTime: u.ExtraTimePct}[j]
+}
+
 // mcInput is one input quantity of the trials.
 type mcInput struct {
 	UncertaintyInput
@@ -552,6 +563,12 @@ func budget(ctx context.Context, t *trialRunner, xs [][]float64, ys [][nFig]floa
 	return b, nil
 }
 
+// figWords names each figure with an uncertainty, and its unit, in the
+// printed summary (indexed like figNames).
+var figWords = [figRocks]struct{ name, unit string }{figConcavity: {"concavity", "mm"},
+	figFlatness: {"flatness (minimum zone)", "mm"}, figRock: {"rock", "mm"}, figTipForce: {"tip force", "N"},
+	figContact: {"contact area", "%"}, figLoss: {"loss", "%"}, figExtraTime: {"extra heat-up time", "%"}}
+
 // expandedDecimals returns the decimal places that give the expanded
 // uncertainty U two significant digits (0 when U is 0 or 10 and above); a
 // value and its interval are printed to the same place (JCGM 100 §7.2.6).
@@ -572,17 +589,14 @@ func uncertaintyText(u *UncertaintyReport) string {
 	}
 	var b strings.Builder
 	fmt.Fprintf(&b, "  uncertainty (%d Monte Carlo trials, %s mode; U = 2u, interval 95 %%):\n", u.Trials, u.Mode)
-	for _, f := range []struct {
-		name, unit string
-		f          *FigureUncertainty
-	}{{"concavity", "mm", u.ConcavityMM}, {"flatness (minimum zone)", "mm", u.FlatnessMZMM}, {"rock", "mm", u.RockMM},
-		{"tip force", "N", u.TipForceN}, {"contact area", "%", u.ContactAreaPct}, {"loss", "%", u.LossPct}, {"extra heat-up time", "%", u.ExtraTimePct}} {
-		if f.f == nil {
+	for j, w := range figWords {
+		f := u.figure(j)
+		if f == nil {
 			continue
 		}
-		U := 2 * f.f.U
+		U := 2 * f.U
 		dec := expandedDecimals(U)
-		fmt.Fprintf(&b, "    %s %.*f ± %.*f %s [%.*f, %.*f]\n", f.name, dec, f.f.Value, dec, U, f.unit, dec, f.f.Low, dec, f.f.High)
+		fmt.Fprintf(&b, "    %s %.*f ± %.*f %s [%.*f, %.*f]\n", w.name, dec, f.Value, dec, U, w.unit, dec, f.Low, dec, f.High)
 	}
 	if !u.Converged {
 		fmt.Fprintf(&b, "    (the trial cap of %d was reached before every figure met its numerical tolerance)\n", u.MaxTrials)
