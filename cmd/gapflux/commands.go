@@ -252,20 +252,7 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return usagef("--shift-mm %v", err)
 	}
-	name := filepath.Base(*out)
-	gz := strings.HasSuffix(strings.ToLower(name), ".gz")
-	base := strings.TrimSuffix(name, filepath.Ext(name))
-	if gz {
-		base = strings.TrimSuffix(base, filepath.Ext(base))
-	}
-	enc := synth.Encoding{Format: *format, Binary: *binary, BigEndian: *bigEndian, Gzip: gz, Unit: *units}
-	if enc.Format == "" {
-		ext := strings.ToLower(filepath.Ext(strings.TrimSuffix(name, ".gz")))
-		enc.Format = strings.TrimPrefix(ext, ".")
-	}
-	if enc.Format == "xyz" || enc.Format == "csv" {
-		enc.Binary = false
-	}
+	base, enc := synthEncoding(*out, synth.Encoding{Format: *format, Binary: *binary, BigEndian: *bigEndian, Unit: *units})
 	rotDeg, offM := [3]float64{r[0], r[1], r[2]}, [3]float64{o[0] / 1e3, o[1] / 1e3, o[2] / 1e3}
 	var sc *synth.Scan
 	if *hobTop {
@@ -289,10 +276,37 @@ func cmdSynth(args []string, stdout, stderr io.Writer) error {
 		// "synth: invalid spec: " says nothing the command name does not.
 		return usagef("%s", strings.TrimPrefix(err.Error(), synth.ErrSpec.Error()+": "))
 	}
-	if err := os.MkdirAll(filepath.Dir(*out), 0o755); err != nil {
+	return writeSynthScan(stdout, filepath.Dir(*out), base, sc, enc)
+}
+
+// synthEncoding returns the base name of the scan file out (without its
+// extension and a .gz) and enc completed from out: gzip from a .gz name,
+// the format from the extension when enc has none, text formats never
+// binary.
+func synthEncoding(out string, enc synth.Encoding) (base string, _ synth.Encoding) {
+	name := filepath.Base(out)
+	enc.Gzip = strings.HasSuffix(strings.ToLower(name), ".gz")
+	base = strings.TrimSuffix(name, filepath.Ext(name))
+	if enc.Gzip {
+		base = strings.TrimSuffix(base, filepath.Ext(base))
+	}
+	if enc.Format == "" {
+		ext := strings.ToLower(filepath.Ext(strings.TrimSuffix(name, ".gz")))
+		enc.Format = strings.TrimPrefix(ext, ".")
+	}
+	if enc.Format == "xyz" || enc.Format == "csv" {
+		enc.Binary = false
+	}
+	return base, enc
+}
+
+// writeSynthScan writes sc and its truth sidecar into dir and says what
+// it wrote.
+func writeSynthScan(stdout io.Writer, dir, base string, sc *synth.Scan, enc synth.Encoding) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
-	scanPath, truthPath, err := synth.WriteFiles(filepath.Dir(*out), base, sc, enc)
+	scanPath, truthPath, err := synth.WriteFiles(dir, base, sc, enc)
 	if err != nil {
 		return err
 	}
