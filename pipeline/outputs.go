@@ -282,14 +282,11 @@ func HumanSummary(res *Result) string {
 }
 
 // signedFixed writes v with prec decimals and an explicit sign, except that
-// a value that rounds to zero reads "0.000" (no "-0.000" beside "+0.000").
+// a value that rounds to zero reads "0.000" (no "-0.000" beside "+0.000");
+// num does the rounding.
 func signedFixed(v float64, prec int) string {
-	t := strconv.FormatFloat(v, 'f', prec, 64)
-	if strings.Trim(t, "-+0.") == "" {
-		return strings.TrimLeft(t, "-+")
+	if roundTo(v, prec) > 0 {
+		return "+" + num(v, prec)
 	}
-	if v > 0 {
-		return "+" + t
-	}
-	return t
+	return num(v, prec)
 }
