@@ -34,6 +34,8 @@ type ScanInput struct {
 	// folder; "" = as given); ReportDir is where report.json goes ("" =
 	// unknown). See AuditReport.
 	Root, ReportDir string
+
+	heatupSamples int // see SurfaceInput.heatupSamples
 }
 
 // Result holds a scan's report and the per-cell fields its maps and field
@@ -283,7 +285,7 @@ func (a *analysis) padAndHob() (SurfaceInput, error) {
 	a.rep.Input.Hob = hobRep
 	res.Hob = hob
 	return SurfaceInput{Name: in.Name, Job: job, Lib: a.lib, Surf: surf, Hob: hob, OffsetM: offsetM,
-		GlassRM: glassR, Heater: heater, RadiusM: a.lev.RadiusM, gate: a.qg}, nil
+		GlassRM: glassR, Heater: heater, RadiusM: a.lev.RadiusM, gate: a.qg, heatupSamples: in.heatupSamples}, nil
 }
 
 // analyzeSurface runs the chain from the (padded) form surface on: rest
@@ -525,51 +527,104 @@ func (s *surfaceRun) heatChecks() error {
 
 // heatup times the heat-up of the water load under the scan and its flat
 // twin. Heat into the pan and power drawn are functions of the water
-// temperature. With a fixed water-side h the base power is linear in the
-// water temperature: a line through the steady solve and one more at the
-// start temperature gives heat-up times within 0.1 % of seven solved
-// samples on the demo's bases, so it is used; the curved natural and
-// boiling water sides are solved at each sample.
+// temperature. With a fixed water-side h the base power is nearly linear
+// in the water temperature: a line through the steady solve and the power
+// at the start temperature (startPower) is used; the curved natural and
+// boiling water sides are solved at each sample. A test input may ask for
+// a number of solved samples instead (heatupSamples).
 func (s *surfaceRun) heatup() error {
 	job, steadyK := s.in.Job, s.steadyK
-	source := func(sol *thermal.Solution) float64 {
-		if sol.HeaterW > 0 {
-			return sol.HeaterW
-		}
-		return sol.PowerW
-	}
 	steady := map[thermal.Interface]*thermal.Solution{s.scanField: s.solScan, s.flatField: s.solFlat}
 	fromK := job.Water.FromC + kelvin
+	samples := s.in.heatupSamples
 	power := func(iface thermal.Interface) thermal.PowerFunc {
-		if job.Water.Side == "fixed" && math.Abs(steadyK-fromK) >= 5 {
-			var s0 *thermal.Solution
-			s1 := steady[iface]
-			return func(tWaterK float64) (float64, float64, error) {
-				if s0 == nil {
-					var err error
-					if s0, err = s.solve(iface, fromK); err != nil {
-						return 0, 0, err
-					}
-				}
-				f := (tWaterK - fromK) / (steadyK - fromK)
-				return s0.PowerW + f*(s1.PowerW-s0.PowerW), source(s0) + f*(source(s1)-source(s0)), nil
-			}
+		if samples == 0 && job.Water.Side == "fixed" && math.Abs(steadyK-fromK) >= 5 {
+			return s.linePower(iface, steady[iface], fromK)
 		}
 		return func(tWaterK float64) (float64, float64, error) {
 			sol, err := s.solve(iface, tWaterK)
 			if err != nil {
 				return 0, 0, err
 			}
-			return sol.PowerW, source(sol), nil
+			return sol.PowerW, sourceW(sol), nil
 		}
 	}
-	hu, err := heatupReport(s.ctx, job, s.in.Lib, s.in.RadiusM, power, s.scanField, s.flatField)
+	hu, err := heatupReport(s.ctx, job, s.in.Lib, s.in.RadiusM, power, s.scanField, s.flatField, samples)
 	if err != nil {
 		return stageErr(s.in.Name, "heat-up", err)
 	}
 	s.rep.Heatup = hu.report
 	s.rep.Warnings = append(s.rep.Warnings, hu.warnings...)
 	return nil
+}
+
+// linePower returns the power into the pan and the power drawn, W, as
+// linear functions of the water temperature through the steady solution
+// and the start temperature fromK, K (startPower, found at the first call).
+func (s *surfaceRun) linePower(iface thermal.Interface, steady *thermal.Solution, fromK float64) thermal.PowerFunc {
+	var start *[2]float64 // power into the pan and drawn at fromK, W
+	return func(tWaterK float64) (float64, float64, error) {
+		if start == nil {
+			panW, srcW, err := s.startPower(iface, steady, fromK)
+			if err != nil {
+				return 0, 0, err
+			}
+			start = &[2]float64{panW, srcW}
+		}
+		f := (tWaterK - fromK) / (s.steadyK - fromK)
+		return start[0] + f*(steady.PowerW-start[0]), start[1] + f*(sourceW(steady)-start[1]), nil
+	}
+}
+
+// sourceW is the power a solution draws from the hob, W: the heater's in
+// heater mode, else the power into the pan.
+func sourceW(sol *thermal.Solution) float64 {
+	if sol.HeaterW > 0 {
+		return sol.HeaterW
+	}
+	return sol.PowerW
+}
+
+// startCellM is the cell of the grid on which startPower moves the water
+// from the steady to the start temperature: the sensitivity table's 2 mm
+// (sensitivityCellM). Our choice, measured on the demo's bases on 1 mm and
+// 0.5 mm analysis grids: heat-up times within 0.1 % of seven samples
+// solved on the analysis grid (0.04 % with the start solved there too),
+// at a sixteenth of the cells on a 0.5 mm grid.
+const startCellM = sensitivityCellM
+
+// startPower returns the power into the pan and the power drawn, W, with
+// the water at fromK, K, for the interface iface whose steady solution on
+// the analysis grid is steady. On a grid finer than startCellM it is the
+// steady power plus the change from the steady to the start temperature
+// on the grid coarsened to startCellM (coarsen; both coarse solves to the
+// analysis tolerances): the change, not the level, comes from the coarse
+// grid. A Monte Carlo trial (already on a coarse grid, its figures shifted
+// to the analysis's) and a grid no finer than startCellM solve the start
+// temperature on the analysis grid.
+func (s *surfaceRun) startPower(iface thermal.Interface, steady *thermal.Solution, fromK float64) (panW, srcW float64, err error) {
+	f := max(1, int(math.Round(startCellM/s.prob.Grid.CellM)))
+	if s.in.Trial || f == 1 {
+		sol, err := s.solve(iface, fromK)
+		if err != nil {
+			return 0, 0, err
+		}
+		return sol.PowerW, sourceW(sol), nil
+	}
+	sv := s.chains[iface].solver
+	c := coarsen(s.prob, f, iface, steady)
+	c.TWaterK = s.steadyK
+	atSteady, err := sv.SolveContext(s.ctx, c)
+	if err != nil {
+		return 0, 0, fmt.Errorf("coarse solve at the steady temperature: %w", err)
+	}
+	c.TWaterK = fromK
+	c.InitialTPanK, c.InitialTGlassK, c.InitialDutyPct = atSteady.TPanK, atSteady.TGlassK, atSteady.DutyPct
+	atStart, err := sv.SolveContext(s.ctx, c)
+	if err != nil {
+		return 0, 0, fmt.Errorf("coarse solve at the start temperature: %w", err)
+	}
+	return steady.PowerW + atStart.PowerW - atSteady.PowerW, sourceW(steady) + sourceW(atStart) - sourceW(atSteady), nil
 }
 
 // hot runs the hot stage when the job asks for it (not in a trial): the

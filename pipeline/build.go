@@ -462,9 +462,10 @@ type heatupOut struct {
 // heatupReport integrates the heat-up of the water load for the scan and
 // its flat twin (DESIGN 5.4; quasi-steady, see thermal.Heatup). power(scanIf)
 // and power(flatIf) run in two goroutines at once, so they must share no
-// solver.
+// solver. samples > 0 sets the number of power samples (a test's
+// reference); 0 takes them by the water side.
 func heatupReport(ctx context.Context, job Job, lib []contact.Material, radiusM float64,
-	power func(thermal.Interface) thermal.PowerFunc, scanIf, flatIf thermal.Interface) (*heatupOut, error) {
+	power func(thermal.Interface) thermal.PowerFunc, scanIf, flatIf thermal.Interface, samples int) (*heatupOut, error) {
 	panCp := job.Pan.CpJKgK
 	if panCp == 0 {
 		m, err := contact.LookupMaterial(lib, job.Pan.Layers[0].Material)
@@ -494,6 +495,9 @@ func heatupReport(ctx context.Context, job Job, lib []contact.Material, radiusM 
 	opt := thermal.HeatupOptions{PowerSamples: 3}
 	if job.Water.Side == "fixed" {
 		opt.PowerSamples = 2
+	}
+	if samples > 0 {
+		opt.PowerSamples = samples
 	}
 	run := func(iface thermal.Interface) (*thermal.HeatupResult, error) {
 		if err := ctx.Err(); err != nil {

@@ -246,7 +246,7 @@ func TestDefaultFlatHeatup(t *testing.T) {
 		return func(tK float64) (float64, float64, error) { return pan(tK), pan(tK), nil }
 	}
 	lib := contact.Materials()
-	hu, err := heatupReport(t.Context(), job, lib, 0.1, power, f, f)
+	hu, err := heatupReport(t.Context(), job, lib, 0.1, power, f, f, 0)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -361,7 +361,7 @@ func hotHeatup(ctx context.Context, in hotInput, hotIf *contact.Field, hotSteady
 			return s0.PowerW + f*(s1.PowerW-s0.PowerW), source(s0) + f*(source(s1)-source(s0)), nil
 		}
 	}
-	hu, err := heatupReport(ctx, job, in.lib, in.radiusM, power, hotIf, in.flatIf)
+	hu, err := heatupReport(ctx, job, in.lib, in.radiusM, power, hotIf, in.flatIf, 0)
 	if err != nil {
 		return nil, err
 	}

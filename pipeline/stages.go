@@ -43,6 +43,10 @@ type SurfaceInput struct {
 	// the flat twin's solves, kept from one trial to the next so that a
 	// trial does not allocate them again; nil means new ones.
 	solvers *[2]thermal.Solver
+	// heatupSamples > 0 solves the heat-up's power at that many water
+	// temperatures on the analysis grid (a test's reference); 0 is the
+	// analysis's own choice (surfaceRun.heatup).
+	heatupSamples int
 }
 
 // warmStart holds the nominal solutions of the scan and its flat twin.
