@@ -440,9 +440,17 @@ func (s *surfaceRun) solveBoth() error {
 	}
 	s.steadyK = s.in.Job.Water.SteadyC + kelvin
 	var solScan, solFlat *thermal.Solution
+	steady := func(iface thermal.Interface) (*thermal.Solution, error) {
+		if !s.in.Trial {
+			if err := s.chains[iface].startCoarse(s.ctx, s.prob, iface, s.steadyK); err != nil {
+				return nil, err
+			}
+		}
+		return s.solve(iface, s.steadyK)
+	}
 	errScan, errFlat := both(
-		func() (err error) { solScan, err = s.solve(s.scanField, s.steadyK); return err },
-		func() (err error) { solFlat, err = s.solve(s.flatField, s.steadyK); return err })
+		func() (err error) { solScan, err = steady(s.scanField); return err },
+		func() (err error) { solFlat, err = steady(s.flatField); return err })
 	if errScan != nil {
 		return stageErr(s.in.Name, "plate solve", errScan)
 	}
