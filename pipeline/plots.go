@@ -410,11 +410,11 @@ func (mp *mapPicture) size() (w, h, legendH vg.Length) {
 	// Measure the data area on a trial canvas, then grow or shrink the
 	// height.
 	trialH := vg.Length(float64(mapPlotW) * aspect)
-	da := p.DataCanvas(draw.New(vgimg.New(mapPlotW, trialH)))
+	da := p.DataCanvas(draw.New(measureCanvas{mapPlotW, trialH}))
 	dw, dh := da.Max.X-da.Min.X, da.Max.Y-da.Min.Y
 	plotH := trialH + vg.Length(float64(dw)*aspect) - dh
 	if mp.entries > 0 {
-		legendH = mp.legend.Rectangle(draw.New(vgimg.New(mapPlotW, plotH))).Size().Y + vg.Points(6)
+		legendH = mp.legend.Rectangle(draw.New(measureCanvas{mapPlotW, plotH})).Size().Y + vg.Points(6)
 	}
 	return mapPlotW + mapBarW, plotH + legendH, legendH
 }
@@ -439,7 +439,7 @@ func (m *MapSpec) plots() (*mapPicture, error) {
 	// (measured on a canvas of the final width; the height follows the
 	// aspect ratio).
 	aspect := (ymax - ymin) / (xmax - xmin)
-	da := p.DataCanvas(draw.New(vgimg.New(mapPlotW, vg.Length(float64(mapPlotW)*aspect))))
+	da := p.DataCanvas(draw.New(measureCanvas{mapPlotW, vg.Length(float64(mapPlotW) * aspect)}))
 	wpx := max(1, int(float64(da.Max.X-da.Min.X)/vg.Inch.Points()*pictureDPI+0.5))
 	hpx := max(1, int(float64(wpx)*aspect+0.5))
 	p.Add(plotter.NewImage(ras.image(wpx, hpx), xmin, ymin, xmax, ymax))
