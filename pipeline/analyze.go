@@ -603,22 +603,33 @@ const startCellM = sensitivityCellM
 
 // startPower returns the power into the pan and the power drawn, W, with
 // the water at fromK, K, for the interface iface whose steady solution on
-// the analysis grid is steady. On a grid finer than startCellM it is the
+// the solve's grid is steady. On a grid finer than startCellM it is the
 // steady power plus the change from the steady to the start temperature
-// on the grid coarsened to startCellM (coarsen; both coarse solves to the
-// analysis tolerances): the change, not the level, comes from the coarse
-// grid. A Monte Carlo trial (already on a coarse grid, its figures shifted
-// to the analysis's) and a grid no finer than startCellM solve the start
-// temperature on the analysis grid.
+// on the grid coarsened to startCellM (coarseStartPower): the change, not
+// the level, comes from the coarse grid. On a grid no finer than
+// startCellM the start temperature is solved on the grid itself. A Monte
+// Carlo trial whose flat twin is unchanged finds the flat twin's once.
 func (s *surfaceRun) startPower(iface thermal.Interface, steady *thermal.Solution, fromK float64) (panW, srcW float64, err error) {
-	f := max(1, int(math.Round(startCellM/s.prob.Grid.CellM)))
-	if s.in.Trial || f == 1 {
+	f := int(math.Round(startCellM / s.prob.Grid.CellM))
+	if f < 2 { // s.solve reuses an unchanged flat twin's solve itself
 		sol, err := s.solve(iface, fromK)
 		if err != nil {
 			return 0, 0, err
 		}
 		return sol.PowerW, sourceW(sol), nil
 	}
+	if iface == s.flatField && s.in.Flat != nil {
+		return s.in.Flat.startPower(fromK, func() (float64, float64, error) {
+			return s.coarseStartPower(iface, steady, fromK, f)
+		})
+	}
+	return s.coarseStartPower(iface, steady, fromK, f)
+}
+
+// coarseStartPower is startPower on the grid coarsened f-fold (coarsen):
+// the steady powers plus the coarse grid's change between the steady and
+// the start temperature, both coarse solves to the solve's tolerances.
+func (s *surfaceRun) coarseStartPower(iface thermal.Interface, steady *thermal.Solution, fromK float64, f int) (panW, srcW float64, err error) {
 	sv := s.chains[iface].solver
 	c := coarsen(s.prob, f, iface, steady)
 	c.TWaterK = s.steadyK

@@ -406,8 +406,28 @@ func hobOn(g, hob *scan.Surface, flat bool) *scan.Surface {
 // at the mean pressure) does not depend on the scanner noise or the base
 // radius, so trials that draw only those reuse its solves.
 type flatReuse struct {
-	mu   sync.Mutex
-	sols map[float64]*thermal.Solution
+	mu    sync.Mutex
+	sols  map[float64]*thermal.Solution
+	start map[float64][2]float64 // startPower's powers by start temperature, W
+}
+
+// startPower returns the flat twin's powers into the pan and drawn, W,
+// at the start temperature fromK (K) as surfaceRun.startPower finds them,
+// finding them once.
+func (r *flatReuse) startPower(fromK float64, find func() (panW, srcW float64, err error)) (panW, srcW float64, err error) {
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	if p, ok := r.start[fromK]; ok {
+		return p[0], p[1], nil
+	}
+	panW, srcW, err = find()
+	if err == nil {
+		if r.start == nil {
+			r.start = map[float64][2]float64{}
+		}
+		r.start[fromK] = [2]float64{panW, srcW}
+	}
+	return panW, srcW, err
 }
 
 // solve returns the solution at tWaterK (K), solving it once.
