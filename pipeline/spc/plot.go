@@ -127,7 +127,7 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 		y      float64
 		dashed bool
 		label  string
-	}{{c.Centre, false, "CL"}, {c.UCL, true, "UCL"}, {c.LCL, true, "LCL"}} {
+	}{{c.Centre, false, "CL " + gfmt(c.Centre)}, {c.UCL, true, "UCL " + gfmt(c.UCL)}, {c.LCL, true, c.LCLText()}} {
 		addHLine(p, h.y, h.dashed, n, h.label)
 	}
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
@@ -163,8 +163,8 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	if err := c.addSeries(p, c.MR, 1); err != nil {
 		return nil, err
 	}
-	addHLine(p, c.MRCentre, false, n, "mean MR")
-	addHLine(p, c.MRUCL, true, n, "UCL")
+	addHLine(p, c.MRCentre, false, n, "mean MR "+gfmt(c.MRCentre))
+	addHLine(p, c.MRUCL, true, n, "UCL "+gfmt(c.MRUCL))
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
 	var flagged plotter.XYs
 	for i, s := range c.MRSignals {
@@ -197,6 +197,21 @@ func (c *Chart) addSeries(p *plot.Plot, v []float64, from int) error {
 	return nil
 }
 
+// LCLText labels the individuals chart's lower limit: "LCL -0.41", or for
+// a clipped limit "LCL 0 (clipped; mean - 3 sigma = -0.41)", so the reader
+// sees both the drawn limit and the one the run-rule zones come from.
+func (c *Chart) LCLText() string {
+	if c.Clipped {
+		return "LCL 0 (clipped; mean - 3 sigma = " + gfmt(c.LCLRaw) + ")"
+	}
+	return "LCL " + gfmt(c.LCL)
+}
+
+// gfmt prints a limit to 4 significant digits.
+func gfmt(v float64) string { return strconv.FormatFloat(v, 'g', 4, 64) }
+
+// addHLine draws a horizontal line at y across the n points, labelled
+// label at its right end.
 func addHLine(p *plot.Plot, y float64, dashed bool, n int, label string) {
 	l, _ := plotter.NewLine(plotter.XYs{{X: 0.5, Y: y}, {X: float64(n) + 0.5, Y: y}})
 	l.Color = inkLimit
@@ -206,7 +221,7 @@ func addHLine(p *plot.Plot, y float64, dashed bool, n int, label string) {
 	}
 	p.Add(l)
 	lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: float64(n) + 0.5, Y: y}},
-		Labels: []string{label + " " + strconv.FormatFloat(y, 'g', 4, 64)}})
+		Labels: []string{label}})
 	if err == nil {
 		lab.TextStyle[0].XAlign = draw.XRight
 		lab.TextStyle[0].YAlign = draw.YBottom
