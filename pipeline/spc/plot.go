@@ -60,7 +60,7 @@ const (
 // top, the moving ranges below, each with its centre line (solid) and
 // limits (dashed), a dotted line after the last baseline point, points
 // that break a rule marked with an open square, and the individuals l.Mark
-// sets ringed with an open circle.
+// sets ringed with an open circle, as are the moving ranges ending at them.
 func (c *Chart) Write(w io.Writer, format string, l Labels) error {
 	var cw vg.CanvasWriterTo
 	switch format {
@@ -147,7 +147,16 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = "moving range"
 	p.Y.Label.Text = "moving range"
-	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range)"
+	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range"
+	marked := c.markedRanges(l.Mark)
+	if len(marked) > 0 {
+		name := l.MarkName
+		if name == "" {
+			name = "marked points"
+		}
+		p.X.Label.Text += "; rings: moving ranges ending at " + name
+	}
+	p.X.Label.Text += "; lower limit 0)"
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
 	p.X.Tick.Marker, p.Y.Tick.Marker = intTicks{}, ticks.Distinct{}
 	n := len(c.Values)
@@ -166,6 +175,9 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	addHLine(p, c.MRCentre, false, n, "mean MR "+gfmt(c.MRCentre))
 	addHLine(p, c.MRUCL, true, n, "UCL "+gfmt(c.MRUCL))
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
+	if err := addMarks(p, marked); err != nil {
+		return nil, err
+	}
 	var flagged plotter.XYs
 	for i, s := range c.MRSignals {
 		if s {
@@ -261,6 +273,20 @@ func (c *Chart) marked(mark []bool) plotter.XYs {
 	for i, m := range mark {
 		if m && i < len(c.Values) {
 			xy = append(xy, plotter.XY{X: float64(i + 1), Y: c.Values[i]})
+		}
+	}
+	return xy
+}
+
+// markedRanges returns the moving ranges that involve a point mark sets as
+// their later point: MR[i] = |x[i] − x[i−1]| for each marked i ≥ 1 (the
+// first point has no moving range); entries past the last point are
+// ignored.
+func (c *Chart) markedRanges(mark []bool) plotter.XYs {
+	var xy plotter.XYs
+	for i, m := range mark {
+		if m && i >= 1 && i < len(c.MR) {
+			xy = append(xy, plotter.XY{X: float64(i + 1), Y: c.MR[i]})
 		}
 	}
 	return xy

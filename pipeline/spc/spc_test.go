@@ -263,7 +263,9 @@ func TestIntTicks(t *testing.T) {
 }
 
 // The individuals Labels.Mark sets are ringed, one ring each, and only
-// they (vgsvg writes a stroke colour as "stroke:#RRGGBB;", upper case);
+// they; on the moving-range panel so is each moving range i whose later
+// point i is marked (MR i involves points i−1 and i; point 1 has none).
+// Common practice for marking new points on an I-MR chart. (vgsvg writes a stroke colour as "stroke:#RRGGBB;", upper case);
 // a point both marked and out of control keeps its square too.
 func TestWriteMarks(t *testing.T) {
 	hex := func(c color.NRGBA) string { return fmt.Sprintf("stroke:#%02X%02X%02X;", c.R, c.G, c.B) }
@@ -276,14 +278,16 @@ func TestWriteMarks(t *testing.T) {
 		name           string
 		values         []float64
 		mark           []bool
-		rings, squares int
+		rings, mrRings int
+		squares        int
 		legend         bool
 	}{
-		{"2 of 5 marked", five, []bool{false, false, false, true, true}, 2, 0, true},
-		{"none marked (nil)", five, nil, 0, 0, false},
-		{"none marked (all false)", five, make([]bool, 5), 0, 0, false},
-		{"marks past the last point ignored", five, []bool{true, false, false, false, false, true, true}, 1, 0, true},
-		{"marked and out of control", shifted, append(make([]bool, 20), true), 1, 2, true},
+		{"2 of 5 marked", five, []bool{false, false, false, true, true}, 2, 2, 0, true},
+		{"none marked (nil)", five, nil, 0, 0, 0, false},
+		{"none marked (all false)", five, make([]bool, 5), 0, 0, 0, false},
+		{"first point has no moving range; marks past the last ignored", five, []bool{true, false, false, false, false, true, true}, 1, 0, 0, true},
+		{"one of two new points is the first", five, []bool{true, true, false, false, false}, 2, 1, 0, true},
+		{"marked and out of control", shifted, append(make([]bool, 20), true), 1, 1, 2, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			c, err := Individuals(tc.values, 20)
@@ -295,15 +299,28 @@ func TestWriteMarks(t *testing.T) {
 				t.Fatal(err)
 			}
 			svg := b.String()
-			if got := strings.Count(svg, ring); got != tc.rings {
-				t.Errorf("%d rings (%q), want %d", got, ring, tc.rings)
+			// The moving-range panel is drawn after the individuals,
+			// starting with its title.
+			cut := strings.Index(svg, ">moving range</text>")
+			if cut < 0 {
+				t.Fatal("no moving-range panel title in the SVG")
+			}
+			top, bottom := svg[:cut], svg[cut:]
+			if got := strings.Count(top, ring); got != tc.rings {
+				t.Errorf("individuals: %d rings (%q), want %d", got, ring, tc.rings)
+			}
+			if got := strings.Count(bottom, ring); got != tc.mrRings {
+				t.Errorf("moving ranges: %d rings (%q), want %d", got, ring, tc.mrRings)
 			}
 			if got := strings.Count(svg, square); got != tc.squares {
 				t.Errorf("%d squares (%q), want %d", got, square, tc.squares)
 			}
 			// vgsvg draws text as <text> with the string escaped.
-			if got := strings.Contains(svg, "rings: this batch&#39;s points"); got != tc.legend {
+			if got := strings.Contains(top, "rings: this batch&#39;s points"); got != tc.legend {
 				t.Errorf("axis label names the rings: %v, want %v", got, tc.legend)
+			}
+			if got := strings.Contains(bottom, "rings: moving ranges ending at this batch&#39;s points"); got != (tc.mrRings > 0) {
+				t.Errorf("moving-range axis label names the rings: %v, want %v", got, tc.mrRings > 0)
 			}
 		})
 	}
