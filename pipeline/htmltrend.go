@@ -76,8 +76,8 @@ func trendView(ctx context.Context, out string, tr IndexTrend, s *Summary) html.
 	}
 	v.Lines = []string{
 		"From the history database " + shown + ", with this batch's rows: one individuals and moving-range (I-MR) control chart per part number of this batch (ISO 7870-2 Shewhart chart), one point per scan that passed or was out of tolerance, in the order measured.",
-		fmt.Sprintf("Baseline window: the centre line and limits of each part come from its first %d points (X̄ ± 3σ̂ with σ̂ = mean moving range / %.3f; moving-range limit %.3f × mean moving range); a part with fewer points has provisional limits from all it has.", trend.DefaultBaseline, spc.D2, spc.D4),
-		"Run rules: Western Electric rules 1–4 on the individuals (" + strings.Join(rules, "; ") + "), and moving ranges above their limit (MR). Points out of control are marked with a square and listed under the chart; this batch's points are ringed.",
+		fmt.Sprintf("Baseline window: the centre line and limits of each part come from its first %d points (X̄ ± 3σ̂ with σ̂ = mean moving range / %.3f; moving-range limit %.3f × mean moving range, lower limit 0); a part with fewer points has provisional limits from all it has. The lower limit of %s is not clipped at 0: a base can come out slightly ahead of its flat twin, so %s can be a little below 0.", trend.DefaultBaseline, spc.D2, spc.D4, fig, fig),
+		"Run rules: Western Electric rules 1–4 on the individuals (" + strings.Join(rules, "; ") + "), and moving ranges above their limit (MR). Points out of control are marked with a square and listed under the chart; this batch's points, and the moving ranges ending at them, are ringed.",
 	}
 	for _, p := range parts {
 		pc := byPart[p]
@@ -146,8 +146,12 @@ func partChartView(pc *trend.PartChart, runID int64) html.TrendChart {
 	if c.Provisional {
 		prov = fmt.Sprintf(", provisional until %d points", trend.DefaultBaseline)
 	}
+	lcl := g(c.LCL)
+	if c.Clipped {
+		lcl = fmt.Sprintf("0 (clipped, %s cannot be negative; X̄ − 3σ̂ = %s%s)", pc.Figure, g(c.LCLRaw), unit)
+	}
 	v.Caption = fmt.Sprintf("%d points of %s (%s); limits from points 1–%d%s: centre %s%s, limits %s to %s%s, moving-range limit %s%s.",
-		len(pc.Points), pc.Figure, tonight, c.Baseline, prov, g(c.Centre), unit, g(c.LCL), g(c.UCL), unit, g(c.MRUCL), unit)
+		len(pc.Points), pc.Figure, tonight, c.Baseline, prov, g(c.Centre), unit, lcl, g(c.UCL), unit, g(c.MRUCL), unit)
 	if pc.Signals() == 0 {
 		v.Caption += " No point out of control."
 	}

@@ -112,6 +112,21 @@ func TestIndexTrendTwoNights(t *testing.T) {
 	if strings.Contains(svg, ">3</text>") {
 		t.Error("night 2: chart has a third point")
 	}
+	// This night's point 2 is ringed on the individuals panel and so is
+	// moving range 2 (|x2 − x1|, which involves it) on the moving-range
+	// panel: two rings in the ring ink (spc's inkMark, #104090), one
+	// after the moving-range panel's title.
+	const ring = "stroke:#104090;"
+	cut := strings.Index(svg, ">moving range</text>")
+	if cut < 0 {
+		t.Fatal("night 2: no moving-range panel")
+	}
+	if top, bottom := strings.Count(svg[:cut], ring), strings.Count(svg[cut:], ring); top != 1 || bottom != 1 {
+		t.Errorf("night 2: %d rings on the individuals and %d on the moving ranges, want 1 and 1", top, bottom)
+	}
+	if w := "rings: moving ranges ending at this batch&#39;s points"; !strings.Contains(svg, w) {
+		t.Errorf("night 2: chart lacks %q", w)
+	}
 }
 
 func keys(m map[string]string) []string {

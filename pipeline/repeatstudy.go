@@ -172,7 +172,7 @@ func loadRepeatReports(ctx context.Context, dir string) ([]repeatReport, []strin
 		if err := ctx.Err(); err != nil {
 			return nil, nil, err
 		}
-		rep, err := readRepeatReport(f)
+		rep, err := readRepeatReport(dir, f)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -191,7 +191,7 @@ func loadRepeatReports(ctx context.Context, dir string) ([]repeatReport, []strin
 // repeatReportFiles lists the report.json files to read and their names.
 func repeatReportFiles(dir string) (files, names, warnings []string, err error) {
 	sumPath := filepath.Join(dir, "summary.json")
-	if b, rerr := readRepeatFile(sumPath, maxRepeatReportBytes); rerr == nil {
+	if b, rerr := readRepeatFile(dir, sumPath, maxRepeatReportBytes); rerr == nil {
 		var s Summary
 		if err := json.Unmarshal(b, &s); err != nil || s.Schema != SchemaSummary {
 			return nil, nil, nil, configf("%s: not a batch summary (%s); give the batch's output folder as the batch wrote it", sumPath, jsonProblem(err, s.Schema))
@@ -215,11 +215,14 @@ func repeatReportFiles(dir string) (files, names, warnings []string, err error) 
 	} else if !errors.Is(rerr, fs.ErrNotExist) {
 		return nil, nil, nil, &ConfigError{Err: rerr}
 	}
+	// A report.json that is a symbolic link is listed too, so that one
+	// leading out of dir is refused by name (readRepeatFile) rather than
+	// left out unseen; WalkDir does not descend into linked folders.
 	err = filepath.WalkDir(dir, func(p string, d fs.DirEntry, err error) error {
 		if err != nil {
 			return err
 		}
-		if d.Name() != "report.json" || !d.Type().IsRegular() {
+		if d.Name() != "report.json" || !(d.Type().IsRegular() || d.Type()&fs.ModeSymlink != 0) {
 			return nil
 		}
 		if len(files) == maxRepeatReports {
@@ -245,11 +248,27 @@ func jsonProblem(err error, schema string) string {
 	return fmt.Sprintf("schema %q, want %q", schema, SchemaSummary)
 }
 
-// readRepeatFile reads a file of at most max bytes.
-func readRepeatFile(name string, max int64) ([]byte, error) {
-	f, err := os.Open(name)
+// readRepeatFile reads the file name inside the folder root (the folder
+// the study was given), of at most max bytes. Nothing outside root is
+// read: a name that leads through a symbolic link to outside root is
+// refused with an error matching ErrPathOutside (checked by
+// ResolveInside, then opened through os.OpenInRoot so a link swapped in
+// between is refused too); a missing file gives an error matching
+// fs.ErrNotExist.
+func readRepeatFile(root, name string, max int64) ([]byte, error) {
+	rel, err := filepath.Rel(root, name)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("%s: not inside %s: %w", name, root, ErrPathNotLocal)
+	}
+	if _, err := ResolveInside(root, filepath.ToSlash(rel)); err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, fmt.Errorf("%s: %w", name, err)
+		}
+		return nil, fmt.Errorf("%s: not read: %w (gapflux repeat reads only files inside the folder it is given, %s)", name, err, root)
+	}
+	f, err := os.OpenInRoot(root, rel)
+	if err != nil {
+		return nil, fmt.Errorf("%s: not read (gapflux repeat reads only files inside the folder it is given, %s): %w", name, root, err)
 	}
 	defer f.Close()
 	b, err := io.ReadAll(io.LimitReader(f, max+1))
@@ -262,11 +281,15 @@ func readRepeatFile(name string, max int64) ([]byte, error) {
 	return b, nil
 }
 
-// readRepeatReport reads one report.json.
-func readRepeatReport(name string) (*Report, error) {
-	b, err := readRepeatFile(name, maxRepeatReportBytes)
-	if err != nil {
+// readRepeatReport reads one report.json, the file name inside the folder
+// root (readRepeatFile).
+func readRepeatReport(root, name string) (*Report, error) {
+	b, err := readRepeatFile(root, name, maxRepeatReportBytes)
+	if errors.Is(err, fs.ErrNotExist) {
 		return nil, configf("%v; run the batch again to write the missing report", err)
+	}
+	if err != nil {
+		return nil, &ConfigError{Err: err}
 	}
 	var rep Report
 	if err := json.Unmarshal(b, &rep); err != nil {

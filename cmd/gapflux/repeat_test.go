@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -106,5 +107,31 @@ func TestUncertaintyFlag(t *testing.T) {
 		if err != nil || job.Uncertainty.Mode != tc.mode {
 			t.Errorf("%v: mode %q (err %v), want %q", tc.args, job.Uncertainty.Mode, err, tc.mode)
 		}
+	}
+}
+
+// TestRepeatCommandLinkOut: a report.json linked to outside the folder
+// given stops the study with exit 2 and a message naming the file, why and
+// what to do (the project rule: nothing is read outside the folders given).
+func TestRepeatCommandLinkOut(t *testing.T) {
+	if runtime.GOOS == "windows" {
+		t.Skip("symbolic links need privileges on Windows")
+	}
+	root := t.TempDir()
+	dir, outside := filepath.Join(root, "given"), filepath.Join(root, "outside")
+	writeReports(t, dir, 0, 0.150)
+	writeReports(t, outside, 0, 0.151)
+	linked := filepath.Join(dir, "scan9", "report.json")
+	if err := os.MkdirAll(filepath.Dir(linked), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Symlink(filepath.Join(outside, "scan0", "report.json"), linked); err != nil {
+		t.Fatal(err)
+	}
+	var stdout, stderr bytes.Buffer
+	code := run(context.Background(), []string{"repeat", dir, "--out", filepath.Join(root, "study")}, &stdout, &stderr)
+	want := linked + ": not read: path leads through a symbolic link to outside the folder: copy the file into the folder or link to a file inside it"
+	if code != exitUsage || !strings.Contains(stderr.String(), want) {
+		t.Errorf("exit %d, want %d; stderr:\n%s\nwant it to contain %q", code, exitUsage, stderr.String(), want)
 	}
 }

@@ -82,6 +82,24 @@ var Figures = []string{
 // IsFigure reports whether name is one of Figures.
 func IsFigure(name string) bool { return slices.Contains(Figures, name) }
 
+// NonNegative reports whether the figure name cannot be below zero by its
+// definition: widths, distances, magnitudes, shares, powers and times.
+// A control chart of such a figure clips its lower limit at 0 (package
+// spc, Spec.NonNegative). Signed figures are not: concavity (negative for
+// a domed base), loss_pct, extra_time_pct and extra_energy_kj (a base can
+// come out a little ahead of its flat twin: 100·(1 − P/P_flat) is below 0
+// when P exceeds P_flat, which the solver's tolerance allows for a
+// near-flat base) and glass_max_c (a temperature in °C).
+func NonNegative(name string) bool {
+	switch name {
+	case "diameter_mm", "flatness_mz_mm", "flatness_ls_mm", "noise_um", "coverage_pct",
+		"tilt_deg", "rock_mm", "contact_area_pct", "mean_gap_mm", "max_gap_mm",
+		"power_w", "flat_power_w", "time_s", "flat_time_s":
+		return true
+	}
+	return false
+}
+
 // Errors a caller can test with errors.Is.
 var (
 	ErrNotFound      = errors.New("no such history database")

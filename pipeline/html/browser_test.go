@@ -147,6 +147,28 @@ func checkImages(t *testing.T, b *browser, page string, wantAtLeast int) {
 	}
 }
 
+// checkFitsWidth asserts that the page and its table sel fit the window's
+// width (1280 px here, a common laptop screen) without a horizontal scroll
+// bar: the document's and the table's scrollWidth, and the table's right
+// edge, at most the viewport's clientWidth (whole pixels; Chromium rounds
+// scrollWidth).
+func checkFitsWidth(t *testing.T, b *browser, page, sel string) {
+	t.Helper()
+	w := eval[[]float64](t, b, `(function () {
+		var tab = document.querySelector(`+strconv.Quote(sel)+`);
+		return [document.documentElement.clientWidth, document.documentElement.scrollWidth,
+			tab.scrollWidth, tab.getBoundingClientRect().right];
+	})()`)
+	for _, c := range []struct {
+		name string
+		px   float64
+	}{{"page scrollWidth", w[1]}, {"table scrollWidth", w[2]}, {"table right edge", w[3]}} {
+		if c.px > w[0]+0.5 {
+			t.Errorf("%s: %s %.0f px, wider than the %.0f px viewport (horizontal scroll)", page, c.name, c.px, w[0])
+		}
+	}
+}
+
 // screenshot writes a full-page PNG into dir and checks that it decodes.
 func screenshot(t *testing.T, b *browser, dir, name string) {
 	t.Helper()
@@ -314,6 +336,7 @@ func TestDemoPagesInBrowser(t *testing.T) {
 		}
 	}
 	checkImages(t, b, "index.html", losses)
+	checkFitsWidth(t, b, "index.html", "#scans")
 	checkLossSort(t, b, losses)
 	screenshot(t, b, shots, "demo-index.png")
 	for _, r := range res.Summary.Rows {
@@ -409,6 +432,7 @@ func TestPagesInBrowser(t *testing.T) {
 		t.Errorf("index order by status = %q, want failed, then rejected first", order)
 	}
 	checkImages(t, b, "index.html", 3) // two thumbnails and the trend chart
+	checkFitsWidth(t, b, "index.html", "#scans")
 	checkTrend(t, b)
 	screenshot(t, b, shots, "index.png")
 

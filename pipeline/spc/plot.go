@@ -60,7 +60,7 @@ const (
 // top, the moving ranges below, each with its centre line (solid) and
 // limits (dashed), a dotted line after the last baseline point, points
 // that break a rule marked with an open square, and the individuals l.Mark
-// sets ringed with an open circle.
+// sets ringed with an open circle, as are the moving ranges ending at them.
 func (c *Chart) Write(w io.Writer, format string, l Labels) error {
 	var cw vg.CanvasWriterTo
 	switch format {
@@ -127,7 +127,7 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 		y      float64
 		dashed bool
 		label  string
-	}{{c.Centre, false, "CL"}, {c.UCL, true, "UCL"}, {c.LCL, true, "LCL"}} {
+	}{{c.Centre, false, "CL " + gfmt(c.Centre)}, {c.UCL, true, "UCL " + gfmt(c.UCL)}, {c.LCL, true, c.LCLText()}} {
 		addHLine(p, h.y, h.dashed, n, h.label)
 	}
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
@@ -147,7 +147,16 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = "moving range"
 	p.Y.Label.Text = "moving range"
-	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range)"
+	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range"
+	marked := c.markedRanges(l.Mark)
+	if len(marked) > 0 {
+		name := l.MarkName
+		if name == "" {
+			name = "marked points"
+		}
+		p.X.Label.Text += "; rings: moving ranges ending at " + name
+	}
+	p.X.Label.Text += "; lower limit 0)"
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
 	p.X.Tick.Marker, p.Y.Tick.Marker = intTicks{}, ticks.Distinct{}
 	n := len(c.Values)
@@ -163,9 +172,12 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	if err := c.addSeries(p, c.MR, 1); err != nil {
 		return nil, err
 	}
-	addHLine(p, c.MRCentre, false, n, "mean MR")
-	addHLine(p, c.MRUCL, true, n, "UCL")
+	addHLine(p, c.MRCentre, false, n, "mean MR "+gfmt(c.MRCentre))
+	addHLine(p, c.MRUCL, true, n, "UCL "+gfmt(c.MRUCL))
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
+	if err := addMarks(p, marked); err != nil {
+		return nil, err
+	}
 	var flagged plotter.XYs
 	for i, s := range c.MRSignals {
 		if s {
@@ -197,6 +209,21 @@ func (c *Chart) addSeries(p *plot.Plot, v []float64, from int) error {
 	return nil
 }
 
+// LCLText labels the individuals chart's lower limit: "LCL -0.41", or for
+// a clipped limit "LCL 0 (clipped; mean - 3 sigma = -0.41)", so the reader
+// sees both the drawn limit and the one the run-rule zones come from.
+func (c *Chart) LCLText() string {
+	if c.Clipped {
+		return "LCL 0 (clipped; mean - 3 sigma = " + gfmt(c.LCLRaw) + ")"
+	}
+	return "LCL " + gfmt(c.LCL)
+}
+
+// gfmt prints a limit to 4 significant digits.
+func gfmt(v float64) string { return strconv.FormatFloat(v, 'g', 4, 64) }
+
+// addHLine draws a horizontal line at y across the n points, labelled
+// label at its right end.
 func addHLine(p *plot.Plot, y float64, dashed bool, n int, label string) {
 	l, _ := plotter.NewLine(plotter.XYs{{X: 0.5, Y: y}, {X: float64(n) + 0.5, Y: y}})
 	l.Color = inkLimit
@@ -206,7 +233,7 @@ func addHLine(p *plot.Plot, y float64, dashed bool, n int, label string) {
 	}
 	p.Add(l)
 	lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: float64(n) + 0.5, Y: y}},
-		Labels: []string{label + " " + strconv.FormatFloat(y, 'g', 4, 64)}})
+		Labels: []string{label}})
 	if err == nil {
 		lab.TextStyle[0].XAlign = draw.XRight
 		lab.TextStyle[0].YAlign = draw.YBottom
@@ -246,6 +273,20 @@ func (c *Chart) marked(mark []bool) plotter.XYs {
 	for i, m := range mark {
 		if m && i < len(c.Values) {
 			xy = append(xy, plotter.XY{X: float64(i + 1), Y: c.Values[i]})
+		}
+	}
+	return xy
+}
+
+// markedRanges returns the moving ranges that involve a point mark sets as
+// their later point: MR[i] = |x[i] − x[i−1]| for each marked i ≥ 1 (the
+// first point has no moving range); entries past the last point are
+// ignored.
+func (c *Chart) markedRanges(mark []bool) plotter.XYs {
+	var xy plotter.XYs
+	for i, m := range mark {
+		if m && i >= 1 && i < len(c.MR) {
+			xy = append(xy, plotter.XY{X: float64(i + 1), Y: c.MR[i]})
 		}
 	}
 	return xy

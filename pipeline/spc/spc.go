@@ -9,6 +9,14 @@
 // X̄ ± 3σ̂ (= X̄ ± 2.660·MR̄) and the moving-range chart has centre MR̄, upper
 // limit D₄·MR̄ with D₄ = 3.267 and lower limit 0 (D₃ = 0 for n = 2).
 //
+// Non-negative quantities (Spec.NonNegative; Montgomery 2013, §6.4 and
+// §7: a lower limit computed below zero for a quantity that cannot be
+// negative is set to zero): the individuals chart's LCL is max(0, X̄ − 3σ̂);
+// Chart.LCLRaw keeps X̄ − 3σ̂. Only the drawn limit and rule 1 use the
+// clipped LCL; the zones of rules 2–4 stay at X̄ ± 1σ̂, 2σ̂ (and the centre
+// line), so clipping never moves a zone. The moving-range chart's lower
+// limit is 0 for every series (a range is non-negative by definition).
+//
 // Run rules: Western Electric rules 1–4 (Western Electric, Statistical
 // Quality Control Handbook, 1956), applied to the individuals chart only.
 // They are not applied to the moving-range chart, whose successive points
@@ -87,9 +95,14 @@ type Chart struct {
 	Provisional bool
 	Centre      float64 // X̄ of the baseline
 	Sigma       float64 // σ̂ = MR̄/d₂; 0 when the baseline has no spread
-	LCL, UCL    float64 // X̄ ∓ 3σ̂
+	LCL, UCL    float64 // X̄ ∓ 3σ̂; LCL at least 0 for a NonNegative chart
 	MRCentre    float64 // MR̄ of the baseline
 	MRUCL       float64 // D₄·MR̄
+	// LCLRaw is X̄ − 3σ̂ before clipping (equal to LCL unless Clipped).
+	LCLRaw float64
+	// NonNegative is Spec.NonNegative; Clipped is true when LCLRaw was
+	// below 0 and LCL was set to 0.
+	NonNegative, Clipped bool
 	// Signals lists, per point, the rules it breaks (nil when none). With
 	// Sigma 0 no rule is checked.
 	Signals [][]Rule
@@ -97,23 +110,50 @@ type Chart struct {
 	MRSignals []bool
 }
 
+// Spec says how to build a chart.
+type Spec struct {
+	// Baseline is the number of leading points the limits come from; at
+	// least 2.
+	Baseline int
+	// NonNegative declares the charted quantity non-negative by definition
+	// (a width, a power, a time): a value below 0 is an error and an LCL
+	// computed below 0 is clipped to 0 (see the package comment). Leave it
+	// false for a figure that can be negative, even if rarely.
+	NonNegative bool
+}
+
+// ErrNegative is returned for a value below 0 in a NonNegative chart.
+var ErrNegative = errors.New("value below 0 for a quantity declared non-negative")
+
 // Individuals builds the I-MR chart of values with limits from the first
 // baseline points (all of them when there are fewer; the chart is then
-// Provisional). baseline must be at least 2.
+// Provisional) and no lower bound on the quantity. baseline must be at
+// least 2.
 func Individuals(values []float64, baseline int) (*Chart, error) {
+	return Build(values, Spec{Baseline: baseline})
+}
+
+// Build builds the I-MR chart of values as spec says: centre X̄ and
+// σ̂ = MR̄/d₂ from the baseline points, limits X̄ ± 3σ̂ (the LCL clipped
+// to 0 for a NonNegative spec), moving-range limit D₄·MR̄, and the run
+// rules' signals.
+func Build(values []float64, spec Spec) (*Chart, error) {
 	if len(values) < 2 {
 		return nil, fmt.Errorf("%w, have %d", ErrTooFew, len(values))
 	}
-	if baseline < 2 {
-		return nil, fmt.Errorf("baseline of %d points: want at least 2", baseline)
+	if spec.Baseline < 2 {
+		return nil, fmt.Errorf("baseline of %d points: want at least 2", spec.Baseline)
 	}
 	for i, v := range values {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return nil, fmt.Errorf("point %d: %w", i+1, ErrBadData)
 		}
+		if spec.NonNegative && v < 0 {
+			return nil, fmt.Errorf("point %d is %g: %w", i+1, v, ErrNegative)
+		}
 	}
-	c := &Chart{Values: append([]float64(nil), values...), Baseline: baseline}
-	if baseline > len(values) {
+	c := &Chart{Values: append([]float64(nil), values...), Baseline: spec.Baseline, NonNegative: spec.NonNegative}
+	if c.Baseline > len(values) {
 		c.Baseline, c.Provisional = len(values), true
 	}
 	c.MR = make([]float64, len(values))
@@ -131,23 +171,45 @@ func Individuals(values []float64, baseline int) (*Chart, error) {
 	c.Centre = sum / float64(c.Baseline)
 	c.MRCentre = mrSum / float64(c.Baseline-1)
 	c.Sigma = c.MRCentre / D2
-	c.LCL, c.UCL = c.Centre-3*c.Sigma, c.Centre+3*c.Sigma
+	c.LCLRaw, c.UCL = c.Centre-3*c.Sigma, c.Centre+3*c.Sigma
+	c.LCL = c.LCLRaw
+	if spec.NonNegative && c.LCLRaw < 0 {
+		c.LCL, c.Clipped = 0, true
+	}
 	c.MRUCL = D4 * c.MRCentre
 	c.MRSignals = make([]bool, len(values))
 	for i := 1; i < len(values); i++ {
 		c.MRSignals[i] = c.Sigma > 0 && c.MR[i] > c.MRUCL
 	}
-	c.Signals = make([][]Rule, len(values))
-	if c.Sigma > 0 {
-		z := make([]float64, len(values))
-		for i, v := range values {
-			z[i] = (v - c.Centre) / c.Sigma
-		}
-		for i := range z {
-			c.Signals[i] = Check(z, i)
-		}
-	}
+	c.Signals = c.signals()
 	return c, nil
+}
+
+// signals applies the run rules to every point: rule 1 against the drawn
+// limits LCL and UCL (the LCL clipped for a NonNegative chart), rules 2–4
+// in the unclipped σ̂ zones (Check). With Sigma 0 no rule is checked.
+func (c *Chart) signals() [][]Rule {
+	out := make([][]Rule, len(c.Values))
+	if c.Sigma <= 0 {
+		return out
+	}
+	z := make([]float64, len(c.Values))
+	for i, v := range c.Values {
+		z[i] = (v - c.Centre) / c.Sigma
+	}
+	for i, v := range c.Values {
+		var rules []Rule
+		if v < c.LCL || v > c.UCL {
+			rules = append(rules, WE1)
+		}
+		for _, r := range Check(z, i) {
+			if r != WE1 {
+				rules = append(rules, r)
+			}
+		}
+		out[i] = rules
+	}
+	return out
 }
 
 // Check returns the rules that point i of the standardised series z

@@ -2,6 +2,7 @@ package spc
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"image/color"
 	"math"
@@ -262,7 +263,9 @@ func TestIntTicks(t *testing.T) {
 }
 
 // The individuals Labels.Mark sets are ringed, one ring each, and only
-// they (vgsvg writes a stroke colour as "stroke:#RRGGBB;", upper case);
+// they; on the moving-range panel so is each moving range i whose later
+// point i is marked (MR i involves points i−1 and i; point 1 has none).
+// Common practice for marking new points on an I-MR chart. (vgsvg writes a stroke colour as "stroke:#RRGGBB;", upper case);
 // a point both marked and out of control keeps its square too.
 func TestWriteMarks(t *testing.T) {
 	hex := func(c color.NRGBA) string { return fmt.Sprintf("stroke:#%02X%02X%02X;", c.R, c.G, c.B) }
@@ -275,14 +278,16 @@ func TestWriteMarks(t *testing.T) {
 		name           string
 		values         []float64
 		mark           []bool
-		rings, squares int
+		rings, mrRings int
+		squares        int
 		legend         bool
 	}{
-		{"2 of 5 marked", five, []bool{false, false, false, true, true}, 2, 0, true},
-		{"none marked (nil)", five, nil, 0, 0, false},
-		{"none marked (all false)", five, make([]bool, 5), 0, 0, false},
-		{"marks past the last point ignored", five, []bool{true, false, false, false, false, true, true}, 1, 0, true},
-		{"marked and out of control", shifted, append(make([]bool, 20), true), 1, 2, true},
+		{"2 of 5 marked", five, []bool{false, false, false, true, true}, 2, 2, 0, true},
+		{"none marked (nil)", five, nil, 0, 0, 0, false},
+		{"none marked (all false)", five, make([]bool, 5), 0, 0, 0, false},
+		{"first point has no moving range; marks past the last ignored", five, []bool{true, false, false, false, false, true, true}, 1, 0, 0, true},
+		{"one of two new points is the first", five, []bool{true, true, false, false, false}, 2, 1, 0, true},
+		{"marked and out of control", shifted, append(make([]bool, 20), true), 1, 1, 2, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			c, err := Individuals(tc.values, 20)
@@ -294,16 +299,140 @@ func TestWriteMarks(t *testing.T) {
 				t.Fatal(err)
 			}
 			svg := b.String()
-			if got := strings.Count(svg, ring); got != tc.rings {
-				t.Errorf("%d rings (%q), want %d", got, ring, tc.rings)
+			// The moving-range panel is drawn after the individuals,
+			// starting with its title.
+			cut := strings.Index(svg, ">moving range</text>")
+			if cut < 0 {
+				t.Fatal("no moving-range panel title in the SVG")
+			}
+			top, bottom := svg[:cut], svg[cut:]
+			if got := strings.Count(top, ring); got != tc.rings {
+				t.Errorf("individuals: %d rings (%q), want %d", got, ring, tc.rings)
+			}
+			if got := strings.Count(bottom, ring); got != tc.mrRings {
+				t.Errorf("moving ranges: %d rings (%q), want %d", got, ring, tc.mrRings)
 			}
 			if got := strings.Count(svg, square); got != tc.squares {
 				t.Errorf("%d squares (%q), want %d", got, square, tc.squares)
 			}
 			// vgsvg draws text as <text> with the string escaped.
-			if got := strings.Contains(svg, "rings: this batch&#39;s points"); got != tc.legend {
+			if got := strings.Contains(top, "rings: this batch&#39;s points"); got != tc.legend {
 				t.Errorf("axis label names the rings: %v, want %v", got, tc.legend)
 			}
+			if got := strings.Contains(bottom, "rings: moving ranges ending at this batch&#39;s points"); got != (tc.mrRings > 0) {
+				t.Errorf("moving-range axis label names the rings: %v, want %v", got, tc.mrRings > 0)
+			}
 		})
+	}
+}
+
+// pairs returns n points alternating a, b, a, ...
+func pairs(n int, a, b float64) []float64 {
+	v := make([]float64, n)
+	for i := range v {
+		v[i] = a
+		if i%2 == 1 {
+			v[i] = b
+		}
+	}
+	return v
+}
+
+// TestNonNegativeLCL checks the clipping of the lower limit of a
+// non-negative quantity (Montgomery 2013, §6.4 and §7: a computed LCL
+// below zero is set to zero). Hand arithmetic for 0.2, 1.0, 0.2, ... (20
+// points): X̄ = 0.6, every moving range 0.8, σ̂ = 0.8/1.128 = 0.709220,
+// X̄ − 3σ̂ = 0.6 − 2.127660 = −1.527660, X̄ + 3σ̂ = 2.727660. The
+// alternating 10.5/9.5 series (TestLimits) has X̄ − 3σ̂ = 7.340426 > 0, so
+// declaring it non-negative changes nothing. Tolerance 1e-6 (the hand
+// figures are rounded to 7 digits).
+func TestNonNegativeLCL(t *testing.T) {
+	for _, tc := range []struct {
+		name                  string
+		v                     []float64
+		nonNeg, clipped       bool
+		lcl, lclRaw, ucl, tol float64
+	}{
+		{"non-negative, clipped", pairs(20, 0.2, 1.0), true, true, 0, -1.527660, 2.727660, 1e-6},
+		{"signed, not clipped", pairs(20, 0.2, 1.0), false, false, -1.527660, -1.527660, 2.727660, 1e-6},
+		{"non-negative, LCL above 0", pairs(20, 10.5, 9.5), true, false, 7.340426, 7.340426, 12.659574, 1e-6},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			c, err := Build(tc.v, Spec{Baseline: 20, NonNegative: tc.nonNeg})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if c.Clipped != tc.clipped {
+				t.Errorf("clipped %v, want %v", c.Clipped, tc.clipped)
+			}
+			for _, f := range []struct {
+				name      string
+				got, want float64
+			}{{"LCL", c.LCL, tc.lcl}, {"LCLRaw", c.LCLRaw, tc.lclRaw}, {"UCL", c.UCL, tc.ucl}} {
+				if math.Abs(f.got-f.want) > tc.tol {
+					t.Errorf("%s = %.7f, want %.7f ± %g", f.name, f.got, f.want, tc.tol)
+				}
+			}
+		})
+	}
+}
+
+// TestNonNegativeZones checks that clipping moves only the drawn limit and
+// rule 1, not the zones of rules 2–4 (common practice, Montgomery 2013,
+// §6.4: the zones are multiples of σ̂ about X̄). On the 0.2/1.0 baseline
+// (X̄ = 0.6, σ̂ = 0.709220) a point at 0.1 is z = −0.705: inside 1σ̂, so
+// no WE2 or WE3, however many follow; zones rebuilt from the clipped limit
+// (σ' = (0.6 − 0)/3 = 0.2) would put it beyond 2σ' and fire WE2. Eight
+// below the centre line fire WE4 at the eighth (point index 27).
+func TestNonNegativeZones(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		tail []float64
+		want map[int][]Rule
+	}{
+		{"three low points", []float64{0.1, 0.1, 0.1}, nil},
+		{"eight low points", []float64{0.1, 0.1, 0.1, 0.1, 0.1, 0.1, 0.1, 0.1}, map[int][]Rule{27: {WE4}}},
+		{"a zero is not beyond LCL 0", []float64{0}, nil},
+		{"WE1 high", []float64{2.8}, map[int][]Rule{20: {WE1}}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			c, err := Build(append(pairs(20, 0.2, 1.0), tc.tail...), Spec{Baseline: 20, NonNegative: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i, s := range c.Signals {
+				if !slices.Equal(s, tc.want[i]) {
+					t.Errorf("point %d: rules %v, want %v", i, s, tc.want[i])
+				}
+			}
+		})
+	}
+	if _, err := Build([]float64{1, -0.1, 2}, Spec{Baseline: 2, NonNegative: true}); !errors.Is(err, ErrNegative) {
+		t.Errorf("negative value in a non-negative chart: error %v, want ErrNegative", err)
+	}
+}
+
+// TestClippedLabel checks that the drawn chart names both the clipped
+// limit and X̄ − 3σ̂ (−1.527660 to 4 digits, from TestNonNegativeLCL).
+func TestClippedLabel(t *testing.T) {
+	for _, tc := range []struct {
+		name   string
+		nonNeg bool
+		want   string
+	}{
+		{"clipped", true, "LCL 0 (clipped; mean - 3 sigma = -1.528)"},
+		{"signed", false, "LCL -1.528"},
+	} {
+		c, err := Build(pairs(20, 0.2, 1.0), Spec{Baseline: 20, NonNegative: tc.nonNeg})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var b bytes.Buffer
+		if err := c.Write(&b, "svg", Labels{Title: "part P", Unit: "width"}); err != nil {
+			t.Fatal(err)
+		}
+		if !strings.Contains(b.String(), tc.want) {
+			t.Errorf("%s: SVG lacks %q", tc.name, tc.want)
+		}
 	}
 }

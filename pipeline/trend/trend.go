@@ -130,7 +130,8 @@ func Load(ctx context.Context, opt Options) ([]PartChart, error) {
 			for i, pt := range pts {
 				v[i] = pt.Value
 			}
-			if pc.Chart, err = spc.Individuals(v, opt.Baseline); err != nil {
+			spec := spc.Spec{Baseline: opt.Baseline, NonNegative: history.NonNegative(opt.Figure)}
+			if pc.Chart, err = spc.Build(v, spec); err != nil {
 				return nil, fmt.Errorf("part %s: %w", p, err)
 			}
 		}
@@ -191,14 +192,16 @@ func Write(out string, charts []PartChart, figure string) ([]string, error) {
 
 // WriteCSV writes one line per point: the part, its place in the series,
 // the batch it came from, the value, its moving range, the limits, whether
-// it is in the baseline, and the rules it breaks (space-separated, e.g.
-// "WE1 WE2"; "MR" when its moving range is above the limit). Limits are
-// empty for a part with fewer than 2 points.
+// it is in the baseline, the rules it breaks (space-separated, e.g.
+// "WE1 WE2"; "MR" when its moving range is above the limit) and the
+// unclipped lower limit X̄ − 3σ̂ (equal to the lcl column unless the figure
+// is non-negative and the limit was clipped to 0). Limits are empty for a
+// part with fewer than 2 points.
 func WriteCSV(w io.Writer, charts []PartChart, figure string) error {
 	cw := csv.NewWriter(w)
 	head := []string{"part_number", "point", "run_id", "run_started_utc", "path", "lot", "status",
 		figure, "moving_range_" + figure, "centre_" + figure, "lcl_" + figure, "ucl_" + figure,
-		"mr_centre_" + figure, "mr_ucl_" + figure, "in_baseline", "rules"}
+		"mr_centre_" + figure, "mr_ucl_" + figure, "in_baseline", "rules", "lcl_unclipped_" + figure}
 	if err := cw.Write(head); err != nil {
 		return err
 	}
@@ -206,7 +209,7 @@ func WriteCSV(w io.Writer, charts []PartChart, figure string) error {
 	for _, pc := range charts {
 		for i, p := range pc.Points {
 			rec := []string{pc.Part, strconv.Itoa(i + 1), strconv.FormatInt(p.RunID, 10), p.Started.UTC().Format(time.RFC3339),
-				p.Path, p.Lot, p.Status, num(p.Value), "", "", "", "", "", "", "", ""}
+				p.Path, p.Lot, p.Status, num(p.Value), "", "", "", "", "", "", "", "", ""}
 			if c := pc.Chart; c != nil {
 				if i > 0 {
 					rec[8] = num(c.MR[i])
@@ -221,6 +224,7 @@ func WriteCSV(w io.Writer, charts []PartChart, figure string) error {
 					rules = append(rules, "MR")
 				}
 				rec[15] = strings.Join(rules, " ")
+				rec[16] = num(c.LCLRaw)
 			}
 			if err := cw.Write(rec); err != nil {
 				return err

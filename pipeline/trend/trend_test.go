@@ -132,3 +132,48 @@ func abs(x float64) float64 {
 	}
 	return x
 }
+
+// TestLoadNonNegative checks that gapflux trend clips the lower limit at 0
+// for a figure non-negative by definition and not for loss_pct, which can
+// be below 0 (Montgomery 2013, §6.4 and §7: a computed LCL below zero of a
+// non-negative quantity is set to zero). Both figures hold 0.02, 0.10,
+// 0.02, ... over 20 nights: X̄ = 0.06, every moving range 0.08,
+// σ̂ = 0.08/1.128 = 0.0709220, X̄ − 3σ̂ = −0.1527660 (to 1e-7).
+func TestLoadNonNegative(t *testing.T) {
+	ctx := context.Background()
+	db := filepath.Join(t.TempDir(), "h.sqlite")
+	st, err := history.Open(ctx, db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k := range 20 {
+		v := 0.02 + 0.08*float64(k%2)
+		row := history.Row{Path: "p.stl", PartNumber: "PN", Status: "ok", Quality: "ok", InputSHA256: fmt.Sprint(k), JobSHA256: "j",
+			Figures: map[string]float64{"flatness_mz_mm": v, "loss_pct": v}}
+		if _, _, err := st.Append(ctx, history.Run{Started: time.Date(2026, 11, 1, 22, 0, 0, 0, time.UTC).AddDate(0, 0, k)}, []history.Row{row}); err != nil {
+			t.Fatal(err)
+		}
+	}
+	st.Close()
+	for _, tc := range []struct {
+		figure  string
+		clipped bool
+		lcl     float64
+	}{{"flatness_mz_mm", true, 0}, {"loss_pct", false, -0.1527660}} {
+		charts, err := Load(ctx, Options{History: db, Figure: tc.figure})
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := charts[0].Chart
+		if c.Clipped != tc.clipped || abs(c.LCL-tc.lcl) > 1e-7 || abs(c.LCLRaw+0.1527660) > 1e-7 {
+			t.Errorf("%s: LCL %.7f (raw %.7f, clipped %v), want %.7f (raw -0.1527660, clipped %v)", tc.figure, c.LCL, c.LCLRaw, c.Clipped, tc.lcl, tc.clipped)
+		}
+		var b bytes.Buffer
+		if err := WriteCSV(&b, charts, tc.figure); err != nil {
+			t.Fatal(err)
+		}
+		if first := strings.Split(b.String(), "\n")[1]; !strings.HasSuffix(first, ",-0.15276596") {
+			t.Errorf("%s: CSV row %q, want the unclipped LCL -0.15276596 last", tc.figure, first)
+		}
+	}
+}
