@@ -606,24 +606,27 @@ const startCellM = sensitivityCellM
 // the solve's grid is steady. On a grid finer than startCellM it is the
 // steady power plus the change from the steady to the start temperature
 // on the grid coarsened to startCellM (coarseStartPower): the change, not
-// the level, comes from the coarse grid. On a grid no finer than
-// startCellM the start temperature is solved on the grid itself. A Monte
-// Carlo trial whose flat twin is unchanged finds the flat twin's once.
+// the level, comes from the coarse grid; a Monte Carlo trial whose flat
+// twin is unchanged finds the flat twin's once. On a grid no finer than
+// startCellM, or when a coarse solve fails, the start temperature is
+// solved on the grid itself.
 func (s *surfaceRun) startPower(iface thermal.Interface, steady *thermal.Solution, fromK float64) (panW, srcW float64, err error) {
-	f := int(math.Round(startCellM / s.prob.Grid.CellM))
-	if f < 2 { // s.solve reuses an unchanged flat twin's solve itself
-		sol, err := s.solve(iface, fromK)
-		if err != nil {
-			return 0, 0, err
+	if f := int(math.Round(startCellM / s.prob.Grid.CellM)); f >= 2 {
+		coarse := func() (float64, float64, error) { return s.coarseStartPower(iface, steady, fromK, f) }
+		if iface == s.flatField && s.in.Flat != nil {
+			panW, srcW, err = s.in.Flat.startPower(fromK, coarse)
+		} else {
+			panW, srcW, err = coarse()
 		}
-		return sol.PowerW, sourceW(sol), nil
+		if err == nil || s.ctx.Err() != nil {
+			return panW, srcW, err
+		}
 	}
-	if iface == s.flatField && s.in.Flat != nil {
-		return s.in.Flat.startPower(fromK, func() (float64, float64, error) {
-			return s.coarseStartPower(iface, steady, fromK, f)
-		})
+	sol, err := s.solve(iface, fromK) // s.solve reuses an unchanged flat twin's solve itself
+	if err != nil {
+		return 0, 0, err
 	}
-	return s.coarseStartPower(iface, steady, fromK, f)
+	return sol.PowerW, sourceW(sol), nil
 }
 
 // coarseStartPower is startPower on the grid coarsened f-fold (coarsen):

@@ -19,13 +19,23 @@ import (
 // heat into the pan, W.
 func benchFixture(t *testing.T, topC, rimGapM, cellM float64) float64 {
 	t.Helper()
+	s, err := thermal.Solve(fixtureProblem(t, topC, rimGapM, cellM, 0.1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return s.PowerW
+}
+
+// fixtureProblem is benchFixture's plate problem for a base of radius rM,
+// m.
+func fixtureProblem(t *testing.T, topC, rimGapM, cellM, rM float64) *thermal.Problem {
+	t.Helper()
 	job := DefaultJob()
 	lib := contact.Materials()
 	ip, err := interfaceParams(job, lib)
 	if err != nil {
 		t.Fatal(err)
 	}
-	const rM = 0.1
 	n := int(math.Round(2*rM/cellM)) + 1
 	g := thermal.Grid{Nx: n, Ny: n, CellM: cellM, X0M: -rM, Y0M: -rM}
 	in := make([]bool, g.Len())
@@ -59,14 +69,9 @@ func benchFixture(t *testing.T, topC, rimGapM, cellM float64) float64 {
 	if err != nil {
 		t.Fatal(err)
 	}
-	p := &thermal.Problem{Grid: g, InBase: in, BaseLayers: layers, Interface: f,
+	return &thermal.Problem{Grid: g, InBase: in, BaseLayers: layers, Interface: f,
 		Water: waterSide(job, 2*rM), TWaterK: job.Water.SteadyC + kelvin,
 		Temperature: &thermal.TemperatureHob{TopK: fillK(g.Len(), topC+kelvin)}}
-	s, err := thermal.Solve(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return s.PowerW
 }
 
 func fillK(n int, v float64) []float64 {

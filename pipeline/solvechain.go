@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 
 	"gapflux/thermal"
 )
@@ -38,7 +39,8 @@ func (c *solveChain) solve(ctx context.Context, prob *thermal.Problem, iface the
 // to prob's grid (prolong) as the warm start of its first solve. The
 // converged solve is the same to the solver's tolerances; the start only
 // saves outer iterations: on the demo's bases 2 of 7 to 9, on a 0.5 mm
-// grid 2 of 7 and 9.
+// grid 2 of 7 and 9. A coarse solve that fails, or holds no base cell,
+// leaves the built-in start (only a cancelled ctx is an error).
 func (c *solveChain) startCoarse(ctx context.Context, prob *thermal.Problem, iface thermal.Interface, tWaterK float64) error {
 	f := int(math.Round(startCellM / prob.Grid.CellM))
 	if c.last != nil || f < 2 {
@@ -49,7 +51,13 @@ func (c *solveChain) startCoarse(ctx context.Context, prob *thermal.Problem, ifa
 	q.RelTol, q.OuterTolK = sensitivityRelTol, sensitivityOuterTol
 	sol, err := c.solver.SolveContext(ctx, q)
 	if err != nil {
-		return fmt.Errorf("coarse start: %w", err)
+		if ctx.Err() != nil {
+			return fmt.Errorf("coarse start: %w", err)
+		}
+		return nil
+	}
+	if !slices.ContainsFunc(sol.TPanK, func(t float64) bool { return !math.IsNaN(t) }) {
+		return nil
 	}
 	c.last = &thermal.Solution{TPanK: prolong(sol.TPanK, q.Grid, prob.Grid, f), DutyPct: sol.DutyPct}
 	if sol.TGlassK != nil {

@@ -1,6 +1,8 @@
 package pipeline
 
 import (
+	"context"
+	"errors"
 	"math"
 	"testing"
 
@@ -44,5 +46,51 @@ func TestProlong(t *testing.T) {
 				t.Fatalf("f=%d: cell %d = %g with a single finite coarse value 350", f, k, x)
 			}
 		}
+	}
+}
+
+// TestStartCoarse checks the coarse start of a chain's first solve on the
+// default 200 mm base at 0.5 mm cells (hob top at 250 °C, a 0.3 mm rim
+// lift): the solve from it converges to the solve from the built-in start
+// (heat into the pan within 1e-8 relative: the outer tolerance, 1e-6 K,
+// over tens of kelvin across the interface) in no more outer iterations;
+// a base too small to hold a cell of the 2 mm grid leaves the built-in
+// start; a cancelled context is an error.
+func TestStartCoarse(t *testing.T) {
+	p := fixtureProblem(t, 250, 0.3e-3, 0.5e-3, 0.1)
+	plain, err := thermal.Solve(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := &solveChain{solver: new(thermal.Solver)}
+	if err := c.startCoarse(context.Background(), p, p.Interface, p.TWaterK); err != nil {
+		t.Fatal(err)
+	}
+	if c.last == nil {
+		t.Fatal("no coarse start on a 0.5 mm grid")
+	}
+	got, err := c.solve(context.Background(), p, p.Interface, p.TWaterK)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := math.Abs(got.PowerW/plain.PowerW - 1); d > 1e-8 {
+		t.Errorf("power %.9g W from the coarse start, %.9g W from the built-in start (relative %.2g)", got.PowerW, plain.PowerW, d)
+	}
+	if got.OuterIterations > plain.OuterIterations {
+		t.Errorf("%d outer iterations from the coarse start, %d from the built-in start", got.OuterIterations, plain.OuterIterations)
+	}
+	t.Logf("outer iterations: %d from the coarse start, %d from the built-in start", got.OuterIterations, plain.OuterIterations)
+
+	tiny := fixtureProblem(t, 250, 0, 0.5e-3, 0.5e-3) // 1 mm across: the one 2 mm cell centre lies off it
+	c = &solveChain{solver: new(thermal.Solver)}
+	if err := c.startCoarse(context.Background(), tiny, tiny.Interface, tiny.TWaterK); err != nil || c.last != nil {
+		t.Errorf("tiny base: error %v, start set %v; want the built-in start", err, c.last != nil)
+	}
+
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	c = &solveChain{solver: new(thermal.Solver)}
+	if err := c.startCoarse(ctx, p, p.Interface, p.TWaterK); !errors.Is(err, context.Canceled) {
+		t.Errorf("cancelled: error %v, want context.Canceled", err)
 	}
 }
