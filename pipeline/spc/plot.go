@@ -100,11 +100,7 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4", c.Baseline)
 	marked := c.marked(l.Mark)
 	if len(marked) > 0 {
-		name := l.MarkName
-		if name == "" {
-			name = "marked points"
-		}
-		p.X.Label.Text += "; rings: " + name
+		p.X.Label.Text += "; rings: " + l.markName()
 	}
 	p.X.Label.Text += ")"
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
@@ -143,6 +139,14 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 	return p, addSignals(p, flagged)
 }
 
+// markName is what the axis labels call the marked points.
+func (l Labels) markName() string {
+	if l.MarkName == "" {
+		return "marked points"
+	}
+	return l.MarkName
+}
+
 func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = "moving range"
@@ -150,11 +154,7 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range"
 	marked := c.markedRanges(l.Mark)
 	if len(marked) > 0 {
-		name := l.MarkName
-		if name == "" {
-			name = "marked points"
-		}
-		p.X.Label.Text += "; rings: moving ranges ending at " + name
+		p.X.Label.Text += "; rings: moving ranges ending at " + l.markName()
 	}
 	p.X.Label.Text += "; lower limit 0)"
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
