@@ -41,63 +41,6 @@ const (
 	maxRepeatReportBytes = 64 << 20
 )
 
-// repeatFigure is one headline figure: its name (with unit), unit, and
-// where a report holds it and its uncertainty.
-type repeatFigure struct {
-	name, unit string
-	value      func(*Report) (float64, bool)
-	fig        int // its index among the uncertainty figures (figConcavity …)
-}
-
-// repeatFigures are the figures the uncertainty section carries, in its order.
-var repeatFigures = []repeatFigure{
-	{"concavity_mm", "mm", func(r *Report) (float64, bool) {
-		return geo(r, func(g *GeometryReport) float64 { return g.ConcavityMM })
-	},
-		figConcavity},
-	{"flatness_mz_mm", "mm", func(r *Report) (float64, bool) {
-		return geo(r, func(g *GeometryReport) float64 { return g.FlatnessMZMM })
-	},
-		figFlatness},
-	{"rock_mm", "mm", func(r *Report) (float64, bool) {
-		if r.Pose == nil {
-			return 0, false
-		}
-		return r.Pose.RockMM, true
-	}, figRock},
-	{"tip_force_n", "N", func(r *Report) (float64, bool) {
-		if r.Pose == nil || r.Pose.TipForceN == nil {
-			return 0, false
-		}
-		return *r.Pose.TipForceN, true
-	}, figTipForce},
-	{"contact_area_pct", "%", func(r *Report) (float64, bool) {
-		if r.Gap == nil {
-			return 0, false
-		}
-		return r.Gap.ContactAreaPct, true
-	}, figContact},
-	{"loss_pct", "%", func(r *Report) (float64, bool) {
-		if r.Heat == nil {
-			return 0, false
-		}
-		return r.Heat.LossPct, true
-	}, figLoss},
-	{"extra_time_pct", "%", func(r *Report) (float64, bool) {
-		if r.Heatup == nil {
-			return 0, false
-		}
-		return r.Heatup.ExtraTimePct, true
-	}, figExtraTime},
-}
-
-func geo(r *Report, f func(*GeometryReport) float64) (float64, bool) {
-	if r.Geometry == nil {
-		return 0, false
-	}
-	return f(r.Geometry), true
-}
-
 // repeatReport is one report of the study and the base it is of.
 type repeatReport struct {
 	name string // batch path or report folder, slash-separated
@@ -396,18 +339,18 @@ func checkRepeatJobs(reps []repeatReport, allowMixed bool) ([]string, error) {
 
 // repeatFigureResults turns the reports into the figures' results by base.
 func repeatFigureResults(reps []repeatReport) []repeat.Figure {
-	figs := make([]repeat.Figure, len(repeatFigures))
-	for i, rf := range repeatFigures {
+	figs := make([]repeat.Figure, figRocks)
+	for j := range figs {
 		groups := map[string]*repeat.Group{}
 		var order []string
 		for _, r := range reps {
-			v, ok := rf.value(r.rep)
+			v, ok := r.rep.figure(j)
 			if !ok {
 				continue
 			}
 			res := repeat.Result{Name: r.name, Value: v}
 			if u := r.rep.Uncertainty; u != nil {
-				if fu := u.figure(rf.fig); fu != nil {
+				if fu := u.figure(j); fu != nil {
 					res.U, res.Low, res.High = &fu.U, &fu.Low, &fu.High
 				}
 			}
@@ -419,13 +362,13 @@ func repeatFigureResults(reps []repeatReport) []repeat.Figure {
 			}
 			g.Results = append(g.Results, res)
 		}
-		figs[i] = repeat.Figure{Name: rf.name, Unit: rf.unit}
+		figs[j] = repeat.Figure{Name: figNames[j], Unit: figUnits[j]}
 		for _, b := range order {
-			figs[i].Groups = append(figs[i].Groups, *groups[b])
+			figs[j].Groups = append(figs[j].Groups, *groups[b])
 		}
 		if len(order) == 0 {
-			figs[i].Note = "no report carries this figure"
-			figs[i].Groups = []repeat.Group{}
+			figs[j].Note = "no report carries this figure"
+			figs[j].Groups = []repeat.Group{}
 		}
 	}
 	return figs

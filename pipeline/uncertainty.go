@@ -140,6 +140,33 @@ const (
 var figNames = [nFig]string{"concavity_mm", "flatness_mz_mm", "rock_mm", "tip_force_n",
 	"contact_area_pct", "loss_pct", "extra_time_pct", "rocks"}
 
+// figUnits are the figures' units, in figNames' order.
+var figUnits = [nFig]string{"mm", "mm", "mm", "N", "%", "%", "%", ""}
+
+// figure returns the report's value of figure j (figConcavity …
+// figExtraTime), false when the report lacks it (a rejected scan, a
+// tip force not found). Like UncertaintyReport.figure it reads the named
+// fields, so it serves reports read back from report.json.
+func (r *Report) figure(j int) (float64, bool) {
+	switch {
+	case j == figConcavity && r.Geometry != nil:
+		return r.Geometry.ConcavityMM, true
+	case j == figFlatness && r.Geometry != nil:
+		return r.Geometry.FlatnessMZMM, true
+	case j == figRock && r.Pose != nil:
+		return r.Pose.RockMM, true
+	case j == figTipForce && r.Pose != nil && r.Pose.TipForceN != nil:
+		return *r.Pose.TipForceN, true
+	case j == figContact && r.Gap != nil:
+		return r.Gap.ContactAreaPct, true
+	case j == figLoss && r.Heat != nil:
+		return r.Heat.LossPct, true
+	case j == figExtraTime && r.Heatup != nil:
+		return r.Heatup.ExtraTimePct, true
+	}
+	return 0, false
+}
+
 // figure returns the reported uncertainty of figure j (figConcavity …
 // figExtraTime), or nil when it was not evaluated. It reads the named
 // fields, so it serves reports read back from report.json too.
