@@ -6,7 +6,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"io"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -507,12 +506,12 @@ func readReportFile(path string) ([]byte, *Report, error) {
 		return nil, nil, configf("%s: %v", path, errors.Unwrap(err))
 	}
 	defer f.Close()
-	b, err := io.ReadAll(io.LimitReader(f, maxReportBytes+1))
+	b, err := readAtMost(f, maxReportBytes)
+	if errors.Is(err, errTooLarge) {
+		return nil, nil, configf("%s: larger than %d MiB, not a gapflux report.json", path, maxReportBytes>>20)
+	}
 	if err != nil {
 		return nil, nil, configf("%s: %v", path, err)
-	}
-	if len(b) > maxReportBytes {
-		return nil, nil, configf("%s: larger than %d MiB, not a gapflux report.json", path, maxReportBytes>>20)
 	}
 	var rep Report
 	if err := json.Unmarshal(b, &rep); err != nil {

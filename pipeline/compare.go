@@ -5,6 +5,7 @@ import (
 	"context"
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -279,14 +280,27 @@ func readBounded(path string, maxBytes int64) ([]byte, error) {
 		return nil, err
 	}
 	defer f.Close()
-	raw, err := io.ReadAll(io.LimitReader(f, maxBytes+1))
+	raw, err := readAtMost(f, maxBytes)
+	if errors.Is(err, errTooLarge) {
+		return nil, fmt.Errorf("%s: larger than %d bytes", path, maxBytes)
+	}
+	return raw, err
+}
+
+// errTooLarge is readAtMost's error for a reader holding more than asked.
+var errTooLarge = errors.New("larger than the limit")
+
+// readAtMost reads all of r when it holds at most maxBytes; with more it
+// stops after maxBytes+1 bytes and fails with errTooLarge.
+func readAtMost(r io.Reader, maxBytes int64) ([]byte, error) {
+	b, err := io.ReadAll(io.LimitReader(r, maxBytes+1))
 	if err != nil {
 		return nil, err
 	}
-	if int64(len(raw)) > maxBytes {
-		return nil, fmt.Errorf("%s: larger than %d bytes", path, maxBytes)
+	if int64(len(b)) > maxBytes {
+		return nil, errTooLarge
 	}
-	return raw, nil
+	return b, nil
 }
 
 func alignmentFacts(fit *align.Result) AlignmentFacts {

@@ -214,12 +214,12 @@ func readRepeatFile(root, name string, max int64) ([]byte, error) {
 		return nil, fmt.Errorf("%s: not read (gapflux repeat reads only files inside the folder it is given, %s): %w", name, root, err)
 	}
 	defer f.Close()
-	b, err := io.ReadAll(io.LimitReader(f, max+1))
+	b, err := readAtMost(f, max)
+	if errors.Is(err, errTooLarge) {
+		return nil, fmt.Errorf("%s: larger than %d MB: not a file gapflux wrote", name, max>>20)
+	}
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", name, err)
-	}
-	if int64(len(b)) > max {
-		return nil, fmt.Errorf("%s: larger than %d MB: not a file gapflux wrote", name, max>>20)
 	}
 	return b, nil
 }
