@@ -12,7 +12,7 @@ import (
 
 // TestHeatupStartOnCoarseGrid checks the heat-up of a fixed water side,
 // whose start-temperature power comes from the grid coarsened to
-// startCellM (startPower), against the reference of seven water
+// 2 mm (startPower), against the reference of seven water
 // temperatures each solved on the analysis grid (Fritsch–Butland
 // interpolation between them, as thermal.Heatup does with any sample
 // count). Tolerances, our acceptance: 0.1 % of the heat-up time, and 1.5 %

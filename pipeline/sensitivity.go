@@ -94,6 +94,13 @@ func sensitivityCases(job Job) []sensitivityCase {
 // a point of the 0.5 mm figure, while only differences are taken.
 const sensitivityCellM = 2e-3
 
+// coarseFactor is the f of coarsen that takes grid g to the 2 mm grid of
+// the sensitivity table and the coarse starts (sensitivityCellM): the
+// whole number nearest to 2 mm / cell, at least 1.
+func coarseFactor(g thermal.Grid) int {
+	return max(1, int(math.Round(sensitivityCellM/g.CellM)))
+}
+
 // sensitivity gives loss_pct with each hob setting of sensitivityCases
 // moved. The scan and its flat twin are solved on a coarser grid
 // (coarsen; sensitivityCellM), once as reported and once per moved
@@ -110,7 +117,7 @@ func sensitivity(ctx context.Context, job Job, prob *thermal.Problem, scanIf, fl
 		return nil, nil
 	}
 	reported := 100 * (1 - solScan.PowerW/solFlat.PowerW)
-	f := max(1, int(math.Round(sensitivityCellM/prob.Grid.CellM)))
+	f := coarseFactor(prob.Grid)
 	var basePW [2]float64 // per side: the coarse reported power, W
 	var pw [2][]float64   // per side and case: the power with the setting moved, W
 	side := func(i int, iface thermal.Interface, sol *thermal.Solution) error {

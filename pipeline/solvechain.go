@@ -33,8 +33,8 @@ func (c *solveChain) solve(ctx context.Context, prob *thermal.Problem, iface the
 }
 
 // startCoarse gives the chain, when it has no previous solution and
-// prob's grid is finer than startCellM, the solution of prob with iface
-// and the water at tWaterK, K, on the grid coarsened to startCellM
+// prob's grid is finer than 2 mm, the solution of prob with iface and
+// the water at tWaterK, K, on the grid coarsened to 2 mm (coarseFactor)
 // (coarsen, to the sensitivity table's looser tolerances) and spread back
 // to prob's grid (prolong) as the warm start of its first solve. The
 // converged solve is the same to the solver's tolerances; the start only
@@ -42,7 +42,7 @@ func (c *solveChain) solve(ctx context.Context, prob *thermal.Problem, iface the
 // grid 2 of 7 and 9. A coarse solve that fails, or holds no base cell,
 // leaves the built-in start (only a cancelled ctx is an error).
 func (c *solveChain) startCoarse(ctx context.Context, prob *thermal.Problem, iface thermal.Interface, tWaterK float64) error {
-	f := int(math.Round(startCellM / prob.Grid.CellM))
+	f := coarseFactor(prob.Grid)
 	if c.last != nil || f < 2 {
 		return nil
 	}
