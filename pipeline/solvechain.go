@@ -59,9 +59,9 @@ func (c *solveChain) startCoarse(ctx context.Context, prob *thermal.Problem, ifa
 	if !slices.ContainsFunc(sol.TPanK, func(t float64) bool { return !math.IsNaN(t) }) {
 		return nil
 	}
-	c.last = &thermal.Solution{TPanK: prolong(sol.TPanK, q.Grid, prob.Grid, f), DutyPct: sol.DutyPct}
+	c.last = &thermal.Solution{TPanK: prolong(sol.TPanK, q.Grid, prob.Grid, f, prob.InBase), DutyPct: sol.DutyPct}
 	if sol.TGlassK != nil {
-		c.last.TGlassK = prolong(sol.TGlassK, q.Grid, prob.Grid, f)
+		c.last.TGlassK = prolong(sol.TGlassK, q.Grid, prob.Grid, f, nil)
 	}
 	return nil
 }
@@ -71,8 +71,12 @@ func (c *solveChain) startCoarse(ctx context.Context, prob *thermal.Problem, ifa
 // finite values of the (up to four) coarse cells whose centres surround its
 // centre, bilinearly weighted, or else the nearest finite coarse value
 // within four coarse cells, or else the mean of all finite values. Every
-// cell of the result is finite when v has a finite value.
-func prolong(v []float64, cg, g thermal.Grid, f int) []float64 {
+// cell of the result is finite when v has a finite value, except that with
+// need not nil the cells k with need[k] false are NaN: the solver reads a
+// start only at its active nodes, and the pan layer's grid is mostly
+// uncovered glass, where the nearest-value search would cost more than
+// the rest of the spread (about 0.15 s of CPU on a 0.5 mm heater grid).
+func prolong(v []float64, cg, g thermal.Grid, f int, need []bool) []float64 {
 	var sum float64
 	var n int
 	for _, x := range v {
@@ -94,6 +98,10 @@ func prolong(v []float64, cg, g thermal.Grid, f int) []float64 {
 		j0 := int(math.Floor(y))
 		wy := y - float64(j0)
 		for I := 0; I < g.Nx; I++ {
+			if need != nil && !need[J*g.Nx+I] {
+				out[J*g.Nx+I] = math.NaN()
+				continue
+			}
 			x := float64(I-o) / float64(f)
 			i0 := int(math.Floor(x))
 			wx := x - float64(i0)

@@ -13,7 +13,8 @@ import (
 // interpolation reproduces a field linear in x and y exactly (to rounding,
 // 1e-9 K) between the outermost coarse centres, and with a single finite
 // coarse value every output cell takes it (the nearest-value and mean
-// fallbacks), for coarsening factors 2, 3 and 4.
+// fallbacks), for coarsening factors 2, 3 and 4; cells a mask leaves out
+// are NaN and the others unchanged.
 func TestProlong(t *testing.T) {
 	g := thermal.Grid{Nx: 21, Ny: 17, CellM: 0.5e-3}
 	for _, f := range []int{2, 3, 4} {
@@ -27,12 +28,22 @@ func TestProlong(t *testing.T) {
 				v[j*cg.Nx+i] = lin(float64(f*i+o), float64(f*j+o))
 			}
 		}
-		out := prolong(v, cg, g, f)
+		out := prolong(v, cg, g, f, nil)
 		for J := o; J <= f*(cg.Ny-1)+o; J++ {
 			for I := o; I <= f*(cg.Nx-1)+o; I++ {
 				if got, want := out[J*g.Nx+I], lin(float64(I), float64(J)); math.Abs(got-want) > 1e-9 {
 					t.Fatalf("f=%d: cell (%d, %d) = %.12g, want %.12g (linear field)", f, I, J, got, want)
 				}
+			}
+		}
+		// A mask: the cells it leaves out are NaN, the others as without it.
+		need := make([]bool, g.Len())
+		for k := range need {
+			need[k] = k%3 != 0
+		}
+		for k, x := range prolong(v, cg, g, f, need) {
+			if need[k] && x != out[k] || !need[k] && !math.IsNaN(x) {
+				t.Fatalf("f=%d: masked cell %d (need %v) = %g, unmasked %g", f, k, need[k], x, out[k])
 			}
 		}
 		// Holes: only one finite coarse value.
@@ -41,7 +52,7 @@ func TestProlong(t *testing.T) {
 			one[k] = math.NaN()
 		}
 		one[cg.Len()/2] = 350
-		for k, x := range prolong(one, cg, g, f) {
+		for k, x := range prolong(one, cg, g, f, nil) {
 			if x != 350 {
 				t.Fatalf("f=%d: cell %d = %g with a single finite coarse value 350", f, k, x)
 			}
