@@ -1504,19 +1504,25 @@ func linkFlux(law surfaceLaw, tNode, tRes, halfR, tsGuess float64) (ts, q, g flo
 // solution evaluates the outputs at the converged temperatures.
 func (s *plate) solution() (*Solution, error) {
 	n, a := s.n, s.areaM2
+	v := s.handOver()
+	defer s.dropHandedOver()
 	sol := &Solution{
-		TPanK:            make([]float64, n),
-		FluxWM2:          make([]float64, n),
-		SolidWM2K:        make([]float64, n),
-		GasWM2K:          make([]float64, n),
-		RadWM2K:          make([]float64, n),
+		TPanK:            v[0],
+		FluxWM2:          v[1],
+		SolidWM2K:        v[2],
+		GasWM2K:          v[3],
+		RadWM2K:          v[4],
 		LinearIterations: s.linIter,
 		OuterIterations:  s.outer,
 		RelResidual:      s.relRes,
 	}
+	if s.nl == 2 {
+		sol.TGlassK = v[5]
+	}
 	for k := 0; k < n; k++ {
 		if !s.pan[k] {
 			sol.TPanK[k] = math.NaN()
+			sol.FluxWM2[k], sol.SolidWM2K[k], sol.GasWM2K[k], sol.RadWM2K[k] = 0, 0, 0, 0
 			continue
 		}
 		tp := s.t[k]
@@ -1563,9 +1569,47 @@ func (s *plate) solution() (*Solution, error) {
 	return sol, nil
 }
 
+// handOver returns the six per-cell vectors of a Solution (TPanK, FluxWM2,
+// SolidWM2K, GasWM2K, RadWM2K and, in heater mode, TGlassK), each of s.n
+// cells, made of the work vectors a converged solve no longer needs: the
+// state t (whose layers are TPanK and TGlassK, read in place by solution)
+// and the linear solution and right-hand side next and bRest. The plate
+// drops them, so that the Solver allocates them afresh for its next solve
+// on this grid, and the solution does not copy some 13 MB on a 0.5 mm
+// heater grid while the work buffers are live: the memory a scan and its
+// flat twin solved at once hold at their peak. With one layer only t,
+// next and bRest's single layers are there to take; the rest is allocated.
+// Until dropHandedOver, the plate still reads t: solution fills the vectors
+// in place, every cell once, after the last read of what they held.
+func (s *plate) handOver() [6][]float64 {
+	n := s.n
+	var v [6][]float64
+	free := [][]float64{s.next, s.bRest}
+	v[0] = s.t[:n:n]
+	if s.nl == 2 {
+		v[5] = s.t[n : 2*n : 2*n]
+	}
+	k := 1
+	for _, w := range free {
+		for o := 0; o+n <= len(w) && k < 5; o += n {
+			v[k] = w[o : o+n : o+n]
+			k++
+		}
+	}
+	for ; k < 5; k++ {
+		v[k] = make([]float64, n)
+	}
+	return v
+}
+
+// dropHandedOver drops the vectors handOver gave a Solution, so that no
+// later solve on the plate's storage overwrites them.
+func (s *plate) dropHandedOver() {
+	s.t, s.next, s.dir, s.bRest, s.rhs = nil, nil, nil, nil, nil
+}
+
 func (s *plate) heaterOutputs(sol *Solution) error {
 	n, a, h := s.n, s.areaM2, s.p.Heater
-	sol.TGlassK = make([]float64, n)
 	sol.GlassMaxK = math.Inf(-1)
 	outside := 0
 	for k := 0; k < n; k++ {

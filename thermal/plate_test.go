@@ -857,7 +857,8 @@ func sameSolution(a, b *Solution) string {
 
 // TestWorkspaceReuse: a solve in storage left by another problem on the same
 // grid (other base mask, interface, limiter state and hob mode) gives the
-// same bits as a solve in fresh storage, and a Solver reusing its buffers agrees too.
+// same bits as a solve in fresh storage, and a Solver reusing its buffers
+// agrees too; a solution keeps its values through the Solver's next solve.
 func TestWorkspaceReuse(t *testing.T) {
 	heaterA := heaterScene(0.004, stubRad{gas: 60, eps1: 0.9, eps2: 0.3}) // limiter engaged
 	heaterB := heaterScene(0.004, stubH{0, 1500, 10})
@@ -897,6 +898,18 @@ func TestWorkspaceReuse(t *testing.T) {
 			if d := sameSolution(got, want); d != "" {
 				t.Errorf("Solver.Solve after another problem: %s", d)
 			}
+		}
+		// The solution is made of the solve's work vectors (handOver): a
+		// later solve on the same Solver and grid must leave it as it was.
+		kept, err := sv.Solve(pair[1])
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := sv.Solve(pair[0]); err != nil {
+			t.Fatal(err)
+		}
+		if d := sameSolution(kept, want); d != "" {
+			t.Errorf("a solution after the Solver's next solve: %s", d)
 		}
 	}
 }
