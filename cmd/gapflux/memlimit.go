@@ -5,16 +5,17 @@ import (
 	"runtime/debug"
 )
 
-// analysisMemoryBytes is the soft memory limit of one analysis: a 2 M-point
-// scan holds some 150 MB through levelling and gridding and up to some
-// 245 MB while the scan and its flat twin are solved and heated up at once,
-// and with the Go default (the heap may grow to twice what is live before
-// it is collected) it peaks above 450 MB of resident memory. With the limit
-// the collector runs earlier instead (measured on the PLY of
-// scripts/bench.sh: 262 MB peak, no more CPU time than with 300 MiB, which
-// peaked at 302 MB). It is soft: a larger scan still runs, with the
-// collector working harder.
-const analysisMemoryBytes = 250 << 20
+// analysisMemoryBytes is the soft memory limit of one analysis. A 2 M-point
+// scan holds some 130 MB through levelling and gridding and some 215 MB
+// while the scan and its flat twin are solved at once (two solver
+// workspaces of about 90 MB and the geometry's results). With the Go
+// default (the heap may grow to twice what is live before it is collected)
+// it peaks above 450 MB of resident memory; with the limit the collector
+// runs earlier instead, and the resident peak follows the limit: on the
+// PLY of scripts/bench.sh 262 MB at 250 MiB, 242 MB at 230 MiB (and 233 MB
+// at 220 MiB, too close to what is live). It is soft: a larger scan still
+// runs, with the collector working harder.
+const analysisMemoryBytes = 230 << 20
 
 // setMemoryLimit sets the Go runtime's soft memory limit for analyses run
 // at once, unless the GOMEMLIMIT environment variable sets one.
