@@ -344,6 +344,8 @@ type surfaceRun struct {
 	chains           map[thermal.Interface]*solveChain
 	steadyK          float64 // steady water temperature, K
 	solScan, solFlat *thermal.Solution
+	sides            [2]sidePowers // the sensitivity table's coarse powers, scan and flat twin
+	sideErr          [2]error      // their errors
 }
 
 // solve solves the plate problem with iface at water temperature tWaterK
@@ -428,7 +430,8 @@ func (s *surfaceRun) interfaceFields() error {
 // solveBoth solves the scan and its flat twin at the steady water
 // temperature and records their warnings and the heat report. The scan
 // and the flat twin are independent: each has its own solver (work
-// buffers) and warm start, so their solves may run at once.
+// buffers) and warm start, so their solves may run at once, each followed
+// by its side of the sensitivity table (surfaceRun.sensitivitySide).
 func (s *surfaceRun) solveBoth() error {
 	sv := s.in.solvers
 	if sv == nil {
@@ -449,8 +452,8 @@ func (s *surfaceRun) solveBoth() error {
 		return s.solve(iface, s.steadyK)
 	}
 	errScan, errFlat := both(
-		func() (err error) { solScan, err = steady(s.scanField); return err },
-		func() (err error) { solFlat, err = steady(s.flatField); return err })
+		func() (err error) { solScan, err = steady(s.scanField); s.sensitivitySide(0, solScan, err); return err },
+		func() (err error) { solFlat, err = steady(s.flatField); s.sensitivitySide(1, solFlat, err); return err })
 	if errScan != nil {
 		return stageErr(s.in.Name, "plate solve", errScan)
 	}
@@ -464,6 +467,24 @@ func (s *surfaceRun) solveBoth() error {
 	rep.Warnings = append(rep.Warnings, prefixed("flat twin: ", solFlat.Warnings)...)
 	rep.Heat = heatReport(s.in.Job, solScan, solFlat, s.baseArea)
 	return nil
+}
+
+// sensitivitySide runs side i's (0 the scan, 1 the flat twin) part of the
+// sensitivity table right after its steady solve sol, which ended with
+// err, in the same goroutine: the side whose steady solve ends first goes
+// on with its coarse re-solves while the other is still solving, instead
+// of waiting for it (about 0.1 s of wall time on a 2 M-point scan). The
+// result and its error wait in s.sides and s.sideErr for heatChecks.
+// Trials make no table.
+func (s *surfaceRun) sensitivitySide(i int, sol *thermal.Solution, err error) {
+	if err != nil || s.in.Trial || !wantSensitivity(s.in.Job, nil) {
+		return
+	}
+	iface := s.scanField
+	if i == 1 {
+		iface = s.flatField
+	}
+	s.sides[i], s.sideErr[i] = sensitivitySide(s.ctx, s.in.Job, s.prob, iface, sol, s.chains[iface].solver)
 }
 
 // glassHeat records, in heater mode, the heat stored in the glass above
@@ -498,13 +519,13 @@ func (s *surfaceRun) glassHeat() error {
 // flux to the report.
 func (s *surfaceRun) heatChecks() error {
 	job, rep, solScan, solFlat := s.in.Job, s.rep, s.solScan, s.solFlat
-	if !s.in.Trial { // the trials need no sensitivity table
-		var err error
-		rep.Heat.Sensitivity, err = sensitivity(s.ctx, job, s.prob, s.scanField, s.flatField, solScan, solFlat,
-			[2]*thermal.Solver{s.chains[s.scanField].solver, s.chains[s.flatField].solver})
-		if err != nil {
-			return fmt.Errorf("%s: %w", s.in.Name, err)
+	if !s.in.Trial && wantSensitivity(job, solFlat) { // the trials need no sensitivity table
+		for _, err := range s.sideErr {
+			if err != nil {
+				return fmt.Errorf("%s: %w", s.in.Name, err)
+			}
 		}
+		rep.Heat.Sensitivity = sensitivityRows(job, solScan, solFlat, s.sides)
 	}
 	fillGapConductance(rep.Gap, solScan, s.inBase)
 	hobT := solScan.TGlassK

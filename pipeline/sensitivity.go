@@ -109,53 +109,77 @@ func coarseFactor(g thermal.Grid) int {
 // a solve is skipped). Each row's DeltaLossPct is the coarse difference,
 // and its LossPct the reported loss plus that difference. The scan's
 // solves run on solvers[0] and the flat twin's on solvers[1], the two
-// sides at once (they share nothing).
+// sides at once (they share nothing). The analysis runs the same two
+// sides (sensitivitySide) each right after its own steady solve, and
+// sensitivityRows on their results.
 func sensitivity(ctx context.Context, job Job, prob *thermal.Problem, scanIf, flatIf thermal.Interface,
 	solScan, solFlat *thermal.Solution, solvers [2]*thermal.Solver) ([]SensitivityRow, error) {
-	cases := sensitivityCases(job)
-	if solFlat.PowerW <= 0 || len(cases) == 0 {
+	if !wantSensitivity(job, solFlat) {
 		return nil, nil
 	}
-	reported := 100 * (1 - solScan.PowerW/solFlat.PowerW)
-	f := coarseFactor(prob.Grid)
-	var basePW [2]float64 // per side: the coarse reported power, W
-	var pw [2][]float64   // per side and case: the power with the setting moved, W
-	side := func(i int, iface thermal.Interface, sol *thermal.Solution) error {
-		var err error
-		basePW[i], pw[i], err = sensitivitySide(ctx, job, coarsen(prob, f, iface, sol), cases, solvers[i])
-		return err
-	}
+	var sides [2]sidePowers
 	errScan, errFlat := both(
-		func() error { return side(0, scanIf, solScan) },
-		func() error { return side(1, flatIf, solFlat) })
+		func() (err error) {
+			sides[0], err = sensitivitySide(ctx, job, prob, scanIf, solScan, solvers[0])
+			return err
+		},
+		func() (err error) {
+			sides[1], err = sensitivitySide(ctx, job, prob, flatIf, solFlat, solvers[1])
+			return err
+		})
 	if errScan != nil {
 		return nil, errScan
 	}
 	if errFlat != nil {
 		return nil, errFlat
 	}
-	if basePW[1] <= 0 {
-		return nil, nil
+	return sensitivityRows(job, solScan, solFlat, sides), nil
+}
+
+// wantSensitivity reports whether the job's mode has sensitivity cases
+// and the flat twin solFlat (nil before its solve) drew power, so that
+// loss_pct is defined.
+func wantSensitivity(job Job, solFlat *thermal.Solution) bool {
+	return len(sensitivityCases(job)) > 0 && (solFlat == nil || solFlat.PowerW > 0)
+}
+
+// sidePowers is one side's (scan or flat twin) part of the sensitivity
+// table: the coarse power as reported and with each case's setting moved,
+// W.
+type sidePowers struct {
+	baseW  float64
+	casesW []float64
+}
+
+// sensitivityRows makes the table from both sides' coarse powers (scan
+// first) and the reported solutions; nil when the flat twin's coarse
+// power is not positive.
+func sensitivityRows(job Job, solScan, solFlat *thermal.Solution, sides [2]sidePowers) []SensitivityRow {
+	if sides[1].baseW <= 0 {
+		return nil
 	}
-	base := 100 * (1 - basePW[0]/basePW[1])
+	reported := 100 * (1 - solScan.PowerW/solFlat.PowerW)
+	base := 100 * (1 - sides[0].baseW/sides[1].baseW)
 	var rows []SensitivityRow
-	for c, cs := range cases {
-		d := 100*(1-pw[0][c]/pw[1][c]) - base
+	for c, cs := range sensitivityCases(job) {
+		d := 100*(1-sides[0].casesW[c]/sides[1].casesW[c]) - base
 		rows = append(rows, SensitivityRow{Setting: cs.setting, Change: cs.change,
 			LossPct: roundTo(reported+d, 3), DeltaLossPct: roundTo(d, 3)})
 	}
-	return rows, nil
+	return rows
 }
 
-// sensitivitySide solves the coarse problem p (scan or flat twin) as
-// reported and with each case's setting moved, on solver sv, and returns
-// the reported power and each case's power, W.
-func sensitivitySide(ctx context.Context, job Job, p *thermal.Problem, cases []sensitivityCase, sv *thermal.Solver) (float64, []float64, error) {
+// sensitivitySide solves one side's coarse problem, prob with iface on
+// the 2 mm grid warm-started from sol (coarsen), as reported and with each
+// case's setting moved, on solver sv.
+func sensitivitySide(ctx context.Context, job Job, prob *thermal.Problem, iface thermal.Interface, sol *thermal.Solution, sv *thermal.Solver) (sidePowers, error) {
+	cases := sensitivityCases(job)
+	p := coarsen(prob, coarseFactor(prob.Grid), iface, sol)
 	p.TWaterK = job.Water.SteadyC + kelvin
 	p.RelTol, p.OuterTolK = sensitivityRelTol, sensitivityOuterTol
 	b, err := sv.SolveContext(ctx, p)
 	if err != nil {
-		return 0, nil, fmt.Errorf("sensitivity: coarse solve: %w", err)
+		return sidePowers{}, fmt.Errorf("sensitivity: coarse solve: %w", err)
 	}
 	pw := make([]float64, len(cases))
 	for i, c := range cases {
@@ -168,11 +192,11 @@ func sensitivitySide(ctx context.Context, job Job, p *thermal.Problem, cases []s
 		c.edit(&q)
 		s, err := sv.SolveContext(ctx, &q)
 		if err != nil {
-			return 0, nil, fmt.Errorf("sensitivity to %s %s: %w", c.setting, c.change, err)
+			return sidePowers{}, fmt.Errorf("sensitivity to %s %s: %w", c.setting, c.change, err)
 		}
 		pw[i] = s.PowerW
 	}
-	return b.PowerW, pw, nil
+	return sidePowers{baseW: b.PowerW, casesW: pw}, nil
 }
 
 // coarsen returns the plate problem p on the grid that keeps every f-th
