@@ -5,7 +5,11 @@ import (
 	"image"
 	"image/draw"
 	"image/png"
+	"math/rand/v2"
 	"testing"
+
+	xdraw "golang.org/x/image/draw"
+	"golang.org/x/image/math/f64"
 
 	vgdraw "gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
@@ -52,4 +56,42 @@ func decodeNRGBA(t *testing.T, b []byte) *image.NRGBA {
 	out := image.NewNRGBA(im.Bounds())
 	draw.Draw(out, out.Bounds(), im, im.Bounds().Min, draw.Src)
 	return out
+}
+
+// TestDrawBiLinear: drawBiLinear draws the same pixels as x/image/draw's
+// BiLinear.Transform, for images with transparent, opaque and translucent
+// pixels, enlarged, shrunk, flipped and shifted by fractions of a pixel,
+// over a non-uniform background; and it declines rotations.
+func TestDrawBiLinear(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for trial := range 60 {
+		src := image.NewNRGBA(image.Rect(rng.IntN(3), rng.IntN(3), 5+rng.IntN(40), 5+rng.IntN(40)))
+		for k := range src.Pix {
+			src.Pix[k] = uint8(rng.IntN(256))
+		}
+		for k := 3; k < len(src.Pix); k += 4 {
+			src.Pix[k] = [...]uint8{0, 0xff, 0xff, uint8(rng.IntN(256))}[rng.IntN(4)]
+		}
+		sx, sy := 0.3+2*rng.Float64(), 0.3+2*rng.Float64()
+		if trial%3 == 0 {
+			sy = -sy
+		}
+		s2d := f64.Aff3{sx, 0, 60 * rng.Float64(), 0, sy, 40 + 60*rng.Float64()}
+		want := image.NewRGBA(image.Rect(0, 0, 90, 110))
+		for k := range want.Pix {
+			want.Pix[k] = uint8(rng.IntN(256))
+		}
+		got := image.NewRGBA(want.Rect)
+		copy(got.Pix, want.Pix)
+		xdraw.BiLinear.Transform(want, s2d, src, src.Bounds(), xdraw.Over, nil)
+		if !drawBiLinear(got, s2d, src) {
+			t.Fatalf("trial %d: declined %v", trial, s2d)
+		}
+		if !bytes.Equal(got.Pix, want.Pix) {
+			t.Fatalf("trial %d: pixels differ from x/image/draw for %v", trial, s2d)
+		}
+	}
+	if drawBiLinear(image.NewRGBA(image.Rect(0, 0, 4, 4)), f64.Aff3{1, 0.1, 0, 0, 1, 0}, image.NewNRGBA(image.Rect(0, 0, 2, 2))) {
+		t.Error("a sheared map was not declined")
+	}
 }
