@@ -155,14 +155,9 @@ type MapSpec struct {
 // opacity, visible on both ends of the colour scales and in greyscale.
 var veil = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0x90}
 
-// veiled reports whether the cell nearest (fx, fy) (in cell units) is
-// marked interpolated.
-func (m *MapSpec) veiled(fx, fy float64) bool {
-	if m.Interpolated == nil {
-		return false
-	}
-	i, j := int(math.Round(fx)), int(math.Round(fy))
-	return i >= 0 && j >= 0 && i < m.Nx && j < m.Ny && m.Interpolated[j*m.Nx+i]
+// veiledCell reports whether cell (i, j) is marked interpolated.
+func (m *MapSpec) veiledCell(i, j int) bool {
+	return m.Interpolated != nil && i >= 0 && j >= 0 && i < m.Nx && j < m.Ny && m.Interpolated[j*m.Nx+i]
 }
 
 // blend lays c2 (with its alpha) over the opaque colour c1.
@@ -278,61 +273,109 @@ type mapRaster struct {
 // the grid's. Pixels outside the base circle (or, without one, whose
 // nearest cell is empty) stay transparent, so the base edge is the true
 // circle, not the cells' staircase; values are clamped to [lo, hi].
+// Every pixel is either opaque or fully transparent.
 func (r *mapRaster) image(w, h int) *image.NRGBA {
 	img := image.NewNRGBA(image.Rect(0, 0, w, h))
 	m := r.m
 	dx, dy := (r.xmax-r.xmin)/float64(w), (r.ymax-r.ymin)/float64(h)
-	r2 := m.BaseRadiusMM * m.BaseRadiusMM
-	scale := float64(len(r.colors)-1) / (r.hi - r.lo)
+	cols := make([]rasterPos, w)
+	for px := range cols {
+		cols[px] = newRasterPos(r.xmin+(float64(px)+0.5)*dx, m.X0MM, m.CellMM)
+	}
 	for py := 0; py < h; py++ {
-		y := r.ymax - (float64(py)+0.5)*dy
-		fy := (y - m.Y0MM) / m.CellMM
-		j := int(math.Floor(fy))
-		ty := fy - float64(j)
-		for px := 0; px < w; px++ {
-			x := r.xmin + (float64(px)+0.5)*dx
-			if r2 > 0 && x*x+y*y > r2 {
-				continue
-			}
-			fx := (x - m.X0MM) / m.CellMM
-			i := int(math.Floor(fx))
-			tx := fx - float64(i)
-			if r2 == 0 && math.IsNaN(r.cell(int(math.Round(fx)), int(math.Round(fy)))) {
-				continue
-			}
-			var sum, wsum float64
-			for _, c := range [4]struct {
-				di, dj int
-				w      float64
-			}{{0, 0, (1 - tx) * (1 - ty)}, {1, 0, tx * (1 - ty)}, {0, 1, (1 - tx) * ty}, {1, 1, tx * ty}} {
-				if v := r.cell(i+c.di, j+c.dj); !math.IsNaN(v) && c.w > 0 {
-					sum += c.w * v
-					wsum += c.w
-				}
-			}
-			if wsum == 0 {
-				continue
-			}
-			v := sum / wsum
-			off := img.PixOffset(px, py)
-			var col color.NRGBA
-			switch {
-			case r.hatch && v < r.lo:
-				col = hatchLight
-				if (px+py)%7 < 2 {
-					col = inkDark
-				}
-			default:
-				k := int((math.Min(math.Max(v, r.lo), r.hi)-r.lo)*scale + 0.5)
-				col = r.colors[k]
-			}
-			if m.veiled(fx, fy) {
-				col = blend(col, veil)
-			}
-			img.Pix[off], img.Pix[off+1], img.Pix[off+2], img.Pix[off+3] = col.R, col.G, col.B, col.A
-		}
+		row := newRasterPos(r.ymax-(float64(py)+0.5)*dy, m.Y0MM, m.CellMM)
+		r.paintRow(img.Pix[py*img.Stride:py*img.Stride+4*w], py, cols, row)
 	}
 	return img
+}
+
+// rasterPos is a pixel column's (or row's) position: x (mm), the cell
+// coordinate f (cell units from the centre of cell 0), the index i of
+// the cell centre at or before it and the fraction t past it, and the
+// nearest cell's index near. The columns' positions are computed once
+// for all rows.
+type rasterPos struct {
+	x, f, t float64
+	i, near int
+}
+
+// newRasterPos returns the position of x on an axis whose cell 0 is
+// centred at x0, cells cell wide.
+func newRasterPos(x, x0, cell float64) rasterPos {
+	f := (x - x0) / cell
+	i := int(math.Floor(f))
+	return rasterPos{x: x, f: f, t: f - float64(i), i: i, near: int(math.Round(f))}
+}
+
+// paintRow paints the pixels of row py (pix, 4 bytes a pixel) at the
+// row position y, the columns at cols.
+func (r *mapRaster) paintRow(pix []uint8, py int, cols []rasterPos, y rasterPos) {
+	m := r.m
+	r2 := m.BaseRadiusMM * m.BaseRadiusMM
+	scale := float64(len(r.colors)-1) / (r.hi - r.lo)
+	row0, row1 := m.gridRow(y.i), m.gridRow(y.i+1)
+	for px := range cols {
+		x := &cols[px]
+		if r2 > 0 && x.x*x.x+y.x*y.x > r2 {
+			continue
+		}
+		if r2 == 0 && math.IsNaN(r.cell(x.near, y.near)) {
+			continue
+		}
+		v, ok := bilinear(x, &y, row0, row1)
+		if !ok {
+			continue
+		}
+		var col color.NRGBA
+		switch {
+		case r.hatch && v < r.lo:
+			col = hatchLight
+			if (px+py)%7 < 2 {
+				col = inkDark
+			}
+		default:
+			// min and max are math.Min and math.Max, inlined.
+			k := int((min(max(v, r.lo), r.hi)-r.lo)*scale + 0.5)
+			col = r.colors[k]
+		}
+		if m.veiledCell(x.near, y.near) {
+			col = blend(col, veil)
+		}
+		pix[4*px], pix[4*px+1], pix[4*px+2], pix[4*px+3] = col.R, col.G, col.B, col.A
+	}
+}
+
+// bilinear returns the interpolation at (x, y) of the finite cells among
+// the four whose centres surround it, the weights renormalised over
+// those present; false when there are none. row0 and row1 are the grid
+// rows y.i and y.i+1, nil outside the grid.
+func bilinear(x, y *rasterPos, row0, row1 []float64) (float64, bool) {
+	tx, ty := x.t, y.t
+	var sum, wsum float64
+	add := func(row []float64, i int, w float64) {
+		if i >= 0 && i < len(row) {
+			if v := row[i]; !math.IsNaN(v) && w > 0 {
+				sum += w * v
+				wsum += w
+			}
+		}
+	}
+	add(row0, x.i, (1-tx)*(1-ty))
+	add(row0, x.i+1, tx*(1-ty))
+	add(row1, x.i, (1-tx)*ty)
+	add(row1, x.i+1, tx*ty)
+	if wsum == 0 {
+		return 0, false
+	}
+	return sum / wsum, true
+}
+
+// gridRow returns row j of the grid, nil outside it.
+func (m *MapSpec) gridRow(j int) []float64 {
+	if j < 0 || j >= m.Ny {
+		return nil
+	}
+	return m.Values[j*m.Nx : (j+1)*m.Nx]
 }
 
 // cell returns the value of cell (i, j), NaN outside the grid.
