@@ -192,29 +192,53 @@ func (m *MapSpec) validate() error {
 	return nil
 }
 
-// crop returns the bounding box of the finite values.
-func (m *MapSpec) crop() (i0, j0, nx, ny int) {
+// cellBox is a rectangle of cells: columns i0 to i0+nx−1, rows j0 to
+// j0+ny−1.
+type cellBox struct{ i0, j0, nx, ny int }
+
+// rows returns the box's part of each of its rows of values.
+func (b cellBox) rows(m *MapSpec) [][]float64 {
+	out := make([][]float64, b.ny)
+	for k := range out {
+		off := (b.j0+k)*m.Nx + b.i0
+		out[k] = m.Values[off : off+b.nx]
+	}
+	return out
+}
+
+// crop returns the bounding box of the values that are not NaN (the
+// whole grid when there are none).
+func (m *MapSpec) crop() cellBox {
 	imin, jmin, imax, jmax := m.Nx, m.Ny, -1, -1
 	for j := 0; j < m.Ny; j++ {
 		row := m.Values[j*m.Nx : (j+1)*m.Nx]
-		for i, v := range row {
-			if !math.IsNaN(v) {
-				imin, imax = min(imin, i), max(imax, i)
-				jmin, jmax = min(jmin, j), max(jmax, j)
-			}
+		// The row's first and last finite values; those between do not
+		// move the box.
+		first := 0
+		for first < len(row) && math.IsNaN(row[first]) {
+			first++
 		}
+		if first == len(row) {
+			continue
+		}
+		last := len(row) - 1
+		for math.IsNaN(row[last]) {
+			last--
+		}
+		imin, imax = min(imin, first), max(imax, last)
+		jmin, jmax = min(jmin, j), max(jmax, j)
 	}
 	if imax < 0 {
-		return 0, 0, m.Nx, m.Ny
+		return cellBox{0, 0, m.Nx, m.Ny}
 	}
-	return imin, jmin, imax - imin + 1, jmax - jmin + 1
+	return cellBox{imin, jmin, imax - imin + 1, jmax - jmin + 1}
 }
 
-// extentMM returns the map's data window, mm: the finite cells, the
-// marks and the zone outline, with a margin of 4 % of the larger side so
-// that nothing touches the frame.
-func (m *MapSpec) extentMM() (xmin, xmax, ymin, ymax float64) {
-	i0, j0, nx, ny := m.crop()
+// extentMM returns the map's data window, mm: the finite cells (within
+// box, from crop), the marks and the zone outline, with a margin of 4 %
+// of the larger side so that nothing touches the frame.
+func (m *MapSpec) extentMM(box cellBox) (xmin, xmax, ymin, ymax float64) {
+	i0, j0, nx, ny := box.i0, box.j0, box.nx, box.ny
 	h := m.CellMM / 2
 	xmin, xmax = m.X0MM+float64(i0)*m.CellMM-h, m.X0MM+float64(i0+nx-1)*m.CellMM+h
 	ymin, ymax = m.Y0MM+float64(j0)*m.CellMM-h, m.Y0MM+float64(j0+ny-1)*m.CellMM+h
@@ -235,12 +259,14 @@ func (m *MapSpec) extentMM() (xmin, xmax, ymin, ymax float64) {
 	return xmin - pad, xmax + pad, ymin - pad, ymax + pad
 }
 
-// colourRange returns the colour scale's range and the colour bar label.
-func (m *MapSpec) colourRange() (lo, hi float64, unit string, below bool) {
+// colourRange returns the colour scale's range and the colour bar label;
+// box, from crop, holds the finite values (the rest of a padded grid
+// need not be read again).
+func (m *MapSpec) colourRange(box cellBox) (lo, hi float64, unit string, below bool) {
 	lo, hi, unit = m.Lo, m.Hi, m.Unit
 	if !(hi > lo) {
 		var clipped bool
-		lo, hi, clipped = robustRange(m.Values)
+		lo, hi, clipped = robustRange(box.rows(m)...)
 		if clipped {
 			unit += ", top 0.5 % clipped"
 		}
@@ -462,8 +488,9 @@ func (mp *mapPicture) size() (w, h, legendH vg.Length) {
 
 // plots builds the map's plot, colour bar and legend.
 func (m *MapSpec) plots() (*mapPicture, error) {
-	lo, hi, unit, below := m.colourRange()
-	xmin, xmax, ymin, ymax := m.extentMM()
+	box := m.crop()
+	lo, hi, unit, below := m.colourRange(box)
+	xmin, xmax, ymin, ymax := m.extentMM(box)
 	ras := &mapRaster{m: m, lo: lo, hi: hi, colors: scaleColors(m.Controls, 256), hatch: below,
 		xmin: xmin, xmax: xmax, ymin: ymin, ymax: ymax}
 
@@ -829,32 +856,37 @@ func (l *vLine) Thumbnail(c *draw.Canvas) {
 	c.StrokeLine2(l.sty, c.Min.X, y, c.Max.X, y)
 }
 
-// robustRange returns the colour range of a field: from its minimum to its
+// robustRange returns the colour range of a field, its values in one or
+// more slices (the rows of a map's box): from its minimum to its
 // maximum, or to its 99.5th percentile when a few extreme cells (a contact
 // line, say) would otherwise wash out the rest of the map. The percentile
 // is the value of rank ⌊0.995·(n−1)⌋ among the n finite values, found by
 // selection in linear expected time (a full sort took 0.4 s on a
-// 1.4 M-cell grid). The finite values are counted before they are
-// copied, so that the copy is only as large as the base (a map's grid is
-// mostly empty padding: allocating and clearing a copy of the whole grid
-// took longer than the selection).
-func robustRange(values []float64) (lo, hi float64, clipped bool) {
+// 1.4 M-cell grid). The finite values are counted (and the extremes
+// found) before they are copied, so that the copy is only as large as
+// the base: a map's grid is mostly empty padding, and allocating and
+// clearing a copy of the whole grid took longer than the selection.
+func robustRange(values ...[]float64) (lo, hi float64, clipped bool) {
 	n := 0
-	for _, x := range values {
-		if !math.IsNaN(x) && !math.IsInf(x, 0) {
-			n++
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, row := range values {
+		for _, x := range row {
+			if x-x == 0 { // finite: NaN and ±Inf give NaN
+				n++
+				lo, hi = min(lo, x), max(hi, x)
+			}
 		}
+	}
+	if n == 0 {
+		return 0, 1, false
 	}
 	v := make([]float64, 0, n)
-	lo, hi = math.Inf(1), math.Inf(-1)
-	for _, x := range values {
-		if !math.IsNaN(x) && !math.IsInf(x, 0) {
-			v = append(v, x)
-			lo, hi = math.Min(lo, x), math.Max(hi, x)
+	for _, row := range values {
+		for _, x := range row {
+			if x-x == 0 {
+				v = append(v, x)
+			}
 		}
-	}
-	if len(v) == 0 {
-		return 0, 1, false
 	}
 	if p := order.Select(v, int(0.995*float64(len(v)-1))); p-lo < 0.5*(hi-lo) {
 		hi, clipped = p, true
