@@ -3,6 +3,7 @@ package pipeline
 import (
 	"bytes"
 	"image"
+	"image/color"
 	"image/draw"
 	"image/png"
 	"math/rand/v2"
@@ -93,5 +94,46 @@ func TestDrawBiLinear(t *testing.T) {
 	}
 	if drawBiLinear(image.NewRGBA(image.Rect(0, 0, 4, 4)), f64.Aff3{1, 0.1, 0, 0, 1, 0}, image.NewNRGBA(image.Rect(0, 0, 2, 2))) {
 		t.Error("a sheared map was not declined")
+	}
+}
+
+// TestWriteOpaquePNG: writeOpaquePNG's file decodes to the image's
+// pixels, for rows that favour each filter (noise, a repeated row, a
+// gradient), an image larger than one IDAT chunk and one not at the
+// origin; and the filter takes Up where the row repeats the one above.
+func TestWriteOpaquePNG(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	for _, r := range []image.Rectangle{image.Rect(0, 0, 1, 1), image.Rect(0, 0, 300, 200), image.Rect(3, 5, 40, 9)} {
+		img := image.NewRGBA(r)
+		for y := r.Min.Y; y < r.Max.Y; y++ {
+			for x := r.Min.X; x < r.Max.X; x++ {
+				c := color.RGBA{uint8(x), uint8(2 * y), uint8(x + y), 0xff}
+				switch {
+				case y%5 == 1:
+					c.R, c.G, c.B = uint8(rng.IntN(256)), uint8(rng.IntN(256)), uint8(rng.IntN(256))
+				case y%5 == 2 && y > r.Min.Y:
+					c = img.RGBAAt(x, y-1)
+				}
+				img.SetRGBA(x, y, c)
+			}
+		}
+		var buf bytes.Buffer
+		if err := writeOpaquePNG(&buf, img); err != nil {
+			t.Fatal(err)
+		}
+		got := decodeNRGBA(t, buf.Bytes())
+		want := image.NewNRGBA(r)
+		draw.Draw(want, r, img, r.Min, draw.Src)
+		if got.Bounds().Size() != r.Size() || !bytes.Equal(got.Pix, want.Pix) {
+			t.Errorf("%v: decoded pixels differ", r)
+		}
+	}
+	row := []byte{9, 200, 7, 250}
+	out := make([]byte, 1+len(row))
+	if filterNoneOrUp(out, row, row); out[0] != 2 || !bytes.Equal(out[1:], make([]byte, len(row))) {
+		t.Errorf("repeated row filtered as %v, want Up and zeros", out)
+	}
+	if filterNoneOrUp(out, row, make([]byte, len(row))); out[0] != 0 || !bytes.Equal(out[1:], row) {
+		t.Errorf("row under zeros filtered as %v, want None", out)
 	}
 }
