@@ -16,15 +16,41 @@ import (
 	"gonum.org/v1/plot/vg/vgimg"
 )
 
-// TestFastPNGCanvas: a map written through fastPNGCanvas decodes to the
-// canvas's own pixels, and to those of the default-level encoder
-// (vgimg.PngCanvas): only the compression differs.
+// TestFastPNGCanvas: a map written through fastPNGCanvas (drawBiLinear,
+// writeOpaquePNG) decodes to the pixels of the same map drawn by vgimg
+// alone and written by its PngCanvas: only the speed and the encoding
+// differ. One map is plain, one has a base circle, a zone, veiled cells
+// and hatching below zero.
 func TestFastPNGCanvas(t *testing.T) {
-	spec := benchDisc(60, 0.5, 10)
-	var fast bytes.Buffer
-	if err := WriteMap(&fast, spec, "png"); err != nil {
-		t.Fatal(err)
+	plain := benchDisc(60, 0.5, 10)
+	full := benchDisc(60, 0.4, 5)
+	full.BaseRadiusMM, full.ZoneDiameterMM, full.ZoneCentreMM = 30, 40, [2]float64{3, -2}
+	full.BelowZeroLabel, full.Controls = "below zero", fluxControls
+	full.Interpolated = make([]bool, len(full.Values))
+	for k, v := range full.Values {
+		full.Values[k] = v - 0.1
+		full.Interpolated[k] = k%5 == 0
 	}
+	for _, spec := range []*MapSpec{plain, full} {
+		var fast bytes.Buffer
+		if err := WriteMap(&fast, spec, "png"); err != nil {
+			t.Fatal(err)
+		}
+		slow := vgimgMapPNG(t, spec)
+		a, b := decodeNRGBA(t, fast.Bytes()), decodeNRGBA(t, slow)
+		if a.Bounds() != b.Bounds() || !bytes.Equal(a.Pix, b.Pix) {
+			t.Fatalf("pixels differ: %v vs %v", a.Bounds(), b.Bounds())
+		}
+		if bytes.Equal(fast.Bytes(), slow) {
+			t.Error("the same bytes: the fast encoder was not used")
+		}
+	}
+}
+
+// vgimgMapPNG draws spec as WriteMap does, but on a plain vgimg canvas,
+// and returns it written by vgimg.PngCanvas.
+func vgimgMapPNG(t *testing.T, spec *MapSpec) []byte {
+	t.Helper()
 	mp, err := spec.plots()
 	if err != nil {
 		t.Fatal(err)
@@ -35,17 +61,11 @@ func TestFastPNGCanvas(t *testing.T) {
 	mp.plot.Draw(dc.plotC)
 	mp.bar.Draw(dc.barC)
 	mp.legend.Draw(dc.legendC)
-	var slow bytes.Buffer
-	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&slow); err != nil {
+	var buf bytes.Buffer
+	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
 		t.Fatal(err)
 	}
-	a, b := decodeNRGBA(t, fast.Bytes()), decodeNRGBA(t, slow.Bytes())
-	if a.Bounds() != b.Bounds() || !bytes.Equal(a.Pix, b.Pix) {
-		t.Fatalf("pixels differ: %v vs %v", a.Bounds(), b.Bounds())
-	}
-	if bytes.Equal(fast.Bytes(), slow.Bytes()) {
-		t.Error("the same bytes: the fast encoder was not used")
-	}
+	return buf.Bytes()
 }
 
 func decodeNRGBA(t *testing.T, b []byte) *image.NRGBA {
