@@ -212,8 +212,8 @@ func (m *MapSpec) crop() cellBox {
 	imin, jmin, imax, jmax := m.Nx, m.Ny, -1, -1
 	for j := 0; j < m.Ny; j++ {
 		row := m.Values[j*m.Nx : (j+1)*m.Nx]
-		// The row's first and last finite values; those between do not
-		// move the box.
+		// The row's first and last values that are not NaN; those
+		// between do not move the box.
 		first := 0
 		for first < len(row) && math.IsNaN(row[first]) {
 			first++
@@ -315,13 +315,12 @@ func (r *mapRaster) image(w, h int) *image.NRGBA {
 	return img
 }
 
-// rasterPos is a pixel column's (or row's) position: x (mm), the cell
-// coordinate f (cell units from the centre of cell 0), the index i of
-// the cell centre at or before it and the fraction t past it, and the
-// nearest cell's index near. The columns' positions are computed once
-// for all rows.
+// rasterPos is a pixel column's (or row's) position: x (mm), the index
+// i of the cell centre at or before it and the fraction t of a cell
+// past that centre, and the nearest cell's index near. The columns'
+// positions are computed once for all rows.
 type rasterPos struct {
-	x, f, t float64
+	x, t    float64
 	i, near int
 }
 
@@ -330,7 +329,7 @@ type rasterPos struct {
 func newRasterPos(x, x0, cell float64) rasterPos {
 	f := (x - x0) / cell
 	i := int(math.Floor(f))
-	return rasterPos{x: x, f: f, t: f - float64(i), i: i, near: int(math.Round(f))}
+	return rasterPos{x: x, t: f - float64(i), i: i, near: int(math.Round(f))}
 }
 
 // paintRow paints the pixels of row py (pix, 4 bytes a pixel) at the

@@ -190,7 +190,17 @@ func newKernelTaps(a0, a1, dmin int, scale, offset, axisScale float64, bias, smi
 		for q := range w {
 			w[q] /= total
 		}
-		t.first[k], t.count[k] = i, j-i
+		// Taps of weight zero at either end add nothing (the library
+		// skips them too): leave them out.
+		lead := 0
+		for lead < len(w) && w[lead] == 0 {
+			lead++
+		}
+		n := copy(w, w[lead:])
+		for n > 0 && w[n-1] == 0 {
+			n--
+		}
+		t.first[k], t.count[k] = i+lead, n
 	}
 	return t
 }
