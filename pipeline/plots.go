@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"image"
 	"image/color"
-	"image/png"
 	"io"
 	"math"
 	"path/filepath"
@@ -20,7 +19,6 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgimg"
 	"gonum.org/v1/plot/vg/vgsvg"
 
 	"gapflux/internal/order"
@@ -157,14 +155,9 @@ type MapSpec struct {
 // opacity, visible on both ends of the colour scales and in greyscale.
 var veil = color.NRGBA{R: 0x80, G: 0x80, B: 0x80, A: 0x90}
 
-// veiled reports whether the cell nearest (fx, fy) (in cell units) is
-// marked interpolated.
-func (m *MapSpec) veiled(fx, fy float64) bool {
-	if m.Interpolated == nil {
-		return false
-	}
-	i, j := int(math.Round(fx)), int(math.Round(fy))
-	return i >= 0 && j >= 0 && i < m.Nx && j < m.Ny && m.Interpolated[j*m.Nx+i]
+// veiledCell reports whether cell (i, j) is marked interpolated.
+func (m *MapSpec) veiledCell(i, j int) bool {
+	return m.Interpolated != nil && i >= 0 && j >= 0 && i < m.Nx && j < m.Ny && m.Interpolated[j*m.Nx+i]
 }
 
 // blend lays c2 (with its alpha) over the opaque colour c1.
@@ -199,29 +192,53 @@ func (m *MapSpec) validate() error {
 	return nil
 }
 
-// crop returns the bounding box of the finite values.
-func (m *MapSpec) crop() (i0, j0, nx, ny int) {
+// cellBox is a rectangle of cells: columns i0 to i0+nx−1, rows j0 to
+// j0+ny−1.
+type cellBox struct{ i0, j0, nx, ny int }
+
+// rows returns the box's part of each of its rows of values.
+func (b cellBox) rows(m *MapSpec) [][]float64 {
+	out := make([][]float64, b.ny)
+	for k := range out {
+		off := (b.j0+k)*m.Nx + b.i0
+		out[k] = m.Values[off : off+b.nx]
+	}
+	return out
+}
+
+// crop returns the bounding box of the values that are not NaN (the
+// whole grid when there are none).
+func (m *MapSpec) crop() cellBox {
 	imin, jmin, imax, jmax := m.Nx, m.Ny, -1, -1
 	for j := 0; j < m.Ny; j++ {
 		row := m.Values[j*m.Nx : (j+1)*m.Nx]
-		for i, v := range row {
-			if !math.IsNaN(v) {
-				imin, imax = min(imin, i), max(imax, i)
-				jmin, jmax = min(jmin, j), max(jmax, j)
-			}
+		// The row's first and last values that are not NaN; those
+		// between do not move the box.
+		first := 0
+		for first < len(row) && math.IsNaN(row[first]) {
+			first++
 		}
+		if first == len(row) {
+			continue
+		}
+		last := len(row) - 1
+		for math.IsNaN(row[last]) {
+			last--
+		}
+		imin, imax = min(imin, first), max(imax, last)
+		jmin, jmax = min(jmin, j), max(jmax, j)
 	}
 	if imax < 0 {
-		return 0, 0, m.Nx, m.Ny
+		return cellBox{0, 0, m.Nx, m.Ny}
 	}
-	return imin, jmin, imax - imin + 1, jmax - jmin + 1
+	return cellBox{imin, jmin, imax - imin + 1, jmax - jmin + 1}
 }
 
-// extentMM returns the map's data window, mm: the finite cells, the
-// marks and the zone outline, with a margin of 4 % of the larger side so
-// that nothing touches the frame.
-func (m *MapSpec) extentMM() (xmin, xmax, ymin, ymax float64) {
-	i0, j0, nx, ny := m.crop()
+// extentMM returns the map's data window, mm: the finite cells (within
+// box, from crop), the marks and the zone outline, with a margin of 4 %
+// of the larger side so that nothing touches the frame.
+func (m *MapSpec) extentMM(box cellBox) (xmin, xmax, ymin, ymax float64) {
+	i0, j0, nx, ny := box.i0, box.j0, box.nx, box.ny
 	h := m.CellMM / 2
 	xmin, xmax = m.X0MM+float64(i0)*m.CellMM-h, m.X0MM+float64(i0+nx-1)*m.CellMM+h
 	ymin, ymax = m.Y0MM+float64(j0)*m.CellMM-h, m.Y0MM+float64(j0+ny-1)*m.CellMM+h
@@ -242,12 +259,14 @@ func (m *MapSpec) extentMM() (xmin, xmax, ymin, ymax float64) {
 	return xmin - pad, xmax + pad, ymin - pad, ymax + pad
 }
 
-// colourRange returns the colour scale's range and the colour bar label.
-func (m *MapSpec) colourRange() (lo, hi float64, unit string, below bool) {
+// colourRange returns the colour scale's range and the colour bar label;
+// box, from crop, holds the finite values (the rest of a padded grid
+// need not be read again).
+func (m *MapSpec) colourRange(box cellBox) (lo, hi float64, unit string, below bool) {
 	lo, hi, unit = m.Lo, m.Hi, m.Unit
 	if !(hi > lo) {
 		var clipped bool
-		lo, hi, clipped = robustRange(m.Values)
+		lo, hi, clipped = robustRange(box.rows(m)...)
 		if clipped {
 			unit += ", top 0.5 % clipped"
 		}
@@ -280,61 +299,108 @@ type mapRaster struct {
 // the grid's. Pixels outside the base circle (or, without one, whose
 // nearest cell is empty) stay transparent, so the base edge is the true
 // circle, not the cells' staircase; values are clamped to [lo, hi].
+// Every pixel is either opaque or fully transparent.
 func (r *mapRaster) image(w, h int) *image.NRGBA {
 	img := image.NewNRGBA(image.Rect(0, 0, w, h))
 	m := r.m
 	dx, dy := (r.xmax-r.xmin)/float64(w), (r.ymax-r.ymin)/float64(h)
-	r2 := m.BaseRadiusMM * m.BaseRadiusMM
-	scale := float64(len(r.colors)-1) / (r.hi - r.lo)
+	cols := make([]rasterPos, w)
+	for px := range cols {
+		cols[px] = newRasterPos(r.xmin+(float64(px)+0.5)*dx, m.X0MM, m.CellMM)
+	}
 	for py := 0; py < h; py++ {
-		y := r.ymax - (float64(py)+0.5)*dy
-		fy := (y - m.Y0MM) / m.CellMM
-		j := int(math.Floor(fy))
-		ty := fy - float64(j)
-		for px := 0; px < w; px++ {
-			x := r.xmin + (float64(px)+0.5)*dx
-			if r2 > 0 && x*x+y*y > r2 {
-				continue
-			}
-			fx := (x - m.X0MM) / m.CellMM
-			i := int(math.Floor(fx))
-			tx := fx - float64(i)
-			if r2 == 0 && math.IsNaN(r.cell(int(math.Round(fx)), int(math.Round(fy)))) {
-				continue
-			}
-			var sum, wsum float64
-			for _, c := range [4]struct {
-				di, dj int
-				w      float64
-			}{{0, 0, (1 - tx) * (1 - ty)}, {1, 0, tx * (1 - ty)}, {0, 1, (1 - tx) * ty}, {1, 1, tx * ty}} {
-				if v := r.cell(i+c.di, j+c.dj); !math.IsNaN(v) && c.w > 0 {
-					sum += c.w * v
-					wsum += c.w
-				}
-			}
-			if wsum == 0 {
-				continue
-			}
-			v := sum / wsum
-			off := img.PixOffset(px, py)
-			var col color.NRGBA
-			switch {
-			case r.hatch && v < r.lo:
-				col = hatchLight
-				if (px+py)%7 < 2 {
-					col = inkDark
-				}
-			default:
-				k := int((math.Min(math.Max(v, r.lo), r.hi)-r.lo)*scale + 0.5)
-				col = r.colors[k]
-			}
-			if m.veiled(fx, fy) {
-				col = blend(col, veil)
-			}
-			img.Pix[off], img.Pix[off+1], img.Pix[off+2], img.Pix[off+3] = col.R, col.G, col.B, col.A
-		}
+		row := newRasterPos(r.ymax-(float64(py)+0.5)*dy, m.Y0MM, m.CellMM)
+		r.paintRow(img.Pix[py*img.Stride:py*img.Stride+4*w], py, cols, row)
 	}
 	return img
+}
+
+// rasterPos is a pixel column's (or row's) position: x (mm), the index
+// i of the cell centre at or before it and the fraction t of a cell
+// past that centre, and the nearest cell's index near. The columns'
+// positions are computed once for all rows.
+type rasterPos struct {
+	x, t    float64
+	i, near int
+}
+
+// newRasterPos returns the position of x on an axis whose cell 0 is
+// centred at x0, cells cell wide.
+func newRasterPos(x, x0, cell float64) rasterPos {
+	f := (x - x0) / cell
+	i := int(math.Floor(f))
+	return rasterPos{x: x, t: f - float64(i), i: i, near: int(math.Round(f))}
+}
+
+// paintRow paints the pixels of row py (pix, 4 bytes a pixel) at the
+// row position y, the columns at cols.
+func (r *mapRaster) paintRow(pix []uint8, py int, cols []rasterPos, y rasterPos) {
+	m := r.m
+	r2 := m.BaseRadiusMM * m.BaseRadiusMM
+	scale := float64(len(r.colors)-1) / (r.hi - r.lo)
+	row0, row1 := m.gridRow(y.i), m.gridRow(y.i+1)
+	for px := range cols {
+		x := &cols[px]
+		if r2 > 0 && x.x*x.x+y.x*y.x > r2 {
+			continue
+		}
+		if r2 == 0 && math.IsNaN(r.cell(x.near, y.near)) {
+			continue
+		}
+		v, ok := bilinear(x, &y, row0, row1)
+		if !ok {
+			continue
+		}
+		var col color.NRGBA
+		switch {
+		case r.hatch && v < r.lo:
+			col = hatchLight
+			if (px+py)%7 < 2 {
+				col = inkDark
+			}
+		default:
+			// min and max are math.Min and math.Max, inlined.
+			k := int((min(max(v, r.lo), r.hi)-r.lo)*scale + 0.5)
+			col = r.colors[k]
+		}
+		if m.veiledCell(x.near, y.near) {
+			col = blend(col, veil)
+		}
+		pix[4*px], pix[4*px+1], pix[4*px+2], pix[4*px+3] = col.R, col.G, col.B, col.A
+	}
+}
+
+// bilinear returns the interpolation at (x, y) of the finite cells among
+// the four whose centres surround it, the weights renormalised over
+// those present; false when there are none. row0 and row1 are the grid
+// rows y.i and y.i+1, nil outside the grid.
+func bilinear(x, y *rasterPos, row0, row1 []float64) (float64, bool) {
+	tx, ty := x.t, y.t
+	var sum, wsum float64
+	add := func(row []float64, i int, w float64) {
+		if i >= 0 && i < len(row) {
+			if v := row[i]; !math.IsNaN(v) && w > 0 {
+				sum += w * v
+				wsum += w
+			}
+		}
+	}
+	add(row0, x.i, (1-tx)*(1-ty))
+	add(row0, x.i+1, tx*(1-ty))
+	add(row1, x.i, (1-tx)*ty)
+	add(row1, x.i+1, tx*ty)
+	if wsum == 0 {
+		return 0, false
+	}
+	return sum / wsum, true
+}
+
+// gridRow returns row j of the grid, nil outside it.
+func (m *MapSpec) gridRow(j int) []float64 {
+	if j < 0 || j >= m.Ny {
+		return nil
+	}
+	return m.Values[j*m.Nx : (j+1)*m.Nx]
 }
 
 // cell returns the value of cell (i, j), NaN outside the grid.
@@ -421,8 +487,9 @@ func (mp *mapPicture) size() (w, h, legendH vg.Length) {
 
 // plots builds the map's plot, colour bar and legend.
 func (m *MapSpec) plots() (*mapPicture, error) {
-	lo, hi, unit, below := m.colourRange()
-	xmin, xmax, ymin, ymax := m.extentMM()
+	box := m.crop()
+	lo, hi, unit, below := m.colourRange(box)
+	xmin, xmax, ymin, ymax := m.extentMM(box)
 	ras := &mapRaster{m: m, lo: lo, hi: hi, colors: scaleColors(m.Controls, 256), hatch: below,
 		xmin: xmin, xmax: xmax, ymin: ymin, ymax: ymax}
 
@@ -788,23 +855,37 @@ func (l *vLine) Thumbnail(c *draw.Canvas) {
 	c.StrokeLine2(l.sty, c.Min.X, y, c.Max.X, y)
 }
 
-// robustRange returns the colour range of a field: from its minimum to its
+// robustRange returns the colour range of a field, its values in one or
+// more slices (the rows of a map's box): from its minimum to its
 // maximum, or to its 99.5th percentile when a few extreme cells (a contact
 // line, say) would otherwise wash out the rest of the map. The percentile
 // is the value of rank ⌊0.995·(n−1)⌋ among the n finite values, found by
 // selection in linear expected time (a full sort took 0.4 s on a
-// 1.4 M-cell grid).
-func robustRange(values []float64) (lo, hi float64, clipped bool) {
-	v := make([]float64, 0, len(values))
+// 1.4 M-cell grid). The finite values are counted (and the extremes
+// found) before they are copied, so that the copy is only as large as
+// the base: a map's grid is mostly empty padding, and allocating and
+// clearing a copy of the whole grid took longer than the selection.
+func robustRange(values ...[]float64) (lo, hi float64, clipped bool) {
+	n := 0
 	lo, hi = math.Inf(1), math.Inf(-1)
-	for _, x := range values {
-		if !math.IsNaN(x) && !math.IsInf(x, 0) {
-			v = append(v, x)
-			lo, hi = math.Min(lo, x), math.Max(hi, x)
+	for _, row := range values {
+		for _, x := range row {
+			if x-x == 0 { // finite: NaN and ±Inf give NaN
+				n++
+				lo, hi = min(lo, x), max(hi, x)
+			}
 		}
 	}
-	if len(v) == 0 {
+	if n == 0 {
 		return 0, 1, false
+	}
+	v := make([]float64, 0, n)
+	for _, row := range values {
+		for _, x := range row {
+			if x-x == 0 {
+				v = append(v, x)
+			}
+		}
 	}
 	if p := order.Select(v, int(0.995*float64(len(v)-1))); p-lo < 0.5*(hi-lo) {
 		hi, clipped = p, true
@@ -833,24 +914,11 @@ func (shortTicks) Ticks(lo, hi float64) []plot.Tick {
 func newCanvas(format string, width, height vg.Length) (vg.CanvasWriterTo, error) {
 	switch format {
 	case "png":
-		return fastPNGCanvas{vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(pictureDPI))}, nil
+		return newFastPNGCanvas(width, height), nil
 	case "svg":
 		return vgsvg.NewWith(vgsvg.UseWH(width, height)), nil
 	}
 	return nil, fmt.Errorf("picture format %q: want png or svg", format)
-}
-
-// fastPNGCanvas is vgimg.PngCanvas written with the fastest deflate
-// level: the same pixels as the default level in a few per cent more
-// bytes, for less than half of the encoding time.
-type fastPNGCanvas struct{ *vgimg.Canvas }
-
-// WriteTo writes the canvas as a PNG image.
-func (c fastPNGCanvas) WriteTo(w io.Writer) (int64, error) {
-	cw := &countWriter{w: w}
-	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	err := enc.Encode(cw, c.Image())
-	return cw.n, err
 }
 
 // countWriter counts the bytes written through it.

@@ -32,6 +32,10 @@ func TestRobustRange(t *testing.T) {
 	if lo != 0 || hi != 99 || !clipped {
 		t.Errorf("range %g..%g clipped %v, want 0..99 clipped", lo, hi, clipped)
 	}
+	// The same values in rows of unequal lengths.
+	if l, h, c := robustRange(v[:10], nil, v[10:517], v[517:]); l != lo || h != hi || c != clipped {
+		t.Errorf("in rows: range %g..%g clipped %v, want %g..%g %v", l, h, c, lo, hi, clipped)
+	}
 	lo, hi, clipped = robustRange([]float64{2, 2, 2})
 	if lo != 2 || !(hi > 2) || clipped {
 		t.Errorf("constant field: %g..%g %v", lo, hi, clipped)
@@ -439,7 +443,7 @@ func TestMapZoneOutline(t *testing.T) {
 func TestMapRaster(t *testing.T) {
 	m := discSpec(func(x, _ float64) float64 { return x / 10 }) // −2 … 2
 	m.BelowZeroLabel = "below zero"
-	lo, hi, _, below := m.colourRange()
+	lo, hi, _, below := m.colourRange(m.crop())
 	if lo != 0 || hi != 2 || !below {
 		t.Fatalf("range %g..%g below %v, want 0..2 hatched", lo, hi, below)
 	}
@@ -476,7 +480,7 @@ func TestMapRaster(t *testing.T) {
 		}
 	}
 	// The data window leaves a margin round the disc.
-	if xmin, xmax, ymin, ymax := m.extentMM(); xmin > -21 || xmax < 21 || ymin > -21 || ymax < 21 {
+	if xmin, xmax, ymin, ymax := m.extentMM(m.crop()); xmin > -21 || xmax < 21 || ymin > -21 || ymax < 21 {
 		t.Errorf("window %g..%g × %g..%g leaves no margin round the 20 mm disc", xmin, xmax, ymin, ymax)
 	}
 	seen := map[color.NRGBA]bool{}

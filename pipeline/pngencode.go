@@ -1,0 +1,117 @@
+package pipeline
+
+import (
+	"bufio"
+	"compress/zlib"
+	"encoding/binary"
+	"fmt"
+	"hash/crc32"
+	"image"
+	"io"
+)
+
+// writeOpaquePNG writes the opaque image img as an 8-bit RGB PNG, each
+// row filtered with None or Up, whichever gives the smaller sum of the
+// filtered bytes' magnitudes as signed bytes (image/png's heuristic, but
+// image/png tries all five filters: Sub, Average and Paeth took most of
+// its encoding time on our pictures, for files within 3 % of these), and
+// deflated at the fastest level. The caller checks that img is opaque:
+// its alpha is not written.
+func writeOpaquePNG(w io.Writer, img *image.RGBA) error {
+	b := img.Bounds()
+	var ihdr [13]byte
+	binary.BigEndian.PutUint32(ihdr[0:], uint32(b.Dx()))
+	binary.BigEndian.PutUint32(ihdr[4:], uint32(b.Dy()))
+	ihdr[8], ihdr[9] = 8, 2 // 8 bits a channel, RGB; deflate, adaptive filtering, no interlace
+	if _, err := io.WriteString(w, "\x89PNG\r\n\x1a\n"); err != nil {
+		return fmt.Errorf("png signature: %w", err)
+	}
+	if err := writePNGChunk(w, "IHDR", ihdr[:]); err != nil {
+		return err
+	}
+	// IDAT chunks of up to 32 KiB, as image/png writes them.
+	bw := bufio.NewWriterSize(idatWriter{w}, 1<<15)
+	zw, err := zlib.NewWriterLevel(bw, zlib.BestSpeed)
+	if err != nil {
+		return fmt.Errorf("png deflate: %w", err)
+	}
+	n := 3 * b.Dx()
+	prev, cur, out := make([]byte, n), make([]byte, n), make([]byte, 1+n)
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		pix := img.Pix[img.PixOffset(b.Min.X, y):]
+		for x := range b.Dx() {
+			copy(cur[3*x:3*x+3], pix[4*x:4*x+3])
+		}
+		filterNoneOrUp(out, cur, prev)
+		if _, err := zw.Write(out); err != nil {
+			return fmt.Errorf("png row %d: %w", y-b.Min.Y, err)
+		}
+		prev, cur = cur, prev
+	}
+	if err := zw.Close(); err != nil {
+		return fmt.Errorf("png deflate: %w", err)
+	}
+	if err := bw.Flush(); err != nil {
+		return err
+	}
+	return writePNGChunk(w, "IEND", nil)
+}
+
+// filterNoneOrUp writes into out the filter type and the row cur
+// filtered with None or with Up (minus the previous row prev, zeros
+// above the first row), whichever has the smaller sum of magnitudes of
+// its bytes read as signed (None on ties).
+func filterNoneOrUp(out, cur, prev []byte) {
+	var sumNone, sumUp int
+	for i, c := range cur {
+		sumNone += absInt8(c)
+		sumUp += absInt8(c - prev[i])
+	}
+	if sumUp >= sumNone {
+		out[0] = 0
+		copy(out[1:], cur)
+		return
+	}
+	out[0] = 2
+	for i, c := range cur {
+		out[1+i] = c - prev[i]
+	}
+}
+
+// absInt8 is |b| with b read as a signed byte.
+func absInt8(b byte) int {
+	v := int(int8(b))
+	if v < 0 {
+		return -v
+	}
+	return v
+}
+
+// idatWriter writes each Write as one IDAT chunk.
+type idatWriter struct{ w io.Writer }
+
+func (iw idatWriter) Write(p []byte) (int, error) {
+	if err := writePNGChunk(iw.w, "IDAT", p); err != nil {
+		return 0, err
+	}
+	return len(p), nil
+}
+
+// writePNGChunk writes a PNG chunk: length, type, data and the CRC of
+// type and data.
+func writePNGChunk(w io.Writer, typ string, data []byte) error {
+	var head [8]byte
+	binary.BigEndian.PutUint32(head[:4], uint32(len(data)))
+	copy(head[4:], typ)
+	crc := crc32.NewIEEE()
+	crc.Write(head[4:])
+	crc.Write(data)
+	var tail [4]byte
+	binary.BigEndian.PutUint32(tail[:], crc.Sum32())
+	for _, part := range [][]byte{head[:], data, tail[:]} {
+		if _, err := w.Write(part); err != nil {
+			return fmt.Errorf("png %s chunk: %w", typ, err)
+		}
+	}
+	return nil
+}
