@@ -55,10 +55,11 @@ func Decode(r io.Reader, opt Options) (*Mesh, error) {
 }
 
 type decoder struct {
-	br   *bufio.Reader
-	opt  Options
-	buf  []byte
-	weld *welder // nil unless opt.Weld
+	br    *bufio.Reader
+	opt   Options
+	buf   []byte
+	weld  *welder    // nil unless opt.Weld (ASCII)
+	bweld *binWelder // nil unless opt.Weld (binary)
 }
 
 func (d *decoder) errAt(off int64, err error) *ParseError {
@@ -143,13 +144,12 @@ func (d *decoder) binary() (*Mesh, error) {
 		// A mesh has about half as many vertices as facets.
 		m.Vertices = make([]r3.Vec, 0, c/2+16)
 		m.Faces = make([][3]int32, 0, c)
-		d.weld = newWelder(int(c/2 + 16))
+		d.bweld = &binWelder{mesh: newMeshWelder(int(c/2 + 16))}
 	} else {
 		m.Vertices = make([]r3.Vec, 0, 3*c)
 	}
 	m.Normals = make([]r3.Vec, 0, c)
 	d.buf = make([]byte, min(n, chunkFacets)*facetLen)
-	var sc facetScratch
 	for i := int64(0); i < n; {
 		k := min(n-i, chunkFacets)
 		b := d.buf[:k*facetLen]
@@ -159,7 +159,7 @@ func (d *decoder) binary() (*Mesh, error) {
 			return nil, d.errAt(off, eofErr(err,
 				fmt.Sprintf("in facet %d of %d", i+int64(got)/facetLen, n)))
 		}
-		if j := decodeFacets(m, b, n, d.weld, &sc); j >= 0 {
+		if j := decodeFacets(m, b, n, d.bweld); j >= 0 {
 			off := headerLen + (i+int64(j/12))*facetLen + 4*int64(j%12)
 			return nil, d.errAt(off, fmt.Errorf("%w in facet %d", ErrNotFinite, i+int64(j/12)))
 		}
@@ -177,81 +177,86 @@ func (d *decoder) binary() (*Mesh, error) {
 // facetSplit is the fewest facets decodeFacets shares between goroutines.
 const facetSplit = 2048
 
-// facetScratch holds one chunk's decoded vertices and their hashes before
-// they are welded.
-type facetScratch struct {
-	verts []r3.Vec
-	hash  []uint64
+// binWelder holds what welding a binary file keeps from chunk to chunk:
+// the mesh's table and one partWelder per part (see weldbin.go).
+type binWelder struct {
+	mesh  *meshWelder
+	parts []partWelder
 }
 
 // decodeFacets appends the facets in b to m, which will hold at most n
-// facets, welding the vertices when w is not nil (sc then holds the
-// chunk's vertices on their way). The facets are decoded, and their
-// vertices hashed, in contiguous parts, one per available processor; the
-// vertices are then welded in file order, so the result does not depend
-// on the split. It returns -1, or the index (12 per facet) of the first
-// coordinate that is not finite. Non-finite normals are stored as zero.
-func decodeFacets(m *Mesh, b []byte, n int64, w *welder, sc *facetScratch) int {
-	vs, ns := m.Vertices, m.Normals
+// facets, welding the vertices when w is not nil. The facets are decoded
+// in contiguous parts, one per available processor, and the result does
+// not depend on the split. It returns -1, or the index (12 per facet) of
+// the first coordinate that is not finite. Non-finite normals are stored
+// as zero.
+func decodeFacets(m *Mesh, b []byte, n int64, w *binWelder) int {
 	k := len(b) / facetLen
-	if cap(ns)-len(ns) < k {
-		// Double rather than let append grow by 1.25: fewer copies of
-		// large slices on streams of unknown size.
-		c := max(min(2*cap(ns), int(n)), len(ns)+k)
-		if w == nil {
-			vs = append(make([]r3.Vec, 0, 3*c), vs...)
-		} else {
-			m.Faces = append(make([][3]int32, 0, c), m.Faces...)
-		}
-		ns = append(make([]r3.Vec, 0, c), ns...)
-	}
-	n0, v0 := len(ns), len(vs)
-	ns = ns[:n0+k]
-	var verts []r3.Vec
-	var hash []uint64
+	growFacets(m, k, n, w != nil)
+	n0, v0 := len(m.Normals), len(m.Vertices)
+	ns := m.Normals[:n0+k]
+	parts := parallel.Parts(k, min(runtime.GOMAXPROCS(0), max(1, k/facetSplit)))
+	var bad int
 	if w == nil {
-		vs = vs[:v0+3*k]
-		verts = vs[v0:]
+		vs := m.Vertices[:v0+3*k]
+		bad = fillFacetsParallel(ns[n0:], vs[v0:], b[:k*facetLen], parts)
+		m.Vertices = vs
 	} else {
-		if cap(sc.verts) < 3*k {
-			sc.verts, sc.hash = make([]r3.Vec, 3*k), make([]uint64, 3*k)
-		}
-		verts, hash = sc.verts[:3*k], sc.hash[:3*k]
+		faces := m.Faces[n0 : n0+k]
+		bad = w.weldFacets(&m.Vertices, ns[n0:], faces, b[:k*facetLen], parts)
+		m.Faces = m.Faces[:n0+k]
 	}
-	if bad := fillFacetsParallel(ns[n0:], verts, hash, b[:k*facetLen]); bad >= 0 {
-		m.Vertices, m.Normals = vs[:v0], ns[:n0]
-		return bad
+	m.Normals = ns
+	return bad
+}
+
+// growFacets makes room in m for k more facets, of at most n in all.
+// It doubles the capacity rather than let append grow it by 1.25: fewer
+// copies of large slices on streams of unknown size.
+func growFacets(m *Mesh, k int, n int64, weld bool) {
+	if cap(m.Normals)-len(m.Normals) >= k {
+		return
 	}
-	if w != nil {
-		for f := range k {
-			m.Faces = append(m.Faces, [3]int32{w.addHashed(&vs, verts[3*f], hash[3*f]),
-				w.addHashed(&vs, verts[3*f+1], hash[3*f+1]), w.addHashed(&vs, verts[3*f+2], hash[3*f+2])})
-		}
+	c := max(min(2*cap(m.Normals), int(n)), len(m.Normals)+k)
+	if weld {
+		m.Faces = append(make([][3]int32, 0, c), m.Faces...)
+	} else {
+		m.Vertices = append(make([]r3.Vec, 0, 3*c), m.Vertices...)
 	}
-	m.Vertices, m.Normals = vs, ns
+	m.Normals = append(make([]r3.Vec, 0, c), m.Normals...)
+}
+
+// weldFacets decodes the facets in b, split in parts, into their normals
+// ns and their corners faces, welding the vertices into *vs in file order
+// (the three steps described in weldbin.go). It returns -1, or the index
+// (12 per facet) of the first vertex coordinate that is not finite.
+func (w *binWelder) weldFacets(vs *[]r3.Vec, ns []r3.Vec, faces [][3]int32, b []byte, parts int) int {
+	k := len(ns)
+	for len(w.parts) < parts {
+		w.parts = append(w.parts, partWelder{})
+	}
+	if v, ok := parallel.FirstPart(k, parts, func(t, f0, f1 int) (int, bool) {
+		bad := w.parts[t].decode(ns[f0:f1], faces[f0:f1], b[f0*facetLen:f1*facetLen])
+		return bad + 12*f0, bad >= 0
+	}); ok {
+		return v // the first in file order
+	}
+	for t := range parts {
+		w.mesh.merge(vs, &w.parts[t])
+	}
+	parallel.FirstPart(k, parts, func(t, f0, f1 int) (int, bool) {
+		w.parts[t].translate(faces[f0:f1])
+		return 0, false
+	})
 	return -1
 }
 
-// fillFacetsParallel runs fillFacets on contiguous parts of the facets in
-// b, one per available processor, and returns the first bad index in file
-// order, or -1.
-func fillFacetsParallel(ns, verts []r3.Vec, hash []uint64, b []byte) int {
-	k := len(ns)
-	parts := min(runtime.GOMAXPROCS(0), max(1, k/facetSplit))
-	part := func(f0, f1 int) int {
-		var h []uint64
-		if hash != nil {
-			h = hash[3*f0 : 3*f1]
-		}
-		bad := fillFacets(ns[f0:f1], verts[3*f0:3*f1], h, b[f0*facetLen:f1*facetLen])
-		if bad >= 0 {
-			bad += 12 * f0
-		}
-		return bad
-	}
-	if v, ok := parallel.First(k, parts, func(f0, f1 int) (int, bool) {
-		bad := part(f0, f1)
-		return bad, bad >= 0
+// fillFacetsParallel runs fillFacets on parts contiguous parts of the
+// facets in b and returns the first bad index in file order, or -1.
+func fillFacetsParallel(ns, verts []r3.Vec, b []byte, parts int) int {
+	if v, ok := parallel.First(len(ns), parts, func(f0, f1 int) (int, bool) {
+		bad := fillFacets(ns[f0:f1], verts[3*f0:3*f1], b[f0*facetLen:f1*facetLen])
+		return bad + 12*f0, bad >= 0
 	}); ok {
 		return v // the first in file order
 	}
@@ -259,32 +264,25 @@ func fillFacetsParallel(ns, verts []r3.Vec, hash []uint64, b []byte) int {
 }
 
 // fillFacets decodes the facets in b into their normals ns (zero when not
-// finite) and vertices verts (three per facet), and the vertices' weld
-// hashes into hash when it is not nil. It returns -1, or the index (12 per
-// facet) of the first vertex coordinate that is not finite.
-func fillFacets(ns, verts []r3.Vec, hash []uint64, b []byte) int {
+// finite) and vertices verts (three per facet). It returns -1, or the
+// index (12 per facet) of the first vertex coordinate that is not finite.
+func fillFacets(ns, verts []r3.Vec, b []byte) int {
 	for f := range ns {
 		r := b[f*facetLen : f*facetLen+48]
-		var v [12]float64
-		for k := 0; k < 12; k++ {
-			u := binary.LittleEndian.Uint32(r[4*k:])
-			if k >= 3 && u&0x7f800000 == 0x7f800000 {
-				return f*12 + k
+		var u [12]uint32
+		for i := range u {
+			u[i] = binary.LittleEndian.Uint32(r[4*i:])
+		}
+		for i := 3; i < 12; i++ {
+			if u[i]&0x7f800000 == 0x7f800000 {
+				return 12*f + i
 			}
-			v[k] = float64(math.Float32frombits(u))
 		}
-		nrm := r3.Vec{X: v[0], Y: v[1], Z: v[2]}
-		if math.IsNaN(v[0]+v[1]+v[2]) || math.IsInf(v[0]+v[1]+v[2], 0) {
-			nrm = r3.Vec{}
-		}
-		ns[f] = nrm
+		ns[f] = normalBits(u[0], u[1], u[2])
 		vf := verts[3*f : 3*f+3]
-		vf[0], vf[1], vf[2] = r3.Vec{X: v[3], Y: v[4], Z: v[5]}, r3.Vec{X: v[6], Y: v[7], Z: v[8]}, r3.Vec{X: v[9], Y: v[10], Z: v[11]}
-		if hash != nil {
-			for j := range 3 {
-				hash[3*f+j] = hashVertex(vertexKey(vf[j]))
-			}
-		}
+		vf[0] = r3.Vec{X: f64(u[3]), Y: f64(u[4]), Z: f64(u[5])}
+		vf[1] = r3.Vec{X: f64(u[6]), Y: f64(u[7]), Z: f64(u[8])}
+		vf[2] = r3.Vec{X: f64(u[9]), Y: f64(u[10]), Z: f64(u[11])}
 	}
 	return -1
 }
