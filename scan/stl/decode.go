@@ -9,6 +9,7 @@ import (
 	"io"
 	"math"
 	"runtime"
+	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -19,8 +20,9 @@ const (
 	// peekLen is how much of the input Decode inspects to tell ASCII from
 	// binary when the size is unknown.
 	peekLen = 4096
-	// growCap is the initial capacity, in facets, when the size is unknown.
-	growCap = 1 << 14
+	// growCap is the initial capacity, in facets, when the size is
+	// unknown: one chunk.
+	growCap = chunkFacets
 	// chunkFacets is how many binary facets are read at once.
 	chunkFacets = 20972 // 1 MiB of facets
 )
@@ -211,19 +213,21 @@ func decodeFacets(m *Mesh, b []byte, n int64, w *binWelder) int {
 }
 
 // growFacets makes room in m for k more facets, of at most n in all.
-// It doubles the capacity rather than let append grow it by 1.25: fewer
-// copies of large slices on streams of unknown size.
+// It quadruples the capacity rather than let append grow it by 1.25:
+// fewer copies of large slices on streams of unknown size, while what is
+// allocated stays within four times what has been read. slices.Grow
+// leaves the copied part of the new array uncleared.
 func growFacets(m *Mesh, k int, n int64, weld bool) {
 	if cap(m.Normals)-len(m.Normals) >= k {
 		return
 	}
-	c := max(min(2*cap(m.Normals), int(n)), len(m.Normals)+k)
+	more := max(min(4*cap(m.Normals), int(n)), len(m.Normals)+k) - len(m.Normals)
 	if weld {
-		m.Faces = append(make([][3]int32, 0, c), m.Faces...)
+		m.Faces = slices.Grow(m.Faces, more)
 	} else {
-		m.Vertices = append(make([]r3.Vec, 0, 3*c), m.Vertices...)
+		m.Vertices = slices.Grow(m.Vertices, 3*more)
 	}
-	m.Normals = append(make([]r3.Vec, 0, c), m.Normals...)
+	m.Normals = slices.Grow(m.Normals, more)
 }
 
 // weldFacets decodes the facets in b, split in parts, into their normals
