@@ -143,10 +143,9 @@ func (d *decoder) binary() (*Mesh, error) {
 		c = min(n, growCap)
 	}
 	if d.opt.Weld {
-		// A mesh has about half as many vertices as facets.
-		m.Vertices = make([]r3.Vec, 0, c/2+16)
+		m.Vertices = make([]r3.Vec, 0, meshVertices(c))
 		m.Faces = make([][3]int32, 0, c)
-		d.bweld = &binWelder{mesh: newMeshWelder(int(c/2 + 16))}
+		d.bweld = &binWelder{mesh: newMeshWelder(meshVertices(c))}
 	} else {
 		m.Vertices = make([]r3.Vec, 0, 3*c)
 	}
@@ -174,6 +173,15 @@ func (d *decoder) binary() (*Mesh, error) {
 		}
 	}
 	return m, nil
+}
+
+// meshVertices returns the room to make for the distinct vertices of c
+// facets: a closed mesh has about half as many vertices as facets, and a
+// scan (a mesh with a boundary) more by about the number on its boundary,
+// which the margin covers for a scan of any size; a file with more grows
+// the slice.
+func meshVertices(c int64) int {
+	return int(c/2 + c/64 + 1024)
 }
 
 // facetSplit is the fewest facets decodeFacets shares between goroutines.

@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"math"
 	"math/bits"
+	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -45,11 +46,6 @@ func plusZero(u uint32) uint32 {
 		return 0
 	}
 	return u
-}
-
-// keyVec returns the key of a vertex read from a float32 file.
-func keyVec(v r3.Vec) vkey {
-	return keyBits(math.Float32bits(float32(v.X)), math.Float32bits(float32(v.Y)), math.Float32bits(float32(v.Z)))
 }
 
 // hashKey mixes a key into 64 bits: two multiplies by odd constants
@@ -103,9 +99,8 @@ func (p *partWelder) reset(refs int) {
 }
 
 // add returns the part's index of the vertex with coordinate bits x, y,
-// z, adding it when it is new.
-func (p *partWelder) add(x, y, z uint32) int32 {
-	k := keyBits(x, y, z)
+// z and key k, adding it when it is new.
+func (p *partWelder) add(k vkey, x, y, z uint32) int32 {
 	h := hashKey(k)
 	mask := uint64(len(p.slots) - 1)
 	for s := h >> p.shift; ; s = (s + 1) & mask {
@@ -150,6 +145,7 @@ func (p *partWelder) grow() {
 // facet) of the first vertex coordinate that is not finite.
 func (p *partWelder) decode(ns []r3.Vec, faces [][3]int32, b []byte) int {
 	p.reset(3 * len(ns))
+	last := newLastCorners()
 	for f := range ns {
 		r := b[f*facetLen : f*facetLen+48]
 		var u [12]uint32
@@ -162,9 +158,54 @@ func (p *partWelder) decode(ns []r3.Vec, faces [][3]int32, b []byte) int {
 			}
 		}
 		ns[f] = normalBits(u[0], u[1], u[2])
-		faces[f] = [3]int32{p.add(u[3], u[4], u[5]), p.add(u[6], u[7], u[8]), p.add(u[9], u[10], u[11])}
+		var t [3]int32
+		var k [3]vkey
+		for c := range 3 {
+			k[c] = keyBits(u[3+3*c], u[4+3*c], u[5+3*c])
+			t[c] = last.find(k[c])
+			if t[c] < 0 {
+				t[c] = p.add(k[c], u[3+3*c], u[4+3*c], u[5+3*c])
+			}
+		}
+		last.push(f&1, k, t)
+		faces[f] = t
 	}
 	return -1
+}
+
+// lastCorners holds the corners of the last two facets and their
+// indices: a mesh names most vertices again in the next facet or the one
+// after (a strip or a fan), and a look here is cheaper than one in the
+// table.
+type lastCorners struct {
+	keys [6]vkey
+	idx  [6]int32
+}
+
+// newLastCorners returns lastCorners that match no vertex (their keys are
+// NaNs).
+func newLastCorners() lastCorners {
+	var l lastCorners
+	for i := range l.keys {
+		l.keys[i] = vkey{math.MaxUint32, math.MaxUint32, math.MaxUint32}
+	}
+	return l
+}
+
+// find returns the index of the corner with key k, or -1.
+func (l *lastCorners) find(k vkey) int32 {
+	for i := range l.keys {
+		if l.keys[i] == k {
+			return l.idx[i]
+		}
+	}
+	return -1
+}
+
+// push records a facet's corners in half h (0 or 1) of l.
+func (l *lastCorners) push(h int, k [3]vkey, t [3]int32) {
+	l.keys[3*h], l.keys[3*h+1], l.keys[3*h+2] = k[0], k[1], k[2]
+	l.idx[3*h], l.idx[3*h+1], l.idx[3*h+2] = t[0], t[1], t[2]
 }
 
 // normalBits returns the normal with coordinate bits x, y, z, or zero
@@ -187,10 +228,12 @@ func (p *partWelder) translate(faces [][3]int32) {
 }
 
 // meshWelder gives each distinct vertex of the mesh one index (step 2):
-// an open-addressing table of tag<<32 | index+1 (0: empty), the tag being
-// the low half of the hash, kept at most half full (8 to 16 bytes per
-// distinct vertex). The tag settles almost every probe without a look at
-// the vertex.
+// an open-addressing table of tag<<32 | index+1 (0: empty), kept at most
+// half full (8 to 16 bytes per distinct vertex). The tag is the high half
+// of the hash, whose top bits are also the slot: the tag settles almost
+// every probe without a look at the vertex, and gives an entry's slot in
+// a larger table, so that a rehash reads the table in order and writes
+// the new one nearly in order, and reads no vertex.
 type meshWelder struct {
 	table []uint64
 	shift uint // 64 − log2(len(table)): the slot is hash>>shift
@@ -198,16 +241,11 @@ type meshWelder struct {
 
 // newMeshWelder returns a welder sized for about n distinct vertices.
 func newMeshWelder(n int) *meshWelder {
-	w := &meshWelder{}
-	w.resize(1 << bits.Len(uint(max(2*n, 1024)-1)))
-	return w
+	return &meshWelder{table: make([]uint64, tableSize(n)), shift: uint(64 - bits.Len(uint(tableSize(n))-1))}
 }
 
-// resize empties the table and gives it size slots (a power of 2).
-func (w *meshWelder) resize(size int) {
-	w.table = make([]uint64, size)
-	w.shift = uint(64 - bits.TrailingZeros(uint(size)))
-}
+// tableSize returns the power of 2 at least 2n and 1024.
+func tableSize(n int) int { return 1 << bits.Len(uint(max(2*n, 1024)-1)) }
 
 // merge welds the part's distinct vertices into *vs, in their order,
 // and records their indices in p.mesh.
@@ -226,19 +264,22 @@ func (w *meshWelder) merge(vs *[]r3.Vec, p *partWelder) {
 // −0 == +0.
 func (w *meshWelder) index(vs *[]r3.Vec, v r3.Vec, h uint64) int32 {
 	if 2*(len(*vs)+1) > len(w.table) {
-		w.rehash(*vs)
+		w.grow(4 * len(w.table)) // fewer rehashes of a stream's mesh
 	}
-	tag := h << 32
+	tag := h >> 32
 	mask := uint64(len(w.table) - 1)
 	for s := h >> w.shift; ; s = (s + 1) & mask {
 		e := w.table[s]
 		if e == 0 {
 			j := int32(len(*vs))
-			w.table[s] = tag | uint64(j+1)
+			w.table[s] = tag<<32 | uint64(j+1)
+			if len(*vs) == cap(*vs) {
+				*vs = slices.Grow(*vs, len(*vs)) // double: a stream's mesh grows far
+			}
 			*vs = append(*vs, v)
 			return j
 		}
-		if e&^0xffffffff == tag {
+		if e>>32 == tag {
 			if j := int32(uint32(e)) - 1; (*vs)[j] == v {
 				return j
 			}
@@ -246,15 +287,21 @@ func (w *meshWelder) index(vs *[]r3.Vec, v r3.Vec, h uint64) int32 {
 	}
 }
 
-// rehash doubles the table and puts the vertices vs back in.
-func (w *meshWelder) rehash(vs []r3.Vec) {
-	w.resize(2 * len(w.table))
-	for i, v := range vs {
-		h := hashKey(keyVec(v))
-		s := h >> w.shift
-		for w.table[s] != 0 {
-			s = (s + 1) & uint64(len(w.table)-1)
+// grow moves the entries into a table of size slots (a power of 2 up to
+// 2³²), each to the slot its tag names or the next free one.
+func (w *meshWelder) grow(size int) {
+	old := w.table
+	w.table = make([]uint64, size)
+	w.shift = uint(64 - bits.Len(uint(size)-1))
+	mask := uint64(size - 1)
+	for _, e := range old {
+		if e == 0 {
+			continue
 		}
-		w.table[s] = h<<32 | uint64(i+1)
+		s := e >> 32 >> (w.shift - 32)
+		for w.table[s] != 0 {
+			s = (s + 1) & mask
+		}
+		w.table[s] = e
 	}
 }
