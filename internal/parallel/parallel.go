@@ -27,7 +27,8 @@ func FirstPart(n, parts int, find func(t, lo, hi int) (v int, ok bool)) (v int, 
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			vs[t], oks[t] = find(t, t*n/parts, (t+1)*n/parts)
+			lo, hi := Range(n, parts, t)
+			vs[t], oks[t] = find(t, lo, hi)
 		}()
 	}
 	wg.Wait()
@@ -42,3 +43,7 @@ func FirstPart(n, parts int, find func(t, lo, hi int) (v int, ok bool)) (v int, 
 // Parts returns the number of ranges First and FirstPart split [0, n)
 // into when asked for parts: parts clamped to 1 … n.
 func Parts(n, parts int) int { return max(1, min(parts, n)) }
+
+// Range returns range t of the parts ranges (parts as Parts returns it)
+// First and FirstPart split [0, n) into.
+func Range(n, parts, t int) (lo, hi int) { return t * n / parts, (t + 1) * n / parts }

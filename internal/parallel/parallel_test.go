@@ -43,8 +43,11 @@ func TestFirstPart(t *testing.T) {
 	for _, tc := range []struct{ n, parts int }{{100, 3}, {5, 8}, {0, 2}, {7, 1}, {64, 4}} {
 		p := Parts(tc.n, tc.parts)
 		los, his := make([]int, p), make([]int, p)
-		FirstPart(tc.n, tc.parts, func(t, lo, hi int) (int, bool) {
-			los[t], his[t] = lo, hi
+		FirstPart(tc.n, tc.parts, func(r, lo, hi int) (int, bool) {
+			los[r], his[r] = lo, hi
+			if l, h := Range(tc.n, p, r); l != lo || h != hi {
+				t.Errorf("n %d parts %d: Range %d is [%d, %d), FirstPart gave [%d, %d)", tc.n, tc.parts, r, l, h, lo, hi)
+			}
 			return 0, false
 		})
 		next := 0

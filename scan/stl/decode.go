@@ -57,11 +57,9 @@ func Decode(r io.Reader, opt Options) (*Mesh, error) {
 }
 
 type decoder struct {
-	br    *bufio.Reader
-	opt   Options
-	buf   []byte
-	weld  *welder    // nil unless opt.Weld (ASCII)
-	bweld *binWelder // nil unless opt.Weld (binary)
+	br   *bufio.Reader
+	opt  Options
+	weld *welder // nil unless opt.Weld (ASCII)
 }
 
 func (d *decoder) errAt(off int64, err error) *ParseError {
@@ -145,26 +143,16 @@ func (d *decoder) binary() (*Mesh, error) {
 	if d.opt.Weld {
 		m.Vertices = make([]r3.Vec, 0, meshVertices(c))
 		m.Faces = make([][3]int32, 0, c)
-		d.bweld = &binWelder{mesh: newMeshWelder(meshVertices(c))}
 	} else {
 		m.Vertices = make([]r3.Vec, 0, 3*c)
 	}
 	m.Normals = make([]r3.Vec, 0, c)
-	d.buf = make([]byte, min(n, chunkFacets)*facetLen)
-	for i := int64(0); i < n; {
-		k := min(n-i, chunkFacets)
-		b := d.buf[:k*facetLen]
-		got, err := io.ReadFull(d.br, b)
-		if err != nil {
-			off := headerLen + i*facetLen + int64(got)
-			return nil, d.errAt(off, eofErr(err,
-				fmt.Sprintf("in facet %d of %d", i+int64(got)/facetLen, n)))
-		}
-		if j := decodeFacets(m, b, n, d.bweld); j >= 0 {
-			off := headerLen + (i+int64(j/12))*facetLen + 4*int64(j%12)
-			return nil, d.errAt(off, fmt.Errorf("%w in facet %d", ErrNotFinite, i+int64(j/12)))
-		}
-		i += k
+	read := d.readChunks
+	if d.opt.Weld {
+		read = d.weldChunks
+	}
+	if err := read(m, n); err != nil {
+		return nil, err
 	}
 	if d.opt.SizeBytes <= 0 {
 		if extra, _ := d.br.Peek(1); len(extra) > 0 {
@@ -184,40 +172,62 @@ func meshVertices(c int64) int {
 	return int(c/2 + c/64 + 1024)
 }
 
-// facetSplit is the fewest facets decodeFacets shares between goroutines.
+// facetSplit is the fewest facets shared between goroutines.
 const facetSplit = 2048
 
-// binWelder holds what welding a binary file keeps from chunk to chunk:
-// the mesh's table and one partWelder per part (see weldbin.go).
-type binWelder struct {
-	mesh  *meshWelder
-	parts []partWelder
+// readChunks reads the n facets of a binary file into m, unwelded, one
+// chunk at a time.
+func (d *decoder) readChunks(m *Mesh, n int64) error {
+	buf := make([]byte, min(n, chunkFacets)*facetLen)
+	for i := int64(0); i < n; {
+		k := min(n-i, chunkFacets)
+		b := buf[:k*facetLen]
+		if err := d.readChunk(b, i, n); err != nil {
+			return err
+		}
+		if j := decodeFacets(m, b, n); j >= 0 {
+			return d.notFinite(i, j)
+		}
+		i += k
+	}
+	return nil
 }
 
-// decodeFacets appends the facets in b to m, which will hold at most n
-// facets, welding the vertices when w is not nil. The facets are decoded
-// in contiguous parts, one per available processor, and the result does
-// not depend on the split. It returns -1, or the index (12 per facet) of
-// the first coordinate that is not finite. Non-finite normals are stored
-// as zero.
-func decodeFacets(m *Mesh, b []byte, n int64, w *binWelder) int {
-	k := len(b) / facetLen
-	growFacets(m, k, n, w != nil)
-	n0, v0 := len(m.Normals), len(m.Vertices)
-	ns := m.Normals[:n0+k]
-	parts := parallel.Parts(k, min(runtime.GOMAXPROCS(0), max(1, k/facetSplit)))
-	var bad int
-	if w == nil {
-		vs := m.Vertices[:v0+3*k]
-		bad = fillFacetsParallel(ns[n0:], vs[v0:], b[:k*facetLen], parts)
-		m.Vertices = vs
-	} else {
-		faces := m.Faces[n0 : n0+k]
-		bad = w.weldFacets(&m.Vertices, ns[n0:], faces, b[:k*facetLen], parts)
-		m.Faces = m.Faces[:n0+k]
+// readChunk reads into b the facets from facet i on, of n, or returns
+// the error with its place.
+func (d *decoder) readChunk(b []byte, i, n int64) error {
+	got, err := io.ReadFull(d.br, b)
+	if err != nil {
+		off := headerLen + i*facetLen + int64(got)
+		return d.errAt(off, eofErr(err, fmt.Sprintf("in facet %d of %d", i+int64(got)/facetLen, n)))
 	}
-	m.Normals = ns
-	return bad
+	return nil
+}
+
+// notFinite returns the error for the non-finite coordinate j (12 per
+// facet) of the chunk that starts at facet i.
+func (d *decoder) notFinite(i int64, j int) error {
+	off := headerLen + (i+int64(j/12))*facetLen + 4*int64(j%12)
+	return d.errAt(off, fmt.Errorf("%w in facet %d", ErrNotFinite, i+int64(j/12)))
+}
+
+// decodeFacets appends the facets in b to m, unwelded, which will hold
+// at most n facets. The facets are decoded in contiguous parts, one per
+// available processor. It returns -1, or the index (12 per facet) of the
+// first vertex coordinate that is not finite. Non-finite normals are
+// stored as zero.
+func decodeFacets(m *Mesh, b []byte, n int64) int {
+	k := len(b) / facetLen
+	growFacets(m, k, n, false)
+	n0, v0 := len(m.Normals), len(m.Vertices)
+	m.Normals, m.Vertices = m.Normals[:n0+k], m.Vertices[:v0+3*k]
+	return fillFacetsParallel(m.Normals[n0:], m.Vertices[v0:], b, chunkParts(k))
+}
+
+// chunkParts returns how many parts to decode k facets in: one per
+// available processor, of facetSplit facets at least.
+func chunkParts(k int) int {
+	return parallel.Parts(k, min(runtime.GOMAXPROCS(0), max(1, k/facetSplit)))
 }
 
 // growFacets makes room in m for k more facets, of at most n in all.
@@ -236,31 +246,6 @@ func growFacets(m *Mesh, k int, n int64, weld bool) {
 		m.Vertices = slices.Grow(m.Vertices, 3*more)
 	}
 	m.Normals = slices.Grow(m.Normals, more)
-}
-
-// weldFacets decodes the facets in b, split in parts, into their normals
-// ns and their corners faces, welding the vertices into *vs in file order
-// (the three steps described in weldbin.go). It returns -1, or the index
-// (12 per facet) of the first vertex coordinate that is not finite.
-func (w *binWelder) weldFacets(vs *[]r3.Vec, ns []r3.Vec, faces [][3]int32, b []byte, parts int) int {
-	k := len(ns)
-	for len(w.parts) < parts {
-		w.parts = append(w.parts, partWelder{})
-	}
-	if v, ok := parallel.FirstPart(k, parts, func(t, f0, f1 int) (int, bool) {
-		bad := w.parts[t].decode(ns[f0:f1], faces[f0:f1], b[f0*facetLen:f1*facetLen])
-		return bad + 12*f0, bad >= 0
-	}); ok {
-		return v // the first in file order
-	}
-	for t := range parts {
-		w.mesh.merge(vs, &w.parts[t])
-	}
-	parallel.FirstPart(k, parts, func(t, f0, f1 int) (int, bool) {
-		w.parts[t].translate(faces[f0:f1])
-		return 0, false
-	})
-	return -1
 }
 
 // fillFacetsParallel runs fillFacets on parts contiguous parts of the

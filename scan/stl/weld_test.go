@@ -180,3 +180,25 @@ func TestWeldBinaryNotFinite(t *testing.T) {
 		}
 	}
 }
+
+// TestWeldBinaryCutShort: a welded decode of a stream cut short reports
+// what an unwelded one does: a non-finite coordinate in a chunk read
+// before the cut, else the cut.
+func TestWeldBinaryCutShort(t *testing.T) {
+	const n = 3*chunkFacets + 10
+	full := poolSoup(n, 5)
+	for _, tc := range []struct{ nan, cut int }{
+		{-1, 84 + 50*chunkFacets + 7}, {5, 84 + 50*(chunkFacets+1)}, {chunkFacets + 2, 84 + 50*(chunkFacets+3)},
+		{chunkFacets + 2, 84 + 50*(2*chunkFacets+3)}, {2*chunkFacets + 1, 84 + 50*(2*chunkFacets+3)}, {-1, 90},
+	} {
+		data := slices.Clone(full[:tc.cut])
+		if tc.nan >= 0 {
+			binary.LittleEndian.PutUint32(data[84+50*tc.nan+20:], 0x7f800000)
+		}
+		_, want := Decode(bytes.NewReader(data), Options{Name: "cut.stl"})
+		_, err := Decode(bytes.NewReader(data), Options{Name: "cut.stl", Weld: true})
+		if err == nil || want == nil || err.Error() != want.Error() {
+			t.Errorf("NaN at %d, cut at %d: %v, want %v", tc.nan, tc.cut, err, want)
+		}
+	}
+}
