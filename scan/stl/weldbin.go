@@ -66,21 +66,16 @@ func f64(u uint32) float64 { return float64(math.Float32frombits(u)) }
 // reused from chunk to chunk.
 type partWelder struct {
 	// slots is an open-addressing table of the part's distinct
-	// vertices, kept at most half full; a slot holds the key, so that a
-	// probe reads one cache line.
-	slots []partSlot
+	// vertices, kept at most half full: stamp<<32 | tag, the tag being
+	// the low half of the hash, which settles almost every probe without
+	// a look at the key.
+	slots []uint64
 	shift uint     // 64 − log2(len(slots)): the slot is hash>>shift
 	base  uint32   // stamp of the current run: its slots hold base + index + 1
-	hash  []uint64 // hashKey of the distinct vertices, in order of first occurrence
+	keys  []vkey   // the distinct vertices' keys, in order of first occurrence
+	hash  []uint64 // hashKey of keys
 	verts []r3.Vec // the distinct vertices as first read (−0 kept as read)
 	mesh  []int32  // index in the mesh of each distinct vertex (step 2)
-}
-
-// partSlot is a slot of partWelder.slots: a key and its stamp, the
-// part's base + index + 1 (empty when at most base).
-type partSlot struct {
-	key   vkey
-	stamp uint32
 }
 
 // reset empties the part for a new run of facets, with a table for
@@ -91,11 +86,11 @@ func (p *partWelder) reset(refs int) {
 	size := 1 << bits.Len(uint(max(refs/2, 1024)-1))
 	p.base += uint32(len(p.hash))
 	if len(p.slots) < size || p.base > math.MaxUint32-uint32(refs) {
-		p.slots = make([]partSlot, size)
+		p.slots = make([]uint64, size)
 		p.base = 0
 	}
 	p.shift = uint(64 - bits.TrailingZeros(uint(len(p.slots))))
-	p.hash, p.verts = p.hash[:0], p.verts[:0]
+	p.keys, p.hash, p.verts = p.keys[:0], p.hash[:0], p.verts[:0]
 }
 
 // add returns the part's index of the vertex with coordinate bits x, y,
@@ -103,11 +98,14 @@ func (p *partWelder) reset(refs int) {
 func (p *partWelder) add(k vkey, x, y, z uint32) int32 {
 	h := hashKey(k)
 	mask := uint64(len(p.slots) - 1)
+	tag := uint32(h)
 	for s := h >> p.shift; ; s = (s + 1) & mask {
-		e := &p.slots[s]
-		if e.stamp <= p.base {
+		e := p.slots[s]
+		stamp := uint32(e >> 32)
+		if stamp <= p.base {
 			j := int32(len(p.hash))
-			*e = partSlot{k, p.base + uint32(j) + 1}
+			p.slots[s] = uint64(p.base+uint32(j)+1)<<32 | uint64(tag)
+			p.keys = append(p.keys, k)
 			p.hash = append(p.hash, h)
 			p.verts = append(p.verts, r3.Vec{X: f64(x), Y: f64(y), Z: f64(z)})
 			if 2*len(p.hash) > len(p.slots) {
@@ -115,27 +113,25 @@ func (p *partWelder) add(k vkey, x, y, z uint32) int32 {
 			}
 			return j
 		}
-		if e.key == k {
-			return int32(e.stamp - p.base - 1)
+		if uint32(e) == tag {
+			if j := int32(stamp - p.base - 1); p.keys[j] == k {
+				return j
+			}
 		}
 	}
 }
 
 // grow doubles the part's table.
 func (p *partWelder) grow() {
-	old := p.slots
-	p.slots = make([]partSlot, 2*len(old))
+	p.slots = make([]uint64, 2*len(p.slots))
 	p.shift--
 	mask := uint64(len(p.slots) - 1)
-	for _, e := range old {
-		if e.stamp <= p.base {
-			continue
-		}
-		s := p.hash[e.stamp-p.base-1] >> p.shift
-		for p.slots[s].stamp > p.base {
+	for j, h := range p.hash {
+		s := h >> p.shift
+		for uint32(p.slots[s]>>32) > p.base {
 			s = (s + 1) & mask
 		}
-		p.slots[s] = e
+		p.slots[s] = uint64(p.base+uint32(j)+1)<<32 | uint64(uint32(h))
 	}
 }
 
