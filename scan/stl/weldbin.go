@@ -139,9 +139,13 @@ func (p *partWelder) grow() {
 // finite) and their corners, as indices into the part's distinct
 // vertices, into faces (step 1). It returns -1, or the index (12 per
 // facet) of the first vertex coordinate that is not finite.
+//
+// A mesh file names most vertices again in the next facet or the one
+// after (a strip or a fan), so a corner is looked for among the last two
+// facets' before the table, which is cheaper.
 func (p *partWelder) decode(ns []r3.Vec, faces [][3]int32, b []byte) int {
 	p.reset(3 * len(ns))
-	last := newLastCorners()
+	prev, prev2 := noCorners(), noCorners()
 	for f := range ns {
 		r := b[f*facetLen : f*facetLen+48]
 		var u [12]uint32
@@ -154,54 +158,48 @@ func (p *partWelder) decode(ns []r3.Vec, faces [][3]int32, b []byte) int {
 			}
 		}
 		ns[f] = normalBits(u[0], u[1], u[2])
-		var t [3]int32
-		var k [3]vkey
+		var cur corners
 		for c := range 3 {
-			k[c] = keyBits(u[3+3*c], u[4+3*c], u[5+3*c])
-			t[c] = last.find(k[c])
-			if t[c] < 0 {
-				t[c] = p.add(k[c], u[3+3*c], u[4+3*c], u[5+3*c])
+			x, y, z := u[3+3*c], u[4+3*c], u[5+3*c]
+			k := keyBits(x, y, z)
+			j := prev.find(k)
+			if j < 0 {
+				j = prev2.find(k)
 			}
+			if j < 0 {
+				j = p.add(k, x, y, z)
+			}
+			cur.keys[c], cur.idx[c] = k, j
 		}
-		last.push(f&1, k, t)
-		faces[f] = t
+		prev, prev2 = cur, prev
+		faces[f] = cur.idx
 	}
 	return -1
 }
 
-// lastCorners holds the corners of the last two facets and their
-// indices: a mesh names most vertices again in the next facet or the one
-// after (a strip or a fan), and a look here is cheaper than one in the
-// table.
-type lastCorners struct {
-	keys [6]vkey
-	idx  [6]int32
+// corners holds a facet's corners: their keys and their indices.
+type corners struct {
+	keys [3]vkey
+	idx  [3]int32
 }
 
-// newLastCorners returns lastCorners that match no vertex (their keys are
-// NaNs).
-func newLastCorners() lastCorners {
-	var l lastCorners
-	for i := range l.keys {
-		l.keys[i] = vkey{math.MaxUint32, math.MaxUint32, math.MaxUint32}
-	}
-	return l
+// noCorners returns corners that match no vertex (their keys are NaNs).
+func noCorners() corners {
+	nan := vkey{math.MaxUint32, math.MaxUint32, math.MaxUint32}
+	return corners{keys: [3]vkey{nan, nan, nan}}
 }
 
 // find returns the index of the corner with key k, or -1.
-func (l *lastCorners) find(k vkey) int32 {
-	for i := range l.keys {
-		if l.keys[i] == k {
-			return l.idx[i]
-		}
+func (c *corners) find(k vkey) int32 {
+	switch k {
+	case c.keys[0]:
+		return c.idx[0]
+	case c.keys[1]:
+		return c.idx[1]
+	case c.keys[2]:
+		return c.idx[2]
 	}
 	return -1
-}
-
-// push records a facet's corners in half h (0 or 1) of l.
-func (l *lastCorners) push(h int, k [3]vkey, t [3]int32) {
-	l.keys[3*h], l.keys[3*h+1], l.keys[3*h+2] = k[0], k[1], k[2]
-	l.idx[3*h], l.idx[3*h+1], l.idx[3*h+2] = t[0], t[1], t[2]
 }
 
 // normalBits returns the normal with coordinate bits x, y, z, or zero
