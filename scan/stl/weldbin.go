@@ -22,12 +22,12 @@ import (
 //     (part by part, each in its own order), which numbers the mesh's
 //     vertices by first occurrence in the file, since a vertex first seen
 //     in a part comes after every vertex of the earlier parts;
-//  3. each part's corner indices are translated to the mesh's, in
-//     parallel again.
+//  3. each part's corner indices are translated to the mesh's.
 //
-// A scanner's mesh names each vertex about six times, mostly within a few
-// rows of facets, so step 2, the only sequential one, sees about one
-// vertex in six.
+// Steps 2 and 3 of a chunk run on the reading goroutine while the next
+// chunk goes through step 1 (weldchunks.go). A scanner's mesh names each
+// vertex about six times, mostly within a few rows of facets, so step 2,
+// the only sequential one, sees about one vertex in six.
 
 // vkey is a vertex as the bit patterns of its three float32 coordinates,
 // with −0 read as +0: two finite vertices of a binary file are equal
@@ -51,8 +51,8 @@ func plusZero(u uint32) uint32 {
 // hashKey mixes a key into 64 bits: two multiplies by odd constants
 // (Fibonacci hashing; common practice), whose high bits depend on every
 // bit of the key, then the high half folded into the low. The tables
-// take their slot from the high bits; the mesh table keeps the low 32 as
-// a tag.
+// take their slot from the high bits; a part's table keeps the low 32 as
+// a tag, the mesh table the high 32.
 func hashKey(k vkey) uint64 {
 	h := (uint64(k[0])|uint64(k[1])<<32)*0x9e3779b97f4a7c15 ^ uint64(k[2])*0xbf58476d1ce4e5b9
 	return h ^ h>>32
@@ -233,13 +233,12 @@ type meshWelder struct {
 	shift uint // 64 − log2(len(table)): the slot is hash>>shift
 }
 
-// newMeshWelder returns a welder sized for about n distinct vertices.
+// newMeshWelder returns a welder sized for about n distinct vertices: a
+// table of the least power of 2 that is at least 2n and 1024.
 func newMeshWelder(n int) *meshWelder {
-	return &meshWelder{table: make([]uint64, tableSize(n)), shift: uint(64 - bits.Len(uint(tableSize(n))-1))}
+	size := 1 << bits.Len(uint(max(2*n, 1024)-1))
+	return &meshWelder{table: make([]uint64, size), shift: uint(64 - bits.Len(uint(size)-1))}
 }
-
-// tableSize returns the power of 2 at least 2n and 1024.
-func tableSize(n int) int { return 1 << bits.Len(uint(max(2*n, 1024)-1)) }
 
 // merge welds the part's distinct vertices into *vs, in their order,
 // and records their indices in p.mesh.
