@@ -36,3 +36,29 @@ func TestFirst(t *testing.T) {
 		t.Error("empty range: ok true")
 	}
 }
+
+// TestFirstPart checks that FirstPart numbers its ranges 0 … Parts−1 in
+// order and covers [0, n) with them.
+func TestFirstPart(t *testing.T) {
+	for _, tc := range []struct{ n, parts int }{{100, 3}, {5, 8}, {0, 2}, {7, 1}, {64, 4}} {
+		p := Parts(tc.n, tc.parts)
+		los, his := make([]int, p), make([]int, p)
+		FirstPart(tc.n, tc.parts, func(r, lo, hi int) (int, bool) {
+			los[r], his[r] = lo, hi
+			if l, h := Range(tc.n, p, r); l != lo || h != hi {
+				t.Errorf("n %d parts %d: Range %d is [%d, %d), FirstPart gave [%d, %d)", tc.n, tc.parts, r, l, h, lo, hi)
+			}
+			return 0, false
+		})
+		next := 0
+		for i := range p {
+			if los[i] != next || his[i] < los[i] {
+				t.Fatalf("n %d parts %d: range %d is [%d, %d), want it to start at %d", tc.n, tc.parts, i, los[i], his[i], next)
+			}
+			next = his[i]
+		}
+		if next != tc.n {
+			t.Errorf("n %d parts %d: ranges end at %d", tc.n, tc.parts, next)
+		}
+	}
+}

@@ -11,6 +11,7 @@ import (
 	"io"
 	"math"
 	"runtime"
+	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -297,14 +298,17 @@ func (d *decoder) capFor(count int64, least int) int {
 	return int(max(c, 0))
 }
 
-// grow makes room for k more elements in s, doubling its capacity but not
-// beyond limit elements unless k requires it.
+// grow makes room for k more elements in s, quadrupling its capacity but
+// not beyond limit elements unless k requires it: few copies of large
+// slices on streams of unknown size, while what is allocated stays within
+// four times what has been read. slices.Grow leaves the copied part of
+// the new array uncleared.
 func grow[T any](s []T, k int, limit int64) []T {
 	if cap(s)-len(s) >= k {
 		return s
 	}
-	c := max(min(int64(2*cap(s)), limit), int64(len(s)+k))
-	return append(make([]T, 0, c), s...)
+	c := max(min(int64(4*cap(s)), limit), int64(len(s)+k))
+	return slices.Grow(s, int(c)-len(s))
 }
 
 // fan adds the triangles of a polygon's next index to the face list.

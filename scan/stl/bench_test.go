@@ -63,6 +63,14 @@ func BenchmarkDecodeBinary(b *testing.B) {
 		b.Fatal(err)
 	}
 	b.Run("welded", func(b *testing.B) { benchDecodeWith(b, grid.Bytes(), true, Options{Weld: true}) })
+	b.Run("welded-stream", func(b *testing.B) { benchDecodeWith(b, grid.Bytes(), false, Options{Weld: true}) })
+	// The size of scripts/bench.sh's scan: 1.28 M facets, 64 MB, whose
+	// vertex table no longer fits in the processor's cache.
+	var large bytes.Buffer
+	if err := WriteBinary(&large, gridSoup(800)); err != nil {
+		b.Fatal(err)
+	}
+	b.Run("welded-large", func(b *testing.B) { benchDecodeWith(b, large.Bytes(), true, Options{Weld: true}) })
 }
 
 func BenchmarkDecodeASCII(b *testing.B) {

@@ -9,6 +9,7 @@ import (
 	"io"
 	"math"
 	"runtime"
+	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -19,8 +20,9 @@ const (
 	// peekLen is how much of the input Decode inspects to tell ASCII from
 	// binary when the size is unknown.
 	peekLen = 4096
-	// growCap is the initial capacity, in facets, when the size is unknown.
-	growCap = 1 << 14
+	// growCap is the initial capacity, in facets, when the size is
+	// unknown: one chunk.
+	growCap = chunkFacets
 	// chunkFacets is how many binary facets are read at once.
 	chunkFacets = 20972 // 1 MiB of facets
 )
@@ -57,8 +59,7 @@ func Decode(r io.Reader, opt Options) (*Mesh, error) {
 type decoder struct {
 	br   *bufio.Reader
 	opt  Options
-	buf  []byte
-	weld *welder // nil unless opt.Weld
+	weld *welder // nil unless opt.Weld (ASCII)
 }
 
 func (d *decoder) errAt(off int64, err error) *ParseError {
@@ -140,30 +141,18 @@ func (d *decoder) binary() (*Mesh, error) {
 		c = min(n, growCap)
 	}
 	if d.opt.Weld {
-		// A mesh has about half as many vertices as facets.
-		m.Vertices = make([]r3.Vec, 0, c/2+16)
+		m.Vertices = make([]r3.Vec, 0, meshVertices(c))
 		m.Faces = make([][3]int32, 0, c)
-		d.weld = newWelder(int(c/2 + 16))
 	} else {
 		m.Vertices = make([]r3.Vec, 0, 3*c)
 	}
 	m.Normals = make([]r3.Vec, 0, c)
-	d.buf = make([]byte, min(n, chunkFacets)*facetLen)
-	var sc facetScratch
-	for i := int64(0); i < n; {
-		k := min(n-i, chunkFacets)
-		b := d.buf[:k*facetLen]
-		got, err := io.ReadFull(d.br, b)
-		if err != nil {
-			off := headerLen + i*facetLen + int64(got)
-			return nil, d.errAt(off, eofErr(err,
-				fmt.Sprintf("in facet %d of %d", i+int64(got)/facetLen, n)))
-		}
-		if j := decodeFacets(m, b, n, d.weld, &sc); j >= 0 {
-			off := headerLen + (i+int64(j/12))*facetLen + 4*int64(j%12)
-			return nil, d.errAt(off, fmt.Errorf("%w in facet %d", ErrNotFinite, i+int64(j/12)))
-		}
-		i += k
+	read := d.readChunks
+	if d.opt.Weld {
+		read = d.weldChunks
+	}
+	if err := read(m, n); err != nil {
+		return nil, err
 	}
 	if d.opt.SizeBytes <= 0 {
 		if extra, _ := d.br.Peek(1); len(extra) > 0 {
@@ -174,84 +163,97 @@ func (d *decoder) binary() (*Mesh, error) {
 	return m, nil
 }
 
-// facetSplit is the fewest facets decodeFacets shares between goroutines.
+// meshVertices returns the room to make for the distinct vertices of c
+// facets: a closed mesh has about half as many vertices as facets, and a
+// scan (a mesh with a boundary) more by about the number on its boundary,
+// which the margin covers for a scan of any size; a file with more grows
+// the slice.
+func meshVertices(c int64) int {
+	return int(c/2 + c/64 + 1024)
+}
+
+// facetSplit is the fewest facets shared between goroutines.
 const facetSplit = 2048
 
-// facetScratch holds one chunk's decoded vertices and their hashes before
-// they are welded.
-type facetScratch struct {
-	verts []r3.Vec
-	hash  []uint64
+// readChunks reads the n facets of a binary file into m, unwelded, one
+// chunk at a time.
+func (d *decoder) readChunks(m *Mesh, n int64) error {
+	buf := make([]byte, min(n, chunkFacets)*facetLen)
+	for i := int64(0); i < n; {
+		k := min(n-i, chunkFacets)
+		b := buf[:k*facetLen]
+		if err := d.readChunk(b, i, n); err != nil {
+			return err
+		}
+		if j := decodeFacets(m, b, n); j >= 0 {
+			return d.notFinite(i, j)
+		}
+		i += k
+	}
+	return nil
 }
 
-// decodeFacets appends the facets in b to m, which will hold at most n
-// facets, welding the vertices when w is not nil (sc then holds the
-// chunk's vertices on their way). The facets are decoded, and their
-// vertices hashed, in contiguous parts, one per available processor; the
-// vertices are then welded in file order, so the result does not depend
-// on the split. It returns -1, or the index (12 per facet) of the first
-// coordinate that is not finite. Non-finite normals are stored as zero.
-func decodeFacets(m *Mesh, b []byte, n int64, w *welder, sc *facetScratch) int {
-	vs, ns := m.Vertices, m.Normals
+// readChunk reads into b the facets from facet i on, of n, or returns
+// the error with its place.
+func (d *decoder) readChunk(b []byte, i, n int64) error {
+	got, err := io.ReadFull(d.br, b)
+	if err != nil {
+		off := headerLen + i*facetLen + int64(got)
+		return d.errAt(off, eofErr(err, fmt.Sprintf("in facet %d of %d", i+int64(got)/facetLen, n)))
+	}
+	return nil
+}
+
+// notFinite returns the error for the non-finite coordinate j (12 per
+// facet) of the chunk that starts at facet i.
+func (d *decoder) notFinite(i int64, j int) error {
+	off := headerLen + (i+int64(j/12))*facetLen + 4*int64(j%12)
+	return d.errAt(off, fmt.Errorf("%w in facet %d", ErrNotFinite, i+int64(j/12)))
+}
+
+// decodeFacets appends the facets in b to m, unwelded, which will hold
+// at most n facets. The facets are decoded in contiguous parts, one per
+// available processor. It returns -1, or the index (12 per facet) of the
+// first vertex coordinate that is not finite. Non-finite normals are
+// stored as zero.
+func decodeFacets(m *Mesh, b []byte, n int64) int {
 	k := len(b) / facetLen
-	if cap(ns)-len(ns) < k {
-		// Double rather than let append grow by 1.25: fewer copies of
-		// large slices on streams of unknown size.
-		c := max(min(2*cap(ns), int(n)), len(ns)+k)
-		if w == nil {
-			vs = append(make([]r3.Vec, 0, 3*c), vs...)
-		} else {
-			m.Faces = append(make([][3]int32, 0, c), m.Faces...)
-		}
-		ns = append(make([]r3.Vec, 0, c), ns...)
-	}
-	n0, v0 := len(ns), len(vs)
-	ns = ns[:n0+k]
-	var verts []r3.Vec
-	var hash []uint64
-	if w == nil {
-		vs = vs[:v0+3*k]
-		verts = vs[v0:]
-	} else {
-		if cap(sc.verts) < 3*k {
-			sc.verts, sc.hash = make([]r3.Vec, 3*k), make([]uint64, 3*k)
-		}
-		verts, hash = sc.verts[:3*k], sc.hash[:3*k]
-	}
-	if bad := fillFacetsParallel(ns[n0:], verts, hash, b[:k*facetLen]); bad >= 0 {
-		m.Vertices, m.Normals = vs[:v0], ns[:n0]
-		return bad
-	}
-	if w != nil {
-		for f := range k {
-			m.Faces = append(m.Faces, [3]int32{w.addHashed(&vs, verts[3*f], hash[3*f]),
-				w.addHashed(&vs, verts[3*f+1], hash[3*f+1]), w.addHashed(&vs, verts[3*f+2], hash[3*f+2])})
-		}
-	}
-	m.Vertices, m.Normals = vs, ns
-	return -1
+	growFacets(m, k, n, false)
+	n0, v0 := len(m.Normals), len(m.Vertices)
+	m.Normals, m.Vertices = m.Normals[:n0+k], m.Vertices[:v0+3*k]
+	return fillFacetsParallel(m.Normals[n0:], m.Vertices[v0:], b, chunkParts(k))
 }
 
-// fillFacetsParallel runs fillFacets on contiguous parts of the facets in
-// b, one per available processor, and returns the first bad index in file
-// order, or -1.
-func fillFacetsParallel(ns, verts []r3.Vec, hash []uint64, b []byte) int {
-	k := len(ns)
-	parts := min(runtime.GOMAXPROCS(0), max(1, k/facetSplit))
-	part := func(f0, f1 int) int {
-		var h []uint64
-		if hash != nil {
-			h = hash[3*f0 : 3*f1]
-		}
-		bad := fillFacets(ns[f0:f1], verts[3*f0:3*f1], h, b[f0*facetLen:f1*facetLen])
-		if bad >= 0 {
-			bad += 12 * f0
-		}
-		return bad
+// chunkParts returns how many parts to decode k facets in: one per
+// available processor, of facetSplit facets at least.
+func chunkParts(k int) int {
+	return parallel.Parts(k, min(runtime.GOMAXPROCS(0), max(1, k/facetSplit)))
+}
+
+// growFacets makes room in m for k more facets, of at most n in all.
+// It quadruples the capacity rather than let append grow it by 1.25:
+// fewer copies of large slices on streams of unknown size, while what is
+// allocated stays within four times what has been read. slices.Grow
+// leaves the copied part of the new array uncleared.
+func growFacets(m *Mesh, k int, n int64, weld bool) {
+	if cap(m.Normals)-len(m.Normals) >= k {
+		return
 	}
-	if v, ok := parallel.First(k, parts, func(f0, f1 int) (int, bool) {
-		bad := part(f0, f1)
-		return bad, bad >= 0
+	more := max(min(4*cap(m.Normals), int(n)), len(m.Normals)+k) - len(m.Normals)
+	if weld {
+		m.Faces = slices.Grow(m.Faces, more)
+	} else {
+		m.Vertices = slices.Grow(m.Vertices, 3*more)
+	}
+	m.Normals = slices.Grow(m.Normals, more)
+}
+
+// fillFacetsParallel runs fillFacets on parts contiguous parts of the
+// facets in b and returns the first bad index in file order, or -1.
+func fillFacetsParallel(ns, verts []r3.Vec, b []byte, parts int) int {
+	if v, ok := parallel.First(len(ns), parts, func(f0, f1 int) (int, bool) {
+		bad := fillFacets(ns[f0:f1], verts[3*f0:3*f1], b[f0*facetLen:f1*facetLen])
+		return bad + 12*f0, bad >= 0
 	}); ok {
 		return v // the first in file order
 	}
@@ -259,32 +261,25 @@ func fillFacetsParallel(ns, verts []r3.Vec, hash []uint64, b []byte) int {
 }
 
 // fillFacets decodes the facets in b into their normals ns (zero when not
-// finite) and vertices verts (three per facet), and the vertices' weld
-// hashes into hash when it is not nil. It returns -1, or the index (12 per
-// facet) of the first vertex coordinate that is not finite.
-func fillFacets(ns, verts []r3.Vec, hash []uint64, b []byte) int {
+// finite) and vertices verts (three per facet). It returns -1, or the
+// index (12 per facet) of the first vertex coordinate that is not finite.
+func fillFacets(ns, verts []r3.Vec, b []byte) int {
 	for f := range ns {
 		r := b[f*facetLen : f*facetLen+48]
-		var v [12]float64
-		for k := 0; k < 12; k++ {
-			u := binary.LittleEndian.Uint32(r[4*k:])
-			if k >= 3 && u&0x7f800000 == 0x7f800000 {
-				return f*12 + k
+		var u [12]uint32
+		for i := range u {
+			u[i] = binary.LittleEndian.Uint32(r[4*i:])
+		}
+		for i := 3; i < 12; i++ {
+			if u[i]&0x7f800000 == 0x7f800000 {
+				return 12*f + i
 			}
-			v[k] = float64(math.Float32frombits(u))
 		}
-		nrm := r3.Vec{X: v[0], Y: v[1], Z: v[2]}
-		if math.IsNaN(v[0]+v[1]+v[2]) || math.IsInf(v[0]+v[1]+v[2], 0) {
-			nrm = r3.Vec{}
-		}
-		ns[f] = nrm
+		ns[f] = normalBits(u[0], u[1], u[2])
 		vf := verts[3*f : 3*f+3]
-		vf[0], vf[1], vf[2] = r3.Vec{X: v[3], Y: v[4], Z: v[5]}, r3.Vec{X: v[6], Y: v[7], Z: v[8]}, r3.Vec{X: v[9], Y: v[10], Z: v[11]}
-		if hash != nil {
-			for j := range 3 {
-				hash[3*f+j] = hashVertex(vertexKey(vf[j]))
-			}
-		}
+		vf[0] = r3.Vec{X: f64(u[3]), Y: f64(u[4]), Z: f64(u[5])}
+		vf[1] = r3.Vec{X: f64(u[6]), Y: f64(u[7]), Z: f64(u[8])}
+		vf[2] = r3.Vec{X: f64(u[9]), Y: f64(u[10]), Z: f64(u[11])}
 	}
 	return -1
 }

@@ -2,6 +2,7 @@ package stl
 
 import (
 	"bytes"
+	"slices"
 	"testing"
 )
 
@@ -26,6 +27,18 @@ func FuzzDecode(f *testing.F) {
 		}
 		if len(m.Vertices) != 3*len(m.Normals) {
 			t.Fatalf("%d vertices, %d normals", len(m.Vertices), len(m.Normals))
+		}
+		if m.Binary {
+			// Welded, the same facets: the vertices by first occurrence.
+			opt.Weld = true
+			w, err := Decode(bytes.NewReader(data), opt)
+			if err != nil {
+				t.Fatalf("welded: %v", err)
+			}
+			vs, faces := weldSoup(m)
+			if !sameBits(w.Vertices, vs) || !slices.Equal(w.Faces, faces) || !sameBits(w.Normals, m.Normals) {
+				t.Fatalf("welded: %d vertices %d faces, want %d %d (or values differ)", len(w.Vertices), len(w.Faces), len(vs), len(faces))
+			}
 		}
 		// What was read must write and read back unchanged.
 		var buf bytes.Buffer

@@ -54,11 +54,6 @@ func (w *welder) resize(size int) {
 // add returns the index in *vs of the vertex equal to v, appending v
 // when it is new.
 func (w *welder) add(vs *[]r3.Vec, v r3.Vec) int32 {
-	return w.addHashed(vs, v, hashVertex(vertexKey(v)))
-}
-
-// addHashed is add for a vertex whose hash hashVertex(vertexKey(v)) is hv.
-func (w *welder) addHashed(vs *[]r3.Vec, v r3.Vec, hv uint64) int32 {
 	if 2*(len(*vs)+1) > len(w.table) {
 		w.resize(2 * len(w.table))
 		for i, u := range *vs {
@@ -66,6 +61,7 @@ func (w *welder) addHashed(vs *[]r3.Vec, v r3.Vec, hv uint64) int32 {
 		}
 	}
 	key := vertexKey(v)
+	hv := hashVertex(key)
 	r := &w.recent[hv>>50] // the top 14 bits; the table uses the low ones
 	if j := *r; j >= 0 && vertexKey((*vs)[j]) == key {
 		return j
