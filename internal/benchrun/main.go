@@ -26,7 +26,7 @@ func main() {
 	header := flag.Bool("header", false, "print the table header and exit")
 	flag.Parse()
 	if *header {
-		fmt.Printf("%-28s %6s %12s %14s %14s\n", "case", "runs", "wall_s(med)", "cpu_s(med)", "peak_rss_mb")
+		fmt.Printf("%-28s %6s %12s %14s %14s %13s\n", "case", "runs", "wall_s(med)", "cpu_s(med)", "peak_rss_mib", "peak_rss_mb")
 		return
 	}
 	if flag.NArg() == 0 || *n < 1 {
@@ -34,22 +34,22 @@ func main() {
 		os.Exit(2)
 	}
 	var wall, cpu []float64
-	var rssMB float64
+	var rssMiB float64
 	for range *n {
 		w, c, r, err := run(flag.Args())
 		if err != nil {
 			fmt.Fprintf(os.Stderr, "benchrun: %s: %v\n", *label, err)
 			os.Exit(1)
 		}
-		wall, cpu, rssMB = append(wall, w), append(cpu, c), max(rssMB, r)
+		wall, cpu, rssMiB = append(wall, w), append(cpu, c), max(rssMiB, r)
 	}
-	fmt.Printf("%-28s %6d %12.3f %14.3f %14.1f\n", *label, *n, median(wall), median(cpu), rssMB)
+	fmt.Printf("%-28s %6d %12.3f %14.3f %14.1f %13.1f\n", *label, *n, median(wall), median(cpu), rssMiB, rssMiB*(1<<20)/1e6)
 }
 
 // run runs the command once and returns its wall time and user+sys CPU
-// time, s, and its peak resident set size, MB (0 where the system does not
-// tell).
-func run(args []string) (wallS, cpuS, rssMB float64, err error) {
+// time, s, and its peak resident set size, MiB (0 where the system does
+// not tell).
+func run(args []string) (wallS, cpuS, rssMiB float64, err error) {
 	cmd := exec.Command(args[0], args[1:]...)
 	cmd.Stdout, cmd.Stderr = os.Stdout, os.Stderr
 	t0 := time.Now()
@@ -63,7 +63,7 @@ func run(args []string) (wallS, cpuS, rssMB float64, err error) {
 		return 0, 0, 0, err
 	}
 	st := cmd.ProcessState
-	return wallS, (st.UserTime() + st.SystemTime()).Seconds(), peakRSSMB(st), nil
+	return wallS, (st.UserTime() + st.SystemTime()).Seconds(), peakRSSMiB(st), nil
 }
 
 func median(v []float64) float64 {

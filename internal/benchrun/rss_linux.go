@@ -5,9 +5,9 @@ import (
 	"syscall"
 )
 
-// peakRSSMB is the child's peak resident set size, MB (Linux reports
+// peakRSSMiB is the child's peak resident set size, MiB (Linux reports
 // ru_maxrss in KiB, getrusage(2)).
-func peakRSSMB(st *os.ProcessState) float64 {
+func peakRSSMiB(st *os.ProcessState) float64 {
 	if ru, ok := st.SysUsage().(*syscall.Rusage); ok {
 		return float64(ru.Maxrss) / 1024
 	}

@@ -4,6 +4,6 @@ package main
 
 import "os"
 
-// peakRSSMB is 0 outside Linux (ru_maxrss is in bytes on macOS and absent
+// peakRSSMiB is 0 outside Linux (ru_maxrss is in bytes on macOS and absent
 // on Windows; not measured there).
-func peakRSSMB(*os.ProcessState) float64 { return 0 }
+func peakRSSMiB(*os.ProcessState) float64 { return 0 }
