@@ -265,21 +265,31 @@ func fillFacetsParallel(ns, verts []r3.Vec, b []byte, parts int) int {
 // index (12 per facet) of the first vertex coordinate that is not finite.
 func fillFacets(ns, verts []r3.Vec, b []byte) int {
 	for f := range ns {
-		r := b[f*facetLen : f*facetLen+48]
 		var u [12]uint32
-		for i := range u {
-			u[i] = binary.LittleEndian.Uint32(r[4*i:])
-		}
-		for i := 3; i < 12; i++ {
-			if u[i]&0x7f800000 == 0x7f800000 {
-				return 12*f + i
-			}
+		if bad := facetWords(&u, b, f); bad >= 0 {
+			return 12*f + bad
 		}
 		ns[f] = normalBits(u[0], u[1], u[2])
 		vf := verts[3*f : 3*f+3]
 		vf[0] = r3.Vec{X: f64(u[3]), Y: f64(u[4]), Z: f64(u[5])}
 		vf[1] = r3.Vec{X: f64(u[6]), Y: f64(u[7]), Z: f64(u[8])}
 		vf[2] = r3.Vec{X: f64(u[9]), Y: f64(u[10]), Z: f64(u[11])}
+	}
+	return -1
+}
+
+// facetWords sets u to the twelve little-endian words of facet f of b
+// (normal, then the three vertices, float32 bits) and returns -1, or the
+// index (3 to 11) of the first vertex coordinate that is not finite.
+func facetWords(u *[12]uint32, b []byte, f int) int {
+	r := b[f*facetLen : f*facetLen+48]
+	for i := range u {
+		u[i] = binary.LittleEndian.Uint32(r[4*i:])
+	}
+	for i := 3; i < 12; i++ {
+		if u[i]&0x7f800000 == 0x7f800000 {
+			return i
+		}
 	}
 	return -1
 }

@@ -1,7 +1,6 @@
 package stl
 
 import (
-	"encoding/binary"
 	"math"
 	"math/bits"
 	"slices"
@@ -147,15 +146,9 @@ func (p *partWelder) decode(ns []r3.Vec, faces [][3]int32, b []byte) int {
 	p.reset(3 * len(ns))
 	prev, prev2 := noCorners(), noCorners()
 	for f := range ns {
-		r := b[f*facetLen : f*facetLen+48]
 		var u [12]uint32
-		for i := range u {
-			u[i] = binary.LittleEndian.Uint32(r[4*i:])
-		}
-		for i := 3; i < 12; i++ {
-			if u[i]&0x7f800000 == 0x7f800000 {
-				return 12*f + i
-			}
+		if bad := facetWords(&u, b, f); bad >= 0 {
+			return 12*f + bad
 		}
 		ns[f] = normalBits(u[0], u[1], u[2])
 		var cur corners
