@@ -478,7 +478,7 @@ func (s *surfaceRun) solveBoth() error {
 // wait in s.sides and s.sideErr for heatChecks.
 // Trials make no table.
 func (s *surfaceRun) sensitivitySide(i int, sol *thermal.Solution, err error) {
-	if err != nil || s.in.Trial || !wantSensitivity(s.in.Job, nil) {
+	if err != nil || s.in.Trial || !hasSensitivity(s.in.Job) {
 		return
 	}
 	iface := s.scanField
@@ -520,7 +520,9 @@ func (s *surfaceRun) glassHeat() error {
 // flux to the report.
 func (s *surfaceRun) heatChecks() error {
 	job, rep, solScan, solFlat := s.in.Job, s.rep, s.solScan, s.solFlat
-	if !s.in.Trial && wantSensitivity(job, solFlat) { // the trials need no sensitivity table
+	// The trials need no sensitivity table, and loss_pct needs a flat twin
+	// that draws power.
+	if !s.in.Trial && hasSensitivity(job) && solFlat.PowerW > 0 {
 		for _, err := range s.sideErr {
 			if err != nil {
 				return fmt.Errorf("%s: %w", s.in.Name, err)
@@ -601,9 +603,16 @@ func (s *surfaceRun) linePower(iface thermal.Interface, steady *thermal.Solution
 			}
 			start = &[2]float64{panW, srcW}
 		}
-		f := (tWaterK - fromK) / (s.steadyK - fromK)
-		return start[0] + f*(steady.PowerW-start[0]), start[1] + f*(sourceW(steady)-start[1]), nil
+		return alongLine(tWaterK, fromK, s.steadyK, start[0], steady.PowerW), alongLine(tWaterK, fromK, s.steadyK, start[1], sourceW(steady)), nil
 	}
+}
+
+// alongLine returns, at the water temperature tK, the line through atFrom
+// at fromK and atSteady at steadyK (K): the heat-up's power with a fixed
+// water side, cold (linePower) and hot (hotHeatup).
+func alongLine(tK, fromK, steadyK, atFrom, atSteady float64) float64 {
+	f := (tK - fromK) / (steadyK - fromK)
+	return atFrom + f*(atSteady-atFrom)
 }
 
 // sourceW is the power a solution draws from the hob, W: the heater's in

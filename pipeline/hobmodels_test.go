@@ -326,10 +326,14 @@ func TestSensitivity(t *testing.T) {
 	if !(s.DutyPct < 100) {
 		t.Fatalf("poor interface: duty %g %%, want the limiter cycling", s.DutyPct)
 	}
-	rows, err := sensitivity(t.Context(), job, p, poor, flat, s, f, [2]*thermal.Solver{new(thermal.Solver), &sv})
-	if err != nil {
+	var sides [2]sidePowers
+	if sides[0], err = sensitivitySide(t.Context(), job, p, poor, s, new(thermal.Solver)); err != nil {
 		t.Fatal(err)
 	}
+	if sides[1], err = sensitivitySide(t.Context(), job, p, flat, f, &sv); err != nil {
+		t.Fatal(err)
+	}
+	rows := sensitivityRows(job, s, f, sides)
 	if len(rows) != 6 {
 		t.Fatalf("%d rows", len(rows))
 	}

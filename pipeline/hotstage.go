@@ -334,12 +334,6 @@ func hotHeatup(ctx context.Context, in hotInput, hotIf *contact.Field, hotSteady
 		}
 		return in.solves.solve(ctx, in.prob, iface, tK, steady[iface], true)
 	}
-	source := func(s *thermal.Solution) float64 {
-		if s.HeaterW > 0 {
-			return s.HeaterW
-		}
-		return s.PowerW
-	}
 	linear := job.Water.Side == "fixed" && math.Abs(steadyK-fromK) >= 5
 	power := func(iface thermal.Interface) thermal.PowerFunc {
 		return func(tK float64) (float64, float64, error) {
@@ -348,7 +342,7 @@ func hotHeatup(ctx context.Context, in hotInput, hotIf *contact.Field, hotSteady
 				if err != nil {
 					return 0, 0, err
 				}
-				return s.PowerW, source(s), nil
+				return s.PowerW, sourceW(s), nil
 			}
 			// Linear in the water temperature with a fixed water side, as
 			// in the cold analysis.
@@ -357,8 +351,7 @@ func hotHeatup(ctx context.Context, in hotInput, hotIf *contact.Field, hotSteady
 				return 0, 0, err
 			}
 			s1 := steady[iface]
-			f := (tK - fromK) / (steadyK - fromK)
-			return s0.PowerW + f*(s1.PowerW-s0.PowerW), source(s0) + f*(source(s1)-source(s0)), nil
+			return alongLine(tK, fromK, steadyK, s0.PowerW, s1.PowerW), alongLine(tK, fromK, steadyK, sourceW(s0), sourceW(s1)), nil
 		}
 	}
 	hu, err := heatupReport(ctx, job, in.lib, in.radiusM, power, hotIf, in.flatIf, 0)

@@ -101,47 +101,18 @@ func coarseFactor(g thermal.Grid) int {
 	return max(1, int(math.Round(sensitivityCellM/g.CellM)))
 }
 
-// sensitivity gives loss_pct with each hob setting of sensitivityCases
-// moved. The scan and its flat twin are solved on a coarser grid
-// (coarsen; sensitivityCellM), once as reported and once per moved
-// setting, warm-started from the analysis's solutions sampled to it and
-// to the looser sensitivity tolerances (a limiter move that cannot change
-// a solve is skipped). Each row's DeltaLossPct is the coarse difference,
-// and its LossPct the reported loss plus that difference. The scan's
-// solves run on solvers[0] and the flat twin's on solvers[1], the two
-// sides at once (they share nothing). The analysis runs the same two
-// sides (sensitivitySide) each right after its own steady solve, and
-// sensitivityRows on their results.
-func sensitivity(ctx context.Context, job Job, prob *thermal.Problem, scanIf, flatIf thermal.Interface,
-	solScan, solFlat *thermal.Solution, solvers [2]*thermal.Solver) ([]SensitivityRow, error) {
-	if !wantSensitivity(job, solFlat) {
-		return nil, nil
-	}
-	var sides [2]sidePowers
-	errScan, errFlat := both(
-		func() (err error) {
-			sides[0], err = sensitivitySide(ctx, job, prob, scanIf, solScan, solvers[0])
-			return err
-		},
-		func() (err error) {
-			sides[1], err = sensitivitySide(ctx, job, prob, flatIf, solFlat, solvers[1])
-			return err
-		})
-	if errScan != nil {
-		return nil, errScan
-	}
-	if errFlat != nil {
-		return nil, errFlat
-	}
-	return sensitivityRows(job, solScan, solFlat, sides), nil
-}
+// The sensitivity table gives loss_pct with each hob setting of
+// sensitivityCases moved. The scan and its flat twin are solved on a
+// coarser grid (coarsen; sensitivityCellM), once as reported and once per
+// moved setting, warm-started from the analysis's solutions sampled to it
+// and to the looser sensitivity tolerances (a limiter move that cannot
+// change a solve is skipped): sensitivitySide, one per side, each on its
+// own solver right after that side's steady solve (surfaceRun.solveBoth).
+// Each row's DeltaLossPct is the coarse difference, and its LossPct the
+// reported loss plus that difference (sensitivityRows).
 
-// wantSensitivity reports whether the job's mode has sensitivity cases
-// and the flat twin solFlat (nil before its solve) drew power, so that
-// loss_pct is defined.
-func wantSensitivity(job Job, solFlat *thermal.Solution) bool {
-	return len(sensitivityCases(job)) > 0 && (solFlat == nil || solFlat.PowerW > 0)
-}
+// hasSensitivity reports whether the job's mode has sensitivity cases.
+func hasSensitivity(job Job) bool { return len(sensitivityCases(job)) > 0 }
 
 // sidePowers is one side's (scan or flat twin) part of the sensitivity
 // table: the coarse power as reported and with each case's setting moved,
@@ -208,8 +179,7 @@ func coarsen(p *thermal.Problem, f int, iface thermal.Interface, sol *thermal.So
 	q := *p
 	g := p.Grid
 	o := f / 2
-	cg := thermal.Grid{Nx: (g.Nx - o + f - 1) / f, Ny: (g.Ny - o + f - 1) / f, CellM: g.CellM * float64(f),
-		X0M: g.X0M + float64(o)*g.CellM, Y0M: g.Y0M + float64(o)*g.CellM}
+	cg := coarseGrid(g, f)
 	idx := make([]int, cg.Len())
 	for j := 0; j < cg.Ny; j++ {
 		for i := 0; i < cg.Nx; i++ {
@@ -243,6 +213,14 @@ func coarsen(p *thermal.Problem, f int, iface thermal.Interface, sol *thermal.So
 		q.InitialTPanK, q.InitialTGlassK, q.InitialDutyPct = pick(sol.TPanK), pick(sol.TGlassK), sol.DutyPct
 	}
 	return &q
+}
+
+// coarseGrid returns the grid coarsen makes from g with factor f: every
+// f-th cell in x and y, from cell (f/2, f/2), each keeping its centre.
+func coarseGrid(g thermal.Grid, f int) thermal.Grid {
+	o := f / 2
+	return thermal.Grid{Nx: (g.Nx - o + f - 1) / f, Ny: (g.Ny - o + f - 1) / f, CellM: g.CellM * float64(f),
+		X0M: g.X0M + float64(o)*g.CellM, Y0M: g.Y0M + float64(o)*g.CellM}
 }
 
 // sampledInterface is an interface evaluated at the fine-grid cells idx of

@@ -19,7 +19,7 @@ func TestProlong(t *testing.T) {
 	g := thermal.Grid{Nx: 21, Ny: 17, CellM: 0.5e-3}
 	for _, f := range []int{2, 3, 4} {
 		o := f / 2
-		cg := thermal.Grid{Nx: (g.Nx - o + f - 1) / f, Ny: (g.Ny - o + f - 1) / f, CellM: g.CellM * float64(f)}
+		cg := coarseGrid(g, f)
 		// T = 300 + 2·x + 3·y in fine cell units at the coarse centres.
 		lin := func(I, J float64) float64 { return 300 + 2*I + 3*J }
 		v := make([]float64, cg.Len())
