@@ -2,6 +2,7 @@ package ply
 
 import (
 	"gapflux/internal/decimal"
+	"gapflux/internal/grow"
 	"gapflux/internal/parallel"
 
 	"bufio"
@@ -11,7 +12,6 @@ import (
 	"io"
 	"math"
 	"runtime"
-	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -298,19 +298,6 @@ func (d *decoder) capFor(count int64, least int) int {
 	return int(max(c, 0))
 }
 
-// grow makes room for k more elements in s, quadrupling its capacity but
-// not beyond limit elements unless k requires it: few copies of large
-// slices on streams of unknown size, while what is allocated stays within
-// four times what has been read. slices.Grow leaves the copied part of
-// the new array uncleared.
-func grow[T any](s []T, k int, limit int64) []T {
-	if cap(s)-len(s) >= k {
-		return s
-	}
-	c := max(min(int64(4*cap(s)), limit), int64(len(s)+k))
-	return slices.Grow(s, int(c)-len(s))
-}
-
 // fan adds the triangles of a polygon's next index to the face list.
 type fan struct {
 	n         int
@@ -515,9 +502,9 @@ func (d *decoder) binaryVertices(e *element, u *use, rec int) error {
 			d.lr.off += int64(len(b))
 			return d.binaryError(d.lr.off, e, i+int64(len(b)/rec), err)
 		}
-		pts = grow(pts, int(k), e.count)
+		pts = grow.Room(pts, int(k), e.count)
 		if u.normals {
-			nrm = grow(nrm, int(k), e.count)
+			nrm = grow.Room(nrm, int(k), e.count)
 		}
 		var bad int // 1 + index in b of the first non-finite value
 		var v [6]float64
@@ -570,10 +557,10 @@ func (d *decoder) floatVertices(e *element, rec int, off []int, f32, big bool, p
 			return nil, nil, d.binaryError(d.lr.off, e, i+int64(got/rec), err)
 		}
 		n0 := len(pts)
-		pts = grow(pts, int(k), e.count)[:n0+int(k)]
+		pts = grow.Room(pts, int(k), e.count)[:n0+int(k)]
 		var dn []r3.Vec
 		if nrm != nil {
-			nrm = grow(nrm, int(k), e.count)[:n0+int(k)]
+			nrm = grow.Room(nrm, int(k), e.count)[:n0+int(k)]
 			dn = nrm[n0:]
 		}
 		bad := decodeFloatRecords(pts[n0:], dn, b, rec, off, f32, big, parts)

@@ -5,11 +5,11 @@ import (
 	"bytes"
 	"encoding/binary"
 	"fmt"
+	"gapflux/internal/grow"
 	"gapflux/internal/parallel"
 	"io"
 	"math"
 	"runtime"
-	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -230,22 +230,17 @@ func chunkParts(k int) int {
 	return parallel.Parts(k, min(runtime.GOMAXPROCS(0), max(1, k/facetSplit)))
 }
 
-// growFacets makes room in m for k more facets, of at most n in all.
-// It quadruples the capacity rather than let append grow it by 1.25:
-// fewer copies of large slices on streams of unknown size, while what is
-// allocated stays within four times what has been read. slices.Grow
-// leaves the copied part of the new array uncleared.
+// growFacets makes room in m for k more facets, of at most n in all: in
+// the normals and, welded, the faces or, not welded, the vertices (three
+// per facet), each slice on its own capacity (grow.Room: quadrupling, few
+// copies on streams of unknown size).
 func growFacets(m *Mesh, k int, n int64, weld bool) {
-	if cap(m.Normals)-len(m.Normals) >= k {
-		return
-	}
-	more := max(min(4*cap(m.Normals), int(n)), len(m.Normals)+k) - len(m.Normals)
+	m.Normals = grow.Room(m.Normals, k, n)
 	if weld {
-		m.Faces = slices.Grow(m.Faces, more)
+		m.Faces = grow.Room(m.Faces, k, n)
 	} else {
-		m.Vertices = slices.Grow(m.Vertices, 3*more)
+		m.Vertices = grow.Room(m.Vertices, 3*k, 3*n)
 	}
-	m.Normals = slices.Grow(m.Normals, more)
 }
 
 // fillFacetsParallel runs fillFacets on parts contiguous parts of the

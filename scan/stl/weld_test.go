@@ -4,10 +4,12 @@ import (
 	"bytes"
 	"encoding/binary"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"runtime"
 	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -123,10 +125,14 @@ func weldSoup(m *Mesh) (vs []r3.Vec, faces [][3]int32) {
 // processors (and so of parts per chunk) and whether the size is known,
 // gives the vertices in order of first occurrence, −0 kept as first read,
 // and the same faces and normals as welding the unwelded decode in file
-// order; sizes straddle the part and chunk boundaries.
+// order; sizes straddle the part and chunk boundaries: a short third
+// chunk of two parts and a bit (2·chunkFacets + 2·facetSplit + 3), and
+// five chunks and a bit, whose stream decode grows the facet slices and
+// the mesh's table several times.
 func TestWeldBinaryParts(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
-	sizes := []int{1, 2, facetSplit - 1, 2*facetSplit + 1, chunkFacets - 1, chunkFacets, chunkFacets + 1, 2*chunkFacets + 4099}
+	sizes := []int{1, 2, facetSplit - 1, 2*facetSplit + 1, chunkFacets - 1, chunkFacets, chunkFacets + 1,
+		2*chunkFacets + 2*facetSplit + 3, 5*chunkFacets + 7}
 	for i, n := range sizes {
 		data := poolSoup(n, uint64(i))
 		soup, err := Decode(bytes.NewReader(data), Options{SizeBytes: int64(len(data))})
@@ -177,6 +183,11 @@ func TestWeldBinaryNotFinite(t *testing.T) {
 			if err == nil || want == nil || err.Error() != want.Error() || !errors.Is(err, ErrNotFinite) {
 				t.Errorf("NaN at facet %d coordinate %d, %d procs: %v, want %v", bad[0], bad[1], procs, err, want)
 			}
+			// The facet and byte offset written in, independent of both decodes.
+			off := 84 + 50*bad[0] + 4*bad[1]
+			if err != nil && (!strings.Contains(err.Error(), fmt.Sprintf("in facet %d", bad[0])) || !strings.Contains(err.Error(), fmt.Sprintf("byte %d", off))) {
+				t.Errorf("NaN at facet %d coordinate %d (byte %d), %d procs: %v", bad[0], bad[1], off, procs, err)
+			}
 		}
 	}
 }
@@ -185,6 +196,7 @@ func TestWeldBinaryNotFinite(t *testing.T) {
 // what an unwelded one does: a non-finite coordinate in a chunk read
 // before the cut, else the cut.
 func TestWeldBinaryCutShort(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
 	const n = 3*chunkFacets + 10
 	full := poolSoup(n, 5)
 	for _, tc := range []struct{ nan, cut int }{
@@ -195,10 +207,13 @@ func TestWeldBinaryCutShort(t *testing.T) {
 		if tc.nan >= 0 {
 			binary.LittleEndian.PutUint32(data[84+50*tc.nan+20:], 0x7f800000)
 		}
-		_, want := Decode(bytes.NewReader(data), Options{Name: "cut.stl"})
-		_, err := Decode(bytes.NewReader(data), Options{Name: "cut.stl", Weld: true})
-		if err == nil || want == nil || err.Error() != want.Error() {
-			t.Errorf("NaN at %d, cut at %d: %v, want %v", tc.nan, tc.cut, err, want)
+		for _, procs := range []int{1, 3} {
+			runtime.GOMAXPROCS(procs)
+			_, want := Decode(bytes.NewReader(data), Options{Name: "cut.stl"})
+			_, err := Decode(bytes.NewReader(data), Options{Name: "cut.stl", Weld: true})
+			if err == nil || want == nil || err.Error() != want.Error() {
+				t.Errorf("NaN at %d, cut at %d, %d procs: %v, want %v", tc.nan, tc.cut, procs, err, want)
+			}
 		}
 	}
 }

@@ -47,8 +47,9 @@ func plusZero(u uint32) uint32 {
 	return u
 }
 
-// hashKey mixes a key into 64 bits: two multiplies by odd constants
-// (Fibonacci hashing; common practice), whose high bits depend on every
+// hashKey mixes a key into 64 bits: two multiplies by odd constants (the
+// golden-ratio constant of Fibonacci hashing and a SplitMix64 multiplier;
+// common practice), whose high bits depend on every
 // bit of the key, then the high half folded into the low. The tables
 // take their slot from the high bits; a part's table keeps the low 32 as
 // a tag, the mesh table the high 32.
@@ -216,7 +217,8 @@ func (p *partWelder) translate(faces [][3]int32) {
 
 // meshWelder gives each distinct vertex of the mesh one index (step 2):
 // an open-addressing table of tag<<32 | index+1 (0: empty), kept at most
-// half full (8 to 16 bytes per distinct vertex). The tag is the high half
+// half full (16 to 64 bytes per distinct vertex: 8-byte slots, between
+// a half and an eighth of them used). The tag is the high half
 // of the hash, whose top bits are also the slot: the tag settles almost
 // every probe without a look at the vertex, and gives an entry's slot in
 // a larger table, so that a rehash reads the table in order and writes

@@ -36,7 +36,7 @@ func (d *decoder) weldChunks(m *Mesh, n int64) error {
 	for i, c := int64(0), 0; i < n; c = 1 - c {
 		k := min(n-i, chunkFacets)
 		if bufs[c] == nil {
-			bufs[c] = make([]byte, k*facetLen)
+			bufs[c] = make([]byte, min(n, chunkFacets)*facetLen)
 		}
 		b := bufs[c][:k*facetLen]
 		rerr := d.readChunk(b, i, n)
@@ -46,6 +46,8 @@ func (d *decoder) weldChunks(m *Mesh, n int64) error {
 		if rerr != nil {
 			return rerr
 		}
+		// After finish: growing may move m.Faces and m.Normals, which the
+		// chunk before wrote; before weld, which reads m.Faces.
 		growFacets(m, int(k), n, true)
 		next := w.start(m, b, i, c)
 		if job != nil {
