@@ -12,6 +12,7 @@ import (
 	xdraw "golang.org/x/image/draw"
 	"golang.org/x/image/math/f64"
 
+	"gonum.org/v1/plot/vg"
 	vgdraw "gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 )
@@ -44,6 +45,20 @@ func TestFastPNGCanvas(t *testing.T) {
 		if bytes.Equal(fast.Bytes(), slow) {
 			t.Error("the same bytes: the fast encoder was not used")
 		}
+		// Both fast paths ran: the raster went to drawBiLinear, and the
+		// file is writeOpaquePNG's (not the image/png fallback's).
+		var fc *fastPNGCanvas
+		drawMapOn(t, spec, func(w, h vg.Length) vg.CanvasSizer { fc = newFastPNGCanvas(w, h); return fc })
+		if fc.biLinear != 1 {
+			t.Errorf("%d rasters drawn by drawBiLinear, want 1", fc.biLinear)
+		}
+		var want bytes.Buffer
+		if err := writeOpaquePNG(&want, fc.Image().(*image.RGBA)); err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(fast.Bytes(), want.Bytes()) {
+			t.Error("WriteMap's PNG is not writeOpaquePNG's file of the drawn canvas")
+		}
 	}
 }
 
@@ -51,21 +66,31 @@ func TestFastPNGCanvas(t *testing.T) {
 // and returns it written by vgimg.PngCanvas.
 func vgimgMapPNG(t *testing.T, spec *MapSpec) []byte {
 	t.Helper()
-	mp, err := spec.plots()
-	if err != nil {
-		t.Fatal(err)
-	}
-	w, h, legendH := mp.size()
-	c := vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(pictureDPI))
-	dc := layoutMap(vgdraw.New(c), mp.plot, legendH)
-	mp.plot.Draw(dc.plotC)
-	mp.bar.Draw(dc.barC)
-	mp.legend.Draw(dc.legendC)
+	var c *vgimg.Canvas
+	drawMapOn(t, spec, func(w, h vg.Length) vg.CanvasSizer {
+		c = vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(pictureDPI))
+		return c
+	})
 	var buf bytes.Buffer
 	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
 		t.Fatal(err)
 	}
 	return buf.Bytes()
+}
+
+// drawMapOn lays out and draws spec as WriteMap does on the canvas that
+// newCanvas makes for the picture's size.
+func drawMapOn(t *testing.T, spec *MapSpec, newCanvas func(w, h vg.Length) vg.CanvasSizer) {
+	t.Helper()
+	mp, err := spec.plots()
+	if err != nil {
+		t.Fatal(err)
+	}
+	w, h, legendH := mp.size()
+	dc := layoutMap(vgdraw.New(newCanvas(w, h)), mp.plot, legendH)
+	mp.plot.Draw(dc.plotC)
+	mp.bar.Draw(dc.barC)
+	mp.legend.Draw(dc.legendC)
 }
 
 func decodeNRGBA(t *testing.T, b []byte) *image.NRGBA {

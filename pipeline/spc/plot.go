@@ -98,7 +98,7 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 	}
 	p.Y.Label.Text = l.Unit
 	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4", c.Baseline)
-	marked := c.marked(l.Mark)
+	marked := markedOf(l.Mark, c.Values, 0)
 	if len(marked) > 0 {
 		p.X.Label.Text += "; rings: " + l.markName()
 	}
@@ -123,7 +123,7 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 		y      float64
 		dashed bool
 		label  string
-	}{{c.Centre, false, "CL " + gfmt(c.Centre)}, {c.UCL, true, "UCL " + gfmt(c.UCL)}, {c.LCL, true, c.LCLText()}} {
+	}{{c.Centre, false, "CL " + gfmt(c.Centre)}, {c.UCL, true, "UCL " + gfmt(c.UCL)}, {c.LCL, true, c.lclText()}} {
 		addHLine(p, h.y, h.dashed, n, h.label)
 	}
 	addBaselineMark(p, c.Baseline, p.Y.Min, p.Y.Max)
@@ -152,7 +152,7 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p.Title.Text = "moving range"
 	p.Y.Label.Text = "moving range"
 	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range"
-	marked := c.markedRanges(l.Mark)
+	marked := markedOf(l.Mark, c.MR, 1)
 	if len(marked) > 0 {
 		p.X.Label.Text += "; rings: moving ranges ending at " + l.markName()
 	}
@@ -209,10 +209,10 @@ func (c *Chart) addSeries(p *plot.Plot, v []float64, from int) error {
 	return nil
 }
 
-// LCLText labels the individuals chart's lower limit: "LCL -0.41", or for
+// lclText labels the individuals chart's lower limit: "LCL -0.41", or for
 // a clipped limit "LCL 0 (clipped; mean - 3 sigma = -0.41)", so the reader
 // sees both the drawn limit and the one the run-rule zones come from.
-func (c *Chart) LCLText() string {
+func (c *Chart) lclText() string {
 	if c.Clipped {
 		return "LCL 0 (clipped; mean - 3 sigma = " + gfmt(c.LCLRaw) + ")"
 	}
@@ -266,27 +266,15 @@ func addSignals(p *plot.Plot, flagged plotter.XYs) error {
 	return nil
 }
 
-// marked returns the individuals that mark sets; entries past the last
-// point are ignored.
-func (c *Chart) marked(mark []bool) plotter.XYs {
+// markedOf returns the points of series v (the individuals, or the
+// moving ranges, whose MR[i] ends at point i) at the places i ≥ from that
+// mark sets; entries past the series are ignored. The moving ranges take
+// from = 1: the first point has no range.
+func markedOf(mark []bool, v []float64, from int) plotter.XYs {
 	var xy plotter.XYs
 	for i, m := range mark {
-		if m && i < len(c.Values) {
-			xy = append(xy, plotter.XY{X: float64(i + 1), Y: c.Values[i]})
-		}
-	}
-	return xy
-}
-
-// markedRanges returns the moving ranges that involve a point mark sets as
-// their later point: MR[i] = |x[i] − x[i−1]| for each marked i ≥ 1 (the
-// first point has no moving range); entries past the last point are
-// ignored.
-func (c *Chart) markedRanges(mark []bool) plotter.XYs {
-	var xy plotter.XYs
-	for i, m := range mark {
-		if m && i >= 1 && i < len(c.MR) {
-			xy = append(xy, plotter.XY{X: float64(i + 1), Y: c.MR[i]})
+		if m && i >= from && i < len(v) {
+			xy = append(xy, plotter.XY{X: float64(i + 1), Y: v[i]})
 		}
 	}
 	return xy
