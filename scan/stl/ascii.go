@@ -19,7 +19,7 @@ func (d *decoder) ascii() (*Mesh, error) {
 	p := &asciiParser{d: d, l: l, m: &Mesh{}}
 	if d.opt.Weld {
 		p.m.Faces = [][3]int32{}
-		d.weld = newWelder(1 << 12)
+		d.weld = newMeshWelder(1 << 12)
 	}
 	if err := p.parse(); err != nil {
 		return nil, err
@@ -202,7 +202,7 @@ func (p *asciiParser) facet() error {
 	p.m.Normals = append(p.m.Normals, n)
 	if w := p.d.weld; w != nil {
 		vv := &p.m.Vertices
-		p.m.Faces = append(p.m.Faces, [3]int32{w.add(vv, vs[0]), w.add(vv, vs[1]), w.add(vv, vs[2])})
+		p.m.Faces = append(p.m.Faces, [3]int32{weldVertex(w, vv, vs[0]), weldVertex(w, vv, vs[1]), weldVertex(w, vv, vs[2])})
 	} else {
 		p.m.Vertices = append(p.m.Vertices, vs[:]...)
 	}

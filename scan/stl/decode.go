@@ -59,7 +59,7 @@ func Decode(r io.Reader, opt Options) (*Mesh, error) {
 type decoder struct {
 	br   *bufio.Reader
 	opt  Options
-	weld *welder // nil unless opt.Weld (ASCII)
+	weld *meshWelder // nil unless opt.Weld (ASCII)
 }
 
 func (d *decoder) errAt(off int64, err error) *ParseError {
