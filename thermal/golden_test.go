@@ -17,6 +17,10 @@ type goldenBits struct {
 	outer, lin   int
 }
 
+func (g goldenBits) String() string {
+	return fmt.Sprintf("{digest: %#x, power: %#x, glass: %#x, outer: %d, lin: %d}", g.digest, g.power, g.glass, g.outer, g.lin)
+}
+
 // solutionDigest returns an FNV-1a hash of the bits of every per-cell
 // field of s (TPanK, TGlassK, FluxWM2, SolidWM2K, GasWM2K, RadWM2K, in that
 // order) and of its totals, so that a change of any one bit anywhere
@@ -107,9 +111,7 @@ func TestGoldenBits(t *testing.T) {
 		got := goldenBits{digest: solutionDigest(s), power: math.Float64bits(s.PowerW),
 			glass: math.Float64bits(s.GlassMaxK), outer: s.OuterIterations, lin: s.LinearIterations}
 		if want, ok := golden[name]; !ok || got != want {
-			t.Errorf("%s: got %s, want %+v (power %.17g W, glass max %.17g K)", name,
-				fmt.Sprintf("{digest: %#x, power: %#x, glass: %#x, outer: %d, lin: %d}", got.digest, got.power, got.glass, got.outer, got.lin),
-				want, s.PowerW, s.GlassMaxK)
+			t.Errorf("%s: got %s, want %s (power %.17g W, glass max %.17g K)", name, got, want, s.PowerW, s.GlassMaxK)
 		}
 	}
 }
