@@ -1147,10 +1147,11 @@ func (s *plate) interfaceAt(k int, tHobK, halfR, tPanK, hPrev float64) (solid, g
 		tf += q * s.halfRb
 	}
 	solid, gas, rad = s.p.Interface.H(k, ts, tf)
-	for _, v := range [3]float64{solid, gas, rad} {
-		if !(v >= 0) || math.IsInf(v, 0) {
-			return 0, 0, 0, fmt.Errorf("thermal: interface conductance at cell %d is %g, %g, %g W/(m²·K) (solid, gas, radiation) at hob %.6g K, pan %.6g K", k, solid, gas, rad, ts, tf)
-		}
+	// Each part non-negative and finite (a value ≥ 0 is infinite when
+	// above the largest float).
+	const big = math.MaxFloat64
+	if !(solid >= 0 && gas >= 0 && rad >= 0) || solid > big || gas > big || rad > big {
+		return 0, 0, 0, fmt.Errorf("thermal: interface conductance at cell %d is %g, %g, %g W/(m²·K) (solid, gas, radiation) at hob %.6g K, pan %.6g K", k, solid, gas, rad, ts, tf)
 	}
 	return solid, gas, rad, nil
 }
@@ -1395,9 +1396,15 @@ func (l *glassLaw) setMean(tsK float64) error {
 }
 
 func (l *glassLaw) eval(ts float64) (q, dq float64) {
-	t2, r2 := ts*ts, l.roomK*l.roomK
-	es := l.eps * fluid.StefanBoltzmann
-	return l.hWM2K*(ts-l.roomK) + es*(t2*t2-r2*r2), l.hWM2K + 4*es*t2*ts
+	r2 := l.roomK * l.roomK
+	return l.evalWith(ts, l.eps*fluid.StefanBoltzmann, r2*r2)
+}
+
+// evalWith is eval with es = ε·σ, W/(m²·K⁴), and r4 = T_room⁴, K⁴, worked
+// out by the caller once for many evaluations.
+func (l *glassLaw) evalWith(ts, es, r4 float64) (q, dq float64) {
+	t2 := ts * ts
+	return l.hWM2K*(ts-l.roomK) + es*(t2*t2-r4), l.hWM2K + 4*es*t2*ts
 }
 
 // link is linkFlux for the glass law (the same iteration, with the law
@@ -1414,15 +1421,18 @@ func (l *glassLaw) link(tNode, halfR, tsGuess float64) (ts, q, g float64) {
 		if !(ts >= lo && ts <= hi) {
 			ts = tNode - (tNode-tRes)*1e-3
 		}
+		// The loop's constants, once: ε·σ, T_room⁴ and 1/halfR.
+		r2 := tRes * tRes
+		es, r4, invR := l.eps*fluid.StefanBoltzmann, r2*r2, 1/halfR
 		for range 100 {
-			q, gs = l.eval(ts)
+			q, gs = l.evalWith(ts, es, r4)
 			f := (tNode-ts)/halfR - q
 			if f > 0 {
 				lo = ts
 			} else {
 				hi = ts
 			}
-			step := f / (1/halfR + max(gs, 0))
+			step := f / (invR + max(gs, 0))
 			if math.Abs(step) <= 1e-8*(1+math.Abs(ts)) {
 				ts += step
 				q += gs * step
