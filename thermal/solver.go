@@ -458,25 +458,28 @@ func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
 // (whose rows around them are then final), so the grid streams through the
 // cache once for all m sweeps. Every cell sees the same neighbour values as
 // in m separate sweeps of two separate half-sweeps, so the result is the
-// same to the bit.
-func (lv *level) sweeps(x, b []float64, first, m int) {
+// same to the bit. With zero set, x is zero on entry, and the first
+// half-sweep, whose neighbours are all still zero, skips reading them (the
+// sum b + Σ k·0 is b + 0).
+func (lv *level) sweeps(x, b []float64, first, m int, zero bool) {
 	second := 1 - first
 	ny := lv.ny
 	for t := 0; t < ny+2*m-1; t++ {
 		for s := 0; s < m; s++ {
 			j := t - 2*s
 			if j >= 0 && j < ny {
-				lv.relaxRow(x, b, j, first)
+				lv.relaxRow(x, b, j, first, zero && s == 0)
 			}
 			if j >= 1 && j <= ny {
-				lv.relaxRow(x, b, j-1, second)
+				lv.relaxRow(x, b, j-1, second, false)
 			}
 		}
 	}
 }
 
-// relaxRow updates the cells of one colour in row j.
-func (lv *level) relaxRow(x, b []float64, j, colour int) {
+// relaxRow updates the cells of one colour in row j; zero says that their
+// neighbours are all zero.
+func (lv *level) relaxRow(x, b []float64, j, colour int, zero bool) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
 	lo, hi := lv.ulo[j], lv.uhi[j]
 	if lo >= hi {
@@ -502,7 +505,7 @@ func (lv *level) relaxRow(x, b []float64, j, colour int) {
 			x[row] = nbSum(kx, ky, x, nx, ny, 0, j, row, b[row]) / d[row]
 			i = 2
 		}
-		lv.relaxSplit(x, b, 0, false, row+i, row+min(hi, nx-1))
+		lv.relaxSplit(x, b, 0, false, zero, row+i, row+min(hi, nx-1))
 		if lastEdge {
 			p := row + nx - 1
 			x[p] = nbSum(kx, ky, x, nx, ny, nx-1, j, p, b[p]) / d[p]
@@ -548,15 +551,15 @@ func (lv *level) relaxRow(x, b []float64, j, colour int) {
 	end := min(hi, nx-1)
 	next := func(e int) int { return max(i, i+(e-i+1)&^1) }
 	if e := min(end, lv.lo[0][j]); i < e {
-		lv.relaxSplit(x, b, 1, false, row+i, row+e)
+		lv.relaxSplit(x, b, 1, false, zero, row+i, row+e)
 		i = next(e)
 	}
 	if e := min(end, lv.hi[0][j]); i < e {
-		lv.relaxSplit(x, b, 0, true, row+i, row+e)
+		lv.relaxSplit(x, b, 0, true, zero, row+i, row+e)
 		i = next(e)
 	}
 	if i < end {
-		lv.relaxSplit(x, b, 1, false, row+i, row+end)
+		lv.relaxSplit(x, b, 1, false, zero, row+i, row+end)
 	}
 	if lastEdge {
 		edge(nx - 1)

@@ -297,10 +297,10 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 	}
 	lv, c := mg.levels[k], mg.levels[k+1]
 	clear(x)
-	lv.sweeps(x, b, 0, mgSweeps)
+	lv.sweeps(x, b, 0, mgSweeps, true)
 	lv.residual(lv.r, x, b)
 	lv.restrict(c, c.b, lv.r)
 	mg.vcycle(k+1, c.x, c.b)
 	lv.prolongAdd(c, x, c.x)
-	lv.sweeps(x, b, 1, mgSweeps)
+	lv.sweeps(x, b, 1, mgSweeps, false)
 }

@@ -76,9 +76,18 @@ func split2(p, e, a, e2 int) (s1, s2 int) {
 
 // relaxSplit relaxes the cells p, p+2, … below e of layer l, both layers
 // together when pair is set, with the uniform kernels on the row's uniform
-// run and the face arrays elsewhere.
-func (lv *level) relaxSplit(x, b []float64, l int, pair bool, p, e int) {
+// run and the face arrays elsewhere, or, when zero says that the cells'
+// neighbours are all zero, without reading the neighbours or faces.
+func (lv *level) relaxSplit(x, b []float64, l int, pair, zero bool, p, e int) {
 	n, nx := lv.n, lv.nx
+	if zero {
+		if pair {
+			relaxBlockZero(lv, x[:n], x[n:2*n], b[:n], b[n:2*n], p, e)
+		} else {
+			relaxZero(x[l*n:(l+1)*n], b[l*n:(l+1)*n], lv.inv, p, e)
+		}
+		return
+	}
 	j := p / nx
 	row := j * nx
 	a, ue := lv.ua[l][j], lv.ue[l][j]
@@ -201,5 +210,34 @@ func applyRowUniform(out, xl, d []float64, kf float64, p, e, nx int) {
 	dc, o := d[p:][:w], out[p:][:w]
 	for m := range o {
 		o[m] = dc[m]*xc[m] - kf*xw[m] - kf*xe[m] - kf*xn[m] - kf*xs[m]
+	}
+}
+
+// relaxZero is relaxRange where the neighbours are all zero: each product
+// k·0 is +0 (faces are finite and not negative), so the sum is b + 0.
+func relaxZero(x, b, inv []float64, p, e int) {
+	w := e - p
+	if w <= 0 {
+		return
+	}
+	xc, bc, ic := x[p:][:w], b[p:][:w], inv[p:][:w]
+	for m := 0; m < len(xc); m += 2 {
+		xc[m] = (bc[m] + 0) * ic[m]
+	}
+}
+
+// relaxBlockZero is relaxBlockRange where the neighbours are all zero.
+func relaxBlockZero(lv *level, x0, x1, b0, b1 []float64, p, e int) {
+	w := e - p
+	if w <= 0 {
+		return
+	}
+	xc0, xc1, bc0, bc1 := x0[p:][:w], x1[p:][:w], b0[p:][:w], b1[p:][:w]
+	dc0, dc1, cc, ic := lv.diag[0][p:][:w], lv.diag[1][p:][:w], lv.cpl[p:][:w], lv.inv[p:][:w]
+	for m := 0; m < len(xc0); m += 2 {
+		r0, r1 := bc0[m]+0, bc1[m]+0
+		cp, id := cc[m], ic[m]
+		xc0[m] = (dc1[m]*r0 + cp*r1) * id
+		xc1[m] = (cp*r0 + dc0[m]*r1) * id
 	}
 }
