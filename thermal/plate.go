@@ -1202,6 +1202,10 @@ func (s *plate) glassSideLink(k int, tg, tp float64, fresh bool) (ct, off float6
 // assemble sets sinks, couplings and right-hand sides from the current state.
 func (s *plate) assemble() error {
 	n, a, lv := s.n, s.areaM2, s.lv
+	// Only the line search reads the water link's surface temperature and
+	// A·q, A·g, and only for a link that is not linear (a fixed link
+	// ignores its guess).
+	keep := !s.water.linear
 	for k := 0; k < n; k++ {
 		if !s.pan[k] {
 			s.bRest[k] = 0
@@ -1212,8 +1216,10 @@ func (s *plate) assemble() error {
 		if err != nil {
 			return fmt.Errorf("thermal: water side at cell %d: %w", k, err)
 		}
-		s.tsWater[k] = ts
-		s.qLink[k], s.gLink[k] = a*q, a*g
+		if keep {
+			s.tsWater[k] = ts
+			s.qLink[k], s.gLink[k] = a*q, a*g
+		}
 		lv.sink[0][k] = a * g
 		s.bRest[k] = a * (g*tp - q)
 		if s.nl == 1 {
@@ -1233,6 +1239,10 @@ func (s *plate) assemble() error {
 		if err := s.updateGlassLaw(); err != nil {
 			return err
 		}
+		// The downward loss's sink, W/K, and source, W, the same in every
+		// glass cell.
+		down := a * s.hdEff
+		downRoom := down * h.RoomK
 		for k := 0; k < n; k++ {
 			lv.cpl[k] = 0
 			if !s.glass[k] {
@@ -1240,8 +1250,8 @@ func (s *plate) assemble() error {
 				continue
 			}
 			tg := s.t[n+k]
-			lv.sink[1][k] = a * s.hdEff
-			s.bRest[n+k] = a * s.hdEff * h.RoomK
+			lv.sink[1][k] = down
+			s.bRest[n+k] = downRoom
 			if s.pan[k] {
 				ct, off, err := s.glassSideLink(k, tg, s.t[k], fresh)
 				if err != nil {
@@ -1315,6 +1325,7 @@ type waterLaw struct {
 	tWaterK       float64
 	fixed, linear bool
 	hWM2K         float64
+	halfR, gWM2K  float64 // fixed: the link's resistance, m²·K/W, and series(hWM2K, halfR)
 }
 
 // newWaterLaw returns the water law of p, halfRb the resistance from the
@@ -1332,7 +1343,8 @@ func newWaterLaw(p *Problem, halfRb float64) waterLaw {
 		l.fixed = false // the general path reports it
 	}
 	l.hWM2K = h
-	l.linear = l.fixed && series(h, halfRb) >= minLinkHWM2K
+	l.halfR, l.gWM2K = halfRb, series(h, halfRb)
+	l.linear = l.fixed && l.gWM2K >= minLinkHWM2K
 	return l
 }
 
@@ -1342,7 +1354,10 @@ func (l *waterLaw) link(tNode, halfR, tsGuess float64) (ts, q, g float64, err er
 	if !l.fixed {
 		return linkFlux(l, tNode, l.tWaterK, halfR, tsGuess)
 	}
-	g = series(l.hWM2K, halfR)
+	g = l.gWM2K // series(l.hWM2K, halfR), worked out once
+	if halfR != l.halfR {
+		g = series(l.hWM2K, halfR)
+	}
 	q = g * (tNode - l.tWaterK)
 	return tNode - q*halfR, q, max(g, minLinkHWM2K), nil
 }
