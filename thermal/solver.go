@@ -249,7 +249,7 @@ func (lv *level) diagUniform(l, p, e int) {
 
 // apply sets dst = A x on the active spans (dst is left as it is, zero,
 // outside them).
-func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
+func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil, nil) }
 
 // applyRows sets dst = A x on the active spans, or, with b not nil, dst =
 // b − A x (the subtraction over every node of the row, so that the nodes
@@ -259,7 +259,9 @@ func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
 // three in one loop over the interior columns where both layers are live.
 // Every node gets the same operations in the same order as in separate
 // passes.
-func (lv *level) applyRows(dst, x, b []float64) {
+//
+// With then not nil, it calls then(j) when row j of dst is done.
+func (lv *level) applyRows(dst, x, b []float64, then func(j int)) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
 	for j := 0; j < ny; j++ {
 		a, e := 0, 0 // the columns done by applyPair
@@ -310,6 +312,9 @@ func (lv *level) applyRows(dst, x, b []float64) {
 					r[i] = bl[i] - r[i]
 				}
 			}
+		}
+		if then != nil {
+			then(j)
 		}
 	}
 }
@@ -430,7 +435,7 @@ func (lv *level) localEnergy(x []float64) float64 {
 }
 
 // residual sets r = b − A x.
-func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b) }
+func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b, nil) }
 
 // nbSum returns b_p + Σ k x_q over the in-layer neighbours q of cell (i, j).
 func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {

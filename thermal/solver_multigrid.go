@@ -99,22 +99,37 @@ func (lv *level) updateFrom(f *level) {
 // outside the active spans).
 func (lv *level) restrict(c *level, dst, v []float64) {
 	clear(dst)
+	for j := 0; j < lv.ny; j++ {
+		lv.restrictRow(c, dst, v, j)
+	}
+}
+
+// residualRestrict sets r = b − A x and restricts it to the coarse vector
+// dst (level c), each row of r as soon as it is done, while it is still in
+// the cache. Every coarse sum takes its fine values in the same order as
+// restrict's.
+func (lv *level) residualRestrict(c *level, dst, r, x, b []float64) {
+	clear(dst)
+	lv.applyRows(r, x, b, func(j int) { lv.restrictRow(c, dst, r, j) })
+}
+
+// restrictRow adds the fine values of row j of v, each layer's span, to
+// the coarse vector dst (level c).
+func (lv *level) restrictRow(c *level, dst, v []float64, j int) {
 	cx := c.nx
+	crow := (j / lv.fy) * cx
+	row := j * lv.nx
 	for l := 0; l < lv.nl; l++ {
 		vl := v[l*lv.n : (l+1)*lv.n]
 		dl := dst[l*c.n : (l+1)*c.n]
-		for j := 0; j < lv.ny; j++ {
-			crow := (j / lv.fy) * cx
-			row := j * lv.nx
-			lo, hi := lv.lo[l][j], lv.hi[l][j]
-			if lv.fx == 2 {
-				for i := lo; i < hi; i++ {
-					dl[crow+(i>>1)] += vl[row+i]
-				}
-			} else {
-				for i := lo; i < hi; i++ {
-					dl[crow+i] += vl[row+i]
-				}
+		lo, hi := lv.lo[l][j], lv.hi[l][j]
+		if lv.fx == 2 {
+			for i := lo; i < hi; i++ {
+				dl[crow+(i>>1)] += vl[row+i]
+			}
+		} else {
+			for i := lo; i < hi; i++ {
+				dl[crow+i] += vl[row+i]
 			}
 		}
 	}
@@ -298,8 +313,7 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 	lv, c := mg.levels[k], mg.levels[k+1]
 	clear(x)
 	lv.sweeps(x, b, 0, mgSweeps, true)
-	lv.residual(lv.r, x, b)
-	lv.restrict(c, c.b, lv.r)
+	lv.residualRestrict(c, c.b, lv.r, x, b)
 	mg.vcycle(k+1, c.x, c.b)
 	lv.prolongAdd(c, x, c.x)
 	lv.sweeps(x, b, 1, mgSweeps, false)
