@@ -465,11 +465,19 @@ func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
 // in m separate sweeps of two separate half-sweeps, so the result is the
 // same to the bit. With zero set, x is zero on entry, and the first
 // half-sweep, whose neighbours are all still zero, skips reading them (the
-// sum b + Σ k·0 is b + 0).
-func (lv *level) sweeps(x, b []float64, first, m int, zero bool) {
+// sum b + Σ k·0 is b + 0). With prep not nil, prep(j) is called for each
+// row j before any of its values is read (the rows around it are then not
+// yet relaxed either).
+func (lv *level) sweeps(x, b []float64, first, m int, zero bool, prep func(j int)) {
 	second := 1 - first
 	ny := lv.ny
+	if prep != nil {
+		prep(0)
+	}
 	for t := 0; t < ny+2*m-1; t++ {
+		if prep != nil && t+1 < ny {
+			prep(t + 1)
+		}
 		for s := 0; s < m; s++ {
 			j := t - 2*s
 			if j >= 0 && j < ny {

@@ -95,7 +95,7 @@ func (lv *level) updateFrom(f *level) {
 }
 
 // restrict sets the coarse vector dst (level c) to the sums of the fine
-// values of v over each coarse cell (the transpose of prolongAdd; v is zero
+// values of v over each coarse cell (the transpose of prolongRow; v is zero
 // outside the active spans).
 func (lv *level) restrict(c *level, dst, v []float64) {
 	clear(dst)
@@ -135,27 +135,25 @@ func (lv *level) restrictRow(c *level, dst, v []float64, j int) {
 	}
 }
 
-// prolongAdd adds to the fine vector x the coarse vector xc (level c),
-// piecewise constant over each coarse cell, on the active spans of x.
-// Inactive fine nodes in a span may pick up values; the post-smoothing
-// resets them to their zero right-hand side.
-func (lv *level) prolongAdd(c *level, x, xc []float64) {
+// prolongRow adds to row j of the fine vector x the coarse vector xc
+// (level c), piecewise constant over each coarse cell, on the active spans
+// of x. Inactive fine nodes in a span may pick up values; the
+// post-smoothing resets them to their zero right-hand side.
+func (lv *level) prolongRow(c *level, x, xc []float64, j int) {
 	cx := c.nx
+	crow := (j / lv.fy) * cx
+	row := j * lv.nx
 	for l := 0; l < lv.nl; l++ {
 		xl := x[l*lv.n : (l+1)*lv.n]
 		cl := xc[l*c.n : (l+1)*c.n]
-		for j := 0; j < lv.ny; j++ {
-			crow := (j / lv.fy) * cx
-			row := j * lv.nx
-			lo, hi := lv.lo[l][j], lv.hi[l][j]
-			if lv.fx == 2 {
-				for i := lo; i < hi; i++ {
-					xl[row+i] += cl[crow+(i>>1)]
-				}
-			} else {
-				for i := lo; i < hi; i++ {
-					xl[row+i] += cl[crow+i]
-				}
+		lo, hi := lv.lo[l][j], lv.hi[l][j]
+		if lv.fx == 2 {
+			for i := lo; i < hi; i++ {
+				xl[row+i] += cl[crow+(i>>1)]
+			}
+		} else {
+			for i := lo; i < hi; i++ {
+				xl[row+i] += cl[crow+i]
 			}
 		}
 	}
@@ -312,9 +310,10 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 	}
 	lv, c := mg.levels[k], mg.levels[k+1]
 	clear(x)
-	lv.sweeps(x, b, 0, mgSweeps, true)
+	lv.sweeps(x, b, 0, mgSweeps, true, nil)
 	lv.residualRestrict(c, c.b, lv.r, x, b)
 	mg.vcycle(k+1, c.x, c.b)
-	lv.prolongAdd(c, x, c.x)
-	lv.sweeps(x, b, 1, mgSweeps, false)
+	// The coarse correction is added to each row just before the
+	// post-smoothing first reads it, while the row is in the cache.
+	lv.sweeps(x, b, 1, mgSweeps, false, func(j int) { lv.prolongRow(c, x, c.x, j) })
 }

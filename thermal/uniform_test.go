@@ -80,8 +80,8 @@ func TestUniformKernels(t *testing.T) {
 			ax, res, sw := make([]float64, size), make([]float64, size), append([]float64(nil), x...)
 			lv.apply(ax, x)
 			lv.residual(res, x, b)
-			lv.sweeps(sw, b, 0, 2, false)
-			lv.sweeps(sw, b, 1, 2, false)
+			lv.sweeps(sw, b, 0, 2, false, nil)
+			lv.sweeps(sw, b, 1, 2, false, nil)
 			return [][]float64{append([]float64(nil), lv.diag[0]...), append([]float64(nil), lv.inv...), ax, res, sw}
 		}
 		with := run()
@@ -102,8 +102,8 @@ func TestUniformKernels(t *testing.T) {
 		b[c] = math.Copysign(0, -1)
 		for m := 1; m <= 2; m++ {
 			fast, slow := make([]float64, size), make([]float64, size)
-			lv.sweeps(fast, b, 0, m, true)
-			lv.sweeps(slow, b, 0, m, false)
+			lv.sweeps(fast, b, 0, m, true, nil)
+			lv.sweeps(slow, b, 0, m, false, nil)
 			if i := firstBitDiff(fast, slow); i >= 0 {
 				t.Fatalf("%+v, %d sweeps from zero: x[%d] = %.17g skipping the zero neighbours, %.17g reading them", tc, m, i, fast[i], slow[i])
 			}
