@@ -512,7 +512,7 @@ func (s *plate) setScalars() (kBase float64) {
 // heater mode) and the in-plane conductances between active neighbours,
 // kBase for the base and k·t of the glass, W/K.
 func (s *plate) setupLevel(old *level, kBase float64) *level {
-	p, g, n := s.p, s.p.Grid, s.n
+	p, g := s.p, s.p.Grid
 	h := p.Heater
 	lv := reuseLevel(old, g.Nx, g.Ny, s.nl, false)
 	copy(lv.act[0], s.pan)
@@ -520,10 +520,13 @@ func (s *plate) setupLevel(old *level, kBase float64) *level {
 	if h != nil {
 		s.glass = lv.act[1]
 		r2 := h.GlassRadiusM * h.GlassRadiusM
-		for k := 0; k < n; k++ {
-			x, y := g.CentreM(k)
-			dx, dy := x-h.ZoneCentreM[0], y-h.ZoneCentreM[1]
-			s.glass[k] = dx*dx+dy*dy <= r2
+		for j, k := 0, 0; j < g.Ny; j++ {
+			// The cell centres as Grid.CentreM gives them.
+			dy := g.Y0M + float64(j)*g.CellM - h.ZoneCentreM[1]
+			for i := 0; i < g.Nx; i, k = i+1, k+1 {
+				dx := g.X0M + float64(i)*g.CellM - h.ZoneCentreM[0]
+				s.glass[k] = dx*dx+dy*dy <= r2
+			}
 		}
 		kg = h.Glass.ConductivityWMK * h.Glass.ThicknessM
 	}
@@ -634,8 +637,15 @@ func (s *plate) spreadZonePower() {
 	rz := h.ZoneDiameterM / 2
 	var wsum float64
 	for k := 0; k < n; k++ {
-		x, y := g.CentreM(k)
-		r := math.Hypot(x-h.ZoneCentreM[0], y-h.ZoneCentreM[1])
+		// The cell centre as Grid.CentreM gives it; beyond rz in x or y
+		// the distance (math.Hypot's is never below either) is too.
+		i, j := k%g.Nx, k/g.Nx
+		dx := g.X0M + float64(i)*g.CellM - h.ZoneCentreM[0]
+		dy := g.Y0M + float64(j)*g.CellM - h.ZoneCentreM[1]
+		if math.Abs(dx) > rz || math.Abs(dy) > rz {
+			continue
+		}
+		r := math.Hypot(dx, dy)
 		if r > rz {
 			continue
 		}

@@ -39,19 +39,21 @@ func (lv *level) coarsen(old *level) *level {
 	cy := (lv.ny + lv.fy - 1) / lv.fy
 	c := reuseLevel(old, cx, cy, lv.nl, true)
 	nx := lv.nx
+	// The factors are 1 or 2: i/fx is i >> sx.
+	sx, sy := uint(lv.fx-1), uint(lv.fy-1)
 	for l := 0; l < lv.nl; l++ {
 		for j := 0; j < lv.ny; j++ {
-			J := j / lv.fy
+			J := j >> sy
 			for i := 0; i < nx; i++ {
-				I := i / lv.fx
+				I := i >> sx
 				p, P := j*nx+i, J*cx+I
 				if lv.act[l][p] {
 					c.act[l][P] = true
 				}
-				if i+1 < nx && (i+1)/lv.fx != I {
+				if i+1 < nx && (i+1)>>sx != I {
 					c.kx[l][P] += lv.kx[l][p] / float64(lv.fx)
 				}
-				if j+1 < lv.ny && (j+1)/lv.fy != J {
+				if j+1 < lv.ny && (j+1)>>sy != J {
 					c.ky[l][P] += lv.ky[l][p] / float64(lv.fy)
 				}
 			}
