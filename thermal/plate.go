@@ -512,7 +512,7 @@ func (s *plate) setScalars() (kBase float64) {
 // heater mode) and the in-plane conductances between active neighbours,
 // kBase for the base and k·t of the glass, W/K.
 func (s *plate) setupLevel(old *level, kBase float64) *level {
-	p, g, n := s.p, s.p.Grid, s.n
+	p, g := s.p, s.p.Grid
 	h := p.Heater
 	lv := reuseLevel(old, g.Nx, g.Ny, s.nl, false)
 	copy(lv.act[0], s.pan)
@@ -520,10 +520,13 @@ func (s *plate) setupLevel(old *level, kBase float64) *level {
 	if h != nil {
 		s.glass = lv.act[1]
 		r2 := h.GlassRadiusM * h.GlassRadiusM
-		for k := 0; k < n; k++ {
-			x, y := g.CentreM(k)
-			dx, dy := x-h.ZoneCentreM[0], y-h.ZoneCentreM[1]
-			s.glass[k] = dx*dx+dy*dy <= r2
+		for j, k := 0, 0; j < g.Ny; j++ {
+			// The cell centres as Grid.CentreM gives them.
+			dy := g.Y0M + float64(j)*g.CellM - h.ZoneCentreM[1]
+			for i := 0; i < g.Nx; i, k = i+1, k+1 {
+				dx := g.X0M + float64(i)*g.CellM - h.ZoneCentreM[0]
+				s.glass[k] = dx*dx+dy*dy <= r2
+			}
 		}
 		kg = h.Glass.ConductivityWMK * h.Glass.ThicknessM
 	}
@@ -634,8 +637,15 @@ func (s *plate) spreadZonePower() {
 	rz := h.ZoneDiameterM / 2
 	var wsum float64
 	for k := 0; k < n; k++ {
-		x, y := g.CentreM(k)
-		r := math.Hypot(x-h.ZoneCentreM[0], y-h.ZoneCentreM[1])
+		// The cell centre as Grid.CentreM gives it; beyond rz in x or y
+		// the distance (math.Hypot's is never below either) is too.
+		i, j := k%g.Nx, k/g.Nx
+		dx := g.X0M + float64(i)*g.CellM - h.ZoneCentreM[0]
+		dy := g.Y0M + float64(j)*g.CellM - h.ZoneCentreM[1]
+		if math.Abs(dx) > rz || math.Abs(dy) > rz {
+			continue
+		}
+		r := math.Hypot(dx, dy)
 		if r > rz {
 			continue
 		}
@@ -1147,10 +1157,11 @@ func (s *plate) interfaceAt(k int, tHobK, halfR, tPanK, hPrev float64) (solid, g
 		tf += q * s.halfRb
 	}
 	solid, gas, rad = s.p.Interface.H(k, ts, tf)
-	for _, v := range [3]float64{solid, gas, rad} {
-		if !(v >= 0) || math.IsInf(v, 0) {
-			return 0, 0, 0, fmt.Errorf("thermal: interface conductance at cell %d is %g, %g, %g W/(m²·K) (solid, gas, radiation) at hob %.6g K, pan %.6g K", k, solid, gas, rad, ts, tf)
-		}
+	// Each part non-negative and finite (a value ≥ 0 is infinite when
+	// above the largest float).
+	const big = math.MaxFloat64
+	if !(solid >= 0 && gas >= 0 && rad >= 0) || solid > big || gas > big || rad > big {
+		return 0, 0, 0, fmt.Errorf("thermal: interface conductance at cell %d is %g, %g, %g W/(m²·K) (solid, gas, radiation) at hob %.6g K, pan %.6g K", k, solid, gas, rad, ts, tf)
 	}
 	return solid, gas, rad, nil
 }
@@ -1201,6 +1212,10 @@ func (s *plate) glassSideLink(k int, tg, tp float64, fresh bool) (ct, off float6
 // assemble sets sinks, couplings and right-hand sides from the current state.
 func (s *plate) assemble() error {
 	n, a, lv := s.n, s.areaM2, s.lv
+	// Only the line search reads the water link's surface temperature and
+	// A·q, A·g, and only for a link that is not linear (a fixed link
+	// ignores its guess).
+	keep := !s.water.linear
 	for k := 0; k < n; k++ {
 		if !s.pan[k] {
 			s.bRest[k] = 0
@@ -1211,8 +1226,10 @@ func (s *plate) assemble() error {
 		if err != nil {
 			return fmt.Errorf("thermal: water side at cell %d: %w", k, err)
 		}
-		s.tsWater[k] = ts
-		s.qLink[k], s.gLink[k] = a*q, a*g
+		if keep {
+			s.tsWater[k] = ts
+			s.qLink[k], s.gLink[k] = a*q, a*g
+		}
 		lv.sink[0][k] = a * g
 		s.bRest[k] = a * (g*tp - q)
 		if s.nl == 1 {
@@ -1232,6 +1249,10 @@ func (s *plate) assemble() error {
 		if err := s.updateGlassLaw(); err != nil {
 			return err
 		}
+		// The downward loss's sink, W/K, and source, W, the same in every
+		// glass cell.
+		down := a * s.hdEff
+		downRoom := down * h.RoomK
 		for k := 0; k < n; k++ {
 			lv.cpl[k] = 0
 			if !s.glass[k] {
@@ -1239,8 +1260,8 @@ func (s *plate) assemble() error {
 				continue
 			}
 			tg := s.t[n+k]
-			lv.sink[1][k] = a * s.hdEff
-			s.bRest[n+k] = a * s.hdEff * h.RoomK
+			lv.sink[1][k] = down
+			s.bRest[n+k] = downRoom
 			if s.pan[k] {
 				ct, off, err := s.glassSideLink(k, tg, s.t[k], fresh)
 				if err != nil {
@@ -1314,6 +1335,7 @@ type waterLaw struct {
 	tWaterK       float64
 	fixed, linear bool
 	hWM2K         float64
+	halfR, gWM2K  float64 // fixed: the link's resistance, m²·K/W, and series(hWM2K, halfR)
 }
 
 // newWaterLaw returns the water law of p, halfRb the resistance from the
@@ -1331,7 +1353,8 @@ func newWaterLaw(p *Problem, halfRb float64) waterLaw {
 		l.fixed = false // the general path reports it
 	}
 	l.hWM2K = h
-	l.linear = l.fixed && series(h, halfRb) >= minLinkHWM2K
+	l.halfR, l.gWM2K = halfRb, series(h, halfRb)
+	l.linear = l.fixed && l.gWM2K >= minLinkHWM2K
 	return l
 }
 
@@ -1341,7 +1364,10 @@ func (l *waterLaw) link(tNode, halfR, tsGuess float64) (ts, q, g float64, err er
 	if !l.fixed {
 		return linkFlux(l, tNode, l.tWaterK, halfR, tsGuess)
 	}
-	g = series(l.hWM2K, halfR)
+	g = l.gWM2K // series(l.hWM2K, halfR), worked out once
+	if halfR != l.halfR {
+		g = series(l.hWM2K, halfR)
+	}
 	q = g * (tNode - l.tWaterK)
 	return tNode - q*halfR, q, max(g, minLinkHWM2K), nil
 }
@@ -1395,9 +1421,15 @@ func (l *glassLaw) setMean(tsK float64) error {
 }
 
 func (l *glassLaw) eval(ts float64) (q, dq float64) {
-	t2, r2 := ts*ts, l.roomK*l.roomK
-	es := l.eps * fluid.StefanBoltzmann
-	return l.hWM2K*(ts-l.roomK) + es*(t2*t2-r2*r2), l.hWM2K + 4*es*t2*ts
+	r2 := l.roomK * l.roomK
+	return l.evalWith(ts, l.eps*fluid.StefanBoltzmann, r2*r2)
+}
+
+// evalWith is eval with es = ε·σ, W/(m²·K⁴), and r4 = T_room⁴, K⁴, worked
+// out by the caller once for many evaluations.
+func (l *glassLaw) evalWith(ts, es, r4 float64) (q, dq float64) {
+	t2 := ts * ts
+	return l.hWM2K*(ts-l.roomK) + es*(t2*t2-r4), l.hWM2K + 4*es*t2*ts
 }
 
 // link is linkFlux for the glass law (the same iteration, with the law
@@ -1414,15 +1446,18 @@ func (l *glassLaw) link(tNode, halfR, tsGuess float64) (ts, q, g float64) {
 		if !(ts >= lo && ts <= hi) {
 			ts = tNode - (tNode-tRes)*1e-3
 		}
+		// The loop's constants, once: ε·σ, T_room⁴ and 1/halfR.
+		r2 := tRes * tRes
+		es, r4, invR := l.eps*fluid.StefanBoltzmann, r2*r2, 1/halfR
 		for range 100 {
-			q, gs = l.eval(ts)
+			q, gs = l.evalWith(ts, es, r4)
 			f := (tNode-ts)/halfR - q
 			if f > 0 {
 				lo = ts
 			} else {
 				hi = ts
 			}
-			step := f / (1/halfR + max(gs, 0))
+			step := f / (invR + max(gs, 0))
 			if math.Abs(step) <= 1e-8*(1+math.Abs(ts)) {
 				ts += step
 				q += gs * step

@@ -39,6 +39,12 @@ type level struct {
 	lo, hi   [2][]int
 	ulo, uhi []int
 
+	// kf[l]: the face conductance of layer l's interior, W/K; ua[l][j],
+	// ue[l][j]: the columns [ua, ue) of row j whose four faces all have it
+	// (setUniform).
+	kf     [2]float64
+	ua, ue [2][]int
+
 	x, b, r []float64 // V-cycle work vectors, length nl·n
 }
 
@@ -64,6 +70,7 @@ func reuseLevel(old *level, nx, ny, nl int, vcycle bool) *level {
 		lv.act[l] = growBool(prev.act[l], n)
 		lv.diag[l] = grow(prev.diag[l], n)
 		lv.lo[l], lv.hi[l] = prev.lo[l][:0], prev.hi[l][:0]
+		lv.ua[l], lv.ue[l] = prev.ua[l][:0], prev.ue[l][:0]
 	}
 	if nl == 2 {
 		lv.cpl = grow(prev.cpl, n)
@@ -105,9 +112,11 @@ func growInt(v []int, n int) []int {
 	return v[:n]
 }
 
-// setSpans sets the spans of active columns of each row from lv.act, and a
-// unit diagonal outside them.
+// setSpans sets the spans of active columns of each row from lv.act, a
+// unit diagonal outside them, and the rows' uniform runs (setUniform); the
+// faces must be final.
 func (lv *level) setSpans() {
+	lv.setUniform()
 	nx, ny := lv.nx, lv.ny
 	lv.ulo, lv.uhi = growInt(lv.ulo, ny), growInt(lv.uhi, ny)
 	for l := 0; l < lv.nl; l++ {
@@ -161,31 +170,18 @@ func (lv *level) setDiag() {
 	if len(lv.ulo) != ny {
 		lv.setSpans()
 	}
-	for l := 0; l < lv.nl; l++ {
-		kx, ky, s, act, d := lv.kx[l], lv.ky[l], lv.sink[l], lv.act[l], lv.diag[l]
-		for j := 0; j < ny; j++ {
-			for i := lv.ulo[j]; i < lv.uhi[j]; i++ {
-				p := j*nx + i
-				if !act[p] {
-					d[p] = 1
-					continue
-				}
-				v := s[p] + kx[p] + ky[p]
-				if i > 0 {
-					v += kx[p-1]
-				}
-				if j > 0 {
-					v += ky[p-nx]
-				}
-				if lv.nl == 2 {
-					v += lv.cpl[p]
-				}
-				d[p] = v
-			}
-		}
-	}
 	for j := 0; j < ny; j++ {
-		lo, hi := j*nx+lv.ulo[j], j*nx+lv.uhi[j]
+		lo, hi := lv.ulo[j], lv.uhi[j]
+		for l := 0; l < lv.nl; l++ {
+			a, e := max(lo, lv.ua[l][j]), min(hi, lv.ue[l][j])
+			if a >= e {
+				a, e = hi, hi
+			}
+			lv.diagRange(l, j, lo, a)
+			lv.diagUniform(l, j*nx+a, j*nx+e)
+			lv.diagRange(l, j, e, hi)
+		}
+		lo, hi = j*nx+lo, j*nx+hi
 		if lv.nl == 1 {
 			for p, v := range lv.diag[0][lo:hi] {
 				lv.inv[lo+p] = 1 / v
@@ -199,9 +195,61 @@ func (lv *level) setDiag() {
 	}
 }
 
+// diagRange sets the diagonal of layer l on the columns [from, to) of row
+// j from its sinks, faces and couplings (1 on inactive nodes).
+func (lv *level) diagRange(l, j, from, to int) {
+	nx := lv.nx
+	kx, ky, s, act, d := lv.kx[l], lv.ky[l], lv.sink[l], lv.act[l], lv.diag[l]
+	for i := from; i < to; i++ {
+		p := j*nx + i
+		if !act[p] {
+			d[p] = 1
+			continue
+		}
+		v := s[p] + kx[p] + ky[p]
+		if i > 0 {
+			v += kx[p-1]
+		}
+		if j > 0 {
+			v += ky[p-nx]
+		}
+		if lv.nl == 2 {
+			v += lv.cpl[p]
+		}
+		d[p] = v
+	}
+}
+
+// diagUniform is diagRange on the cells [p, e) of a uniform run of layer
+// l, whose four faces are lv.kf[l] (the same sums in the same order).
+func (lv *level) diagUniform(l, p, e int) {
+	if p >= e {
+		return
+	}
+	kf := lv.kf[l]
+	s, act, d := lv.sink[l][p:e], lv.act[l][p:e], lv.diag[l][p:e]
+	var c []float64
+	if lv.nl == 2 {
+		c = lv.cpl[p:e]
+	}
+	for m := range d {
+		if !act[m] {
+			d[m] = 1
+			continue
+		}
+		v := s[m] + kf + kf
+		v += kf
+		v += kf
+		if c != nil {
+			v += c[m]
+		}
+		d[m] = v
+	}
+}
+
 // apply sets dst = A x on the active spans (dst is left as it is, zero,
 // outside them).
-func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
+func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil, nil) }
 
 // applyRows sets dst = A x on the active spans, or, with b not nil, dst =
 // b − A x (the subtraction over every node of the row, so that the nodes
@@ -211,7 +259,9 @@ func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
 // three in one loop over the interior columns where both layers are live.
 // Every node gets the same operations in the same order as in separate
 // passes.
-func (lv *level) applyRows(dst, x, b []float64) {
+//
+// With then not nil, it calls then(j) when row j of dst is done.
+func (lv *level) applyRows(dst, x, b []float64, then func(j int)) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
 	for j := 0; j < ny; j++ {
 		a, e := 0, 0 // the columns done by applyPair
@@ -230,7 +280,7 @@ func (lv *level) applyRows(dst, x, b []float64) {
 			}
 		}
 		if a < e {
-			lv.applyPair(dst, x, b, j*nx+a, j*nx+e)
+			lv.applyPairSplit(dst, x, b, j*nx+a, j*nx+e)
 		}
 		if lv.nl == 2 {
 			// Couplings exist only at cells with both layers.
@@ -263,6 +313,9 @@ func (lv *level) applyRows(dst, x, b []float64) {
 				}
 			}
 		}
+		if then != nil {
+			then(j)
+		}
 	}
 }
 
@@ -290,10 +343,28 @@ func (lv *level) applyRow(dl, xl []float64, l, j, from, to int) {
 		i = 1
 	}
 	if end := min(hi, nx-1); i < end {
-		// The columns [i, end) of the row, every slice of the same length
-		// (no bounds checks in the loop): west, centre and east values and
-		// faces, the north and south rows.
-		p, w := row+i, end-i
+		// The columns [i, end) of the row: the uniform run by its face
+		// conductance, the rest from the face arrays.
+		if a, e := max(i, lv.ua[l][j]), min(end, lv.ue[l][j]); a < e {
+			applyRowRange(dl, xl, kx, ky, d, row+i, row+a, nx)
+			applyRowUniform(dl, xl, d, lv.kf[l], row+a, row+e, nx)
+			i = e
+		}
+		applyRowRange(dl, xl, kx, ky, d, row+i, row+end, nx)
+	}
+	if hi == nx {
+		p := row + nx - 1
+		dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
+	}
+}
+
+// applyRowRange sets dl = (A x)_l, without the layer coupling, on the
+// cells [p, e) of an interior row away from its first and last columns,
+// from the face arrays kx and ky of the layer and its diagonal d.
+func applyRowRange(dl, xl, kx, ky, d []float64, p, e, nx int) {
+	if w := e - p; w > 0 {
+		// Every slice of the same length (no bounds checks in the loop):
+		// west, centre and east values and faces, the north and south rows.
 		xw, xc, xe := xl[p-1:][:w], xl[p:][:w], xl[p+1:][:w]
 		kw, ke := kx[p-1:][:w], kx[p:][:w]
 		xn, xs, kn, ks := xl[p-nx:][:w], xl[p+nx:][:w], ky[p-nx:][:w], ky[p:][:w]
@@ -301,10 +372,6 @@ func (lv *level) applyRow(dl, xl []float64, l, j, from, to int) {
 		for m := range out {
 			out[m] = dc[m]*xc[m] - kw[m]*xw[m] - ke[m]*xe[m] - kn[m]*xn[m] - ks[m]*xs[m]
 		}
-	}
-	if hi == nx {
-		p := row + nx - 1
-		dl[p] = d[p]*xl[p] - nbSum(kx, ky, xl, nx, ny, nx-1, j, p, 0)
 	}
 }
 
@@ -368,7 +435,7 @@ func (lv *level) localEnergy(x []float64) float64 {
 }
 
 // residual sets r = b − A x.
-func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b) }
+func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b, nil) }
 
 // nbSum returns b_p + Σ k x_q over the in-layer neighbours q of cell (i, j).
 func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
@@ -396,25 +463,36 @@ func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
 // (whose rows around them are then final), so the grid streams through the
 // cache once for all m sweeps. Every cell sees the same neighbour values as
 // in m separate sweeps of two separate half-sweeps, so the result is the
-// same to the bit.
-func (lv *level) sweeps(x, b []float64, first, m int) {
+// same to the bit. With zero set, x is zero on entry, and the first
+// half-sweep, whose neighbours are all still zero, skips reading them (the
+// sum b + Σ k·0 is b + 0). With prep not nil, prep(j) is called for each
+// row j before any of its values is read (the rows around it are then not
+// yet relaxed either).
+func (lv *level) sweeps(x, b []float64, first, m int, zero bool, prep func(j int)) {
 	second := 1 - first
 	ny := lv.ny
+	if prep != nil {
+		prep(0)
+	}
 	for t := 0; t < ny+2*m-1; t++ {
+		if prep != nil && t+1 < ny {
+			prep(t + 1)
+		}
 		for s := 0; s < m; s++ {
 			j := t - 2*s
 			if j >= 0 && j < ny {
-				lv.relaxRow(x, b, j, first)
+				lv.relaxRow(x, b, j, first, zero && s == 0)
 			}
 			if j >= 1 && j <= ny {
-				lv.relaxRow(x, b, j-1, second)
+				lv.relaxRow(x, b, j-1, second, false)
 			}
 		}
 	}
 }
 
-// relaxRow updates the cells of one colour in row j.
-func (lv *level) relaxRow(x, b []float64, j, colour int) {
+// relaxRow updates the cells of one colour in row j; zero says that their
+// neighbours are all zero.
+func (lv *level) relaxRow(x, b []float64, j, colour int, zero bool) {
 	nx, ny, n := lv.nx, lv.ny, lv.n
 	lo, hi := lv.ulo[j], lv.uhi[j]
 	if lo >= hi {
@@ -440,7 +518,7 @@ func (lv *level) relaxRow(x, b []float64, j, colour int) {
 			x[row] = nbSum(kx, ky, x, nx, ny, 0, j, row, b[row]) / d[row]
 			i = 2
 		}
-		relaxRange(x, kx, ky, b, lv.inv, row+i, row+min(hi, nx-1), nx)
+		lv.relaxSplit(x, b, 0, false, zero, row+i, row+min(hi, nx-1))
 		if lastEdge {
 			p := row + nx - 1
 			x[p] = nbSum(kx, ky, x, nx, ny, nx-1, j, p, b[p]) / d[p]
@@ -486,15 +564,15 @@ func (lv *level) relaxRow(x, b []float64, j, colour int) {
 	end := min(hi, nx-1)
 	next := func(e int) int { return max(i, i+(e-i+1)&^1) }
 	if e := min(end, lv.lo[0][j]); i < e {
-		relaxRange(x1, kx1, ky1, b1, lv.inv, row+i, row+e, nx)
+		lv.relaxSplit(x, b, 1, false, zero, row+i, row+e)
 		i = next(e)
 	}
 	if e := min(end, lv.hi[0][j]); i < e {
-		relaxBlockRange(lv, x0, x1, b0, b1, row+i, row+e)
+		lv.relaxSplit(x, b, 0, true, zero, row+i, row+e)
 		i = next(e)
 	}
 	if i < end {
-		relaxRange(x1, kx1, ky1, b1, lv.inv, row+i, row+end, nx)
+		lv.relaxSplit(x, b, 1, false, zero, row+i, row+end)
 	}
 	if lastEdge {
 		edge(nx - 1)

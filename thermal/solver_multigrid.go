@@ -39,19 +39,21 @@ func (lv *level) coarsen(old *level) *level {
 	cy := (lv.ny + lv.fy - 1) / lv.fy
 	c := reuseLevel(old, cx, cy, lv.nl, true)
 	nx := lv.nx
+	// The factors are 1 or 2: i/fx is i >> sx.
+	sx, sy := uint(lv.fx-1), uint(lv.fy-1)
 	for l := 0; l < lv.nl; l++ {
 		for j := 0; j < lv.ny; j++ {
-			J := j / lv.fy
+			J := j >> sy
 			for i := 0; i < nx; i++ {
-				I := i / lv.fx
+				I := i >> sx
 				p, P := j*nx+i, J*cx+I
 				if lv.act[l][p] {
 					c.act[l][P] = true
 				}
-				if i+1 < nx && (i+1)/lv.fx != I {
+				if i+1 < nx && (i+1)>>sx != I {
 					c.kx[l][P] += lv.kx[l][p] / float64(lv.fx)
 				}
-				if j+1 < lv.ny && (j+1)/lv.fy != J {
+				if j+1 < lv.ny && (j+1)>>sy != J {
 					c.ky[l][P] += lv.ky[l][p] / float64(lv.fy)
 				}
 			}
@@ -95,52 +97,65 @@ func (lv *level) updateFrom(f *level) {
 }
 
 // restrict sets the coarse vector dst (level c) to the sums of the fine
-// values of v over each coarse cell (the transpose of prolongAdd; v is zero
+// values of v over each coarse cell (the transpose of prolongRow; v is zero
 // outside the active spans).
 func (lv *level) restrict(c *level, dst, v []float64) {
 	clear(dst)
+	for j := 0; j < lv.ny; j++ {
+		lv.restrictRow(c, dst, v, j)
+	}
+}
+
+// residualRestrict sets r = b − A x and restricts it to the coarse vector
+// dst (level c), each row of r as soon as it is done, while it is still in
+// the cache. Every coarse sum takes its fine values in the same order as
+// restrict's.
+func (lv *level) residualRestrict(c *level, dst, r, x, b []float64) {
+	clear(dst)
+	lv.applyRows(r, x, b, func(j int) { lv.restrictRow(c, dst, r, j) })
+}
+
+// restrictRow adds the fine values of row j of v, each layer's span, to
+// the coarse vector dst (level c).
+func (lv *level) restrictRow(c *level, dst, v []float64, j int) {
 	cx := c.nx
+	crow := (j / lv.fy) * cx
+	row := j * lv.nx
 	for l := 0; l < lv.nl; l++ {
 		vl := v[l*lv.n : (l+1)*lv.n]
 		dl := dst[l*c.n : (l+1)*c.n]
-		for j := 0; j < lv.ny; j++ {
-			crow := (j / lv.fy) * cx
-			row := j * lv.nx
-			lo, hi := lv.lo[l][j], lv.hi[l][j]
-			if lv.fx == 2 {
-				for i := lo; i < hi; i++ {
-					dl[crow+(i>>1)] += vl[row+i]
-				}
-			} else {
-				for i := lo; i < hi; i++ {
-					dl[crow+i] += vl[row+i]
-				}
+		lo, hi := lv.lo[l][j], lv.hi[l][j]
+		if lv.fx == 2 {
+			for i := lo; i < hi; i++ {
+				dl[crow+(i>>1)] += vl[row+i]
+			}
+		} else {
+			for i := lo; i < hi; i++ {
+				dl[crow+i] += vl[row+i]
 			}
 		}
 	}
 }
 
-// prolongAdd adds to the fine vector x the coarse vector xc (level c),
-// piecewise constant over each coarse cell, on the active spans of x.
-// Inactive fine nodes in a span may pick up values; the post-smoothing
-// resets them to their zero right-hand side.
-func (lv *level) prolongAdd(c *level, x, xc []float64) {
+// prolongRow adds to row j of the fine vector x the coarse vector xc
+// (level c), piecewise constant over each coarse cell, on the active spans
+// of x. Inactive fine nodes in a span may pick up values; the
+// post-smoothing resets them to their zero right-hand side.
+func (lv *level) prolongRow(c *level, x, xc []float64, j int) {
 	cx := c.nx
+	crow := (j / lv.fy) * cx
+	row := j * lv.nx
 	for l := 0; l < lv.nl; l++ {
 		xl := x[l*lv.n : (l+1)*lv.n]
 		cl := xc[l*c.n : (l+1)*c.n]
-		for j := 0; j < lv.ny; j++ {
-			crow := (j / lv.fy) * cx
-			row := j * lv.nx
-			lo, hi := lv.lo[l][j], lv.hi[l][j]
-			if lv.fx == 2 {
-				for i := lo; i < hi; i++ {
-					xl[row+i] += cl[crow+(i>>1)]
-				}
-			} else {
-				for i := lo; i < hi; i++ {
-					xl[row+i] += cl[crow+i]
-				}
+		lo, hi := lv.lo[l][j], lv.hi[l][j]
+		if lv.fx == 2 {
+			for i := lo; i < hi; i++ {
+				xl[row+i] += cl[crow+(i>>1)]
+			}
+		} else {
+			for i := lo; i < hi; i++ {
+				xl[row+i] += cl[crow+i]
 			}
 		}
 	}
@@ -297,10 +312,10 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 	}
 	lv, c := mg.levels[k], mg.levels[k+1]
 	clear(x)
-	lv.sweeps(x, b, 0, mgSweeps)
-	lv.residual(lv.r, x, b)
-	lv.restrict(c, c.b, lv.r)
+	lv.sweeps(x, b, 0, mgSweeps, true, nil)
+	lv.residualRestrict(c, c.b, lv.r, x, b)
 	mg.vcycle(k+1, c.x, c.b)
-	lv.prolongAdd(c, x, c.x)
-	lv.sweeps(x, b, 1, mgSweeps)
+	// The coarse correction is added to each row just before the
+	// post-smoothing first reads it, while the row is in the cache.
+	lv.sweeps(x, b, 1, mgSweeps, false, func(j int) { lv.prolongRow(c, x, c.x, j) })
 }

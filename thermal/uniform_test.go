@@ -1,0 +1,123 @@
+package thermal
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// uniformLevel returns a level of nx × ny cells and nl layers whose active
+// nodes are a disc per layer (the glass's wider) with face conductances kf
+// between active neighbours, random sinks and couplings, and its diagonal
+// set.
+func uniformLevel(nx, ny, nl int, kf [2]float64, seed uint64) *level {
+	lv := newLevel(nx, ny, nl)
+	rng := rand.New(rand.NewPCG(seed, 3))
+	for l := 0; l < nl; l++ {
+		r := 0.7 + 0.25*float64(l)
+		for p := range lv.act[l] {
+			dx := (float64(p%nx) + 0.5 - float64(nx)/2) / (float64(nx) / 2)
+			dy := (float64(p/nx) + 0.5 - float64(ny)/2) / (float64(ny) / 2)
+			lv.act[l][p] = dx*dx+dy*dy <= r*r
+		}
+	}
+	for l := 0; l < nl; l++ {
+		for p, a := range lv.act[l] {
+			if !a {
+				continue
+			}
+			lv.sink[l][p] = 1e-4 * math.Pow(1e4, rng.Float64())
+			if p%nx+1 < nx && lv.act[l][p+1] {
+				lv.kx[l][p] = kf[l]
+			}
+			if p+nx < lv.n && lv.act[l][p+nx] {
+				lv.ky[l][p] = kf[l]
+			}
+			if l == 1 && lv.act[0][p] {
+				lv.cpl[p] = 1e-3 * math.Pow(1e3, rng.Float64())
+			}
+		}
+	}
+	lv.setSpans()
+	lv.setDiag()
+	return lv
+}
+
+// TestUniformKernels: on levels with one face conductance per layer the
+// uniform runs cover most active cells, and the diagonal, the operator, the
+// residual and the smoother give the same bits with them as from the face
+// arrays alone (the runs emptied).
+func TestUniformKernels(t *testing.T) {
+	for _, tc := range []struct {
+		nx, ny, nl int
+		kf         [2]float64
+	}{{40, 37, 1, [2]float64{0.888, 0}}, {41, 40, 2, [2]float64{0.888, 0.0064}}, {33, 30, 2, [2]float64{1.3, 0.7}}} {
+		lv := uniformLevel(tc.nx, tc.ny, tc.nl, tc.kf, 5)
+		covered, active := 0, 0
+		for j := 0; j < lv.ny; j++ {
+			covered += lv.ue[0][j] - lv.ua[0][j]
+		}
+		for _, a := range lv.act[0] {
+			if a {
+				active++
+			}
+		}
+		if covered < active/2 {
+			t.Fatalf("%+v: uniform runs cover %d of %d active cells", tc, covered, active)
+		}
+		size := lv.nl * lv.n
+		rng := rand.New(rand.NewPCG(7, 8))
+		x, b := make([]float64, size), make([]float64, size)
+		for l := 0; l < lv.nl; l++ {
+			for p, a := range lv.act[l] {
+				if a {
+					x[l*lv.n+p], b[l*lv.n+p] = rng.NormFloat64(), rng.NormFloat64()
+				}
+			}
+		}
+		run := func() [][]float64 {
+			lv.setDiag()
+			ax, res, sw := make([]float64, size), make([]float64, size), append([]float64(nil), x...)
+			lv.apply(ax, x)
+			lv.residual(res, x, b)
+			lv.sweeps(sw, b, 0, 2, false, nil)
+			lv.sweeps(sw, b, 1, 2, false, nil)
+			return [][]float64{append([]float64(nil), lv.diag[0]...), append([]float64(nil), lv.inv...), ax, res, sw}
+		}
+		with := run()
+		for l := 0; l < lv.nl; l++ {
+			copy(lv.ue[l], lv.ua[l])
+		}
+		without := run()
+		for v, name := range []string{"diagonal", "inverse", "A x", "residual", "sweeps"} {
+			if i := firstBitDiff(with[v], without[v]); i >= 0 {
+				t.Fatalf("%+v: %s[%d] = %.17g with the uniform runs, %.17g without", tc, name, i, with[v][i], without[v][i])
+			}
+		}
+		// Sweeps from zero: the first half-sweep without reading the
+		// neighbours gives the same bits, also for a right-hand side of −0
+		// at an interior cell of the first colour (b + 0 is +0).
+		c := lv.ny/2*lv.nx + lv.nx/2
+		c -= (c%lv.nx + c/lv.nx) % 2
+		b[c] = math.Copysign(0, -1)
+		for m := 1; m <= 2; m++ {
+			fast, slow := make([]float64, size), make([]float64, size)
+			lv.sweeps(fast, b, 0, m, true, nil)
+			lv.sweeps(slow, b, 0, m, false, nil)
+			if i := firstBitDiff(fast, slow); i >= 0 {
+				t.Fatalf("%+v, %d sweeps from zero: x[%d] = %.17g skipping the zero neighbours, %.17g reading them", tc, m, i, fast[i], slow[i])
+			}
+		}
+	}
+}
+
+// firstBitDiff returns the first index where a and b differ in their bits,
+// or −1.
+func firstBitDiff(a, b []float64) int {
+	for i := range a {
+		if math.Float64bits(a[i]) != math.Float64bits(b[i]) {
+			return i
+		}
+	}
+	return -1
+}
