@@ -20,7 +20,6 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/recorder"
-	"gonum.org/v1/plot/vg/vgsvg"
 
 	"gapflux/internal/order"
 	"gapflux/scan"
@@ -465,6 +464,7 @@ func layoutMap(dc draw.Canvas, p *plot.Plot, legendH vg.Length) mapRegions {
 // mapPicture holds the parts of a map picture.
 type mapPicture struct {
 	plot, bar *plot.Plot
+	raster    *image.NRGBA // the field's picture in the data area
 	legend    plot.Legend
 	entries   int // legend entries
 }
@@ -518,9 +518,10 @@ func (m *MapSpec) plots() (*mapPicture, error) {
 	da := p.DataCanvas(measuringCanvas(mapPlotW, vg.Length(float64(mapPlotW)*aspect)))
 	wpx := max(1, int(float64(da.Max.X-da.Min.X)/vg.Inch.Points()*pictureDPI+0.5))
 	hpx := max(1, int(float64(wpx)*aspect+0.5))
-	p.Add(plotter.NewImage(ras.image(wpx, hpx), xmin, ymin, xmax, ymax))
+	raster := ras.image(wpx, hpx)
+	p.Add(plotter.NewImage(raster, xmin, ymin, xmax, ymax))
 
-	mp := &mapPicture{plot: p, legend: plot.NewLegend()}
+	mp := &mapPicture{plot: p, raster: raster, legend: plot.NewLegend()}
 	legend := &mp.legend
 	legend.Top, legend.Left = true, true
 	legend.TextStyle.Font.Size = vg.Points(11)
@@ -918,13 +919,14 @@ func (shortTicks) Ticks(lo, hi float64) []plot.Tick {
 	return ticks
 }
 
-// newCanvas returns a PNG (pictureDPI) or SVG canvas of the given size.
+// newCanvas returns a PNG (pictureDPI, fastPNGCanvas) or SVG
+// (fastSVGCanvas) canvas of the given size.
 func newCanvas(format string, width, height vg.Length) (vg.CanvasWriterTo, error) {
 	switch format {
 	case "png":
 		return newFastPNGCanvas(width, height), nil
 	case "svg":
-		return vgsvg.NewWith(vgsvg.UseWH(width, height)), nil
+		return newFastSVGCanvas(width, height)
 	}
 	return nil, fmt.Errorf("picture format %q: want png or svg", format)
 }
