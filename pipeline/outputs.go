@@ -50,10 +50,14 @@ func WriteRingsCSV(w io.Writer, rings []RingReport) error {
 	return cw.Error()
 }
 
-// WriteOutputs writes every output of one scan into dir: the maps, the ring
-// table and chart and the field file (these at once, up to one per
-// available processor), then report.html (which embeds the SVG maps) and
-// report.json last, so a report's presence means the rest is there.
+// WriteOutputs writes every output of one scan into dir: the maps and
+// the ring chart followed by report.html (which embeds their SVG
+// documents, kept as they are written), the ring table, the field file
+// and the hot pictures, these at once (up to one per available
+// processor), then report.json last, so that its presence means the rest
+// is there. The error returned is the first in that order (ring table,
+// fields, pictures, hot pictures, report.html, report.json), whatever the
+// scheduling.
 func WriteOutputs(res *Result, dir string) error {
 	rep := res.Report
 	var tasks []func() error
@@ -66,13 +70,21 @@ func WriteOutputs(res *Result, dir string) error {
 	}
 	// fields.vti first: it is the longest single write.
 	tasks = append(tasks, func() error { return writeFields(dir, res) })
-	tasks = append(tasks, pictureTasks(dir, res)...)
+	var htmlErr error
+	tasks = append(tasks, func() error {
+		svgs := &svgDocs{}
+		if err := runParallel(pictureTasks(dir, res, svgs)); err != nil {
+			return err
+		}
+		htmlErr = writeReportHTML(dir, res, svgs.docs)
+		return nil
+	})
 	tasks = append(tasks, func() error { return writeHotPictures(dir, res) })
 	if err := runParallel(tasks); err != nil {
 		return err
 	}
-	if err := writeReportHTML(dir, res); err != nil {
-		return err
+	if htmlErr != nil {
+		return htmlErr
 	}
 	b, err := MarshalReport(rep)
 	if err != nil {

@@ -37,7 +37,7 @@ func BenchmarkWriteOutputsPLY(b *testing.B) {
 	b.Run("all", func(b *testing.B) {
 		loopCPU(b, func() error { return WriteOutputs(res, out) })
 	})
-	tasks := pictureTasks(out, res)
+	tasks := pictureTasks(out, res, nil)
 	names := []string{"gap.png", "gap.svg", "flux.png", "flux.svg", "rings.png", "rings.svg"}
 	for i, task := range tasks {
 		b.Run(names[i], func(b *testing.B) {
@@ -48,7 +48,11 @@ func BenchmarkWriteOutputsPLY(b *testing.B) {
 		loopCPU(b, func() error { return writeFields(out, res) })
 	})
 	b.Run("report.html", func(b *testing.B) {
-		loopCPU(b, func() error { return writeReportHTML(out, res) })
+		svgs := &svgDocs{}
+		if err := runParallel(pictureTasks(out, res, svgs)); err != nil {
+			b.Fatal(err)
+		}
+		loopCPU(b, func() error { return writeReportHTML(out, res, svgs.docs) })
 	})
 	b.Run("report.json", func(b *testing.B) {
 		loopCPU(b, func() error { _, err := MarshalReport(res.Report); return err })
