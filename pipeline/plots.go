@@ -995,13 +995,6 @@ func (c *countWriter) Write(p []byte) (int, error) {
 // belowZeroFlux names the hatched cells of a flux map.
 const belowZeroFlux = "flux below 0: heat flows back into the glass"
 
-// writePictures writes the gap and flux maps and the ring chart of res
-// into dir, each as PNG and SVG. Gaps are in mm, as in rings.csv; fluxes
-// in kW/m².
-func writePictures(dir string, res *Result) error {
-	return runParallel(pictureTasks(dir, res, nil))
-}
-
 // svgDocs keeps the SVG documents report.html embeds (gap, flux, rings),
 // by name, as their files are written, so that the page need not read
 // them back; a nil *svgDocs keeps nothing.
@@ -1029,9 +1022,10 @@ func (s *svgDocs) write(w io.Writer, name string, draw func(io.Writer) error) er
 	return err
 }
 
-// pictureTasks returns the writes of writePictures, one file each, in
-// the order writePictures reports their errors; the SVG documents go to
-// keep as well.
+// pictureTasks returns the writes of the gap and flux maps and the ring
+// chart of res into dir, each as PNG and SVG, one file a task, in the
+// order their errors are reported; the SVG documents go to keep as well.
+// Gaps are in mm, as in rings.csv; fluxes in kW/m².
 func pictureTasks(dir string, res *Result, keep *svgDocs) []func() error {
 	rep := res.Report
 	labels := PictureLabels{PartNumber: res.PartNumber, Lot: res.Lot}
