@@ -31,8 +31,10 @@ func writeOpaquePNG(w io.Writer, img *image.RGBA) error {
 // writeNRGBAPNG writes img as image/png would choose to, 8-bit RGB when
 // it is opaque and 8-bit RGBA (non-premultiplied, as img) otherwise, so
 // that the file decodes to the same pixels as png.Encode's; but filtered
-// and deflated as writeOpaquePNG's (a map's 529 × 529 raster in an SVG:
-// 40 ms at image/png's default level, BenchmarkEmbedRaster).
+// and deflated as writeOpaquePNG's: 8 to 10 times faster than image/png's
+// default level, for a file twice the size (a 0.5 mm map's raster,
+// BenchmarkEmbedRaster: 9–12 against 91–134 ms, 139 against 70 kB, on a
+// busy 2-core host).
 func writeNRGBAPNG(w io.Writer, img *image.NRGBA) error {
 	b := img.Bounds()
 	if img.Opaque() {

@@ -15,8 +15,8 @@ import (
 
 // fastSVGCanvas is vgsvg's canvas with its images encoded faster: vgsvg
 // embeds each image as image/png's file at the default compression level
-// (40 of the 53 ms of a map's SVG for its 529 × 529 raster), labelled
-// image/jpg. Here vgsvg draws a one-pixel placeholder instead, and WriteTo
+// (most of the time of a map's SVG, for its raster of some 530 × 530
+// pixels), labelled image/jpg. Here vgsvg draws a one-pixel placeholder instead, and WriteTo
 // puts in its place the image itself as a PNG by writeNRGBAPNG (any other
 // image type by image/png at its fastest level), labelled image/png. The
 // decoded pixels are the same as vgsvg's; the rest of the document is
