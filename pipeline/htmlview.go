@@ -3,12 +3,10 @@ package pipeline
 import (
 	"bytes"
 	"context"
-	"errors"
 	"fmt"
 	"image"
 	"image/png"
 	"io"
-	"io/fs"
 	"net/url"
 	"os"
 	"path/filepath"
@@ -24,23 +22,9 @@ import (
 )
 
 // writeReportHTML writes dir/report.html from res and the SVG pictures
-// writePictures has just written into dir (only those this result drew,
-// never one left by an earlier run).
-func writeReportHTML(dir string, res *Result) error {
-	pics := map[string][]byte{}
-	drawn := map[string]bool{"gap": res.Form != nil && res.GapM != nil, "flux": res.Form != nil && res.GapM != nil && res.Scan != nil,
-		"rings": len(res.Report.Rings) > 0}
-	for _, name := range []string{"gap", "flux", "rings"} {
-		if !drawn[name] {
-			continue
-		}
-		b, err := os.ReadFile(filepath.Join(dir, name+".svg"))
-		if err == nil {
-			pics[name] = b
-		} else if !errors.Is(err, fs.ErrNotExist) {
-			return err
-		}
-	}
+// pics (gap, flux, rings) this result drew, as WriteOutputs kept them
+// (never one left in dir by an earlier run).
+func writeReportHTML(dir string, res *Result, pics map[string][]byte) error {
 	page := scanPageView(res, pics)
 	return WriteFileAtomic(filepath.Join(dir, "report.html"), func(w io.Writer) error {
 		return html.WriteScan(w, page)

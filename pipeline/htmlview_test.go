@@ -179,7 +179,7 @@ func TestReportHTMLIgnoresStalePictures(t *testing.T) {
 	}
 	res := &Result{Name: "pan.stl", Report: &Report{Quality: &QualityReport{Status: "reject",
 		Checks: []QualityCheck{{Name: "diameter_mm", Status: "reject", Message: "try --units in"}}}}}
-	if err := writeReportHTML(dir, res); err != nil {
+	if err := WriteOutputs(res, dir); err != nil {
 		t.Fatal(err)
 	}
 	b, err := os.ReadFile(filepath.Join(dir, "report.html"))

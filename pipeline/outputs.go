@@ -50,10 +50,14 @@ func WriteRingsCSV(w io.Writer, rings []RingReport) error {
 	return cw.Error()
 }
 
-// WriteOutputs writes every output of one scan into dir: the maps, the ring
-// table and chart and the field file (these at once, up to one per
-// available processor), then report.html (which embeds the SVG maps) and
-// report.json last, so a report's presence means the rest is there.
+// WriteOutputs writes every output of one scan into dir: the maps and
+// the ring chart followed by report.html (which embeds their SVG
+// documents, kept as they are written), the ring table, the field file
+// and the hot pictures, these at once (up to one per available
+// processor), then report.json last, so that its presence means the rest
+// is there. The error returned is the first in that order (ring table,
+// fields, pictures, hot pictures, report.html, report.json), whatever the
+// scheduling.
 func WriteOutputs(res *Result, dir string) error {
 	rep := res.Report
 	var tasks []func() error
@@ -66,13 +70,21 @@ func WriteOutputs(res *Result, dir string) error {
 	}
 	// fields.vti first: it is the longest single write.
 	tasks = append(tasks, func() error { return writeFields(dir, res) })
-	tasks = append(tasks, pictureTasks(dir, res)...)
+	var htmlErr error
+	tasks = append(tasks, func() error {
+		svgs := &svgDocs{}
+		if err := runParallel(pictureTasks(dir, res, svgs)); err != nil {
+			return err
+		}
+		htmlErr = writeReportHTML(dir, res, svgs.docs)
+		return nil
+	})
 	tasks = append(tasks, func() error { return writeHotPictures(dir, res) })
 	if err := runParallel(tasks); err != nil {
 		return err
 	}
-	if err := writeReportHTML(dir, res); err != nil {
-		return err
+	if htmlErr != nil {
+		return htmlErr
 	}
 	b, err := MarshalReport(rep)
 	if err != nil {
@@ -109,85 +121,102 @@ func (res *Result) vtiGrid() VTIGrid {
 	return VTIGrid{Nx: s.Nx, Ny: s.Ny, X0MM: s.X0M * 1e3, Y0MM: s.Y0M * 1e3, SpacingMM: s.CellM * 1e3}
 }
 
-// vtiFields lists the per-cell fields, in display units.
+// vtiFields lists the per-cell fields, in display units. Each is
+// computed cell by cell as fields.vti is written (VTIField.at), a block
+// at a time, rather than held whole: thirteen 2.2 MB arrays for a 2
+// M-point scan's 523 × 523 grid.
 func (res *Result) vtiFields() []VTIField {
 	s := res.Form
-	n := len(s.ZM)
-	scaled := func(src []float64, f func(float64) float64) []float64 {
-		out := make([]float64, n)
-		for k := range out {
+	// scaled is src through f in the base cells where it is defined, NaN
+	// elsewhere (and everywhere without src).
+	scaled := func(src []float64, f func(float64) float64) func(int) float64 {
+		return func(k int) float64 {
 			if src == nil || !s.InBase(k) || math.IsNaN(src[k]) {
-				out[k] = math.NaN()
-			} else {
-				out[k] = f(src[k])
+				return math.NaN()
 			}
+			return f(src[k])
 		}
-		return out
-	}
-	id := func(v float64) float64 { return v }
-	state := make([]float64, n)
-	for k, st := range s.State {
-		state[k] = float64(st)
 	}
 	fields := []VTIField{
-		{Name: "height_um", Values: scaled(s.ZM, func(v float64) float64 { return v * 1e6 })},
-		{Name: "cell_state", Values: state, UInt8: true},
+		{Name: "height_um", at: scaled(s.ZM, func(v float64) float64 { return v * 1e6 })},
+		{Name: "cell_state", at: func(k int) float64 { return float64(s.State[k]) }, UInt8: true},
 	}
 	if r := res.Raw; r != nil && r.CellM == s.CellM {
-		// The raw grid sits inside the (possibly padded) form grid on the
-		// same lattice.
-		i0 := int(math.Round((r.X0M - s.X0M) / s.CellM))
-		j0 := int(math.Round((r.Y0M - s.Y0M) / s.CellM))
-		raw := make([]float64, n)
-		for k := range raw {
-			raw[k] = math.NaN()
-		}
-		for j := 0; j < r.Ny; j++ {
-			for i := 0; i < r.Nx; i++ {
-				if ii, jj := i+i0, j+j0; ii >= 0 && ii < s.Nx && jj >= 0 && jj < s.Ny && r.State[r.Index(i, j)] != scan.Outside {
-					raw[s.Index(ii, jj)] = r.ZM[r.Index(i, j)] * 1e6
-				}
-			}
-		}
-		fields = append(fields, VTIField{Name: "height_raw_um", Values: raw})
+		fields = append(fields, VTIField{Name: "height_raw_um", at: rawHeightUM(s, r)})
 	}
 	if res.GapM != nil {
-		fields = append(fields, VTIField{Name: "gap_mm", Values: scaled(res.GapM, func(v float64) float64 { return v * 1e3 })})
-		c := make([]float64, n)
-		for k, in := range res.Contact {
-			if in {
-				c[k] = 1
-			}
-		}
-		fields = append(fields, VTIField{Name: "contact", Values: c, UInt8: true})
-	}
-	if sol := res.Scan; sol != nil {
-		total := make([]float64, n)
-		for k := range total {
-			total[k] = sol.SolidWM2K[k] + sol.GasWM2K[k] + sol.RadWM2K[k]
-		}
-		toC := func(v float64) float64 { return v - kelvin }
-		kw := func(v float64) float64 { return v / 1e3 }
+		contact := res.Contact
 		fields = append(fields,
-			VTIField{Name: "h_w_m2k", Values: scaled(total, id)},
-			VTIField{Name: "h_solid_w_m2k", Values: scaled(sol.SolidWM2K, id)},
-			VTIField{Name: "h_gas_w_m2k", Values: scaled(sol.GasWM2K, id)},
-			VTIField{Name: "h_rad_w_m2k", Values: scaled(sol.RadWM2K, id)},
-			VTIField{Name: "base_c", Values: scaled(sol.TPanK, toC)},
-			VTIField{Name: "flux_kw_m2", Values: scaled(sol.FluxWM2, kw)},
-		)
-		if res.Flat != nil {
-			fields = append(fields, VTIField{Name: "flat_flux_kw_m2", Values: scaled(res.Flat.FluxWM2, kw)})
-		}
-		if sol.TGlassK != nil {
-			g := make([]float64, n)
-			for k, t := range sol.TGlassK {
-				g[k] = t - kelvin
-			}
-			fields = append(fields, VTIField{Name: "glass_c", Values: g})
-		}
+			VTIField{Name: "gap_mm", at: scaled(res.GapM, func(v float64) float64 { return v * 1e3 })},
+			VTIField{Name: "contact", at: func(k int) float64 { return boolValue(k < len(contact) && contact[k]) }, UInt8: true})
+	}
+	if res.Scan != nil {
+		fields = append(fields, res.heatFields(scaled)...)
 	}
 	return append(fields, res.hotFields()...)
+}
+
+// boolValue is 1 for true, 0 for false.
+func boolValue(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// rawHeightUM returns the raw grid r's height (µm) at each cell of the
+// form grid s (the raw grid sits inside the possibly padded form grid on
+// the same lattice), NaN where r has no cell or its cell is outside.
+func rawHeightUM(s, r *scan.Surface) func(int) float64 {
+	i0 := int(math.Round((r.X0M - s.X0M) / s.CellM))
+	j0 := int(math.Round((r.Y0M - s.Y0M) / s.CellM))
+	return func(k int) float64 {
+		i, j := k%s.Nx-i0, k/s.Nx-j0
+		if i < 0 || i >= r.Nx || j < 0 || j >= r.Ny || r.State[r.Index(i, j)] == scan.Outside {
+			return math.NaN()
+		}
+		return r.ZM[r.Index(i, j)] * 1e6
+	}
+}
+
+// heatFields are the solved scan's per-cell fields: conductances (W/m²K),
+// base temperature (°C), fluxes (kW/m²) and, in heater mode, the glass
+// temperature (°C); scaled makes a base field of a cell array.
+func (res *Result) heatFields(scaled func([]float64, func(float64) float64) func(int) float64) []VTIField {
+	sol := res.Scan
+	id := func(v float64) float64 { return v }
+	toC := func(v float64) float64 { return v - kelvin }
+	kw := func(v float64) float64 { return v / 1e3 }
+	total := func(k int) float64 {
+		if !res.Form.InBase(k) {
+			return math.NaN()
+		}
+		v := sol.SolidWM2K[k] + sol.GasWM2K[k] + sol.RadWM2K[k]
+		if math.IsNaN(v) {
+			return math.NaN()
+		}
+		return v
+	}
+	fields := []VTIField{
+		{Name: "h_w_m2k", at: total},
+		{Name: "h_solid_w_m2k", at: scaled(sol.SolidWM2K, id)},
+		{Name: "h_gas_w_m2k", at: scaled(sol.GasWM2K, id)},
+		{Name: "h_rad_w_m2k", at: scaled(sol.RadWM2K, id)},
+		{Name: "base_c", at: scaled(sol.TPanK, toC)},
+		{Name: "flux_kw_m2", at: scaled(sol.FluxWM2, kw)},
+	}
+	if res.Flat != nil {
+		fields = append(fields, VTIField{Name: "flat_flux_kw_m2", at: scaled(res.Flat.FluxWM2, kw)})
+	}
+	if g := sol.TGlassK; g != nil {
+		fields = append(fields, VTIField{Name: "glass_c", at: func(k int) float64 {
+			if k >= len(g) {
+				return 0
+			}
+			return g[k] - kelvin
+		}})
+	}
+	return fields
 }
 
 // bendAxis is the bend axis of a bent base, degrees (0 if not reported).

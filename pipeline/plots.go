@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"bytes"
 	"fmt"
 	"image"
 	"image/color"
@@ -20,7 +21,6 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/recorder"
-	"gonum.org/v1/plot/vg/vgsvg"
 
 	"gapflux/internal/order"
 	"gapflux/scan"
@@ -419,19 +419,24 @@ const pictureDPI = 110
 
 // WriteMap renders the map as "png" or "svg".
 func WriteMap(w io.Writer, m *MapSpec, format string) error {
-	if err := m.validate(); err != nil {
-		return err
-	}
-	mp, err := m.plots()
+	l, err := m.layout()
 	if err != nil {
 		return err
 	}
-	width, height, legendH := mp.size()
-	c, err := newCanvas(format, width, height)
+	return m.write(w, l, format)
+}
+
+// write draws the map laid out by l as format ("png" or "svg") to w.
+func (m *MapSpec) write(w io.Writer, l *mapLayout, format string) error {
+	mp, err := m.picture(l)
 	if err != nil {
 		return err
 	}
-	r := layoutMap(draw.New(c), mp.plot, legendH)
+	c, err := newCanvas(format, l.width, l.height)
+	if err != nil {
+		return err
+	}
+	r := layoutMap(draw.New(c), mp.plot, l.legendH)
 	mp.plot.Draw(r.plotC)
 	mp.bar.Draw(r.barC)
 	mp.legend.Draw(r.legendC)
@@ -465,6 +470,7 @@ func layoutMap(dc draw.Canvas, p *plot.Plot, legendH vg.Length) mapRegions {
 // mapPicture holds the parts of a map picture.
 type mapPicture struct {
 	plot, bar *plot.Plot
+	raster    *image.NRGBA // the field's picture in the data area
 	legend    plot.Legend
 	entries   int // legend entries
 }
@@ -494,14 +500,58 @@ func (mp *mapPicture) size() (w, h, legendH vg.Length) {
 	return mapPlotW + mapBarW, plotH + legendH, legendH
 }
 
-// plots builds the map's plot, colour bar and legend.
-func (m *MapSpec) plots() (*mapPicture, error) {
-	box := m.crop()
-	lo, hi, unit, below := m.colourRange(box)
-	xmin, xmax, ymin, ymax := m.extentMM(box)
-	ras := &mapRaster{m: m, lo: lo, hi: hi, colors: scaleColors(m.Controls, 256), hatch: below,
-		xmin: xmin, xmax: xmax, ymin: ymin, ymax: ymax}
+// mapLayout is what a map's PNG and SVG pictures share, computed once
+// for both by layout: the colour range and its label, the data window
+// (mm), the field's raster and the picture's size.
+type mapLayout struct {
+	lo, hi                 float64
+	unit                   string
+	below                  bool // hatch the cells below lo
+	xmin, xmax, ymin, ymax float64
+	raster                 *image.NRGBA
+	width, height, legendH vg.Length
+}
 
+// layout checks the map and lays it out: the colour range, the data
+// window, the raster (the data area's size in pixels at pictureDPI,
+// measured on a canvas of the final width without the overlays; the
+// height follows the aspect ratio) and the picture's size (measured with
+// them).
+func (m *MapSpec) layout() (*mapLayout, error) {
+	if err := m.validate(); err != nil {
+		return nil, err
+	}
+	box := m.crop()
+	l := &mapLayout{}
+	l.lo, l.hi, l.unit, l.below = m.colourRange(box)
+	l.xmin, l.xmax, l.ymin, l.ymax = m.extentMM(box)
+	ras := &mapRaster{m: m, lo: l.lo, hi: l.hi, colors: scaleColors(m.Controls, 256), hatch: l.below,
+		xmin: l.xmin, xmax: l.xmax, ymin: l.ymin, ymax: l.ymax}
+	aspect := (l.ymax - l.ymin) / (l.xmax - l.xmin)
+	da := m.axesPlot(l).DataCanvas(measuringCanvas(mapPlotW, vg.Length(float64(mapPlotW)*aspect)))
+	wpx := max(1, int(float64(da.Max.X-da.Min.X)/vg.Inch.Points()*pictureDPI+0.5))
+	hpx := max(1, int(float64(wpx)*aspect+0.5))
+	l.raster = ras.image(wpx, hpx)
+	mp, err := m.picture(l)
+	if err != nil {
+		return nil, err
+	}
+	l.width, l.height, l.legendH = mp.size()
+	return l, nil
+}
+
+// plots lays the map out and builds its plot, colour bar and legend.
+func (m *MapSpec) plots() (*mapPicture, error) {
+	l, err := m.layout()
+	if err != nil {
+		return nil, err
+	}
+	return m.picture(l)
+}
+
+// axesPlot returns the map's plot with its title, axis labels and data
+// window, nothing drawn in it yet.
+func (m *MapSpec) axesPlot(l *mapLayout) *plot.Plot {
 	p := plot.New()
 	title := m.Title
 	if slices.Contains(m.Interpolated, true) {
@@ -510,17 +560,17 @@ func (m *MapSpec) plots() (*mapPicture, error) {
 	p.Title.Text = titleText(title, m.Labels)
 	p.X.Label.Text = "x (mm)"
 	p.Y.Label.Text = "y (mm)"
-	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xmin, xmax, ymin, ymax
-	// The raster has the data area's size in pixels at pictureDPI
-	// (measured on a canvas of the final width; the height follows the
-	// aspect ratio).
-	aspect := (ymax - ymin) / (xmax - xmin)
-	da := p.DataCanvas(measuringCanvas(mapPlotW, vg.Length(float64(mapPlotW)*aspect)))
-	wpx := max(1, int(float64(da.Max.X-da.Min.X)/vg.Inch.Points()*pictureDPI+0.5))
-	hpx := max(1, int(float64(wpx)*aspect+0.5))
-	p.Add(plotter.NewImage(ras.image(wpx, hpx), xmin, ymin, xmax, ymax))
+	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = l.xmin, l.xmax, l.ymin, l.ymax
+	return p
+}
 
-	mp := &mapPicture{plot: p, legend: plot.NewLegend()}
+// picture builds the map's plot (the raster of l and the overlays), its
+// colour bar and its legend: new ones for each picture drawn, as drawing
+// a plot changes it.
+func (m *MapSpec) picture(l *mapLayout) (*mapPicture, error) {
+	p := m.axesPlot(l)
+	p.Add(plotter.NewImage(l.raster, l.xmin, l.ymin, l.xmax, l.ymax))
+	mp := &mapPicture{plot: p, raster: l.raster, legend: plot.NewLegend()}
 	legend := &mp.legend
 	legend.Top, legend.Left = true, true
 	legend.TextStyle.Font.Size = vg.Points(11)
@@ -547,16 +597,16 @@ func (m *MapSpec) plots() (*mapPicture, error) {
 			mp.entries++
 		}
 	}
-	if below {
+	if l.below {
 		legend.Add(m.BelowZeroLabel, hatchSwatch{})
 		mp.entries++
 	}
 
 	cb := plot.New()
 	cb.HideX()
-	cb.Y.Label.Text = unit
+	cb.Y.Label.Text = l.unit
 	cb.Y.Tick.Marker = shortTicks{}
-	cb.Add(&plotter.ColorBar{ColorMap: newScale(m.Controls, lo, hi), Vertical: true, Colors: 256})
+	cb.Add(&plotter.ColorBar{ColorMap: newScale(m.Controls, l.lo, l.hi), Vertical: true, Colors: 256})
 	mp.bar = cb
 	return mp, nil
 }
@@ -918,13 +968,14 @@ func (shortTicks) Ticks(lo, hi float64) []plot.Tick {
 	return ticks
 }
 
-// newCanvas returns a PNG (pictureDPI) or SVG canvas of the given size.
+// newCanvas returns a PNG (pictureDPI, fastPNGCanvas) or SVG
+// (fastSVGCanvas) canvas of the given size.
 func newCanvas(format string, width, height vg.Length) (vg.CanvasWriterTo, error) {
 	switch format {
 	case "png":
 		return newFastPNGCanvas(width, height), nil
 	case "svg":
-		return vgsvg.NewWith(vgsvg.UseWH(width, height)), nil
+		return newFastSVGCanvas(width, height)
 	}
 	return nil, fmt.Errorf("picture format %q: want png or svg", format)
 }
@@ -944,16 +995,38 @@ func (c *countWriter) Write(p []byte) (int, error) {
 // belowZeroFlux names the hatched cells of a flux map.
 const belowZeroFlux = "flux below 0: heat flows back into the glass"
 
-// writePictures writes the gap and flux maps and the ring chart of res
-// into dir, each as PNG and SVG. Gaps are in mm, as in rings.csv; fluxes
-// in kW/m².
-func writePictures(dir string, res *Result) error {
-	return runParallel(pictureTasks(dir, res))
+// svgDocs keeps the SVG documents report.html embeds (gap, flux, rings),
+// by name, as their files are written, so that the page need not read
+// them back; a nil *svgDocs keeps nothing.
+type svgDocs struct {
+	mu   sync.Mutex
+	docs map[string][]byte
 }
 
-// pictureTasks returns the writes of writePictures, one file each, in
-// the order writePictures reports their errors.
-func pictureTasks(dir string, res *Result) []func() error {
+// write draws a picture with draw into w, keeping the document as name.
+func (s *svgDocs) write(w io.Writer, name string, draw func(io.Writer) error) error {
+	if s == nil {
+		return draw(w)
+	}
+	var doc bytes.Buffer
+	if err := draw(&doc); err != nil {
+		return err
+	}
+	s.mu.Lock()
+	if s.docs == nil {
+		s.docs = map[string][]byte{}
+	}
+	s.docs[name] = doc.Bytes()
+	s.mu.Unlock()
+	_, err := w.Write(doc.Bytes())
+	return err
+}
+
+// pictureTasks returns the writes of the gap and flux maps and the ring
+// chart of res into dir, each as PNG and SVG, one file a task, in the
+// order their errors are reported; the SVG documents go to keep as well.
+// Gaps are in mm, as in rings.csv; fluxes in kW/m².
+func pictureTasks(dir string, res *Result, keep *svgDocs) []func() error {
 	rep := res.Report
 	labels := PictureLabels{PartNumber: res.PartNumber, Lot: res.Lot}
 	if v := rep.Verdict; v != nil {
@@ -979,12 +1052,12 @@ func pictureTasks(dir string, res *Result) []func() error {
 				spec.MarksMM = append(spec.MarksMM, [2]float64{c[0] * 1e3, c[1] * 1e3})
 			}
 		}
-		tasks = append(tasks, mapFileTasks(dir, "gap", spec)...)
+		tasks = append(tasks, mapFileTasks(dir, "gap", spec, keep)...)
 		if res.Scan != nil {
 			fspec := *spec
 			fspec.Title, fspec.Unit, fspec.Controls = "heat flux into "+title, "heat flux into the pan (kW/m²)", fluxControls
 			fspec.Values, fspec.BelowZeroLabel = inBase(res.Scan.FluxWM2, 1e-3), belowZeroFlux
-			tasks = append(tasks, mapFileTasks(dir, "flux", &fspec)...)
+			tasks = append(tasks, mapFileTasks(dir, "flux", &fspec, keep)...)
 		}
 	}
 	if len(rep.Rings) > 0 {
@@ -992,13 +1065,15 @@ func pictureTasks(dir string, res *Result) []func() error {
 		if res.ZoneCentreM == [2]float64{} {
 			spec.ZoneRadiusMM = res.ZoneDiameterM * 1e3 / 2
 		}
-		for _, ext := range []string{"png", "svg"} {
-			tasks = append(tasks, func() error {
-				return WriteFileAtomic(filepath.Join(dir, "rings."+ext), func(w io.Writer) error {
-					return WriteRingChart(w, spec, ext)
-				})
+		tasks = append(tasks, func() error {
+			return WriteFileAtomic(filepath.Join(dir, "rings.png"), func(w io.Writer) error {
+				return WriteRingChart(w, spec, "png")
 			})
-		}
+		}, func() error {
+			return WriteFileAtomic(filepath.Join(dir, "rings.svg"), func(w io.Writer) error {
+				return keep.write(w, "rings", func(w io.Writer) error { return WriteRingChart(w, spec, "svg") })
+			})
+		})
 	}
 	return tasks
 }
@@ -1080,16 +1155,26 @@ func nearMeasured(s *scan.Surface, i, j int) bool {
 
 // writeMapFiles writes spec as dir/name.png and dir/name.svg.
 func writeMapFiles(dir, name string, spec *MapSpec) error {
-	return runParallel(mapFileTasks(dir, name, spec))
+	return runParallel(mapFileTasks(dir, name, spec, nil))
 }
 
-// mapFileTasks returns the writes of writeMapFiles, PNG first.
-func mapFileTasks(dir, name string, spec *MapSpec) []func() error {
+// mapFileTasks returns the writes of writeMapFiles, PNG first; the SVG
+// document goes to keep as well. The two share one layout (colour range,
+// raster, size), made by whichever runs first.
+func mapFileTasks(dir, name string, spec *MapSpec, keep *svgDocs) []func() error {
+	layout := sync.OnceValues(spec.layout)
 	var tasks []func() error
 	for _, ext := range []string{"png", "svg"} {
 		tasks = append(tasks, func() error {
 			return WriteFileAtomic(filepath.Join(dir, name+"."+ext), func(w io.Writer) error {
-				return WriteMap(w, spec, ext)
+				l, err := layout()
+				if err != nil {
+					return err
+				}
+				if ext == "svg" {
+					return keep.write(w, name, func(w io.Writer) error { return spec.write(w, l, ext) })
+				}
+				return spec.write(w, l, ext)
 			})
 		})
 	}

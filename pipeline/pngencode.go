@@ -20,10 +20,60 @@ import (
 // caller checks that img is opaque: its alpha is not written.
 func writeOpaquePNG(w io.Writer, img *image.RGBA) error {
 	b := img.Bounds()
+	return writeFastPNG(w, b.Dx(), b.Dy(), pngRGB, func(y int, row []byte) {
+		pix := img.Pix[img.PixOffset(b.Min.X, b.Min.Y+y):]
+		for x := range b.Dx() {
+			copy(row[3*x:3*x+3], pix[4*x:4*x+3])
+		}
+	})
+}
+
+// writeNRGBAPNG writes img as image/png would choose to, 8-bit RGB when
+// it is opaque and 8-bit RGBA (non-premultiplied, as img) otherwise, so
+// that the file decodes to the same pixels as png.Encode's; but filtered
+// and deflated as writeOpaquePNG's: 8 to 10 times faster than image/png's
+// default level, for a file twice the size (a 0.5 mm map's raster,
+// BenchmarkEmbedRaster: 9–12 against 91–134 ms, 139 against 70 kB, on a
+// busy 2-core host).
+func writeNRGBAPNG(w io.Writer, img *image.NRGBA) error {
+	b := img.Bounds()
+	if img.Opaque() {
+		return writeFastPNG(w, b.Dx(), b.Dy(), pngRGB, func(y int, row []byte) {
+			pix := img.Pix[img.PixOffset(b.Min.X, b.Min.Y+y):]
+			for x := range b.Dx() {
+				copy(row[3*x:3*x+3], pix[4*x:4*x+3])
+			}
+		})
+	}
+	return writeFastPNG(w, b.Dx(), b.Dy(), pngRGBA, func(y int, row []byte) {
+		copy(row, img.Pix[img.PixOffset(b.Min.X, b.Min.Y+y):])
+	})
+}
+
+// PNG colour types written by writeFastPNG: truecolour, and truecolour
+// with alpha, 8 bits a channel.
+const (
+	pngRGB  = 2
+	pngRGBA = 6
+)
+
+// pngChannels is the number of bytes a pixel of a colour type takes.
+func pngChannels(colorType byte) int {
+	if colorType == pngRGBA {
+		return 4
+	}
+	return 3
+}
+
+// writeFastPNG writes a width × height PNG of colorType (pngRGB or
+// pngRGBA) whose row y fill puts into row (bytes of the pixels, left to
+// right): each row filtered with None or Up and deflated at the fastest
+// level, as writeOpaquePNG says.
+func writeFastPNG(w io.Writer, width, height int, colorType byte, fill func(y int, row []byte)) error {
 	var ihdr [13]byte
-	binary.BigEndian.PutUint32(ihdr[0:], uint32(b.Dx()))
-	binary.BigEndian.PutUint32(ihdr[4:], uint32(b.Dy()))
-	ihdr[8], ihdr[9] = 8, 2 // 8 bits a channel, RGB; deflate, adaptive filtering, no interlace
+	binary.BigEndian.PutUint32(ihdr[0:], uint32(width))
+	binary.BigEndian.PutUint32(ihdr[4:], uint32(height))
+	ihdr[8], ihdr[9] = 8, colorType // 8 bits a channel; deflate, adaptive filtering, no interlace
 	if _, err := io.WriteString(w, "\x89PNG\r\n\x1a\n"); err != nil {
 		return fmt.Errorf("png signature: %w", err)
 	}
@@ -37,16 +87,13 @@ func writeOpaquePNG(w io.Writer, img *image.RGBA) error {
 	if err != nil {
 		return fmt.Errorf("png deflate: %w", err)
 	}
-	n := 3 * b.Dx()
+	n := pngChannels(colorType) * width
 	prev, cur, out := make([]byte, n), make([]byte, n), make([]byte, 1+n)
-	for y := b.Min.Y; y < b.Max.Y; y++ {
-		pix := img.Pix[img.PixOffset(b.Min.X, y):]
-		for x := range b.Dx() {
-			copy(cur[3*x:3*x+3], pix[4*x:4*x+3])
-		}
+	for y := range height {
+		fill(y, cur)
 		filterNoneOrUp(out, cur, prev)
 		if _, err := zw.Write(out); err != nil {
-			return fmt.Errorf("png row %d: %w", y-b.Min.Y, err)
+			return fmt.Errorf("png row %d: %w", y, err)
 		}
 		prev, cur = cur, prev
 	}

@@ -83,6 +83,7 @@ func TestFieldsVTIReadByVTK(t *testing.T) {
 		t.Errorf("VTK sees %d arrays, the pipeline wrote %d", len(got.Arrays), len(fields))
 	}
 	for _, f := range fields {
+		f.Values = f.valuesOf(g.Nx * g.Ny)
 		a, ok := got.Arrays[f.Name]
 		if !ok {
 			t.Errorf("VTK does not see array %q", f.Name)

@@ -168,7 +168,7 @@ func TestWriteVTICompressedRoundTrip(t *testing.T) {
 				if got[a].Name != fld.Name || got[a].Type != vtiType(fld) {
 					t.Errorf("array %d is %s %s, want %s %s", a, got[a].Type, got[a].Name, vtiType(fld), fld.Name)
 				}
-				if !bytes.Equal(got[a].Raw, vtiBytes(fld)) {
+				if !bytes.Equal(got[a].Raw, vtiBytes(fld, len(fld.Values))) {
 					t.Errorf("%s: read-back bytes differ from the values written", fld.Name)
 				}
 			}
@@ -242,5 +242,48 @@ func BenchmarkWriteVTICompressed(b *testing.B) {
 		if err := WriteVTICompressed(io.Discard, VTIGrid{Nx: nx, Ny: ny, SpacingMM: 0.5}, fields); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// TestVTIFieldAt: a field given cell by cell (VTIField.at, as vtiFields
+// gives them) is written to the same bytes as the same values given as a
+// slice, compressed (blocks filled one at a time, across block edges)
+// and plain, for Float32 and UInt8 arrays.
+func TestVTIFieldAt(t *testing.T) {
+	for _, tc := range []struct{ nx, ny int }{{3, 2}, {128, 64}, {101, 99}, {300, 250}} {
+		t.Run(fmt.Sprintf("%dx%d", tc.nx, tc.ny), func(t *testing.T) {
+			n := tc.nx * tc.ny
+			height := func(k int) float64 {
+				if k%17 == 3 {
+					return math.NaN()
+				}
+				return 1e3*math.Sin(float64(k)/7) + 1e-3*float64(k)
+			}
+			state := func(k int) float64 { return float64(k%5) - 1 }
+			g := VTIGrid{Nx: tc.nx, Ny: tc.ny, X0MM: -1, Y0MM: 2, SpacingMM: 0.5}
+			lazy := []VTIField{{Name: "height_um", at: height}, {Name: "cell_state", at: state, UInt8: true}}
+			eager := make([]VTIField, len(lazy))
+			for i, f := range lazy {
+				eager[i] = VTIField{Name: f.Name, Values: f.valuesOf(n), UInt8: f.UInt8}
+			}
+			for _, w := range []struct {
+				name  string
+				write func(*bytes.Buffer, []VTIField) error
+			}{
+				{"compressed", func(b *bytes.Buffer, f []VTIField) error { return WriteVTICompressed(b, g, f) }},
+				{"plain", func(b *bytes.Buffer, f []VTIField) error { return WriteVTI(b, g, f) }},
+			} {
+				var a, b bytes.Buffer
+				if err := w.write(&a, lazy); err != nil {
+					t.Fatal(err)
+				}
+				if err := w.write(&b, eager); err != nil {
+					t.Fatal(err)
+				}
+				if !bytes.Equal(a.Bytes(), b.Bytes()) {
+					t.Errorf("%s: fields given cell by cell are written differently", w.name)
+				}
+			}
+		})
 	}
 }
