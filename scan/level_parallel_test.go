@@ -1,0 +1,118 @@
+package scan
+
+import (
+	"crypto/sha256"
+	"encoding/binary"
+	"fmt"
+	"math"
+	"reflect"
+	"runtime"
+	"testing"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// levelParallelCases are scans for the check that Level's result does not
+// depend on the number of processors: clouds and meshes, face up and
+// down, tilted, with normals, spikes, strays, a hole, a triangle soup
+// (repeated vertices) and a doubled cloud (repeated points).
+func levelParallelCases() []struct {
+	name string
+	c    func() *Cloud
+	opt  LevelOptions
+} {
+	const R = 0.06
+	build := func(sb synthBase, sc scanner) func() *Cloud {
+		return func() *Cloud { return sc.apply(sb.build()) }
+	}
+	up := newScanner(FaceUp, 7, 30, 15, r3.Vec{X: 0.02, Y: -0.01, Z: 0.3})
+	down := newScanner(FaceDown, 12, 200, -40, r3.Vec{X: -0.05, Z: 0.25})
+	cloud := synthBase{R: R, Shape: dish(0.2e-3, R), CornerM: 5e-3, WallM: 12e-3, NoiseM: 12e-6, N: 60000, Seed: 21}
+	spiky := cloud
+	spiky.Spikes, spiky.SpikeM, spiky.Junk, spiky.Normals, spiky.Seed = 300, 1.5e-3, 800, true, 22
+	holed := cloud
+	holed.Hole = func(x, y float64) bool { return math.Hypot(x-0.02, y) < 0.01 }
+	holed.Seed = 23
+	mesh := synthBase{R: R, Shape: saddle(0.1e-3, R), CornerM: 4e-3, WallM: 8e-3, NoiseM: 5e-6, Mesh: true, StepM: 0.8e-3, Normals: true, Spikes: 50, SpikeM: 1e-3, Seed: 24}
+	soup := func() *Cloud {
+		m := up.apply(mesh.build())
+		s := &Cloud{Format: "stl", FacetNormals: m.FacetNormals}
+		for _, tri := range m.Triangles {
+			k := int32(len(s.Points))
+			s.Points = append(s.Points, m.Points[tri[0]], m.Points[tri[1]], m.Points[tri[2]])
+			s.Triangles = append(s.Triangles, [3]int32{k, k + 1, k + 2})
+		}
+		return s
+	}
+	doubled := func() *Cloud {
+		c := down.apply(cloud.build())
+		c.Points = append(c.Points, c.Points[:len(c.Points)/2]...)
+		return c
+	}
+	return []struct {
+		name string
+		c    func() *Cloud
+		opt  LevelOptions
+	}{
+		{"cloud up", build(cloud, up), LevelOptions{}},
+		{"cloud up reused", build(cloud, up), LevelOptions{Reuse: true, DropNormals: true}},
+		{"cloud down", build(cloud, down), LevelOptions{Face: FaceDown}},
+		{"spiky normals down", build(spiky, down), LevelOptions{}},
+		{"spiky normals down reused", build(spiky, down), LevelOptions{Reuse: true}},
+		{"holed up diameter", build(holed, up), LevelOptions{DiameterM: 2 * R, MaxSlopeDeg: 2}},
+		{"mesh up", build(mesh, up), LevelOptions{}},
+		{"mesh down reused", build(mesh, down), LevelOptions{Reuse: true}},
+		{"mesh hob top", build(mesh, down), LevelOptions{Face: FaceDown, HobTop: true, Reuse: true, DropNormals: true}},
+		{"soup", soup, LevelOptions{}},
+		{"soup reused", soup, LevelOptions{Reuse: true, DropNormals: true}},
+		{"doubled cloud", doubled, LevelOptions{Reuse: true}},
+	}
+}
+
+// levelDigest returns a SHA-256 of everything Level returned, floats by
+// their bits: equal digests mean bit-identical results.
+func levelDigest(l *Levelled) string {
+	h := sha256.New()
+	vecs := func(v []r3.Vec) {
+		fmt.Fprintf(h, "%d|", len(v))
+		for _, p := range v {
+			binary.Write(h, binary.LittleEndian, [3]float64{p.X, p.Y, p.Z})
+		}
+	}
+	c := l.Cloud
+	vecs(c.Points)
+	vecs(c.Normals)
+	vecs(c.FacetNormals)
+	fmt.Fprintf(h, "%d|", len(c.Triangles))
+	binary.Write(h, binary.LittleEndian, c.Triangles)
+	m := *l
+	m.Cloud = nil
+	// %v prints floats in the shortest form that reads back exactly.
+	fmt.Fprintf(h, "%v|%s|%s|%s", m, c.Format, c.Unit, c.UnitSource)
+	return fmt.Sprintf("%x", h.Sum(nil))
+}
+
+// TestLevelSameOnAnyProcessorCount: Level's result, the levelled cloud
+// and every figure of the report, is bit-identical on 1 to 4 processors.
+func TestLevelSameOnAnyProcessorCount(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	for _, tc := range levelParallelCases() {
+		t.Run(tc.name, func(t *testing.T) {
+			var want *Levelled
+			for _, procs := range []int{1, 4, 2, 3} {
+				runtime.GOMAXPROCS(procs)
+				got, err := Level(tc.c(), tc.opt)
+				if err != nil {
+					t.Fatalf("%d processors: %v", procs, err)
+				}
+				if want == nil {
+					want = got
+					continue
+				}
+				if !reflect.DeepEqual(got, want) {
+					t.Errorf("%d processors: result differs from 1 processor's (digest %s vs %s)", procs, levelDigest(got), levelDigest(want))
+				}
+			}
+		})
+	}
+}
