@@ -116,3 +116,42 @@ func TestLevelSameOnAnyProcessorCount(t *testing.T) {
 		})
 	}
 }
+
+// TestProfileFrom: the profile scratch a part of the rim search starts
+// from holds, for every bin, the mean radius a sequential pass over the
+// sectors before it would have left there, also for bins too sparse in
+// the last of those sectors.
+func TestProfileFrom(t *testing.T) {
+	const ns, nb = 7, 5
+	// Points per (sector, bin): sparse (< rimMinCount) bins here and there.
+	counts := [ns][nb]int32{
+		{4, 0, 5, 1, 6},
+		{0, 4, 2, 0, 4},
+		{5, 1, 4, 3, 0},
+		{1, 1, 1, 1, 1},
+		{4, 4, 0, 4, 2},
+		{0, 0, 0, 0, 0},
+		{6, 2, 4, 4, 4},
+	}
+	rb := &rimBins{ns: ns, nb: nb, rlo: 0.05, dr: 0.001, start: make([]int32, ns*nb+1)}
+	for s := range ns {
+		for bb := range nb {
+			k := s*nb + bb
+			rb.start[k+1] = rb.start[k] + counts[s][bb]
+			for j := range counts[s][bb] {
+				rb.rs = append(rb.rs, rb.rlo+(float64(bb)+0.1*float64(j)+0.01*float64(s))*rb.dr)
+				rb.ws = append(rb.ws, 1e-6*float64(s+int(j)))
+			}
+		}
+	}
+	seq := rb.profileFrom(0)
+	for s0 := range ns {
+		got := rb.profileFrom(s0)
+		for bb := range nb {
+			if got.pos[bb] != seq.pos[bb] {
+				t.Errorf("sector %d, bin %d: starts from mean radius %g m, the sequential pass leaves %g m", s0, bb, got.pos[bb], seq.pos[bb])
+			}
+		}
+		rb.profile(s0, seq)
+	}
+}
