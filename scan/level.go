@@ -333,7 +333,8 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	pts, rep, merged := mergeRepeats(c, out)
 
 	// 1. First plane from a subsample, without far strays.
-	sub, f, err := firstPlane(pts)
+	sc := &levelScratch{}
+	sub, f, err := firstPlane(pts, sc)
 	if err != nil {
 		return nil, err
 	}
@@ -345,24 +346,25 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 
 	// 3. Base candidate by flood fill; plane on its inner part.
-	f, uc, vc, r0, c1, n2, err := baseCandidate(sub, uvw, cg, g, f, tanCoarse)
+	f, uc, vc, r0, c1, n2, err := baseCandidate(sub, uvw, cg, g, f, tanCoarse, sc)
 	if err != nil {
 		return nil, err
 	}
 
 	// 4. Rim circle, searched out to where the scan ends (a warped base
 	// may reach well beyond its flat part).
-	rim, radius, err := rimCircle(pts, sub, &f, uc, vc, r0, tanMax, opt, out)
+	rim, radius, err := rimCircle(pts, sub, &f, uc, vc, r0, tanMax, opt, out, sc)
 	if err != nil {
 		return nil, err
 	}
+	sc.vecs.put(sub)
 	centre := r3.Add(f.o, r3.Add(r3.Scale(rim.u, f.e[0]), r3.Scale(rim.v, f.e[1])))
 
 	// 5. Plane refit on the base inside the rim.
-	f = refitPlane(pts, f, rim, radius, centre, c1, n2)
+	f = refitPlane(pts, f, rim, radius, centre, c1, n2, sc)
 
 	// 6. Outer face. up is the base normal oriented to scanner +z.
-	bf := faceFrame(c, pts, f, radius, rim.dr, opt, out)
+	bf := faceFrame(c, pts, f, radius, rim.dr, opt, out, sc)
 	out.Rotation = [3][3]float64{
 		{bf.e[0].X, bf.e[0].Y, bf.e[0].Z},
 		{bf.e[1].X, bf.e[1].Y, bf.e[1].Z},
@@ -455,14 +457,17 @@ func mergeRepeats(c *Cloud, out *Levelled) (pts []r3.Vec, rep []int32, merged in
 
 // firstPlane returns a subsample of at most about 150000 points without
 // far strays and the frame of their principal-component plane, its
-// normal towards scanner +z.
-func firstPlane(pts []r3.Vec) ([]r3.Vec, frame, error) {
+// normal towards scanner +z. The subsample's buffer comes from sc, large
+// enough for refitPlane's subsample too, which takes it over.
+func firstPlane(pts []r3.Vec, sc *levelScratch) ([]r3.Vec, frame, error) {
 	stride := max(1, (len(pts)+149999)/150000)
-	sub := make([]r3.Vec, 0, len(pts)/stride+1)
+	sub := sc.vecs.get(0, max(len(pts)/stride+1, len(pts)/refitStride(len(pts))+1))
 	for i := 0; i < len(pts); i += stride {
 		sub = append(sub, pts[i])
 	}
-	sub = trimFar(sub)
+	if t := trimFar(sub); len(t) != len(sub) {
+		sub = append(sub[:0], t...) // keep the buffer for refitPlane
+	}
 	c0, n0, ok := pcaPlane(sub)
 	if !ok {
 		return nil, frame{}, errors.New("scan: level: points are degenerate (all on a line or a point)")
@@ -505,7 +510,7 @@ func tiltFrame(sub []r3.Vec, f frame, tanCoarse float64) (frame, [][3]float64, *
 // fits a robust plane to its inner part (radius 0.9 r0). It returns that
 // plane's frame, the candidate's centre (uc, vc) in it and its
 // equal-area radius r0 (m), and the plane's point c1 and normal n2.
-func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f frame, tanCoarse float64) (
+func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f frame, tanCoarse float64, sc *levelScratch) (
 	nf frame, uc, vc, r0 float64, c1, n2 r3.Vec, err error) {
 	comp := cg.baseComponent(tanCoarse)
 	if len(comp) < 4 {
@@ -523,7 +528,8 @@ func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f 
 	for _, q := range comp {
 		inComp[q] = true
 	}
-	inner := make([]r3.Vec, 0, len(sub))
+	inner := sc.vecs.get(0, len(sub))
+	defer func() { sc.vecs.put(inner) }()
 	for i, p := range sub {
 		du, dv := uvw[i][0]-uc, uvw[i][1]-vc
 		if du*du+dv*dv <= 0.81*r0*r0 && inComp[cg.cellOfPt[i]] {
@@ -531,7 +537,7 @@ func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f 
 		}
 	}
 	centre := r3.Add(f.o, r3.Add(r3.Scale(uc, f.e[0]), r3.Scale(vc, f.e[1])))
-	c1, n2, ok := robustPlane(inner)
+	c1, n2, ok := robustPlane(inner, sc)
 	if !ok {
 		return f, 0, 0, 0, c1, n2, errors.New("scan: level: base candidate is degenerate")
 	}
@@ -546,9 +552,9 @@ func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f 
 // rimCircle fits the footprint circle (fitRim, or outlineRim for sparse
 // scans) and returns it with the base radius used (m): the fitted one, or
 // half opt.DiameterM when given. Warnings go to out.
-func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt LevelOptions, out *Levelled) (rimFit, float64, error) {
+func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt LevelOptions, out *Levelled, sc *levelScratch) (rimFit, float64, error) {
 	rq := extentRadius(sub, f, uc, vc)
-	rim, err := fitRim(pts, f, uc, vc, r0, rq, tanMax)
+	rim, err := fitRim(pts, f, uc, vc, r0, rq, tanMax, sc)
 	if err != nil {
 		// Sparse scans (a few points per millimetre of rim) defeat the
 		// profile search: fall back to a circle through the outline of
@@ -580,9 +586,10 @@ func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt Leve
 // (a subsample of at most about 200000) and returns its frame with origin
 // at the footprint centre moved onto the plane; when the fit fails, the
 // candidate plane (c1, n2) is kept.
-func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n2 r3.Vec) frame {
-	stride2 := max(1, (len(pts)+199999)/200000)
-	basePts := make([]r3.Vec, 0, len(pts)/stride2+1)
+func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n2 r3.Vec, sc *levelScratch) frame {
+	stride2 := refitStride(len(pts))
+	basePts := sc.vecs.get(0, len(pts)/stride2+1)
+	defer func() { sc.vecs.put(basePts) }()
 	for i := 0; i < len(pts); i += stride2 {
 		u, v, _ := f.coords(pts[i])
 		du, dv := u-rim.u, v-rim.v
@@ -590,7 +597,7 @@ func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n
 			basePts = append(basePts, pts[i])
 		}
 	}
-	if c2, n3, ok := robustPlane(basePts); ok {
+	if c2, n3, ok := robustPlane(basePts, sc); ok {
 		if n3.Z < 0 {
 			n3 = r3.Scale(-1, n3)
 		}
@@ -601,18 +608,22 @@ func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n
 	return newFrame(r3.Sub(centre, r3.Scale(r3.Dot(r3.Sub(centre, c1), n2), n2)), n2)
 }
 
+// refitStride is the step of refitPlane's subsample of n points: at most
+// about 200000 of them.
+func refitStride(n int) int { return max(1, (n+199999)/200000) }
+
 // faceFrame decides which side of the base is the outer face (from the
 // face option, the normals, the wall, or assumed towards the scanner) and
 // returns the base frame: +z into the pan (out of the hob with
 // opt.HobTop). The source and any warnings go to out.
-func faceFrame(c *Cloud, pts []r3.Vec, f frame, radius, dr float64, opt LevelOptions, out *Levelled) frame {
+func faceFrame(c *Cloud, pts []r3.Vec, f frame, radius, dr float64, opt LevelOptions, out *Levelled, sc *levelScratch) frame {
 	up := f.e[2]
 	if math.Abs(up.Z) < 0.5 {
 		out.Warnings = append(out.Warnings, fmt.Sprintf("the base plane is %.0f° from the scanner's x-y plane; face up/down refers to scanner +z",
 			math.Acos(math.Abs(up.Z))*180/math.Pi))
 	}
 	nSign, nDetail := normalsFace(c, &f, radius)
-	wSign := wallFace(pts, &f, radius, dr)
+	wSign := wallFace(pts, &f, radius, dr, sc)
 	var zSign float64 // +1: base +z along up, −1: against up
 	switch {
 	case opt.Face != "":
@@ -659,49 +670,70 @@ func (f *frame) rotate(d r3.Vec) r3.Vec {
 // covariance with the smallest eigenvalue. ok is false when the points do
 // not span a plane.
 func pcaPlane(pts []r3.Vec) (c, n r3.Vec, ok bool) {
-	if len(pts) < 3 {
-		return c, n, false
+	return pcaPlaneNear(pts, nil, 0, 0)
+}
+
+// pcaPlaneNear is pcaPlane over the points i of pts with |d[i] − med| ≤
+// lim (every point when d is nil), summed in order as over a list of them.
+func pcaPlaneNear(pts []r3.Vec, d []float64, med, lim float64) (c, n r3.Vec, ok bool) {
+	in := func(i int) bool { return d == nil || math.Abs(d[i]-med) <= lim }
+	m := 0
+	for i, p := range pts {
+		if in(i) {
+			c = r3.Add(c, p)
+			m++
+		}
 	}
-	for _, p := range pts {
-		c = r3.Add(c, p)
+	if m < 3 {
+		return r3.Vec{}, n, false
 	}
-	c = r3.Scale(1/float64(len(pts)), c)
+	c = r3.Scale(1/float64(m), c)
 	var sxx, sxy, sxz, syy, syz, szz float64
-	for _, p := range pts {
-		d := r3.Sub(p, c)
-		sxx += d.X * d.X
-		sxy += d.X * d.Y
-		sxz += d.X * d.Z
-		syy += d.Y * d.Y
-		syz += d.Y * d.Z
-		szz += d.Z * d.Z
+	for i, p := range pts {
+		if !in(i) {
+			continue
+		}
+		q := r3.Sub(p, c)
+		sxx += q.X * q.X
+		sxy += q.X * q.Y
+		sxz += q.X * q.Z
+		syy += q.Y * q.Y
+		syz += q.Y * q.Z
+		szz += q.Z * q.Z
 	}
-	cov := mat.NewSymDense(3, []float64{sxx, sxy, sxz, sxy, syy, syz, sxz, syz, szz})
+	return planeNormal(c, [6]float64{sxx, sxy, sxz, syy, syz, szz})
+}
+
+// planeNormal returns c and the unit eigenvector of the covariance s (xx,
+// xy, xz, yy, yz, zz) with the smallest eigenvalue; ok is false when the
+// points do not span a plane.
+func planeNormal(c r3.Vec, s [6]float64) (r3.Vec, r3.Vec, bool) {
+	cov := mat.NewSymDense(3, []float64{s[0], s[1], s[2], s[1], s[3], s[4], s[2], s[4], s[5]})
 	var es mat.EigenSym
 	if !es.Factorize(cov, true) {
-		return c, n, false
+		return c, r3.Vec{}, false
 	}
 	vals := es.Values(nil)
 	if !(vals[1] > 1e-12*vals[2]) {
-		return c, n, false
+		return c, r3.Vec{}, false
 	}
 	var vec mat.Dense
 	es.VectorsTo(&vec)
-	n = r3.Unit(r3.Vec{X: vec.At(0, 0), Y: vec.At(1, 0), Z: vec.At(2, 0)})
-	return c, n, true
+	return c, r3.Unit(r3.Vec{X: vec.At(0, 0), Y: vec.At(1, 0), Z: vec.At(2, 0)}), true
 }
 
 // robustPlane fits a plane by principal components, then refits without
 // the points further than 3.5 robust standard deviations (1.4826 × median
-// absolute deviation) from it, up to five times.
-func robustPlane(pts []r3.Vec) (c, n r3.Vec, ok bool) {
+// absolute deviation) from it, up to five times. Its scratch comes from
+// and goes back to sc.
+func robustPlane(pts []r3.Vec, sc *levelScratch) (c, n r3.Vec, ok bool) {
 	c, n, ok = pcaPlane(pts)
 	if !ok {
 		return c, n, false
 	}
-	d := make([]float64, len(pts))
-	work := make([]float64, len(pts))
-	kept := make([]r3.Vec, 0, len(pts))
+	d := sc.floats.get(len(pts), 0)
+	work := sc.floats.get(len(pts), 0)
+	defer sc.floats.put(d, work)
 	for range 5 {
 		for i, p := range pts {
 			d[i] = r3.Dot(r3.Sub(p, c), n)
@@ -712,16 +744,16 @@ func robustPlane(pts []r3.Vec) (c, n r3.Vec, ok bool) {
 			work[i] = math.Abs(d[i] - med)
 		}
 		lim := 3.5 * 1.4826 * medianInPlace(work)
-		kept = kept[:0]
-		for i, p := range pts {
+		kept := 0
+		for i := range pts {
 			if math.Abs(d[i]-med) <= lim {
-				kept = append(kept, p)
+				kept++
 			}
 		}
-		if len(kept) == len(pts) || len(kept) < 3 {
+		if kept == len(pts) || kept < 3 {
 			break
 		}
-		c2, n2, ok2 := pcaPlane(kept)
+		c2, n2, ok2 := pcaPlaneNear(pts, d, med, lim)
 		if !ok2 {
 			break
 		}
@@ -986,11 +1018,7 @@ func (rb *rimBins) profile(s int, sp *rimProfile) {
 			continue
 		}
 		sp.prof[bb] = medianInPlace(rb.ws[lo:hi])
-		m := 0.0
-		for _, r := range rb.rs[lo:hi] {
-			m += r
-		}
-		sp.pos[bb] = m / float64(hi-lo)
+		sp.pos[bb] = rb.mean[s*rb.nb+bb]
 	}
 }
 
@@ -1490,10 +1518,11 @@ func hasNonZero(v []r3.Vec) bool {
 // clear of the base (the corner and the wall rise into the pan). It
 // returns +1 when they lie along the frame's normal, −1 against it, 0 when
 // there are too few or they lie on both sides.
-func wallFace(pts []r3.Vec, f *frame, radius, dr float64) float64 {
+func wallFace(pts []r3.Vec, f *frame, radius, dr float64, sc *levelScratch) float64 {
 	step := max(1, len(pts)/500000)
-	var rimW []float64
-	var outer []float64
+	nTake := (len(pts) + step - 1) / step
+	rimW, outer := sc.floats.get(0, nTake), sc.floats.get(0, nTake)
+	defer func() { sc.floats.put(rimW, outer) }()
 	nBase := 0
 	for i := 0; i < len(pts); i += step {
 		u, v, w := f.coords(pts[i])

@@ -133,13 +133,13 @@ func TestProfileFrom(t *testing.T) {
 		{0, 0, 0, 0, 0},
 		{6, 2, 4, 4, 4},
 	}
-	rb := &rimBins{ns: ns, nb: nb, rlo: 0.05, dr: 0.001, start: make([]int32, ns*nb+1)}
+	rb := &rimBins{ns: ns, nb: nb, rlo: 0.05, dr: 0.001, start: make([]int32, ns*nb+1), mean: make([]float64, ns*nb)}
 	for s := range ns {
 		for bb := range nb {
 			k := s*nb + bb
 			rb.start[k+1] = rb.start[k] + counts[s][bb]
+			rb.mean[k] = rb.rlo + (float64(bb)+0.5+0.01*float64(s))*rb.dr
 			for j := range counts[s][bb] {
-				rb.rs = append(rb.rs, rb.rlo+(float64(bb)+0.1*float64(j)+0.01*float64(s))*rb.dr)
 				rb.ws = append(rb.ws, 1e-6*float64(s+int(j)))
 			}
 		}

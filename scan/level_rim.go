@@ -20,12 +20,13 @@ type sectorRim struct {
 // fitRim finds the base rim along radial profiles in angular sectors about
 // (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
 // The sectors are searched in parts at once; their rim points are then
-// gathered in sector order.
-func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, error) {
-	rb, err := binRim(pts, f, uc, vc, r0, rq)
+// gathered in sector order. Scratch comes from and goes back to sc.
+func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64, sc *levelScratch) (rimFit, error) {
+	rb, err := binRim(pts, f, uc, vc, r0, rq, sc)
 	if err != nil {
 		return rimFit{}, err
 	}
+	defer sc.floats.put(rb.ws)
 	ns, dr := rb.ns, rb.dr
 	kStart := int((0.6*r0 - rb.rlo) / dr)
 	sr := make([]sectorRim, ns)
@@ -83,7 +84,7 @@ func (rb *rimBins) profileFrom(s0 int) *rimProfile {
 		for s := s0 - 1; s >= 0; s-- {
 			lo, hi := rb.start[s*nb+bb], rb.start[s*nb+bb+1]
 			if hi-lo >= rimMinCount {
-				sp.pos[bb] = meanOf(rb.rs[lo:hi])
+				sp.pos[bb] = rb.mean[s*nb+bb]
 				break
 			}
 		}
@@ -91,27 +92,19 @@ func (rb *rimBins) profileFrom(s0 int) *rimProfile {
 	return sp
 }
 
-// meanOf returns the mean of a, summed in order.
-func meanOf(a []float64) float64 {
-	m := 0.0
-	for _, r := range a {
-		m += r
-	}
-	return m / float64(len(a))
-}
-
 // rimMinCount is the fewest points a (sector, radial bin) needs to count.
 const rimMinCount = 4
 
 // rimBins holds the points of the rim annulus sorted by (sector, radial
-// bin): bin k of sector s holds ws[start[s*nb+k]:start[s*nb+k+1]] (heights,
-// m) and rs[...] (radii from the centre, m). Radial bins of width dr (m)
+// bin): bin k of sector s holds ws[start[s*nb+k]:start[s*nb+k+1]]
+// (heights, m, in point order); mean[s*nb+k] is the mean of their radii
+// from the centre (m), summed in point order. Radial bins of width dr (m)
 // start at radius rlo (m).
 type rimBins struct {
-	ns, nb  int
-	rlo, dr float64
-	start   []int32
-	ws, rs  []float64
+	ns, nb   int
+	rlo, dr  float64
+	start    []int32
+	ws, mean []float64
 }
 
 // annulus holds the points of the rim annulus: radius from the centre
@@ -137,7 +130,7 @@ func rimSectors(rho, r0 float64) (ns int, ring float64) {
 // Parts of the points are handled at once: each counts its inner and
 // annulus points, then writes its annulus points at its offset, in point
 // order.
-func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64) *annulus {
+func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *levelScratch) *annulus {
 	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
 	rr := func(p r3.Vec) (du, dv, w, rr float64) {
 		u, v, w := f.coords(p)
@@ -178,7 +171,7 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64) *annulu
 		})
 	}
 	off := blockOffsets(cnt)
-	a.r, a.w, a.sec = make([]float64, off[parts]), make([]float64, off[parts]), make([]uint8, off[parts])
+	a.r, a.w, a.sec = sc.floats.get(off[parts], 0), sc.floats.get(off[parts], 0), make([]uint8, off[parts])
 	fns := float64(a.ns)
 	parallelParts(nTake, parts, func(k, t0, t1 int) {
 		o := off[k]
@@ -210,10 +203,11 @@ func sumInts(a []int) int {
 // angular sectors and radial bins. The sector count follows the point
 // density; the bins are widened while more than a fifth of the inner ones
 // (0.6–0.9 r0) are empty (structured meshes and scan lines leave regular
-// gaps).
-func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64) (*rimBins, error) {
+// gaps). The annulus's scratch goes back to sc, and rb.ws comes from it.
+func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*rimBins, error) {
 	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
-	a := annulusPoints(pts, f, uc, vc, r0, rlo, rhi)
+	a := annulusPoints(pts, f, uc, vc, r0, rlo, rhi, sc)
+	defer sc.floats.put(a.r, a.w)
 	ns, ring := rimSectors(a.rho, r0)
 	dr := max(r0/400, 20*float64(ns)/ring)
 	parts := rowParts(len(a.r))
@@ -232,9 +226,9 @@ func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64) (*rimBins, error) {
 		}
 		dr *= 1.5
 	}
-	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, start: start,
-		ws: make([]float64, len(a.r)), rs: make([]float64, len(a.r))}
+	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, start: start, ws: sc.floats.get(len(a.r), 0)}
 	a.fill(rb, counts)
+	rb.mean = a.binMeans(rb)
 	return rb, nil
 }
 
@@ -289,7 +283,23 @@ func binsFullEnough(start []int32, ns, nb, k0, k1 int) bool {
 	return 5*full >= 4*all
 }
 
-// fill writes the annulus points' heights and radii into rb's bins, in
+// binMeans returns the mean radius (m) of the annulus points in each of
+// rb's bins, summed in point order (0 for an empty bin). The sums are one
+// sequential pass, so that each bin's sum is that of its points in order.
+func (a *annulus) binMeans(rb *rimBins) []float64 {
+	mean := make([]float64, rb.ns*rb.nb)
+	for i, r := range a.r {
+		mean[a.bin(i, rb.nb, rb.rlo, rb.dr)] += r
+	}
+	for k := range mean {
+		if c := rb.start[k+1] - rb.start[k]; c > 0 {
+			mean[k] /= float64(c)
+		}
+	}
+	return mean
+}
+
+// fill writes the annulus points' heights into rb's bins, in
 // point order within each bin; each part of the points writes its own
 // slots (after those of the parts before it) at once.
 func (a *annulus) fill(rb *rimBins, counts [][]int32) {
@@ -304,7 +314,7 @@ func (a *annulus) fill(rb *rimBins, counts [][]int32) {
 		}
 		for i := i0; i < i1; i++ {
 			b := a.bin(i, rb.nb, rb.rlo, rb.dr)
-			rb.ws[next[b]], rb.rs[next[b]] = a.w[i], a.r[i]
+			rb.ws[next[b]] = a.w[i]
 			next[b]++
 		}
 	})
