@@ -5,12 +5,12 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"strings"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"gapflux/internal/order"
+	"gapflux/internal/parallel"
 )
 
 // DefaultMaxSlopeDeg is the default rim slope limit, degrees: the base ends
@@ -413,10 +413,18 @@ func checkLevelInput(c *Cloud, opt LevelOptions) (tanMax, tanCoarse float64, err
 	if len(pts) < minLevelPoints {
 		return 0, 0, fmt.Errorf("scan: level: %d points; need at least %d to find the base", len(pts), minLevelPoints)
 	}
-	for i, p := range pts {
-		if !finite3(p) {
-			return 0, 0, fmt.Errorf("scan: level: point %d has a non-finite coordinate (%g, %g, %g)", i, p.X, p.Y, p.Z)
+	// Parts of the points are checked at once; the first bad one in order
+	// is reported.
+	if i, bad := parallel.First(len(pts), rowParts(len(pts)), func(lo, hi int) (int, bool) {
+		for i := lo; i < hi; i++ {
+			if !finite3(pts[i]) {
+				return i, true
+			}
 		}
+		return 0, false
+	}); bad {
+		p := pts[i]
+		return 0, 0, fmt.Errorf("scan: level: point %d has a non-finite coordinate (%g, %g, %g)", i, p.X, p.Y, p.Z)
 	}
 	if len(c.Normals) != 0 && len(c.Normals) != len(pts) {
 		return 0, 0, fmt.Errorf("scan: level: %d normals for %d points", len(c.Normals), len(pts))
@@ -424,14 +432,29 @@ func checkLevelInput(c *Cloud, opt LevelOptions) (tanMax, tanCoarse float64, err
 	if len(c.FacetNormals) != 0 && len(c.FacetNormals) != len(c.Triangles) {
 		return 0, 0, fmt.Errorf("scan: level: %d facet normals for %d triangles", len(c.FacetNormals), len(c.Triangles))
 	}
-	for t, tri := range c.Triangles {
-		for _, v := range tri {
-			if v < 0 || int(v) >= len(pts) {
-				return 0, 0, fmt.Errorf("scan: level: triangle %d refers to vertex %d of %d", t, v, len(pts))
+	tris := c.Triangles
+	if t, bad := parallel.First(len(tris), rowParts(len(tris)), func(lo, hi int) (int, bool) {
+		for t := lo; t < hi; t++ {
+			if badTriangle(tris[t], len(pts)) >= 0 {
+				return t, true
 			}
 		}
+		return 0, false
+	}); bad {
+		return 0, 0, fmt.Errorf("scan: level: triangle %d refers to vertex %d of %d", t, tris[t][badTriangle(tris[t], len(pts))], len(pts))
 	}
 	return tanMax, tanCoarse, nil
+}
+
+// badTriangle returns the first corner of tri that is not a vertex index
+// below n, or −1 when all are.
+func badTriangle(tri [3]int32, n int) int {
+	for k, v := range tri {
+		if v < 0 || int(v) >= n {
+			return k
+		}
+	}
+	return -1
 }
 
 // mergeRepeats returns the cloud's points with exact repeats counted once,
@@ -1439,130 +1462,6 @@ func kasaCircle(u, v []float64, keep []bool) (cu, cv, r float64, ok bool) {
 		return 0, 0, 0, false
 	}
 	return cu*sc + mu, cv*sc + mv, math.Sqrt(r2) * sc, true
-}
-
-// normalsFace tells the outer face from facet normals, point normals or,
-// for STL meshes without facet normals, the facet winding (counter-
-// clockwise seen from outside): the outer face's normals point to the hob,
-// against base +z. It returns +1 when base +z is along the frame's normal,
-// −1 against it, 0 when there are no normals or they do not agree; detail
-// names the evidence (or why it was not used).
-func normalsFace(c *Cloud, f *frame, radius float64) (sign float64, detail string) {
-	r2 := radius * radius
-	inBase := func(p r3.Vec) bool {
-		u, v, _ := f.coords(p)
-		du, dv := u, v
-		return du*du+dv*dv <= r2
-	}
-	var sum float64
-	n := 0
-	what := ""
-	add := func(d r3.Vec) {
-		l := r3.Norm(d)
-		if l == 0 || math.IsNaN(l) || math.IsInf(l, 0) {
-			return
-		}
-		sum += r3.Dot(d, f.e[2]) / l
-		n++
-	}
-	switch {
-	case len(c.FacetNormals) != 0 && hasNonZero(c.FacetNormals):
-		what = "facet normals"
-		for t, tri := range c.Triangles {
-			if inBase(c.Points[tri[0]]) {
-				add(c.FacetNormals[t])
-			}
-		}
-	case len(c.Normals) != 0:
-		what = "point normals"
-		step := max(1, len(c.Points)/200000)
-		for i := 0; i < len(c.Points); i += step {
-			if inBase(c.Points[i]) {
-				add(c.Normals[i])
-			}
-		}
-	case len(c.Triangles) != 0 && strings.HasPrefix(c.Format, "stl"):
-		what = "STL facet winding"
-		for _, tri := range c.Triangles {
-			p0 := c.Points[tri[0]]
-			if inBase(p0) {
-				add(r3.Cross(r3.Sub(c.Points[tri[1]], p0), r3.Sub(c.Points[tri[2]], p0)))
-			}
-		}
-	default:
-		return 0, ""
-	}
-	if n == 0 {
-		return 0, ""
-	}
-	mean := sum / float64(n)
-	switch {
-	case mean >= 0.5:
-		return -1, what
-	case mean <= -0.5:
-		return 1, what
-	}
-	return 0, fmt.Sprintf("the %s on the base do not point one way (mean cosine %.2f); not used", what, mean)
-}
-
-func hasNonZero(v []r3.Vec) bool {
-	for _, d := range v {
-		if d != (r3.Vec{}) {
-			return true
-		}
-	}
-	return false
-}
-
-// wallFace tells the outer face from the points beyond the rim that rise
-// clear of the base (the corner and the wall rise into the pan). It
-// returns +1 when they lie along the frame's normal, −1 against it, 0 when
-// there are too few or they lie on both sides.
-func wallFace(pts []r3.Vec, f *frame, radius, dr float64, sc *levelScratch) float64 {
-	step := max(1, len(pts)/500000)
-	nTake := (len(pts) + step - 1) / step
-	rimW, outer := sc.floats.get(0, nTake), sc.floats.get(0, nTake)
-	defer func() { sc.floats.put(rimW, outer) }()
-	nBase := 0
-	for i := 0; i < len(pts); i += step {
-		u, v, w := f.coords(pts[i])
-		rr := math.Sqrt(u*u + v*v)
-		switch {
-		case rr <= radius:
-			nBase++
-			if rr >= 0.9*radius {
-				rimW = append(rimW, math.Abs(w))
-			}
-		case rr > radius+2*dr && rr < 2*radius:
-			outer = append(outer, w)
-		}
-	}
-	if len(rimW) == 0 || len(outer) == 0 {
-		return 0
-	}
-	k := min(len(rimW)-1, int(0.99*float64(len(rimW))))
-	hb := order.Select(rimW, k)
-	lim := hb + 0.01*radius
-	pos, neg := 0, 0
-	for _, w := range outer {
-		switch {
-		case w > lim:
-			pos++
-		case w < -lim:
-			neg++
-		}
-	}
-	tot := pos + neg
-	if tot < max(20, nBase/1000) {
-		return 0
-	}
-	switch {
-	case float64(pos) >= 0.8*float64(tot):
-		return 1
-	case float64(neg) >= 0.8*float64(tot):
-		return -1
-	}
-	return 0
 }
 
 // outlineRim fits the footprint circle to the outermost point near the base

@@ -7,6 +7,7 @@ import (
 	"math"
 	"reflect"
 	"runtime"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -66,6 +67,7 @@ func levelParallelCases() []struct {
 		{"soup", soup, LevelOptions{}},
 		{"soup reused", soup, LevelOptions{Reuse: true, DropNormals: true}},
 		{"doubled cloud", doubled, LevelOptions{Reuse: true}},
+		{"soup by winding", func() *Cloud { c := soup(); c.FacetNormals = nil; return c }, LevelOptions{}},
 	}
 }
 
@@ -153,5 +155,49 @@ func TestProfileFrom(t *testing.T) {
 			}
 		}
 		rb.profile(s0, seq)
+	}
+}
+
+// TestLevelFirstBadInput: with the input checked in parts at once, the
+// error still names the first bad point or triangle in order.
+func TestLevelFirstBadInput(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	base := synthBase{R: 0.05, Mesh: true, StepM: 2e-3, Seed: 3}
+	for _, tc := range []struct {
+		name  string
+		spoil func(c *Cloud)
+		want  string
+	}{
+		{"points", func(c *Cloud) {
+			n := len(c.Points)
+			c.Points[n-5].Y = math.Inf(1)
+			c.Points[n/2+1].X = math.NaN()
+			c.Points[n/3].Z = math.Inf(-1)
+		}, "point %d has a non-finite coordinate (%g, %g, %g)"},
+		{"triangles", func(c *Cloud) {
+			n := len(c.Triangles)
+			c.Triangles[n-2][0] = -1
+			c.Triangles[n/2+3][2] = int32(len(c.Points))
+			c.Triangles[n/4][1] = int32(len(c.Points) + 7)
+		}, "triangle %d refers to vertex %d of %d"},
+	} {
+		for _, procs := range []int{1, 2, 4} {
+			runtime.GOMAXPROCS(procs)
+			c := base.build()
+			tc.spoil(c)
+			var want string
+			if tc.name == "points" {
+				i := len(c.Points) / 3
+				p := c.Points[i]
+				want = fmt.Sprintf(tc.want, i, p.X, p.Y, p.Z)
+			} else {
+				i := len(c.Triangles) / 4
+				want = fmt.Sprintf(tc.want, i, len(c.Points)+7, len(c.Points))
+			}
+			_, err := Level(c, LevelOptions{})
+			if err == nil || !strings.Contains(err.Error(), want) {
+				t.Errorf("%s, %d processors: error %v, want one containing %q", tc.name, procs, err, want)
+			}
+		}
 	}
 }
