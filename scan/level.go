@@ -485,9 +485,12 @@ func mergeRepeats(c *Cloud, out *Levelled) (pts []r3.Vec, rep []int32, merged in
 func firstPlane(pts []r3.Vec, sc *levelScratch) ([]r3.Vec, frame, error) {
 	stride := max(1, (len(pts)+149999)/150000)
 	sub := sc.vecs.get(0, max(len(pts)/stride+1, len(pts)/refitStride(len(pts))+1))
-	for i := 0; i < len(pts); i += stride {
-		sub = append(sub, pts[i])
-	}
+	sub = sub[:(len(pts)+stride-1)/stride]
+	parallelRows(len(sub), func(t0, t1 int) {
+		for t := t0; t < t1; t++ {
+			sub[t] = pts[t*stride]
+		}
+	})
 	if t := trimFar(sub); len(t) != len(sub) {
 		sub = append(sub[:0], t...) // keep the buffer for refitPlane
 	}
@@ -506,11 +509,13 @@ func firstPlane(pts []r3.Vec, sc *levelScratch) ([]r3.Vec, frame, error) {
 // subsample's coordinates in it (m), its coarse grid and the cell edge g (m).
 func tiltFrame(sub []r3.Vec, f frame, tanCoarse float64) (frame, [][3]float64, *coarseGrid, float64, error) {
 	uvw := make([][3]float64, len(sub))
-	project := func() {
-		for i, p := range sub {
-			u, v, w := f.coords(p)
-			uvw[i] = [3]float64{u, v, w}
-		}
+	project := func() { // parts of the points at once
+		parallelRows(len(sub), func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				u, v, w := f.coords(sub[i])
+				uvw[i] = [3]float64{u, v, w}
+			}
+		})
 	}
 	project()
 	g := coarseCellSize(uvw)
@@ -611,15 +616,27 @@ func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt Leve
 // candidate plane (c1, n2) is kept.
 func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n2 r3.Vec, sc *levelScratch) frame {
 	stride2 := refitStride(len(pts))
-	basePts := sc.vecs.get(0, len(pts)/stride2+1)
+	// Parts of the subsample are tested at once, each packing its base
+	// points at its own start; the blocks are then packed in order.
+	nTake := (len(pts) + stride2 - 1) / stride2
+	basePts := sc.vecs.get(nTake, 0)
 	defer func() { sc.vecs.put(basePts) }()
-	for i := 0; i < len(pts); i += stride2 {
-		u, v, _ := f.coords(pts[i])
-		du, dv := u-rim.u, v-rim.v
-		if du*du+dv*dv <= radius*radius {
-			basePts = append(basePts, pts[i])
+	parts := rowParts(nTake)
+	cnt := make([]int, parts)
+	parallelParts(nTake, parts, func(k, t0, t1 int) {
+		o := t0
+		for t := t0; t < t1; t++ {
+			p := pts[t*stride2]
+			u, v, _ := f.coords(p)
+			du, dv := u-rim.u, v-rim.v
+			if du*du+dv*dv <= radius*radius {
+				basePts[o] = p
+				o++
+			}
 		}
-	}
+		cnt[k] = o - t0
+	})
+	basePts = basePts[:packBlocks(basePts, nTake, cnt)[parts]]
 	if c2, n3, ok := robustPlane(basePts, sc); ok {
 		if n3.Z < 0 {
 			n3 = r3.Scale(-1, n3)
@@ -758,14 +775,18 @@ func robustPlane(pts []r3.Vec, sc *levelScratch) (c, n r3.Vec, ok bool) {
 	work := sc.floats.get(len(pts), 0)
 	defer sc.floats.put(d, work)
 	for range 5 {
-		for i, p := range pts {
-			d[i] = r3.Dot(r3.Sub(p, c), n)
-		}
-		copy(work, d)
+		parallelRows(len(pts), func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				d[i] = r3.Dot(r3.Sub(pts[i], c), n)
+				work[i] = d[i]
+			}
+		})
 		med := medianInPlace(work)
-		for i := range work {
-			work[i] = math.Abs(d[i] - med)
-		}
+		parallelRows(len(pts), func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				work[i] = math.Abs(d[i] - med)
+			}
+		})
 		lim := 3.5 * 1.4826 * medianInPlace(work)
 		kept := 0
 		for i := range pts {
