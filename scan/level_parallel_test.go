@@ -201,3 +201,30 @@ func TestLevelFirstBadInput(t *testing.T) {
 		}
 	}
 }
+
+// TestOrderedSum: the sum over values computed in parts is bit for bit
+// the sequential loop's, for values whose sum depends on the order of
+// addition, over several blocks, on 1 to 4 processors.
+func TestOrderedSum(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	value := func(i int) (float64, bool) {
+		x := math.Sin(float64(i)) * math.Pow(10, float64(i%31-15))
+		return x, i%7 != 3
+	}
+	for _, n := range []int{0, 1, 17, 1 << 15, 100003} {
+		want, wantN := 0.0, 0
+		for i := range n {
+			if x, ok := value(i); ok {
+				want += x
+				wantN++
+			}
+		}
+		for _, procs := range []int{1, 2, 3, 4} {
+			runtime.GOMAXPROCS(procs)
+			got, gotN := orderedSum(n, value)
+			if math.Float64bits(got) != math.Float64bits(want) || gotN != wantN {
+				t.Errorf("n %d, %d processors: sum %v of %d values, want %v of %d", n, procs, got, gotN, want, wantN)
+			}
+		}
+	}
+}
