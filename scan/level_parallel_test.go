@@ -228,3 +228,22 @@ func TestOrderedSum(t *testing.T) {
 		}
 	}
 }
+
+// TestLevelNonFiniteEachCoordinate: a NaN or infinite value in any one
+// coordinate is reported; the largest finite values are not.
+func TestLevelNonFiniteEachCoordinate(t *testing.T) {
+	base := synthBase{R: 0.05, Mesh: true, StepM: 3e-3, Seed: 4}
+	for _, x := range []float64{math.NaN(), math.Inf(1), math.Inf(-1), math.MaxFloat64, -math.MaxFloat64, math.SmallestNonzeroFloat64} {
+		for k := range 3 {
+			c := base.build()
+			c.Triangles = nil
+			p := &c.Points[len(c.Points)/2]
+			*[3]*float64{&p.X, &p.Y, &p.Z}[k] = x
+			_, err := Level(c, LevelOptions{})
+			bad := err != nil && strings.Contains(err.Error(), "non-finite")
+			if want := math.IsNaN(x) || math.IsInf(x, 0); bad != want {
+				t.Errorf("coordinate %d = %g: error %v, want a non-finite error %v", k, x, err, want)
+			}
+		}
+	}
+}
