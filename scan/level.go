@@ -5,13 +5,12 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"strings"
-	"sync"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"gapflux/internal/order"
+	"gapflux/internal/parallel"
 )
 
 // DefaultMaxSlopeDeg is the default rim slope limit, degrees: the base ends
@@ -334,7 +333,8 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	pts, rep, merged := mergeRepeats(c, out)
 
 	// 1. First plane from a subsample, without far strays.
-	sub, f, err := firstPlane(pts)
+	sc := &levelScratch{}
+	sub, f, err := firstPlane(pts, sc)
 	if err != nil {
 		return nil, err
 	}
@@ -346,24 +346,25 @@ func level(c *Cloud, opt LevelOptions) (*Levelled, error) {
 	}
 
 	// 3. Base candidate by flood fill; plane on its inner part.
-	f, uc, vc, r0, c1, n2, err := baseCandidate(sub, uvw, cg, g, f, tanCoarse)
+	f, uc, vc, r0, c1, n2, err := baseCandidate(sub, uvw, cg, g, f, tanCoarse, sc)
 	if err != nil {
 		return nil, err
 	}
 
 	// 4. Rim circle, searched out to where the scan ends (a warped base
 	// may reach well beyond its flat part).
-	rim, radius, err := rimCircle(pts, sub, &f, uc, vc, r0, tanMax, opt, out)
+	rim, radius, err := rimCircle(pts, sub, &f, uc, vc, r0, tanMax, opt, out, sc)
 	if err != nil {
 		return nil, err
 	}
+	sc.vecs.put(sub)
 	centre := r3.Add(f.o, r3.Add(r3.Scale(rim.u, f.e[0]), r3.Scale(rim.v, f.e[1])))
 
 	// 5. Plane refit on the base inside the rim.
-	f = refitPlane(pts, f, rim, radius, centre, c1, n2)
+	f = refitPlane(pts, f, rim, radius, centre, c1, n2, sc)
 
 	// 6. Outer face. up is the base normal oriented to scanner +z.
-	bf := faceFrame(c, pts, f, radius, rim.dr, opt, out)
+	bf := faceFrame(c, pts, f, radius, rim.dr, opt, out, sc)
 	out.Rotation = [3][3]float64{
 		{bf.e[0].X, bf.e[0].Y, bf.e[0].Z},
 		{bf.e[1].X, bf.e[1].Y, bf.e[1].Z},
@@ -412,10 +413,21 @@ func checkLevelInput(c *Cloud, opt LevelOptions) (tanMax, tanCoarse float64, err
 	if len(pts) < minLevelPoints {
 		return 0, 0, fmt.Errorf("scan: level: %d points; need at least %d to find the base", len(pts), minLevelPoints)
 	}
-	for i, p := range pts {
-		if !finite3(p) {
-			return 0, 0, fmt.Errorf("scan: level: point %d has a non-finite coordinate (%g, %g, %g)", i, p.X, p.Y, p.Z)
+	// Parts of the points are checked at once; the first bad one in order
+	// is reported.
+	if i, bad := parallel.First(len(pts), rowParts(len(pts)), func(lo, hi int) (int, bool) {
+		for i := lo; i < hi; i++ {
+			// x·0 is ±0 for finite x and NaN for ±Inf and NaN, so the
+			// sum is 0 exactly when the three coordinates are finite:
+			// one test instead of six.
+			if p := pts[i]; p.X*0+p.Y*0+p.Z*0 != 0 {
+				return i, true
+			}
 		}
+		return 0, false
+	}); bad {
+		p := pts[i]
+		return 0, 0, fmt.Errorf("scan: level: point %d has a non-finite coordinate (%g, %g, %g)", i, p.X, p.Y, p.Z)
 	}
 	if len(c.Normals) != 0 && len(c.Normals) != len(pts) {
 		return 0, 0, fmt.Errorf("scan: level: %d normals for %d points", len(c.Normals), len(pts))
@@ -423,14 +435,29 @@ func checkLevelInput(c *Cloud, opt LevelOptions) (tanMax, tanCoarse float64, err
 	if len(c.FacetNormals) != 0 && len(c.FacetNormals) != len(c.Triangles) {
 		return 0, 0, fmt.Errorf("scan: level: %d facet normals for %d triangles", len(c.FacetNormals), len(c.Triangles))
 	}
-	for t, tri := range c.Triangles {
-		for _, v := range tri {
-			if v < 0 || int(v) >= len(pts) {
-				return 0, 0, fmt.Errorf("scan: level: triangle %d refers to vertex %d of %d", t, v, len(pts))
+	tris := c.Triangles
+	if t, bad := parallel.First(len(tris), rowParts(len(tris)), func(lo, hi int) (int, bool) {
+		for t := lo; t < hi; t++ {
+			if badTriangle(tris[t], len(pts)) >= 0 {
+				return t, true
 			}
 		}
+		return 0, false
+	}); bad {
+		return 0, 0, fmt.Errorf("scan: level: triangle %d refers to vertex %d of %d", t, tris[t][badTriangle(tris[t], len(pts))], len(pts))
 	}
 	return tanMax, tanCoarse, nil
+}
+
+// badTriangle returns the first corner of tri that is not a vertex index
+// below n, or −1 when all are.
+func badTriangle(tri [3]int32, n int) int {
+	for k, v := range tri {
+		if v < 0 || int(v) >= n {
+			return k
+		}
+	}
+	return -1
 }
 
 // mergeRepeats returns the cloud's points with exact repeats counted once,
@@ -456,14 +483,20 @@ func mergeRepeats(c *Cloud, out *Levelled) (pts []r3.Vec, rep []int32, merged in
 
 // firstPlane returns a subsample of at most about 150000 points without
 // far strays and the frame of their principal-component plane, its
-// normal towards scanner +z.
-func firstPlane(pts []r3.Vec) ([]r3.Vec, frame, error) {
+// normal towards scanner +z. The subsample's buffer comes from sc, large
+// enough for refitPlane's subsample too, which takes it over.
+func firstPlane(pts []r3.Vec, sc *levelScratch) ([]r3.Vec, frame, error) {
 	stride := max(1, (len(pts)+149999)/150000)
-	sub := make([]r3.Vec, 0, len(pts)/stride+1)
-	for i := 0; i < len(pts); i += stride {
-		sub = append(sub, pts[i])
+	sub := sc.vecs.get(0, max(len(pts)/stride+1, len(pts)/refitStride(len(pts))+1))
+	sub = sub[:(len(pts)+stride-1)/stride]
+	parallelRows(len(sub), func(t0, t1 int) {
+		for t := t0; t < t1; t++ {
+			sub[t] = pts[t*stride]
+		}
+	})
+	if t := trimFar(sub); len(t) != len(sub) {
+		sub = append(sub[:0], t...) // keep the buffer for refitPlane
 	}
-	sub = trimFar(sub)
 	c0, n0, ok := pcaPlane(sub)
 	if !ok {
 		return nil, frame{}, errors.New("scan: level: points are degenerate (all on a line or a point)")
@@ -479,11 +512,13 @@ func firstPlane(pts []r3.Vec) ([]r3.Vec, frame, error) {
 // subsample's coordinates in it (m), its coarse grid and the cell edge g (m).
 func tiltFrame(sub []r3.Vec, f frame, tanCoarse float64) (frame, [][3]float64, *coarseGrid, float64, error) {
 	uvw := make([][3]float64, len(sub))
-	project := func() {
-		for i, p := range sub {
-			u, v, w := f.coords(p)
-			uvw[i] = [3]float64{u, v, w}
-		}
+	project := func() { // parts of the points at once
+		parallelRows(len(sub), func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				u, v, w := f.coords(sub[i])
+				uvw[i] = [3]float64{u, v, w}
+			}
+		})
 	}
 	project()
 	g := coarseCellSize(uvw)
@@ -506,7 +541,7 @@ func tiltFrame(sub []r3.Vec, f frame, tanCoarse float64) (frame, [][3]float64, *
 // fits a robust plane to its inner part (radius 0.9 r0). It returns that
 // plane's frame, the candidate's centre (uc, vc) in it and its
 // equal-area radius r0 (m), and the plane's point c1 and normal n2.
-func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f frame, tanCoarse float64) (
+func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f frame, tanCoarse float64, sc *levelScratch) (
 	nf frame, uc, vc, r0 float64, c1, n2 r3.Vec, err error) {
 	comp := cg.baseComponent(tanCoarse)
 	if len(comp) < 4 {
@@ -524,7 +559,8 @@ func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f 
 	for _, q := range comp {
 		inComp[q] = true
 	}
-	inner := make([]r3.Vec, 0, len(sub))
+	inner := sc.vecs.get(0, len(sub))
+	defer func() { sc.vecs.put(inner) }()
 	for i, p := range sub {
 		du, dv := uvw[i][0]-uc, uvw[i][1]-vc
 		if du*du+dv*dv <= 0.81*r0*r0 && inComp[cg.cellOfPt[i]] {
@@ -532,7 +568,7 @@ func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f 
 		}
 	}
 	centre := r3.Add(f.o, r3.Add(r3.Scale(uc, f.e[0]), r3.Scale(vc, f.e[1])))
-	c1, n2, ok := robustPlane(inner)
+	c1, n2, ok := robustPlane(inner, sc)
 	if !ok {
 		return f, 0, 0, 0, c1, n2, errors.New("scan: level: base candidate is degenerate")
 	}
@@ -547,9 +583,9 @@ func baseCandidate(sub []r3.Vec, uvw [][3]float64, cg *coarseGrid, g float64, f 
 // rimCircle fits the footprint circle (fitRim, or outlineRim for sparse
 // scans) and returns it with the base radius used (m): the fitted one, or
 // half opt.DiameterM when given. Warnings go to out.
-func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt LevelOptions, out *Levelled) (rimFit, float64, error) {
+func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt LevelOptions, out *Levelled, sc *levelScratch) (rimFit, float64, error) {
 	rq := extentRadius(sub, f, uc, vc)
-	rim, err := fitRim(pts, f, uc, vc, r0, rq, tanMax)
+	rim, err := fitRim(pts, f, uc, vc, r0, rq, tanMax, sc)
 	if err != nil {
 		// Sparse scans (a few points per millimetre of rim) defeat the
 		// profile search: fall back to a circle through the outline of
@@ -581,17 +617,30 @@ func rimCircle(pts, sub []r3.Vec, f *frame, uc, vc, r0, tanMax float64, opt Leve
 // (a subsample of at most about 200000) and returns its frame with origin
 // at the footprint centre moved onto the plane; when the fit fails, the
 // candidate plane (c1, n2) is kept.
-func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n2 r3.Vec) frame {
-	stride2 := max(1, (len(pts)+199999)/200000)
-	basePts := make([]r3.Vec, 0, len(pts)/stride2+1)
-	for i := 0; i < len(pts); i += stride2 {
-		u, v, _ := f.coords(pts[i])
-		du, dv := u-rim.u, v-rim.v
-		if du*du+dv*dv <= radius*radius {
-			basePts = append(basePts, pts[i])
+func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n2 r3.Vec, sc *levelScratch) frame {
+	stride2 := refitStride(len(pts))
+	// Parts of the subsample are tested at once, each packing its base
+	// points at its own start; the blocks are then packed in order.
+	nTake := (len(pts) + stride2 - 1) / stride2
+	basePts := sc.vecs.get(nTake, 0)
+	defer func() { sc.vecs.put(basePts) }()
+	parts := rowParts(nTake)
+	cnt := make([]int, parts)
+	parallelParts(nTake, parts, func(k, t0, t1 int) {
+		o := t0
+		for t := t0; t < t1; t++ {
+			p := pts[t*stride2]
+			u, v, _ := f.coords(p)
+			du, dv := u-rim.u, v-rim.v
+			if du*du+dv*dv <= radius*radius {
+				basePts[o] = p
+				o++
+			}
 		}
-	}
-	if c2, n3, ok := robustPlane(basePts); ok {
+		cnt[k] = o - t0
+	})
+	basePts = basePts[:packBlocks(basePts, nTake, cnt)[parts]]
+	if c2, n3, ok := robustPlane(basePts, sc); ok {
 		if n3.Z < 0 {
 			n3 = r3.Scale(-1, n3)
 		}
@@ -602,18 +651,22 @@ func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n
 	return newFrame(r3.Sub(centre, r3.Scale(r3.Dot(r3.Sub(centre, c1), n2), n2)), n2)
 }
 
+// refitStride is the step of refitPlane's subsample of n points: at most
+// about 200000 of them.
+func refitStride(n int) int { return max(1, (n+199999)/200000) }
+
 // faceFrame decides which side of the base is the outer face (from the
 // face option, the normals, the wall, or assumed towards the scanner) and
 // returns the base frame: +z into the pan (out of the hob with
 // opt.HobTop). The source and any warnings go to out.
-func faceFrame(c *Cloud, pts []r3.Vec, f frame, radius, dr float64, opt LevelOptions, out *Levelled) frame {
+func faceFrame(c *Cloud, pts []r3.Vec, f frame, radius, dr float64, opt LevelOptions, out *Levelled, sc *levelScratch) frame {
 	up := f.e[2]
 	if math.Abs(up.Z) < 0.5 {
 		out.Warnings = append(out.Warnings, fmt.Sprintf("the base plane is %.0f° from the scanner's x-y plane; face up/down refers to scanner +z",
 			math.Acos(math.Abs(up.Z))*180/math.Pi))
 	}
 	nSign, nDetail := normalsFace(c, &f, radius)
-	wSign := wallFace(pts, &f, radius, dr)
+	wSign := wallFace(pts, &f, radius, dr, sc)
 	var zSign float64 // +1: base +z along up, −1: against up
 	switch {
 	case opt.Face != "":
@@ -651,127 +704,6 @@ func faceFrame(c *Cloud, pts []r3.Vec, f frame, radius, dr float64, opt LevelOpt
 	return newFrame(f.o, ez)
 }
 
-// keepBase keeps the points of pts (all the cloud's points) inside the
-// base cylinder (radius m, height within far of the plane), each repeated
-// point once, moves them and the cloud's normals and triangles into the
-// base frame bf, and records the drops in out. band (m) is the rim
-// search's largest base height. With reuse the cloud's storage is reused
-// and c is emptied.
-func keepBase(c *Cloud, pts []r3.Vec, rep []int32, merged int, bf *frame, radius, band float64, reuse bool, out *Levelled) (*Levelled, error) {
-	far := max(0.1*radius, 1.5*band+0.02*radius)
-	level := 1.5*band + 0.005*radius // base height, for the drop report
-	keep, drop := baseMask(pts, rep, bf, radius, far, level)
-	lc := &Cloud{Format: c.Format, Unit: c.Unit, UnitSource: c.UnitSource}
-	compactInto(lc, c, pts, rep, keep, bf, reuse)
-	out.Cloud = lc
-	out.PointsDropped = len(pts) - len(lc.Points) - merged
-	out.DroppedFraction = float64(out.PointsDropped) / float64(len(pts)-merged)
-	out.DroppedBeyondRim, out.DroppedAtBaseHeight, out.DroppedOffPlane = drop.beyond, drop.level, drop.offPlane
-	out.DroppedBySector = drop.sector
-	if out.DroppedFraction > DropReportFraction {
-		out.DropReason = drop.reason(len(pts)-merged, level, far)
-	}
-	if reuse {
-		*c = Cloud{} // its storage now belongs to the output
-	}
-	if len(lc.Points) < 3 {
-		return nil, errors.New("scan: level: fewer than 3 points left on the base")
-	}
-	return out, nil
-}
-
-// baseMask numbers the points kept on the base (index in the output, or
-// -1): not a repeat, within radius (m) of the axis and within far (m) of
-// the plane in frame bf. It tallies the dropped ones against the base
-// height level (m).
-func baseMask(pts []r3.Vec, rep []int32, bf *frame, radius, far, level float64) ([]int32, dropTally) {
-	keep := make([]int32, len(pts))
-	r2 := radius * radius
-	var drop dropTally
-	var mu sync.Mutex
-	// Parts of the points are tested at once (the tallies are counts);
-	// the kept ones are numbered in order afterwards.
-	parallelRows(len(pts), func(i0, i1 int) {
-		var d dropTally
-		for i := i0; i < i1; i++ {
-			u, v, w := bf.coords(pts[i])
-			if rep != nil && rep[i] != int32(i) {
-				keep[i] = -1
-				continue
-			}
-			if out := u*u+v*v > r2; out || math.Abs(w) > far {
-				keep[i] = -1
-				d.add(u, v, w, out, level)
-				continue
-			}
-			keep[i] = 0
-		}
-		mu.Lock()
-		drop.merge(&d)
-		mu.Unlock()
-	})
-	nKeep := int32(0)
-	for i, k := range keep {
-		if k >= 0 {
-			keep[i] = nKeep
-			nKeep++
-		}
-	}
-	return keep, drop
-}
-
-// compactInto fills lc with the kept points, normals, triangles and facet
-// normals of c, rotated into frame bf. With reuse the output takes c's
-// storage: kept items move to an index no larger than their own, so one
-// forward pass compacts them in place.
-func compactInto(lc, c *Cloud, pts []r3.Vec, rep, keep []int32, bf *frame, reuse bool) {
-	nKeep := 0
-	for _, k := range keep {
-		if k >= 0 {
-			nKeep++
-		}
-	}
-	if reuse {
-		lc.Points = pts[:0]
-		if len(c.Normals) != 0 {
-			lc.Normals = c.Normals[:0]
-		}
-		lc.Triangles = c.Triangles[:0]
-		if len(c.FacetNormals) != 0 {
-			lc.FacetNormals = c.FacetNormals[:0]
-		}
-	} else {
-		lc.Points = make([]r3.Vec, 0, nKeep)
-		if len(c.Normals) != 0 {
-			lc.Normals = make([]r3.Vec, 0, nKeep)
-		}
-	}
-	normals := c.Normals
-	for i, p := range pts {
-		if keep[i] < 0 {
-			continue
-		}
-		lc.Points = append(lc.Points, bf.rotate(r3.Sub(p, bf.o)))
-		if len(normals) != 0 {
-			lc.Normals = append(lc.Normals, bf.rotate(normals[i]))
-		}
-	}
-	facetNormals := c.FacetNormals
-	for t, tri := range c.Triangles {
-		if rep != nil {
-			tri = [3]int32{rep[tri[0]], rep[tri[1]], rep[tri[2]]}
-		}
-		a, b, d := keep[tri[0]], keep[tri[1]], keep[tri[2]]
-		if a < 0 || b < 0 || d < 0 {
-			continue
-		}
-		lc.Triangles = append(lc.Triangles, [3]int32{a, b, d})
-		if len(facetNormals) != 0 {
-			lc.FacetNormals = append(lc.FacetNormals, bf.rotate(facetNormals[t]))
-		}
-	}
-}
-
 // rotate expresses the direction d in the frame's axes.
 func (f *frame) rotate(d r3.Vec) r3.Vec {
 	return r3.Vec{X: r3.Dot(d, f.e[0]), Y: r3.Dot(d, f.e[1]), Z: r3.Dot(d, f.e[2])}
@@ -781,69 +713,94 @@ func (f *frame) rotate(d r3.Vec) r3.Vec {
 // covariance with the smallest eigenvalue. ok is false when the points do
 // not span a plane.
 func pcaPlane(pts []r3.Vec) (c, n r3.Vec, ok bool) {
-	if len(pts) < 3 {
-		return c, n, false
+	return pcaPlaneNear(pts, nil, 0, 0)
+}
+
+// pcaPlaneNear is pcaPlane over the points i of pts with |d[i] − med| ≤
+// lim (every point when d is nil), summed in order as over a list of them.
+func pcaPlaneNear(pts []r3.Vec, d []float64, med, lim float64) (c, n r3.Vec, ok bool) {
+	in := func(i int) bool { return d == nil || math.Abs(d[i]-med) <= lim }
+	m := 0
+	for i, p := range pts {
+		if in(i) {
+			c = r3.Add(c, p)
+			m++
+		}
 	}
-	for _, p := range pts {
-		c = r3.Add(c, p)
+	if m < 3 {
+		return r3.Vec{}, n, false
 	}
-	c = r3.Scale(1/float64(len(pts)), c)
+	c = r3.Scale(1/float64(m), c)
 	var sxx, sxy, sxz, syy, syz, szz float64
-	for _, p := range pts {
-		d := r3.Sub(p, c)
-		sxx += d.X * d.X
-		sxy += d.X * d.Y
-		sxz += d.X * d.Z
-		syy += d.Y * d.Y
-		syz += d.Y * d.Z
-		szz += d.Z * d.Z
+	for i, p := range pts {
+		if !in(i) {
+			continue
+		}
+		q := r3.Sub(p, c)
+		sxx += q.X * q.X
+		sxy += q.X * q.Y
+		sxz += q.X * q.Z
+		syy += q.Y * q.Y
+		syz += q.Y * q.Z
+		szz += q.Z * q.Z
 	}
-	cov := mat.NewSymDense(3, []float64{sxx, sxy, sxz, sxy, syy, syz, sxz, syz, szz})
+	return planeNormal(c, [6]float64{sxx, sxy, sxz, syy, syz, szz})
+}
+
+// planeNormal returns c and the unit eigenvector of the covariance s (xx,
+// xy, xz, yy, yz, zz) with the smallest eigenvalue; ok is false when the
+// points do not span a plane.
+func planeNormal(c r3.Vec, s [6]float64) (r3.Vec, r3.Vec, bool) {
+	cov := mat.NewSymDense(3, []float64{s[0], s[1], s[2], s[1], s[3], s[4], s[2], s[4], s[5]})
 	var es mat.EigenSym
 	if !es.Factorize(cov, true) {
-		return c, n, false
+		return c, r3.Vec{}, false
 	}
 	vals := es.Values(nil)
 	if !(vals[1] > 1e-12*vals[2]) {
-		return c, n, false
+		return c, r3.Vec{}, false
 	}
 	var vec mat.Dense
 	es.VectorsTo(&vec)
-	n = r3.Unit(r3.Vec{X: vec.At(0, 0), Y: vec.At(1, 0), Z: vec.At(2, 0)})
-	return c, n, true
+	return c, r3.Unit(r3.Vec{X: vec.At(0, 0), Y: vec.At(1, 0), Z: vec.At(2, 0)}), true
 }
 
 // robustPlane fits a plane by principal components, then refits without
 // the points further than 3.5 robust standard deviations (1.4826 × median
-// absolute deviation) from it, up to five times.
-func robustPlane(pts []r3.Vec) (c, n r3.Vec, ok bool) {
+// absolute deviation) from it, up to five times. Its scratch comes from
+// and goes back to sc.
+func robustPlane(pts []r3.Vec, sc *levelScratch) (c, n r3.Vec, ok bool) {
 	c, n, ok = pcaPlane(pts)
 	if !ok {
 		return c, n, false
 	}
-	d := make([]float64, len(pts))
-	work := make([]float64, len(pts))
-	kept := make([]r3.Vec, 0, len(pts))
+	d := sc.floats.get(len(pts), 0)
+	work := sc.floats.get(len(pts), 0)
+	defer sc.floats.put(d, work)
 	for range 5 {
-		for i, p := range pts {
-			d[i] = r3.Dot(r3.Sub(p, c), n)
-		}
-		copy(work, d)
+		parallelRows(len(pts), func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				d[i] = r3.Dot(r3.Sub(pts[i], c), n)
+				work[i] = d[i]
+			}
+		})
 		med := medianInPlace(work)
-		for i := range work {
-			work[i] = math.Abs(d[i] - med)
-		}
+		parallelRows(len(pts), func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				work[i] = math.Abs(d[i] - med)
+			}
+		})
 		lim := 3.5 * 1.4826 * medianInPlace(work)
-		kept = kept[:0]
-		for i, p := range pts {
+		kept := 0
+		for i := range pts {
 			if math.Abs(d[i]-med) <= lim {
-				kept = append(kept, p)
+				kept++
 			}
 		}
-		if len(kept) == len(pts) || len(kept) < 3 {
+		if kept == len(pts) || kept < 3 {
 			break
 		}
-		c2, n2, ok2 := pcaPlane(kept)
+		c2, n2, ok2 := pcaPlaneNear(pts, d, med, lim)
 		if !ok2 {
 			break
 		}
@@ -1091,189 +1048,6 @@ type rimFit struct {
 	warped int
 }
 
-// fitRim finds the base rim along radial profiles in angular sectors about
-// (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
-func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64) (rimFit, error) {
-	rb, err := binRim(pts, f, uc, vc, r0, rq)
-	if err != nil {
-		return rimFit{}, err
-	}
-	ns, nb, dr := rb.ns, rb.nb, rb.dr
-	sp := &rimProfile{
-		prof:  make([]float64, nb), // median height per bin
-		pos:   make([]float64, nb), // mean radius per bin
-		valid: make([]bool, nb),
-	}
-	var eu, ev []float64
-	kStart := int((0.6*r0 - rb.rlo) / dr)
-	var band float64
-	var warped int
-	for s := range ns {
-		rb.profile(s, sp)
-		trend := profileTrend(sp.prof, sp.pos, sp.valid, 0.6*r0, 0.9*r0)
-		thr := sp.slopeLimit(trend, kStart, r0, tanMax)
-		edge, top, warp := sp.edge(trend, thr, kStart, rb.rlo, dr, r0)
-		if edge < 0 {
-			continue
-		}
-		if warp {
-			warped++
-		}
-		band = max(band, top)
-		th := -math.Pi + (float64(s)+0.5)*2*math.Pi/float64(ns)
-		eu = append(eu, uc+edge*math.Cos(th))
-		ev = append(ev, vc+edge*math.Sin(th))
-	}
-	res := rimFit{sectors: ns, dr: dr, band: band, warped: warped}
-	if len(eu) < 3 {
-		return res, fmt.Errorf("scan: level: base rim found in %d of %d sectors; cannot fit the footprint circle", len(eu), ns)
-	}
-	cu, cv, r, used, ok := robustCircle(eu, ev, dr)
-	if !ok {
-		return res, errors.New("scan: level: rim circle fit failed")
-	}
-	res.u, res.v, res.r, res.used = cu, cv, r, used
-	return res, nil
-}
-
-// rimMinCount is the fewest points a (sector, radial bin) needs to count.
-const rimMinCount = 4
-
-// rimBins holds the points of the rim annulus sorted by (sector, radial
-// bin): bin k of sector s holds ws[start[s*nb+k]:start[s*nb+k+1]] (heights,
-// m) and rs[...] (radii from the centre, m). Radial bins of width dr (m)
-// start at radius rlo (m).
-type rimBins struct {
-	ns, nb  int
-	rlo, dr float64
-	start   []int32
-	ws, rs  []float64
-}
-
-// annulusPoints returns the radius (m), angle (rad) and height (m) of the
-// points between radii rlo and rhi (m) about (uc, vc), thinned to some 30
-// points per bin of r0/400 in 72 sectors, with the thinning step and the
-// point density of the inner disc (radius 0.9 r0) in points per m².
-func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64) (ar, aa, aw []float64, rho float64) {
-	// Density from the inner disc; parts of the points are counted at once.
-	nInner, nAnn := 0, 0
-	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
-	var mu sync.Mutex
-	parallelRows(len(pts), func(i0, i1 int) {
-		ni, na := 0, 0
-		for _, p := range pts[i0:i1] {
-			u, v, _ := f.coords(p)
-			du, dv := u-uc, v-vc
-			rr := du*du + dv*dv
-			if rr < in2 {
-				ni++
-			}
-			if rr >= lo2 && rr < hi2 {
-				na++
-			}
-		}
-		mu.Lock()
-		nInner, nAnn = nInner+ni, nAnn+na
-		mu.Unlock()
-	})
-	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
-	// denser scans.
-	step := max(1, nAnn/(30*72*int(400*(rhi-rlo)/r0)))
-	// Parts of the thinned points are taken at once: each counts its
-	// annulus points, then writes them at its offset, in point order.
-	nTake := (len(pts) + step - 1) / step
-	in := func(t int) (du, dv, w, rr float64, ok bool) {
-		u, v, w := f.coords(pts[t*step])
-		du, dv = u-uc, v-vc
-		rr = du*du + dv*dv
-		return du, dv, w, rr, rr >= lo2 && rr < hi2
-	}
-	parts := rowParts(nTake)
-	off := make([]int, parts+1)
-	parallelParts(nTake, parts, func(k, t0, t1 int) {
-		c := 0
-		for t := t0; t < t1; t++ {
-			if _, _, _, _, ok := in(t); ok {
-				c++
-			}
-		}
-		off[k+1] = c
-	})
-	for k := range parts {
-		off[k+1] += off[k]
-	}
-	ar, aa, aw = make([]float64, off[parts]), make([]float64, off[parts]), make([]float64, off[parts])
-	parallelParts(nTake, parts, func(k, t0, t1 int) {
-		o := off[k]
-		for t := t0; t < t1; t++ {
-			if du, dv, w, rr, ok := in(t); ok {
-				ar[o], aa[o], aw[o] = math.Sqrt(rr), math.Atan2(dv, du), w
-				o++
-			}
-		}
-	})
-	rho = float64(nInner/step) / (math.Pi * 0.81 * r0 * r0) // points per m²
-	return ar, aa, aw, rho
-}
-
-// binRim sorts the points of the annulus about (uc, vc) that may hold the
-// rim (r0 is the first guess of the radius, rq the scan's extent, m) into
-// angular sectors and radial bins. The sector count follows the point
-// density; the bins are widened while more than a fifth of the inner ones
-// (0.6–0.9 r0) are empty (structured meshes and scan lines leave regular
-// gaps).
-func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64) (*rimBins, error) {
-	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
-	ar, aa, aw, rho := annulusPoints(pts, f, uc, vc, r0, rlo, rhi)
-	ring := rho * 2 * math.Pi * r0 // points per m of radius, all sectors
-	ns := min(72, max(24, int(ring*r0/400/20)))
-	dr := max(r0/400, 20*float64(ns)/ring)
-	var nb, nsb int
-	var start []int32
-	key := make([]int32, len(ar))
-	for try := 0; ; try++ {
-		nb = int(math.Ceil((rhi - rlo) / dr))
-		if nb < 8 {
-			return nil, errors.New("scan: level: too few points near the rim")
-		}
-		nsb = ns * nb
-		start = make([]int32, nsb+1)
-		for i := range ar {
-			s := int((aa[i] + math.Pi) / (2 * math.Pi) * float64(ns))
-			s = min(ns-1, max(0, s))
-			bb := min(nb-1, int((ar[i]-rlo)/dr))
-			key[i] = int32(s*nb + bb)
-			start[key[i]+1]++
-		}
-		k0, k1 := int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)
-		full, all := 0, 0
-		for s := range ns {
-			for bb := k0; bb < k1; bb++ {
-				all++
-				if start[s*nb+bb+1] >= rimMinCount {
-					full++
-				}
-			}
-		}
-		for k := range nsb {
-			start[k+1] += start[k]
-		}
-		if 5*full >= 4*all || try == 5 {
-			break
-		}
-		dr *= 1.5
-	}
-	ws := make([]float64, len(ar))
-	rs := make([]float64, len(ar))
-	fill := append([]int32(nil), start[:nsb]...)
-	for i, k := range key {
-		ws[fill[k]] = aw[i]
-		rs[fill[k]] = ar[i]
-		fill[k]++
-	}
-	return &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, start: start, ws: ws, rs: rs}, nil
-}
-
 // rimProfile is one sector's radial profile: per radial bin the median
 // height (m), the mean radius (m) and whether the bin holds enough points.
 type rimProfile struct {
@@ -1291,11 +1065,7 @@ func (rb *rimBins) profile(s int, sp *rimProfile) {
 			continue
 		}
 		sp.prof[bb] = medianInPlace(rb.ws[lo:hi])
-		m := 0.0
-		for _, r := range rb.rs[lo:hi] {
-			m += r
-		}
-		sp.pos[bb] = m / float64(hi-lo)
+		sp.pos[bb] = rb.mean[s*rb.nb+bb]
 	}
 }
 
@@ -1716,129 +1486,6 @@ func kasaCircle(u, v []float64, keep []bool) (cu, cv, r float64, ok bool) {
 		return 0, 0, 0, false
 	}
 	return cu*sc + mu, cv*sc + mv, math.Sqrt(r2) * sc, true
-}
-
-// normalsFace tells the outer face from facet normals, point normals or,
-// for STL meshes without facet normals, the facet winding (counter-
-// clockwise seen from outside): the outer face's normals point to the hob,
-// against base +z. It returns +1 when base +z is along the frame's normal,
-// −1 against it, 0 when there are no normals or they do not agree; detail
-// names the evidence (or why it was not used).
-func normalsFace(c *Cloud, f *frame, radius float64) (sign float64, detail string) {
-	r2 := radius * radius
-	inBase := func(p r3.Vec) bool {
-		u, v, _ := f.coords(p)
-		du, dv := u, v
-		return du*du+dv*dv <= r2
-	}
-	var sum float64
-	n := 0
-	what := ""
-	add := func(d r3.Vec) {
-		l := r3.Norm(d)
-		if l == 0 || math.IsNaN(l) || math.IsInf(l, 0) {
-			return
-		}
-		sum += r3.Dot(d, f.e[2]) / l
-		n++
-	}
-	switch {
-	case len(c.FacetNormals) != 0 && hasNonZero(c.FacetNormals):
-		what = "facet normals"
-		for t, tri := range c.Triangles {
-			if inBase(c.Points[tri[0]]) {
-				add(c.FacetNormals[t])
-			}
-		}
-	case len(c.Normals) != 0:
-		what = "point normals"
-		step := max(1, len(c.Points)/200000)
-		for i := 0; i < len(c.Points); i += step {
-			if inBase(c.Points[i]) {
-				add(c.Normals[i])
-			}
-		}
-	case len(c.Triangles) != 0 && strings.HasPrefix(c.Format, "stl"):
-		what = "STL facet winding"
-		for _, tri := range c.Triangles {
-			p0 := c.Points[tri[0]]
-			if inBase(p0) {
-				add(r3.Cross(r3.Sub(c.Points[tri[1]], p0), r3.Sub(c.Points[tri[2]], p0)))
-			}
-		}
-	default:
-		return 0, ""
-	}
-	if n == 0 {
-		return 0, ""
-	}
-	mean := sum / float64(n)
-	switch {
-	case mean >= 0.5:
-		return -1, what
-	case mean <= -0.5:
-		return 1, what
-	}
-	return 0, fmt.Sprintf("the %s on the base do not point one way (mean cosine %.2f); not used", what, mean)
-}
-
-func hasNonZero(v []r3.Vec) bool {
-	for _, d := range v {
-		if d != (r3.Vec{}) {
-			return true
-		}
-	}
-	return false
-}
-
-// wallFace tells the outer face from the points beyond the rim that rise
-// clear of the base (the corner and the wall rise into the pan). It
-// returns +1 when they lie along the frame's normal, −1 against it, 0 when
-// there are too few or they lie on both sides.
-func wallFace(pts []r3.Vec, f *frame, radius, dr float64) float64 {
-	step := max(1, len(pts)/500000)
-	var rimW []float64
-	var outer []float64
-	nBase := 0
-	for i := 0; i < len(pts); i += step {
-		u, v, w := f.coords(pts[i])
-		rr := math.Sqrt(u*u + v*v)
-		switch {
-		case rr <= radius:
-			nBase++
-			if rr >= 0.9*radius {
-				rimW = append(rimW, math.Abs(w))
-			}
-		case rr > radius+2*dr && rr < 2*radius:
-			outer = append(outer, w)
-		}
-	}
-	if len(rimW) == 0 || len(outer) == 0 {
-		return 0
-	}
-	k := min(len(rimW)-1, int(0.99*float64(len(rimW))))
-	hb := order.Select(rimW, k)
-	lim := hb + 0.01*radius
-	pos, neg := 0, 0
-	for _, w := range outer {
-		switch {
-		case w > lim:
-			pos++
-		case w < -lim:
-			neg++
-		}
-	}
-	tot := pos + neg
-	if tot < max(20, nBase/1000) {
-		return 0
-	}
-	switch {
-	case float64(pos) >= 0.8*float64(tot):
-		return 1
-	case float64(neg) >= 0.8*float64(tot):
-		return -1
-	}
-	return 0
 }
 
 // outlineRim fits the footprint circle to the outermost point near the base

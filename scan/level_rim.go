@@ -1,0 +1,321 @@
+package scan
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// sectorRim is one sector's result of the rim search: the rim radius (m,
+// negative when none was found), the largest |height| inside it (m) and
+// whether the base warps before it.
+type sectorRim struct {
+	edge, top float64
+	warp      bool
+}
+
+// fitRim finds the base rim along radial profiles in angular sectors about
+// (uc, vc) and fits a circle to it. r0 is a first guess of the radius.
+// The sectors are searched in parts at once; their rim points are then
+// gathered in sector order. Scratch comes from and goes back to sc.
+func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64, sc *levelScratch) (rimFit, error) {
+	rb, err := binRim(pts, f, uc, vc, r0, rq, sc)
+	if err != nil {
+		return rimFit{}, err
+	}
+	defer sc.floats.put(rb.ws)
+	ns, dr := rb.ns, rb.dr
+	kStart := int((0.6*r0 - rb.rlo) / dr)
+	sr := make([]sectorRim, ns)
+	parallelParts(ns, min(runtime.GOMAXPROCS(0), ns), func(_, s0, s1 int) {
+		sp := rb.profileFrom(s0)
+		for s := s0; s < s1; s++ {
+			rb.profile(s, sp)
+			trend := profileTrend(sp.prof, sp.pos, sp.valid, 0.6*r0, 0.9*r0)
+			thr := sp.slopeLimit(trend, kStart, r0, tanMax)
+			sr[s].edge, sr[s].top, sr[s].warp = sp.edge(trend, thr, kStart, rb.rlo, dr, r0)
+		}
+	})
+	var eu, ev []float64
+	var band float64
+	var warped int
+	for s, e := range sr {
+		if e.edge < 0 {
+			continue
+		}
+		if e.warp {
+			warped++
+		}
+		band = max(band, e.top)
+		th := -math.Pi + (float64(s)+0.5)*2*math.Pi/float64(ns)
+		eu = append(eu, uc+e.edge*math.Cos(th))
+		ev = append(ev, vc+e.edge*math.Sin(th))
+	}
+	res := rimFit{sectors: ns, dr: dr, band: band, warped: warped}
+	if len(eu) < 3 {
+		return res, fmt.Errorf("scan: level: base rim found in %d of %d sectors; cannot fit the footprint circle", len(eu), ns)
+	}
+	cu, cv, r, used, ok := robustCircle(eu, ev, dr)
+	if !ok {
+		return res, errors.New("scan: level: rim circle fit failed")
+	}
+	res.u, res.v, res.r, res.used = cu, cv, r, used
+	return res, nil
+}
+
+// profileFrom returns the profile scratch for a search starting at sector
+// s0 as one sequential pass over sectors 0 … s0−1 would leave it: a bin
+// too sparse in the sector at hand keeps the mean radius (m) of the last
+// sector before where it held enough points (0 when none did). The walk
+// reads those radii to stop (slopeLimit, wallNear), so a search in parts
+// must start from them to give the sequential result. Heights of sparse
+// bins are never read and are left 0.
+func (rb *rimBins) profileFrom(s0 int) *rimProfile {
+	nb := rb.nb
+	sp := &rimProfile{
+		prof:  make([]float64, nb), // median height per bin
+		pos:   make([]float64, nb), // mean radius per bin
+		valid: make([]bool, nb),
+	}
+	for bb := range nb {
+		for s := s0 - 1; s >= 0; s-- {
+			lo, hi := rb.start[s*nb+bb], rb.start[s*nb+bb+1]
+			if hi-lo >= rimMinCount {
+				sp.pos[bb] = rb.mean[s*nb+bb]
+				break
+			}
+		}
+	}
+	return sp
+}
+
+// rimMinCount is the fewest points a (sector, radial bin) needs to count.
+const rimMinCount = 4
+
+// rimBins holds the points of the rim annulus sorted by (sector, radial
+// bin): bin k of sector s holds ws[start[s*nb+k]:start[s*nb+k+1]]
+// (heights, m, in point order); mean[s*nb+k] is the mean of their radii
+// from the centre (m), summed in point order. Radial bins of width dr (m)
+// start at radius rlo (m).
+type rimBins struct {
+	ns, nb   int
+	rlo, dr  float64
+	start    []int32
+	ws, mean []float64
+}
+
+// annulus holds the points of the rim annulus: radius from the centre
+// (m), height (m) and angular sector, in point order.
+type annulus struct {
+	r, w []float64
+	sec  []uint8
+	ns   int     // number of sectors, at most 255
+	rho  float64 // point density of the inner disc, points per m²
+}
+
+// rimSectors returns the number of angular sectors of the rim search for
+// a point density rho (points per m², thinned) and radius r0 (m), and the
+// points per m of radius over all sectors.
+func rimSectors(rho, r0 float64) (ns int, ring float64) {
+	ring = rho * 2 * math.Pi * r0
+	return min(72, max(24, int(ring*r0/400/20))), ring
+}
+
+// annulusPoints returns the points between radii rlo and rhi (m) about
+// (uc, vc), thinned to some 30 points per bin of r0/400 in 72 sectors,
+// and the point density of the inner disc (radius 0.9 r0) after thinning.
+// Parts of the points are handled at once: each counts its inner and
+// annulus points, then writes its annulus points at its offset, in point
+// order.
+func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *levelScratch) *annulus {
+	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
+	rr := func(p r3.Vec) (du, dv, w, rr float64) {
+		u, v, w := f.coords(p)
+		du, dv = u-uc, v-vc
+		return du, dv, w, du*du + dv*dv
+	}
+	n := len(pts)
+	parts := rowParts(n)
+	nIn, nAnn := make([]int, parts), make([]int, parts)
+	parallelParts(n, parts, func(k, i0, i1 int) {
+		for _, p := range pts[i0:i1] {
+			_, _, _, r2 := rr(p)
+			if r2 < in2 {
+				nIn[k]++
+			}
+			if r2 >= lo2 && r2 < hi2 {
+				nAnn[k]++
+			}
+		}
+	})
+	nInner, nAnnulus := sumInts(nIn), sumInts(nAnn)
+	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
+	// denser scans.
+	step := max(1, nAnnulus/(30*72*int(400*(rhi-rlo)/r0)))
+	a := &annulus{rho: float64(nInner/step) / (math.Pi * 0.81 * r0 * r0)}
+	a.ns, _ = rimSectors(a.rho, r0)
+	nTake := (n + step - 1) / step
+	cnt := nAnn // unthinned, the parts and their counts are those above
+	if step > 1 {
+		parts = rowParts(nTake)
+		cnt = make([]int, parts)
+		parallelParts(nTake, parts, func(k, t0, t1 int) {
+			for t := t0; t < t1; t++ {
+				if _, _, _, r2 := rr(pts[t*step]); r2 >= lo2 && r2 < hi2 {
+					cnt[k]++
+				}
+			}
+		})
+	}
+	off := blockOffsets(cnt)
+	a.r, a.w, a.sec = sc.floats.get(off[parts], 0), sc.floats.get(off[parts], 0), make([]uint8, off[parts])
+	fns := float64(a.ns)
+	parallelParts(nTake, parts, func(k, t0, t1 int) {
+		o := off[k]
+		for t := t0; t < t1; t++ {
+			du, dv, w, r2 := rr(pts[t*step])
+			if r2 < lo2 || r2 >= hi2 {
+				continue
+			}
+			th := math.Atan2(dv, du)
+			s := int((th + math.Pi) / (2 * math.Pi) * fns)
+			a.r[o], a.w[o], a.sec[o] = math.Sqrt(r2), w, uint8(min(a.ns-1, max(0, s)))
+			o++
+		}
+	})
+	return a
+}
+
+// sumInts returns the sum of a.
+func sumInts(a []int) int {
+	s := 0
+	for _, x := range a {
+		s += x
+	}
+	return s
+}
+
+// binRim sorts the points of the annulus about (uc, vc) that may hold the
+// rim (r0 is the first guess of the radius, rq the scan's extent, m) into
+// angular sectors and radial bins. The sector count follows the point
+// density; the bins are widened while more than a fifth of the inner ones
+// (0.6–0.9 r0) are empty (structured meshes and scan lines leave regular
+// gaps). The annulus's scratch goes back to sc, and rb.ws comes from it.
+func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*rimBins, error) {
+	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
+	a := annulusPoints(pts, f, uc, vc, r0, rlo, rhi, sc)
+	defer sc.floats.put(a.r, a.w)
+	ns, ring := rimSectors(a.rho, r0)
+	dr := max(r0/400, 20*float64(ns)/ring)
+	parts := rowParts(len(a.r))
+	var nb int
+	var counts [][]int32
+	var start []int32
+	for try := 0; ; try++ {
+		nb = int(math.Ceil((rhi - rlo) / dr))
+		if nb < 8 {
+			return nil, errors.New("scan: level: too few points near the rim")
+		}
+		counts = a.binCounts(parts, nb, rlo, dr)
+		start = binStarts(counts)
+		if binsFullEnough(start, ns, nb, int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)) || try == 5 {
+			break
+		}
+		dr *= 1.5
+	}
+	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, start: start, ws: sc.floats.get(len(a.r), 0)}
+	a.fill(rb, counts)
+	rb.mean = a.binMeans(rb)
+	return rb, nil
+}
+
+// bin returns the (sector, radial bin) index of annulus point i for nb
+// radial bins of width dr (m) from rlo (m).
+func (a *annulus) bin(i, nb int, rlo, dr float64) int {
+	return int(a.sec[i])*nb + min(nb-1, int((a.r[i]-rlo)/dr))
+}
+
+// binCounts counts the annulus points per (sector, radial bin) in each of
+// parts parts of the points, at once.
+func (a *annulus) binCounts(parts, nb int, rlo, dr float64) [][]int32 {
+	counts := make([][]int32, parts)
+	parallelParts(len(a.r), parts, func(k, i0, i1 int) {
+		c := make([]int32, a.ns*nb)
+		for i := i0; i < i1; i++ {
+			c[a.bin(i, nb, rlo, dr)]++
+		}
+		counts[k] = c
+	})
+	return counts
+}
+
+// binStarts returns where each bin starts in the sorted order: the prefix
+// sums of the parts' summed counts, with the total last.
+func binStarts(counts [][]int32) []int32 {
+	nsb := len(counts[0])
+	start := make([]int32, nsb+1)
+	for _, c := range counts {
+		for k, x := range c {
+			start[k+1] += x
+		}
+	}
+	for k := range nsb {
+		start[k+1] += start[k]
+	}
+	return start
+}
+
+// binsFullEnough reports whether at least four fifths of the radial bins
+// k0 … k1−1 of all ns sectors hold rimMinCount points or more.
+func binsFullEnough(start []int32, ns, nb, k0, k1 int) bool {
+	full, all := 0, 0
+	for s := range ns {
+		for bb := k0; bb < k1; bb++ {
+			all++
+			if start[s*nb+bb+1]-start[s*nb+bb] >= rimMinCount {
+				full++
+			}
+		}
+	}
+	return 5*full >= 4*all
+}
+
+// binMeans returns the mean radius (m) of the annulus points in each of
+// rb's bins, summed in point order (0 for an empty bin). The sums are one
+// sequential pass, so that each bin's sum is that of its points in order.
+func (a *annulus) binMeans(rb *rimBins) []float64 {
+	mean := make([]float64, rb.ns*rb.nb)
+	for i, r := range a.r {
+		mean[a.bin(i, rb.nb, rb.rlo, rb.dr)] += r
+	}
+	for k := range mean {
+		if c := rb.start[k+1] - rb.start[k]; c > 0 {
+			mean[k] /= float64(c)
+		}
+	}
+	return mean
+}
+
+// fill writes the annulus points' heights into rb's bins, in
+// point order within each bin; each part of the points writes its own
+// slots (after those of the parts before it) at once.
+func (a *annulus) fill(rb *rimBins, counts [][]int32) {
+	parts, nsb := len(counts), rb.ns*rb.nb
+	parallelParts(len(a.r), parts, func(k, i0, i1 int) {
+		next := make([]int32, nsb)
+		copy(next, rb.start[:nsb])
+		for j := range k {
+			for b, x := range counts[j] {
+				next[b] += x
+			}
+		}
+		for i := i0; i < i1; i++ {
+			b := a.bin(i, rb.nb, rb.rlo, rb.dr)
+			rb.ws[next[b]] = a.w[i]
+			next[b]++
+		}
+	})
+}
