@@ -1,0 +1,81 @@
+package scan
+
+import "math"
+
+// binParts returns the number of contiguous sample ranges sortByCell
+// splits n samples binned into nc cells between: one per processor, but
+// few enough that the ranges' own counts (4 bytes per cell each) stay
+// within the size of two coordinate arrays of the samples (16 bytes per
+// sample), so a fine grid over few samples is binned on one processor.
+func binParts(n, nc int) int {
+	return max(1, min(rowParts(n), 1+4*n/max(nc, 1)))
+}
+
+// sortByCell bins the samples 0 … n−1 into nc cells, cell(i) being the
+// cell of sample i (−1 leaves it out), and returns the samples sorted by
+// cell and, within a cell, by index (a stable counting sort): cell q's are
+// order[start[q]:start[q+1]].
+//
+// Contiguous ranges of samples are counted at once, each into counts of
+// its own; a pass over the cells turns the counts into each range's
+// offsets (range t's samples of a cell follow those of ranges 0 … t−1),
+// and the ranges then place their samples at once. The result is the
+// sequential sort's for any number of ranges. cell is called twice per
+// sample and must return the same cell both times.
+func sortByCell(n, nc int, cell func(i int) int32) (order, start []int32) {
+	parts := binParts(n, nc)
+	next := make([][]int32, parts)
+	parallelParts(n, parts, func(t, i0, i1 int) {
+		c := make([]int32, nc)
+		for i := i0; i < i1; i++ {
+			if q := cell(i); q >= 0 {
+				c[q]++
+			}
+		}
+		next[t] = c
+	})
+	start = make([]int32, nc+1)
+	sum := int32(0)
+	for q := range nc {
+		start[q] = sum
+		for _, c := range next {
+			k := c[q]
+			c[q] = sum
+			sum += k
+		}
+	}
+	start[nc] = sum
+	order = make([]int32, sum)
+	parallelParts(n, parts, func(t, i0, i1 int) {
+		c := next[t]
+		for i := i0; i < i1; i++ {
+			if q := cell(i); q >= 0 {
+				order[c[q]] = int32(i)
+				c[q]++
+			}
+		}
+	})
+	return order, start
+}
+
+// bounds returns the smallest and largest x and y, m (+Inf and −Inf for
+// no samples). Ranges of samples are scanned at once: min and max give the
+// same answer in any order.
+func bounds(x, y []float64) (xmin, xmax, ymin, ymax float64) {
+	parts := rowParts(len(x))
+	b := make([][4]float64, parts)
+	parallelParts(len(x), parts, func(t, i0, i1 int) {
+		lx, hx, ly, hy := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+		for i := i0; i < i1; i++ {
+			lx, hx = min(lx, x[i]), max(hx, x[i])
+			ly, hy = min(ly, y[i]), max(hy, y[i])
+		}
+		b[t] = [4]float64{lx, hx, ly, hy}
+	})
+	xmin, xmax, ymin, ymax = math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for _, v := range b {
+		xmin, xmax = min(xmin, v[0]), max(xmax, v[1])
+		ymin, ymax = min(ymin, v[2]), max(ymax, v[3])
+	}
+	return xmin, xmax, ymin, ymax
+}

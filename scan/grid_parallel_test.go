@@ -1,0 +1,159 @@
+package scan
+
+import (
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"slices"
+	"testing"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// parallelCloud is a random cloud over a disc of radius r (m) for the
+// parallel-equals-sequential tests: n points of a dish with noise, a hole
+// (empty cells), a dense clump, spikes, points repeated exactly (some
+// in a run at the end, some scattered) and points on cell edges.
+type parallelCloud struct {
+	name    string
+	n       int
+	r       float64
+	seed    uint64
+	repeats int // exact copies of earlier points, scattered
+	edges   int // points on the edges of 0.5 mm cells
+}
+
+func (pc parallelCloud) build() []r3.Vec {
+	rng := rand.New(rand.NewPCG(pc.seed, 7))
+	f := dish(0.2e-3, pc.r)
+	pts := make([]r3.Vec, 0, pc.n+pc.repeats+pc.edges)
+	for len(pts) < pc.n {
+		rr := pc.r * math.Sqrt(rng.Float64())
+		th := 2 * math.Pi * rng.Float64()
+		x, y := rr*math.Cos(th), rr*math.Sin(th)
+		if math.Hypot(x-0.3*pc.r, y) < 0.2*pc.r {
+			continue // the hole
+		}
+		if rng.IntN(10) == 0 { // the clump
+			x, y = -0.5*pc.r+1e-3*rng.Float64(), 0.1*pc.r+1e-3*rng.Float64()
+		}
+		z := f(x, y) + 5e-6*rng.NormFloat64()
+		if rng.IntN(500) == 0 {
+			z += 0.3e-3 // a spike
+		}
+		pts = append(pts, r3.Vec{X: x, Y: y, Z: z})
+	}
+	for range pc.edges {
+		i, j := rng.IntN(101)-50, rng.IntN(101)-50
+		x, y := (float64(i)+0.5)*0.5e-3, float64(j)*0.5e-3
+		if x*x+y*y < pc.r*pc.r {
+			pts = append(pts, r3.Vec{X: x, Y: y, Z: f(x, y)})
+		}
+	}
+	for range pc.repeats {
+		p := pts[rng.IntN(len(pts))]
+		at := rng.IntN(len(pts) + 1)
+		pts = slices.Insert(pts, at, p)
+	}
+	return pts
+}
+
+var parallelClouds = []parallelCloud{
+	{name: "tiny", n: 40, r: 0.01, seed: 1, repeats: 5, edges: 3},
+	{name: "small", n: 3000, r: 0.03, seed: 2, repeats: 300, edges: 200},
+	{name: "sparse", n: 2000, r: 0.1, seed: 3, repeats: 50, edges: 50},
+	{name: "dense", n: 120000, r: 0.05, seed: 4, repeats: 20000, edges: 5000},
+	{name: "subsampled MAD", n: 450000, r: 0.06, seed: 5, repeats: 1000, edges: 100},
+}
+
+// withProcs runs f with GOMAXPROCS set to p.
+func withProcs(p int, f func()) {
+	old := runtime.GOMAXPROCS(p)
+	defer runtime.GOMAXPROCS(old)
+	f()
+}
+
+// sameFloats reports the first place where a and b differ in their bits,
+// or −1.
+func sameFloats(a, b []float64) int {
+	if len(a) != len(b) {
+		return 0
+	}
+	for i := range a {
+		if math.Float64bits(a[i]) != math.Float64bits(b[i]) {
+			return i
+		}
+	}
+	return -1
+}
+
+// TestLocalOutliersParallel checks that the outlier test flags the same
+// points with the same σ, to the bit, as the sequential one, on 1, 2 and
+// 4 processors.
+func TestLocalOutliersParallel(t *testing.T) {
+	for _, pc := range parallelClouds {
+		if testing.Short() && pc.n > 100000 {
+			continue
+		}
+		pts := pc.build()
+		bp := basePoints(pts, pc.r)
+		sp := PointSpacing(bp.x, bp.y, math.Pi*pc.r*pc.r).MedianM
+		var wantOut []bool
+		var wantSigma float64
+		withProcs(1, func() { wantOut, wantSigma = localOutliersSeq(bp.x, bp.y, bp.z, sp, DefaultOutlierK) })
+		flagged := 0
+		for _, o := range wantOut {
+			if o {
+				flagged++
+			}
+		}
+		if pc.n >= 3000 && flagged == 0 {
+			t.Errorf("%s: no outliers flagged; the spikes should be", pc.name)
+		}
+		for _, p := range []int{1, 2, 4} {
+			withProcs(p, func() {
+				out, sigma := LocalOutliers(bp.x, bp.y, bp.z, sp, DefaultOutlierK)
+				if math.Float64bits(sigma) != math.Float64bits(wantSigma) {
+					t.Errorf("%s, %d procs: σ %g, want %g", pc.name, p, sigma, wantSigma)
+				}
+				if i := slices.Index(out, true); !slices.Equal(out, wantOut) {
+					t.Errorf("%s, %d procs: outliers differ (first flagged %d)", pc.name, p, i)
+				}
+			})
+		}
+	}
+}
+
+// TestSortByCellParts checks the binning against a sequential stable
+// sort for every number of ranges, with samples left out and empty cells.
+func TestSortByCellParts(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 3))
+	for _, tc := range []struct{ n, nc int }{{0, 5}, {1, 1}, {17, 3}, {1000, 7}, {5000, 4000}, {100000, 300}} {
+		cell := make([]int32, tc.n)
+		for i := range cell {
+			cell[i] = int32(rng.IntN(tc.nc+1)) - 1 // −1: left out
+			if i%3 == 0 && tc.nc > 2 {
+				cell[i] = int32(tc.nc / 2) // a crowded cell
+			}
+		}
+		var want []int32
+		wantStart := make([]int32, tc.nc+1)
+		for q := range tc.nc {
+			wantStart[q] = int32(len(want))
+			for i, c := range cell {
+				if int(c) == q {
+					want = append(want, int32(i))
+				}
+			}
+		}
+		wantStart[tc.nc] = int32(len(want))
+		for _, p := range []int{1, 2, 3, 4} {
+			withProcs(p, func() {
+				order, start := sortByCell(tc.n, tc.nc, func(i int) int32 { return cell[i] })
+				if !slices.Equal(order, want) || !slices.Equal(start, wantStart) {
+					t.Errorf("n=%d nc=%d, %d procs: binning differs from the sequential sort", tc.n, tc.nc, p)
+				}
+			})
+		}
+	}
+}
