@@ -11,6 +11,12 @@ func binParts(n, nc int) int {
 	return max(1, min(rowParts(n), 1+4*n/max(nc, 1)))
 }
 
+// cellBins are samples binned by cell: cell q's are
+// order[start[q]:start[q+1]], in index order.
+type cellBins struct {
+	order, start []int32
+}
+
 // sortByCell bins the samples 0 … n−1 into nc cells, cell(i) being the
 // cell of sample i (−1 leaves it out), and returns the samples sorted by
 // cell and, within a cell, by index (a stable counting sort): cell q's are

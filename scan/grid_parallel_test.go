@@ -157,3 +157,98 @@ func TestSortByCellParts(t *testing.T) {
 		}
 	}
 }
+
+// TestBinCloudParallel checks the cells' median heights against the
+// sequential binning on 1, 2 and 4 processors, and the coverage measures
+// (with the bins handed on, and binned afresh as for a mesh) against a
+// search of every cell among all points, for reaches below and above
+// half a cell's diagonal.
+func TestBinCloudParallel(t *testing.T) {
+	for _, pc := range parallelClouds {
+		if testing.Short() && pc.n > 100000 {
+			continue
+		}
+		pts := pc.build()
+		bp := basePoints(pts, pc.r)
+		sp := PointSpacing(bp.x, bp.y, math.Pi*pc.r*pc.r)
+		for _, cell := range []float64{0.5e-3, 1e-3, 2e-3} {
+			s0, base, _ := baseSurface(pc.r, cell)
+			have0 := make([]bool, len(base))
+			withProcs(1, func() { binCloudSeq(s0, base, have0, bp) })
+			for q := range base {
+				if !have0[q] {
+					s0.State[q] = Filled
+					if !base[q] {
+						s0.State[q] = Outside
+					}
+				}
+			}
+			for _, reachSp := range []Spacing{sp, {MedianM: sp.MedianM, P90M: 0.2 * cell}, {MedianM: sp.MedianM, P90M: 3 * cell}} {
+				var want Coverage
+				withProcs(1, func() { want = measureCoverageSeq(s0, bp.x, bp.y, pc.r, reachSp) })
+				for _, p := range []int{1, 2, 4} {
+					withProcs(p, func() {
+						s, _, _ := baseSurface(pc.r, cell)
+						have := make([]bool, len(base))
+						bins := binCloud(s, base, have, bp)
+						if !slices.Equal(have, have0) || sameFloats(s.ZM, s0.ZM) >= 0 {
+							t.Fatalf("%s, %g mm cells, %d procs: binned heights differ at cell %d", pc.name, cell*1e3, p, sameFloats(s.ZM, s0.ZM))
+						}
+						copy(s.State, s0.State)
+						for _, b := range []cellBins{bins, {}} {
+							got := measureCoverage(s, bp.x, bp.y, b.order, b.start, pc.r, reachSp)
+							if !equalCoverage(got, want) {
+								t.Errorf("%s, %g mm cells, reach %g mm, %d procs, bins %t: coverage %+v, want %+v",
+									pc.name, cell*1e3, CoverageSpacings*reachSp.P90M*1e3, p, b.start != nil, got, want)
+							}
+						}
+					})
+				}
+			}
+		}
+	}
+}
+
+func equalCoverage(a, b Coverage) bool {
+	return math.Float64bits(a.CoveragePct) == math.Float64bits(b.CoveragePct) &&
+		math.Float64bits(a.LargestHoleM) == math.Float64bits(b.LargestHoleM) &&
+		math.Float64bits(a.RimCompletenessPct) == math.Float64bits(b.RimCompletenessPct) &&
+		slices.Equal(a.RimSectorsMissing, b.RimSectorsMissing)
+}
+
+// TestGridProcs checks that Grid gives the same grid, to the bit, on 1,
+// 2 and 4 processors, for point clouds and a mesh.
+func TestGridProcs(t *testing.T) {
+	var cases []*Levelled
+	for _, pc := range parallelClouds {
+		if testing.Short() && pc.n > 100000 {
+			continue
+		}
+		cases = append(cases, levelled(&Cloud{Points: pc.build()}, pc.r))
+	}
+	mesh := (&synthBase{R: 0.03, Shape: dish(0.1e-3, 0.03), Mesh: true, StepM: 0.5e-3, NoiseM: 5e-6, Spikes: 20, SpikeM: 0.2e-3, Seed: 3}).build()
+	cases = append(cases, levelled(mesh, 0.03))
+	for n, l := range cases {
+		var want *Gridded
+		withProcs(1, func() {
+			var err error
+			if want, err = Grid(l, GridOptions{}); err != nil {
+				t.Fatal(err)
+			}
+		})
+		for _, p := range []int{2, 4} {
+			withProcs(p, func() {
+				got, err := Grid(l, GridOptions{})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if i := sameFloats(got.Raw.ZM, want.Raw.ZM); i >= 0 || !slices.Equal(got.Raw.State, want.Raw.State) ||
+					!slices.Equal(got.Outliers, want.Outliers) || got.OutliersRemoved != want.OutliersRemoved ||
+					sameFloats([]float64{got.OutlierSigmaM, got.PointSpacingM, got.CoveragePct, got.LargestHoleM, got.RimCompletenessPct, got.MeasuredCellsPct},
+						[]float64{want.OutlierSigmaM, want.PointSpacingM, want.CoveragePct, want.LargestHoleM, want.RimCompletenessPct, want.MeasuredCellsPct}) >= 0 {
+					t.Errorf("case %d, %d procs: grid differs from 1 processor's (first height at %d)", n, p, i)
+				}
+			})
+		}
+	}
+}

@@ -1,6 +1,10 @@
 package scan
 
-import "math"
+import (
+	"math"
+	"slices"
+	"sync"
+)
 
 // The sequential gridding and outlier test as they were before the
 // stage was split between processors: the oracle the parallel code must
@@ -224,3 +228,129 @@ func binCloudSeq(s *Surface, base, have []bool, sm samples) {
 	})
 }
 
+// measureCoverageSeq is measureCoverage searching every cell among all points.
+func measureCoverageSeq(s *Surface, x, y []float64, r float64, sp Spacing) Coverage {
+	var cv Coverage
+	if len(x) == 0 {
+		cv.RimSectorsMissing = make([]int, RimSectors)
+		for k := range cv.RimSectorsMissing {
+			cv.RimSectorsMissing[k] = k
+		}
+		cv.LargestHoleM = 2 * r
+		return cv
+	}
+	reach := CoverageSpacings * sp.P90M
+	if !(reach > 0) {
+		reach = s.CellM
+	}
+	idx := newPointIndexSeq(x, y, max(reach, s.CellM))
+	n := s.Nx * s.Ny
+	seed := make([]bool, n)
+	for i := range x {
+		if q := gridIndex(s, x[i], y[i]); q >= 0 {
+			seed[q] = true
+		}
+	}
+	// Rows of cells are counted at once; integer counts add up the same
+	// in any order.
+	var mu sync.Mutex
+	nBase, nCov := 0, 0
+	parallelRows(s.Ny, func(j0, j1 int) {
+		nb, nc := 0, 0
+		for q := j0 * s.Nx; q < j1*s.Nx; q++ {
+			if s.State[q] == Outside {
+				continue
+			}
+			nb++
+			if seed[q] && reach >= s.CellM*math.Sqrt2/2 {
+				nc++
+				continue
+			}
+			cx, cy := s.X(q%s.Nx), s.Y(q/s.Nx)
+			if idx.anyWithin(x, y, cx, cy, reach) {
+				nc++
+			}
+		}
+		mu.Lock()
+		nBase, nCov = nBase+nb, nCov+nc
+		mu.Unlock()
+	})
+	if nBase > 0 {
+		cv.CoveragePct = 100 * float64(nCov) / float64(nBase)
+	}
+	cv.LargestHoleM = largestHole(s, seed, r)
+	cv.RimCompletenessPct, cv.RimSectorsMissing = rimCompletenessSeq(x, y, r, sp.MedianM)
+	return cv
+}
+
+// newPointIndexSeq is newPointIndex, sorting in one pass.
+func newPointIndexSeq(x, y []float64, h float64) *pointIndex {
+	p := &pointIndex{h: h}
+	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for i := range x {
+		xmin, xmax = min(xmin, x[i]), max(xmax, x[i])
+		ymin, ymax = min(ymin, y[i]), max(ymax, y[i])
+	}
+	if len(x) == 0 {
+		xmin, xmax, ymin, ymax = 0, 0, 0, 0
+	}
+	p.x0, p.y0 = xmin, ymin
+	p.nx = int((xmax-xmin)/h) + 1
+	p.ny = int((ymax-ymin)/h) + 1
+	nb := p.nx * p.ny
+	p.start = make([]int32, nb+1)
+	key := make([]int32, len(x))
+	for i := range x {
+		key[i] = int32(p.bucket(x[i], y[i]))
+		p.start[key[i]+1]++
+	}
+	for b := range nb {
+		p.start[b+1] += p.start[b]
+	}
+	fill := append([]int32(nil), p.start[:nb]...)
+	p.ids = make([]int32, len(x))
+	for i, b := range key {
+		p.ids[fill[b]] = int32(i)
+		fill[b]++
+	}
+	return p
+}
+
+// rimCompletenessSeq is rimCompleteness in one pass.
+func rimCompletenessSeq(x, y []float64, r, spacingM float64) (float64, []int) {
+	band := max(rimBandSpacings*spacingM, rimBandMinM)
+	band = min(band, r)
+	count := make([]int, RimSectors)
+	inner := r - band
+	// A point clearly inside the band's inner circle (by far more than
+	// rounding) needs no exact radius.
+	clearIn := inner * inner * (1 - 1e-9)
+	for i := range x {
+		if x[i]*x[i]+y[i]*y[i] < clearIn {
+			continue
+		}
+		rr := math.Hypot(x[i], y[i])
+		if rr < inner || rr > r*(1+1e-9) {
+			continue
+		}
+		a := math.Atan2(y[i], x[i])
+		if a < 0 {
+			a += 2 * math.Pi
+		}
+		k := min(int(a/(2*math.Pi)*RimSectors), RimSectors-1)
+		count[k]++
+	}
+	need := 1.0
+	if spacingM > 0 {
+		area := math.Pi * (r*r - inner*inner) / RimSectors
+		need = max(1, rimSectorFill*area/(spacingM*spacingM))
+	}
+	var missing []int
+	for k, c := range count {
+		if float64(c) < need {
+			missing = append(missing, k)
+		}
+	}
+	pct := 100 * float64(RimSectors-len(missing)) / RimSectors
+	return pct, slices.Clip(missing)
+}

@@ -139,38 +139,32 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	g := newRefGrid(x, y, cutoff/refCellsPerCutoff)
 	byCell, cellStart := sortByCell(n, g.nx*g.ny, func(i int) int32 { return int32(g.cell(x[i], y[i])) })
 	f := refStart(g, byCell, cellStart, z)
-	// The residuals are kept in cell order (res[t] is sample byCell[t]'s),
-	// so that each cell's sums run over a slice of their own; mad picks
-	// the MAD's subsample from them in index order.
 	res := make([]float64, n)
-	mad := newMADSample(byCell)
-	f = reweight(g, f, x, y, z, byCell, cellStart, res, mad)
-	cellResiduals(g, f, x, y, z, byCell, res)
-	sigma := max(madToSigma*mad.of(res), outlierSigmaFloorM)
+	f = reweight(g, f, x, y, z, byCell, cellStart, res)
+	residuals(g, f, x, y, z, res)
+	sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)
 	// The local scale: the 7×7-cell median of the cells' median |r|.
 	// Where the reference cannot follow the form (a kink, a sharp bend)
 	// most residuals around grow and so does the limit; isolated spikes
 	// and streaks are too few to move a median.
 	// res becomes |r| in place (0 for NaN, which no limit exceeds either).
 	abs := res
-	parallelRows(n, func(t0, t1 int) {
-		for t, r := range res[t0:t1] {
-			abs[t0+t] = math.Abs(r)
+	parallelRows(n, func(i0, i1 int) {
+		for i, r := range res[i0:i1] {
+			abs[i0+i] = math.Abs(r)
 			if math.IsNaN(r) {
-				abs[t0+t] = 0
+				abs[i0+i] = 0
 			}
 		}
 	})
-	local := refStart(g, nil, cellStart, abs)
-	parallelRows(g.ny, func(j0, j1 int) {
-		for q := j0 * g.nx; q < j1*g.nx; q++ {
+	local := refStart(g, byCell, cellStart, abs)
+	parallelRows(n, func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
 			s := sigma
-			if v := local[q]; !math.IsNaN(v) {
+			if v := local[g.cell(x[i], y[i])]; !math.IsNaN(v) {
 				s = max(s, madToSigma*v)
 			}
-			for t := cellStart[q]; t < cellStart[q+1]; t++ {
-				out[byCell[t]] = abs[t] > k*s
-			}
+			out[i] = abs[i] > k*s
 		}
 	})
 	return out, sigma
@@ -178,9 +172,8 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 
 // reweight runs the iterations of LocalOutliers from the starting
 // reference f (m, on the cells of g) and returns the reference it ends
-// with. res is scratch for the residuals in cell order (m), mad the MAD's
-// subsample.
-func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []float64, mad madSample) []float64 {
+// with. res is scratch for the residuals (m).
+func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []float64) []float64 {
 	nc := g.nx * g.ny
 	reg := newGaussRegression(g.nx, g.ny, refCellsPerCutoff, 1)
 	w := make([]float64, nc)
@@ -188,13 +181,13 @@ func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []
 	fNew := make([]float64, nc)
 	has := func(q int) bool { return true }
 	for it := 0; it < outlierMaxIter; it++ {
-		cellResiduals(g, f, x, y, z, byCell, res)
-		sigma := max(madToSigma*mad.of(res), outlierSigmaFloorM)
+		residuals(g, f, x, y, z, res)
+		sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)
 		c := BiweightC / madToSigma * sigma
 		if it == 0 {
 			c *= 2 // the median start is rougher than a fit
 		}
-		cellWeights(g, f, res, cellStart, c, w, wz)
+		cellWeights(g, f, res, byCell, cellStart, c, w, wz)
 		for q := range fNew {
 			fNew[q] = nan
 		}
@@ -219,17 +212,18 @@ func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []
 }
 
 // cellWeights sets, for every cell q of g, w[q] to the sum of the
-// biweights (constant c, m) of its samples' residuals res (in cell order,
-// m) and wz[q] to their weighted mean height (m) where w[q] > 0. Each
-// cell's sums run over its samples in index order, as a pass over the
-// samples would add them; rows of cells are shared between the
-// processors.
-func cellWeights(g refGrid, f, res []float64, cellStart []int32, c float64, w, wz []float64) {
+// biweights (constant c, m) of its samples' residuals res (m) and wz[q]
+// to their weighted mean height (m) where w[q] > 0; cell q's samples are
+// byCell[cellStart[q]:cellStart[q+1]]. Each cell's sums run over its
+// samples in index order, as a pass over the samples would add them, so
+// the rows of cells can be shared between the processors.
+func cellWeights(g refGrid, f, res []float64, byCell, cellStart []int32, c float64, w, wz []float64) {
 	parallelRows(g.ny, func(j0, j1 int) {
 		for q := j0 * g.nx; q < j1*g.nx; q++ {
 			sw, swz := 0.0, 0.0
 			if fq := f[q]; !math.IsNaN(fq) {
-				for _, r := range res[cellStart[q]:cellStart[q+1]] {
+				for _, i := range byCell[cellStart[q]:cellStart[q+1]] {
+					r := res[i]
 					if math.IsNaN(r) {
 						continue
 					}
@@ -339,53 +333,6 @@ func residuals(g refGrid, f, x, y, z, res []float64) {
 			res[i] = z[i] - g.interp(f, x[i], y[i])
 		}
 	})
-}
-
-// cellResiduals sets res[t] = z[i] − f(x[i], y[i]) for i = byCell[t]:
-// the residuals in cell order, m.
-func cellResiduals(g refGrid, f, x, y, z []float64, byCell []int32, res []float64) {
-	parallelRows(len(byCell), func(t0, t1 int) {
-		for t := t0; t < t1; t++ {
-			i := byCell[t]
-			res[t] = z[i] - g.interp(f, x[i], y[i])
-		}
-	})
-}
-
-// madSample is madOf's subsample of residuals kept in cell order: pos[s]
-// is the place of sample s·step, in the order madOf takes them.
-type madSample struct {
-	pos []int32
-	buf []float64
-}
-
-// newMADSample finds madOf's subsample of len(byCell) samples among the
-// samples sorted by cell (byCell as sortByCell returns it).
-func newMADSample(byCell []int32) madSample {
-	n := len(byCell)
-	step := max(1, n/madSampleMax)
-	m := madSample{pos: make([]int32, (n+step-1)/step)}
-	parallelRows(n, func(t0, t1 int) {
-		for t := t0; t < t1; t++ {
-			if i := int(byCell[t]); i%step == 0 {
-				m.pos[i/step] = int32(t)
-			}
-		}
-	})
-	m.buf = make([]float64, 0, len(m.pos))
-	return m
-}
-
-// of returns madOf of the residuals res held in cell order, m: the same
-// values, taken in the same order.
-func (m *madSample) of(res []float64) float64 {
-	a := m.buf[:0]
-	for _, t := range m.pos {
-		if !math.IsNaN(res[t]) {
-			a = append(a, res[t])
-		}
-	}
-	return madOfValues(a)
 }
 
 // madOf returns the median absolute deviation about the median of the
