@@ -178,7 +178,11 @@ func PointSpacing(x, y []float64, areaM2 float64) Spacing {
 	if !(h > 0) || math.IsInf(h, 0) {
 		return Spacing{}
 	}
-	idx := newPointIndex(x, y, h)
+	// Buckets of about four points: the few searches look at a few more
+	// points each, the index of all points has a quarter of the buckets
+	// to bin into (BenchmarkPointSpacing: about half the time), and the
+	// nearest distance is the same for any bucket size.
+	idx := newPointIndex(x, y, 2*h)
 	step := max(1, n/spacingSampleMax)
 	// The searches are shared between the processors, each into its own
 	// slot; the finite distances are then taken in sample order.

@@ -252,3 +252,66 @@ func TestGridProcs(t *testing.T) {
 		}
 	}
 }
+
+// TestBracketMedian checks the bracketing median against the selection
+// over the whole slice, to the bit, on odd and even lengths, many ties, a
+// skewed sample that puts the median outside the bracket, and the MAD of
+// such values.
+func TestBracketMedian(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	gens := []struct {
+		name string
+		v    func(i, n int) float64
+	}{
+		{"normal", func(int, int) float64 { return rng.NormFloat64() }},
+		{"ties", func(int, int) float64 { return float64(rng.IntN(5)) }},
+		{"zeros", func(int, int) float64 { return []float64{0, math.Copysign(0, -1), 1, -1}[rng.IntN(4)] }},
+		{"sorted", func(i, _ int) float64 { return float64(i) }},
+		// The stride sample sees only the small values: the median is
+		// above its bracket.
+		{"skewed", func(i, n int) float64 {
+			if i%max(1, n/bracketSample) == 0 {
+				return -1 - rng.Float64()
+			}
+			return rng.Float64()
+		}},
+	}
+	// Half ones, half twos, the stride sample all twos: the bracket
+	// starts at the median, whose lower neighbour lies below it.
+	gens = append(gens, struct {
+		name string
+		v    func(i, n int) float64
+	}{"edge", func(i, n int) float64 {
+		step := max(1, n/bracketSample)
+		ones := n / 2 // of the n − ⌈n/step⌉ places off the sample
+		if i%step != 0 && i-i/step-1 < ones {
+			return 1
+		}
+		return 2
+	}})
+	for _, g := range gens {
+		for _, n := range []int{1, 2, 1000, bracketMin - 1, bracketMin, bracketMin + 1, 100000, 200001, 200000} {
+			a := make([]float64, n)
+			for i := range a {
+				a[i] = g.v(i, n)
+			}
+			want := medianInPlace(slices.Clone(a))
+			if got := bracketMedian(slices.Clone(a)); math.Float64bits(got) != math.Float64bits(want) {
+				t.Errorf("%s, n=%d: median %g, want %g", g.name, n, got, want)
+			}
+			wantMAD := madOfValuesSeq(slices.Clone(a))
+			if got := madOfValues(slices.Clone(a)); math.Float64bits(got) != math.Float64bits(wantMAD) {
+				t.Errorf("%s, n=%d: MAD %g, want %g", g.name, n, got, wantMAD)
+			}
+		}
+	}
+}
+
+// madOfValuesSeq is madOfValues with medianInPlace.
+func madOfValuesSeq(a []float64) float64 {
+	m := medianInPlace(a)
+	for i := range a {
+		a[i] = math.Abs(a[i] - m)
+	}
+	return medianInPlace(a)
+}

@@ -354,9 +354,9 @@ func madOfValues(a []float64) float64 {
 	if len(a) == 0 {
 		return 0
 	}
-	m := medianInPlace(a)
+	m := bracketMedian(a)
 	for i := range a {
 		a[i] = math.Abs(a[i] - m)
 	}
-	return medianInPlace(a)
+	return bracketMedian(a)
 }
