@@ -63,7 +63,13 @@ func newPointIndex(x, y []float64, h float64) *pointIndex {
 	p.x0, p.y0 = xmin, ymin
 	p.nx = int((xmax-xmin)/h) + 1
 	p.ny = int((ymax-ymin)/h) + 1
-	p.ids, p.start = sortByCell(len(x), p.nx*p.ny, func(i int) int32 { return int32(p.bucket(x[i], y[i])) })
+	key := make([]int32, len(x))
+	parallelRows(len(x), func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			key[i] = int32(p.bucket(x[i], y[i]))
+		}
+	})
+	p.ids, p.start = sortByCell(key, p.nx*p.ny)
 	return p
 }
 
@@ -245,7 +251,7 @@ func measureCoverage(s *Surface, x, y []float64, byCell, start []int32, r float6
 		reach = s.CellM
 	}
 	if start == nil {
-		byCell, start = sortByCell(len(x), s.Nx*s.Ny, func(i int) int32 { return int32(gridIndex(s, x[i], y[i])) })
+		byCell, start = sortByCell(gridCells(s, x, y), s.Nx*s.Ny)
 	}
 	seed := make([]bool, s.Nx*s.Ny)
 	for q := range seed {

@@ -378,7 +378,7 @@ func gridIndex(s *Surface, x, y float64) int {
 // samples off the grid left out), for the coverage measures.
 func binCloud(s *Surface, base, have []bool, sm samples) cellBins {
 	n := s.Nx * s.Ny
-	byCell, start := sortByCell(len(sm.z), n, func(i int) int32 { return int32(gridIndex(s, sm.x[i], sm.y[i])) })
+	byCell, start := sortByCell(gridCells(s, sm.x, sm.y), n)
 	// Each cell's heights are copied, in sample order, to its worker's
 	// scratch: rows of cells at once.
 	parallelRows(s.Ny, func(j0, j1 int) {

@@ -17,24 +17,24 @@ type cellBins struct {
 	order, start []int32
 }
 
-// sortByCell bins the samples 0 … n−1 into nc cells, cell(i) being the
-// cell of sample i (−1 leaves it out), and returns the samples sorted by
-// cell and, within a cell, by index (a stable counting sort): cell q's are
-// order[start[q]:start[q+1]].
+// sortByCell bins the samples 0 … n−1 (n = len(cellOf)) into nc cells,
+// cellOf[i] being the cell of sample i (−1 leaves it out), and returns
+// the samples sorted by cell and, within a cell, by index (a stable
+// counting sort): cell q's are order[start[q]:start[q+1]].
 //
 // Contiguous ranges of samples are counted at once, each into counts of
 // its own; a pass over the cells turns the counts into each range's
 // offsets (range t's samples of a cell follow those of ranges 0 … t−1),
 // and the ranges then place their samples at once. The result is the
-// sequential sort's for any number of ranges. cell is called twice per
-// sample and must return the same cell both times.
-func sortByCell(n, nc int, cell func(i int) int32) (order, start []int32) {
+// sequential sort's for any number of ranges.
+func sortByCell(cellOf []int32, nc int) (order, start []int32) {
+	n := len(cellOf)
 	parts := binParts(n, nc)
 	next := make([][]int32, parts)
 	parallelParts(n, parts, func(t, i0, i1 int) {
 		c := make([]int32, nc)
-		for i := i0; i < i1; i++ {
-			if q := cell(i); q >= 0 {
+		for _, q := range cellOf[i0:i1] {
+			if q >= 0 {
 				c[q]++
 			}
 		}
@@ -55,13 +55,25 @@ func sortByCell(n, nc int, cell func(i int) int32) (order, start []int32) {
 	parallelParts(n, parts, func(t, i0, i1 int) {
 		c := next[t]
 		for i := i0; i < i1; i++ {
-			if q := cell(i); q >= 0 {
+			if q := cellOf[i]; q >= 0 {
 				order[c[q]] = int32(i)
 				c[q]++
 			}
 		}
 	})
 	return order, start
+}
+
+// gridCells returns the cell of s holding each point (x[i], y[i]), −1 off
+// the grid (gridIndex); ranges of points at once.
+func gridCells(s *Surface, x, y []float64) []int32 {
+	cellOf := make([]int32, len(x))
+	parallelRows(len(x), func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			cellOf[i] = int32(gridIndex(s, x[i], y[i]))
+		}
+	})
+	return cellOf
 }
 
 // bounds returns the smallest and largest x and y, m (+Inf and −Inf for

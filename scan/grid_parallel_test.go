@@ -149,7 +149,7 @@ func TestSortByCellParts(t *testing.T) {
 		wantStart[tc.nc] = int32(len(want))
 		for _, p := range []int{1, 2, 3, 4} {
 			withProcs(p, func() {
-				order, start := sortByCell(tc.n, tc.nc, func(i int) int32 { return cell[i] })
+				order, start := sortByCell(cell, tc.nc)
 				if !slices.Equal(order, want) || !slices.Equal(start, wantStart) {
 					t.Errorf("n=%d nc=%d, %d procs: binning differs from the sequential sort", tc.n, tc.nc, p)
 				}

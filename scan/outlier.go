@@ -137,7 +137,13 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	}
 	cutoff := max(OutlierCutoffM, outlierCutoffSpacings*spacingM)
 	g := newRefGrid(x, y, cutoff/refCellsPerCutoff)
-	byCell, cellStart := sortByCell(n, g.nx*g.ny, func(i int) int32 { return int32(g.cell(x[i], y[i])) })
+	cellOf := make([]int32, n)
+	parallelRows(n, func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			cellOf[i] = int32(g.cell(x[i], y[i]))
+		}
+	})
+	byCell, cellStart := sortByCell(cellOf, g.nx*g.ny)
 	f := refStart(g, byCell, cellStart, z)
 	res := make([]float64, n)
 	f = reweight(g, f, x, y, z, byCell, cellStart, res)
@@ -161,7 +167,7 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	parallelRows(n, func(i0, i1 int) {
 		for i := i0; i < i1; i++ {
 			s := sigma
-			if v := local[g.cell(x[i], y[i])]; !math.IsNaN(v) {
+			if v := local[cellOf[i]]; !math.IsNaN(v) {
 				s = max(s, madToSigma*v)
 			}
 			out[i] = abs[i] > k*s
@@ -246,7 +252,7 @@ func cellWeights(g refGrid, f, res []float64, byCell, cellStart []int32, c float
 // samplesByCell returns the sample indices sorted by cell, each cell's in
 // index order: cell q's are byCell[start[q]:start[q+1]].
 func samplesByCell(cellOf []int32, nc int) (byCell, start []int32) {
-	return sortByCell(len(cellOf), nc, func(i int) int32 { return cellOf[i] })
+	return sortByCell(cellOf, nc)
 }
 
 // newRefGrid returns a grid of cells of edge h covering the samples.
