@@ -341,8 +341,14 @@ func (s samples) without(drop []bool) samples {
 // rejectMeshCells runs LocalOutliers on the rasterised cells of a mesh and
 // drops the rejected ones. It returns their count and the robust σ, m.
 func rejectMeshCells(s *Surface, have []bool, spacingM, k float64) (int, float64) {
-	var x, y, z []float64
-	var qs []int
+	m := 0
+	for _, h := range have {
+		if h {
+			m++
+		}
+	}
+	x, y, z := make([]float64, 0, m), make([]float64, 0, m), make([]float64, 0, m)
+	qs := make([]int, 0, m)
 	for q, h := range have {
 		if h {
 			x = append(x, s.X(q%s.Nx))

@@ -5,9 +5,12 @@ import (
 	"testing"
 )
 
-// benchPLY is a 2 million point scan of a pan base the benchmarks grid
-// when it is present (see the repository's benchmark notes).
-const benchPLY = "/tmp/gfbench/pan-2m.ply"
+// benchPLY and benchSTL are scans of a pan base (2 million points, 1.3
+// million triangles) the benchmarks grid when they are present.
+const (
+	benchPLY = "/tmp/gfbench/pan-2m.ply"
+	benchSTL = "/tmp/gfbench/pan-1m3.stl"
+)
 
 // levelledFile reads and levels the scan at path as the analysis does
 // (readAndLevel), or skips the benchmark when the file is missing.
@@ -37,8 +40,14 @@ func levelledFile(b *testing.B, path string) *Levelled {
 // analysis's default options (automatic cell, 8 mm cut-off) and reports
 // the points gridded per second and the CPU time per grid (all
 // processors).
-func BenchmarkGridPLY2M(b *testing.B) {
-	l := levelledFile(b, benchPLY)
+func BenchmarkGridPLY2M(b *testing.B) { benchmarkGridFile(b, benchPLY) }
+
+// BenchmarkGridSTL grids the levelled 1.3 million triangle scan as
+// BenchmarkGridPLY2M does (points/s counts its vertices).
+func BenchmarkGridSTL(b *testing.B) { benchmarkGridFile(b, benchSTL) }
+
+func benchmarkGridFile(b *testing.B, path string) {
+	l := levelledFile(b, path)
 	opt := GridOptions{OutlierK: DefaultOutlierK, MaxCells: 4_000_000, MaxCellM: 8e-3 / 4}
 	b.ResetTimer()
 	cpu0 := cpuTime()

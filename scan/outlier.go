@@ -186,9 +186,12 @@ func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []
 	wz := make([]float64, nc)
 	fNew := make([]float64, nc)
 	has := func(q int) bool { return true }
+	var buf []float64
 	for it := 0; it < outlierMaxIter; it++ {
 		residuals(g, f, x, y, z, res)
-		sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)
+		mad, b := madOfInto(res, buf)
+		buf = b
+		sigma := max(madToSigma*mad, outlierSigmaFloorM)
 		c := BiweightC / madToSigma * sigma
 		if it == 0 {
 			c *= 2 // the median start is rougher than a fit
@@ -344,14 +347,24 @@ func residuals(g refGrid, f, x, y, z, res []float64) {
 // madOf returns the median absolute deviation about the median of the
 // finite values of r (a stride subsample of at most madSampleMax), or 0.
 func madOf(r []float64) float64 {
+	m, _ := madOfInto(r, nil)
+	return m
+}
+
+// madOfInto is madOf gathering the subsample into buf's storage (grown
+// when short), which it returns for the next call.
+func madOfInto(r, buf []float64) (float64, []float64) {
 	step := max(1, len(r)/madSampleMax)
-	a := make([]float64, 0, len(r)/step+1)
+	a := buf[:0]
+	if cap(a) < len(r)/step+1 {
+		a = make([]float64, 0, len(r)/step+1)
+	}
 	for i := 0; i < len(r); i += step {
 		if !math.IsNaN(r[i]) {
 			a = append(a, r[i])
 		}
 	}
-	return madOfValues(a)
+	return madOfValues(a), a
 }
 
 // madOfValues returns the median absolute deviation about the median of
