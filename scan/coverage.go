@@ -56,33 +56,20 @@ type pointIndex struct {
 // newPointIndex indexes the points (x[i], y[i]) in buckets of edge h.
 func newPointIndex(x, y []float64, h float64) *pointIndex {
 	p := &pointIndex{h: h}
-	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
-	for i := range x {
-		xmin, xmax = min(xmin, x[i]), max(xmax, x[i])
-		ymin, ymax = min(ymin, y[i]), max(ymax, y[i])
-	}
+	xmin, xmax, ymin, ymax := bounds(x, y)
 	if len(x) == 0 {
 		xmin, xmax, ymin, ymax = 0, 0, 0, 0
 	}
 	p.x0, p.y0 = xmin, ymin
 	p.nx = int((xmax-xmin)/h) + 1
 	p.ny = int((ymax-ymin)/h) + 1
-	nb := p.nx * p.ny
-	p.start = make([]int32, nb+1)
 	key := make([]int32, len(x))
-	for i := range x {
-		key[i] = int32(p.bucket(x[i], y[i]))
-		p.start[key[i]+1]++
-	}
-	for b := range nb {
-		p.start[b+1] += p.start[b]
-	}
-	fill := append([]int32(nil), p.start[:nb]...)
-	p.ids = make([]int32, len(x))
-	for i, b := range key {
-		p.ids[fill[b]] = int32(i)
-		fill[b]++
-	}
+	parallelRows(len(x), func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			key[i] = int32(p.bucket(x[i], y[i]))
+		}
+	})
+	p.ids, p.start = sortByCell(key, p.nx*p.ny)
 	return p
 }
 
@@ -197,7 +184,11 @@ func PointSpacing(x, y []float64, areaM2 float64) Spacing {
 	if !(h > 0) || math.IsInf(h, 0) {
 		return Spacing{}
 	}
-	idx := newPointIndex(x, y, h)
+	// Buckets of about four points: the few searches look at a few more
+	// points each, the index of all points has a quarter of the buckets
+	// to bin into (BenchmarkPointSpacing: about half the time), and the
+	// nearest distance is the same for any bucket size.
+	idx := newPointIndex(x, y, 2*h)
 	step := max(1, n/spacingSampleMax)
 	// The searches are shared between the processors, each into its own
 	// slot; the finite distances are then taken in sample order.
@@ -242,8 +233,10 @@ type Coverage struct {
 
 // measureCoverage computes the Coverage of the base disc of radius r by the
 // measured points (x[i], y[i]) of spacing sp, on the cells of s (base
-// cells are those not Outside).
-func measureCoverage(s *Surface, x, y []float64, r float64, sp Spacing) Coverage {
+// cells are those not Outside). byCell and start bin the points by cell of
+// s (as sortByCell returns them, points off the grid left out), or are nil
+// to have them binned here.
+func measureCoverage(s *Surface, x, y []float64, byCell, start []int32, r float64, sp Spacing) Coverage {
 	var cv Coverage
 	if len(x) == 0 {
 		cv.RimSectorsMissing = make([]int, RimSectors)
@@ -257,18 +250,35 @@ func measureCoverage(s *Surface, x, y []float64, r float64, sp Spacing) Coverage
 	if !(reach > 0) {
 		reach = s.CellM
 	}
-	idx := newPointIndex(x, y, max(reach, s.CellM))
-	n := s.Nx * s.Ny
-	seed := make([]bool, n)
-	for i := range x {
-		if q := gridIndex(s, x[i], y[i]); q >= 0 {
-			seed[q] = true
-		}
+	if start == nil {
+		byCell, start = sortByCell(gridCells(s, x, y), s.Nx*s.Ny)
 	}
+	seed := make([]bool, s.Nx*s.Ny)
+	for q := range seed {
+		seed[q] = start[q+1] > start[q]
+	}
+	nBase, nCov, pending := coveredCells(s, x, y, byCell, start, reach)
+	nCov += coveredBySearch(s, x, y, pending, reach)
+	if nBase > 0 {
+		cv.CoveragePct = 100 * float64(nCov) / float64(nBase)
+	}
+	cv.LargestHoleM = largestHole(s, seed, r)
+	cv.RimCompletenessPct, cv.RimSectorsMissing = rimCompleteness(x, y, r, sp.MedianM)
+	return cv
+}
+
+// coveredCells returns the number of base cells of s, the number of
+// those whose centre lies within reach (m) of one of the cell's own points
+// (cell q's are byCell[start[q]:start[q+1]]) and the other base cells, in
+// order. A cell holding points is covered without a look at them when
+// reach spans half its diagonal.
+func coveredCells(s *Surface, x, y []float64, byCell, start []int32, reach float64) (nBase, nCov int, pending []int32) {
+	seedCovers := reach >= s.CellM*math.Sqrt2/2
+	r2 := reach * reach
+	open := make([]bool, s.Nx*s.Ny)
 	// Rows of cells are counted at once; integer counts add up the same
 	// in any order.
 	var mu sync.Mutex
-	nBase, nCov := 0, 0
 	parallelRows(s.Ny, func(j0, j1 int) {
 		nb, nc := 0, 0
 		for q := j0 * s.Nx; q < j1*s.Nx; q++ {
@@ -276,25 +286,125 @@ func measureCoverage(s *Surface, x, y []float64, r float64, sp Spacing) Coverage
 				continue
 			}
 			nb++
-			if seed[q] && reach >= s.CellM*math.Sqrt2/2 {
+			ids := byCell[start[q]:start[q+1]]
+			if len(ids) > 0 && seedCovers {
 				nc++
 				continue
 			}
 			cx, cy := s.X(q%s.Nx), s.Y(q/s.Nx)
-			if idx.anyWithin(x, y, cx, cy, reach) {
+			hit := false
+			for _, id := range ids {
+				// The test anyWithin makes.
+				if dx, dy := x[id]-cx, y[id]-cy; dx*dx+dy*dy <= r2 {
+					hit = true
+					break
+				}
+			}
+			if hit {
 				nc++
+			} else {
+				open[q] = true
 			}
 		}
 		mu.Lock()
 		nBase, nCov = nBase+nb, nCov+nc
 		mu.Unlock()
 	})
-	if nBase > 0 {
-		cv.CoveragePct = 100 * float64(nCov) / float64(nBase)
+	for q, o := range open {
+		if o {
+			pending = append(pending, int32(q))
+		}
 	}
-	cv.LargestHoleM = largestHole(s, seed, r)
-	cv.RimCompletenessPct, cv.RimSectorsMissing = rimCompleteness(x, y, r, sp.MedianM)
-	return cv
+	return nBase, nCov, pending
+}
+
+// coveredBySearch returns the number of the cells of s listed in cells
+// whose centre lies within reach (m) of a point (x[i], y[i]), searched in
+// an index of the points that can be (searchPoints).
+func coveredBySearch(s *Surface, x, y []float64, cells []int32, reach float64) int {
+	if len(cells) == 0 {
+		return 0
+	}
+	sx, sy := searchPoints(s, x, y, reach, cells)
+	if len(sx) == 0 {
+		return 0
+	}
+	idx := newPointIndex(sx, sy, max(reach, s.CellM))
+	var mu sync.Mutex
+	nCov := 0
+	parallelRows(len(cells), func(k0, k1 int) {
+		nc := 0
+		for _, q := range cells[k0:k1] {
+			cx, cy := s.X(int(q)%s.Nx), s.Y(int(q)/s.Nx)
+			if idx.anyWithin(sx, sy, cx, cy, reach) {
+				nc++
+			}
+		}
+		mu.Lock()
+		nCov += nc
+		mu.Unlock()
+	})
+	return nCov
+}
+
+// searchPoints returns the points (x[i], y[i]) that may lie within reach
+// (m) of the centre of one of the cells of s listed in cells: those whose
+// cell (the nearest cell of s for a point off the grid) is within
+// ceil(reach/cell) + 1 cells, in either direction, of a listed one. A
+// point within reach of a cell centre is never further from it than that,
+// so a search among these finds what a search among all would. When
+// marking the cells near the listed ones would cost more than a pass over
+// the points, all points are returned.
+func searchPoints(s *Surface, x, y []float64, reach float64, cells []int32) (sx, sy []float64) {
+	d := int(math.Ceil(reach/s.CellM)) + 1
+	if float64(len(cells))*float64(2*d+1)*float64(2*d+1) > 4*float64(len(x)+len(s.State)) {
+		return x, y
+	}
+	near := make([]bool, s.Nx*s.Ny)
+	for _, q := range cells {
+		i, j := int(q)%s.Nx, int(q)/s.Nx
+		for jj := max(0, j-d); jj <= min(s.Ny-1, j+d); jj++ {
+			row := near[jj*s.Nx : (jj+1)*s.Nx]
+			for ii := max(0, i-d); ii <= min(s.Nx-1, i+d); ii++ {
+				row[ii] = true
+			}
+		}
+	}
+	return pointsNear(s, x, y, near)
+}
+
+// pointsNear returns, in order, the points (x[i], y[i]) whose cell of s
+// (the nearest one for a point off the grid) is marked in near. Ranges of
+// points are counted at once, then each writes its points at its offset.
+func pointsNear(s *Surface, x, y []float64, near []bool) (sx, sy []float64) {
+	in := func(i int) bool {
+		ci := min(max(int(math.Round((x[i]-s.X0M)/s.CellM)), 0), s.Nx-1)
+		cj := min(max(int(math.Round((y[i]-s.Y0M)/s.CellM)), 0), s.Ny-1)
+		return near[cj*s.Nx+ci]
+	}
+	parts := rowParts(len(x))
+	off := make([]int, parts+1)
+	parallelParts(len(x), parts, func(t, i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			if in(i) {
+				off[t+1]++
+			}
+		}
+	})
+	for t := range parts {
+		off[t+1] += off[t]
+	}
+	sx, sy = make([]float64, off[parts]), make([]float64, off[parts])
+	parallelParts(len(x), parts, func(t, i0, i1 int) {
+		o := off[t]
+		for i := i0; i < i1; i++ {
+			if in(i) {
+				sx[o], sy[o] = x[i], y[i]
+				o++
+			}
+		}
+	})
+	return sx, sy
 }
 
 // largestHole returns the diameter of the largest circle centred on a base
@@ -395,25 +505,37 @@ func dt1(f, out []float64, v []int, z []float64) {
 func rimCompleteness(x, y []float64, r, spacingM float64) (float64, []int) {
 	band := max(rimBandSpacings*spacingM, rimBandMinM)
 	band = min(band, r)
-	count := make([]int, RimSectors)
 	inner := r - band
 	// A point clearly inside the band's inner circle (by far more than
-	// rounding) needs no exact radius.
+	// rounding) needs no exact radius. Ranges of points are counted at
+	// once, each into counts of its own; integer counts add up the same in
+	// any order.
 	clearIn := inner * inner * (1 - 1e-9)
-	for i := range x {
-		if x[i]*x[i]+y[i]*y[i] < clearIn {
-			continue
+	parts := rowParts(len(x))
+	counts := make([][RimSectors]int, parts)
+	parallelParts(len(x), parts, func(t, i0, i1 int) {
+		c := &counts[t]
+		for i := i0; i < i1; i++ {
+			if x[i]*x[i]+y[i]*y[i] < clearIn {
+				continue
+			}
+			rr := math.Hypot(x[i], y[i])
+			if rr < inner || rr > r*(1+1e-9) {
+				continue
+			}
+			a := math.Atan2(y[i], x[i])
+			if a < 0 {
+				a += 2 * math.Pi
+			}
+			k := min(int(a/(2*math.Pi)*RimSectors), RimSectors-1)
+			c[k]++
 		}
-		rr := math.Hypot(x[i], y[i])
-		if rr < inner || rr > r*(1+1e-9) {
-			continue
+	})
+	count := make([]int, RimSectors)
+	for t := range counts {
+		for k, c := range counts[t] {
+			count[k] += c
 		}
-		a := math.Atan2(y[i], x[i])
-		if a < 0 {
-			a += 2 * math.Pi
-		}
-		k := min(int(a/(2*math.Pi)*RimSectors), RimSectors-1)
-		count[k]++
 	}
 	need := 1.0
 	if spacingM > 0 {

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"gapflux/internal/order"
+	"gapflux/internal/parallel"
 )
 
 // DefaultCellM is the cell edge used when the point spacing is unknown
@@ -123,7 +124,7 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	s, base, nBase := baseSurface(r, cell)
 	g.Raw = s
 	have := make([]bool, len(base))
-	kept, err := sampleBase(g, s, base, have, c, bp, k)
+	kept, bins, err := sampleBase(g, s, base, have, c, bp, k)
 	if err != nil {
 		return nil, err
 	}
@@ -133,7 +134,7 @@ func Grid(l *Levelled, opt GridOptions) (*Gridded, error) {
 	}
 	g.FillIterations = inpaint(s, have)
 	g.MeasuredCellsPct = 100 * float64(nMeas) / float64(nBase)
-	cv := measureCoverage(s, kept.x, kept.y, r, sp)
+	cv := measureCoverage(s, kept.x, kept.y, bins.order, bins.start, r, sp)
 	g.CoveragePct, g.LargestHoleM = cv.CoveragePct, cv.LargestHoleM
 	g.RimCompletenessPct, g.RimSectorsMissing = cv.RimCompletenessPct, cv.RimSectorsMissing
 	if g.CoveragePct < 90 {
@@ -167,10 +168,18 @@ func checkGridInput(l *Levelled, opt GridOptions) (float64, error) {
 	if !(r > 0) || math.IsInf(r, 0) {
 		return 0, fmt.Errorf("scan: grid: base radius %g m is not positive and finite", r)
 	}
-	for i, p := range l.Cloud.Points {
-		if !finite3(p) {
-			return 0, fmt.Errorf("scan: grid: point %d is not finite", i)
+	// Ranges of points are checked at once; the first range's fault is
+	// the one reported, as a sequential scan would.
+	pts := l.Cloud.Points
+	if i, bad := parallel.First(len(pts), rowParts(len(pts)), func(lo, hi int) (int, bool) {
+		for i := lo; i < hi; i++ {
+			if !finite3(pts[i]) {
+				return i, true
+			}
 		}
+		return 0, false
+	}); bad {
+		return 0, fmt.Errorf("scan: grid: point %d is not finite", i)
 	}
 	return k, nil
 }
@@ -223,15 +232,16 @@ func baseSurface(r, cell float64) (s *Surface, base []bool, nBase int) {
 // and its outlying cells rejected; a point cloud has its outlying points
 // (threshold k robust sigmas) removed and is binned by median height. It
 // sets have for every cell with data, records the outliers in g and
-// returns the base points kept.
-func sampleBase(g *Gridded, s *Surface, base, have []bool, c *Cloud, bp samples, k float64) (samples, error) {
+// returns the base points kept and, for a point cloud, their bins in the
+// cells of s (none for a mesh).
+func sampleBase(g *Gridded, s *Surface, base, have []bool, c *Cloud, bp samples, k float64) (samples, cellBins, error) {
 	kept := bp
 	if len(c.Triangles) > 0 {
 		if err := rasterise(s, base, have, c); err != nil {
-			return kept, err
+			return kept, cellBins{}, err
 		}
 		g.OutliersRemoved, g.OutlierSigmaM = rejectMeshCells(s, have, g.PointSpacingM, k)
-		return kept, nil
+		return kept, cellBins{}, nil
 	}
 	out, sigma := LocalOutliers(bp.x, bp.y, bp.z, g.PointSpacingM, k)
 	g.OutlierSigmaM = sigma
@@ -242,8 +252,8 @@ func sampleBase(g *Gridded, s *Surface, base, have []bool, c *Cloud, bp samples,
 	}
 	g.OutliersRemoved = len(g.Outliers)
 	kept = bp.without(out)
-	binCloud(s, base, have, kept)
-	return kept, nil
+	bins := binCloud(s, base, have, kept)
+	return kept, bins, nil
 }
 
 // markStates sets each cell's state: Measured where it has data, Filled
@@ -331,8 +341,14 @@ func (s samples) without(drop []bool) samples {
 // rejectMeshCells runs LocalOutliers on the rasterised cells of a mesh and
 // drops the rejected ones. It returns their count and the robust σ, m.
 func rejectMeshCells(s *Surface, have []bool, spacingM, k float64) (int, float64) {
-	var x, y, z []float64
-	var qs []int
+	m := 0
+	for _, h := range have {
+		if h {
+			m++
+		}
+	}
+	x, y, z := make([]float64, 0, m), make([]float64, 0, m), make([]float64, 0, m)
+	qs := make([]int, 0, m)
 	for q, h := range have {
 		if h {
 			x = append(x, s.X(q%s.Nx))
@@ -364,45 +380,29 @@ func gridIndex(s *Surface, x, y float64) int {
 }
 
 // binCloud sets each base cell holding samples to the median height of
-// its samples.
-func binCloud(s *Surface, base, have []bool, sm samples) {
+// its samples, and returns the samples binned by cell of s (base or not;
+// samples off the grid left out), for the coverage measures.
+func binCloud(s *Surface, base, have []bool, sm samples) cellBins {
 	n := s.Nx * s.Ny
-	cellOf := make([]int32, len(sm.z))
-	parallelRows(len(sm.z), func(i0, i1 int) {
-		for i := i0; i < i1; i++ {
-			q := gridIndex(s, sm.x[i], sm.y[i])
-			if q < 0 || !base[q] {
-				q = -1
-			}
-			cellOf[i] = int32(q)
-		}
-	})
-	start := make([]int32, n+1)
-	for _, q := range cellOf {
-		if q >= 0 {
-			start[q+1]++
-		}
-	}
-	for q := range n {
-		start[q+1] += start[q]
-	}
-	zs := make([]float64, start[n])
-	fill := append([]int32(nil), start[:n]...)
-	for i, z := range sm.z {
-		if q := cellOf[i]; q >= 0 {
-			zs[fill[q]] = z
-			fill[q]++
-		}
-	}
-	// Each cell's heights are its own slice of zs: rows of cells at once.
+	byCell, start := sortByCell(gridCells(s, sm.x, sm.y), n)
+	// Each cell's heights are copied, in sample order, to its worker's
+	// scratch: rows of cells at once.
 	parallelRows(s.Ny, func(j0, j1 int) {
+		var zs []float64
 		for q := j0 * s.Nx; q < j1*s.Nx; q++ {
-			if a := zs[start[q]:start[q+1]]; len(a) > 0 {
-				s.ZM[q] = medianInPlace(a)
-				have[q] = true
+			ids := byCell[start[q]:start[q+1]]
+			if len(ids) == 0 || !base[q] {
+				continue
 			}
+			zs = zs[:0]
+			for _, i := range ids {
+				zs = append(zs, sm.z[i])
+			}
+			s.ZM[q] = medianInPlace(zs)
+			have[q] = true
 		}
 	})
+	return cellBins{order: byCell, start: start}
 }
 
 // rasterise sets each base cell covered by a triangle to the lowest

@@ -137,46 +137,66 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	}
 	cutoff := max(OutlierCutoffM, outlierCutoffSpacings*spacingM)
 	g := newRefGrid(x, y, cutoff/refCellsPerCutoff)
-	nc := g.nx * g.ny
 	cellOf := make([]int32, n)
-	for i := range n {
-		cellOf[i] = int32(g.cell(x[i], y[i]))
-	}
-	byCell, cellStart := samplesByCell(cellOf, nc)
+	parallelRows(n, func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			cellOf[i] = int32(g.cell(x[i], y[i]))
+		}
+	})
+	byCell, cellStart := sortByCell(cellOf, g.nx*g.ny)
 	f := refStart(g, byCell, cellStart, z)
+	res := make([]float64, n)
+	f = reweight(g, f, x, y, z, byCell, cellStart, res)
+	residuals(g, f, x, y, z, res)
+	sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)
+	// The local scale: the 7×7-cell median of the cells' median |r|.
+	// Where the reference cannot follow the form (a kink, a sharp bend)
+	// most residuals around grow and so does the limit; isolated spikes
+	// and streaks are too few to move a median.
+	// res becomes |r| in place (0 for NaN, which no limit exceeds either).
+	abs := res
+	parallelRows(n, func(i0, i1 int) {
+		for i, r := range res[i0:i1] {
+			abs[i0+i] = math.Abs(r)
+			if math.IsNaN(r) {
+				abs[i0+i] = 0
+			}
+		}
+	})
+	local := refStart(g, byCell, cellStart, abs)
+	parallelRows(n, func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			s := sigma
+			if v := local[cellOf[i]]; !math.IsNaN(v) {
+				s = max(s, madToSigma*v)
+			}
+			out[i] = abs[i] > k*s
+		}
+	})
+	return out, sigma
+}
+
+// reweight runs the iterations of LocalOutliers from the starting
+// reference f (m, on the cells of g) and returns the reference it ends
+// with. res is scratch for the residuals (m).
+func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []float64) []float64 {
+	nc := g.nx * g.ny
 	reg := newGaussRegression(g.nx, g.ny, refCellsPerCutoff, 1)
 	w := make([]float64, nc)
 	wz := make([]float64, nc)
-	res := make([]float64, n)
 	fNew := make([]float64, nc)
 	has := func(q int) bool { return true }
-	sigma := 0.0
+	var buf []float64
 	for it := 0; it < outlierMaxIter; it++ {
 		residuals(g, f, x, y, z, res)
-		sigma = max(madToSigma*madOf(res), outlierSigmaFloorM)
+		mad, b := madOfInto(res, buf)
+		buf = b
+		sigma := max(madToSigma*mad, outlierSigmaFloorM)
 		c := BiweightC / madToSigma * sigma
 		if it == 0 {
 			c *= 2 // the median start is rougher than a fit
 		}
-		clear(w)
-		clear(wz)
-		for i := range n {
-			q := cellOf[i]
-			if math.IsNaN(res[i]) || math.IsNaN(f[q]) {
-				continue
-			}
-			bw := biweight(res[i], c)
-			if bw == 0 {
-				continue
-			}
-			w[q] += bw
-			wz[q] += bw * (res[i] + f[q])
-		}
-		for q := range nc {
-			if w[q] > 0 {
-				wz[q] /= w[q]
-			}
-		}
+		cellWeights(g, f, res, byCell, cellStart, c, w, wz)
 		for q := range fNew {
 			fNew[q] = nan
 		}
@@ -197,57 +217,50 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 			break
 		}
 	}
-	residuals(g, f, x, y, z, res)
-	sigma = max(madToSigma*madOf(res), outlierSigmaFloorM)
-	// The local scale: the 7×7-cell median of the cells' median |r|.
-	// Where the reference cannot follow the form (a kink, a sharp bend)
-	// most residuals around grow and so does the limit; isolated spikes
-	// and streaks are too few to move a median.
-	// res becomes |r| in place (0 for NaN, which no limit exceeds either).
-	abs := res
-	for i, r := range res {
-		abs[i] = math.Abs(r)
-		if math.IsNaN(r) {
-			abs[i] = 0
+	return f
+}
+
+// cellWeights sets, for every cell q of g, w[q] to the sum of the
+// biweights (constant c, m) of its samples' residuals res (m) and wz[q]
+// to their weighted mean height (m) where w[q] > 0; cell q's samples are
+// byCell[cellStart[q]:cellStart[q+1]]. Each cell's sums run over its
+// samples in index order, as a pass over the samples would add them, so
+// the rows of cells can be shared between the processors.
+func cellWeights(g refGrid, f, res []float64, byCell, cellStart []int32, c float64, w, wz []float64) {
+	parallelRows(g.ny, func(j0, j1 int) {
+		for q := j0 * g.nx; q < j1*g.nx; q++ {
+			sw, swz := 0.0, 0.0
+			if fq := f[q]; !math.IsNaN(fq) {
+				for _, i := range byCell[cellStart[q]:cellStart[q+1]] {
+					r := res[i]
+					if math.IsNaN(r) {
+						continue
+					}
+					bw := biweight(r, c)
+					if bw == 0 {
+						continue
+					}
+					sw += bw
+					swz += bw * (r + fq)
+				}
+			}
+			if sw > 0 {
+				swz /= sw
+			}
+			w[q], wz[q] = sw, swz
 		}
-	}
-	local := refStart(g, byCell, cellStart, abs)
-	for i, a := range abs {
-		s := sigma
-		if v := local[cellOf[i]]; !math.IsNaN(v) {
-			s = max(s, madToSigma*v)
-		}
-		out[i] = a > k*s
-	}
-	return out, sigma
+	})
 }
 
 // samplesByCell returns the sample indices sorted by cell, each cell's in
 // index order: cell q's are byCell[start[q]:start[q+1]].
 func samplesByCell(cellOf []int32, nc int) (byCell, start []int32) {
-	start = make([]int32, nc+1)
-	for _, q := range cellOf {
-		start[q+1]++
-	}
-	for q := range nc {
-		start[q+1] += start[q]
-	}
-	byCell = make([]int32, len(cellOf))
-	fill := append([]int32(nil), start[:nc]...)
-	for i, q := range cellOf {
-		byCell[fill[q]] = int32(i)
-		fill[q]++
-	}
-	return byCell, start
+	return sortByCell(cellOf, nc)
 }
 
 // newRefGrid returns a grid of cells of edge h covering the samples.
 func newRefGrid(x, y []float64, h float64) refGrid {
-	xmin, xmax, ymin, ymax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
-	for i := range x {
-		xmin, xmax = min(xmin, x[i]), max(xmax, x[i])
-		ymin, ymax = min(ymin, y[i]), max(ymax, y[i])
-	}
+	xmin, xmax, ymin, ymax := bounds(x, y)
 	g := refGrid{h: h, x0: xmin, y0: ymin}
 	g.nx = int(math.Ceil((xmax-xmin)/h)) + 2
 	g.ny = int(math.Ceil((ymax-ymin)/h)) + 2
@@ -256,25 +269,40 @@ func newRefGrid(x, y []float64, h float64) refGrid {
 
 // refStart returns the starting reference: the median of each cell's
 // samples, then the median of those over the (2·refMedianHalf+1)² window
-// around every cell (NaN where the window is empty).
+// around every cell (NaN where the window is empty). Cell q's samples are
+// z[byCell[start[q]:start[q+1]]], or z[start[q]:start[q+1]] when byCell
+// is nil (z in cell order); z is not changed.
 func refStart(g refGrid, byCell, start []int32, z []float64) []float64 {
 	nc := g.nx * g.ny
-	zs := make([]float64, len(z))
-	for k, i := range byCell {
-		zs[k] = z[i]
-	}
-	// Each cell's samples are its own slice of zs: the rows of cells are
-	// split between the workers with no effect on the result.
+	// Each cell's heights are copied, in index order, to its worker's
+	// scratch: the rows of cells are split between the workers with no
+	// effect on the result.
 	med := make([]float64, nc)
 	parallelRows(g.ny, func(j0, j1 int) {
+		var buf []float64
 		for q := j0 * g.nx; q < j1*g.nx; q++ {
-			if a := zs[start[q]:start[q+1]]; len(a) > 0 {
-				med[q] = medianInPlace(a)
+			buf = buf[:0]
+			if byCell == nil {
+				buf = append(buf, z[start[q]:start[q+1]]...)
 			} else {
-				med[q] = nan
+				for _, i := range byCell[start[q]:start[q+1]] {
+					buf = append(buf, z[i])
+				}
+			}
+			med[q] = nan
+			if len(buf) > 0 {
+				med[q] = medianInPlace(buf)
 			}
 		}
 	})
+	return windowMedians(g, med)
+}
+
+// windowMedians returns, for every cell of g, the median of the non-NaN
+// values of med (m) over the (2·refMedianHalf+1)² window around it (NaN
+// where there are none).
+func windowMedians(g refGrid, med []float64) []float64 {
+	nc := g.nx * g.ny
 	f := make([]float64, nc)
 	parallelRows(g.ny, func(j0, j1 int) {
 		buf := make([]float64, 0, (2*refMedianHalf+1)*(2*refMedianHalf+1))
@@ -319,19 +347,35 @@ func residuals(g refGrid, f, x, y, z, res []float64) {
 // madOf returns the median absolute deviation about the median of the
 // finite values of r (a stride subsample of at most madSampleMax), or 0.
 func madOf(r []float64) float64 {
+	m, _ := madOfInto(r, nil)
+	return m
+}
+
+// madOfInto is madOf gathering the subsample into buf's storage (grown
+// when short), which it returns for the next call.
+func madOfInto(r, buf []float64) (float64, []float64) {
 	step := max(1, len(r)/madSampleMax)
-	a := make([]float64, 0, len(r)/step+1)
+	a := buf[:0]
+	if cap(a) < len(r)/step+1 {
+		a = make([]float64, 0, len(r)/step+1)
+	}
 	for i := 0; i < len(r); i += step {
 		if !math.IsNaN(r[i]) {
 			a = append(a, r[i])
 		}
 	}
+	return madOfValues(a), a
+}
+
+// madOfValues returns the median absolute deviation about the median of
+// a (finite values), or 0 when a is empty; a is reordered and changed.
+func madOfValues(a []float64) float64 {
 	if len(a) == 0 {
 		return 0
 	}
-	m := medianInPlace(a)
+	m := bracketMedian(a)
 	for i := range a {
 		a[i] = math.Abs(a[i] - m)
 	}
-	return medianInPlace(a)
+	return bracketMedian(a)
 }
