@@ -1,5 +1,7 @@
 package scan
 
+import "math"
+
 // applyPlane is apply for the first-order (plane) regression, the
 // filters' default: the same sums of the same products in the same order,
 // with each cell's five row moments side by side (rm) and the nine column
@@ -22,15 +24,12 @@ func (r *gaussRegression) applyPlane(w, z, out []float64, use func(q int) bool) 
 			r.planeRow(r.rm[5*row:5*(row+nx)], w[row:row+nx], z[row:row+nx], wz)
 		}
 	})
-	mons, mw := monomials(1), monomials(2)
 	parallelRows(ny, func(j0, j1 int) {
-		var sol regressionSolver
 		for j := j0; j < j1; j++ {
 			lo, hi := max(-h, -j), min(h, ny-1-j)
 			for i := range nx {
 				if q := j*nx + i; use(q) {
-					bw, bz := r.planeSums(j, i, lo, hi)
-					out[q] = sol.solve(1, mons, mw, bw[:], bz[:])
+					out[q] = solvePlane(r.planeSums(j, i, lo, hi))
 				}
 			}
 		}
@@ -121,7 +120,10 @@ func (r *gaussRegression) planeSums(j, i, lo, hi int) (bw [6]float64, bz [3]floa
 }
 
 // columnTaps adds to the column moments m (planeSums' order) the taps
-// l = l0 … l1 (none of them 0) of the row moments rm[q + (l−l0)·stride].
+// l = l0 … l1 (none of them 0) of the row moments rm[q + (l−l0)·stride]:
+// first the five moments of kernel g_0, then the four of g_1 and g_2
+// (two loops, so that each keeps its sums in registers; every sum still
+// takes its taps in increasing l).
 func (r *gaussRegression) columnTaps(m *[9]float64, q, stride, l0, l1 int) {
 	if l1 < l0 {
 		return
@@ -130,20 +132,92 @@ func (r *gaussRegression) columnTaps(m *[9]float64, q, stride, l0, l1 int) {
 	g1 := r.g[1][l0+r.half : l1+r.half+1][:len(g0)]
 	g2 := r.g[2][l0+r.half : l1+r.half+1][:len(g0)]
 	rm := r.rm
-	m00, m10, m01, m20, m11, m02, z00, z10, z01 := m[0], m[1], m[2], m[3], m[4], m[5], m[6], m[7], m[8]
+	m00, m10, m20, z00, z10 := m[0], m[1], m[3], m[6], m[7]
 	for t, c0 := range g0 {
-		c1, c2 := g1[t], g2[t]
-		s := (*[5]float64)(rm[q : q+5])
-		q += stride
+		s := (*[5]float64)(rm[q+t*stride : q+t*stride+5])
 		m00 += c0 * s[0]
-		m01 += c1 * s[0]
-		m02 += c2 * s[0]
 		m10 += c0 * s[1]
-		m11 += c1 * s[1]
 		m20 += c0 * s[2]
 		z00 += c0 * s[3]
-		z01 += c1 * s[3]
 		z10 += c0 * s[4]
 	}
+	m01, m11, m02, z01 := m[2], m[4], m[5], m[8]
+	for t, c1 := range g1 {
+		c2 := g2[t]
+		s := (*[5]float64)(rm[q+t*stride : q+t*stride+5])
+		m01 += c1 * s[0]
+		m11 += c1 * s[1]
+		m02 += c2 * s[0]
+		z01 += c1 * s[3]
+	}
 	*m = [9]float64{m00, m10, m01, m20, m11, m02, z00, z10, z01}
+}
+
+// solvePlane is regressionSolver.solve for degree 1: β0 of the plane
+// fitted to one cell's moments bw (M00 M10 M01 M20 M11 M02) and bz (Z00
+// Z10 Z01), or of the constant when the 3×3 normal matrix is singular;
+// NaN when the cell has no weight. The same divisions, pivots and
+// eliminations in the same order as solve and solveSmallInPlace, on
+// arrays of fixed size.
+func solvePlane(bw [6]float64, bz [3]float64) float64 {
+	m00 := bw[0]
+	if !(m00 > 0) {
+		return nan
+	}
+	a := [9]float64{
+		bw[0] / m00, bw[1] / m00, bw[2] / m00,
+		bw[1] / m00, bw[3] / m00, bw[4] / m00,
+		bw[2] / m00, bw[4] / m00, bw[5] / m00,
+	}
+	b := [3]float64{bz[0] / m00, bz[1] / m00, bz[2] / m00}
+	if x, ok := solve3(&a, &b); ok {
+		return x
+	}
+	return bz[0] / m00
+}
+
+// solve3 is solveSmallInPlace for k = 3.
+func solve3(a *[9]float64, b *[3]float64) (float64, bool) {
+	scale := 0.0
+	for r := range 3 {
+		scale = max(scale, math.Abs(a[r*3+r]))
+	}
+	if !(scale > 0) {
+		return 0, false
+	}
+	for c := range 3 {
+		p := c
+		for r := c + 1; r < 3; r++ {
+			if math.Abs(a[r*3+c]) > math.Abs(a[p*3+c]) {
+				p = r
+			}
+		}
+		if math.Abs(a[p*3+c]) < 1e-10*scale {
+			return 0, false
+		}
+		if p != c {
+			for t := range 3 {
+				a[p*3+t], a[c*3+t] = a[c*3+t], a[p*3+t]
+			}
+			b[p], b[c] = b[c], b[p]
+		}
+		for r := c + 1; r < 3; r++ {
+			f := a[r*3+c] / a[c*3+c]
+			if f == 0 {
+				continue
+			}
+			for t := c; t < 3; t++ {
+				a[r*3+t] -= f * a[c*3+t]
+			}
+			b[r] -= f * b[c]
+		}
+	}
+	for r := 2; r >= 0; r-- {
+		v := b[r]
+		for t := r + 1; t < 3; t++ {
+			v -= a[r*3+t] * b[t]
+		}
+		b[r] = v / a[r*3+r]
+	}
+	return b[0], true
 }
