@@ -171,7 +171,7 @@ func Filter(raw *Surface, opt FilterOptions) (*FilterResult, error) {
 	reg := newGaussRegression(raw.Nx, raw.Ny, cutoffM/raw.CellM, int(order)-1)
 	form := raw.Clone()
 	if method == FilterRobust {
-		medianStartWeights(raw, cutoffM, w)
+		medianStartWeights(raw, cutoffM, w, nBase)
 	}
 	reg.apply(w, raw.ZM, form.ZM, raw.InBase)
 	res := &FilterResult{Form: form, CutoffM: cutoffM, Method: method, Order: int(order) - 1, Iterations: 1}
@@ -241,9 +241,10 @@ func fillUnweighted(raw, form *Surface) {
 // block medians over 7×7 blocks, interpolated bilinearly; see refStart).
 // A median keeps steps and ignores spikes, so the first regression pass
 // does not smear them (a documented departure from ISO 16610-71's linear
-// first pass, which a step or a cluster of outliers can trap).
-func medianStartWeights(raw *Surface, cutoffM float64, w []float64) {
-	var x, y, z []float64
+// first pass, which a step or a cluster of outliers can trap). nBase is
+// the number of base cells.
+func medianStartWeights(raw *Surface, cutoffM float64, w []float64, nBase int) {
+	x, y, z := make([]float64, 0, nBase), make([]float64, 0, nBase), make([]float64, 0, nBase)
 	for p := range w {
 		if raw.InBase(p) {
 			x = append(x, raw.X(p%raw.Nx))
