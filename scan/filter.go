@@ -214,11 +214,13 @@ func robustPasses(raw, form *Surface, w []float64, reg *gaussRegression, maxIt i
 			break
 		}
 		cPrev = c
-		for p := range n {
-			if raw.InBase(p) {
-				w[p] = biweight(raw.ZM[p]-form.ZM[p], c)
+		parallelRows(n, func(p0, p1 int) { // each cell's weight on its own
+			for p := p0; p < p1; p++ {
+				if raw.InBase(p) {
+					w[p] = biweight(raw.ZM[p]-form.ZM[p], c)
+				}
 			}
-		}
+		})
 		reg.apply(w, raw.ZM, form.ZM, raw.InBase)
 		res.Iterations++
 		fillUnweighted(raw, form)
@@ -228,11 +230,13 @@ func robustPasses(raw, form *Surface, w []float64, reg *gaussRegression, maxIt i
 // fillUnweighted gives a base cell whose whole window lost its weight
 // (form NaN) the raw height.
 func fillUnweighted(raw, form *Surface) {
-	for p, z := range form.ZM {
-		if raw.InBase(p) && math.IsNaN(z) {
-			form.ZM[p] = raw.ZM[p]
+	parallelRows(len(form.ZM), func(p0, p1 int) {
+		for p := p0; p < p1; p++ {
+			if raw.InBase(p) && math.IsNaN(form.ZM[p]) {
+				form.ZM[p] = raw.ZM[p]
+			}
 		}
-	}
+	})
 }
 
 // medianStartWeights sets the robust filter's first weights: the biweight,
