@@ -3,19 +3,16 @@ package scan
 import "math"
 
 // applyPlane is apply for the first-order (plane) regression, the
-// filters' default: the same sums of the same products in the same order,
-// with each cell's five row moments side by side (rm) and the nine column
-// moments of a cell summed in registers, only at the cells in use.
+// filters' default (ISO 16610-61/-71 Gaussian regression, see
+// gaussRegression): the same sums of the same products in the same order
+// as the general row and column passes (rowPass, momentColumns), with
+// each cell's five row moments side by side (rm) and the nine column
+// moments of a cell summed in registers, only at the cells in use. Rows,
+// then cells, are split between the processors; none of the sums is.
 func (r *gaussRegression) applyPlane(w, z, out []float64, use func(q int) bool) {
 	nx, ny, h := r.nx, r.ny, r.half
 	if r.rm == nil {
 		r.rm = make([]float64, 5*nx*ny)
-		r.gk = make([]float64, 3*(2*h+1))
-		for k := range 2*h + 1 {
-			for p := range 3 {
-				r.gk[3*k+p] = r.g[p][k]
-			}
-		}
 	}
 	parallelRows(ny, func(j0, j1 int) {
 		wz := make([]float64, nx)

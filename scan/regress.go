@@ -34,10 +34,9 @@ type gaussRegression struct {
 	// Row-pass buffers, kept between calls.
 	rw, rz [][]float64
 	wz     []float64
-	// First-order (plane) fit only: gk[3(k+half)+p] = g[p][k+half], and
-	// the row moments of each cell q, rm[5q:5q+5] = (rw0, rw1, rw2, rz0,
-	// rz1) (see applyPlane).
-	gk, rm []float64
+	// First-order (plane) fit only: the row moments of each cell q,
+	// rm[5q:5q+5] = (rw0, rw1, rw2, rz0, rz1) (see applyPlane).
+	rm []float64
 }
 
 // convolveRow sets dst[i] = Σ_k g[k+half]·src[i+k] over the k that keep
