@@ -171,7 +171,7 @@ func Filter(raw *Surface, opt FilterOptions) (*FilterResult, error) {
 	reg := newGaussRegression(raw.Nx, raw.Ny, cutoffM/raw.CellM, int(order)-1)
 	form := raw.Clone()
 	if method == FilterRobust {
-		medianStartWeights(raw, cutoffM, w)
+		medianStartWeights(raw, cutoffM, w, nBase)
 	}
 	reg.apply(w, raw.ZM, form.ZM, raw.InBase)
 	res := &FilterResult{Form: form, CutoffM: cutoffM, Method: method, Order: int(order) - 1, Iterations: 1}
@@ -209,16 +209,18 @@ func robustPasses(raw, form *Surface, w []float64, reg *gaussRegression, maxIt i
 				r = append(r, raw.ZM[p]-form.ZM[p])
 			}
 		}
-		c := BiweightC * max(madOf(r), outlierSigmaFloorM/madToSigma)
+		c := BiweightC * max(filterMAD(r), outlierSigmaFloorM/madToSigma)
 		if cPrev > 0 && math.Abs(c-cPrev) <= 5e-3*cPrev {
 			break
 		}
 		cPrev = c
-		for p := range n {
-			if raw.InBase(p) {
-				w[p] = biweight(raw.ZM[p]-form.ZM[p], c)
+		parallelRows(n, func(p0, p1 int) { // each cell's weight on its own
+			for p := p0; p < p1; p++ {
+				if raw.InBase(p) {
+					w[p] = biweight(raw.ZM[p]-form.ZM[p], c)
+				}
 			}
-		}
+		})
 		reg.apply(w, raw.ZM, form.ZM, raw.InBase)
 		res.Iterations++
 		fillUnweighted(raw, form)
@@ -228,11 +230,13 @@ func robustPasses(raw, form *Surface, w []float64, reg *gaussRegression, maxIt i
 // fillUnweighted gives a base cell whose whole window lost its weight
 // (form NaN) the raw height.
 func fillUnweighted(raw, form *Surface) {
-	for p, z := range form.ZM {
-		if raw.InBase(p) && math.IsNaN(z) {
-			form.ZM[p] = raw.ZM[p]
+	parallelRows(len(form.ZM), func(p0, p1 int) {
+		for p := p0; p < p1; p++ {
+			if raw.InBase(p) && math.IsNaN(form.ZM[p]) {
+				form.ZM[p] = raw.ZM[p]
+			}
 		}
-	}
+	})
 }
 
 // medianStartWeights sets the robust filter's first weights: the biweight,
@@ -241,9 +245,10 @@ func fillUnweighted(raw, form *Surface) {
 // block medians over 7×7 blocks, interpolated bilinearly; see refStart).
 // A median keeps steps and ignores spikes, so the first regression pass
 // does not smear them (a documented departure from ISO 16610-71's linear
-// first pass, which a step or a cluster of outliers can trap).
-func medianStartWeights(raw *Surface, cutoffM float64, w []float64) {
-	var x, y, z []float64
+// first pass, which a step or a cluster of outliers can trap). nBase is
+// the number of base cells.
+func medianStartWeights(raw *Surface, cutoffM float64, w []float64, nBase int) {
+	x, y, z := make([]float64, 0, nBase), make([]float64, 0, nBase), make([]float64, 0, nBase)
 	for p := range w {
 		if raw.InBase(p) {
 			x = append(x, raw.X(p%raw.Nx))
@@ -260,7 +265,7 @@ func medianStartWeights(raw *Surface, cutoffM float64, w []float64) {
 	f := refStart(g, byCell, start, z)
 	r := make([]float64, len(z))
 	residuals(g, f, x, y, z, r)
-	c := 2 * BiweightC * max(madOf(r), outlierSigmaFloorM/madToSigma)
+	c := 2 * BiweightC * max(filterMAD(r), outlierSigmaFloorM/madToSigma)
 	t := 0
 	for p := range w {
 		if raw.InBase(p) {

@@ -65,10 +65,35 @@ func MeasureForm(s *Surface, radiusM float64) (*Form, error) {
 		x[n], y[n], z[n] = s.X(k%s.Nx), s.Y(k/s.Nx), s.ZM[k]
 	}
 	f := &Form{DiameterM: 2 * radiusM, Cells: len(idx)}
-
-	ls, err := planeFitLS(x, y, z)
+	// The Zernike fit (itself split between the processors) runs beside
+	// the flatness and concavity; each is computed as on its own, and
+	// the first error in the order flatness, concavity, Zernike is the
+	// one returned.
+	var zern []ZernikeTerm
+	var zernErr error
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		zern, zernErr = fitZernike(s, idx, radiusM, DefaultZernikeOrder)
+	}()
+	err := measureFlatness(f, x, y, z, radiusM)
+	<-done
 	if err != nil {
 		return nil, err
+	}
+	if zernErr != nil {
+		return nil, zernErr
+	}
+	f.Zernike = zern
+	return f, nil
+}
+
+// measureFlatness sets f's least-squares and minimum-zone flatness and
+// its concavity from the cells (x, y, z) of the disc of radius radiusM.
+func measureFlatness(f *Form, x, y, z []float64, radiusM float64) error {
+	ls, err := planeFitLS(x, y, z)
+	if err != nil {
+		return err
 	}
 	f.LSPlane = ls
 	lo, hi := residualRange(x, y, z, ls)
@@ -76,23 +101,18 @@ func MeasureForm(s *Surface, radiusM float64) (*Form, error) {
 
 	w, mz, err := MinimumZone(x, y, z)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	f.MZPlane = mz
 	f.FlatnessMZM = w / math.Sqrt(1+mz[0]*mz[0]+mz[1]*mz[1])
 
 	c3, err := paraboloidFit(x, y, z, radiusM)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	f.ConcavityM = -c3 * radiusM * radiusM
 	f.ConcavityPctOfDiameter = 100 * f.ConcavityM / f.DiameterM
-
-	f.Zernike, err = FitZernike(s, radiusM, DefaultZernikeOrder)
-	if err != nil {
-		return nil, err
-	}
-	return f, nil
+	return nil
 }
 
 // formCells returns the indices of the Measured cells of s with centres

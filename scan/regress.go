@@ -34,11 +34,17 @@ type gaussRegression struct {
 	// Row-pass buffers, kept between calls.
 	rw, rz [][]float64
 	wz     []float64
+	// First-order (plane) fit only: the row moments of each cell q,
+	// rm[5q:5q+5] = (rw0, rw1, rw2, rz0, rz1) (see applyPlane).
+	rm []float64
 }
 
 // convolveRow sets dst[i] = Σ_k g[k+half]·src[i+k] over the k that keep
-// i+k inside the row.
-func convolveRow(dst, src, g []float64, half int) {
+// i+k inside [a, b), where src may be non-zero (src is 0 outside: the
+// terms left out are ±0, and a sum that starts at +0 is never −0, so
+// every dst[i] is bit for bit the sum over the whole row). Zero taps are
+// skipped.
+func convolveRow(dst, src, g []float64, half, a, b int) {
 	n := len(dst)
 	clear(dst)
 	for k := -half; k <= half; k++ {
@@ -46,7 +52,7 @@ func convolveRow(dst, src, g []float64, half int) {
 		if c == 0 {
 			continue
 		}
-		i0, i1 := max(0, -k), min(n, n-k)
+		i0, i1 := max(0, -k, a-k), min(n, n-k, b-k)
 		if i0 >= i1 {
 			continue
 		}
@@ -55,6 +61,22 @@ func convolveRow(dst, src, g []float64, half int) {
 			d[i] += c * s[i]
 		}
 	}
+}
+
+// nonZeroSpan returns the smallest [a, b) holding every non-zero v[i]
+// (a = b = 0 when there is none).
+func nonZeroSpan(v []float64) (a, b int) {
+	for a < len(v) && v[a] == 0 {
+		a++
+	}
+	if a == len(v) {
+		return 0, 0
+	}
+	b = len(v)
+	for v[b-1] == 0 {
+		b--
+	}
+	return a, b
 }
 
 // newGaussRegression prepares the kernel for a cut-off of cutoffCells cells.
@@ -92,44 +114,63 @@ func monomials(d int) [][2]int {
 // (read only where w > 0). A cell whose normal equations are singular at
 // the requested order falls back to lower orders; a cell with no weight in
 // its window gets NaN.
+//
+// Every fitted value is the same sum of the same products in the same
+// order on any number of processors: the rows of the row pass, and the
+// cells of the column pass, are independent and only split between them.
 func (r *gaussRegression) apply(w, z, out []float64, use func(q int) bool) {
+	if r.order == 1 {
+		r.applyPlane(w, z, out, use)
+		return
+	}
+	r.rowPass(w, z)
+	r.momentColumns(out, use)
+}
+
+// rowPass sets the row moments rw[a][q] = Σ_k g_a(k)·w[q+k] (a ≤ 2·order)
+// and rz[a][q] = Σ_k g_a(k)·w·z[q+k] (a ≤ order) along each row, over
+// the row's span of non-zero weights only (see convolveRow).
+func (r *gaussRegression) rowPass(w, z []float64) {
 	nx, ny, d := r.nx, r.ny, r.order
 	n := nx * ny
-	nw, nz := 2*d+1, d+1
-	// Row pass: rw[a][q] = Σ_k g_a(k)·w[q+k], rz[a][q] = Σ_k g_a(k)·w·z.
 	if r.rw == nil {
-		r.rw = make([][]float64, nw)
+		r.rw = make([][]float64, 2*d+1)
 		for a := range r.rw {
 			r.rw[a] = make([]float64, n)
 		}
-		r.rz = make([][]float64, nz)
+		r.rz = make([][]float64, d+1)
 		for a := range r.rz {
 			r.rz[a] = make([]float64, n)
 		}
 		r.wz = make([]float64, n)
 	}
-	rw, rz, wz := r.rw, r.rz, r.wz
-	for q := range n {
-		wz[q] = 0
-		if w[q] != 0 {
-			wz[q] = w[q] * z[q]
-		}
-	}
 	parallelRows(ny, func(j0, j1 int) {
 		for j := j0; j < j1; j++ {
 			row := j * nx
-			wr, zr := w[row:row+nx], wz[row:row+nx]
-			for a := range nw {
-				convolveRow(rw[a][row:row+nx], wr, r.g[a], r.half)
+			wr, zr := w[row:row+nx], r.wz[row:row+nx]
+			for i, wi := range wr {
+				zr[i] = 0
+				if wi != 0 {
+					zr[i] = wi * z[row+i]
+				}
 			}
-			for a := range nz {
-				convolveRow(rz[a][row:row+nx], zr, r.g[a], r.half)
+			a, b := nonZeroSpan(wr)
+			for p, rw := range r.rw {
+				convolveRow(rw[row:row+nx], wr, r.g[p], r.half, a, b)
+			}
+			for p, rz := range r.rz {
+				convolveRow(rz[row:row+nx], zr, r.g[p], r.half, a, b)
 			}
 		}
 	})
+}
+
+// momentColumns is the column pass and solve of any order: for each
+// output row it sums the moment rows M_ab (a + b ≤ 2·order) and Z_ab
+// (a + b ≤ order) down the columns, then solves at each cell in use.
+func (r *gaussRegression) momentColumns(out []float64, use func(q int) bool) {
+	nx, ny, d := r.nx, r.ny, r.order
 	mons := monomials(d)
-	// Moment lists for the column pass: M_ab for a + b ≤ 2d, Z_ab for
-	// a + b ≤ d.
 	mw, mz := monomials(2*d), mons
 	parallelRows(ny, func(j0, j1 int) {
 		bw := make([][]float64, len(mw))
@@ -140,6 +181,7 @@ func (r *gaussRegression) apply(w, z, out []float64, use func(q int) bool) {
 		for t := range bz {
 			bz[t] = make([]float64, nx)
 		}
+		cw, cz := make([]float64, len(mw)), make([]float64, len(mz))
 		var sol regressionSolver
 		for j := j0; j < j1; j++ {
 			for t := range bw {
@@ -151,15 +193,21 @@ func (r *gaussRegression) apply(w, z, out []float64, use func(q int) bool) {
 			lo, hi := max(-r.half, -j), min(r.half, ny-1-j)
 			for l := lo; l <= hi; l++ {
 				in := (j + l) * nx
-				r.accumulate(bw, rw, mw, l, in)
-				r.accumulate(bz, rz, mz, l, in)
+				r.accumulate(bw, r.rw, mw, l, in)
+				r.accumulate(bz, r.rz, mz, l, in)
 			}
 			for i := range nx {
 				q := j*nx + i
 				if !use(q) {
 					continue
 				}
-				out[q] = sol.solve(d, mons, mw, bw, bz, i)
+				for t := range cw {
+					cw[t] = bw[t][i]
+				}
+				for t := range cz {
+					cz[t] = bz[t][i]
+				}
+				out[q] = sol.solve(d, mons, mw, cw, cz)
 			}
 		}
 	})
@@ -189,10 +237,11 @@ type regressionSolver struct {
 	b [6]float64
 }
 
-// solve returns β0 of the weighted fit of degree d at column i, lowering
-// the degree while the normal matrix is singular.
-func (s *regressionSolver) solve(d int, mons, mw [][2]int, bw, bz [][]float64, i int) float64 {
-	m00 := bw[0][i]
+// solve returns β0 of the weighted fit of degree d to one cell's
+// moments, bw in monomials(2d) order and bz in monomials(d) order,
+// lowering the degree while the normal matrix is singular.
+func (s *regressionSolver) solve(d int, mons, mw [][2]int, bw, bz []float64) float64 {
+	m00 := bw[0]
 	if !(m00 > 0) {
 		return nan
 	}
@@ -204,15 +253,15 @@ func (s *regressionSolver) solve(d int, mons, mw [][2]int, bw, bz [][]float64, i
 		k := (deg + 1) * (deg + 2) / 2
 		for r := range k {
 			for c := range k {
-				s.a[r*k+c] = bw[idx(mons[r][0]+mons[c][0], mons[r][1]+mons[c][1])][i] / m00
+				s.a[r*k+c] = bw[idx(mons[r][0]+mons[c][0], mons[r][1]+mons[c][1])] / m00
 			}
-			s.b[r] = bz[r][i] / m00
+			s.b[r] = bz[r] / m00
 		}
 		if x, ok := solveSmallInPlace(k, s.a[:k*k], s.b[:k]); ok {
 			return x
 		}
 	}
-	return bz[0][i] / m00
+	return bz[0] / m00
 }
 
 // solveSmallInPlace solves the k×k system a·x = b (row-major) by Gaussian

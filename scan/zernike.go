@@ -231,26 +231,48 @@ func ZernikePlainName(n, m int) string {
 
 // zernikeBasis evaluates all terms j = 0 … len(dst)−1 at the point (x, y)
 // of the unit disc (ρ = hypot(x, y)) into dst. The angle enters through
-// cos(kθ) and sin(kθ) by recurrence, so no trigonometric call is made.
+// cos(kθ) and sin(kθ) by recurrence, so no trigonometric call is made,
+// and the radial polynomial R_n^|m| is evaluated once for the two terms
+// ±m that share it.
 type zernikeBasis struct {
 	maxOrder int
 	n, m     []int
 	norm     []float64
-	radial   [][]float64
-	pw       []float64 // ρ^k
-	ck, sk   []float64 // cos(kθ), sin(kθ)
+	// The radial polynomials of the distinct (n, |m|): polynomial p has
+	// the coefficients rc[ro[p]:ro[p+1]] of the powers rk[ro[p]:ro[p+1]]
+	// of ρ, from ρ^n down in steps of 2 to ρ^0 or ρ^1; term j uses
+	// polynomial poly[j].
+	rc         []float64
+	rk, ro     []int
+	poly       []int
+	rv         []float64 // radial polynomial values at the point
+	pw, ck, sk []float64 // ρ^k, cos(kθ), sin(kθ)
 }
 
 func newZernikeBasis(maxOrder int) *zernikeBasis {
 	t := ZernikeTerms(maxOrder)
 	b := &zernikeBasis{maxOrder: maxOrder, n: make([]int, t), m: make([]int, t),
-		norm: make([]float64, t), radial: make([][]float64, t),
+		norm: make([]float64, t), poly: make([]int, t), ro: []int{0},
 		pw: make([]float64, maxOrder+1), ck: make([]float64, maxOrder+1), sk: make([]float64, maxOrder+1)}
+	polyOf := map[[2]int]int{}
 	for j := range t {
 		n, m := ZernikeNM(j)
 		b.n[j], b.m[j] = n, m
 		b.norm[j] = zernikeNorm(n, m)
-		b.radial[j] = zernikeRadialCoef(n, m)
+		key := [2]int{n, max(m, -m)}
+		p, ok := polyOf[key]
+		if !ok {
+			p = len(b.rv)
+			polyOf[key] = p
+			rc := zernikeRadialCoef(n, m)
+			for k := n; k >= 0; k -= 2 {
+				b.rc = append(b.rc, rc[k])
+				b.rk = append(b.rk, k)
+			}
+			b.ro = append(b.ro, len(b.rc))
+			b.rv = append(b.rv, 0)
+		}
+		b.poly[j] = p
 	}
 	return b
 }
@@ -261,25 +283,30 @@ func (b *zernikeBasis) eval(dst []float64, x, y float64) {
 	if rho > 0 {
 		c, s = x/rho, y/rho
 	}
-	b.pw[0], b.ck[0], b.sk[0] = 1, 1, 0
+	pw, ck, sk := b.pw, b.ck, b.sk
+	pw[0], ck[0], sk[0] = 1, 1, 0
 	for k := 1; k <= b.maxOrder; k++ {
-		b.pw[k] = b.pw[k-1] * rho
-		b.ck[k] = b.ck[k-1]*c - b.sk[k-1]*s
-		b.sk[k] = b.sk[k-1]*c + b.ck[k-1]*s
+		pw[k] = pw[k-1] * rho
+		ck[k] = ck[k-1]*c - sk[k-1]*s
+		sk[k] = sk[k-1]*c + ck[k-1]*s
 	}
-	for j := range dst {
-		n, m := b.n[j], b.m[j]
-		rc := b.radial[j]
+	rc, rk, rv := b.rc, b.rk[:len(b.rc)], b.rv
+	t := 0
+	for p, end := range b.ro[1:] {
 		r := 0.0
-		for k := n; k >= 0; k -= 2 {
-			r += rc[k] * b.pw[k]
+		for ; t < end; t++ {
+			r += rc[t] * pw[rk[t]]
 		}
-		v := b.norm[j] * r
-		switch {
+		rv[p] = r
+	}
+	dst = dst[:len(b.poly)]
+	for j, p := range b.poly {
+		v := b.norm[j] * rv[p]
+		switch m := b.m[j]; {
 		case m > 0:
-			v *= b.ck[m]
+			v *= ck[m]
 		case m < 0:
-			v *= b.sk[-m]
+			v *= sk[-m]
 		}
 		dst[j] = v
 	}
@@ -297,7 +324,11 @@ func FitZernike(s *Surface, radiusM float64, maxOrder int) ([]ZernikeTerm, error
 	if maxOrder < 0 {
 		return nil, fmt.Errorf("scan: zernike: negative order %d", maxOrder)
 	}
-	idx := formCells(s, radiusM)
+	return fitZernike(s, formCells(s, radiusM), radiusM, maxOrder)
+}
+
+// fitZernike is FitZernike over the cells idx (formCells of s).
+func fitZernike(s *Surface, idx []int, radiusM float64, maxOrder int) ([]ZernikeTerm, error) {
 	for maxOrder > 0 && 2*ZernikeTerms(maxOrder) > len(idx) {
 		maxOrder--
 	}
@@ -305,29 +336,7 @@ func FitZernike(s *Surface, radiusM float64, maxOrder int) ([]ZernikeTerm, error
 	if len(idx) < t {
 		return nil, errors.New("scan: zernike: no measured cells inside the disc")
 	}
-	b := newZernikeBasis(maxOrder)
-	// Normal equations, accumulated over blocks of rows by a symmetric
-	// rank-k update.
-	const block = 512
-	g := mat.NewSymDense(t, nil)
-	rhs := mat.NewVecDense(t, nil)
-	a := mat.NewDense(block, t, nil)
-	zb := mat.NewVecDense(block, nil)
-	var part mat.VecDense
-	inv := 1 / radiusM
-	for lo := 0; lo < len(idx); lo += block {
-		hi := min(len(idx), lo+block)
-		ab := a.Slice(0, hi-lo, 0, t).(*mat.Dense)
-		zv := zb.SliceVec(0, hi-lo).(*mat.VecDense)
-		for r, k := range idx[lo:hi] {
-			i, j := k%s.Nx, k/s.Nx
-			b.eval(ab.RawRowView(r), s.X(i)*inv, s.Y(j)*inv)
-			zv.SetVec(r, s.ZM[k])
-		}
-		g.SymRankK(g, 1, ab.T())
-		part.MulVec(ab.T(), zv)
-		rhs.AddVec(rhs, &part)
-	}
+	g, rhs := zernikeNormal(s, idx, radiusM, maxOrder)
 	var ch mat.Cholesky
 	if !ch.Factorize(g) {
 		return nil, errors.New("scan: zernike: normal equations not positive definite (cells badly spread over the disc)")
@@ -338,8 +347,147 @@ func FitZernike(s *Surface, radiusM float64, maxOrder int) ([]ZernikeTerm, error
 	}
 	terms := make([]ZernikeTerm, t)
 	for j := range t {
-		n, m := b.n[j], b.m[j]
+		n, m := ZernikeNM(j)
 		terms[j] = ZernikeTerm{Index: j, N: n, M: m, Name: ZernikeName(n, m), Plain: ZernikePlainName(n, m), CoefM: x.AtVec(j)}
 	}
 	return terms, nil
+}
+
+// Sizes of zernikeNormal's blocks of cells.
+const (
+	// zernikeBlock is the number of cells per update of the right-hand
+	// side: it fixes how that sum is grouped, so it must not change.
+	zernikeBlock = 512
+	// zernikeChunk is the number of blocks whose basis rows are
+	// evaluated, and added to the normal matrix, at once (some 460 kB of
+	// rows, which stay in a core's cache while the tiles read them).
+	zernikeChunk = 4
+)
+
+// zernikeNormal returns the normal equations G·c = r of the least-squares
+// Zernike fit over the cells idx: G = AᵀA (upper triangle) and r = Aᵀz,
+// with A's rows the basis at each cell (ρ = r/radiusM).
+//
+// Each G entry is Σ a_i·a_j over the cells in order, as gonum's Dsyrk
+// sums it for a rank-k update by blocks of rows; r is summed by gonum's
+// Dgemv over blocks of zernikeBlock cells, added in order. The basis rows
+// of a chunk are evaluated in parallel and G's entries are split between
+// the processors in tiles (gramTiles): neither changes a sum, so the
+// result is the same on any number of processors.
+func zernikeNormal(s *Surface, idx []int, radiusM float64, maxOrder int) (*mat.SymDense, *mat.VecDense) {
+	t := ZernikeTerms(maxOrder)
+	gram := make([]float64, t*t)
+	rhs := mat.NewVecDense(t, nil)
+	// The chunk's basis rows (cell by cell, for Dgemv) and columns (term
+	// by term, for the tiles).
+	const rows = zernikeChunk * zernikeBlock
+	a, col := make([]float64, rows*t), make([]float64, t*rows)
+	z := make([]float64, rows)
+	tiles := gramTiles(t)
+	parts := rowParts(rows)
+	bases := make([]*zernikeBasis, parts)
+	for p := range bases {
+		bases[p] = newZernikeBasis(maxOrder)
+	}
+	inv := 1 / radiusM
+	var part mat.VecDense
+	for lo := 0; lo < len(idx); lo += rows {
+		cells := idx[lo:min(len(idx), lo+rows)]
+		parallelParts(len(cells), min(parts, len(cells)), func(p, r0, r1 int) {
+			for r := r0; r < r1; r++ {
+				k := cells[r]
+				row := a[r*t : (r+1)*t]
+				bases[p].eval(row, s.X(k%s.Nx)*inv, s.Y(k/s.Nx)*inv)
+				for j, v := range row {
+					col[j*rows+r] = v
+				}
+				z[r] = s.ZM[k]
+			}
+		})
+		parallelParts(len(tiles), min(parts, len(tiles)), func(_, i0, i1 int) {
+			for _, tl := range tiles[i0:i1] {
+				addGramTile(gram, col, rows, len(cells), t, tl)
+			}
+		})
+		for b := 0; b < len(cells); b += zernikeBlock {
+			n := min(zernikeBlock, len(cells)-b)
+			part.MulVec(mat.NewDense(n, t, a[b*t:(b+n)*t]).T(), mat.NewVecDense(n, z[b:b+n]))
+			rhs.AddVec(rhs, &part)
+		}
+	}
+	return mat.NewSymDense(t, gram), rhs
+}
+
+// gramTile is a 2×4 tile of the normal matrix: rows i[0], i[1] and
+// columns j[0] … j[3] of a t×t matrix; an entry is kept only where keep
+// says (it lies in the upper triangle and is not a repeat: tiles at the
+// edges repeat an index to stay 2×4).
+type gramTile struct {
+	i    [2]int
+	j    [4]int
+	keep [2][4]bool
+}
+
+// gramTiles covers the upper triangle of a t×t matrix with 2×4 tiles,
+// each entry kept by exactly one tile.
+func gramTiles(t int) []gramTile {
+	var ts []gramTile
+	for i := 0; i < t; i += 2 {
+		for j := i; j < t; j += 4 {
+			var tl gramTile
+			tl.i = [2]int{i, min(i+1, t-1)}
+			for c := range 4 {
+				tl.j[c] = min(j+c, t-1)
+				for r := range 2 {
+					row, col := i+r, j+c
+					tl.keep[r][c] = row < t && col < t && row <= col
+				}
+			}
+			ts = append(ts, tl)
+		}
+	}
+	return ts
+}
+
+// addGramTile adds Σ_l a_l,i·a_l,j over the n rows l of the chunk, in
+// order, to the tile's kept entries of the t×t matrix g; col holds the
+// chunk's basis term by term (term j's n values from col[j·rows]). Each
+// entry's sum goes on from its value in g, one product at a time, as
+// Dsyrk's AxpyUnitary adds them. (Dsyrk skips a row whose a_l,i is 0:
+// that adds ±0 to a sum that is never −0, which leaves it as it is.)
+func addGramTile(g, col []float64, rows, n, t int, tl gramTile) {
+	var acc [2][4]float64
+	for r := range 2 {
+		for c := range 4 {
+			if tl.keep[r][c] {
+				acc[r][c] = g[tl.i[r]*t+tl.j[c]]
+			}
+		}
+	}
+	term := func(j int) []float64 { return col[j*rows : j*rows+n] }
+	x0 := term(tl.i[0])
+	x1 := term(tl.i[1])[:len(x0)]
+	y0, y1 := term(tl.j[0])[:len(x0)], term(tl.j[1])[:len(x0)]
+	y2, y3 := term(tl.j[2])[:len(x0)], term(tl.j[3])[:len(x0)]
+	c00, c01, c02, c03 := acc[0][0], acc[0][1], acc[0][2], acc[0][3]
+	c10, c11, c12, c13 := acc[1][0], acc[1][1], acc[1][2], acc[1][3]
+	for l, u := range x0 {
+		v := x1[l]
+		c00 += u * y0[l]
+		c01 += u * y1[l]
+		c02 += u * y2[l]
+		c03 += u * y3[l]
+		c10 += v * y0[l]
+		c11 += v * y1[l]
+		c12 += v * y2[l]
+		c13 += v * y3[l]
+	}
+	acc = [2][4]float64{{c00, c01, c02, c03}, {c10, c11, c12, c13}}
+	for r := range 2 {
+		for c := range 4 {
+			if tl.keep[r][c] {
+				g[tl.i[r]*t+tl.j[c]] = acc[r][c]
+			}
+		}
+	}
 }
