@@ -27,6 +27,12 @@ const (
 	dutyForcing      = 0.1
 	dutyResolve      = 1e-2 // T₁ is solved again while the duty moves more than this
 
+	// transmittedWarnShare is the share of the heater's power that heater
+	// radiation passing the glass beside the pan must reach before Solve
+	// warns about it (our own choice: a tenth of the default power-loss
+	// limit of 10 %); any amount is in Solution.TransmittedLostW.
+	transmittedWarnShare = 0.01
+
 	// maxRho is the largest contraction factor from which run estimates the
 	// remaining error.
 	maxRho = 0.5
@@ -1683,8 +1689,9 @@ func (s *plate) heaterOutputs(sol *Solution) error {
 	if outside > 0 {
 		s.warnings = append(s.warnings, fmt.Sprintf("%d base cells lie beyond the modelled glass (radius %.1f mm) and get no heat from the hob", outside, h.GlassRadiusM*1e3))
 	}
-	if lost := s.duty * s.qLost; lost > 0 {
-		s.warnings = append(s.warnings, fmt.Sprintf("%.4g W of heater radiation passes the glass beside the pan and misses it", lost))
+	if lost := s.duty * s.qLost; lost > 0 && lost >= transmittedWarnShare*sol.HeaterW {
+		s.warnings = append(s.warnings, fmt.Sprintf("%.4g W (%.1f %% of the heater's power) of heater radiation passes the glass beside the pan and misses it",
+			lost, 100*lost/sol.HeaterW))
 	}
 	if s.uncover.clamped {
 		s.warnings = append(s.warnings, fmt.Sprintf("uncovered glass beyond the air table: convection held at its value for a %.0f K film", fluid.AirMaxK))
