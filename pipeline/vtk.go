@@ -31,18 +31,6 @@ func (fld VTIField) count(n int) int {
 	return len(fld.Values)
 }
 
-// valuesOf returns fld's values on a grid of n cells as one slice.
-func (fld VTIField) valuesOf(n int) []float64 {
-	if fld.at == nil {
-		return fld.Values
-	}
-	out := make([]float64, n)
-	for k := range out {
-		out[k] = fld.at(k)
-	}
-	return out
-}
-
 // checkFields reports the first field whose number of values is not the
 // grid's n cells.
 func checkFields(fields []VTIField, n int) error {

@@ -287,3 +287,15 @@ func TestVTIFieldAt(t *testing.T) {
 		})
 	}
 }
+
+// valuesOf returns fld's values on a grid of n cells as one slice.
+func (fld VTIField) valuesOf(n int) []float64 {
+	if fld.at == nil {
+		return fld.Values
+	}
+	out := make([]float64, n)
+	for k := range out {
+		out[k] = fld.at(k)
+	}
+	return out
+}

@@ -209,7 +209,7 @@ func robustPasses(raw, form *Surface, w []float64, reg *gaussRegression, maxIt i
 				r = append(r, raw.ZM[p]-form.ZM[p])
 			}
 		}
-		c := BiweightC * max(filterMAD(r), outlierSigmaFloorM/madToSigma)
+		c := BiweightC * max(madOf(r), outlierSigmaFloorM/madToSigma)
 		if cPrev > 0 && math.Abs(c-cPrev) <= 5e-3*cPrev {
 			break
 		}
@@ -265,7 +265,7 @@ func medianStartWeights(raw *Surface, cutoffM float64, w []float64, nBase int) {
 	f := refStart(g, byCell, start, z)
 	r := make([]float64, len(z))
 	residuals(g, f, x, y, z, r)
-	c := 2 * BiweightC * max(filterMAD(r), outlierSigmaFloorM/madToSigma)
+	c := 2 * BiweightC * max(madOf(r), outlierSigmaFloorM/madToSigma)
 	t := 0
 	for p := range w {
 		if raw.InBase(p) {

@@ -23,7 +23,8 @@ const (
 )
 
 // bracketMedian returns the median of a (finite values; the mean of the
-// two middle values for an even count), the value medianInPlace returns,
+// two middle values for an even count), the value medianInPlace returns
+// up to the sign of a zero median (|a − m| has the same bits for either),
 // reordering a. For long slices, a sorted stride sample brackets the
 // median between two of its values; one pass counts the values below the
 // bracket, finds the largest of them and moves those inside it to the

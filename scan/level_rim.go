@@ -210,7 +210,6 @@ func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*
 	defer sc.floats.put(a.r, a.w)
 	ns, ring := rimSectors(a.rho, r0)
 	dr := max(r0/400, 20*float64(ns)/ring)
-	parts := rowParts(len(a.r))
 	var nb int
 	var counts [][]int32
 	var start []int32
@@ -219,7 +218,9 @@ func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*
 		if nb < 8 {
 			return nil, errors.New("scan: level: too few points near the rim")
 		}
-		counts = a.binCounts(parts, nb, rlo, dr)
+		// Each part counts into ns·nb bins of its own: binParts keeps
+		// those within the points' own size on any number of processors.
+		counts = a.binCounts(binParts(len(a.r), ns*nb), nb, rlo, dr)
 		start = binStarts(counts)
 		if binsFullEnough(start, ns, nb, int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)) || try == 5 {
 			break
