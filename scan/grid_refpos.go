@@ -13,23 +13,14 @@ type refPos struct {
 	tx, ty []float64
 }
 
-// newRefPos returns the places in g of the samples (x[i], y[i]) (m), in
-// the order of idx: the k-th is sample idx[k]'s (sample k's when idx is
-// nil).
-func newRefPos(g refGrid, x, y []float64, idx []int32) refPos {
+// newRefPos returns the places of the samples (x[i], y[i]) (m) in g.
+func newRefPos(g refGrid, x, y []float64) refPos {
 	n := len(x)
-	if idx != nil {
-		n = len(idx)
-	}
 	p := refPos{q: make([]int32, n), tx: make([]float64, n), ty: make([]float64, n)}
 	parallelRows(n, func(a, b int) {
-		for k := a; k < b; k++ {
-			i := k
-			if idx != nil {
-				i = int(idx[k])
-			}
+		for i := a; i < b; i++ {
 			q, tx, ty := g.corner(x[i], y[i])
-			p.q[k], p.tx[k], p.ty[k] = int32(q), tx, ty
+			p.q[i], p.tx[i], p.ty[i] = int32(q), tx, ty
 		}
 	})
 	return p
@@ -74,28 +65,20 @@ func fullSquares(g refGrid, f []float64, full []bool) []bool {
 	return full
 }
 
-// residualsAt sets res[k] = zk[k] − f(x[i], y[i]) (m), i = idx[k] (k when
-// idx is nil), bit for bit as residuals does, from the samples' places p
-// (in the order of idx) in g: where the four corners of a sample's square
-// are defined (the common case) it takes their weighted mean in interp's
-// order, else interp itself. zk (m) is in the order of idx. full is
-// scratch for fullSquares, which it returns for the next call.
-func residualsAt(g refGrid, f []float64, p refPos, idx []int32, x, y, zk, res []float64, full []bool) []bool {
+// residualsAt sets res[i] = z[i] − f(x[i], y[i]) (m), bit for bit as
+// residuals does, from the samples' places p in g: where the four corners
+// of a sample's square are defined (the common case) it takes their
+// weighted mean in interp's order, else interp itself. full is scratch
+// for fullSquares, which it returns for the next call.
+func residualsAt(g refGrid, f []float64, p refPos, x, y, z, res []float64, full []bool) []bool {
 	full = fullSquares(g, f, full)
 	nx := g.nx
-	at := func(k int) float64 {
-		i := k
-		if idx != nil {
-			i = int(idx[k])
-		}
-		return g.interp(f, x[i], y[i])
-	}
-	parallelRows(len(zk), func(a, b int) {
-		pq, ptx, pty, zz, rr := p.q[a:b], p.tx[a:b], p.ty[a:b], zk[a:b], res[a:b]
+	parallelRows(len(z), func(a, b int) {
+		pq, ptx, pty, zz, rr := p.q[a:b], p.tx[a:b], p.ty[a:b], z[a:b], res[a:b]
 		for k, q32 := range pq {
 			q := int(q32)
 			if !full[q] {
-				rr[k] = zz[k] - at(a+k)
+				rr[k] = zz[k] - g.interp(f, x[a+k], y[a+k])
 				continue
 			}
 			tx, ty := ptx[k], pty[k]
@@ -110,54 +93,11 @@ func residualsAt(g refGrid, f []float64, p refPos, idx []int32, x, y, zk, res []
 			s += w11 * f[q+nx+1]
 			w += w11
 			if !(w > 0) {
-				rr[k] = zz[k] - at(a+k)
+				rr[k] = zz[k] - g.interp(f, x[a+k], y[a+k])
 				continue
 			}
 			rr[k] = zz[k] - s/w
 		}
 	})
 	return full
-}
-
-// madSample is the stride subsample madOf takes of residuals held in
-// cell order: at[m] is the cell-order position of sample m·step, so the
-// subsample holds the same values in the same order.
-type madSample struct {
-	at []int32
-}
-
-// newMadSample returns the subsample of the samples in the order byCell
-// (a permutation of 0 … n−1).
-func newMadSample(byCell []int32) madSample {
-	n := len(byCell)
-	step := max(1, n/madSampleMax)
-	at := make([]int32, (n+step-1)/step)
-	for k, i := range byCell {
-		if int(i)%step == 0 {
-			at[int(i)/step] = int32(k)
-		}
-	}
-	return madSample{at: at}
-}
-
-// of is madOf of the residuals r (m, in cell order).
-func (s madSample) of(r []float64) float64 {
-	m, _ := s.ofInto(r, nil)
-	return m
-}
-
-// ofInto is madOfInto of the residuals r (m, in cell order): the same
-// subsample gathered into buf's storage (grown when short), which it
-// returns for the next call.
-func (s madSample) ofInto(r, buf []float64) (float64, []float64) {
-	a := buf[:0]
-	if cap(a) < len(s.at) {
-		a = make([]float64, 0, len(s.at))
-	}
-	for _, k := range s.at {
-		if v := r[k]; !math.IsNaN(v) {
-			a = append(a, v)
-		}
-	}
-	return madOfValues(a), a
 }

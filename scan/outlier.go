@@ -144,21 +144,12 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 		}
 	})
 	byCell, cellStart := sortByCell(cellOf, g.nx*g.ny)
-	// The passes run over the samples in cell order (k), where a cell's
-	// samples are contiguous: zk[k] is sample byCell[k]'s height.
-	zk := make([]float64, n)
-	parallelRows(n, func(a, b int) {
-		for k := a; k < b; k++ {
-			zk[k] = z[byCell[k]]
-		}
-	})
-	f := refStart(g, nil, cellStart, zk)
+	f := refStart(g, byCell, cellStart, z)
 	res := make([]float64, n)
-	pos := newRefPos(g, x, y, byCell)
-	mad := newMadSample(byCell)
-	f, full := reweight(g, f, pos, mad, byCell, x, y, zk, cellStart, res)
-	residualsAt(g, f, pos, byCell, x, y, zk, res, full)
-	sigma := max(madToSigma*mad.of(res), outlierSigmaFloorM)
+	pos := newRefPos(g, x, y)
+	f, full := reweight(g, f, pos, x, y, z, byCell, cellStart, res)
+	residualsAt(g, f, pos, x, y, z, res, full)
+	sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)
 	// The local scale: the 7×7-cell median of the cells' median |r|.
 	// Where the reference cannot follow the form (a kink, a sharp bend)
 	// most residuals around grow and so does the limit; isolated spikes
@@ -173,16 +164,14 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 			}
 		}
 	})
-	local := refStart(g, nil, cellStart, abs)
-	parallelRows(g.ny, func(j0, j1 int) {
-		for q := j0 * g.nx; q < j1*g.nx; q++ {
+	local := refStart(g, byCell, cellStart, abs)
+	parallelRows(n, func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
 			s := sigma
-			if v := local[q]; !math.IsNaN(v) {
+			if v := local[cellOf[i]]; !math.IsNaN(v) {
 				s = max(s, madToSigma*v)
 			}
-			for kk := cellStart[q]; kk < cellStart[q+1]; kk++ {
-				out[byCell[kk]] = abs[kk] > k*s
-			}
+			out[i] = abs[i] > k*s
 		}
 	})
 	return out, sigma
@@ -190,11 +179,9 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 
 // reweight runs the iterations of LocalOutliers from the starting
 // reference f (m, on the cells of g) and returns the reference it ends
-// with, and residualsAt's scratch. The samples are taken in cell order:
-// the k-th is sample byCell[k], at place pos[k] in g and height zk[k]
-// (m); cell q's are k in [cellStart[q], cellStart[q+1]). mad picks the
-// MAD's subsample; res is scratch for the residuals (m, cell order).
-func reweight(g refGrid, f []float64, pos refPos, mad madSample, byCell []int32, x, y, zk []float64, cellStart []int32, res []float64) ([]float64, []bool) {
+// with, and residualsAt's scratch. pos holds the samples' places in g;
+// res is scratch for the residuals (m).
+func reweight(g refGrid, f []float64, pos refPos, x, y, z []float64, byCell, cellStart []int32, res []float64) ([]float64, []bool) {
 	nc := g.nx * g.ny
 	reg := newGaussRegression(g.nx, g.ny, refCellsPerCutoff, 1)
 	w := make([]float64, nc)
@@ -204,15 +191,15 @@ func reweight(g refGrid, f []float64, pos refPos, mad madSample, byCell []int32,
 	var buf []float64
 	var full []bool
 	for it := 0; it < outlierMaxIter; it++ {
-		full = residualsAt(g, f, pos, byCell, x, y, zk, res, full)
-		m, b := mad.ofInto(res, buf)
+		full = residualsAt(g, f, pos, x, y, z, res, full)
+		mad, b := madOfInto(res, buf)
 		buf = b
-		sigma := max(madToSigma*m, outlierSigmaFloorM)
+		sigma := max(madToSigma*mad, outlierSigmaFloorM)
 		c := BiweightC / madToSigma * sigma
 		if it == 0 {
 			c *= 2 // the median start is rougher than a fit
 		}
-		cellWeights(g, f, res, cellStart, c, w, wz)
+		cellWeights(g, f, res, byCell, cellStart, c, w, wz)
 		for q := range fNew {
 			fNew[q] = nan
 		}
@@ -237,18 +224,18 @@ func reweight(g refGrid, f []float64, pos refPos, mad madSample, byCell []int32,
 }
 
 // cellWeights sets, for every cell q of g, w[q] to the sum of the
-// biweights (constant c, m) of its samples' residuals (m) and wz[q] to
-// their weighted mean height (m) where w[q] > 0; cell q's residuals are
-// res[cellStart[q]:cellStart[q+1]] (in cell order, each cell's samples in
-// index order). Each cell's sums run over its samples in index order, as
-// a pass over the samples would add them, so the rows of cells can be
-// shared between the processors.
-func cellWeights(g refGrid, f, res []float64, cellStart []int32, c float64, w, wz []float64) {
+// biweights (constant c, m) of its samples' residuals res (m) and wz[q]
+// to their weighted mean height (m) where w[q] > 0; cell q's samples are
+// byCell[cellStart[q]:cellStart[q+1]]. Each cell's sums run over its
+// samples in index order, as a pass over the samples would add them, so
+// the rows of cells can be shared between the processors.
+func cellWeights(g refGrid, f, res []float64, byCell, cellStart []int32, c float64, w, wz []float64) {
 	parallelRows(g.ny, func(j0, j1 int) {
 		for q := j0 * g.nx; q < j1*g.nx; q++ {
 			sw, swz := 0.0, 0.0
 			if fq := f[q]; !math.IsNaN(fq) {
-				for _, r := range res[cellStart[q]:cellStart[q+1]] {
+				for _, i := range byCell[cellStart[q]:cellStart[q+1]] {
+					r := res[i]
 					if math.IsNaN(r) {
 						continue
 					}
