@@ -13,25 +13,30 @@ type refPos struct {
 	tx, ty []float64
 }
 
-// newRefPos returns the places of the samples (x[i], y[i]) (m) in g.
-func newRefPos(g refGrid, x, y []float64) refPos {
+// newRefPos returns the places of the samples (x[i], y[i]) (m) in g and
+// sets cellOf[i] to the sample's nearest cell, g.cell(x[i], y[i]): both
+// from the same quotients (x − x0)/h and (y − y0)/h, computed once.
+func newRefPos(g refGrid, x, y []float64, cellOf []int32) refPos {
 	n := len(x)
 	p := refPos{q: make([]int32, n), tx: make([]float64, n), ty: make([]float64, n)}
 	parallelRows(n, func(a, b int) {
 		for i := a; i < b; i++ {
-			q, tx, ty := g.corner(x[i], y[i])
+			fi := (x[i] - g.x0) / g.h
+			fj := (y[i] - g.y0) / g.h
+			ic := min(max(int(math.Round(fi)), 0), g.nx-1)
+			jc := min(max(int(math.Round(fj)), 0), g.ny-1)
+			cellOf[i] = int32(jc*g.nx + ic)
+			q, tx, ty := g.cornerOf(fi, fj)
 			p.q[i], p.tx[i], p.ty[i] = int32(q), tx, ty
 		}
 	})
 	return p
 }
 
-// corner returns the lower-left corner cell of the interpolation square
-// of (x, y) (m) and the fractional position (tx, ty) in it, as interp
-// computes them.
-func (g refGrid) corner(x, y float64) (q int, tx, ty float64) {
-	fi := (x - g.x0) / g.h
-	fj := (y - g.y0) / g.h
+// cornerOf returns the lower-left corner cell of the interpolation
+// square of the point at (fi, fj) cells from cell (0, 0) and the
+// fractional position (tx, ty) in it, as interp computes them.
+func (g refGrid) cornerOf(fi, fj float64) (q int, tx, ty float64) {
 	i := min(max(int(math.Floor(fi)), 0), g.nx-2)
 	j := min(max(int(math.Floor(fj)), 0), g.ny-2)
 	tx = min(max(fi-float64(i), 0), 1)

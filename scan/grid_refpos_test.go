@@ -26,7 +26,13 @@ func TestResidualsAt(t *testing.T) {
 		}
 		z[i] = 1e-3 * (r.Float64() - 0.5)
 	}
-	pos := newRefPos(g, x, y)
+	cellOf := make([]int32, n)
+	pos := newRefPos(g, x, y, cellOf)
+	for i := range n {
+		if want := g.cell(x[i], y[i]); int(cellOf[i]) != want {
+			t.Fatalf("sample %d at (%g, %g): cell %d, want %d", i, x[i], y[i], cellOf[i], want)
+		}
+	}
 	for _, nanShare := range []float64{0, 0.1, 0.5, 1} {
 		f := make([]float64, g.nx*g.ny)
 		for q := range f {

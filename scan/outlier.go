@@ -138,15 +138,10 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	cutoff := max(OutlierCutoffM, outlierCutoffSpacings*spacingM)
 	g := newRefGrid(x, y, cutoff/refCellsPerCutoff)
 	cellOf := make([]int32, n)
-	parallelRows(n, func(i0, i1 int) {
-		for i := i0; i < i1; i++ {
-			cellOf[i] = int32(g.cell(x[i], y[i]))
-		}
-	})
+	pos := newRefPos(g, x, y, cellOf)
 	byCell, cellStart := sortByCell(cellOf, g.nx*g.ny)
 	f := refStart(g, byCell, cellStart, z)
 	res := make([]float64, n)
-	pos := newRefPos(g, x, y)
 	f, full := reweight(g, f, pos, x, y, z, byCell, cellStart, res)
 	residualsAt(g, f, pos, x, y, z, res, full)
 	sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)
