@@ -59,3 +59,25 @@ func benchmarkGridFile(b *testing.B, path string) {
 	b.ReportMetric(float64(len(l.Cloud.Points))*float64(b.N)/b.Elapsed().Seconds(), "points/s")
 	b.ReportMetric(float64(cpuTime()-cpu0)/1e6/float64(b.N), "cpu-ms/op")
 }
+
+// BenchmarkLocalOutliersPLY2M runs the outlier test alone on every point
+// of the levelled 2 million point scan (at the spacing Grid measures),
+// reporting the CPU time per test (all processors).
+func BenchmarkLocalOutliersPLY2M(b *testing.B) {
+	l := levelledFile(b, benchPLY)
+	g, err := Grid(l, GridOptions{OutlierK: DefaultOutlierK, MaxCells: 4_000_000, MaxCellM: 8e-3 / 4})
+	if err != nil {
+		b.Fatal(err)
+	}
+	pts := l.Cloud.Points
+	x, y, z := make([]float64, len(pts)), make([]float64, len(pts)), make([]float64, len(pts))
+	for i, p := range pts {
+		x[i], y[i], z[i] = p.X, p.Y, p.Z
+	}
+	b.ResetTimer()
+	cpu0 := cpuTime()
+	for b.Loop() {
+		LocalOutliers(x, y, z, g.PointSpacingM, DefaultOutlierK)
+	}
+	b.ReportMetric(float64(cpuTime()-cpu0)/1e6/float64(b.N), "cpu-ms/op")
+}

@@ -138,16 +138,12 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	cutoff := max(OutlierCutoffM, outlierCutoffSpacings*spacingM)
 	g := newRefGrid(x, y, cutoff/refCellsPerCutoff)
 	cellOf := make([]int32, n)
-	parallelRows(n, func(i0, i1 int) {
-		for i := i0; i < i1; i++ {
-			cellOf[i] = int32(g.cell(x[i], y[i]))
-		}
-	})
+	pos := newRefPos(g, x, y, cellOf)
 	byCell, cellStart := sortByCell(cellOf, g.nx*g.ny)
 	f := refStart(g, byCell, cellStart, z)
 	res := make([]float64, n)
-	f = reweight(g, f, x, y, z, byCell, cellStart, res)
-	residuals(g, f, x, y, z, res)
+	f, full := reweight(g, f, pos, x, y, z, byCell, cellStart, res)
+	residualsAt(g, f, pos, x, y, z, res, full)
 	sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)
 	// The local scale: the 7×7-cell median of the cells' median |r|.
 	// Where the reference cannot follow the form (a kink, a sharp bend)
@@ -178,8 +174,9 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 
 // reweight runs the iterations of LocalOutliers from the starting
 // reference f (m, on the cells of g) and returns the reference it ends
-// with. res is scratch for the residuals (m).
-func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []float64) []float64 {
+// with, and residualsAt's scratch. pos holds the samples' places in g;
+// res is scratch for the residuals (m).
+func reweight(g refGrid, f []float64, pos refPos, x, y, z []float64, byCell, cellStart []int32, res []float64) ([]float64, []bool) {
 	nc := g.nx * g.ny
 	reg := newGaussRegression(g.nx, g.ny, refCellsPerCutoff, 1)
 	w := make([]float64, nc)
@@ -187,8 +184,9 @@ func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []
 	fNew := make([]float64, nc)
 	has := func(q int) bool { return true }
 	var buf []float64
+	var full []bool
 	for it := 0; it < outlierMaxIter; it++ {
-		residuals(g, f, x, y, z, res)
+		full = residualsAt(g, f, pos, x, y, z, res, full)
 		mad, b := madOfInto(res, buf)
 		buf = b
 		sigma := max(madToSigma*mad, outlierSigmaFloorM)
@@ -217,7 +215,7 @@ func reweight(g refGrid, f, x, y, z []float64, byCell, cellStart []int32, res []
 			break
 		}
 	}
-	return f
+	return f, full
 }
 
 // cellWeights sets, for every cell q of g, w[q] to the sum of the
