@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"cmp"
 	"context"
 	"os"
 	"path/filepath"
@@ -10,8 +11,9 @@ import (
 )
 
 // benchPLY is the large test scan of the output benchmarks (about 2 M
-// points); the benchmarks are skipped without it.
-const benchPLY = "/tmp/gfbench/pan-2m.ply"
+// points) that scripts/bench.sh writes into $GAPFLUX_BENCH_DIR (else
+// /tmp/gfbench); the benchmarks are skipped without it.
+var benchPLY = filepath.Join(cmp.Or(os.Getenv("GAPFLUX_BENCH_DIR"), "/tmp/gfbench"), "pan-2m.ply")
 
 // analyzedPLY analyses benchPLY with the default job, or skips b.
 func analyzedPLY(b *testing.B) *Result {

@@ -1,16 +1,25 @@
 package scan
 
 import (
+	"cmp"
 	"os"
+	"path/filepath"
 	"testing"
 )
 
 // benchPLY and benchSTL are scans of a pan base (2 million points, 1.3
-// million triangles) the benchmarks grid when they are present.
-const (
-	benchPLY = "/tmp/gfbench/pan-2m.ply"
-	benchSTL = "/tmp/gfbench/pan-1m3.stl"
+// million triangles) that scripts/bench.sh writes; the benchmarks that
+// read them are skipped when they are missing.
+var (
+	benchPLY = benchScan("pan-2m.ply")
+	benchSTL = benchScan("pan-1m3.stl")
 )
+
+// benchScan returns the path of a scripts/bench.sh scan: in the folder
+// $GAPFLUX_BENCH_DIR, else /tmp/gfbench.
+func benchScan(name string) string {
+	return filepath.Join(cmp.Or(os.Getenv("GAPFLUX_BENCH_DIR"), "/tmp/gfbench"), name)
+}
 
 // levelledFile reads and levels the scan at path as the analysis does
 // (readAndLevel), or skips the benchmark when the file is missing.

@@ -49,8 +49,8 @@ func benchLevelFile(b *testing.B, path string) {
 
 // BenchmarkLevelPLY levels the 2 M-point benchmark PLY (with point
 // normals).
-func BenchmarkLevelPLY(b *testing.B) { benchLevelFile(b, "/tmp/gfbench/pan-2m.ply") }
+func BenchmarkLevelPLY(b *testing.B) { benchLevelFile(b, benchPLY) }
 
 // BenchmarkLevelSTL levels the 1.3 M-triangle benchmark STL (facet
 // normals, shared vertices).
-func BenchmarkLevelSTL(b *testing.B) { benchLevelFile(b, "/tmp/gfbench/pan-1m3.stl") }
+func BenchmarkLevelSTL(b *testing.B) { benchLevelFile(b, benchSTL) }

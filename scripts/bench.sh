@@ -67,7 +67,12 @@ if [[ $stages != 0 ]]; then
 	go test -run '^$' -benchmem -benchtime "${DECODE_BENCHTIME:-2s}" \
 		-bench '^(BenchmarkDecodeBinary|BenchmarkDecodeASCII|BenchmarkDecode)$' \
 		./scan/ply ./scan/stl ./scan/xyz | grep -E '^(Benchmark|ok|FAIL|pkg)'
+	# The stages of analyze on the two scans above (read from
+	# GAPFLUX_BENCH_DIR), then synthetic ones.
+	GAPFLUX_BENCH_DIR=$dir go test -run '^$' -benchmem -benchtime "${BENCHTIME:-3x}" \
+		-bench '^(BenchmarkLevelPLY|BenchmarkLevelSTL|BenchmarkGridPLY2M|BenchmarkGridSTL|BenchmarkLocalOutliersPLY2M|BenchmarkWriteOutputsPLY)$' \
+		./scan ./pipeline | grep -E '^(Benchmark|ok|FAIL|pkg)'
 	go test -run '^$' -benchmem -benchtime "${BENCHTIME:-3x}" \
-		-bench '^(BenchmarkLevel2M|BenchmarkGridCloud2M|BenchmarkRobustFilter|BenchmarkLocalOutliers|BenchmarkSolveHeater|BenchmarkSolveHeaterFine|BenchmarkSolveHeaterGrid|BenchmarkWriteMap|BenchmarkWriteVTI|BenchmarkAnalyze)$' \
+		-bench '^(BenchmarkLevel2M|BenchmarkGridCloud2M|BenchmarkRobustFilter|BenchmarkLocalOutliers|BenchmarkMeasureForm|BenchmarkSolveHeater|BenchmarkSolveHeaterFine|BenchmarkSolveHeaterGrid|BenchmarkWriteMap|BenchmarkWriteVTI|BenchmarkAnalyze)$' \
 		./scan ./thermal ./pipeline | grep -E '^(Benchmark|ok|FAIL|pkg)'
 fi
