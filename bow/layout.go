@@ -123,8 +123,9 @@ func (s *Solver) boundaryNode(I, J int) bool {
 // clamped, every unknown of the outline's nodes; free, the deflection and
 // both slopes of the node nearest the centroid (the rigid motions, which
 // a thermal load leaves undetermined); wall, that node's deflection only
-// (the wall's springs resist tilting). Then it checks the bandwidth and the
-// memory of the banded matrix.
+// (the wall's springs resist tilting), or as free for a wall of no
+// rotational stiffness, whose tilt nothing else fixes. Then it checks the
+// bandwidth and the memory of the banded matrix.
 func (s *Solver) constrain() error {
 	nx1 := s.ncx + 1
 	s.fixed = make([]bool, 4*s.nNodes)
@@ -155,7 +156,7 @@ func (s *Solver) constrain() error {
 			}
 		}
 		s.fixed[4*best] = true
-		if s.edge.Kind == EdgeFree {
+		if s.edge.Kind == EdgeFree || !(s.edge.RotStiffnessN > 0) {
 			s.fixed[4*best+1], s.fixed[4*best+2] = true, true
 		}
 	}

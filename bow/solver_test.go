@@ -251,6 +251,23 @@ func TestSymmetricSandwichStaysFlat(t *testing.T) {
 	}
 }
 
+// TestWallWithoutStiffnessIsFree: a wall edge of zero rotational
+// stiffness restrains nothing, so the base bows exactly as a free one;
+// before its tilt was fixed as the free edge's is, the stiffness was
+// singular and the deflection took an arbitrary tilt (or, on a build that
+// fuses multiply-add, the factorisation failed).
+func TestWallWithoutStiffnessIsFree(t *testing.T) {
+	g, in := disc(0.1, 1e-3)
+	l := thick(ss304, 3e-3)
+	_, free := solve(t, Problem{Grid: g, InBase: in, Layers: []Layer{l}, Edge: Edge{Kind: EdgeFree}}, 50e3, 400, 293)
+	_, wall := solve(t, Problem{Grid: g, InBase: in, Layers: []Layer{l}, Edge: Edge{Kind: EdgeWall}}, 50e3, 400, 293)
+	for k := range free {
+		if math.Float64bits(wall[k]) != math.Float64bits(free[k]) {
+			t.Fatalf("cell %d: w = %.6g µm with a wall of no stiffness, %.6g µm free", k, wall[k]*1e6, free[k]*1e6)
+		}
+	}
+}
+
 func TestWallEdgeBetweenFreeAndClamped(t *testing.T) {
 	// Uniform thermal moment, rim restrained by k_θ: the exact sag is the
 	// free one times D*_s/(D*_s + k_θ R) (axisymmetric, edge M_r = k_θ φ; see
