@@ -23,16 +23,7 @@ import (
 // differ. One map is plain, one has a base circle, a zone, veiled cells
 // and hatching below zero.
 func TestFastPNGCanvas(t *testing.T) {
-	plain := benchDisc(60, 0.5, 10)
-	full := benchDisc(60, 0.4, 5)
-	full.BaseRadiusMM, full.ZoneDiameterMM, full.ZoneCentreMM = 30, 40, [2]float64{3, -2}
-	full.BelowZeroLabel, full.Controls = "below zero", fluxControls
-	full.Interpolated = make([]bool, len(full.Values))
-	for k, v := range full.Values {
-		full.Values[k] = v - 0.1
-		full.Interpolated[k] = k%5 == 0
-	}
-	for _, spec := range []*MapSpec{plain, full} {
+	for _, spec := range []*MapSpec{benchDisc(60, 0.5, 10), fullMapSpec()} {
 		var fast bytes.Buffer
 		if err := WriteMap(&fast, spec, "png"); err != nil {
 			t.Fatal(err)
@@ -181,4 +172,19 @@ func TestWriteOpaquePNG(t *testing.T) {
 	if filterNoneOrUp(out, row, make([]byte, len(row))); out[0] != 0 || !bytes.Equal(out[1:], row) {
 		t.Errorf("row under zeros filtered as %v, want None", out)
 	}
+}
+
+// fullMapSpec is a 60 mm test map with all that a map can show: a base
+// circle, an off-centre zone, veiled (interpolated) cells and cells below
+// zero, hatched.
+func fullMapSpec() *MapSpec {
+	full := benchDisc(60, 0.4, 5)
+	full.BaseRadiusMM, full.ZoneDiameterMM, full.ZoneCentreMM = 30, 40, [2]float64{3, -2}
+	full.BelowZeroLabel, full.Controls = "below zero", fluxControls
+	full.Interpolated = make([]bool, len(full.Values))
+	for k, v := range full.Values {
+		full.Values[k] = v - 0.1
+		full.Interpolated[k] = k%5 == 0
+	}
+	return full
 }

@@ -54,15 +54,7 @@ func decodePNG(t *testing.T, b []byte) image.Image {
 // no cell empty (its raster still has the transparent margin about the
 // grid; TestWriteNRGBAPNG covers opaque images).
 func TestFastSVGCanvas(t *testing.T) {
-	plain := benchDisc(60, 0.5, 10)
-	full := benchDisc(60, 0.4, 5)
-	full.BaseRadiusMM, full.ZoneDiameterMM, full.ZoneCentreMM = 30, 40, [2]float64{3, -2}
-	full.BelowZeroLabel, full.Controls = "below zero", fluxControls
-	full.Interpolated = make([]bool, len(full.Values))
-	for k, v := range full.Values {
-		full.Values[k] = v - 0.1
-		full.Interpolated[k] = k%5 == 0
-	}
+	plain, full := benchDisc(60, 0.5, 10), fullMapSpec()
 	noEmpty := benchDisc(40, 0.5, 0)
 	for k := range noEmpty.Values {
 		noEmpty.Values[k] = float64(k % 97)

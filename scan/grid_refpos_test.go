@@ -38,16 +38,7 @@ func TestResidualsAt(t *testing.T) {
 		}
 	}
 	for _, nanShare := range []float64{0, 0.1, 0.5, 1} {
-		f := make([]float64, g.nx*g.ny)
-		for q := range f {
-			f[q] = 1e-4 * (r.Float64() - 0.5)
-			if q%5 == 0 {
-				f[q] = -0.0
-			}
-			if r.Float64() < nanShare {
-				f[q] = math.NaN()
-			}
-		}
+		f := randomRefField(r, g, nanShare)
 		if nanShare == 0.1 {
 			f[23], f[40] = math.Inf(1), math.Inf(-1)
 		}

@@ -31,6 +31,22 @@ func interpRef(g refGrid, f []float64, x, y float64) float64 {
 	return s / w
 }
 
+// randomRefField returns heights (m) on the reference grid g, up to
+// ±50 µm, every fifth −0 and a share nanShare of them undefined (NaN).
+func randomRefField(r *rand.Rand, g refGrid, nanShare float64) []float64 {
+	f := make([]float64, g.nx*g.ny)
+	for q := range f {
+		f[q] = 1e-4 * (r.Float64() - 0.5)
+		if q%5 == 0 {
+			f[q] = -0.0
+		}
+		if r.Float64() < nanShare {
+			f[q] = math.NaN()
+		}
+	}
+	return f
+}
+
 // TestRefGridInterp: the interpolation (with its fast path for four
 // defined corners) gives the plain formula's value bit for bit, on grid
 // lines and corners, off the grid and next to undefined cells.
@@ -41,16 +57,7 @@ func TestRefGridInterp(t *testing.T) {
 	r := rand.New(rand.NewPCG(7, 8))
 	g := refGrid{nx: 9, ny: 7, x0: -0.004, y0: 0.001, h: 0.001}
 	for _, nanShare := range []float64{0, 0.2, 0.6, 1} {
-		f := make([]float64, g.nx*g.ny)
-		for q := range f {
-			f[q] = 1e-4 * (r.Float64() - 0.5)
-			if q%5 == 0 {
-				f[q] = -0.0
-			}
-			if r.Float64() < nanShare {
-				f[q] = math.NaN()
-			}
-		}
+		f := randomRefField(r, g, nanShare)
 		for n := 0; n < 20000; n++ {
 			x := g.x0 + (float64(g.nx)+2)*g.h*r.Float64() - g.h
 			y := g.y0 + (float64(g.ny)+2)*g.h*r.Float64() - g.h
