@@ -332,20 +332,7 @@ func MinimumZone(x, y, z []float64) (width float64, plane [3]float64, err error)
 // Its simplex multipliers are −(a, b, c, h); the reduced cost of μ⁺_i is
 // h − r_i and of μ⁻_i is h + r_i with r_i = z_i − (a x_i + b y_i + c).
 func chebyshevPlane(pts []float64) ([3]float64, error) {
-	n := len(pts) / 3
-	col := func(j int) [4]float64 {
-		i := j >> 1
-		if j&1 == 0 {
-			return [4]float64{pts[3*i], pts[3*i+1], 1, 1}
-		}
-		return [4]float64{-pts[3*i], -pts[3*i+1], -1, 1}
-	}
-	cost := func(j int) float64 {
-		if j&1 == 0 {
-			return -pts[3*(j>>1)+2]
-		}
-		return pts[3*(j>>1)+2]
-	}
+	d := zoneDual{pts: pts, n: len(pts) / 3}
 	// Starting basis: μ⁺ and μ⁻ of one point at 1/2 each, plus μ⁺ of two
 	// more points so that the three are not collinear.
 	p0, p1, p2, ok := spreadTriple(pts)
@@ -353,38 +340,13 @@ func chebyshevPlane(pts []float64) ([3]float64, error) {
 		return [3]float64{}, errors.New("scan: minimum zone: points are collinear in x-y")
 	}
 	basis := [4]int{2 * p0, 2*p0 + 1, 2 * p1, 2 * p2}
-	const tol = 1e-12
-	var bm, bt [16]float64
-	var xb [4]float64
-	var y [4]float64
 	stall := 0
 	prevObj := math.Inf(1)
-	maxIter := 50*n + 1000
+	maxIter := 50*d.n + 1000
 	for iter := 0; iter < maxIter; iter++ {
-		for c, j := range basis {
-			a := col(j)
-			for r := range 4 {
-				bm[r*4+c] = a[r]
-				bt[c*4+r] = a[r]
-			}
-		}
-		m := bm
-		xv, ok := solveSmall(4, m[:], []float64{0, 0, 0, 1})
+		bm, xb, y, obj, ok := d.solveBasis(basis)
 		if !ok {
-			return [3]float64{}, errors.New("scan: minimum zone: singular basis")
-		}
-		copy(xb[:], xv)
-		m = bt
-		cb := []float64{cost(basis[0]), cost(basis[1]), cost(basis[2]), cost(basis[3])}
-		yv, ok := solveSmall(4, m[:], cb)
-		if !ok {
-			return [3]float64{}, errors.New("scan: minimum zone: singular basis")
-		}
-		copy(y[:], yv)
-		a, b, c, h := -y[0], -y[1], -y[2], -y[3]
-		obj := 0.0
-		for r := range 4 {
-			obj += cb[r] * xb[r]
+			return [3]float64{}, errSingularBasis
 		}
 		if obj < prevObj-1e-15 {
 			stall = 0
@@ -393,64 +355,134 @@ func chebyshevPlane(pts []float64) ([3]float64, error) {
 			stall++
 		}
 		bland := stall > 30
-		// Pricing: the most violated zone constraint (Dantzig), or the
-		// lowest-index violated one (Bland) after a run of degenerate
-		// steps, which rules out cycling.
-		enter, best := -1, -tol
-		for i := range n {
-			r := pts[3*i+2] - (a*pts[3*i] + b*pts[3*i+1] + c)
-			dp, dm := h-r, h+r
-			if bland {
-				if dp < -tol {
-					enter = 2 * i
-					break
-				}
-				if dm < -tol {
-					enter = 2*i + 1
-					break
-				}
-				continue
-			}
-			if dp < best {
-				best, enter = dp, 2*i
-			}
-			if dm < best {
-				best, enter = dm, 2*i+1
-			}
-		}
+		a, b, c, h := -y[0], -y[1], -y[2], -y[3]
+		enter := d.price(a, b, c, h, bland)
 		if enter < 0 {
 			return [3]float64{a, b, c}, nil
 		}
 		// Ratio test on the direction w = B⁻¹ a_enter.
-		m = bm
-		aq := col(enter)
-		w, ok := solveSmall(4, m[:], aq[:])
+		aq := d.col(enter)
+		w, ok := solveSmall(4, bm[:], aq[:])
 		if !ok {
-			return [3]float64{}, errors.New("scan: minimum zone: singular basis")
+			return [3]float64{}, errSingularBasis
 		}
-		leave := -1
-		bestRatio := math.Inf(1)
-		for r := range 4 {
-			if w[r] <= 1e-12 {
-				continue
-			}
-			ratio := max(xb[r], 0) / w[r]
-			switch {
-			case leave < 0 || ratio < bestRatio-1e-15:
-				bestRatio, leave = ratio, r
-			case ratio > bestRatio+1e-15:
-			case bland && basis[r] < basis[leave]:
-				leave = r
-			case !bland && w[r] > w[leave]:
-				leave = r
-			}
-		}
+		leave := ratioTest(basis, xb, w, bland)
 		if leave < 0 {
 			return [3]float64{}, errors.New("scan: minimum zone: unbounded dual (numerical failure)")
 		}
 		basis[leave] = enter
 	}
 	return [3]float64{}, errors.New("scan: minimum zone: simplex did not converge")
+}
+
+var errSingularBasis = errors.New("scan: minimum zone: singular basis")
+
+// zoneDual is chebyshevPlane's dual problem over the n scaled points pts.
+// Column 2i is μ⁺ of point i, column 2i+1 its μ⁻.
+type zoneDual struct {
+	pts []float64
+	n   int
+}
+
+// col returns the constraint column of dual variable j.
+func (d zoneDual) col(j int) [4]float64 {
+	i := j >> 1
+	if j&1 == 0 {
+		return [4]float64{d.pts[3*i], d.pts[3*i+1], 1, 1}
+	}
+	return [4]float64{-d.pts[3*i], -d.pts[3*i+1], -1, 1}
+}
+
+// cost returns the objective coefficient of dual variable j.
+func (d zoneDual) cost(j int) float64 {
+	if j&1 == 0 {
+		return -d.pts[3*(j>>1)+2]
+	}
+	return d.pts[3*(j>>1)+2]
+}
+
+// solveBasis returns the basis matrix B (row-major, 4×4) of basis, the
+// basic solution xb = B⁻¹(0, 0, 0, 1), the simplex multipliers y = B⁻ᵀ c_B
+// and the objective c_B·xb; ok is false when B is singular.
+func (d zoneDual) solveBasis(basis [4]int) (bm [16]float64, xb, y [4]float64, obj float64, ok bool) {
+	var bt [16]float64
+	for c, j := range basis {
+		a := d.col(j)
+		for r := range 4 {
+			bm[r*4+c] = a[r]
+			bt[c*4+r] = a[r]
+		}
+	}
+	m := bm
+	xv, ok := solveSmall(4, m[:], []float64{0, 0, 0, 1})
+	if !ok {
+		return bm, xb, y, 0, false
+	}
+	copy(xb[:], xv)
+	cb := []float64{d.cost(basis[0]), d.cost(basis[1]), d.cost(basis[2]), d.cost(basis[3])}
+	yv, ok := solveSmall(4, bt[:], cb)
+	if !ok {
+		return bm, xb, y, 0, false
+	}
+	copy(y[:], yv)
+	for r := range 4 {
+		obj += cb[r] * xb[r]
+	}
+	return bm, xb, y, obj, true
+}
+
+// price returns the entering dual variable for the plane (a, b, c) and
+// half-width h: the most violated zone constraint (Dantzig), or with
+// bland the lowest-index violated one, which after a run of degenerate
+// steps rules out cycling; −1 when none is violated (optimal).
+func (d zoneDual) price(a, b, c, h float64, bland bool) int {
+	const tol = 1e-12
+	enter, best := -1, -tol
+	for i := range d.n {
+		r := d.pts[3*i+2] - (a*d.pts[3*i] + b*d.pts[3*i+1] + c)
+		dp, dm := h-r, h+r
+		if bland {
+			if dp < -tol {
+				return 2 * i
+			}
+			if dm < -tol {
+				return 2*i + 1
+			}
+			continue
+		}
+		if dp < best {
+			best, enter = dp, 2*i
+		}
+		if dm < best {
+			best, enter = dm, 2*i+1
+		}
+	}
+	return enter
+}
+
+// ratioTest returns the row of the basis that leaves when the direction
+// w = B⁻¹ a_enter enters at the basic solution xb: the least ratio, ties
+// broken by the largest pivot or, with bland, the lowest variable index;
+// −1 when no row bounds the step (unbounded).
+func ratioTest(basis [4]int, xb [4]float64, w []float64, bland bool) int {
+	leave := -1
+	bestRatio := math.Inf(1)
+	for r := range 4 {
+		if w[r] <= 1e-12 {
+			continue
+		}
+		ratio := max(xb[r], 0) / w[r]
+		switch {
+		case leave < 0 || ratio < bestRatio-1e-15:
+			bestRatio, leave = ratio, r
+		case ratio > bestRatio+1e-15:
+		case bland && basis[r] < basis[leave]:
+			leave = r
+		case !bland && w[r] > w[leave]:
+			leave = r
+		}
+	}
+	return leave
 }
 
 // spreadTriple returns three indices of points in pts (x, y, z triples)
