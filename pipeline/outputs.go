@@ -236,19 +236,7 @@ func HumanSummary(res *Result) string {
 		fmt.Fprintf(&b, "  %s\n", qualityLine(q))
 	}
 	if g := rep.Geometry; g != nil {
-		word := map[string]string{
-			"dished": "concave (dished: centre raised, stands on its rim)",
-			"domed":  "convex (domed: centre lower, stands on its centre)",
-			"flat":   "flat within the noise of the form terms",
-			"tilted": "flat but tilted (a wedge)",
-			"saddle": "a saddle (twisted: up one way, down the other)",
-			"bent":   fmt.Sprintf("bent about one axis (at %.0f° from x)", bendAxis(g)),
-		}[g.Shape]
-		fmt.Fprintf(&b, "  base: diameter %.1f mm, minimum-zone flatness %.3f mm (least squares %.3f mm)\n",
-			g.DiameterMM, g.FlatnessMZMM, g.FlatnessLSMM)
-		fmt.Fprintf(&b, "  concavity %s mm = %s %% of diameter: %s\n", signedFixed(g.ConcavityMM, 3), signedFixed(g.ConcavityPctOfDiameter, 3), word)
-		fmt.Fprintf(&b, "  measured %.1f %% of the base, %d outliers removed, scanner noise %.1f µm (filter cut-off %.1f mm)\n",
-			g.CoveragePct, g.OutliersRemoved, g.NoiseUM, g.CutoffMM)
+		writeGeometrySummary(&b, g)
 	}
 	if p := rep.Pose; p != nil {
 		rock := "stands firm"
@@ -266,18 +254,7 @@ func HumanSummary(res *Result) string {
 			g.ContactAreaPct, g.MeanGapMM, g.MaxGapMM)
 	}
 	if h := rep.Heat; h != nil {
-		fmt.Fprintf(&b, "  heat (%s mode, water at %.0f °C): %.0f W into the pan against %.0f W for a flat twin: %.1f %% of the heating power lost\n",
-			h.Mode, h.WaterC, h.PowerW, h.FlatPowerW, h.LossPct)
-		solid := fmt.Sprintf("%.3f %%", h.SolidPct)
-		if math.Abs(h.SolidPct) < 0.001 {
-			solid = "below 0.001 %"
-		}
-		fmt.Fprintf(&b, "  heat crossing the interface: gas %.1f %%, radiation %.1f %%, solid contact %s\n",
-			h.GasPct, h.RadiationPct, solid)
-		if h.GlassMaxC != nil {
-			fmt.Fprintf(&b, "  glass top up to %.0f °C (flat twin %.0f °C), heater duty %.0f %% (flat twin %.0f %%)\n",
-				*h.GlassMaxC, *h.FlatGlassMaxC, *h.HeaterDutyPct, *h.FlatHeaterDutyPct)
-		}
+		writeHeatSummary(&b, h)
 	}
 	if f := rep.Input.FittedToBase; f != nil {
 		fmt.Fprintf(&b, "  fitted to the base (job keys left at 0): %s\n", fittedText(f))
@@ -308,6 +285,39 @@ func HumanSummary(res *Result) string {
 		fmt.Fprintf(&b, "  warning: %s\n", w)
 	}
 	return b.String()
+}
+
+// writeGeometrySummary writes HumanSummary's lines on the base's form.
+func writeGeometrySummary(b *strings.Builder, g *GeometryReport) {
+	word := map[string]string{
+		"dished": "concave (dished: centre raised, stands on its rim)",
+		"domed":  "convex (domed: centre lower, stands on its centre)",
+		"flat":   "flat within the noise of the form terms",
+		"tilted": "flat but tilted (a wedge)",
+		"saddle": "a saddle (twisted: up one way, down the other)",
+		"bent":   fmt.Sprintf("bent about one axis (at %.0f° from x)", bendAxis(g)),
+	}[g.Shape]
+	fmt.Fprintf(b, "  base: diameter %.1f mm, minimum-zone flatness %.3f mm (least squares %.3f mm)\n",
+		g.DiameterMM, g.FlatnessMZMM, g.FlatnessLSMM)
+	fmt.Fprintf(b, "  concavity %s mm = %s %% of diameter: %s\n", signedFixed(g.ConcavityMM, 3), signedFixed(g.ConcavityPctOfDiameter, 3), word)
+	fmt.Fprintf(b, "  measured %.1f %% of the base, %d outliers removed, scanner noise %.1f µm (filter cut-off %.1f mm)\n",
+		g.CoveragePct, g.OutliersRemoved, g.NoiseUM, g.CutoffMM)
+}
+
+// writeHeatSummary writes HumanSummary's lines on the heat into the pan.
+func writeHeatSummary(b *strings.Builder, h *HeatReport) {
+	fmt.Fprintf(b, "  heat (%s mode, water at %.0f °C): %.0f W into the pan against %.0f W for a flat twin: %.1f %% of the heating power lost\n",
+		h.Mode, h.WaterC, h.PowerW, h.FlatPowerW, h.LossPct)
+	solid := fmt.Sprintf("%.3f %%", h.SolidPct)
+	if math.Abs(h.SolidPct) < 0.001 {
+		solid = "below 0.001 %"
+	}
+	fmt.Fprintf(b, "  heat crossing the interface: gas %.1f %%, radiation %.1f %%, solid contact %s\n",
+		h.GasPct, h.RadiationPct, solid)
+	if h.GlassMaxC != nil {
+		fmt.Fprintf(b, "  glass top up to %.0f °C (flat twin %.0f °C), heater duty %.0f %% (flat twin %.0f %%)\n",
+			*h.GlassMaxC, *h.FlatGlassMaxC, *h.HeaterDutyPct, *h.FlatHeaterDutyPct)
+	}
 }
 
 // signedFixed writes v with prec decimals and an explicit sign, except that

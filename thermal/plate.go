@@ -908,16 +908,8 @@ func (s *plate) run() error {
 		s.relRes = rel
 		tight := rel <= s.tol
 		if s.t1 != nil && (s.duty < 1 || s.sensedK(next) > s.limiterK) {
-			if !(dutyStep <= dutyResolve) {
-				if _, err := s.linear(s.t1, s.bHeat, &forcing{fixed: dutyForcing}); err != nil {
-					return err
-				}
-			}
-			d := s.setDuty(next)
-			dutyStep = math.Abs(d - s.duty)
-			if d != s.duty {
-				floats.AddScaled(next, d-s.duty, s.t1)
-				s.duty = d
+			if dutyStep, err = s.correctDuty(next, dutyStep); err != nil {
+				return err
 			}
 		}
 		for i, v := range next {
@@ -929,15 +921,7 @@ func (s *plate) run() error {
 		if err != nil {
 			return err
 		}
-		change = 0
-		f, t := s.dir, s.t
-		for i, d := range f {
-			f[i] = alpha * d
-			if v := math.Abs(f[i]); v > change {
-				change = v
-			}
-			t[i] += f[i]
-		}
+		change = s.takeStep(alpha)
 		s.lastChange = change
 		// Converged when the step, or the distance to the fixed point
 		// estimated from the contraction ρ of the last two full steps,
@@ -954,6 +938,41 @@ func (s *plate) run() error {
 	}
 	s.outer = maxOuter
 	return fmt.Errorf("thermal: plate solve did not converge in %d outer iterations (last max |ΔT| = %.3g K, tolerance %.3g K)", maxOuter, change, s.oTol)
+}
+
+// correctDuty moves the heater's duty so that the limiter's sensed
+// temperature of the state next sits at its set point, and next with it
+// along the response T₁ to the heater (s.t1), solved again, loosely,
+// while the last duty change dutyStep exceeds dutyResolve. It returns
+// the duty change.
+func (s *plate) correctDuty(next []float64, dutyStep float64) (float64, error) {
+	if !(dutyStep <= dutyResolve) {
+		if _, err := s.linear(s.t1, s.bHeat, &forcing{fixed: dutyForcing}); err != nil {
+			return dutyStep, err
+		}
+	}
+	d := s.setDuty(next)
+	dutyStep = math.Abs(d - s.duty)
+	if d != s.duty {
+		floats.AddScaled(next, d-s.duty, s.t1)
+		s.duty = d
+	}
+	return dutyStep, nil
+}
+
+// takeStep scales the search direction s.dir by alpha, adds it to the
+// state s.t and returns the largest |ΔT| of the step, K.
+func (s *plate) takeStep(alpha float64) float64 {
+	change := 0.0
+	f, t := s.dir, s.t
+	for i, d := range f {
+		f[i] = alpha * d
+		if v := math.Abs(f[i]); v > change {
+			change = v
+		}
+		t[i] += f[i]
+	}
+	return change
 }
 
 // glassMax returns the highest glass node temperature of the state t.
