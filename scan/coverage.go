@@ -1,6 +1,7 @@
 package scan
 
 import (
+	"gapflux/internal/parallel"
 	"math"
 	"slices"
 	"sync"
@@ -384,7 +385,7 @@ func pointsNear(s *Surface, x, y []float64, near []bool) (sx, sy []float64) {
 	}
 	parts := rowParts(len(x))
 	off := make([]int, parts+1)
-	parallelParts(len(x), parts, func(t, i0, i1 int) {
+	parallel.Do(len(x), parts, func(t, i0, i1 int) {
 		for i := i0; i < i1; i++ {
 			if in(i) {
 				off[t+1]++
@@ -395,7 +396,7 @@ func pointsNear(s *Surface, x, y []float64, near []bool) (sx, sy []float64) {
 		off[t+1] += off[t]
 	}
 	sx, sy = make([]float64, off[parts]), make([]float64, off[parts])
-	parallelParts(len(x), parts, func(t, i0, i1 int) {
+	parallel.Do(len(x), parts, func(t, i0, i1 int) {
 		o := off[t]
 		for i := i0; i < i1; i++ {
 			if in(i) {
@@ -513,7 +514,7 @@ func rimCompleteness(x, y []float64, r, spacingM float64) (float64, []int) {
 	clearIn := inner * inner * (1 - 1e-9)
 	parts := rowParts(len(x))
 	counts := make([][RimSectors]int, parts)
-	parallelParts(len(x), parts, func(t, i0, i1 int) {
+	parallel.Do(len(x), parts, func(t, i0, i1 int) {
 		c := &counts[t]
 		for i := i0; i < i1; i++ {
 			if x[i]*x[i]+y[i]*y[i] < clearIn {

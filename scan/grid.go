@@ -297,7 +297,7 @@ func basePoints(pts []r3.Vec, r float64) samples {
 	r2 := r * r * (1 + 1e-12)
 	parts := rowParts(len(pts))
 	off := make([]int, parts+1)
-	parallelParts(len(pts), parts, func(k, i0, i1 int) {
+	parallel.Do(len(pts), parts, func(k, i0, i1 int) {
 		c := 0
 		for _, p := range pts[i0:i1] {
 			if p.X*p.X+p.Y*p.Y <= r2 {
@@ -311,7 +311,7 @@ func basePoints(pts []r3.Vec, r float64) samples {
 	}
 	n := off[parts]
 	s := samples{x: make([]float64, n), y: make([]float64, n), z: make([]float64, n), id: make([]int32, n)}
-	parallelParts(len(pts), parts, func(k, i0, i1 int) {
+	parallel.Do(len(pts), parts, func(k, i0, i1 int) {
 		o := off[k]
 		for i := i0; i < i1; i++ {
 			p := pts[i]

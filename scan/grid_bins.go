@@ -1,6 +1,10 @@
 package scan
 
-import "math"
+import (
+	"math"
+
+	"gapflux/internal/parallel"
+)
 
 // binParts returns the number of contiguous sample ranges sortByCell
 // splits n samples binned into nc cells between: one per processor, but
@@ -31,7 +35,7 @@ func sortByCell(cellOf []int32, nc int) (order, start []int32) {
 	n := len(cellOf)
 	parts := binParts(n, nc)
 	next := make([][]int32, parts)
-	parallelParts(n, parts, func(t, i0, i1 int) {
+	parallel.Do(n, parts, func(t, i0, i1 int) {
 		c := make([]int32, nc)
 		for _, q := range cellOf[i0:i1] {
 			if q >= 0 {
@@ -52,7 +56,7 @@ func sortByCell(cellOf []int32, nc int) (order, start []int32) {
 	}
 	start[nc] = sum
 	order = make([]int32, sum)
-	parallelParts(n, parts, func(t, i0, i1 int) {
+	parallel.Do(n, parts, func(t, i0, i1 int) {
 		c := next[t]
 		for i := i0; i < i1; i++ {
 			if q := cellOf[i]; q >= 0 {
@@ -82,7 +86,7 @@ func gridCells(s *Surface, x, y []float64) []int32 {
 func bounds(x, y []float64) (xmin, xmax, ymin, ymax float64) {
 	parts := rowParts(len(x))
 	b := make([][4]float64, parts)
-	parallelParts(len(x), parts, func(t, i0, i1 int) {
+	parallel.Do(len(x), parts, func(t, i0, i1 int) {
 		lx, hx, ly, hy := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
 		for i := i0; i < i1; i++ {
 			lx, hx = min(lx, x[i]), max(hx, x[i])

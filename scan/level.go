@@ -626,7 +626,7 @@ func refitPlane(pts []r3.Vec, f frame, rim rimFit, radius float64, centre, c1, n
 	defer func() { sc.vecs.put(basePts) }()
 	parts := rowParts(nTake)
 	cnt := make([]int, parts)
-	parallelParts(nTake, parts, func(k, t0, t1 int) {
+	parallel.Do(nTake, parts, func(k, t0, t1 int) {
 		o := t0
 		for t := t0; t < t1; t++ {
 			p := pts[t*stride2]

@@ -132,7 +132,7 @@ func wallFace(pts []r3.Vec, f *frame, radius, dr float64, sc *levelScratch) floa
 	defer func() { sc.floats.put(rimW, outer) }()
 	parts := rowParts(nTake)
 	nRim, nOuter, nBases := make([]int, parts), make([]int, parts), make([]int, parts)
-	parallelParts(nTake, parts, func(k, t0, t1 int) {
+	parallel.Do(nTake, parts, func(k, t0, t1 int) {
 		r, o := t0, t0
 		for t := t0; t < t1; t++ {
 			u, v, w := f.coords(pts[t*step])

@@ -2,6 +2,7 @@ package scan
 
 import (
 	"errors"
+	"gapflux/internal/parallel"
 	"math"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -105,7 +106,7 @@ func (b *baseCut) run(lc *Cloud, idx []int32, reuse bool) dropTally {
 	cnt := make([]int, parts)
 	tallies := make([]dropTally, parts)
 	if reuse {
-		parallelParts(n, parts, func(k, i0, i1 int) {
+		parallel.Do(n, parts, func(k, i0, i1 int) {
 			cnt[k] = b.part(i0, i1, b.pts, b.normals, i0, idx, &tallies[k])
 		})
 		off := packBlocks(b.pts, n, cnt)
@@ -118,7 +119,7 @@ func (b *baseCut) run(lc *Cloud, idx []int32, reuse bool) dropTally {
 			shiftIndices(idx, n, off)
 		}
 	} else {
-		parallelParts(n, parts, func(k, i0, i1 int) {
+		parallel.Do(n, parts, func(k, i0, i1 int) {
 			cnt[k] = b.part(i0, i1, nil, nil, 0, nil, &tallies[k])
 		})
 		off := blockOffsets(cnt)
@@ -126,7 +127,7 @@ func (b *baseCut) run(lc *Cloud, idx []int32, reuse bool) dropTally {
 		if b.normals != nil {
 			lc.Normals = make([]r3.Vec, off[parts])
 		}
-		parallelParts(n, parts, func(k, i0, i1 int) {
+		parallel.Do(n, parts, func(k, i0, i1 int) {
 			b.part(i0, i1, lc.Points, lc.Normals, off[k], idx, nil)
 		})
 	}
@@ -148,7 +149,7 @@ func blockOffsets(cnt []int) []int {
 }
 
 // packBlocks moves, in order, the cnt[k] items at the start of part k of
-// s (parts of [0, n) as parallelParts splits it) to their packed offset,
+// s (parts of [0, n) as parallel.Do splits it) to their packed offset,
 // and returns the offsets (blockOffsets). A block moves down, never over
 // a later block's items.
 func packBlocks[T any](s []T, n int, cnt []int) []int {
@@ -164,7 +165,7 @@ func packBlocks[T any](s []T, n int, cnt []int) []int {
 // shiftIndices moves the output indices of part k (numbered from the
 // part's own start) by the part's packed offset, parts at once.
 func shiftIndices(idx []int32, n int, off []int) {
-	parallelParts(n, len(off)-1, func(k, i0, i1 int) {
+	parallel.Do(n, len(off)-1, func(k, i0, i1 int) {
 		d := int32(off[k] - i0)
 		if d == 0 {
 			return
@@ -215,7 +216,7 @@ func keepTriangles(lc, c *Cloud, rep, idx []int32, bf *frame, reuse bool) {
 	parts := rowParts(n)
 	cnt := make([]int, parts)
 	if reuse {
-		parallelParts(n, parts, func(k, t0, t1 int) { cnt[k] = part(t0, t1, tris, fns, t0) })
+		parallel.Do(n, parts, func(k, t0, t1 int) { cnt[k] = part(t0, t1, tris, fns, t0) })
 		off := packBlocks(tris, n, cnt)
 		lc.Triangles = tris[:off[parts]]
 		if fns != nil {
@@ -224,7 +225,7 @@ func keepTriangles(lc, c *Cloud, rep, idx []int32, bf *frame, reuse bool) {
 		}
 		return
 	}
-	parallelParts(n, parts, func(k, t0, t1 int) { cnt[k] = part(t0, t1, nil, nil, 0) })
+	parallel.Do(n, parts, func(k, t0, t1 int) { cnt[k] = part(t0, t1, nil, nil, 0) })
 	off := blockOffsets(cnt)
 	if off[parts] == 0 {
 		return
@@ -233,7 +234,7 @@ func keepTriangles(lc, c *Cloud, rep, idx []int32, bf *frame, reuse bool) {
 	if fns != nil {
 		lc.FacetNormals = make([]r3.Vec, off[parts])
 	}
-	parallelParts(n, parts, func(k, t0, t1 int) { part(t0, t1, lc.Triangles, lc.FacetNormals, off[k]) })
+	parallel.Do(n, parts, func(k, t0, t1 int) { part(t0, t1, lc.Triangles, lc.FacetNormals, off[k]) })
 }
 
 // nonEmpty returns v, or nil when it is empty.

@@ -3,6 +3,7 @@ package scan
 import (
 	"errors"
 	"fmt"
+	"gapflux/internal/parallel"
 	"math"
 	"runtime"
 
@@ -30,7 +31,7 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64, sc *levelScr
 	ns, dr := rb.ns, rb.dr
 	kStart := int((0.6*r0 - rb.rlo) / dr)
 	sr := make([]sectorRim, ns)
-	parallelParts(ns, min(runtime.GOMAXPROCS(0), ns), func(_, s0, s1 int) {
+	parallel.Do(ns, min(runtime.GOMAXPROCS(0), ns), func(_, s0, s1 int) {
 		sp := rb.profileFrom(s0)
 		for s := s0; s < s1; s++ {
 			rb.profile(s, sp)
@@ -140,7 +141,7 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *lev
 	n := len(pts)
 	parts := rowParts(n)
 	nIn, nAnn := make([]int, parts), make([]int, parts)
-	parallelParts(n, parts, func(k, i0, i1 int) {
+	parallel.Do(n, parts, func(k, i0, i1 int) {
 		for _, p := range pts[i0:i1] {
 			_, _, _, r2 := rr(p)
 			if r2 < in2 {
@@ -162,7 +163,7 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *lev
 	if step > 1 {
 		parts = rowParts(nTake)
 		cnt = make([]int, parts)
-		parallelParts(nTake, parts, func(k, t0, t1 int) {
+		parallel.Do(nTake, parts, func(k, t0, t1 int) {
 			for t := t0; t < t1; t++ {
 				if _, _, _, r2 := rr(pts[t*step]); r2 >= lo2 && r2 < hi2 {
 					cnt[k]++
@@ -173,7 +174,7 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *lev
 	off := blockOffsets(cnt)
 	a.r, a.w, a.sec = sc.floats.get(off[parts], 0), sc.floats.get(off[parts], 0), make([]uint8, off[parts])
 	fns := float64(a.ns)
-	parallelParts(nTake, parts, func(k, t0, t1 int) {
+	parallel.Do(nTake, parts, func(k, t0, t1 int) {
 		o := off[k]
 		for t := t0; t < t1; t++ {
 			du, dv, w, r2 := rr(pts[t*step])
@@ -243,7 +244,7 @@ func (a *annulus) bin(i, nb int, rlo, dr float64) int {
 // parts parts of the points, at once.
 func (a *annulus) binCounts(parts, nb int, rlo, dr float64) [][]int32 {
 	counts := make([][]int32, parts)
-	parallelParts(len(a.r), parts, func(k, i0, i1 int) {
+	parallel.Do(len(a.r), parts, func(k, i0, i1 int) {
 		c := make([]int32, a.ns*nb)
 		for i := i0; i < i1; i++ {
 			c[a.bin(i, nb, rlo, dr)]++
@@ -305,7 +306,7 @@ func (a *annulus) binMeans(rb *rimBins) []float64 {
 // slots (after those of the parts before it) at once.
 func (a *annulus) fill(rb *rimBins, counts [][]int32) {
 	parts, nsb := len(counts), rb.ns*rb.nb
-	parallelParts(len(a.r), parts, func(k, i0, i1 int) {
+	parallel.Do(len(a.r), parts, func(k, i0, i1 int) {
 		next := make([]int32, nsb)
 		copy(next, rb.start[:nsb])
 		for j := range k {

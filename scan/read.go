@@ -6,6 +6,7 @@ import (
 	"compress/gzip"
 	"errors"
 	"fmt"
+	"gapflux/internal/parallel"
 	"gapflux/internal/scanerr"
 	"io"
 	"math"
@@ -177,7 +178,7 @@ const MaxReachM = 1e6
 func scaleToMetres(pts []r3.Vec, k float64, unit string) error {
 	parts := rowParts(len(pts))
 	errs := make([]error, parts)
-	parallelParts(len(pts), parts, func(t, i0, i1 int) {
+	parallel.Do(len(pts), parts, func(t, i0, i1 int) {
 		for i := i0; i < i1; i++ {
 			pts[i] = r3.Scale(k, pts[i])
 		}

@@ -1,9 +1,9 @@
 package scan
 
 import (
+	"gapflux/internal/parallel"
 	"math"
 	"runtime"
-	"sync"
 )
 
 // gaussRegression evaluates the weighted Gaussian regression filter of ISO
@@ -315,27 +315,8 @@ func solveSmallInPlace(k int, a, b []float64) (float64, bool) {
 // parallelRows runs f over [0, ny) split into contiguous row ranges, one
 // per available processor (each range writes only its own rows).
 func parallelRows(ny int, f func(j0, j1 int)) {
-	parallelParts(ny, rowParts(ny), func(_, j0, j1 int) { f(j0, j1) })
+	parallel.Do(ny, rowParts(ny), func(_, j0, j1 int) { f(j0, j1) })
 }
 
 // rowParts is the number of ranges parallelRows splits ny rows into.
 func rowParts(ny int) int { return min(runtime.GOMAXPROCS(0), max(1, ny/16)) }
-
-// parallelParts runs f(t, j0, j1) at once for the p contiguous ranges
-// [j0, j1) of [0, ny), t = 0 … p−1 in row order.
-func parallelParts(ny, p int, f func(t, j0, j1 int)) {
-	if p <= 1 {
-		f(0, 0, ny)
-		return
-	}
-	var wg sync.WaitGroup
-	for t := range p {
-		j0, j1 := t*ny/p, (t+1)*ny/p
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			f(t, j0, j1)
-		}()
-	}
-	wg.Wait()
-}

@@ -3,6 +3,7 @@ package scan
 import (
 	"errors"
 	"fmt"
+	"gapflux/internal/parallel"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
@@ -393,7 +394,7 @@ func zernikeNormal(s *Surface, idx []int, radiusM float64, maxOrder int) (*mat.S
 	var part mat.VecDense
 	for lo := 0; lo < len(idx); lo += rows {
 		cells := idx[lo:min(len(idx), lo+rows)]
-		parallelParts(len(cells), min(parts, len(cells)), func(p, r0, r1 int) {
+		parallel.Do(len(cells), min(parts, len(cells)), func(p, r0, r1 int) {
 			for r := r0; r < r1; r++ {
 				k := cells[r]
 				row := a[r*t : (r+1)*t]
@@ -404,7 +405,7 @@ func zernikeNormal(s *Surface, idx []int, radiusM float64, maxOrder int) (*mat.S
 				z[r] = s.ZM[k]
 			}
 		})
-		parallelParts(len(tiles), min(parts, len(tiles)), func(_, i0, i1 int) {
+		parallel.Do(len(tiles), min(parts, len(tiles)), func(_, i0, i1 int) {
 			for _, tl := range tiles[i0:i1] {
 				addGramTile(gram, col, rows, len(cells), t, tl)
 			}

@@ -1,6 +1,7 @@
-// Package parallel runs a search over contiguous parts of a range at once
-// and keeps the answer of the first part in order, so that a parallel
-// reader reports the same first fault as a sequential one.
+// Package parallel runs work over contiguous parts of a range at once
+// (Do), and a search that keeps the answer of the first part in order
+// (First), so that a parallel reader reports the same first fault as a
+// sequential one.
 package parallel
 
 import "sync"
@@ -22,16 +23,7 @@ func FirstPart(n, parts int, find func(t, lo, hi int) (v int, ok bool)) (v int, 
 	}
 	vs := make([]int, parts)
 	oks := make([]bool, parts)
-	var wg sync.WaitGroup
-	for t := range parts {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			lo, hi := Range(n, parts, t)
-			vs[t], oks[t] = find(t, lo, hi)
-		}()
-	}
-	wg.Wait()
+	Do(n, parts, func(t, lo, hi int) { vs[t], oks[t] = find(t, lo, hi) })
 	for t := range parts {
 		if oks[t] {
 			return vs[t], true
@@ -47,3 +39,25 @@ func Parts(n, parts int) int { return max(1, min(parts, n)) }
 // Range returns range t of the parts ranges (parts as Parts returns it)
 // First and FirstPart split [0, n) into.
 func Range(n, parts, t int) (lo, hi int) { return t * n / parts, (t + 1) * n / parts }
+
+// Do runs f(t, lo, hi) at once for the parts contiguous ranges [lo, hi)
+// of [0, n) that Range gives, t = 0 … parts−1 in order, and returns when
+// all have returned. parts is not clamped (a range may be empty, so that
+// per-part results indexed by t are all written); with parts ≤ 1,
+// f(0, 0, n) runs on the caller's goroutine.
+func Do(n, parts int, f func(t, lo, hi int)) {
+	if parts <= 1 {
+		f(0, 0, n)
+		return
+	}
+	var wg sync.WaitGroup
+	for t := range parts {
+		lo, hi := Range(n, parts, t)
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			f(t, lo, hi)
+		}()
+	}
+	wg.Wait()
+}

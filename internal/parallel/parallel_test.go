@@ -62,3 +62,28 @@ func TestFirstPart(t *testing.T) {
 		}
 	}
 }
+
+// TestDo: every part runs once with the range Range gives, parts not
+// clamped (more parts than items leaves empty ranges), and one part runs
+// on the caller's goroutine over the whole range.
+func TestDo(t *testing.T) {
+	for _, tc := range []struct{ n, parts int }{{10, 1}, {10, 3}, {3, 5}, {0, 2}, {1000, 7}} {
+		seen := make([][2]int, max(tc.parts, 1))
+		runs := make([]int, max(tc.parts, 1))
+		Do(tc.n, tc.parts, func(p, lo, hi int) {
+			seen[p] = [2]int{lo, hi}
+			runs[p]++
+		})
+		covered := 0
+		for p := range seen {
+			lo, hi := Range(tc.n, max(tc.parts, 1), p)
+			if runs[p] != 1 || seen[p] != [2]int{lo, hi} {
+				t.Errorf("n %d, %d parts: part %d ran %d times over %v, want once over [%d, %d)", tc.n, tc.parts, p, runs[p], seen[p], lo, hi)
+			}
+			covered += hi - lo
+		}
+		if covered != tc.n {
+			t.Errorf("n %d, %d parts: ranges cover %d items", tc.n, tc.parts, covered)
+		}
+	}
+}
