@@ -1,12 +1,13 @@
 package scan
 
 import (
-	"gapflux/internal/parallel"
 	"math"
 	"slices"
 	"sync"
 
+	"gapflux/internal/hugemem"
 	"gapflux/internal/order"
+	"gapflux/internal/parallel"
 )
 
 // Coverage rules (our own choices, stated in the report's documentation).
@@ -64,7 +65,7 @@ func newPointIndex(x, y []float64, h float64) *pointIndex {
 	p.x0, p.y0 = xmin, ymin
 	p.nx = int((xmax-xmin)/h) + 1
 	p.ny = int((ymax-ymin)/h) + 1
-	key := make([]int32, len(x))
+	key := hugemem.Make[int32](len(x), 0)
 	parallelRows(len(x), func(i0, i1 int) {
 		for i := i0; i < i1; i++ {
 			key[i] = int32(p.bucket(x[i], y[i]))

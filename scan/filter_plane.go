@@ -1,6 +1,10 @@
 package scan
 
-import "math"
+import (
+	"math"
+
+	"gapflux/internal/hugemem"
+)
 
 // applyPlane is apply for the first-order (plane) regression, the
 // filters' default (ISO 16610-61/-71 Gaussian regression, see
@@ -12,7 +16,7 @@ import "math"
 func (r *gaussRegression) applyPlane(w, z, out []float64, use func(q int) bool) {
 	nx, ny, h := r.nx, r.ny, r.half
 	if r.rm == nil {
-		r.rm = make([]float64, 5*nx*ny)
+		r.rm = hugemem.Make[float64](5*nx*ny, 0)
 	}
 	parallelRows(ny, func(j0, j1 int) {
 		wz := make([]float64, nx)

@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/spatial/r3"
 
+	"gapflux/internal/hugemem"
 	"gapflux/internal/order"
 	"gapflux/internal/parallel"
 )
@@ -310,7 +311,7 @@ func basePoints(pts []r3.Vec, r float64) samples {
 		off[k+1] += off[k]
 	}
 	n := off[parts]
-	s := samples{x: make([]float64, n), y: make([]float64, n), z: make([]float64, n), id: make([]int32, n)}
+	s := samples{x: hugemem.Make[float64](n, 0), y: hugemem.Make[float64](n, 0), z: hugemem.Make[float64](n, 0), id: hugemem.Make[int32](n, 0)}
 	parallel.Do(len(pts), parts, func(k, i0, i1 int) {
 		o := off[k]
 		for i := i0; i < i1; i++ {

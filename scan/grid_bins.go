@@ -3,6 +3,7 @@ package scan
 import (
 	"math"
 
+	"gapflux/internal/hugemem"
 	"gapflux/internal/parallel"
 )
 
@@ -55,7 +56,7 @@ func sortByCell(cellOf []int32, nc int) (order, start []int32) {
 		}
 	}
 	start[nc] = sum
-	order = make([]int32, sum)
+	order = hugemem.Make[int32](int(sum), 0)
 	parallel.Do(n, parts, func(t, i0, i1 int) {
 		c := next[t]
 		for i := i0; i < i1; i++ {
@@ -71,7 +72,7 @@ func sortByCell(cellOf []int32, nc int) (order, start []int32) {
 // gridCells returns the cell of s holding each point (x[i], y[i]), −1 off
 // the grid (gridIndex); ranges of points at once.
 func gridCells(s *Surface, x, y []float64) []int32 {
-	cellOf := make([]int32, len(x))
+	cellOf := hugemem.Make[int32](len(x), 0)
 	parallelRows(len(x), func(i0, i1 int) {
 		for i := i0; i < i1; i++ {
 			cellOf[i] = int32(gridIndex(s, x[i], y[i]))

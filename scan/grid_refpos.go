@@ -1,6 +1,10 @@
 package scan
 
-import "math"
+import (
+	"math"
+
+	"gapflux/internal/hugemem"
+)
 
 // refPos is every sample's place in the bilinear interpolation of a
 // refGrid, computed once so the outlier test's residual passes (up to
@@ -18,7 +22,7 @@ type refPos struct {
 // from the same quotients (x − x0)/h and (y − y0)/h, computed once.
 func newRefPos(g refGrid, x, y []float64, cellOf []int32) refPos {
 	n := len(x)
-	p := refPos{q: make([]int32, n), tx: make([]float64, n), ty: make([]float64, n)}
+	p := refPos{q: hugemem.Make[int32](n, 0), tx: hugemem.Make[float64](n, 0), ty: hugemem.Make[float64](n, 0)}
 	parallelRows(n, func(a, b int) {
 		for i := a; i < b; i++ {
 			fi := (x[i] - g.x0) / g.h

@@ -2,10 +2,12 @@ package scan
 
 import (
 	"errors"
-	"gapflux/internal/parallel"
 	"math"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"gapflux/internal/hugemem"
+	"gapflux/internal/parallel"
 )
 
 // keepBase keeps the points of pts (all the cloud's points) inside the
@@ -21,7 +23,7 @@ func keepBase(c *Cloud, pts []r3.Vec, rep []int32, merged int, bf *frame, radius
 	cut := &baseCut{pts: pts, normals: nonEmpty(c.Normals), rep: rep, bf: bf, r2: radius * radius, far: far, level: level}
 	var idx []int32 // output index of each point, for the triangles
 	if len(c.Triangles) != 0 {
-		idx = make([]int32, len(pts))
+		idx = hugemem.Make[int32](len(pts), 0)
 	}
 	drop := cut.run(lc, idx, reuse)
 	keepTriangles(lc, c, rep, idx, bf, reuse)
@@ -123,9 +125,9 @@ func (b *baseCut) run(lc *Cloud, idx []int32, reuse bool) dropTally {
 			cnt[k] = b.part(i0, i1, nil, nil, 0, nil, &tallies[k])
 		})
 		off := blockOffsets(cnt)
-		lc.Points = make([]r3.Vec, off[parts])
+		lc.Points = hugemem.Make[r3.Vec](off[parts], 0)
 		if b.normals != nil {
-			lc.Normals = make([]r3.Vec, off[parts])
+			lc.Normals = hugemem.Make[r3.Vec](off[parts], 0)
 		}
 		parallel.Do(n, parts, func(k, i0, i1 int) {
 			b.part(i0, i1, lc.Points, lc.Normals, off[k], idx, nil)
@@ -230,9 +232,9 @@ func keepTriangles(lc, c *Cloud, rep, idx []int32, bf *frame, reuse bool) {
 	if off[parts] == 0 {
 		return
 	}
-	lc.Triangles = make([][3]int32, off[parts])
+	lc.Triangles = hugemem.Make[[3]int32](off[parts], 0)
 	if fns != nil {
-		lc.FacetNormals = make([]r3.Vec, off[parts])
+		lc.FacetNormals = hugemem.Make[r3.Vec](off[parts], 0)
 	}
 	parallel.Do(n, parts, func(k, t0, t1 int) { part(t0, t1, lc.Triangles, lc.FacetNormals, off[k]) })
 }

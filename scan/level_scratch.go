@@ -1,6 +1,10 @@
 package scan
 
-import "gonum.org/v1/gonum/spatial/r3"
+import (
+	"gonum.org/v1/gonum/spatial/r3"
+
+	"gapflux/internal/hugemem"
+)
 
 // levelScratch holds the scratch buffers that Level's steps hand on to
 // each other. Every buffer Level allocates is fresh memory (no collection
@@ -27,7 +31,7 @@ func (p *pool[T]) get(n, capHint int) []T {
 		}
 	}
 	if best < 0 {
-		return make([]T, n, need)
+		return hugemem.Make[T](n, need)
 	}
 	b := p.free[best]
 	p.free = append(p.free[:best], p.free[best+1:]...)

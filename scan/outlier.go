@@ -2,6 +2,8 @@ package scan
 
 import (
 	"math"
+
+	"gapflux/internal/hugemem"
 )
 
 // Constants of the local outlier test (our own choices, stated in
@@ -137,11 +139,11 @@ func LocalOutliers(x, y, z []float64, spacingM, k float64) (out []bool, sigmaM f
 	}
 	cutoff := max(OutlierCutoffM, outlierCutoffSpacings*spacingM)
 	g := newRefGrid(x, y, cutoff/refCellsPerCutoff)
-	cellOf := make([]int32, n)
+	cellOf := hugemem.Make[int32](n, 0)
 	pos := newRefPos(g, x, y, cellOf)
 	byCell, cellStart := sortByCell(cellOf, g.nx*g.ny)
 	f := refStart(g, byCell, cellStart, z)
-	res := make([]float64, n)
+	res := hugemem.Make[float64](n, 0)
 	f, full := reweight(g, f, pos, x, y, z, byCell, cellStart, res)
 	residualsAt(g, f, pos, x, y, z, res, full)
 	sigma := max(madToSigma*madOf(res), outlierSigmaFloorM)

@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"gapflux/internal/hugemem"
 )
 
 // Cloud is a scan's raw geometry in metres, in the frame it was read in
@@ -79,7 +81,7 @@ type Surface struct {
 // with heights set to NaN.
 func NewSurface(nx, ny int, cellM, x0M, y0M float64) *Surface {
 	s := &Surface{Nx: nx, Ny: ny, CellM: cellM, X0M: x0M, Y0M: y0M,
-		ZM: make([]float64, nx*ny), State: make([]CellState, nx*ny)}
+		ZM: hugemem.Make[float64](nx*ny, 0), State: hugemem.Make[CellState](nx*ny, 0)}
 	for k := range s.ZM {
 		s.ZM[k] = nan
 	}

@@ -3,10 +3,12 @@ package scan
 import (
 	"errors"
 	"fmt"
-	"gapflux/internal/parallel"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"gapflux/internal/hugemem"
+	"gapflux/internal/parallel"
 )
 
 // ZernikeTerm is one term of a Zernike expansion of a base's form.
@@ -382,7 +384,7 @@ func zernikeNormal(s *Surface, idx []int, radiusM float64, maxOrder int) (*mat.S
 	// The chunk's basis rows (cell by cell, for Dgemv) and columns (term
 	// by term, for the tiles).
 	const rows = zernikeChunk * zernikeBlock
-	a, col := make([]float64, rows*t), make([]float64, t*rows)
+	a, col := hugemem.Make[float64](rows*t, 0), hugemem.Make[float64](t*rows, 0)
 	z := make([]float64, rows)
 	tiles := gramTiles(t)
 	parts := rowParts(rows)

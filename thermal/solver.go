@@ -1,5 +1,7 @@
 package thermal
 
+import "gapflux/internal/hugemem"
+
 // The files solver*.go hold the matrix-free linear algebra of the plate
 // solve: a conductance operator on a grid with one or two node layers and its
 // Gauss–Seidel smoother (this file), a geometric multigrid V-cycle built on
@@ -89,7 +91,7 @@ func reuseLevel(old *level, nx, ny, nl int, vcycle bool) *level {
 // enough.
 func grow(v []float64, n int) []float64 {
 	if cap(v) < n {
-		return make([]float64, n)
+		return hugemem.Make[float64](n, 0)
 	}
 	v = v[:n]
 	clear(v)

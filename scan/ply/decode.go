@@ -1,10 +1,6 @@
 package ply
 
 import (
-	"gapflux/internal/decimal"
-	"gapflux/internal/grow"
-	"gapflux/internal/parallel"
-
 	"bufio"
 	"bytes"
 	"encoding/binary"
@@ -14,6 +10,11 @@ import (
 	"runtime"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"gapflux/internal/decimal"
+	"gapflux/internal/grow"
+	"gapflux/internal/hugemem"
+	"gapflux/internal/parallel"
 )
 
 const (
@@ -473,10 +474,10 @@ func (d *decoder) binaryVertices(e *element, u *use, rec int) error {
 		nc = 6
 	}
 	c := d.capFor(e.count, rec)
-	pts := make([]r3.Vec, 0, c)
+	pts := hugemem.Make[r3.Vec](0, c)
 	var nrm []r3.Vec
 	if u.normals {
-		nrm = make([]r3.Vec, 0, c)
+		nrm = hugemem.Make[r3.Vec](0, c)
 	}
 	same := kd[0]
 	for j := 1; j < nc; j++ {

@@ -5,13 +5,15 @@ import (
 	"bytes"
 	"encoding/binary"
 	"fmt"
-	"gapflux/internal/grow"
-	"gapflux/internal/parallel"
 	"io"
 	"math"
 	"runtime"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"gapflux/internal/grow"
+	"gapflux/internal/hugemem"
+	"gapflux/internal/parallel"
 )
 
 const (
@@ -141,12 +143,12 @@ func (d *decoder) binary() (*Mesh, error) {
 		c = min(n, growCap)
 	}
 	if d.opt.Weld {
-		m.Vertices = make([]r3.Vec, 0, meshVertices(c))
-		m.Faces = make([][3]int32, 0, c)
+		m.Vertices = hugemem.Make[r3.Vec](0, meshVertices(c))
+		m.Faces = hugemem.Make[[3]int32](0, int(c))
 	} else {
-		m.Vertices = make([]r3.Vec, 0, 3*c)
+		m.Vertices = hugemem.Make[r3.Vec](0, int(3*c))
 	}
-	m.Normals = make([]r3.Vec, 0, c)
+	m.Normals = hugemem.Make[r3.Vec](0, int(c))
 	read := d.readChunks
 	if d.opt.Weld {
 		read = d.weldChunks

@@ -6,6 +6,8 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"gapflux/internal/hugemem"
 )
 
 // A binary file is welded one read chunk at a time in three steps, so
@@ -86,7 +88,7 @@ func (p *partWelder) reset(refs int) {
 	size := 1 << bits.Len(uint(max(refs/2, 1024)-1))
 	p.base += uint32(len(p.hash))
 	if len(p.slots) < size || p.base > math.MaxUint32-uint32(refs) {
-		p.slots = make([]uint64, size)
+		p.slots = hugemem.Make[uint64](size, 0)
 		p.base = 0
 	}
 	p.shift = uint(64 - bits.TrailingZeros(uint(len(p.slots))))
@@ -123,7 +125,7 @@ func (p *partWelder) add(k vkey, x, y, z uint32) int32 {
 
 // grow doubles the part's table.
 func (p *partWelder) grow() {
-	p.slots = make([]uint64, 2*len(p.slots))
+	p.slots = hugemem.Make[uint64](2*len(p.slots), 0)
 	p.shift--
 	mask := uint64(len(p.slots) - 1)
 	for j, h := range p.hash {
@@ -232,7 +234,7 @@ type meshWelder struct {
 // table of the least power of 2 that is at least 2n and 1024.
 func newMeshWelder(n int) *meshWelder {
 	size := 1 << bits.Len(uint(max(2*n, 1024)-1))
-	return &meshWelder{table: make([]uint64, size), shift: uint(64 - bits.Len(uint(size)-1))}
+	return &meshWelder{table: hugemem.Make[uint64](size, 0), shift: uint(64 - bits.Len(uint(size)-1))}
 }
 
 // merge welds the part's distinct vertices into *vs, in their order,
@@ -279,7 +281,7 @@ func (w *meshWelder) index(vs *[]r3.Vec, v r3.Vec, h uint64) int32 {
 // 2³²), each to the slot its tag names or the next free one.
 func (w *meshWelder) grow(size int) {
 	old := w.table
-	w.table = make([]uint64, size)
+	w.table = hugemem.Make[uint64](size, 0)
 	w.shift = uint(64 - bits.Len(uint(size)-1))
 	mask := uint64(size - 1)
 	for _, e := range old {
