@@ -1056,12 +1056,17 @@ type rimProfile struct {
 }
 
 // profile fills sp with sector s's profile (the bins' heights are
-// reordered in place by the median).
+// reordered in place by the median). A bin too sparse to count (fewer
+// than rimMinCount points) is not valid; its height is 0 and its radius
+// the bin's centre, rlo + (k + ½)·dr, m, so that the walks, which stop on
+// a bin's radius before they look at its validity (slopeLimit, wallNear),
+// read a sector's own bins and nothing another sector left.
 func (rb *rimBins) profile(s int, sp *rimProfile) {
 	for bb := range rb.nb {
 		lo, hi := rb.start[s*rb.nb+bb], rb.start[s*rb.nb+bb+1]
 		sp.valid[bb] = hi-lo >= rimMinCount
 		if !sp.valid[bb] {
+			sp.prof[bb], sp.pos[bb] = 0, rb.rlo+(float64(bb)+0.5)*rb.dr
 			continue
 		}
 		sp.prof[bb] = medianInPlace(rb.ws[lo:hi])

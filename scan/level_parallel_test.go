@@ -119,11 +119,13 @@ func TestLevelSameOnAnyProcessorCount(t *testing.T) {
 	}
 }
 
-// TestProfileFrom: the profile scratch a part of the rim search starts
-// from holds, for every bin, the mean radius a sequential pass over the
-// sectors before it would have left there, also for bins too sparse in
-// the last of those sectors.
-func TestProfileFrom(t *testing.T) {
+// TestProfileOwnSector checks that a sector's rim profile holds its own
+// bins only, whatever sectors the scratch served before: a valid bin
+// (rimMinCount points or more) its median height and mean radius, a
+// sparse one height 0 and the bin's centre radius rlo + (k + ½)·dr. (A
+// sparse bin once kept the radius of the last sector where it was valid,
+// which the walks read; this test fails on that.)
+func TestProfileOwnSector(t *testing.T) {
 	const ns, nb = 7, 5
 	// Points per (sector, bin): sparse (< rimMinCount) bins here and there.
 	counts := [ns][nb]int32{
@@ -140,21 +142,31 @@ func TestProfileFrom(t *testing.T) {
 		for bb := range nb {
 			k := s*nb + bb
 			rb.start[k+1] = rb.start[k] + counts[s][bb]
-			rb.mean[k] = rb.rlo + (float64(bb)+0.5+0.01*float64(s))*rb.dr
+			rb.mean[k] = rb.rlo + (float64(bb)+0.5+0.01*float64(s+1))*rb.dr
 			for j := range counts[s][bb] {
 				rb.ws = append(rb.ws, 1e-6*float64(s+int(j)))
 			}
 		}
 	}
-	seq := rb.profileFrom(0)
-	for s0 := range ns {
-		got := rb.profileFrom(s0)
-		for bb := range nb {
-			if got.pos[bb] != seq.pos[bb] {
-				t.Errorf("sector %d, bin %d: starts from mean radius %g m, the sequential pass leaves %g m", s0, bb, got.pos[bb], seq.pos[bb])
+	used := newProfile(nb)
+	for _, order := range [][]int{{0, 1, 2, 3, 4, 5, 6}, {6, 5, 4, 3, 2, 1, 0}, {2, 6, 0, 5, 3, 1, 4}} {
+		for _, s := range order {
+			rb.profile(s, used)
+			for bb := range nb {
+				valid := counts[s][bb] >= rimMinCount
+				wantPos := rb.rlo + (float64(bb)+0.5)*rb.dr
+				wantH := 0.0
+				if valid {
+					lo := rb.start[s*nb+bb]
+					wantPos = rb.mean[s*nb+bb]
+					wantH = medianInPlace(append([]float64(nil), rb.ws[lo:lo+counts[s][bb]]...))
+				}
+				if used.valid[bb] != valid || used.pos[bb] != wantPos || used.prof[bb] != wantH {
+					t.Errorf("order %v, sector %d, bin %d: valid %v, radius %g m, height %g m; want %v, %g m, %g m",
+						order, s, bb, used.valid[bb], used.pos[bb], used.prof[bb], valid, wantPos, wantH)
+				}
 			}
 		}
-		rb.profile(s0, seq)
 	}
 }
 

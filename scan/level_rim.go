@@ -32,7 +32,7 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64, sc *levelScr
 	kStart := int((0.6*r0 - rb.rlo) / dr)
 	sr := make([]sectorRim, ns)
 	parallel.Do(ns, min(runtime.GOMAXPROCS(0), ns), func(_, s0, s1 int) {
-		sp := rb.profileFrom(s0)
+		sp := newProfile(rb.nb)
 		for s := s0; s < s1; s++ {
 			rb.profile(s, sp)
 			trend := profileTrend(sp.prof, sp.pos, sp.valid, 0.6*r0, 0.9*r0)
@@ -67,30 +67,13 @@ func fitRim(pts []r3.Vec, f *frame, uc, vc, r0, rq, tanMax float64, sc *levelScr
 	return res, nil
 }
 
-// profileFrom returns the profile scratch for a search starting at sector
-// s0 as one sequential pass over sectors 0 … s0−1 would leave it: a bin
-// too sparse in the sector at hand keeps the mean radius (m) of the last
-// sector before where it held enough points (0 when none did). The walk
-// reads those radii to stop (slopeLimit, wallNear), so a search in parts
-// must start from them to give the sequential result. Heights of sparse
-// bins are never read and are left 0.
-func (rb *rimBins) profileFrom(s0 int) *rimProfile {
-	nb := rb.nb
-	sp := &rimProfile{
+// newProfile returns the scratch of one part's sector profiles, nb bins.
+func newProfile(nb int) *rimProfile {
+	return &rimProfile{
 		prof:  make([]float64, nb), // median height per bin
 		pos:   make([]float64, nb), // mean radius per bin
 		valid: make([]bool, nb),
 	}
-	for bb := range nb {
-		for s := s0 - 1; s >= 0; s-- {
-			lo, hi := rb.start[s*nb+bb], rb.start[s*nb+bb+1]
-			if hi-lo >= rimMinCount {
-				sp.pos[bb] = rb.mean[s*nb+bb]
-				break
-			}
-		}
-	}
-	return sp
 }
 
 // rimMinCount is the fewest points a (sector, radial bin) needs to count.
