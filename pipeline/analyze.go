@@ -536,6 +536,7 @@ func (s *surfaceRun) heatChecks() error {
 		hobT = s.prob.Temperature.TopK
 	}
 	rep.Warnings = append(rep.Warnings, interfaceWarnings(s.scanField, hobT, solScan.TPanK, rep.Heat.SolidPct)...)
+	rep.Warnings = append(rep.Warnings, glassWarnings(job, rep.Heat)...)
 	if job.Hob.Mode == "temperature" && !job.Hob.PowerLimited {
 		rated := job.Hob.RatedPowerDensityKW
 		if rated == 0 {

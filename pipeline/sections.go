@@ -329,6 +329,36 @@ func interfaceWarnings(f *contact.Field, hobK, panK []float64, solidPct float64)
 	return ws
 }
 
+// glassDataMaxC is the top of the temperature range, °C, that the
+// glass-ceramic data of our references cover (20–700 °C; PHYSICS-
+// REFERENCES, glass-ceramic row, from memory there). Glass-ceramic tops
+// are ceramized at about 900 °C (TRADE-FACTS, a maker's technical page).
+const glassDataMaxC = 700
+
+// glassWarnings warns, in heater mode, when the glass top under the scan
+// or under its flat twin gets hotter than glassDataMaxC somewhere: the
+// limiter senses only the mean underside along its rod, so a lifted part
+// of a base can leave glass beneath it far hotter than the limiter
+// setting while the heater stays on.
+func glassWarnings(job Job, h *HeatReport) []string {
+	if job.Hob.Mode != "heater" || h == nil {
+		return nil
+	}
+	var ws []string
+	for _, c := range []struct {
+		who  string
+		maxC *float64
+	}{{"with this base", h.GlassMaxC}, {"with the flat twin", h.FlatGlassMaxC}} {
+		if c.maxC == nil || !(*c.maxC > glassDataMaxC) {
+			continue
+		}
+		ws = append(ws, fmt.Sprintf("the glass top reaches %.0f °C %s, above the %d °C to which our glass-ceramic data reach "+
+			"(the limiter, set to %.0f °C, senses only the mean along its rod): heat figures there are extrapolated, "+
+			"and a real top that hot may be damaged; ask the hob maker", *c.maxC, c.who, glassDataMaxC, job.Hob.LimiterC))
+	}
+	return ws
+}
+
 // fillGapConductance adds the base-mean interface conductance parts of the
 // solved scan to the gap section.
 func fillGapConductance(g *GapReport, s *thermal.Solution, inBase []bool) {
