@@ -108,6 +108,7 @@ func cmdBatch(ctx context.Context, args []string, stdout, stderr io.Writer) (int
 	if err != nil {
 		return exitUsage, err
 	}
+	setMemoryLimit(*workers)
 	opt := pipeline.BatchOptions{Dir: dir, Out: *out, Job: job, Workers: *workers, Force: *force, Override: jf.apply, History: *hist}
 	if *shard != "" {
 		if opt.Shard, err = pipeline.ParseShard(*shard); err != nil {
@@ -400,6 +401,7 @@ func cmdDemo(ctx context.Context, args []string, stdout, stderr io.Writer) (int,
 		return exitUsage, err
 	}
 	fmt.Fprintf(stdout, "running the batch into %s\n", results)
+	setMemoryLimit(*workers)
 	res, err := pipeline.RunBatch(ctx, pipeline.BatchOptions{Dir: scans, Out: results, Job: job, Workers: *workers,
 		Progress: &pipeline.LineProgress{W: stderr}})
 	if err != nil {
