@@ -195,25 +195,27 @@ func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*
 	ns, ring := rimSectors(a.rho, r0)
 	dr := max(r0/400, 20*float64(ns)/ring)
 	var nb int
-	var counts [][]int32
-	var start []int32
+	var bins []int32 // each annulus point's bin, reused as the bins widen
 	for try := 0; ; try++ {
 		nb = int(math.Ceil((rhi - rlo) / dr))
 		if nb < 8 {
 			return nil, errors.New("scan: level: too few points near the rim")
 		}
-		// Each part counts into ns·nb bins of its own: binParts keeps
-		// those within the points' own size on any number of processors.
-		counts = a.binCounts(binParts(len(a.r), ns*nb), nb, rlo, dr)
-		start = binStarts(counts)
-		if binsFullEnough(start, ns, nb, int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)) || try == 5 {
+		bins = a.bins(nb, rlo, dr, bins)
+		if binsFullEnough(binTotals(bins, ns*nb), ns, nb, int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)) || try == 5 {
 			break
 		}
 		dr *= 1.5
 	}
-	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, start: start, ws: sc.floats.get(len(a.r), 0)}
-	a.fill(rb, counts)
-	rb.mean = a.binMeans(rb)
+	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, ws: sc.floats.get(len(a.r), 0)}
+	var order []int32
+	order, rb.start = sortByCell(bins, ns*nb)
+	parallelRows(len(order), func(k0, k1 int) {
+		for k := k0; k < k1; k++ {
+			rb.ws[k] = a.w[order[k]]
+		}
+	})
+	rb.mean = a.binMeans(bins, rb)
 	return rb, nil
 }
 
@@ -223,29 +225,29 @@ func (a *annulus) bin(i, nb int, rlo, dr float64) int {
 	return int(a.sec[i])*nb + min(nb-1, int((a.r[i]-rlo)/dr))
 }
 
-// binCounts counts the annulus points per (sector, radial bin) in each of
-// parts parts of the points, at once.
-func (a *annulus) binCounts(parts, nb int, rlo, dr float64) [][]int32 {
-	counts := make([][]int32, parts)
-	parallel.Do(len(a.r), parts, func(k, i0, i1 int) {
-		c := make([]int32, a.ns*nb)
+// bins returns the (sector, radial bin) of every annulus point for nb
+// radial bins of width dr (m) from rlo (m), in buf's storage when large
+// enough; ranges of points at once.
+func (a *annulus) bins(nb int, rlo, dr float64, buf []int32) []int32 {
+	if cap(buf) < len(a.r) {
+		buf = make([]int32, len(a.r))
+	}
+	buf = buf[:len(a.r)]
+	parallelRows(len(a.r), func(i0, i1 int) {
 		for i := i0; i < i1; i++ {
-			c[a.bin(i, nb, rlo, dr)]++
+			buf[i] = int32(a.bin(i, nb, rlo, dr))
 		}
-		counts[k] = c
 	})
-	return counts
+	return buf
 }
 
-// binStarts returns where each bin starts in the sorted order: the prefix
-// sums of the parts' summed counts, with the total last.
-func binStarts(counts [][]int32) []int32 {
-	nsb := len(counts[0])
+// binTotals returns where each of nsb bins would start in the points
+// sorted by bin (prefix sums of the points per bin, the total last), for
+// the points' bins.
+func binTotals(bins []int32, nsb int) []int32 {
 	start := make([]int32, nsb+1)
-	for _, c := range counts {
-		for k, x := range c {
-			start[k+1] += x
-		}
+	for _, b := range bins {
+		start[b+1]++
 	}
 	for k := range nsb {
 		start[k+1] += start[k]
@@ -269,12 +271,13 @@ func binsFullEnough(start []int32, ns, nb, k0, k1 int) bool {
 }
 
 // binMeans returns the mean radius (m) of the annulus points in each of
-// rb's bins, summed in point order (0 for an empty bin). The sums are one
-// sequential pass, so that each bin's sum is that of its points in order.
-func (a *annulus) binMeans(rb *rimBins) []float64 {
+// rb's bins (bins[i] the bin of point i), summed in point order (0 for an
+// empty bin). The sums are one sequential pass, so that each bin's sum is
+// that of its points in order.
+func (a *annulus) binMeans(bins []int32, rb *rimBins) []float64 {
 	mean := make([]float64, rb.ns*rb.nb)
 	for i, r := range a.r {
-		mean[a.bin(i, rb.nb, rb.rlo, rb.dr)] += r
+		mean[bins[i]] += r
 	}
 	for k := range mean {
 		if c := rb.start[k+1] - rb.start[k]; c > 0 {
@@ -282,25 +285,4 @@ func (a *annulus) binMeans(rb *rimBins) []float64 {
 		}
 	}
 	return mean
-}
-
-// fill writes the annulus points' heights into rb's bins, in
-// point order within each bin; each part of the points writes its own
-// slots (after those of the parts before it) at once.
-func (a *annulus) fill(rb *rimBins, counts [][]int32) {
-	parts, nsb := len(counts), rb.ns*rb.nb
-	parallel.Do(len(a.r), parts, func(k, i0, i1 int) {
-		next := make([]int32, nsb)
-		copy(next, rb.start[:nsb])
-		for j := range k {
-			for b, x := range counts[j] {
-				next[b] += x
-			}
-		}
-		for i := i0; i < i1; i++ {
-			b := a.bin(i, rb.nb, rb.rlo, rb.dr)
-			rb.ws[next[b]] = a.w[i]
-			next[b]++
-		}
-	})
 }
