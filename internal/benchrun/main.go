@@ -1,6 +1,7 @@
 // Command benchrun runs one command several times and prints one row of the
-// bench script's table: the median wall time, the median user+sys CPU time
-// and the largest peak resident set size of the runs (scripts/bench.sh).
+// bench script's table: the median wall time, the median user+sys CPU time,
+// the largest peak resident set size and the median count of minor page
+// faults (first touches of fresh memory) of the runs (scripts/bench.sh).
 //
 // Usage:
 //
@@ -26,44 +27,51 @@ func main() {
 	header := flag.Bool("header", false, "print the table header and exit")
 	flag.Parse()
 	if *header {
-		fmt.Printf("%-28s %6s %12s %14s %14s %13s\n", "case", "runs", "wall_s(med)", "cpu_s(med)", "peak_rss_mib", "peak_rss_mb")
+		fmt.Printf("%-28s %6s %12s %14s %14s %13s %14s\n", "case", "runs", "wall_s(med)", "cpu_s(med)", "peak_rss_mib", "peak_rss_mb", "faults(med)")
 		return
 	}
 	if flag.NArg() == 0 || *n < 1 {
 		fmt.Fprintln(os.Stderr, "benchrun: usage: benchrun [-n RUNS] [-label NAME] -- COMMAND [ARG...]")
 		os.Exit(2)
 	}
-	var wall, cpu []float64
+	var wall, cpu, faults []float64
 	var rssMiB float64
 	for range *n {
-		w, c, r, err := run(flag.Args())
+		r, err := run(flag.Args())
 		if err != nil {
 			fmt.Fprintf(os.Stderr, "benchrun: %s: %v\n", *label, err)
 			os.Exit(1)
 		}
-		wall, cpu, rssMiB = append(wall, w), append(cpu, c), max(rssMiB, r)
+		wall, cpu, faults = append(wall, r.wallS), append(cpu, r.cpuS), append(faults, r.faults)
+		rssMiB = max(rssMiB, r.rssMiB)
 	}
-	fmt.Printf("%-28s %6d %12.3f %14.3f %14.1f %13.1f\n", *label, *n, median(wall), median(cpu), rssMiB, rssMiB*(1<<20)/1e6)
+	fmt.Printf("%-28s %6d %12.3f %14.3f %14.1f %13.1f %14.0f\n", *label, *n, median(wall), median(cpu), rssMiB, rssMiB*(1<<20)/1e6, median(faults))
 }
 
-// run runs the command once and returns its wall time and user+sys CPU
-// time, s, and its peak resident set size, MiB (0 where the system does
-// not tell).
-func run(args []string) (wallS, cpuS, rssMiB float64, err error) {
+// measure is one run's figures: wall and user+sys CPU time, s; peak
+// resident set size, MiB; minor page faults (0 where the system does not
+// tell).
+type measure struct {
+	wallS, cpuS, rssMiB, faults float64
+}
+
+// run runs the command once and measures it.
+func run(args []string) (measure, error) {
 	cmd := exec.Command(args[0], args[1:]...)
 	cmd.Stdout, cmd.Stderr = os.Stdout, os.Stderr
 	t0 := time.Now()
-	err = cmd.Run()
-	wallS = time.Since(t0).Seconds()
+	err := cmd.Run()
+	wallS := time.Since(t0).Seconds()
 	var ee *exec.ExitError
 	if errors.As(err, &ee) && ee.ExitCode() == 1 {
 		err = nil
 	}
 	if err != nil {
-		return 0, 0, 0, err
+		return measure{}, err
 	}
 	st := cmd.ProcessState
-	return wallS, (st.UserTime() + st.SystemTime()).Seconds(), peakRSSMiB(st), nil
+	rss, faults := usage(st)
+	return measure{wallS: wallS, cpuS: (st.UserTime() + st.SystemTime()).Seconds(), rssMiB: rss, faults: faults}, nil
 }
 
 func median(v []float64) float64 {
