@@ -312,10 +312,16 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 	}
 	lv, c := mg.levels[k], mg.levels[k+1]
 	clear(x)
-	lv.sweeps(x, b, 0, mgSweeps, true, nil)
-	lv.residualRestrict(c, c.b, lv.r, x, b)
+	// The residual of each row is made and restricted as soon as the
+	// pre-smoothing has left it and its neighbours final, while they are
+	// in the cache (residualRestrict's values, in its order).
+	clear(c.b)
+	lv.sweeps(x, b, 0, mgSweeps, true, nil, func(j int) {
+		lv.applyRowAll(lv.r, x, b, j)
+		lv.restrictRow(c, c.b, lv.r, j)
+	})
 	mg.vcycle(k+1, c.x, c.b)
 	// The coarse correction is added to each row just before the
 	// post-smoothing first reads it, while the row is in the cache.
-	lv.sweeps(x, b, 1, mgSweeps, false, func(j int) { lv.prolongRow(c, x, c.x, j) })
+	lv.sweeps(x, b, 1, mgSweeps, false, func(j int) { lv.prolongRow(c, x, c.x, j) }, nil)
 }

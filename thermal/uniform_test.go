@@ -84,8 +84,8 @@ func TestUniformKernels(t *testing.T) {
 			ax, res, sw := make([]float64, size), make([]float64, size), append([]float64(nil), x...)
 			lv.apply(ax, x)
 			lv.residual(res, x, b)
-			lv.sweeps(sw, b, 0, 2, false, nil)
-			lv.sweeps(sw, b, 1, 2, false, nil)
+			lv.sweeps(sw, b, 0, 2, false, nil, nil)
+			lv.sweeps(sw, b, 1, 2, false, nil, nil)
 			return [][]float64{append([]float64(nil), lv.diag[0]...), append([]float64(nil), lv.inv...), ax, res, sw}
 		}
 		with := run()
@@ -106,8 +106,8 @@ func TestUniformKernels(t *testing.T) {
 		b[c] = math.Copysign(0, -1)
 		for m := 1; m <= 2; m++ {
 			fast, slow := make([]float64, size), make([]float64, size)
-			lv.sweeps(fast, b, 0, m, true, nil)
-			lv.sweeps(slow, b, 0, m, false, nil)
+			lv.sweeps(fast, b, 0, m, true, nil, nil)
+			lv.sweeps(slow, b, 0, m, false, nil, nil)
 			if i := firstBitDiff(fast, slow); i >= 0 {
 				t.Fatalf("%+v, %d sweeps from zero: x[%d] = %.17g skipping the zero neighbours, %.17g reading them", tc, m, i, fast[i], slow[i])
 			}
@@ -124,4 +124,49 @@ func firstBitDiff(a, b []float64) int {
 		}
 	}
 	return -1
+}
+
+// TestSweepsDone: the pre-smoothing with the residual of each row made
+// and restricted by done (as the V-cycle does) leaves the same smoothed
+// x, residual and coarse right-hand side, to the bit, as the sweeps
+// followed by residualRestrict, on grids down to one row and with one or
+// two sweeps; done sees every row once, in order.
+func TestSweepsDone(t *testing.T) {
+	for _, tc := range []struct {
+		nx, ny, nl, m int
+	}{{41, 40, 2, 2}, {33, 30, 2, 1}, {40, 37, 1, 2}, {9, 3, 2, 2}, {8, 2, 2, 2}, {7, 1, 1, 2}} {
+		lv := uniformLevel(tc.nx, tc.ny, tc.nl, [2]float64{0.888, 0.0064}, 9)
+		c := lv.coarsen(nil)
+		c.setSpans()
+		size := lv.nl * lv.n
+		rng := rand.New(rand.NewPCG(11, 12))
+		b := make([]float64, size)
+		for l := 0; l < lv.nl; l++ {
+			for p, a := range lv.act[l] {
+				if a {
+					b[l*lv.n+p] = rng.NormFloat64()
+				}
+			}
+		}
+		xA, rA, dA := make([]float64, size), make([]float64, size), make([]float64, c.nl*c.n)
+		lv.sweeps(xA, b, 0, tc.m, true, nil, nil)
+		lv.residualRestrict(c, dA, rA, xA, b)
+		xB, rB, dB := make([]float64, size), make([]float64, size), make([]float64, c.nl*c.n)
+		var rows []int
+		lv.sweeps(xB, b, 0, tc.m, true, nil, func(j int) {
+			rows = append(rows, j)
+			lv.applyRowAll(rB, xB, b, j)
+			lv.restrictRow(c, dB, rB, j)
+		})
+		for j, r := range rows {
+			if r != j || len(rows) != lv.ny {
+				t.Fatalf("%+v: done saw rows %v, want 0 … %d once each in order", tc, rows, lv.ny-1)
+			}
+		}
+		for v, pair := range [][2][]float64{{xA, xB}, {rA, rB}, {dA, dB}} {
+			if i := firstBitDiff(pair[0], pair[1]); i >= 0 {
+				t.Fatalf("%+v: %s[%d] = %.17g after the sweeps, %.17g made row by row", tc, []string{"x", "residual", "coarse b"}[v], i, pair[0][i], pair[1][i])
+			}
+		}
+	}
 }
