@@ -270,6 +270,30 @@ func (lv *level) applyRows(dst, x, b []float64, then func(j int)) {
 	}
 }
 
+// updateApply sets p = z + beta·p on every node, then q = A p as apply
+// does, each row of p updated just before the operator first reads it
+// (with the row before it), so that p streams through the cache once for
+// both; every node gets the same operations as in two passes.
+func (lv *level) updateApply(q, p, z []float64, beta float64) {
+	nx, n := lv.nx, lv.n
+	update := func(j int) {
+		for l := 0; l < lv.nl; l++ {
+			o := l*n + j*nx
+			pr, zr := p[o:o+nx], z[o:o+nx]
+			for i, v := range zr {
+				pr[i] = v + beta*pr[i]
+			}
+		}
+	}
+	update(0)
+	for j := 0; j < lv.ny; j++ {
+		if j+1 < lv.ny {
+			update(j + 1)
+		}
+		lv.applyRowAll(q, p, nil, j)
+	}
+}
+
 // applyRowAll is applyRows on row j alone: it reads the rows j−1, j and
 // j+1 of x and writes row j of dst.
 func (lv *level) applyRowAll(dst, x, b []float64, j int) {

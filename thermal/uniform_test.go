@@ -170,3 +170,34 @@ func TestSweepsDone(t *testing.T) {
 		}
 	}
 }
+
+// TestUpdateApply: updateApply gives the same p = z + β·p and q = A p, to
+// the bit, as the update over every node followed by apply, on grids down
+// to one row, with p and z nonzero on inactive nodes too (the update
+// covers every node).
+func TestUpdateApply(t *testing.T) {
+	for _, tc := range []struct {
+		nx, ny, nl int
+		beta       float64
+	}{{41, 40, 2, 0.37}, {40, 37, 1, 1.9}, {9, 3, 2, 0.01}, {8, 2, 2, 0.5}, {7, 1, 1, 0.25}} {
+		lv := uniformLevel(tc.nx, tc.ny, tc.nl, [2]float64{0.888, 0.0064}, 13)
+		size := lv.nl * lv.n
+		rng := rand.New(rand.NewPCG(14, 15))
+		p, z := make([]float64, size), make([]float64, size)
+		for i := range p {
+			p[i], z[i] = rng.NormFloat64(), rng.NormFloat64()
+		}
+		pA, qA := append([]float64(nil), p...), make([]float64, size)
+		for i := range pA {
+			pA[i] = z[i] + tc.beta*pA[i]
+		}
+		lv.apply(qA, pA)
+		pB, qB := append([]float64(nil), p...), make([]float64, size)
+		lv.updateApply(qB, pB, z, tc.beta)
+		for v, pair := range [][2][]float64{{pA, pB}, {qA, qB}} {
+			if i := firstBitDiff(pair[0], pair[1]); i >= 0 {
+				t.Fatalf("%+v: %s[%d] = %.17g in two passes, %.17g in one", tc, []string{"p", "A p"}[v], i, pair[0][i], pair[1][i])
+			}
+		}
+	}
+}
