@@ -74,9 +74,7 @@ func (lv *level) updateFrom(f *level) {
 	}
 	sum := func(dst, src []float64, lo, hi int) {
 		if f.fx == 2 {
-			for i := lo; i < hi; i++ {
-				dst[i>>1] += src[i]
-			}
+			sumPairs(dst, src, lo, hi)
 			return
 		}
 		for i := lo; i < hi; i++ {
@@ -94,6 +92,27 @@ func (lv *level) updateFrom(f *level) {
 		}
 	}
 	lv.setDiag()
+}
+
+// sumPairs adds src[i] to dst[i/2] for i in [lo, hi), in increasing i, as
+// the loop dst[i>>1] += src[i] does, but holding each coarse sum in a
+// register across its two fine values (the same additions in the same
+// order).
+func sumPairs(dst, src []float64, lo, hi int) {
+	i := lo
+	if i < hi && i&1 == 1 {
+		dst[i>>1] += src[i]
+		i++
+	}
+	m := max(hi-i, 0) / 2 // whole pairs from i
+	d, sp := dst[i>>1:][:m], src[i:][:2*m]
+	for k := range d {
+		v := d[k] + sp[2*k]
+		d[k] = v + sp[2*k+1]
+	}
+	if i += 2 * m; i < hi {
+		dst[i>>1] += src[i]
+	}
 }
 
 // restrict sets the coarse vector dst (level c) to the sums of the fine

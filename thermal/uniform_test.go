@@ -201,3 +201,30 @@ func TestUpdateApply(t *testing.T) {
 		}
 	}
 }
+
+// TestSumPairs: sumPairs adds the same values in the same order as the
+// plain loop dst[i>>1] += src[i], to the bit, for ranges starting and
+// ending on either parity and empty ones (a pair summed first fails).
+func TestSumPairs(t *testing.T) {
+	rng := rand.New(rand.NewPCG(16, 17))
+	src := make([]float64, 23)
+	base := make([]float64, 12)
+	// Sums of 1 and values near half its ulp (2⁻⁵³ ≈ 1.1e-16) round
+	// differently in any other grouping ((1 + a) + b is not 1 + (a + b)).
+	for i := range src {
+		src[i] = 1.1e-16 * (1 + rng.Float64())
+	}
+	for i := range base {
+		base[i] = 1
+	}
+	for _, r := range [][2]int{{0, 23}, {1, 23}, {0, 22}, {3, 20}, {5, 6}, {4, 5}, {7, 7}, {8, 7}} {
+		want, got := append([]float64(nil), base...), append([]float64(nil), base...)
+		for i := r[0]; i < r[1]; i++ {
+			want[i>>1] += src[i]
+		}
+		sumPairs(got, src, r[0], r[1])
+		if i := firstBitDiff(want, got); i >= 0 {
+			t.Fatalf("range %v: dst[%d] = %.17g, want %.17g", r, i, got[i], want[i])
+		}
+	}
+}
