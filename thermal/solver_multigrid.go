@@ -321,7 +321,35 @@ func (mg *multigrid) update() error {
 	return mg.direct.factorize(mg.levels[len(mg.levels)-1])
 }
 
-// precondition sets z = B r, one V-cycle from a zero initial guess.
+// clearEdges zeroes what the pre-smoothing from a zero guess reads of x
+// (sweeps with zero set): the grid's two outermost rows and columns, whose
+// edge cells are relaxed with their neighbours read, or all of x on a grid
+// narrower than four cells. It relies on what a V-cycle leaves in x: its
+// interior cells of the first colour are written before any read, those of
+// the second colour read only first-colour neighbours written before them,
+// and nodes outside the active spans or inactive in them are zero (never
+// written, or reset by the post-smoothing); so the V-cycle gives the bits
+// it gives from an x cleared whole.
+func (lv *level) clearEdges(x []float64) {
+	nx, ny, n := lv.nx, lv.ny, lv.n
+	if nx < 4 || ny < 4 {
+		clear(x)
+		return
+	}
+	for l := 0; l < lv.nl; l++ {
+		xl := x[l*n : (l+1)*n]
+		clear(xl[:2*nx])
+		clear(xl[(ny-2)*nx:])
+		for j := 2; j < ny-2; j++ {
+			row := xl[j*nx : (j+1)*nx]
+			row[0], row[1], row[nx-2], row[nx-1] = 0, 0, 0, 0
+		}
+	}
+}
+
+// precondition sets z = B r, one V-cycle from a zero initial guess (z
+// holding what the last V-cycle on these levels left, or zero; see
+// clearEdges).
 func (mg *multigrid) precondition(z, r []float64) { mg.vcycle(0, z, r) }
 
 func (mg *multigrid) vcycle(k int, x, b []float64) {
@@ -330,7 +358,7 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 		return
 	}
 	lv, c := mg.levels[k], mg.levels[k+1]
-	clear(x)
+	lv.clearEdges(x)
 	// The residual of each row is made and restricted as soon as the
 	// pre-smoothing has left it and its neighbours final, while they are
 	// in the cache (residualRestrict's values, in its order).
