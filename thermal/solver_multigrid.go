@@ -39,8 +39,10 @@ func (lv *level) coarsen(old *level) *level {
 	cy := (lv.ny + lv.fy - 1) / lv.fy
 	c := reuseLevel(old, cx, cy, lv.nl, true)
 	nx := lv.nx
-	// The factors are 1 or 2: i/fx is i >> sx.
+	// The factors are 1 or 2: i/fx is i >> sx, and k/fx is k·(1/fx), the
+	// same correctly rounded value (1/fx is exact), without a division.
 	sx, sy := uint(lv.fx-1), uint(lv.fy-1)
+	ix, iy := 1/float64(lv.fx), 1/float64(lv.fy)
 	for l := 0; l < lv.nl; l++ {
 		for j := 0; j < lv.ny; j++ {
 			J := j >> sy
@@ -51,10 +53,10 @@ func (lv *level) coarsen(old *level) *level {
 					c.act[l][P] = true
 				}
 				if i+1 < nx && (i+1)>>sx != I {
-					c.kx[l][P] += lv.kx[l][p] / float64(lv.fx)
+					c.kx[l][P] += lv.kx[l][p] * ix
 				}
 				if j+1 < lv.ny && (j+1)>>sy != J {
-					c.ky[l][P] += lv.ky[l][p] / float64(lv.fy)
+					c.ky[l][P] += lv.ky[l][p] * iy
 				}
 			}
 		}

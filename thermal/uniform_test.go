@@ -275,3 +275,67 @@ func TestVCycleStale(t *testing.T) {
 		}
 	}
 }
+
+// TestCoarsenSetUniform: down a hierarchy of odd and even sizes, with
+// random faces (some subnormal, some zero) as well as uniform ones, each
+// coarse face is the sum of the fine faces it replaces divided by the
+// agglomeration factor, and each level's uniform face is the largest
+// face (the builtin max), to the bit.
+func TestCoarsenSetUniform(t *testing.T) {
+	for _, tc := range []struct {
+		nx, ny, nl int
+		random     bool
+	}{{41, 40, 2, false}, {33, 30, 2, true}, {40, 37, 1, true}, {9, 1, 2, true}} {
+		lv := uniformLevel(tc.nx, tc.ny, tc.nl, [2]float64{0.888, 0.0064}, 25)
+		if tc.random {
+			rng := rand.New(rand.NewPCG(26, 27))
+			for l := 0; l < lv.nl; l++ {
+				for p := range lv.kx[l] {
+					for _, k := range []*float64{&lv.kx[l][p], &lv.ky[l][p]} {
+						switch rng.IntN(4) {
+						case 0:
+							*k = 0
+						case 1:
+							*k = 5e-324 * float64(rng.IntN(7))
+						default:
+							*k = rng.Float64() * 3
+						}
+					}
+				}
+			}
+		}
+		for f := lv; f.nl*f.n > 4; {
+			f.setUniform()
+			for l := 0; l < f.nl; l++ {
+				want := 0.0
+				for p := range f.kx[l] {
+					want = max(want, f.kx[l][p], f.ky[l][p])
+				}
+				if math.Float64bits(f.kf[l]) != math.Float64bits(want) {
+					t.Fatalf("%+v, %d×%d layer %d: uniform face %.17g, largest %.17g", tc, f.nx, f.ny, l, f.kf[l], want)
+				}
+			}
+			c := f.coarsen(nil)
+			for l := 0; l < f.nl; l++ {
+				wx, wy := make([]float64, c.n), make([]float64, c.n)
+				for p := range f.kx[l] {
+					i, j := p%f.nx, p/f.nx
+					P := (j/f.fy)*c.nx + i/f.fx
+					if i+1 < f.nx && (i+1)/f.fx != i/f.fx {
+						wx[P] += f.kx[l][p] / float64(f.fx)
+					}
+					if j+1 < f.ny && (j+1)/f.fy != j/f.fy {
+						wy[P] += f.ky[l][p] / float64(f.fy)
+					}
+				}
+				if i := firstBitDiff(wx, c.kx[l]); i >= 0 {
+					t.Fatalf("%+v, %d×%d layer %d: coarse x face %d = %.17g, want %.17g", tc, f.nx, f.ny, l, i, c.kx[l][i], wx[i])
+				}
+				if i := firstBitDiff(wy, c.ky[l]); i >= 0 {
+					t.Fatalf("%+v, %d×%d layer %d: coarse y face %d = %.17g, want %.17g", tc, f.nx, f.ny, l, i, c.ky[l][i], wy[i])
+				}
+			}
+			f = c
+		}
+	}
+}
