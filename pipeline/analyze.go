@@ -344,8 +344,9 @@ type surfaceRun struct {
 	chains           map[thermal.Interface]*solveChain
 	steadyK          float64 // steady water temperature, K
 	solScan, solFlat *thermal.Solution
-	sides            [2]sidePowers // the sensitivity table's coarse powers, scan and flat twin
-	sideErr          [2]error      // their errors
+	sides            [2]sidePowers        // the sensitivity table's coarse powers, scan and flat twin
+	sideJobs         [2][]*sensitivityJob // their moved-setting re-solves
+	sideErr          [2]error             // their errors
 }
 
 // solve solves the plate problem with iface at water temperature tWaterK
@@ -431,7 +432,9 @@ func (s *surfaceRun) interfaceFields() error {
 // temperature and records their warnings and the heat report. The scan
 // and the flat twin are independent: each has its own solver (work
 // buffers) and warm start, so their solves may run at once, each followed
-// by its side of the sensitivity table (surfaceRun.sensitivitySide).
+// by its side's coarse solve of the sensitivity table
+// (surfaceRun.sensitivitySide); then both goroutines share the
+// moved-setting re-solves of both sides (sensitivityPool).
 func (s *surfaceRun) solveBoth() error {
 	sv := s.in.solvers
 	if sv == nil {
@@ -451,9 +454,23 @@ func (s *surfaceRun) solveBoth() error {
 		}
 		return s.solve(iface, s.steadyK)
 	}
-	errScan, errFlat := both(
-		func() (err error) { solScan, err = steady(s.scanField); s.sensitivitySide(0, solScan, err); return err },
-		func() (err error) { solFlat, err = steady(s.flatField); s.sensitivitySide(1, solFlat, err); return err })
+	var pool *sensitivityPool
+	if !s.in.Trial && hasSensitivity(s.in.Job) {
+		pool = newSensitivityPool(2)
+	}
+	side := func(i int, iface thermal.Interface, sol **thermal.Solution) func() error {
+		return func() (err error) {
+			func() {
+				defer pool.done() // also when the solve panics, so that the other side does not wait for ever
+				*sol, err = steady(iface)
+				s.sensitivitySide(pool, i, *sol, err)
+			}()
+			pool.work(s.ctx, s.chains[iface].solver)
+			return err
+		}
+	}
+	errScan, errFlat := both(side(0, s.scanField, &solScan), side(1, s.flatField, &solFlat))
+	s.sensitivityErrors()
 	if errScan != nil {
 		return stageErr(s.in.Name, "plate solve", errScan)
 	}
@@ -469,15 +486,16 @@ func (s *surfaceRun) solveBoth() error {
 	return nil
 }
 
-// sensitivitySide runs side i's (0 the scan, 1 the flat twin) part of the
-// sensitivity table right after its steady solve sol, which ended with
-// err, in the same goroutine: the side whose steady solve ends first goes
-// on with its coarse re-solves while the other is still solving, instead
-// of waiting for it (the two steady solves of a 2 M-point scan ended 0.06
-// to 0.46 s apart in three runs on a busy host). The result and its error
-// wait in s.sides and s.sideErr for heatChecks.
-// Trials make no table.
-func (s *surfaceRun) sensitivitySide(i int, sol *thermal.Solution, err error) {
+// sensitivitySide solves side i's (0 the scan, 1 the flat twin) coarse
+// problem of the sensitivity table right after its steady solve sol, which
+// ended with err, in the same goroutine, and adds the side's
+// moved-setting re-solves to pool, which both sides' goroutines then share
+// (sensitivityPool): the side whose steady solve ends first goes on with
+// re-solves while the other is still solving, instead of waiting for it
+// (the two steady solves of a 2 M-point scan ended 0.06 to 0.46 s apart in
+// three runs on a busy host). The powers and errors wait in s.sides,
+// s.sideJobs and s.sideErr for heatChecks. Trials make no table.
+func (s *surfaceRun) sensitivitySide(pool *sensitivityPool, i int, sol *thermal.Solution, err error) {
 	if err != nil || s.in.Trial || !hasSensitivity(s.in.Job) {
 		return
 	}
@@ -485,7 +503,21 @@ func (s *surfaceRun) sensitivitySide(i int, sol *thermal.Solution, err error) {
 	if i == 1 {
 		iface = s.flatField
 	}
-	s.sides[i], s.sideErr[i] = sensitivitySide(s.ctx, s.in.Job, s.prob, iface, sol, s.chains[iface].solver)
+	s.sides[i], s.sideJobs[i], s.sideErr[i] = sensitivityBase(s.ctx, s.in.Job, s.prob, iface, sol, s.chains[iface].solver)
+	pool.add(s.sideJobs[i])
+}
+
+// sensitivityErrors sets each side's error, once all re-solves are done,
+// to its coarse solve's or else to its first failed re-solve's in the
+// order of the cases, as solving them one after another would report.
+func (s *surfaceRun) sensitivityErrors() {
+	for i, jobs := range s.sideJobs {
+		for _, j := range jobs {
+			if s.sideErr[i] == nil && j.err != nil {
+				s.sideErr[i] = j.err
+			}
+		}
+	}
 }
 
 // glassHeat records, in heater mode, the heat stored in the glass above

@@ -142,17 +142,39 @@ func sensitivityRows(job Job, solScan, solFlat *thermal.Solution, sides [2]sideP
 
 // sensitivitySide solves one side's coarse problem, prob with iface on
 // the 2 mm grid warm-started from sol (coarsen), as reported and with each
-// case's setting moved, on solver sv.
+// case's setting moved, on solver sv, one solve after another (the
+// analysis shares the moved-setting solves of both sides between its two
+// goroutines instead: sensitivityPool).
 func sensitivitySide(ctx context.Context, job Job, prob *thermal.Problem, iface thermal.Interface, sol *thermal.Solution, sv *thermal.Solver) (sidePowers, error) {
+	sp, jobs, err := sensitivityBase(ctx, job, prob, iface, sol, sv)
+	if err != nil {
+		return sidePowers{}, err
+	}
+	for _, j := range jobs {
+		if j.run(ctx, sv); j.err != nil {
+			return sidePowers{}, j.err
+		}
+	}
+	return sp, nil
+}
+
+// sensitivityBase solves one side's coarse problem, prob with iface on the
+// 2 mm grid warm-started from sol (coarsen), as reported, on solver sv. It
+// returns the side's powers with the reported coarse power and, for each
+// case whose moved setting cannot change the solve, that power, and the
+// re-solves of the other cases, each warm-started from the reported
+// coarse solution, which fill in the rest when run.
+func sensitivityBase(ctx context.Context, job Job, prob *thermal.Problem, iface thermal.Interface, sol *thermal.Solution, sv *thermal.Solver) (sidePowers, []*sensitivityJob, error) {
 	cases := sensitivityCases(job)
 	p := coarsen(prob, coarseFactor(prob.Grid), iface, sol)
 	p.TWaterK = job.Water.SteadyC + kelvin
 	p.RelTol, p.OuterTolK = sensitivityRelTol, sensitivityOuterTol
 	b, err := sv.SolveContext(ctx, p)
 	if err != nil {
-		return sidePowers{}, fmt.Errorf("sensitivity: coarse solve: %w", err)
+		return sidePowers{}, nil, fmt.Errorf("sensitivity: coarse solve: %w", err)
 	}
 	pw := make([]float64, len(cases))
+	var jobs []*sensitivityJob
 	for i, c := range cases {
 		if c.limiterK != 0 && b.DutyPct == 100 && b.RodK > 0 && b.RodK < p.Heater.LimiterK-math.Abs(c.limiterK) {
 			pw[i] = b.PowerW
@@ -161,13 +183,31 @@ func sensitivitySide(ctx context.Context, job Job, prob *thermal.Problem, iface 
 		q := *p
 		q.InitialTPanK, q.InitialTGlassK, q.InitialDutyPct = b.TPanK, b.TGlassK, b.DutyPct
 		c.edit(&q)
-		s, err := sv.SolveContext(ctx, &q)
-		if err != nil {
-			return sidePowers{}, fmt.Errorf("sensitivity to %s %s: %w", c.setting, c.change, err)
-		}
-		pw[i] = s.PowerW
+		jobs = append(jobs, &sensitivityJob{setting: c.setting, change: c.change, prob: &q, powerW: &pw[i]})
 	}
-	return sidePowers{baseW: b.PowerW, casesW: pw}, nil
+	return sidePowers{baseW: b.PowerW, casesW: pw}, jobs, nil
+}
+
+// sensitivityJob is one moved-setting re-solve of the sensitivity table:
+// run solves prob and puts its power, W, into *powerW, or its error into
+// err.
+type sensitivityJob struct {
+	setting, change string
+	prob            *thermal.Problem
+	powerW          *float64
+	err             error
+}
+
+// run solves the job's problem on solver sv. The result does not depend
+// on sv or on what it solved before (thermal.Solver), so that either side's
+// goroutine may run it.
+func (j *sensitivityJob) run(ctx context.Context, sv *thermal.Solver) {
+	s, err := sv.SolveContext(ctx, j.prob)
+	if err != nil {
+		j.err = fmt.Errorf("sensitivity to %s %s: %w", j.setting, j.change, err)
+		return
+	}
+	*j.powerW = s.PowerW
 }
 
 // coarsen returns the plate problem p on the grid that keeps every f-th

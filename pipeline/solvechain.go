@@ -61,9 +61,33 @@ func (c *solveChain) startCoarse(ctx context.Context, prob *thermal.Problem, ifa
 	}
 	c.last = &thermal.Solution{TPanK: prolong(sol.TPanK, q.Grid, prob.Grid, f, prob.InBase), DutyPct: sol.DutyPct}
 	if sol.TGlassK != nil {
-		c.last.TGlassK = prolong(sol.TGlassK, q.Grid, prob.Grid, f, nil)
+		c.last.TGlassK = prolong(sol.TGlassK, q.Grid, prob.Grid, f, glassNeed(prob))
 	}
 	return nil
+}
+
+// glassNeed returns the cells of prob's grid whose glass node the solver
+// may read a start from: those whose centre lies within the glass radius
+// of the zone centre, widened by two cells so that a centre on the rim,
+// however rounded, is in (nil without a heater). Beyond it, up to a fifth
+// of a square heater grid, the glass start is left NaN, which saves
+// prolong the nearest-value search of every such cell (the values inside
+// are the same: prolong spreads each cell on its own).
+func glassNeed(prob *thermal.Problem) []bool {
+	h, g := prob.Heater, prob.Grid
+	if h == nil {
+		return nil
+	}
+	need := make([]bool, g.Len())
+	r := h.GlassRadiusM + 2*g.CellM
+	for j := 0; j < g.Ny; j++ {
+		dy := g.Y0M + float64(j)*g.CellM - h.ZoneCentreM[1]
+		for i := 0; i < g.Nx; i++ {
+			dx := g.X0M + float64(i)*g.CellM - h.ZoneCentreM[0]
+			need[j*g.Nx+i] = dx*dx+dy*dy <= r*r
+		}
+	}
+	return need
 }
 
 // prolong spreads v, a field on the coarse grid cg that coarsen made from

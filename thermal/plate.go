@@ -847,7 +847,7 @@ func (s *plate) warmStart() error {
 			}
 			for k, g := range s.glass {
 				if g && !s.pan[k] {
-					s.tsGlass[k], _, _ = s.uncover.link(s.t[n+k], s.halfRg, s.tsGlass[k])
+					s.tsGlass[k], _, _ = s.uncover.surface(s.t[n+k], s.halfRg, s.tsGlass[k])
 				}
 			}
 		}
@@ -912,12 +912,10 @@ func (s *plate) run() error {
 				return err
 			}
 		}
-		for i, v := range next {
-			if !finite(v) {
-				return fmt.Errorf("thermal: temperature at node %d became %g in outer iteration %d", i, v, s.outer)
-			}
+		if err := s.direction(next); err != nil {
+			return err
 		}
-		alpha, err := s.lineSearch(next)
+		alpha, err := s.lineSearch()
 		if err != nil {
 			return err
 		}
@@ -960,6 +958,21 @@ func (s *plate) correctDuty(next []float64, dutyStep float64) (float64, error) {
 	return dutyStep, nil
 }
 
+// direction checks that every node of the linear solution next is finite
+// and turns next into the search direction d = next − T in place (s.dir
+// shares next's storage), in one pass; on a non-finite node it returns an
+// error naming the first such node, with next partly overwritten.
+func (s *plate) direction(next []float64) error {
+	t := s.t[:len(next)]
+	for i, v := range next {
+		if !finite(v) {
+			return fmt.Errorf("thermal: temperature at node %d became %g in outer iteration %d", i, v, s.outer)
+		}
+		next[i] = v - t[i]
+	}
+	return nil
+}
+
 // takeStep scales the search direction s.dir by alpha, adds it to the
 // state s.t and returns the largest |ΔT| of the step, K.
 func (s *plate) takeStep(alpha float64) float64 {
@@ -986,9 +999,9 @@ func (s *plate) glassMax(t []float64) float64 {
 	return m
 }
 
-// lineSearch returns the step α ∈ (0, 1] to take along d = next − T (left in
-// s.dir). With the interface frozen, the linearised system is a Newton-like
-// step for the gradient F(T) = L T − b + A·q(T) of a convex functional (L
+// lineSearch returns the step α ∈ (0, 1] to take along d = next − T (set in
+// s.dir by direction). With the interface frozen, the linearised system is
+// a Newton-like step for the gradient F(T) = L T − b + A·q(T) of a convex functional (L
 // symmetric positive definite, the link fluxes q non-decreasing), so φ'(α) =
 // d·F(T + α d) is non-decreasing. The full step is taken unless φ'(1) >
 // 0.1·|φ'(0)| (the step overshoots, as when a base cell jumps across the
@@ -999,11 +1012,8 @@ func (s *plate) glassMax(t []float64) float64 {
 // links. The full step is accepted without computing d·(L+G)d when c(1) is
 // below 0.1 times its lower bound from the sinks and layer couplings alone
 // (the lateral faces only add to it).
-func (s *plate) lineSearch(next []float64) (float64, error) {
+func (s *plate) lineSearch() (float64, error) {
 	d := s.dir
-	for i := range d {
-		d[i] = next[i] - s.t[i]
-	}
 	const eta = 0.1
 	f1, err := s.linkCurvature(1)
 	if err != nil || f1 <= 0 || f1 <= eta*s.lv.localEnergy(d) {
@@ -1074,7 +1084,7 @@ func (s *plate) linkCurvature(alpha float64) (float64, error) {
 			continue
 		}
 		i := n + k
-		ts, q, _ := s.uncover.link(t[i]+alpha*d[i], s.halfRg, s.tsGlass[k])
+		ts, q, _ := s.uncover.surface(t[i]+alpha*d[i], s.halfRg, s.tsGlass[k])
 		s.tsGlass[k] = ts
 		c += d[i] * (a*q - s.qLink[i] - alpha*s.gLink[i]*d[i])
 	}
@@ -1458,50 +1468,67 @@ func (l *glassLaw) evalWith(ts, es, r4 float64) (q, dq float64) {
 }
 
 // link is linkFlux for the glass law (the same iteration, with the law
-// evaluated in line).
+// evaluated in line): surface, then linkConductance.
 func (l *glassLaw) link(tNode, halfR, tsGuess float64) (ts, q, g float64) {
+	ts, q, gs := l.surface(tNode, halfR, tsGuess)
+	return ts, q, l.linkConductance(tNode, halfR, q, gs)
+}
+
+// surface returns the surface temperature ts, K, of the link from a glass
+// node at tNode through halfR, the flux q, W/m², and the law's derivative
+// dq/dts there, W/(m²·K), found from tsGuess as link does; the callers that
+// need no link conductance (the line search, the warm start and the
+// outputs) save its three divisions.
+func (l *glassLaw) surface(tNode, halfR, tsGuess float64) (ts, q, gs float64) {
 	tRes := l.roomK
-	var gs float64
 	if halfR == 0 || tNode == tRes {
 		ts = tNode
 		q, gs = l.eval(ts)
-	} else {
-		lo, hi := min(tNode, tRes), max(tNode, tRes)
-		ts = tsGuess
-		if !(ts >= lo && ts <= hi) {
-			ts = tNode - (tNode-tRes)*1e-3
-		}
-		// The loop's constants, once: ε·σ, T_room⁴ and 1/halfR.
-		r2 := tRes * tRes
-		es, r4, invR := l.eps*fluid.StefanBoltzmann, r2*r2, 1/halfR
-		for range 100 {
-			q, gs = l.evalWith(ts, es, r4)
-			f := (tNode-ts)/halfR - q
-			if f > 0 {
-				lo = ts
-			} else {
-				hi = ts
-			}
-			step := f / (invR + max(gs, 0))
-			if math.Abs(step) <= 1e-8*(1+math.Abs(ts)) {
-				ts += step
-				q += gs * step
-				break
-			}
-			next := ts + step
-			if !(next >= lo && next <= hi) {
-				next = 0.5 * (lo + hi)
-			}
-			ts = next
-		}
+		return ts, q, gs
 	}
+	lo, hi := min(tNode, tRes), max(tNode, tRes)
+	ts = tsGuess
+	if !(ts >= lo && ts <= hi) {
+		ts = tNode - (tNode-tRes)*1e-3
+	}
+	// The loop's constants, once: ε·σ, T_room⁴ and 1/halfR.
+	r2 := tRes * tRes
+	es, r4, invR := l.eps*fluid.StefanBoltzmann, r2*r2, 1/halfR
+	for range 100 {
+		q, gs = l.evalWith(ts, es, r4)
+		f := (tNode-ts)/halfR - q
+		if f > 0 {
+			lo = ts
+		} else {
+			hi = ts
+		}
+		step := f / (invR + max(gs, 0))
+		if math.Abs(step) <= 1e-8*(1+math.Abs(ts)) {
+			ts += step
+			q += gs * step
+			break
+		}
+		next := ts + step
+		if !(next >= lo && next <= hi) {
+			next = 0.5 * (lo + hi)
+		}
+		ts = next
+	}
+	return ts, q, gs
+}
+
+// linkConductance returns link's linearisation conductance, W/(m²·K), of
+// the link from a node at tNode through halfR with the flux q and the
+// law's derivative gs at its surface: series(gs, halfR), floored at the
+// secant q/(tNode − T_room) and minLinkHWM2K.
+func (l *glassLaw) linkConductance(tNode, halfR, q, gs float64) (g float64) {
 	if gs > 0 {
 		g = 1 / (halfR + 1/gs)
 	}
-	if d := tNode - tRes; d != 0 {
+	if d := tNode - l.roomK; d != 0 {
 		g = max(g, q/d)
 	}
-	return ts, q, max(g, minLinkHWM2K)
+	return max(g, minLinkHWM2K)
 }
 
 // linkFlux solves the link from a node at tNode through the resistance halfR
@@ -1685,7 +1712,7 @@ func (s *plate) heaterOutputs(sol *Solution) error {
 		sol.GlassMaxK = math.Max(sol.GlassMaxK, tg)
 		sol.DownLossW += a * s.hdEff * (tg - h.RoomK)
 		if !s.pan[k] {
-			_, q, _ := s.uncover.link(tg, s.halfRg, s.tsGlass[k])
+			_, q, _ := s.uncover.surface(tg, s.halfRg, s.tsGlass[k])
 			sol.UncoveredLossW += q * a
 		}
 	}

@@ -1114,6 +1114,20 @@ func TestGlassLaw(t *testing.T) {
 		if d := math.Abs((tn-ts)/halfR - q); d > 1e-6*math.Abs(q)+1e-6 {
 			t.Errorf("T %g K: conduction %.12g W/m², surface %.12g", tn, (tn-ts)/halfR, q)
 		}
+		// surface (the line search's and the outputs' path) gives link's
+		// surface and flux to the bit, and the law's derivative
+		// h̄ + 4εσT_s³ (at the last iterate, within 1e-8 K of T_s), from
+		// which linkConductance gives link's g to the bit.
+		ss, sq, gs := l.surface(tn, halfR, math.NaN())
+		if math.Float64bits(ss) != math.Float64bits(ts) || math.Float64bits(sq) != math.Float64bits(q) {
+			t.Errorf("T %g K: surface gives %.17g K, %.17g W/m²; link %.17g K, %.17g W/m²", tn, ss, sq, ts, q)
+		}
+		if dq := l.hWM2K + 4*eps*fluid.StefanBoltzmann*ts*ts*ts; math.Abs(gs-dq) > 1e-6*dq {
+			t.Errorf("T %g K: surface derivative %.12g W/(m²·K), law %.12g", tn, gs, dq)
+		}
+		if lg := l.linkConductance(tn, halfR, sq, gs); math.Float64bits(lg) != math.Float64bits(g) {
+			t.Errorf("T %g K: linkConductance %.17g, link's g %.17g W/(m²·K)", tn, lg, g)
+		}
 		if tn == room {
 			continue
 		}
@@ -1129,5 +1143,40 @@ func TestGlassLaw(t *testing.T) {
 	}
 	if want, _ := AirPlateUpHWM2K(2*fluid.AirMaxK-room, room, lM); l.hWM2K != want {
 		t.Errorf("clamped h %g, want %g", l.hWM2K, want)
+	}
+}
+
+// TestDirection: direction turns the linear solution into the step
+// next − T in place, each node to the bit, and stops at the first node
+// that is not finite, naming it.
+func TestDirection(t *testing.T) {
+	for _, tc := range []struct {
+		name    string
+		next    []float64
+		wantErr string // "" for none
+	}{
+		{"finite", []float64{300.25, 301.5, 1e-300, 299.125}, ""},
+		{"NaN then Inf", []float64{300.25, math.NaN(), math.Inf(1), 299.125}, "node 1 became NaN"},
+		{"Inf", []float64{300.25, 301.5, math.Inf(-1), 299.125}, "node 2 became -Inf"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			s := &plate{t: []float64{300, 301.75, 2e-300, 0.1}, outer: 3}
+			next := append([]float64(nil), tc.next...)
+			err := s.direction(next)
+			if tc.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.wantErr) {
+					t.Fatalf("error %v, want one with %q", err, tc.wantErr)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i, d := range next {
+				if want := tc.next[i] - s.t[i]; math.Float64bits(d) != math.Float64bits(want) {
+					t.Errorf("node %d: step %.17g, want %.17g", i, d, want)
+				}
+			}
+		})
 	}
 }

@@ -264,59 +264,89 @@ func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil, nil) }
 //
 // With then not nil, it calls then(j) when row j of dst is done.
 func (lv *level) applyRows(dst, x, b []float64, then func(j int)) {
-	nx, ny, n := lv.nx, lv.ny, lv.n
-	for j := 0; j < ny; j++ {
-		a, e := 0, 0 // the columns done by applyPair
-		if lv.nl == 2 && j > 0 && j < ny-1 && nx >= 3 {
-			a = max(lv.lo[0][j], lv.lo[1][j], 1)
-			e = max(a, min(lv.hi[0][j], lv.hi[1][j], nx-1))
+	for j := 0; j < lv.ny; j++ {
+		lv.applyRowAll(dst, x, b, j)
+		if then != nil {
+			then(j)
 		}
+	}
+}
+
+// updateApply sets p = z + beta·p on every node, then q = A p as apply
+// does, each row of p updated just before the operator first reads it
+// (with the row before it), so that p streams through the cache once for
+// both; every node gets the same operations as in two passes.
+func (lv *level) updateApply(q, p, z []float64, beta float64) {
+	nx, n := lv.nx, lv.n
+	update := func(j int) {
 		for l := 0; l < lv.nl; l++ {
-			dl, xl := dst[l*n:(l+1)*n], x[l*n:(l+1)*n]
-			lo, hi := lv.lo[l][j], lv.hi[l][j]
-			if a < e {
-				lv.applyRow(dl, xl, l, j, lo, a)
-				lv.applyRow(dl, xl, l, j, e, hi)
-			} else {
-				lv.applyRow(dl, xl, l, j, lo, hi)
+			o := l*n + j*nx
+			pr, zr := p[o:o+nx], z[o:o+nx]
+			for i, v := range zr {
+				pr[i] = v + beta*pr[i]
 			}
 		}
-		if a < e {
-			lv.applyPairSplit(dst, x, b, j*nx+a, j*nx+e)
+	}
+	update(0)
+	for j := 0; j < lv.ny; j++ {
+		if j+1 < lv.ny {
+			update(j + 1)
 		}
-		if lv.nl == 2 {
-			// Couplings exist only at cells with both layers.
-			c := lv.cpl
-			x0, x1 := x[:n], x[n:2*n]
-			d0, d1 := dst[:n], dst[n:2*n]
-			lo, hi := max(lv.lo[0][j], lv.lo[1][j]), min(lv.hi[0][j], lv.hi[1][j])
-			for i := lo; i < hi; i++ {
+		lv.applyRowAll(q, p, nil, j)
+	}
+}
+
+// applyRowAll is applyRows on row j alone: it reads the rows j−1, j and
+// j+1 of x and writes row j of dst.
+func (lv *level) applyRowAll(dst, x, b []float64, j int) {
+	nx, ny, n := lv.nx, lv.ny, lv.n
+	a, e := 0, 0 // the columns done by applyPair
+	if lv.nl == 2 && j > 0 && j < ny-1 && nx >= 3 {
+		a = max(lv.lo[0][j], lv.lo[1][j], 1)
+		e = max(a, min(lv.hi[0][j], lv.hi[1][j], nx-1))
+	}
+	for l := 0; l < lv.nl; l++ {
+		dl, xl := dst[l*n:(l+1)*n], x[l*n:(l+1)*n]
+		lo, hi := lv.lo[l][j], lv.hi[l][j]
+		if a < e {
+			lv.applyRow(dl, xl, l, j, lo, a)
+			lv.applyRow(dl, xl, l, j, e, hi)
+		} else {
+			lv.applyRow(dl, xl, l, j, lo, hi)
+		}
+	}
+	if a < e {
+		lv.applyPairSplit(dst, x, b, j*nx+a, j*nx+e)
+	}
+	if lv.nl == 2 {
+		// Couplings exist only at cells with both layers.
+		c := lv.cpl
+		x0, x1 := x[:n], x[n:2*n]
+		d0, d1 := dst[:n], dst[n:2*n]
+		lo, hi := max(lv.lo[0][j], lv.lo[1][j]), min(lv.hi[0][j], lv.hi[1][j])
+		for i := lo; i < hi; i++ {
+			if i == a && a < e {
+				i = e - 1
+				continue
+			}
+			p := j*nx + i
+			if cp := c[p]; cp != 0 {
+				d0[p] -= cp * x1[p]
+				d1[p] -= cp * x0[p]
+			}
+		}
+	}
+	if b != nil {
+		for l := 0; l < lv.nl; l++ {
+			o := l*n + j*nx
+			r, bl := dst[o:o+nx], b[o:o+nx]
+			for i := 0; i < len(r); i++ {
 				if i == a && a < e {
 					i = e - 1
 					continue
 				}
-				p := j*nx + i
-				if cp := c[p]; cp != 0 {
-					d0[p] -= cp * x1[p]
-					d1[p] -= cp * x0[p]
-				}
+				r[i] = bl[i] - r[i]
 			}
-		}
-		if b != nil {
-			for l := 0; l < lv.nl; l++ {
-				o := l*n + j*nx
-				r, bl := dst[o:o+nx], b[o:o+nx]
-				for i := 0; i < len(r); i++ {
-					if i == a && a < e {
-						i = e - 1
-						continue
-					}
-					r[i] = bl[i] - r[i]
-				}
-			}
-		}
-		if then != nil {
-			then(j)
 		}
 	}
 }
@@ -469,13 +499,17 @@ func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {
 // half-sweep, whose neighbours are all still zero, skips reading them (the
 // sum b + Σ k·0 is b + 0). With prep not nil, prep(j) is called for each
 // row j before any of its values is read (the rows around it are then not
-// yet relaxed either).
-func (lv *level) sweeps(x, b []float64, first, m int, zero bool, prep func(j int)) {
+// yet relaxed either). With done not nil, done(j) is called for each row j,
+// in increasing j, as soon as the rows j−1, j and j+1 of x hold their final
+// values (the last sweep's second colour has passed row j+1), while they
+// are still in the cache; done must not write x.
+func (lv *level) sweeps(x, b []float64, first, m int, zero bool, prep, done func(j int)) {
 	second := 1 - first
 	ny := lv.ny
 	if prep != nil {
 		prep(0)
 	}
+	next := 0 // the next row for done
 	for t := 0; t < ny+2*m-1; t++ {
 		if prep != nil && t+1 < ny {
 			prep(t + 1)
@@ -489,6 +523,14 @@ func (lv *level) sweeps(x, b []float64, first, m int, zero bool, prep func(j int
 				lv.relaxRow(x, b, j-1, second, false)
 			}
 		}
+		// Rows up to t − 2m + 1 are final: the last sweep's second colour
+		// passed row t − 2(m−1) − 1.
+		for ; done != nil && next < ny && next+1 <= t-2*m+1; next++ {
+			done(next)
+		}
+	}
+	for ; done != nil && next < ny; next++ {
+		done(next)
 	}
 }
 

@@ -39,8 +39,10 @@ func (lv *level) coarsen(old *level) *level {
 	cy := (lv.ny + lv.fy - 1) / lv.fy
 	c := reuseLevel(old, cx, cy, lv.nl, true)
 	nx := lv.nx
-	// The factors are 1 or 2: i/fx is i >> sx.
+	// The factors are 1 or 2: i/fx is i >> sx, and k/fx is k·(1/fx), the
+	// same correctly rounded value (1/fx is exact), without a division.
 	sx, sy := uint(lv.fx-1), uint(lv.fy-1)
+	ix, iy := 1/float64(lv.fx), 1/float64(lv.fy)
 	for l := 0; l < lv.nl; l++ {
 		for j := 0; j < lv.ny; j++ {
 			J := j >> sy
@@ -51,10 +53,10 @@ func (lv *level) coarsen(old *level) *level {
 					c.act[l][P] = true
 				}
 				if i+1 < nx && (i+1)>>sx != I {
-					c.kx[l][P] += lv.kx[l][p] / float64(lv.fx)
+					c.kx[l][P] += lv.kx[l][p] * ix
 				}
 				if j+1 < lv.ny && (j+1)>>sy != J {
-					c.ky[l][P] += lv.ky[l][p] / float64(lv.fy)
+					c.ky[l][P] += lv.ky[l][p] * iy
 				}
 			}
 		}
@@ -74,9 +76,7 @@ func (lv *level) updateFrom(f *level) {
 	}
 	sum := func(dst, src []float64, lo, hi int) {
 		if f.fx == 2 {
-			for i := lo; i < hi; i++ {
-				dst[i>>1] += src[i]
-			}
+			sumPairs(dst, src, lo, hi)
 			return
 		}
 		for i := lo; i < hi; i++ {
@@ -94,6 +94,27 @@ func (lv *level) updateFrom(f *level) {
 		}
 	}
 	lv.setDiag()
+}
+
+// sumPairs adds src[i] to dst[i/2] for i in [lo, hi), in increasing i, as
+// the loop dst[i>>1] += src[i] does, but holding each coarse sum in a
+// register across its two fine values (the same additions in the same
+// order).
+func sumPairs(dst, src []float64, lo, hi int) {
+	i := lo
+	if i < hi && i&1 == 1 {
+		dst[i>>1] += src[i]
+		i++
+	}
+	m := max(hi-i, 0) / 2 // whole pairs from i
+	d, sp := dst[i>>1:][:m], src[i:][:2*m]
+	for k := range d {
+		v := d[k] + sp[2*k]
+		d[k] = v + sp[2*k+1]
+	}
+	if i += 2 * m; i < hi {
+		dst[i>>1] += src[i]
+	}
 }
 
 // restrict sets the coarse vector dst (level c) to the sums of the fine
@@ -302,7 +323,35 @@ func (mg *multigrid) update() error {
 	return mg.direct.factorize(mg.levels[len(mg.levels)-1])
 }
 
-// precondition sets z = B r, one V-cycle from a zero initial guess.
+// clearEdges zeroes what the pre-smoothing from a zero guess reads of x
+// (sweeps with zero set): the grid's two outermost rows and columns, whose
+// edge cells are relaxed with their neighbours read, or all of x on a grid
+// narrower than four cells. It relies on what a V-cycle leaves in x: its
+// interior cells of the first colour are written before any read, those of
+// the second colour read only first-colour neighbours written before them,
+// and nodes outside the active spans or inactive in them are zero (never
+// written, or reset by the post-smoothing); so the V-cycle gives the bits
+// it gives from an x cleared whole.
+func (lv *level) clearEdges(x []float64) {
+	nx, ny, n := lv.nx, lv.ny, lv.n
+	if nx < 4 || ny < 4 {
+		clear(x)
+		return
+	}
+	for l := 0; l < lv.nl; l++ {
+		xl := x[l*n : (l+1)*n]
+		clear(xl[:2*nx])
+		clear(xl[(ny-2)*nx:])
+		for j := 2; j < ny-2; j++ {
+			row := xl[j*nx : (j+1)*nx]
+			row[0], row[1], row[nx-2], row[nx-1] = 0, 0, 0, 0
+		}
+	}
+}
+
+// precondition sets z = B r, one V-cycle from a zero initial guess (z
+// holding what the last V-cycle on these levels left, or zero; see
+// clearEdges).
 func (mg *multigrid) precondition(z, r []float64) { mg.vcycle(0, z, r) }
 
 func (mg *multigrid) vcycle(k int, x, b []float64) {
@@ -311,11 +360,17 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 		return
 	}
 	lv, c := mg.levels[k], mg.levels[k+1]
-	clear(x)
-	lv.sweeps(x, b, 0, mgSweeps, true, nil)
-	lv.residualRestrict(c, c.b, lv.r, x, b)
+	lv.clearEdges(x)
+	// The residual of each row is made and restricted as soon as the
+	// pre-smoothing has left it and its neighbours final, while they are
+	// in the cache (residualRestrict's values, in its order).
+	clear(c.b)
+	lv.sweeps(x, b, 0, mgSweeps, true, nil, func(j int) {
+		lv.applyRowAll(lv.r, x, b, j)
+		lv.restrictRow(c, c.b, lv.r, j)
+	})
 	mg.vcycle(k+1, c.x, c.b)
 	// The coarse correction is added to each row just before the
 	// post-smoothing first reads it, while the row is in the cache.
-	lv.sweeps(x, b, 1, mgSweeps, false, func(j int) { lv.prolongRow(c, x, c.x, j) })
+	lv.sweeps(x, b, 1, mgSweeps, false, func(j int) { lv.prolongRow(c, x, c.x, j) }, nil)
 }

@@ -139,6 +139,7 @@ func (cg *pcg) solveForced(lv *level, m preconditioner, x, b []float64, tol floa
 		m.precondition(z, r)
 		copy(p, z)
 		rz := floats.Dot(r, z)
+		beta, update := 0.0, false // update: p = z + beta·p is still to be done
 		for it < cg.maxIter {
 			if cg.ctx != nil {
 				if err := cg.ctx.Err(); err != nil {
@@ -146,7 +147,11 @@ func (cg *pcg) solveForced(lv *level, m preconditioner, x, b []float64, tol floa
 				}
 			}
 			it++
-			lv.apply(q, p)
+			if update {
+				lv.updateApply(q, p, z, beta)
+			} else {
+				lv.apply(q, p)
+			}
 			pq := floats.Dot(p, q)
 			if !(pq > 0) {
 				break
@@ -163,11 +168,8 @@ func (cg *pcg) solveForced(lv *level, m preconditioner, x, b []float64, tol floa
 			}
 			m.precondition(z, r)
 			rzNew := floats.Dot(r, z)
-			beta := rzNew / rz
+			beta, update = rzNew/rz, true
 			rz = rzNew
-			for i := range p {
-				p[i] = z[i] + beta*p[i]
-			}
 		}
 	}
 }
