@@ -282,6 +282,9 @@ func TestVCycleStale(t *testing.T) {
 // agglomeration factor, and each level's uniform face is the largest
 // face (the builtin max), to the bit.
 func TestCoarsenSetUniform(t *testing.T) {
+	if fpfuse.Fuses() {
+		t.Skip("this build fuses multiply-add (internal/fpfuse): the coarse faces round differently from the reference sums")
+	}
 	for _, tc := range []struct {
 		nx, ny, nl int
 		random     bool
