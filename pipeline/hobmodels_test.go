@@ -327,10 +327,10 @@ func TestSensitivity(t *testing.T) {
 		t.Fatalf("poor interface: duty %g %%, want the limiter cycling", s.DutyPct)
 	}
 	var sides [2]sidePowers
-	if sides[0], err = sensitivitySide(t.Context(), job, p, poor, s, new(thermal.Solver)); err != nil {
+	if sides[0], err = sensitivityInOrder(t.Context(), job, p, poor, s, new(thermal.Solver)); err != nil {
 		t.Fatal(err)
 	}
-	if sides[1], err = sensitivitySide(t.Context(), job, p, flat, f, &sv); err != nil {
+	if sides[1], err = sensitivityInOrder(t.Context(), job, p, flat, f, &sv); err != nil {
 		t.Fatal(err)
 	}
 	rows := sensitivityRows(job, s, f, sides)

@@ -140,24 +140,6 @@ func sensitivityRows(job Job, solScan, solFlat *thermal.Solution, sides [2]sideP
 	return rows
 }
 
-// sensitivitySide solves one side's coarse problem, prob with iface on
-// the 2 mm grid warm-started from sol (coarsen), as reported and with each
-// case's setting moved, on solver sv, one solve after another (the
-// analysis shares the moved-setting solves of both sides between its two
-// goroutines instead: sensitivityPool).
-func sensitivitySide(ctx context.Context, job Job, prob *thermal.Problem, iface thermal.Interface, sol *thermal.Solution, sv *thermal.Solver) (sidePowers, error) {
-	sp, jobs, err := sensitivityBase(ctx, job, prob, iface, sol, sv)
-	if err != nil {
-		return sidePowers{}, err
-	}
-	for _, j := range jobs {
-		if j.run(ctx, sv); j.err != nil {
-			return sidePowers{}, j.err
-		}
-	}
-	return sp, nil
-}
-
 // sensitivityBase solves one side's coarse problem, prob with iface on the
 // 2 mm grid warm-started from sol (coarsen), as reported, on solver sv. It
 // returns the side's powers with the reported coarse power and, for each

@@ -121,3 +121,21 @@ func sensitivityOneByOne(t *testing.T, job Job, prob *thermal.Problem, iface the
 	}
 	return out
 }
+
+// sensitivityInOrder solves one side's coarse problem, prob with iface on
+// the 2 mm grid warm-started from sol (coarsen), as reported and with each
+// case's setting moved, on solver sv, one solve after another: the tests'
+// way to a side's table (the analysis shares the moved-setting solves of
+// both sides between its two goroutines instead: sensitivityPool).
+func sensitivityInOrder(ctx context.Context, job Job, prob *thermal.Problem, iface thermal.Interface, sol *thermal.Solution, sv *thermal.Solver) (sidePowers, error) {
+	sp, jobs, err := sensitivityBase(ctx, job, prob, iface, sol, sv)
+	if err != nil {
+		return sidePowers{}, err
+	}
+	for _, j := range jobs {
+		if j.run(ctx, sv); j.err != nil {
+			return sidePowers{}, j.err
+		}
+	}
+	return sp, nil
+}
