@@ -251,7 +251,7 @@ func (lv *level) diagUniform(l, p, e int) {
 
 // apply sets dst = A x on the active spans (dst is left as it is, zero,
 // outside them).
-func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil, nil) }
+func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil) }
 
 // applyRows sets dst = A x on the active spans, or, with b not nil, dst =
 // b − A x (the subtraction over every node of the row, so that the nodes
@@ -261,14 +261,9 @@ func (lv *level) apply(dst, x []float64) { lv.applyRows(dst, x, nil, nil) }
 // three in one loop over the interior columns where both layers are live.
 // Every node gets the same operations in the same order as in separate
 // passes.
-//
-// With then not nil, it calls then(j) when row j of dst is done.
-func (lv *level) applyRows(dst, x, b []float64, then func(j int)) {
+func (lv *level) applyRows(dst, x, b []float64) {
 	for j := 0; j < lv.ny; j++ {
 		lv.applyRowAll(dst, x, b, j)
-		if then != nil {
-			then(j)
-		}
 	}
 }
 
@@ -467,7 +462,7 @@ func (lv *level) localEnergy(x []float64) float64 {
 }
 
 // residual sets r = b − A x.
-func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b, nil) }
+func (lv *level) residual(r, x, b []float64) { lv.applyRows(r, x, b) }
 
 // nbSum returns b_p + Σ k x_q over the in-layer neighbours q of cell (i, j).
 func nbSum(kx, ky, x []float64, nx, ny, i, j, p int, bp float64) float64 {

@@ -117,25 +117,6 @@ func sumPairs(dst, src []float64, lo, hi int) {
 	}
 }
 
-// restrict sets the coarse vector dst (level c) to the sums of the fine
-// values of v over each coarse cell (the transpose of prolongRow; v is zero
-// outside the active spans).
-func (lv *level) restrict(c *level, dst, v []float64) {
-	clear(dst)
-	for j := 0; j < lv.ny; j++ {
-		lv.restrictRow(c, dst, v, j)
-	}
-}
-
-// residualRestrict sets r = b − A x and restricts it to the coarse vector
-// dst (level c), each row of r as soon as it is done, while it is still in
-// the cache. Every coarse sum takes its fine values in the same order as
-// restrict's.
-func (lv *level) residualRestrict(c *level, dst, r, x, b []float64) {
-	clear(dst)
-	lv.applyRows(r, x, b, func(j int) { lv.restrictRow(c, dst, r, j) })
-}
-
 // restrictRow adds the fine values of row j of v, each layer's span, to
 // the coarse vector dst (level c).
 func (lv *level) restrictRow(c *level, dst, v []float64, j int) {
@@ -363,7 +344,8 @@ func (mg *multigrid) vcycle(k int, x, b []float64) {
 	lv.clearEdges(x)
 	// The residual of each row is made and restricted as soon as the
 	// pre-smoothing has left it and its neighbours final, while they are
-	// in the cache (residualRestrict's values, in its order).
+	// in the cache (the values of a residual pass and a restriction, in their
+	// order).
 	clear(c.b)
 	lv.sweeps(x, b, 0, mgSweeps, true, nil, func(j int) {
 		lv.applyRowAll(lv.r, x, b, j)

@@ -342,3 +342,21 @@ func TestCoarsenSetUniform(t *testing.T) {
 		}
 	}
 }
+
+// residualRestrict sets r = b − A x and restricts it to the coarse vector
+// dst (level c) in two passes: the reference the V-cycle's fused rows
+// (sweeps with done) are checked against.
+func (lv *level) residualRestrict(c *level, dst, r, x, b []float64) {
+	lv.residual(r, x, b)
+	lv.restrict(c, dst, r)
+}
+
+// restrict sets the coarse vector dst (level c) to the sums of the fine
+// values of v over each coarse cell (the transpose of prolongRow; v is zero
+// outside the active spans).
+func (lv *level) restrict(c *level, dst, v []float64) {
+	clear(dst)
+	for j := 0; j < lv.ny; j++ {
+		lv.restrictRow(c, dst, v, j)
+	}
+}
