@@ -1517,15 +1517,22 @@ func (l *glassLaw) surface(tNode, halfR, tsGuess float64) (ts, q, gs float64) {
 	return ts, q, gs
 }
 
-// linkConductance returns link's linearisation conductance, W/(m²·K), of
-// the link from a node at tNode through halfR with the flux q and the
-// law's derivative gs at its surface: series(gs, halfR), floored at the
-// secant q/(tNode − T_room) and minLinkHWM2K.
-func (l *glassLaw) linkConductance(tNode, halfR, q, gs float64) (g float64) {
+// linkConductance returns link's linearisation conductance, W/(m²·K)
+// (linkGain with the room as the reservoir).
+func (l *glassLaw) linkConductance(tNode, halfR, q, gs float64) float64 {
+	return linkGain(tNode, l.roomK, halfR, q, gs)
+}
+
+// linkGain returns the linearisation conductance, W/(m²·K), of a link
+// from a node at tNode through halfR (m²·K/W) to a surface passing the
+// flux q (W/m²) with the derivative gs = dq/dts (W/(m²·K)) toward a
+// reservoir at tRes: the series of gs and halfR, floored at the secant
+// q/(tNode − tRes) and at minLinkHWM2K.
+func linkGain(tNode, tRes, halfR, q, gs float64) (g float64) {
 	if gs > 0 {
 		g = 1 / (halfR + 1/gs)
 	}
-	if d := tNode - l.roomK; d != 0 {
+	if d := tNode - tRes; d != 0 {
 		g = max(g, q/d)
 	}
 	return max(g, minLinkHWM2K)
@@ -1578,14 +1585,7 @@ func linkFlux(law surfaceLaw, tNode, tRes, halfR, tsGuess float64) (ts, q, g flo
 			ts = next
 		}
 	}
-	if gs > 0 {
-		g = 1 / (halfR + 1/gs)
-	}
-	if d := tNode - tRes; d != 0 {
-		g = max(g, q/d)
-	}
-	g = max(g, minLinkHWM2K)
-	return ts, q, g, nil
+	return ts, q, linkGain(tNode, tRes, halfR, q, gs), nil
 }
 
 // solution evaluates the outputs at the converged temperatures.
