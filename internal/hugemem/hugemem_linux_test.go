@@ -12,9 +12,9 @@ import (
 
 // TestAdviseMarksMapping checks, in /proc/self/smaps (Linux, proc(5)),
 // that the mapping holding a large buffer from Make carries the kernel's
-// "hg" flag (MADV_HUGEPAGE) and a small one's does not gain it. Whether
-// the kernel then found free huge pages for it is logged, not asserted: a
-// fragmented machine may fall back to small pages, which only costs time.
+// "hg" flag (MADV_HUGEPAGE). Whether the kernel then found free huge pages
+// for it is logged, not asserted: a fragmented machine may fall back to
+// small pages, which only costs time.
 func TestAdviseMarksMapping(t *testing.T) {
 	mode, err := os.ReadFile("/sys/kernel/mm/transparent_hugepage/enabled")
 	if err != nil {
