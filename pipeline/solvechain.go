@@ -80,12 +80,10 @@ func glassNeed(prob *thermal.Problem) []bool {
 	}
 	need := make([]bool, g.Len())
 	r := h.GlassRadiusM + 2*g.CellM
-	for j := 0; j < g.Ny; j++ {
-		dy := g.Y0M + float64(j)*g.CellM - h.ZoneCentreM[1]
-		for i := 0; i < g.Nx; i++ {
-			dx := g.X0M + float64(i)*g.CellM - h.ZoneCentreM[0]
-			need[j*g.Nx+i] = dx*dx+dy*dy <= r*r
-		}
+	for k := range need {
+		x, y := g.CentreM(k)
+		dx, dy := x-h.ZoneCentreM[0], y-h.ZoneCentreM[1]
+		need[k] = dx*dx+dy*dy <= r*r
 	}
 	return need
 }
