@@ -271,10 +271,29 @@ type CellInput struct {
 // not validate p; see Validate.
 func (p *InterfaceParams) Cell(in CellInput) (Parts, Flags) {
 	b := p.Band(in.PressurePa)
-	return p.cell(&b, in.GapM, in.Contact, in.THobK, in.TPanK)
+	c := p.cellConsts()
+	return p.cell(&b, &c, in.GapM, in.Contact, in.THobK, in.TPanK)
 }
 
-func (p *InterfaceParams) cell(b *Band, gapM float64, contact bool, tHobK, tPanK float64) (Parts, Flags) {
+// cellConsts holds the factors of a cell's gas and radiation conductances
+// that depend on the parameters only, so that a Field computes them once.
+type cellConsts struct {
+	alpha2Gamma float64 // α·2·γ of the rarefaction length (GasParameterM)
+	gammaPlus1  float64 // γ + 1
+	radDen      float64 // 1/ε₁ + 1/ε₂ − 1 (RadiationWM2K)
+}
+
+// cellConsts returns p's cell constants.
+func (p *InterfaceParams) cellConsts() cellConsts {
+	return cellConsts{
+		alpha2Gamma: AccommodationParameter(p.Accommodation1, p.Accommodation2) * 2 * p.Gamma,
+		gammaPlus1:  p.Gamma + 1,
+		radDen:      exchangeDenominator(p.Emissivity1, p.Emissivity2),
+	}
+}
+
+// cell is Cell for band b and constants c, which must be p's.
+func (p *InterfaceParams) cell(b *Band, c *cellConsts, gapM float64, contact bool, tHobK, tPanK float64) (Parts, Flags) {
 	if math.IsNaN(gapM) {
 		return Parts{}, 0
 	}
@@ -295,17 +314,17 @@ func (p *InterfaceParams) cell(b *Band, gapM float64, contact bool, tHobK, tPanK
 		flags |= FilmClamped
 		tf = min(max(tf, fluid.AirMinK), fluid.AirMaxK)
 	}
-	air, _ := fluid.AirAt(tf) // within the table
+	air := fluid.GapAirAt(tf) // within the table
 	mfp := fluid.KineticMeanFreePathM(air.ViscosityPaS, tf, p.GasPressurePa, fluid.AirMolarMassKgMol)
-	m := GasParameterM(p.Accommodation1, p.Accommodation2, p.Gamma, air.Prandtl, mfp)
+	m := rarefactionM(c.alpha2Gamma, c.gammaPlus1, air.Prandtl, mfp)
 	out.GasWM2K = GasGapWM2K(air.ConductivityWMK, y, m)
 	if !contact {
-		if ra := rayleigh(&air, tf, tHobK-tPanK, y); ra > RayleighCritical {
+		if ra := rayleigh(air.KinViscosityM2S, air.DiffusivityM2S, tf, tHobK-tPanK, y); ra > RayleighCritical {
 			out.GasWM2K *= HollandsNusselt(ra)
 			flags |= Convective
 		}
 	}
-	out.RadWM2K = RadiationWM2K(tHobK, tPanK, p.Emissivity1, p.Emissivity2)
+	out.RadWM2K = radiationWM2K(tHobK, tPanK, c.radDen)
 	return out, flags
 }
 
@@ -348,8 +367,9 @@ type Field struct {
 	Contact    []bool    // per cell: in the contact band
 	PressurePa float64   // nominal pressure of the contact band, Pa
 
-	once sync.Once
-	band Band
+	once   sync.Once
+	band   Band
+	consts cellConsts
 }
 
 // NewField validates p and the field and returns a ready Field.
@@ -379,6 +399,7 @@ func (f *Field) prepare() {
 			panic(fmt.Sprintf("contact: Field has %d gaps and %d contact flags", len(f.GapM), len(f.Contact)))
 		}
 		f.band = f.Params.Band(f.PressurePa)
+		f.consts = f.Params.cellConsts()
 	})
 }
 
@@ -392,7 +413,7 @@ func (f *Field) Band() Band {
 // tHobK and the pan at tPanK (K); see InterfaceParams.Cell.
 func (f *Field) Cell(k int, tHobK, tPanK float64) (Parts, Flags) {
 	f.prepare()
-	return f.Params.cell(&f.band, f.GapM[k], f.Contact[k], tHobK, tPanK)
+	return f.Params.cell(&f.band, &f.consts, f.GapM[k], f.Contact[k], tHobK, tPanK)
 }
 
 // H returns the solid, gas and radiation conductances of cell k,
@@ -416,7 +437,7 @@ func (f *Field) Flags(tHobK, tPanK []float64) Flags {
 		if math.IsNaN(g) || math.IsNaN(tHobK[k]) || math.IsNaN(tPanK[k]) {
 			continue
 		}
-		_, fl := f.Params.cell(&f.band, g, f.Contact[k], tHobK[k], tPanK[k])
+		_, fl := f.Params.cell(&f.band, &f.consts, g, f.Contact[k], tHobK[k], tPanK[k])
 		out |= fl
 	}
 	return out

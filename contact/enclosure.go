@@ -26,12 +26,13 @@ func LayerRayleigh(gapM, tLowerK, tUpperK float64) (float64, error) {
 	if err != nil {
 		return 0, err
 	}
-	return rayleigh(&air, tf, tLowerK-tUpperK, gapM), nil
+	return rayleigh(air.KinViscosityM2S, air.DiffusivityM2S, tf, tLowerK-tUpperK, gapM), nil
 }
 
-func rayleigh(air *fluid.Air, filmK, deltaK, gapM float64) float64 {
-	return fluid.StandardGravityMS2 / filmK * deltaK * gapM * gapM * gapM /
-		(air.KinViscosityM2S * air.DiffusivityM2S)
+// rayleigh is LayerRayleigh's Ra for air of kinematic viscosity nuM2S and
+// diffusivity alphaM2S (m²/s) at the film temperature filmK (K).
+func rayleigh(nuM2S, alphaM2S, filmK, deltaK, gapM float64) float64 {
+	return fluid.StandardGravityMS2 / filmK * deltaK * gapM * gapM * gapM / (nuM2S * alphaM2S)
 }
 
 // HollandsNusselt returns the Nusselt number of a horizontal air layer

@@ -29,7 +29,14 @@ func AccommodationParameter(a1, a2 float64) float64 { return (2-a1)/a1 + (2-a2)/
 // β = 2γ/((γ + 1)·Pr) and mean free path mfpM (m)
 // (Yovanovich 2005; PHYSICS-REFERENCES.md 4.2 [M]).
 func GasParameterM(a1, a2, gamma, prandtl, mfpM float64) float64 {
-	return AccommodationParameter(a1, a2) * 2 * gamma / ((gamma + 1) * prandtl) * mfpM
+	return rarefactionM(AccommodationParameter(a1, a2)*2*gamma, gamma+1, prandtl, mfpM)
+}
+
+// rarefactionM is GasParameterM with its parameter-only factors given:
+// alpha2Gamma = α·2·γ and gammaPlus1 = γ + 1, so that a field of cells
+// computes them once (InterfaceParams.cell).
+func rarefactionM(alpha2Gamma, gammaPlus1, prandtl, mfpM float64) float64 {
+	return alpha2Gamma / (gammaPlus1 * prandtl) * mfpM
 }
 
 // GasGapWM2K returns the conductance of a gas layer between two surfaces

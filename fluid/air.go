@@ -71,15 +71,58 @@ func AirAt(tK float64) (Air, error) {
 
 // airAt interpolates airTable at tK, which must lie within it.
 func airAt(tK float64) Air {
+	a, b, f := airRows(tK)
+	g := gapAir(a, b, f)
+	return Air{
+		DensityKgM3:     a.rho + f*(b.rho-a.rho),
+		CpJKgK:          (a.cp + f*(b.cp-a.cp)) * 1e3,
+		ViscosityPaS:    g.ViscosityPaS,
+		KinViscosityM2S: g.KinViscosityM2S,
+		ConductivityWMK: g.ConductivityWMK,
+		DiffusivityM2S:  g.DiffusivityM2S,
+		Prandtl:         g.Prandtl,
+	}
+}
+
+// airRows returns the rows of airTable about tK, which must lie within it,
+// and tK's fraction of the way from the first to the second.
+func airRows(tK float64) (a, b *airRow, f float64) {
 	i := int((tK - airT0K) * (1 / airStepK))
 	if i >= len(airTable)-1 {
 		i = len(airTable) - 2
 	}
-	a, b := &airTable[i], &airTable[i+1]
-	f := (tK - a.t) * (1 / airStepK)
-	return Air{
-		DensityKgM3:     a.rho + f*(b.rho-a.rho),
-		CpJKgK:          (a.cp + f*(b.cp-a.cp)) * 1e3,
+	a, b = &airTable[i], &airTable[i+1]
+	return a, b, (tK - a.t) * (1 / airStepK)
+}
+
+// GapAir holds the properties of dry air at 1 atm that the conduction and
+// onset of convection in a gas gap need, SI (the fields of Air of the same
+// names).
+type GapAir struct {
+	ViscosityPaS    float64 // dynamic viscosity μ, Pa·s
+	KinViscosityM2S float64 // kinematic viscosity ν, m²/s
+	ConductivityWMK float64 // thermal conductivity k, W/(m·K)
+	DiffusivityM2S  float64 // thermal diffusivity α, m²/s
+	Prandtl         float64 // Pr
+}
+
+// GapAirAt returns the GapAir properties of dry air at tK (K), equal to
+// AirAt's to the bit, for tK clamped to [AirMinK, AirMaxK]; a NaN tK gives
+// NaN properties. It is AirAt for a caller that evaluates millions of cells
+// and has already checked (or clamped) the temperature.
+func GapAirAt(tK float64) GapAir {
+	if math.IsNaN(tK) {
+		nan := math.NaN()
+		return GapAir{nan, nan, nan, nan, nan}
+	}
+	a, b, f := airRows(min(max(tK, AirMinK), AirMaxK))
+	return gapAir(a, b, f)
+}
+
+// gapAir interpolates the GapAir properties a fraction f of the way from
+// row a to row b.
+func gapAir(a, b *airRow, f float64) GapAir {
+	return GapAir{
 		ViscosityPaS:    (a.mu + f*(b.mu-a.mu)) * 1e-7,
 		KinViscosityM2S: (a.nu + f*(b.nu-a.nu)) * 1e-6,
 		ConductivityWMK: (a.k + f*(b.k-a.k)) * 1e-3,

@@ -96,6 +96,44 @@ func TestAirAtOutside(t *testing.T) {
 	}
 }
 
+// TestGapAirAt checks that GapAirAt gives AirAt's properties to the bit
+// inside the table (rows, between rows, the ends), AirAt's at the nearer
+// end outside it, and NaN for NaN.
+func TestGapAirAt(t *testing.T) {
+	tests := []struct {
+		tK, atK float64 // asked, and where AirAt must agree
+	}{
+		{250, 250}, {300, 300}, {312.5, 312.5}, {373.15, 373.15}, {549.999, 549.999},
+		{550, 550}, {987.6, 987.6}, {1000, 1000},
+		{249.99, 250}, {-5, 250}, {1000.01, 1000}, {math.Inf(1), 1000},
+	}
+	for _, tt := range tests {
+		want, err := AirAt(tt.atK)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := GapAirAt(tt.tK)
+		for _, c := range []struct {
+			name      string
+			got, want float64
+		}{
+			{"ViscosityPaS", got.ViscosityPaS, want.ViscosityPaS},
+			{"KinViscosityM2S", got.KinViscosityM2S, want.KinViscosityM2S},
+			{"ConductivityWMK", got.ConductivityWMK, want.ConductivityWMK},
+			{"DiffusivityM2S", got.DiffusivityM2S, want.DiffusivityM2S},
+			{"Prandtl", got.Prandtl, want.Prandtl},
+		} {
+			if math.Float64bits(c.got) != math.Float64bits(c.want) {
+				t.Errorf("GapAirAt(%g).%s = %.17g, want AirAt(%g)'s %.17g", tt.tK, c.name, c.got, tt.atK, c.want)
+			}
+		}
+	}
+	if g := GapAirAt(math.NaN()); !math.IsNaN(g.ViscosityPaS) || !math.IsNaN(g.ConductivityWMK) ||
+		!math.IsNaN(g.Prandtl) || !math.IsNaN(g.KinViscosityM2S) || !math.IsNaN(g.DiffusivityM2S) {
+		t.Errorf("GapAirAt(NaN) = %+v, want NaNs", g)
+	}
+}
+
 func TestWaterAtRows(t *testing.T) {
 	// Incropera Table A.6 rows as given in PHYSICS-REFERENCES.md item 6.2 [C].
 	tests := []struct {
