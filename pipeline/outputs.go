@@ -300,8 +300,8 @@ func writeGeometrySummary(b *strings.Builder, g *GeometryReport) {
 	fmt.Fprintf(b, "  base: diameter %.1f mm, minimum-zone flatness %.3f mm (least squares %.3f mm)\n",
 		g.DiameterMM, g.FlatnessMZMM, g.FlatnessLSMM)
 	fmt.Fprintf(b, "  concavity %s mm = %s %% of diameter: %s\n", signedFixed(g.ConcavityMM, 3), signedFixed(g.ConcavityPctOfDiameter, 3), word)
-	fmt.Fprintf(b, "  measured %.1f %% of the base, %d outliers removed, scanner noise %.1f µm (filter cut-off %.1f mm)\n",
-		g.CoveragePct, g.OutliersRemoved, g.NoiseUM, g.CutoffMM)
+	fmt.Fprintf(b, "  measured %.1f %% of the base, %s removed, scanner noise %.1f µm (filter cut-off %.1f mm)\n",
+		g.CoveragePct, counted(g.OutliersRemoved, "outlier", "outliers"), g.NoiseUM, g.CutoffMM)
 }
 
 // writeHeatSummary writes HumanSummary's lines on the heat into the pan.

@@ -55,3 +55,25 @@ func TestSummaryCSVOrderAndReason(t *testing.T) {
 		t.Errorf("identity of the ok row: %v", recs[1][:4])
 	}
 }
+
+// TestGeometrySummaryOutlierCount checks the geometry line's count of
+// removed outliers reads as English for 0, 1 and many (a summary a lab
+// engineer signs must not say "1 outliers").
+func TestGeometrySummaryOutlierCount(t *testing.T) {
+	tests := []struct {
+		n    int
+		want string
+	}{
+		{0, ", 0 outliers removed,"},
+		{1, ", 1 outlier removed,"},
+		{2, ", 2 outliers removed,"},
+		{1375, ", 1375 outliers removed,"},
+	}
+	for _, tt := range tests {
+		var b strings.Builder
+		writeGeometrySummary(&b, &GeometryReport{DiameterMM: 200, Shape: "dished", CoveragePct: 100, OutliersRemoved: tt.n, NoiseUM: 2.4, CutoffMM: 8})
+		if !strings.Contains(b.String(), tt.want) {
+			t.Errorf("%d outliers: summary\n%s\nwant it to contain %q", tt.n, b.String(), tt.want)
+		}
+	}
+}
