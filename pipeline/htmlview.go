@@ -31,8 +31,17 @@ func writeReportHTML(dir string, res *Result, pics map[string][]byte) error {
 	})
 }
 
-// num formats v with prec decimals (-0 shown as 0).
-func num(v float64, prec int) string { return strconv.FormatFloat(roundTo(v, prec), 'f', prec, 64) }
+// num formats v with prec decimals, rounded as fmt's %.*f rounds (the
+// decimal nearest to v's binary value, so that the summary, the verdict's
+// reasons and the pages print a figure alike), and a negative v that
+// rounds to zero as zero ("0.000", not "-0.000").
+func num(v float64, prec int) string {
+	s := strconv.FormatFloat(v, 'f', prec, 64)
+	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
+		return s[1:]
+	}
+	return s
+}
 
 // scanPageView fills the report page of one scan; pics holds the SVG
 // pictures by name (gap, flux, rings).

@@ -324,8 +324,9 @@ func writeHeatSummary(b *strings.Builder, h *HeatReport) {
 // a value that rounds to zero reads "0.000" (no "-0.000" beside "+0.000");
 // num does the rounding.
 func signedFixed(v float64, prec int) string {
-	if roundTo(v, prec) > 0 {
-		return "+" + num(v, prec)
+	s := num(v, prec)
+	if !strings.HasPrefix(s, "-") && strings.Trim(s, "0.") != "" {
+		return "+" + s
 	}
-	return num(v, prec)
+	return s
 }

@@ -3,6 +3,7 @@ package pipeline
 import (
 	"bytes"
 	"encoding/csv"
+	"fmt"
 	"strings"
 	"testing"
 )
@@ -75,5 +76,55 @@ func TestGeometrySummaryOutlierCount(t *testing.T) {
 		if !strings.Contains(b.String(), tt.want) {
 			t.Errorf("%d outliers: summary\n%s\nwant it to contain %q", tt.n, b.String(), tt.want)
 		}
+	}
+}
+
+// TestNumRoundsLikeFmt checks num against fmt's %.*f (the reference: Go's
+// strconv rounds the exact binary value to the nearest decimal) on values
+// stored with four decimals and printed with three, where a halfway digit
+// is common (-1.7685 is -1.76849999… in binary), and that a negative value
+// rounding to zero prints unsigned. signedFixed adds "+" to positive
+// figures only.
+func TestNumRoundsLikeFmt(t *testing.T) {
+	tests := []struct {
+		v          float64
+		prec       int
+		num, signd string
+	}{
+		{-1.7685, 3, "-1.768", "-1.768"},
+		{1.7685, 3, "1.768", "+1.768"},
+		{0.4005, 3, "0.401", "+0.401"}, // 0.40050000000000002 in binary
+		{2.5, 0, "2", "+2"},            // halfway in binary too: to even
+		{-0.0004, 3, "0.000", "0.000"},
+		{-0.0005, 3, "-0.001", "-0.001"}, // -0.00050000000000000001
+		{0, 3, "0.000", "0.000"},
+		{13.778, 1, "13.8", "+13.8"},
+	}
+	for _, tt := range tests {
+		if got := num(tt.v, tt.prec); got != tt.num {
+			t.Errorf("num(%v, %d) = %q, want %q", tt.v, tt.prec, got, tt.num)
+		}
+		if want := fmt.Sprintf("%.*f", tt.prec, tt.v); tt.v < 0 && want != "-"+tt.num && want != tt.num || tt.v >= 0 && want != tt.num {
+			t.Errorf("fmt %%.%df of %v = %q, num %q", tt.prec, tt.v, want, tt.num)
+		}
+		if got := signedFixed(tt.v, tt.prec); got != tt.signd {
+			t.Errorf("signedFixed(%v, %d) = %q, want %q", tt.v, tt.prec, got, tt.signd)
+		}
+	}
+}
+
+// TestSummaryAndVerdictAgree checks that the summary's concavity and the
+// verdict's reason print the same digits for a stored value ending in a
+// halfway digit (found on a steep cone: "-1.769" above "-1.768").
+func TestSummaryAndVerdictAgree(t *testing.T) {
+	g := &GeometryReport{DiameterMM: 200.5, Shape: "domed", ConcavityMM: -1.7685, ConcavityPctOfDiameter: -0.882, FlatnessMZMM: 1.5063, CoveragePct: 100, CutoffMM: 8}
+	var b strings.Builder
+	writeGeometrySummary(&b, g)
+	v := verdict(DefaultJob(), &Report{Geometry: g})
+	if !strings.Contains(b.String(), "concavity -1.768 mm") {
+		t.Errorf("summary:\n%s\nwant concavity -1.768 mm", b.String())
+	}
+	if len(v.Reasons) == 0 || !strings.Contains(v.Reasons[0], "concavity -1.768 mm") {
+		t.Errorf("verdict reasons %q, want concavity -1.768 mm", v.Reasons)
 	}
 }
