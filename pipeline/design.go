@@ -357,7 +357,7 @@ func WriteDesignCSV(w io.Writer, t *DesignTable) error {
 	if err := cw.Write(designColumns); err != nil {
 		return err
 	}
-	f := func(v float64, p int) string { return strconv.FormatFloat(roundTo(v, p), 'f', p, 64) }
+	f := num
 	for _, r := range t.Rows {
 		tip := ""
 		if r.HotTipForceN != nil {

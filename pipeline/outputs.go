@@ -37,7 +37,7 @@ func WriteRingsCSV(w io.Writer, rings []RingReport) error {
 	if err := cw.Write(ringColumns); err != nil {
 		return err
 	}
-	f := func(v float64, p int) string { return strconv.FormatFloat(roundTo(v, p), 'f', p, 64) }
+	f := num
 	for i, r := range rings {
 		rec := []string{strconv.Itoa(i + 1), f(r.RInMM, 2), f(r.ROutMM, 2), f(r.AreaMM2, 1), f(r.ContactPct, 2),
 			f(r.MeanGapMM, 4), f(r.MaxGapMM, 4), f(r.HWM2K, 2), f(r.HSolidWM2K, 4), f(r.HGasWM2K, 2), f(r.HRadWM2K, 3),

@@ -288,7 +288,7 @@ func fnum(v *float64, prec int) string {
 	if v == nil || math.IsNaN(*v) || math.IsInf(*v, 0) {
 		return ""
 	}
-	return strconv.FormatFloat(roundTo(*v, prec), 'f', prec, 64)
+	return num(*v, prec)
 }
 
 func fbool(v *bool) string {

@@ -128,3 +128,27 @@ func TestSummaryAndVerdictAgree(t *testing.T) {
 		t.Errorf("verdict reasons %q, want concavity -1.768 mm", v.Reasons)
 	}
 }
+
+// TestTableAndRingsRoundLikeReasons checks that the batch's terminal table
+// and rings.csv round a stored halfway value as the verdict's reasons do
+// (fmt's %.*f): the demo's domed frypan has concavity -0.3015 mm, which
+// its reason prints as -0.301 mm and the table printed as -0.302.
+func TestTableAndRingsRoundLikeReasons(t *testing.T) {
+	c := -0.3015
+	s := &Summary{Rows: []SummaryRow{{Path: "a.stl", Status: "ok", ConcavityMM: &c}}}
+	if tab := s.Table(); !strings.Contains(tab, " -0.301 ") {
+		t.Errorf("table\n%s\nwant concav_mm -0.301", tab)
+	}
+	var b bytes.Buffer
+	if err := WriteRingsCSV(&b, []RingReport{{ContactPct: 73.315, MeanGapMM: 0.30155}}); err != nil {
+		t.Fatal(err)
+	}
+	rec, err := csv.NewReader(&b).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 73.315 is 73.31499… and 0.30155 is 0.30154999… in binary.
+	if got := rec[1][4] + " " + rec[1][5]; got != "73.31 0.3015" {
+		t.Errorf("contact_pct, mean_gap_mm = %s, want 73.31 0.3015", got)
+	}
+}
