@@ -611,6 +611,9 @@ func decodeFloatRecords(pts, nrm []r3.Vec, b []byte, rec int, off []int, f32, bi
 // nil, off then has 6 entries). It returns 1 + the index in b of the
 // first non-finite value, or 0.
 func fill32(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) int {
+	if !big {
+		return fill32LE(pts, nrm, b, rec, off)
+	}
 	var v [6]float64
 	for r := range pts {
 		rb := b[r*rec : (r+1)*rec]
@@ -632,6 +635,56 @@ func fill32(pts, nrm []r3.Vec, b []byte, rec int, off []int, big bool) int {
 		}
 	}
 	return 0
+}
+
+// fill32LE is fill32 for little-endian records (the common case: x86 and
+// ARM scanners write binary_little_endian), with the offsets held in
+// locals and the six-value case unrolled.
+func fill32LE(pts, nrm []r3.Vec, b []byte, rec int, off []int) int {
+	const exp = 0x7f800000
+	ox, oy, oz := off[0], off[1], off[2]
+	if nrm == nil {
+		for r := range pts {
+			rb := b[r*rec : (r+1)*rec]
+			x, y, z := uint32At(rb, ox), uint32At(rb, oy), uint32At(rb, oz)
+			if x&exp == exp || y&exp == exp || z&exp == exp {
+				return r*rec + firstNonFinite32(rb, off) + 1
+			}
+			pts[r] = r3.Vec{X: widen32(x), Y: widen32(y), Z: widen32(z)}
+		}
+		return 0
+	}
+	onx, ony, onz := off[3], off[4], off[5]
+	nrm = nrm[:len(pts)]
+	for r := range pts {
+		rb := b[r*rec : (r+1)*rec]
+		x, y, z := uint32At(rb, ox), uint32At(rb, oy), uint32At(rb, oz)
+		nx, ny, nz := uint32At(rb, onx), uint32At(rb, ony), uint32At(rb, onz)
+		if x&exp == exp || y&exp == exp || z&exp == exp || nx&exp == exp || ny&exp == exp || nz&exp == exp {
+			return r*rec + firstNonFinite32(rb, off) + 1
+		}
+		pts[r] = r3.Vec{X: widen32(x), Y: widen32(y), Z: widen32(z)}
+		nrm[r] = r3.Vec{X: widen32(nx), Y: widen32(ny), Z: widen32(nz)}
+	}
+	return 0
+}
+
+// uint32At returns the little-endian uint32 at b[o:].
+func uint32At(b []byte, o int) uint32 { return binary.LittleEndian.Uint32(b[o:]) }
+
+// widen32 widens the float32 with bits u.
+func widen32(u uint32) float64 { return float64(math.Float32frombits(u)) }
+
+// firstNonFinite32 returns the offset in the little-endian record rb of
+// its first non-finite float32 coordinate, in off's order (fill32's), or
+// -1 when there is none.
+func firstNonFinite32(rb []byte, off []int) int {
+	for _, o := range off {
+		if uint32At(rb, o)&0x7f800000 == 0x7f800000 {
+			return o
+		}
+	}
+	return -1
 }
 
 // fill64 is fill32 for float64 coordinates.
