@@ -9,7 +9,7 @@ import (
 // validates and hashes. The seed corpus in testdata/fuzz/FuzzReadJob holds
 // ±Inf, NaN, huge and wrong-length values.
 func FuzzReadJob(f *testing.F) {
-	f.Add([]byte(DefaultJobTOML))
+	f.Add([]byte(JobDoc()))
 	f.Add([]byte("[water]\nmass_kg = 2\n"))
 	f.Add([]byte("[[pan.layers]]\nmaterial = \"ss-430\"\nthickness_mm = 0.6\n"))
 	f.Add([]byte("[oven]\nx=1\n"))

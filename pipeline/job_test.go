@@ -12,12 +12,12 @@ import (
 )
 
 func TestDefaultJobTOMLDecodesToDefaultJob(t *testing.T) {
-	got, err := ReadJob(strings.NewReader(DefaultJobTOML), "default.toml")
+	got, err := ReadJob(strings.NewReader(JobDoc()), "default.toml")
 	if err != nil {
 		t.Fatal(err)
 	}
 	if want := DefaultJob(); !reflect.DeepEqual(got, want) {
-		t.Errorf("DefaultJobTOML decodes to\n%+v\nwant DefaultJob()\n%+v", got, want)
+		t.Errorf("JobDoc() decodes to\n%+v\nwant DefaultJob()\n%+v", got, want)
 	}
 }
 
@@ -293,7 +293,7 @@ func TestJobDocSourcesModellingDefaults(t *testing.T) {
 			t.Errorf("%s: its default has no stated source (a source, or \"ours\")", s.key)
 		}
 	}
-	if !strings.Contains(DefaultJobTOML, "default from: Incropera, 6th ed., Table 10.1") {
+	if !strings.Contains(JobDoc(), "default from: Incropera, 6th ed., Table 10.1") {
 		t.Error("gapflux job does not print the Rohsenow default's source")
 	}
 }

@@ -12,7 +12,7 @@ import (
 )
 
 // QualityJob holds the data-quality gate's limits (DESIGN 5.0; issue 8).
-// Every default is our own choice; DefaultJobTOML gives each one's reason.
+// Every default is our own choice; JobDoc gives each one's reason.
 type QualityJob struct {
 	DiameterWarnMinMM      float64 `toml:"diameter_warn_min_mm"`
 	DiameterWarnMaxMM      float64 `toml:"diameter_warn_max_mm"`

@@ -379,7 +379,7 @@ func cmdJob(args []string, stdout, stderr io.Writer) error {
 	if err := parse(fs, args); err != nil {
 		return err
 	}
-	_, err := io.WriteString(stdout, pipeline.DefaultJobTOML)
+	_, err := io.WriteString(stdout, pipeline.JobDoc())
 	return err
 }
 

@@ -110,7 +110,7 @@ type Limits struct {
 }
 
 // DefaultLimits returns our default limits (each one's reason is in the
-// job file's documentation, pipeline.DefaultJobTOML).
+// job file's documentation, pipeline.JobDoc).
 func DefaultLimits() Limits {
 	return Limits{
 		DiameterWarnMinM: 0.100, DiameterWarnMaxM: 0.350,
