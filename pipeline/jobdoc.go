@@ -463,10 +463,10 @@ func fmtNum(v float64) string {
 // JobDoc returns the default job written out as a job file, every key with
 // its meaning, unit, default and allowed range (and the reason for that
 // range); "gapflux job" prints it. Decoding it gives DefaultJob (a test
-// checks this); it is built on each call, not at start-up, which it slowed
-// by some 3.5 ms. The scenario is
-// our own invention (DESIGN 5.3a), not a standard's; a lab must set the
-// tolerances of the cookware and hob standards it works to.
+// checks this). It is built on each call, not at start-up, which it slowed
+// by some 3.5 ms. The scenario is our own invention (DESIGN 5.3a), not a
+// standard's; a lab must set the tolerances of the cookware and hob
+// standards it works to.
 func JobDoc() string {
 	specs := map[string]keySpec{}
 	for _, s := range jobKeys() {
