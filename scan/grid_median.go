@@ -76,3 +76,37 @@ func bracketMedian(a []float64) float64 {
 	}
 	return 0.5 * (prev + v)
 }
+
+// Lengths of the slices medianOf selects from a copy of.
+const (
+	// shortMedianMin is the shortest: below it medianInPlace only sorts
+	// by insertion, as quick as order.Median and with no copy.
+	shortMedianMin = 9
+	// shortMedianMax is the longest.
+	shortMedianMax = 64
+)
+
+// medianOf returns medianInPlace(a), to the bit, and may reorder a
+// (callers must not depend on a's order afterwards). Up to shortMedianMax
+// values (from shortMedianMin on) it takes the median of a copy of a with
+// order.Median, quicker on short slices; only when that median is a zero, whose sign depends on the
+// order the selection met the zeros in, or a holds a NaN, does it call
+// medianInPlace on a's own order.
+func medianOf(a []float64) float64 {
+	n := len(a)
+	if n < shortMedianMin || n > shortMedianMax {
+		return medianInPlace(a)
+	}
+	var buf [shortMedianMax]float64
+	b := buf[:n]
+	for i, v := range a {
+		if v != v {
+			return medianInPlace(a)
+		}
+		b[i] = v
+	}
+	if m := order.Median(b); m != 0 && m == m {
+		return m
+	}
+	return medianInPlace(a)
+}

@@ -291,7 +291,7 @@ func refStart(g refGrid, byCell, start []int32, z []float64) []float64 {
 			}
 			med[q] = nan
 			if len(buf) > 0 {
-				med[q] = medianInPlace(buf)
+				med[q] = medianOf(buf)
 			}
 		}
 	})
@@ -328,7 +328,7 @@ func windowMedians(g refGrid, med []float64) []float64 {
 					f[j*g.nx+i] = nan
 					continue
 				}
-				f[j*g.nx+i] = medianInPlace(buf)
+				f[j*g.nx+i] = medianOf(buf)
 			}
 		}
 	})
