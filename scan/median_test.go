@@ -94,20 +94,14 @@ func TestMedianOfZeroSign(t *testing.T) {
 }
 
 // windowMediansRef is windowMedians as it was written first: each
-// window's values gathered row by row and medianInPlace of them.
+// window's values gathered row by row (gatherWindow) and medianInPlace of
+// them.
 func windowMediansRef(g refGrid, med []float64) []float64 {
 	f := make([]float64, g.nx*g.ny)
-	buf := make([]float64, 0, (2*refMedianHalf+1)*(2*refMedianHalf+1))
+	var buf []float64
 	for j := range g.ny {
 		for i := range g.nx {
-			buf = buf[:0]
-			for jj := max(0, j-refMedianHalf); jj <= min(g.ny-1, j+refMedianHalf); jj++ {
-				for ii := max(0, i-refMedianHalf); ii <= min(g.nx-1, i+refMedianHalf); ii++ {
-					if v := med[jj*g.nx+ii]; !math.IsNaN(v) {
-						buf = append(buf, v)
-					}
-				}
-			}
+			buf = gatherWindow(g, med, i, j, buf)
 			f[j*g.nx+i] = nan
 			if len(buf) > 0 {
 				f[j*g.nx+i] = medianInPlace(buf)
