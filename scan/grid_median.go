@@ -79,8 +79,8 @@ func bracketMedian(a []float64) float64 {
 
 // Lengths of the slices medianOf selects from a copy of.
 const (
-	// shortMedianMin is the shortest: below it medianInPlace only sorts
-	// by insertion, as quick as order.Median and with no copy.
+	// shortMedianMin is the shortest: on fewer values medianInPlace,
+	// which sorts them by insertion, is as quick with no copy.
 	shortMedianMin = 9
 	// shortMedianMax is the longest.
 	shortMedianMax = 64

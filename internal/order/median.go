@@ -65,21 +65,14 @@ func selectSmall(a []float64, k int) float64 {
 }
 
 // pivotFirst moves the median of r's first, middle and last values to
-// r[0] (len(r) ≥ 3).
+// r[0], the least of them to r[mid] and the greatest to r[last]
+// (len(r) ≥ 3). min and max order −0 below +0 and do not branch, so the
+// three values keep their bits.
 func pivotFirst(r []float64) {
 	last, mid := len(r)-1, len(r)/2
 	x, y, z := r[0], r[mid], r[last]
-	// Sort x, y, z; the middle one is the pivot.
-	if y < x {
-		x, y = y, x
-	}
-	if z < y {
-		y, z = z, y
-		if y < x {
-			x, y = y, x
-		}
-	}
-	r[0], r[mid], r[last] = y, x, z
+	lo, hi := min(x, y), max(x, y)
+	r[0], r[mid], r[last] = max(lo, min(hi, z)), min(lo, z), max(hi, z)
 }
 
 // partitionBelow moves the values of r[1:] below the pivot r[0] to the
