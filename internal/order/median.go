@@ -20,13 +20,15 @@ func Median(a []float64) float64 {
 		panic("order: median of nothing")
 	}
 	k := n / 2
-	v := selectSmall(a, k)
+	from := selectSmall(a, k)
+	v := a[k]
 	if n%2 == 1 {
 		return v
 	}
-	// a[:k] ≤ a[k]: the (k−1)-th smallest is the largest of a[:k].
-	lo := a[0]
-	for _, w := range a[1:k] {
+	// The (k−1)-th smallest is the largest of a[:k], which is the
+	// largest of a[from:k].
+	lo := a[from]
+	for _, w := range a[from+1 : k] {
 		if w > lo {
 			lo = w
 		}
@@ -35,9 +37,14 @@ func Median(a []float64) float64 {
 }
 
 // selectSmall reorders a (no NaN) so that a[:k] ≤ a[k] ≤ a[k+1:], and
-// returns a[k].
-func selectSmall(a []float64, k int) float64 {
+// returns an index from ≤ max(k−1, 0) such that the largest of a[:k] is
+// the largest of a[from:k] (k ≥ 1): the values before the range the
+// selection ended on are at most its first value's predecessor, the last
+// pivot, and a range sorted by insertion has its largest below k at k−1.
+func selectSmall(a []float64, k int) (from int) {
 	lo, hi := 0, len(a) // the k-th smallest lies in a[lo:hi]
+	// Invariant: a[:lo] ≤ a[lo:hi] ≤ a[hi:], and a[lo−1] is the largest
+	// of a[:lo] when lo > 0 (a pivot).
 	for hi-lo > insertionMax {
 		r := a[lo:hi]
 		pivotFirst(r)
@@ -57,11 +64,11 @@ func selectSmall(a []float64, k int) float64 {
 		case k > lo+s:
 			lo += s + 1
 		default:
-			return a[k]
+			return max(lo-1, 0)
 		}
 	}
 	insertionSort(a[lo:hi])
-	return a[k]
+	return max(k-1, 0)
 }
 
 // pivotFirst moves the median of r's first, middle and last values to

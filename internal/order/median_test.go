@@ -66,13 +66,16 @@ func TestMedian(t *testing.T) {
 }
 
 // TestSelectSmall checks the order selectSmall leaves behind, for every
-// k: a[:k] ≤ a[k] ≤ a[k+1:], and a[k] the k-th of the sorted values.
+// k: a[:k] ≤ a[k] ≤ a[k+1:], a[k] the k-th of the sorted values, and
+// the index it returns: at most max(k−1, 0), and the largest of a[:k]
+// the largest of a[from:k].
 func TestSelectSmall(t *testing.T) {
 	for name, a := range medianCases() {
 		s := slices.Sorted(slices.Values(a))
 		for k := range a {
 			b := slices.Clone(a)
-			v := selectSmall(b, k)
+			from := selectSmall(b, k)
+			v := b[k]
 			if v != s[k] {
 				t.Fatalf("%s, k %d: %g, want %g", name, k, v, s[k])
 			}
@@ -80,6 +83,12 @@ func TestSelectSmall(t *testing.T) {
 				if i < k && w > v || i > k && w < v {
 					t.Fatalf("%s, k %d: a[%d] = %g on the wrong side of %g", name, k, i, w, v)
 				}
+			}
+			if from < 0 || from > max(k-1, 0) {
+				t.Fatalf("%s, k %d: from %d", name, k, from)
+			}
+			if k > 0 && slices.Max(b[from:k]) != slices.Max(b[:k]) {
+				t.Fatalf("%s, k %d: largest of a[%d:k] %g, of a[:k] %g", name, k, from, slices.Max(b[from:k]), slices.Max(b[:k]))
 			}
 		}
 	}
