@@ -87,11 +87,11 @@ const (
 )
 
 // medianOf returns medianInPlace(a), to the bit, and may reorder a
-// (callers must not depend on a's order afterwards). Up to shortMedianMax
-// values (from shortMedianMin on) it takes the median of a copy of a with
-// order.Median, quicker on short slices; only when that median is a zero, whose sign depends on the
-// order the selection met the zeros in, or a holds a NaN, does it call
-// medianInPlace on a's own order.
+// (callers must not depend on a's order afterwards). From shortMedianMin
+// to shortMedianMax values it takes order.Median of a copy of a, quicker
+// on short slices; only when that median is a zero, whose sign depends on
+// the order the selection met the zeros in, or NaN, or a holds a NaN, does
+// it return medianInPlace of a in the caller's order.
 func medianOf(a []float64) float64 {
 	n := len(a)
 	if n < shortMedianMin || n > shortMedianMax {

@@ -1056,8 +1056,8 @@ type rimProfile struct {
 }
 
 // profile fills sp with sector s's profile (the median may reorder the
-// bins' heights). A bin too sparse to count (fewer
-// than rimMinCount points) is not valid; its height is 0 and its radius
+// bins' heights). A bin too sparse to count (fewer than rimMinCount
+// points) is not valid; its height is 0 and its radius
 // the bin's centre, rlo + (k + ½)·dr, m, so that the walks, which stop on
 // a bin's radius before they look at its validity (slopeLimit, wallNear),
 // read a sector's own bins and nothing another sector left.
