@@ -399,7 +399,7 @@ func binCloud(s *Surface, base, have []bool, sm samples) cellBins {
 			for _, i := range ids {
 				zs = append(zs, sm.z[i])
 			}
-			s.ZM[q] = medianInPlace(zs)
+			s.ZM[q] = medianOf(zs)
 			have[q] = true
 		}
 	})

@@ -76,3 +76,37 @@ func bracketMedian(a []float64) float64 {
 	}
 	return 0.5 * (prev + v)
 }
+
+// Lengths of the slices medianOf selects from a copy of.
+const (
+	// shortMedianMin is the shortest: on fewer values medianInPlace,
+	// which sorts them by insertion, is as quick with no copy.
+	shortMedianMin = 9
+	// shortMedianMax is the longest.
+	shortMedianMax = 64
+)
+
+// medianOf returns medianInPlace(a), to the bit, and may reorder a
+// (callers must not depend on a's order afterwards). From shortMedianMin
+// to shortMedianMax values it takes order.Median of a copy of a, quicker
+// on short slices; only when that median is a zero, whose sign depends on
+// the order the selection met the zeros in, or NaN, or a holds a NaN, does
+// it return medianInPlace of a in the caller's order.
+func medianOf(a []float64) float64 {
+	n := len(a)
+	if n < shortMedianMin || n > shortMedianMax {
+		return medianInPlace(a)
+	}
+	var buf [shortMedianMax]float64
+	b := buf[:n]
+	for i, v := range a {
+		if v != v {
+			return medianInPlace(a)
+		}
+		b[i] = v
+	}
+	if m := order.Median(b); m != 0 && m == m {
+		return m
+	}
+	return medianInPlace(a)
+}

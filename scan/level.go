@@ -1055,9 +1055,9 @@ type rimProfile struct {
 	valid     []bool
 }
 
-// profile fills sp with sector s's profile (the bins' heights are
-// reordered in place by the median). A bin too sparse to count (fewer
-// than rimMinCount points) is not valid; its height is 0 and its radius
+// profile fills sp with sector s's profile (the median may reorder the
+// bins' heights). A bin too sparse to count (fewer than rimMinCount
+// points) is not valid; its height is 0 and its radius
 // the bin's centre, rlo + (k + ½)·dr, m, so that the walks, which stop on
 // a bin's radius before they look at its validity (slopeLimit, wallNear),
 // read a sector's own bins and nothing another sector left.
@@ -1069,7 +1069,7 @@ func (rb *rimBins) profile(s int, sp *rimProfile) {
 			sp.prof[bb], sp.pos[bb] = 0, rb.rlo+(float64(bb)+0.5)*rb.dr
 			continue
 		}
-		sp.prof[bb] = medianInPlace(rb.ws[lo:hi])
+		sp.prof[bb] = medianOf(rb.ws[lo:hi])
 		sp.pos[bb] = rb.mean[s*rb.nb+bb]
 	}
 }

@@ -291,7 +291,7 @@ func refStart(g refGrid, byCell, start []int32, z []float64) []float64 {
 			}
 			med[q] = nan
 			if len(buf) > 0 {
-				med[q] = medianInPlace(buf)
+				med[q] = medianOf(buf)
 			}
 		}
 	})
@@ -302,37 +302,43 @@ func refStart(g refGrid, byCell, start []int32, z []float64) []float64 {
 // values of med (m) over the (2·refMedianHalf+1)² window around it (NaN
 // where there are none).
 func windowMedians(g refGrid, med []float64) []float64 {
-	nc := g.nx * g.ny
-	f := make([]float64, nc)
+	f := make([]float64, g.nx*g.ny)
 	parallelRows(g.ny, func(j0, j1 int) {
 		buf := make([]float64, 0, (2*refMedianHalf+1)*(2*refMedianHalf+1))
 		for j := j0; j < j1; j++ {
-			for i := range g.nx {
-				buf = buf[:0]
-				for dj := -refMedianHalf; dj <= refMedianHalf; dj++ {
-					jj := j + dj
-					if jj < 0 || jj >= g.ny {
-						continue
-					}
-					for di := -refMedianHalf; di <= refMedianHalf; di++ {
-						ii := i + di
-						if ii < 0 || ii >= g.nx {
-							continue
-						}
-						if v := med[jj*g.nx+ii]; !math.IsNaN(v) {
-							buf = append(buf, v)
-						}
-					}
-				}
-				if len(buf) == 0 {
-					f[j*g.nx+i] = nan
-					continue
-				}
-				f[j*g.nx+i] = medianInPlace(buf)
-			}
+			buf = windowRowMedians(g, med, j, f[j*g.nx:(j+1)*g.nx], buf)
 		}
 	})
 	return f
+}
+
+// windowRowMedians sets out[i] to the window median of cell (i, j) for
+// the cells of row j, gathering each window's values in buf's storage,
+// which it returns for the next call.
+func windowRowMedians(g refGrid, med []float64, j int, out, buf []float64) []float64 {
+	for i := range g.nx {
+		buf = windowValues(g, med, i, j, buf)
+		out[i] = nan
+		if len(buf) > 0 {
+			out[i] = medianOf(buf)
+		}
+	}
+	return buf
+}
+
+// windowValues returns the non-NaN values of med over the window of cell
+// (i, j), row by row, in buf's storage.
+func windowValues(g refGrid, med []float64, i, j int, buf []float64) []float64 {
+	ilo, ihi := max(0, i-refMedianHalf), min(g.nx-1, i+refMedianHalf)
+	buf = buf[:0]
+	for jj := max(0, j-refMedianHalf); jj <= min(g.ny-1, j+refMedianHalf); jj++ {
+		for _, v := range med[jj*g.nx+ilo : jj*g.nx+ihi+1] {
+			if !math.IsNaN(v) {
+				buf = append(buf, v)
+			}
+		}
+	}
+	return buf
 }
 
 // residuals sets res[i] = z[i] − f(x[i], y[i]).

@@ -1,5 +1,6 @@
 // Package order finds order statistics of float64 slices in place, in
-// expected linear time (Hoare's selection).
+// expected linear time: Select by Hoare's selection, Median of short
+// slices by Lomuto's partition without branches on the data.
 package order
 
 // Select reorders a so that a[k] is the k-th smallest value, with
