@@ -32,9 +32,10 @@ func writeReportHTML(dir string, res *Result, pics map[string][]byte) error {
 }
 
 // num formats v with prec decimals, rounded as fmt's %.*f rounds (the
-// decimal nearest to v's binary value, so that the summary, the verdict's
-// reasons and the pages print a figure alike), and a negative v that
-// rounds to zero as zero ("0.000", not "-0.000").
+// decimal nearest to v's binary value, an exact half to the even digit,
+// the rule of IS 2:1960), so that the summary, the verdict's reasons and
+// the pages print a figure alike, and a negative v that rounds to zero as
+// zero ("0.000", not "-0.000").
 func num(v float64, prec int) string {
 	s := strconv.FormatFloat(v, 'f', prec, 64)
 	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
