@@ -133,13 +133,13 @@ func wallFace(pts []r3.Vec, f *frame, radius, dr float64, sc *levelScratch) floa
 	parts := rowParts(nTake)
 	nRim, nOuter, nBases := make([]int, parts), make([]int, parts), make([]int, parts)
 	parallel.Do(nTake, parts, func(k, t0, t1 int) {
-		r, o := t0, t0
+		r, o, nb := t0, t0, 0 // nb is local: parts writing next to each other would share a cache line
 		for t := t0; t < t1; t++ {
 			u, v, w := f.coords(pts[t*step])
 			rr := math.Sqrt(u*u + v*v)
 			switch {
 			case rr <= radius:
-				nBases[k]++
+				nb++
 				if rr >= 0.9*radius {
 					rimW[r] = math.Abs(w)
 					r++
@@ -149,7 +149,7 @@ func wallFace(pts []r3.Vec, f *frame, radius, dr float64, sc *levelScratch) floa
 				o++
 			}
 		}
-		nRim[k], nOuter[k] = r-t0, o-t0
+		nRim[k], nOuter[k], nBases[k] = r-t0, o-t0, nb
 	})
 	rimW = rimW[:packBlocks(rimW, nTake, nRim)[parts]]
 	outer = outer[:packBlocks(outer, nTake, nOuter)[parts]]
