@@ -1,9 +1,11 @@
 package scan
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -148,4 +150,127 @@ func sameAnnulus(a, b *annulus) bool {
 		}
 	}
 	return true
+}
+
+// coarseCellSizeRef is coarseCellSize as it was: it picks the coarse cell edge: about 64 cells across the
+// larger extent, but large enough for some 20 points per cell.
+func coarseCellSizeRef(uvw [][3]float64) float64 {
+	umin, umax := math.Inf(1), math.Inf(-1)
+	vmin, vmax := math.Inf(1), math.Inf(-1)
+	for _, p := range uvw {
+		umin, umax = min(umin, p[0]), max(umax, p[0])
+		vmin, vmax = min(vmin, p[1]), max(vmax, p[1])
+	}
+	ext := max(umax-umin, vmax-vmin)
+	area := (umax - umin) * (vmax - vmin)
+	return max(ext/64, math.Sqrt(20*area/float64(len(uvw))))
+}
+
+// newCoarseGridRef is newCoarseGrid as it was, one sequential pass.
+func newCoarseGridRef(uvw [][3]float64, g float64) *coarseGrid {
+	umin, umax := math.Inf(1), math.Inf(-1)
+	vmin, vmax := math.Inf(1), math.Inf(-1)
+	for _, p := range uvw {
+		umin, umax = min(umin, p[0]), max(umax, p[0])
+		vmin, vmax = min(vmin, p[1]), max(vmax, p[1])
+	}
+	cg := &coarseGrid{g: g, u0: umin, v0: vmin}
+	cg.nu = int((umax-umin)/g) + 1
+	cg.nv = int((vmax-vmin)/g) + 1
+	nc := cg.nu * cg.nv
+	type acc struct{ su, sv, sw, suu, suv, svv, suw, svw, sww float64 }
+	sums := make([]acc, nc)
+	cg.n = make([]int, nc)
+	cg.cellOfPt = make([]int32, len(uvw))
+	for i, p := range uvw {
+		q := cg.cell(p[0], p[1])
+		cg.cellOfPt[i] = int32(q)
+		uc, vc := cg.centre(q)
+		// Offsets in cell units keep the normal equations well scaled.
+		du, dv, w := (p[0]-uc)/g, (p[1]-vc)/g, p[2]
+		s := &sums[q]
+		cg.n[q]++
+		s.su += du
+		s.sv += dv
+		s.sw += w
+		s.suu += du * du
+		s.suv += du * dv
+		s.svv += dv * dv
+		s.suw += du * w
+		s.svw += dv * w
+		s.sww += w * w
+	}
+	cg.h = make([]float64, nc)
+	cg.a = make([]float64, nc)
+	cg.b = make([]float64, nc)
+	cg.rms = make([]float64, nc)
+	cg.fitted = make([]bool, nc)
+	for q := range nc {
+		cnt := float64(cg.n[q])
+		if cg.n[q] < 6 {
+			continue
+		}
+		s := sums[q]
+		cuu := s.suu/cnt - (s.su/cnt)*(s.su/cnt)
+		cvv := s.svv/cnt - (s.sv/cnt)*(s.sv/cnt)
+		cuv := s.suv/cnt - (s.su/cnt)*(s.sv/cnt)
+		if cuu < 0.01 || cvv < 0.01 || cuu*cvv-cuv*cuv < 1e-4 {
+			continue
+		}
+		x, ok := solveSmall(3, []float64{cnt, s.su, s.sv, s.su, s.suu, s.suv, s.sv, s.suv, s.svv}, []float64{s.sw, s.suw, s.svw})
+		if !ok {
+			continue
+		}
+		cg.h[q], cg.a[q], cg.b[q] = x[0], x[1]/g, x[2]/g
+		ssr := s.sww - x[0]*s.sw - x[1]*s.suw - x[2]*s.svw
+		cg.rms[q] = math.Sqrt(max(ssr, 0) / cnt)
+		cg.fitted[q] = true
+	}
+	return cg
+}
+
+// TestNewCoarseGridMatchesReference checks that coarseCellSize and
+// newCoarseGrid give the reference's cell edge, cells and plane fits to
+// the bit on 1 to 3 processors. The sums and fits are the same
+// expressions in the same order, so a build that fuses multiply-add
+// fuses both alike.
+func TestNewCoarseGridMatchesReference(t *testing.T) {
+	f := levelRefFrame()
+	for name, pts := range levelRefClouds() {
+		uvw := make([][3]float64, len(pts))
+		for i, p := range pts {
+			u, v, w := f.coords(p)
+			uvw[i] = [3]float64{u, v, w}
+		}
+		for _, procs := range []int{1, 2, 3} {
+			prev := runtime.GOMAXPROCS(procs)
+			g, wantG := coarseCellSize(uvw), coarseCellSizeRef(uvw)
+			got, want := newCoarseGrid(uvw, wantG), newCoarseGridRef(uvw, wantG)
+			runtime.GOMAXPROCS(prev)
+			if math.Float64bits(g) != math.Float64bits(wantG) {
+				t.Errorf("%s, %d procs: cell edge %v, want %v", name, procs, g, wantG)
+			}
+			if d := coarseGridDiff(got, want); d != "" {
+				t.Errorf("%s, %d procs: %s", name, procs, d)
+			}
+		}
+	}
+}
+
+// coarseGridDiff says where a and b differ in their bits, or returns "".
+func coarseGridDiff(a, b *coarseGrid) string {
+	if a.nu != b.nu || a.nv != b.nv || a.u0 != b.u0 || a.v0 != b.v0 || a.g != b.g {
+		return fmt.Sprintf("grid %dx%d at (%v, %v) edge %v, want %dx%d at (%v, %v) edge %v", a.nu, a.nv, a.u0, a.v0, a.g, b.nu, b.nv, b.u0, b.v0, b.g)
+	}
+	if !slices.Equal(a.cellOfPt, b.cellOfPt) || !slices.Equal(a.n, b.n) || !slices.Equal(a.fitted, b.fitted) {
+		return "cells of the points, counts or fitted cells differ"
+	}
+	for q := range a.h {
+		for k, x := range [][2]float64{{a.h[q], b.h[q]}, {a.a[q], b.a[q]}, {a.b[q], b.b[q]}, {a.rms[q], b.rms[q]}} {
+			if math.Float64bits(x[0]) != math.Float64bits(x[1]) {
+				return fmt.Sprintf("cell %d: fit value %d is %v, want %v", q, k, x[0], x[1])
+			}
+		}
+	}
+	return ""
 }
