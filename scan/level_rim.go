@@ -143,8 +143,9 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *lev
 	})
 	off := blockOffsets(cnt)
 	a.r, a.w, a.sec = sc.floats.get(off[parts], 0), sc.floats.get(off[parts], 0), make([]uint8, off[parts])
+	sf := newSectorFinder(a.ns)
 	parallel.Do(nTake, parts, func(k, t0, t1 int) {
-		m.fill(a, pts, step, t0, t1, off[k])
+		m.fill(a, sf, pts, step, t0, t1, off[k])
 	})
 	return a
 }
@@ -192,19 +193,93 @@ func (m *annulusMarks) mark(pts []r3.Vec, w0, w1 int) (inner, ann int) {
 func (m *annulusMarks) has(i int) uint64 { return m.bits[i>>6] >> (i & 63) & 1 }
 
 // fill writes the annulus points among pts[t·step] for t in [t0, t1) to
-// a's radii (m), heights (m) and sectors from index o on, in point order.
-func (m *annulusMarks) fill(a *annulus, pts []r3.Vec, step, t0, t1, o int) {
-	fns := float64(a.ns)
+// a's radii (m), heights (m) and sectors (sf's, a.ns of them) from index
+// o on, in point order.
+func (m *annulusMarks) fill(a *annulus, sf *sectorFinder, pts []r3.Vec, step, t0, t1, o int) {
 	for t := t0; t < t1; t++ {
 		if m.has(t*step) == 0 {
 			continue
 		}
 		du, dv, w, r2 := m.radius2(pts[t*step])
-		th := math.Atan2(dv, du)
-		s := int((th + math.Pi) / (2 * math.Pi) * fns)
-		a.r[o], a.w[o], a.sec[o] = math.Sqrt(r2), w, uint8(min(a.ns-1, max(0, s)))
+		a.r[o], a.w[o], a.sec[o] = math.Sqrt(r2), w, uint8(sf.sector(du, dv))
 		o++
 	}
+}
+
+// sectorFinder finds the angular sector of a direction (du, dv) among ns
+// sectors of equal angle, the first starting at −π: the sector
+// int((atan2(dv, du) + π)/(2π)·ns), clamped to [0, ns). Directions clear
+// of the sector boundaries take it from a table of pseudo-angles, which
+// needs no arctangent; those near a boundary are computed as written, so
+// the result is the same to the last case.
+type sectorFinder struct {
+	ns   int
+	cell []int8 // sector per pseudo-angle cell; −1 near a boundary
+}
+
+// sectorCells is the number of pseudo-angle cells of a sectorFinder over
+// the pseudo-angle range [−2, 2]; sectorMargin is the pseudo-angle width
+// kept clear of each boundary (about as many radians; rounding errors in
+// the arctangent and the pseudo-angle are some 10⁻¹⁵).
+const (
+	sectorCells  = 8192
+	sectorMargin = 1e-6
+)
+
+// newSectorFinder returns the finder for ns sectors (at most 127).
+func newSectorFinder(ns int) *sectorFinder {
+	sf := &sectorFinder{ns: ns, cell: make([]int8, sectorCells)}
+	const scale = sectorCells / 4
+	bound := make([]float64, ns+1) // pseudo-angles of the boundaries
+	bound[0], bound[ns] = -2, 2
+	for j := 1; j < ns; j++ {
+		phi := -math.Pi + 2*math.Pi*float64(j)/float64(ns)
+		bound[j] = pseudoAngle(math.Cos(phi), math.Sin(phi))
+	}
+	s := 0
+	for c := range sf.cell {
+		mid := -2 + (float64(c)+0.5)/scale
+		for s < ns-1 && bound[s+1] < mid {
+			s++
+		}
+		sf.cell[c] = int8(s)
+	}
+	for _, b := range bound {
+		lo := max(0, int((b-sectorMargin+2)*scale))
+		hi := min(sectorCells-1, int((b+sectorMargin+2)*scale))
+		for c := lo; c <= hi; c++ {
+			sf.cell[c] = -1
+		}
+	}
+	return sf
+}
+
+// pseudoAngle returns a number in [−2, 2] that grows with the angle
+// atan2(y, x) over (−π, π] (the "diamond angle": the distance along the
+// diamond |x| + |y| = 1), for (x, y) not both zero.
+func pseudoAngle(x, y float64) float64 {
+	switch {
+	case y >= 0 && x >= 0:
+		return y / (x + y)
+	case y >= 0:
+		return 1 - x/(y-x)
+	case x < 0:
+		return -1 + x/(-x-y)
+	}
+	return y / (x - y)
+}
+
+// sector returns the sector of direction (du, dv).
+func (sf *sectorFinder) sector(du, dv float64) int {
+	if du != 0 || dv != 0 {
+		c := int((pseudoAngle(du, dv) + 2) * (sectorCells / 4))
+		if s := sf.cell[min(sectorCells-1, max(0, c))]; s >= 0 {
+			return int(s)
+		}
+	}
+	th := math.Atan2(dv, du)
+	s := int((th + math.Pi) / (2 * math.Pi) * float64(sf.ns))
+	return min(sf.ns-1, max(0, s))
 }
 
 // sumInts returns the sum of a.
