@@ -6,6 +6,7 @@ import (
 	"math/rand/v2"
 	"runtime"
 	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -326,4 +327,127 @@ func nudge(x, k float64) float64 {
 		x = math.Nextafter(x, math.Inf(-1))
 	}
 	return x
+}
+
+// normalsFaceRef is normalsFace as it was: it tells the outer face from facet normals, point normals or,
+// for STL meshes without facet normals, the facet winding (counter-
+// clockwise seen from outside): the outer face's normals point to the hob,
+// against base +z. It returns +1 when base +z is along the frame's normal,
+// −1 against it, 0 when there are no normals or they do not agree; detail
+// names the evidence (or why it was not used).
+func normalsFaceRef(c *Cloud, f *frame, radius float64) (sign float64, detail string) {
+	sum, n, what := normalsCosinesRef(c, f, radius)
+	if n == 0 {
+		return 0, ""
+	}
+	mean := sum / float64(n)
+	switch {
+	case mean >= 0.5:
+		return -1, what
+	case mean <= -0.5:
+		return 1, what
+	}
+	return 0, fmt.Sprintf("the %s on the base do not point one way (mean cosine %.2f); not used", what, mean)
+}
+
+// normalsCosinesRef is the summing part of normalsFaceRef, as normalsFace
+// was (each facet's first corner tested on its own): it returns the sum of
+// the cosines of the normals on the base, how many and what they were.
+func normalsCosinesRef(c *Cloud, f *frame, radius float64) (sum float64, n int, what string) {
+	r2 := radius * radius
+	inBase := func(p r3.Vec) bool {
+		u, v, _ := f.coords(p)
+		du, dv := u, v
+		return du*du+dv*dv <= r2
+	}
+	// cosine is the cosine of direction d to the frame's normal; ok is
+	// false for a zero or non-finite d.
+	cosine := func(d r3.Vec) (float64, bool) {
+		l := r3.Norm(d)
+		if l == 0 || math.IsNaN(l) || math.IsInf(l, 0) {
+			return 0, false
+		}
+		return r3.Dot(d, f.e[2]) / l, true
+	}
+	switch {
+	case len(c.FacetNormals) != 0 && hasNonZero(c.FacetNormals):
+		what = "facet normals"
+		sum, n = orderedSum(len(c.Triangles), func(t int) (float64, bool) {
+			if !inBase(c.Points[c.Triangles[t][0]]) {
+				return 0, false
+			}
+			return cosine(c.FacetNormals[t])
+		})
+	case len(c.Normals) != 0:
+		what = "point normals"
+		step := max(1, len(c.Points)/200000)
+		sum, n = orderedSum((len(c.Points)+step-1)/step, func(k int) (float64, bool) {
+			if !inBase(c.Points[k*step]) {
+				return 0, false
+			}
+			return cosine(c.Normals[k*step])
+		})
+	case len(c.Triangles) != 0 && strings.HasPrefix(c.Format, "stl"):
+		what = "STL facet winding"
+		sum, n = orderedSum(len(c.Triangles), func(t int) (float64, bool) {
+			tri := c.Triangles[t]
+			p0 := c.Points[tri[0]]
+			if !inBase(p0) {
+				return 0, false
+			}
+			return cosine(r3.Cross(r3.Sub(c.Points[tri[1]], p0), r3.Sub(c.Points[tri[2]], p0)))
+		})
+	default:
+		return 0, 0, ""
+	}
+	return sum, n, what
+}
+
+// TestNormalsFaceMatchesReference checks that normalsCosines gives the
+// reference's sum (to the bit) and count, and normalsFace its sign and
+// detail, for facet normals, facet winding and point normals, agreeing
+// and not, on base radii that take none, some or all of the facets, on 1
+// to 3 processors. Both compute each cosine and the in-base test with the
+// same expressions, so a build that fuses multiply-add fuses both alike.
+func TestNormalsFaceMatchesReference(t *testing.T) {
+	const R = 0.06
+	up := newScanner(FaceUp, 7, 30, 15, r3.Vec{X: 0.02, Y: -0.01, Z: 0.3})
+	sbMesh := synthBase{R: R, Shape: dish(0.2e-3, R), CornerM: 4e-3, WallM: 8e-3, Mesh: true, StepM: 1.5e-3, Normals: true, Seed: 11}
+	mesh := up.apply(sbMesh.build())
+	mesh.Format = "stl"
+	winding := *mesh
+	winding.FacetNormals = nil
+	// Facet normals of random directions: the mean cosine is printed.
+	mixed := *mesh
+	rng := rand.New(rand.NewPCG(8, 9))
+	mixed.FacetNormals = make([]r3.Vec, len(mesh.FacetNormals))
+	for i := range mixed.FacetNormals {
+		mixed.FacetNormals[i] = r3.Vec{X: rng.NormFloat64(), Y: rng.NormFloat64(), Z: rng.NormFloat64() + 0.3}
+	}
+	mixed.FacetNormals[3] = r3.Vec{}
+	sbCloud := synthBase{R: R, Shape: dish(0.2e-3, R), CornerM: 5e-3, WallM: 12e-3, NoiseM: 12e-6, N: 30000, Normals: true, Seed: 21}
+	cloud := up.apply(sbCloud.build())
+	var mean r3.Vec
+	for _, p := range mesh.Points {
+		mean = r3.Add(mean, p)
+	}
+	f := newFrame(r3.Scale(1/float64(len(mesh.Points)), mean), up.dir(r3.Vec{Z: 1}))
+	for name, c := range map[string]*Cloud{"facet normals": mesh, "winding": &winding, "mixed": &mixed, "point normals": cloud} {
+		for _, radius := range []float64{1e-4, 0.02, R, 2 * R} {
+			for _, procs := range []int{1, 2, 3} {
+				prev := runtime.GOMAXPROCS(procs)
+				sum, n, what := normalsCosines(c, &f, radius)
+				wantSum, wantN, wantWhat := normalsCosinesRef(c, &f, radius)
+				sign, detail := normalsFace(c, &f, radius)
+				wantSign, wantDetail := normalsFaceRef(c, &f, radius)
+				runtime.GOMAXPROCS(prev)
+				if math.Float64bits(sum) != math.Float64bits(wantSum) || n != wantN || what != wantWhat {
+					t.Errorf("%s, radius %v, %d procs: cosines sum %v over %d %s, want %v over %d %s", name, radius, procs, sum, n, what, wantSum, wantN, wantWhat)
+				}
+				if sign != wantSign || detail != wantDetail {
+					t.Errorf("%s, radius %v, %d procs: %v %q, want %v %q", name, radius, procs, sign, detail, wantSign, wantDetail)
+				}
+			}
+		}
+	}
 }
