@@ -1,6 +1,7 @@
 package scan
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -450,4 +451,84 @@ func TestNormalsFaceMatchesReference(t *testing.T) {
 			}
 		}
 	}
+}
+
+// binRimRef is binRim as it was, its bins' heights in a buffer of their own, on annulusPointsRef.
+func binRimRef(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*rimBins, error) {
+	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
+	a := annulusPointsRef(pts, f, uc, vc, r0, rlo, rhi, sc)
+	defer sc.floats.put(a.r, a.w)
+	ns, ring := rimSectors(a.rho, r0)
+	dr := max(r0/400, 20*float64(ns)/ring)
+	var nb int
+	var bins []int32 // each annulus point's bin, reused as the bins widen
+	for try := 0; ; try++ {
+		nb = int(math.Ceil((rhi - rlo) / dr))
+		if nb < 8 {
+			return nil, errors.New("scan: level: too few points near the rim")
+		}
+		bins = a.bins(nb, rlo, dr, bins)
+		if binsFullEnough(binTotals(bins, ns*nb), ns, nb, int((0.6*r0-rlo)/dr), int((0.9*r0-rlo)/dr)) || try == 5 {
+			break
+		}
+		dr *= 1.5
+	}
+	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, ws: sc.floats.get(len(a.r), 0)}
+	var order []int32
+	order, rb.start = sortByCell(bins, ns*nb)
+	parallelRows(len(order), func(k0, k1 int) {
+		for k := k0; k < k1; k++ {
+			rb.ws[k] = a.w[order[k]]
+		}
+	})
+	rb.mean = a.binMeans(bins, rb)
+	return rb, nil
+}
+
+// TestBinRimMatchesReference checks that binRim's bins, mean radii and
+// heights match the reference's to the bit, with the scratch pool empty
+// and already holding buffers, on 1 to 3 processors.
+func TestBinRimMatchesReference(t *testing.T) {
+	f := levelRefFrame()
+	for name, pts := range levelRefClouds() {
+		for _, procs := range []int{1, 2, 3} {
+			for _, warm := range []bool{false, true} {
+				prev := runtime.GOMAXPROCS(procs)
+				sc := &levelScratch{}
+				if warm {
+					sc.floats.put(make([]float64, 10), make([]float64, len(pts)))
+				}
+				got, err := binRim(pts, &f, 0.001, -0.002, 0.1, 0.14, sc)
+				want, wantErr := binRimRef(pts, &f, 0.001, -0.002, 0.1, 0.14, &levelScratch{})
+				runtime.GOMAXPROCS(prev)
+				if (err != nil) != (wantErr != nil) {
+					t.Fatalf("%s: error %v, want %v", name, err, wantErr)
+				}
+				if err != nil {
+					continue
+				}
+				if d := rimBinsDiff(got, want); d != "" {
+					t.Errorf("%s, %d procs, warm %v: %s", name, procs, warm, d)
+				}
+			}
+		}
+	}
+}
+
+// rimBinsDiff says where a and b differ in their bits, or returns "".
+func rimBinsDiff(a, b *rimBins) string {
+	if a.ns != b.ns || a.nb != b.nb || a.rlo != b.rlo || a.dr != b.dr || !slices.Equal(a.start, b.start) {
+		return fmt.Sprintf("bins %d×%d from %v by %v, want %d×%d from %v by %v, or their starts differ", a.ns, a.nb, a.rlo, a.dr, b.ns, b.nb, b.rlo, b.dr)
+	}
+	for _, x := range [][2][]float64{{a.ws, b.ws}, {a.mean, b.mean}} {
+		if len(x[0]) != len(x[1]) {
+			return fmt.Sprintf("%d values, want %d", len(x[0]), len(x[1]))
+		}
+		for i := range x[0] {
+			if math.Float64bits(x[0][i]) != math.Float64bits(x[1][i]) {
+				return fmt.Sprintf("value %d is %v, want %v", i, x[0][i], x[1][i])
+			}
+		}
+	}
+	return ""
 }

@@ -296,11 +296,12 @@ func sumInts(a []int) int {
 // angular sectors and radial bins. The sector count follows the point
 // density; the bins are widened while more than a fifth of the inner ones
 // (0.6–0.9 r0) are empty (structured meshes and scan lines leave regular
-// gaps). The annulus's scratch goes back to sc, and rb.ws comes from it.
+// gaps). The annulus's scratch goes back to sc, and rb.ws comes from it
+// (the buffer of the annulus radii, once the bins' mean radii are taken).
 func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*rimBins, error) {
 	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
 	a := annulusPoints(pts, f, uc, vc, r0, rlo, rhi, sc)
-	defer sc.floats.put(a.r, a.w)
+	defer func() { sc.floats.put(a.r, a.w) }()
 	ns, ring := rimSectors(a.rho, r0)
 	dr := max(r0/400, 20*float64(ns)/ring)
 	var nb int
@@ -316,15 +317,20 @@ func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*
 		}
 		dr *= 1.5
 	}
-	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, ws: sc.floats.get(len(a.r), 0)}
+	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr}
 	var order []int32
 	order, rb.start = sortByCell(bins, ns*nb)
+	rb.mean = a.binMeans(bins, rb)
+	// The radii are done with: their buffer (memory already touched)
+	// takes the heights in bin order.
+	sc.floats.put(a.r)
+	a.r = nil
+	rb.ws = sc.floats.get(len(a.w), 0)
 	parallelRows(len(order), func(k0, k1 int) {
 		for k := k0; k < k1; k++ {
 			rb.ws[k] = a.w[order[k]]
 		}
 	})
-	rb.mean = a.binMeans(bins, rb)
 	return rb, nil
 }
 
