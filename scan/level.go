@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/spatial/r3"
@@ -819,12 +820,7 @@ func robustPlane(pts []r3.Vec, sc *levelScratch) (c, n r3.Vec, ok bool) {
 // coarseCellSize picks the coarse cell edge: about 64 cells across the
 // larger extent, but large enough for some 20 points per cell.
 func coarseCellSize(uvw [][3]float64) float64 {
-	umin, umax := math.Inf(1), math.Inf(-1)
-	vmin, vmax := math.Inf(1), math.Inf(-1)
-	for _, p := range uvw {
-		umin, umax = min(umin, p[0]), max(umax, p[0])
-		vmin, vmax = min(vmin, p[1]), max(vmax, p[1])
-	}
+	umin, umax, vmin, vmax := uvBounds(uvw)
 	ext := max(umax-umin, vmax-vmin)
 	area := (umax - umin) * (vmax - vmin)
 	return max(ext/64, math.Sqrt(20*area/float64(len(uvw))))
@@ -843,66 +839,112 @@ type coarseGrid struct {
 	cellOfPt []int32
 }
 
+// newCoarseGrid fits a plane to the points uvw (base coordinates, m) of
+// each coarse cell of edge g (m). Parts of the points find their cells at
+// once; then parts of the cells (bands of whole rows) each sum their own
+// cells' points in point order, and parts of the cells are fitted at once,
+// so every cell's sums are those of a sequential pass.
 func newCoarseGrid(uvw [][3]float64, g float64) *coarseGrid {
-	umin, umax := math.Inf(1), math.Inf(-1)
-	vmin, vmax := math.Inf(1), math.Inf(-1)
-	for _, p := range uvw {
-		umin, umax = min(umin, p[0]), max(umax, p[0])
-		vmin, vmax = min(vmin, p[1]), max(vmax, p[1])
-	}
+	umin, umax, vmin, vmax := uvBounds(uvw)
 	cg := &coarseGrid{g: g, u0: umin, v0: vmin}
 	cg.nu = int((umax-umin)/g) + 1
 	cg.nv = int((vmax-vmin)/g) + 1
 	nc := cg.nu * cg.nv
-	type acc struct{ su, sv, sw, suu, suv, svv, suw, svw, sww float64 }
-	sums := make([]acc, nc)
-	cg.n = make([]int, nc)
 	cg.cellOfPt = make([]int32, len(uvw))
-	for i, p := range uvw {
-		q := cg.cell(p[0], p[1])
-		cg.cellOfPt[i] = int32(q)
-		uc, vc := cg.centre(q)
-		// Offsets in cell units keep the normal equations well scaled.
-		du, dv, w := (p[0]-uc)/g, (p[1]-vc)/g, p[2]
-		s := &sums[q]
-		cg.n[q]++
-		s.su += du
-		s.sv += dv
-		s.sw += w
-		s.suu += du * du
-		s.suv += du * dv
-		s.svv += dv * dv
-		s.suw += du * w
-		s.svw += dv * w
-		s.sww += w * w
-	}
+	parallelRows(len(uvw), func(i0, i1 int) {
+		for i := i0; i < i1; i++ {
+			cg.cellOfPt[i] = int32(cg.cell(uvw[i][0], uvw[i][1]))
+		}
+	})
+	sums := make([]cellSums, nc)
+	cg.n = make([]int, nc)
+	parallel.Do(cg.nv, min(runtime.GOMAXPROCS(0), cg.nv), func(_, j0, j1 int) {
+		q0, q1 := int32(j0*cg.nu), int32(j1*cg.nu)
+		for i, q := range cg.cellOfPt {
+			if q >= q0 && q < q1 {
+				cg.add(&sums[q], int(q), uvw[i])
+			}
+		}
+	})
 	cg.h = make([]float64, nc)
 	cg.a = make([]float64, nc)
 	cg.b = make([]float64, nc)
 	cg.rms = make([]float64, nc)
 	cg.fitted = make([]bool, nc)
-	for q := range nc {
-		cnt := float64(cg.n[q])
-		if cg.n[q] < 6 {
-			continue
+	parallelRows(nc, func(q0, q1 int) {
+		for q := q0; q < q1; q++ {
+			cg.fit(q, &sums[q])
 		}
-		s := sums[q]
-		cuu := s.suu/cnt - (s.su/cnt)*(s.su/cnt)
-		cvv := s.svv/cnt - (s.sv/cnt)*(s.sv/cnt)
-		cuv := s.suv/cnt - (s.su/cnt)*(s.sv/cnt)
-		if cuu < 0.01 || cvv < 0.01 || cuu*cvv-cuv*cuv < 1e-4 {
-			continue
-		}
-		x, ok := solveSmall(3, []float64{cnt, s.su, s.sv, s.su, s.suu, s.suv, s.sv, s.suv, s.svv}, []float64{s.sw, s.suw, s.svw})
-		if !ok {
-			continue
-		}
-		cg.h[q], cg.a[q], cg.b[q] = x[0], x[1]/g, x[2]/g
-		ssr := s.sww - x[0]*s.sw - x[1]*s.suw - x[2]*s.svw
-		cg.rms[q] = math.Sqrt(max(ssr, 0) / cnt)
-		cg.fitted[q] = true
-	}
+	})
 	return cg
+}
+
+// uvBounds returns the smallest and largest u and v of uvw (m); parts of
+// the points at once (a minimum does not depend on the order).
+func uvBounds(uvw [][3]float64) (umin, umax, vmin, vmax float64) {
+	parts := rowParts(len(uvw))
+	b := make([][4]float64, parts)
+	parallel.Do(len(uvw), parts, func(k, i0, i1 int) {
+		umin, umax := math.Inf(1), math.Inf(-1)
+		vmin, vmax := math.Inf(1), math.Inf(-1)
+		for _, p := range uvw[i0:i1] {
+			umin, umax = min(umin, p[0]), max(umax, p[0])
+			vmin, vmax = min(vmin, p[1]), max(vmax, p[1])
+		}
+		b[k] = [4]float64{umin, umax, vmin, vmax}
+	})
+	umin, umax = math.Inf(1), math.Inf(-1)
+	vmin, vmax = math.Inf(1), math.Inf(-1)
+	for _, x := range b {
+		umin, umax = min(umin, x[0]), max(umax, x[1])
+		vmin, vmax = min(vmin, x[2]), max(vmax, x[3])
+	}
+	return umin, umax, vmin, vmax
+}
+
+// cellSums holds the sums of a coarse cell's plane fit: offsets du, dv
+// from the cell centre in cell units, height w (m), and their products.
+type cellSums struct{ su, sv, sw, suu, suv, svv, suw, svw, sww float64 }
+
+// add adds point p (base coordinates, m) of cell q to its sums s.
+func (cg *coarseGrid) add(s *cellSums, q int, p [3]float64) {
+	uc, vc := cg.centre(q)
+	// Offsets in cell units keep the normal equations well scaled.
+	du, dv, w := (p[0]-uc)/cg.g, (p[1]-vc)/cg.g, p[2]
+	cg.n[q]++
+	s.su += du
+	s.sv += dv
+	s.sw += w
+	s.suu += du * du
+	s.suv += du * dv
+	s.svv += dv * dv
+	s.suw += du * w
+	s.svw += dv * w
+	s.sww += w * w
+}
+
+// fit fits cell q's plane from its sums s, when it has at least 6 points
+// spread over both directions.
+func (cg *coarseGrid) fit(q int, s *cellSums) {
+	cnt := float64(cg.n[q])
+	if cg.n[q] < 6 {
+		return
+	}
+	cuu := s.suu/cnt - (s.su/cnt)*(s.su/cnt)
+	cvv := s.svv/cnt - (s.sv/cnt)*(s.sv/cnt)
+	cuv := s.suv/cnt - (s.su/cnt)*(s.sv/cnt)
+	if cuu < 0.01 || cvv < 0.01 || cuu*cvv-cuv*cuv < 1e-4 {
+		return
+	}
+	x, ok := solveSmall(3, []float64{cnt, s.su, s.sv, s.su, s.suu, s.suv, s.sv, s.suv, s.svv}, []float64{s.sw, s.suw, s.svw})
+	if !ok {
+		return
+	}
+	g := cg.g
+	cg.h[q], cg.a[q], cg.b[q] = x[0], x[1]/g, x[2]/g
+	ssr := s.sww - x[0]*s.sw - x[1]*s.suw - x[2]*s.svw
+	cg.rms[q] = math.Sqrt(max(ssr, 0) / cnt)
+	cg.fitted[q] = true
 }
 
 func (cg *coarseGrid) cell(u, v float64) int {

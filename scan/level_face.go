@@ -18,11 +18,37 @@ import (
 // −1 against it, 0 when there are no normals or they do not agree; detail
 // names the evidence (or why it was not used).
 func normalsFace(c *Cloud, f *frame, radius float64) (sign float64, detail string) {
+	sum, n, what := normalsCosines(c, f, radius)
+	if n == 0 {
+		return 0, ""
+	}
+	mean := sum / float64(n)
+	switch {
+	case mean >= 0.5:
+		return -1, what
+	case mean <= -0.5:
+		return 1, what
+	}
+	return 0, fmt.Sprintf("the %s on the base do not point one way (mean cosine %.2f); not used", what, mean)
+}
+
+// normalsCosines returns the sum of the cosines to the frame's normal of
+// the normals on the base (within radius, m, of the frame's axis): facet
+// normals, point normals or facet windings, added in order; how many were
+// added; and what they were (0 and "" when there are none).
+func normalsCosines(c *Cloud, f *frame, radius float64) (sum float64, n int, what string) {
 	r2 := radius * radius
 	inBase := func(p r3.Vec) bool {
 		u, v, _ := f.coords(p)
 		du, dv := u, v
 		return du*du+dv*dv <= r2
+	}
+	// A facet is on the base when its first corner is: the facet cases
+	// mark the points on the base once (a point has some two facets).
+	var onBase []uint64
+	firstOnBase := func(t int) bool {
+		i := c.Triangles[t][0]
+		return onBase[i>>6]>>(i&63)&1 != 0
 	}
 	// cosine is the cosine of direction d to the frame's normal; ok is
 	// false for a zero or non-finite d.
@@ -33,14 +59,12 @@ func normalsFace(c *Cloud, f *frame, radius float64) (sign float64, detail strin
 		}
 		return r3.Dot(d, f.e[2]) / l, true
 	}
-	var sum float64
-	n := 0
-	what := ""
 	switch {
 	case len(c.FacetNormals) != 0 && hasNonZero(c.FacetNormals):
 		what = "facet normals"
+		onBase = baseVertices(c.Points, inBase)
 		sum, n = orderedSum(len(c.Triangles), func(t int) (float64, bool) {
-			if !inBase(c.Points[c.Triangles[t][0]]) {
+			if !firstOnBase(t) {
 				return 0, false
 			}
 			return cosine(c.FacetNormals[t])
@@ -56,28 +80,38 @@ func normalsFace(c *Cloud, f *frame, radius float64) (sign float64, detail strin
 		})
 	case len(c.Triangles) != 0 && strings.HasPrefix(c.Format, "stl"):
 		what = "STL facet winding"
+		onBase = baseVertices(c.Points, inBase)
 		sum, n = orderedSum(len(c.Triangles), func(t int) (float64, bool) {
-			tri := c.Triangles[t]
-			p0 := c.Points[tri[0]]
-			if !inBase(p0) {
+			if !firstOnBase(t) {
 				return 0, false
 			}
+			tri := c.Triangles[t]
+			p0 := c.Points[tri[0]]
 			return cosine(r3.Cross(r3.Sub(c.Points[tri[1]], p0), r3.Sub(c.Points[tri[2]], p0)))
 		})
 	default:
-		return 0, ""
+		return 0, 0, ""
 	}
-	if n == 0 {
-		return 0, ""
-	}
-	mean := sum / float64(n)
-	switch {
-	case mean >= 0.5:
-		return -1, what
-	case mean <= -0.5:
-		return 1, what
-	}
-	return 0, fmt.Sprintf("the %s on the base do not point one way (mean cosine %.2f); not used", what, mean)
+	return sum, n, what
+}
+
+// baseVertices returns the bit set of the points for which inBase holds:
+// bit i%64 of word i/64 for point i. Parts of whole words are marked at
+// once.
+func baseVertices(pts []r3.Vec, inBase func(r3.Vec) bool) []uint64 {
+	bits := make([]uint64, (len(pts)+63)/64)
+	parallelRows(len(bits), func(w0, w1 int) {
+		for w := w0; w < w1; w++ {
+			var word uint64
+			for j, p := range pts[w*64 : min(len(pts), w*64+64)] {
+				if inBase(p) {
+					word |= 1 << j
+				}
+			}
+			bits[w] = word
+		}
+	})
+	return bits
 }
 
 // orderedSum returns the sum of value(i) over the i in [0, n) for which
@@ -133,13 +167,13 @@ func wallFace(pts []r3.Vec, f *frame, radius, dr float64, sc *levelScratch) floa
 	parts := rowParts(nTake)
 	nRim, nOuter, nBases := make([]int, parts), make([]int, parts), make([]int, parts)
 	parallel.Do(nTake, parts, func(k, t0, t1 int) {
-		r, o := t0, t0
+		r, o, nb := t0, t0, 0 // nb is local: parts writing next to each other would share a cache line
 		for t := t0; t < t1; t++ {
 			u, v, w := f.coords(pts[t*step])
 			rr := math.Sqrt(u*u + v*v)
 			switch {
 			case rr <= radius:
-				nBases[k]++
+				nb++
 				if rr >= 0.9*radius {
 					rimW[r] = math.Abs(w)
 					r++
@@ -149,7 +183,7 @@ func wallFace(pts []r3.Vec, f *frame, radius, dr float64, sc *levelScratch) floa
 				o++
 			}
 		}
-		nRim[k], nOuter[k] = r-t0, o-t0
+		nRim[k], nOuter[k], nBases[k] = r-t0, o-t0, nb
 	})
 	rimW = rimW[:packBlocks(rimW, nTake, nRim)[parts]]
 	outer = outer[:packBlocks(outer, nTake, nOuter)[parts]]

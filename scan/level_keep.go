@@ -109,7 +109,9 @@ func (b *baseCut) run(lc *Cloud, idx []int32, reuse bool) dropTally {
 	tallies := make([]dropTally, parts)
 	if reuse {
 		parallel.Do(n, parts, func(k, i0, i1 int) {
-			cnt[k] = b.part(i0, i1, b.pts, b.normals, i0, idx, &tallies[k])
+			var tally dropTally // local: the parts' tallies would share cache lines
+			cnt[k] = b.part(i0, i1, b.pts, b.normals, i0, idx, &tally)
+			tallies[k] = tally
 		})
 		off := packBlocks(b.pts, n, cnt)
 		lc.Points = b.pts[:off[parts]]
@@ -122,7 +124,9 @@ func (b *baseCut) run(lc *Cloud, idx []int32, reuse bool) dropTally {
 		}
 	} else {
 		parallel.Do(n, parts, func(k, i0, i1 int) {
-			cnt[k] = b.part(i0, i1, nil, nil, 0, nil, &tallies[k])
+			var tally dropTally
+			cnt[k] = b.part(i0, i1, nil, nil, 0, nil, &tally)
+			tallies[k] = tally
 		})
 		off := blockOffsets(cnt)
 		lc.Points = hugemem.Make[r3.Vec](off[parts], 0)

@@ -111,29 +111,19 @@ func rimSectors(rho, r0 float64) (ns int, ring float64) {
 // annulusPoints returns the points between radii rlo and rhi (m) about
 // (uc, vc), thinned to some 30 points per bin of r0/400 in 72 sectors,
 // and the point density of the inner disc (radius 0.9 r0) after thinning.
-// Parts of the points are handled at once: each counts its inner and
-// annulus points, then writes its annulus points at its offset, in point
-// order.
+// Parts of the points are handled at once: a first pass counts the inner
+// and annulus points and marks the annulus points in a bit set; each part
+// then counts its marked points of the thinned set and writes them at its
+// offset, in point order.
 func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *levelScratch) *annulus {
-	in2, lo2, hi2 := 0.81*r0*r0, rlo*rlo, rhi*rhi
-	rr := func(p r3.Vec) (du, dv, w, rr float64) {
-		u, v, w := f.coords(p)
-		du, dv = u-uc, v-vc
-		return du, dv, w, du*du + dv*dv
-	}
 	n := len(pts)
-	parts := rowParts(n)
-	nIn, nAnn := make([]int, parts), make([]int, parts)
-	parallel.Do(n, parts, func(k, i0, i1 int) {
-		for _, p := range pts[i0:i1] {
-			_, _, _, r2 := rr(p)
-			if r2 < in2 {
-				nIn[k]++
-			}
-			if r2 >= lo2 && r2 < hi2 {
-				nAnn[k]++
-			}
-		}
+	m := annulusMarks{f: f, uc: uc, vc: vc, in2: 0.81 * r0 * r0, lo2: rlo * rlo, hi2: rhi * rhi, bits: make([]uint64, (n+63)/64)}
+	// The parts cover whole words of the bit set, so that no two write
+	// to the same word.
+	wparts := rowParts(len(m.bits))
+	nIn, nAnn := make([]int, wparts), make([]int, wparts)
+	parallel.Do(len(m.bits), wparts, func(k, w0, w1 int) {
+		nIn[k], nAnn[k] = m.mark(pts, w0, w1)
 	})
 	nInner, nAnnulus := sumInts(nIn), sumInts(nAnn)
 	// Some 30 points per bin of r0/400 in 72 sectors are plenty: thin out
@@ -142,35 +132,154 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *lev
 	a := &annulus{rho: float64(nInner/step) / (math.Pi * 0.81 * r0 * r0)}
 	a.ns, _ = rimSectors(a.rho, r0)
 	nTake := (n + step - 1) / step
-	cnt := nAnn // unthinned, the parts and their counts are those above
-	if step > 1 {
-		parts = rowParts(nTake)
-		cnt = make([]int, parts)
-		parallel.Do(nTake, parts, func(k, t0, t1 int) {
-			for t := t0; t < t1; t++ {
-				if _, _, _, r2 := rr(pts[t*step]); r2 >= lo2 && r2 < hi2 {
-					cnt[k]++
-				}
-			}
-		})
-	}
+	parts := rowParts(nTake)
+	cnt := make([]int, parts)
+	parallel.Do(nTake, parts, func(k, t0, t1 int) {
+		c := 0
+		for t := t0; t < t1; t++ {
+			c += int(m.has(t * step))
+		}
+		cnt[k] = c
+	})
 	off := blockOffsets(cnt)
 	a.r, a.w, a.sec = sc.floats.get(off[parts], 0), sc.floats.get(off[parts], 0), make([]uint8, off[parts])
-	fns := float64(a.ns)
+	sf := newSectorFinder(a.ns)
 	parallel.Do(nTake, parts, func(k, t0, t1 int) {
-		o := off[k]
-		for t := t0; t < t1; t++ {
-			du, dv, w, r2 := rr(pts[t*step])
-			if r2 < lo2 || r2 >= hi2 {
-				continue
-			}
-			th := math.Atan2(dv, du)
-			s := int((th + math.Pi) / (2 * math.Pi) * fns)
-			a.r[o], a.w[o], a.sec[o] = math.Sqrt(r2), w, uint8(min(a.ns-1, max(0, s)))
-			o++
-		}
+		m.fill(a, sf, pts, step, t0, t1, off[k])
 	})
 	return a
+}
+
+// annulusMarks finds the points of an annulus about (uc, vc) in frame f:
+// in2, lo2 and hi2 are the squared radii (m²) of the inner disc and of the
+// annulus's bounds; bit i%64 of bits[i/64] says point i is in the annulus.
+type annulusMarks struct {
+	f             *frame
+	uc, vc        float64
+	in2, lo2, hi2 float64
+	bits          []uint64
+}
+
+// radius2 returns the offsets (m) of p from the centre in the plane, its
+// height (m) and its squared distance from the centre (m²).
+func (m *annulusMarks) radius2(p r3.Vec) (du, dv, w, rr float64) {
+	u, v, w := m.f.coords(p)
+	du, dv = u-m.uc, v-m.vc
+	return du, dv, w, du*du + dv*dv
+}
+
+// mark sets the bits of words [w0, w1) for the points in the annulus and
+// returns how many of those points lie in the inner disc and how many in
+// the annulus.
+func (m *annulusMarks) mark(pts []r3.Vec, w0, w1 int) (inner, ann int) {
+	for w := w0; w < w1; w++ {
+		var word uint64
+		for j, p := range pts[w*64 : min(len(pts), w*64+64)] {
+			_, _, _, r2 := m.radius2(p)
+			if r2 < m.in2 {
+				inner++
+			}
+			if r2 >= m.lo2 && r2 < m.hi2 {
+				ann++
+				word |= 1 << j
+			}
+		}
+		m.bits[w] = word
+	}
+	return inner, ann
+}
+
+// has returns 1 when point i is in the annulus, else 0.
+func (m *annulusMarks) has(i int) uint64 { return m.bits[i>>6] >> (i & 63) & 1 }
+
+// fill writes the annulus points among pts[t·step] for t in [t0, t1) to
+// a's radii (m), heights (m) and sectors (sf's, a.ns of them) from index
+// o on, in point order.
+func (m *annulusMarks) fill(a *annulus, sf *sectorFinder, pts []r3.Vec, step, t0, t1, o int) {
+	for t := t0; t < t1; t++ {
+		if m.has(t*step) == 0 {
+			continue
+		}
+		du, dv, w, r2 := m.radius2(pts[t*step])
+		a.r[o], a.w[o], a.sec[o] = math.Sqrt(r2), w, uint8(sf.sector(du, dv))
+		o++
+	}
+}
+
+// sectorFinder finds the angular sector of a direction (du, dv) among ns
+// sectors of equal angle, the first starting at −π: the sector
+// int((atan2(dv, du) + π)/(2π)·ns), clamped to [0, ns). Directions clear
+// of the sector boundaries take it from a table of pseudo-angles, which
+// needs no arctangent; those near a boundary are computed as written, so
+// the result is the same to the last case.
+type sectorFinder struct {
+	ns   int
+	cell []int8 // sector per pseudo-angle cell; −1 near a boundary
+}
+
+// sectorCells is the number of pseudo-angle cells of a sectorFinder over
+// the pseudo-angle range [−2, 2]; sectorMargin is the pseudo-angle width
+// kept clear of each boundary (about as many radians; rounding errors in
+// the arctangent and the pseudo-angle are some 10⁻¹⁵).
+const (
+	sectorCells  = 8192
+	sectorMargin = 1e-6
+)
+
+// newSectorFinder returns the finder for ns sectors (at most 127).
+func newSectorFinder(ns int) *sectorFinder {
+	sf := &sectorFinder{ns: ns, cell: make([]int8, sectorCells)}
+	const scale = sectorCells / 4
+	bound := make([]float64, ns+1) // pseudo-angles of the boundaries
+	bound[0], bound[ns] = -2, 2
+	for j := 1; j < ns; j++ {
+		phi := -math.Pi + 2*math.Pi*float64(j)/float64(ns)
+		bound[j] = pseudoAngle(math.Cos(phi), math.Sin(phi))
+	}
+	s := 0
+	for c := range sf.cell {
+		mid := -2 + (float64(c)+0.5)/scale
+		for s < ns-1 && bound[s+1] < mid {
+			s++
+		}
+		sf.cell[c] = int8(s)
+	}
+	for _, b := range bound {
+		lo := max(0, int((b-sectorMargin+2)*scale))
+		hi := min(sectorCells-1, int((b+sectorMargin+2)*scale))
+		for c := lo; c <= hi; c++ {
+			sf.cell[c] = -1
+		}
+	}
+	return sf
+}
+
+// pseudoAngle returns a number in [−2, 2] that grows with the angle
+// atan2(y, x) over (−π, π] (the "diamond angle": the distance along the
+// diamond |x| + |y| = 1), for (x, y) not both zero.
+func pseudoAngle(x, y float64) float64 {
+	switch {
+	case y >= 0 && x >= 0:
+		return y / (x + y)
+	case y >= 0:
+		return 1 - x/(y-x)
+	case x < 0:
+		return -1 + x/(-x-y)
+	}
+	return y / (x - y)
+}
+
+// sector returns the sector of direction (du, dv).
+func (sf *sectorFinder) sector(du, dv float64) int {
+	if du != 0 || dv != 0 {
+		c := int((pseudoAngle(du, dv) + 2) * (sectorCells / 4))
+		if s := sf.cell[min(sectorCells-1, max(0, c))]; s >= 0 {
+			return int(s)
+		}
+	}
+	th := math.Atan2(dv, du)
+	s := int((th + math.Pi) / (2 * math.Pi) * float64(sf.ns))
+	return min(sf.ns-1, max(0, s))
 }
 
 // sumInts returns the sum of a.
@@ -187,11 +296,12 @@ func sumInts(a []int) int {
 // angular sectors and radial bins. The sector count follows the point
 // density; the bins are widened while more than a fifth of the inner ones
 // (0.6–0.9 r0) are empty (structured meshes and scan lines leave regular
-// gaps). The annulus's scratch goes back to sc, and rb.ws comes from it.
+// gaps). The annulus's scratch goes back to sc, and rb.ws comes from it
+// (the buffer of the annulus radii, once the bins' mean radii are taken).
 func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*rimBins, error) {
 	rlo, rhi := 0.55*r0, max(1.35*r0, min(3*r0, 1.02*rq))
 	a := annulusPoints(pts, f, uc, vc, r0, rlo, rhi, sc)
-	defer sc.floats.put(a.r, a.w)
+	defer func() { sc.floats.put(a.r, a.w) }()
 	ns, ring := rimSectors(a.rho, r0)
 	dr := max(r0/400, 20*float64(ns)/ring)
 	var nb int
@@ -207,15 +317,20 @@ func binRim(pts []r3.Vec, f *frame, uc, vc, r0, rq float64, sc *levelScratch) (*
 		}
 		dr *= 1.5
 	}
-	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr, ws: sc.floats.get(len(a.r), 0)}
+	rb := &rimBins{ns: ns, nb: nb, rlo: rlo, dr: dr}
 	var order []int32
 	order, rb.start = sortByCell(bins, ns*nb)
+	rb.mean = a.binMeans(bins, rb)
+	// The radii are done with: their buffer (memory already touched)
+	// takes the heights in bin order.
+	sc.floats.put(a.r)
+	a.r = nil
+	rb.ws = sc.floats.get(len(a.w), 0)
 	parallelRows(len(order), func(k0, k1 int) {
 		for k := k0; k < k1; k++ {
 			rb.ws[k] = a.w[order[k]]
 		}
 	})
-	rb.mean = a.binMeans(bins, rb)
 	return rb, nil
 }
 
