@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"runtime"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/spatial/r3"
@@ -842,8 +841,9 @@ type coarseGrid struct {
 // newCoarseGrid fits a plane to the points uvw (base coordinates, m) of
 // each coarse cell of edge g (m). Parts of the points find their cells at
 // once; then parts of the cells (bands of whole rows) each sum their own
-// cells' points in point order, and parts of the cells are fitted at once,
-// so every cell's sums are those of a sequential pass.
+// cells' points in point order (each part reads every point's cell, to
+// keep that order), and parts of the cells are fitted at once, so every
+// cell's sums are those of a sequential pass.
 func newCoarseGrid(uvw [][3]float64, g float64) *coarseGrid {
 	umin, umax, vmin, vmax := uvBounds(uvw)
 	cg := &coarseGrid{g: g, u0: umin, v0: vmin}
@@ -858,7 +858,7 @@ func newCoarseGrid(uvw [][3]float64, g float64) *coarseGrid {
 	})
 	sums := make([]cellSums, nc)
 	cg.n = make([]int, nc)
-	parallel.Do(cg.nv, min(runtime.GOMAXPROCS(0), cg.nv), func(_, j0, j1 int) {
+	parallelRows(cg.nv, func(j0, j1 int) {
 		q0, q1 := int32(j0*cg.nu), int32(j1*cg.nu)
 		for i, q := range cg.cellOfPt {
 			if q >= q0 && q < q1 {

@@ -45,10 +45,10 @@ func normalsCosines(c *Cloud, f *frame, radius float64) (sum float64, n int, wha
 	}
 	// A facet is on the base when its first corner is: the facet cases
 	// mark the points on the base once (a point has some two facets).
-	var onBase []uint64
+	var onBase pointBits
 	firstOnBase := func(t int) bool {
 		i := c.Triangles[t][0]
-		return onBase[i>>6]>>(i&63)&1 != 0
+		return onBase.bit(int(i)) != 0
 	}
 	// cosine is the cosine of direction d to the frame's normal; ok is
 	// false for a zero or non-finite d.
@@ -98,8 +98,8 @@ func normalsCosines(c *Cloud, f *frame, radius float64) (sum float64, n int, wha
 // baseVertices returns the bit set of the points for which inBase holds:
 // bit i%64 of word i/64 for point i. Parts of whole words are marked at
 // once.
-func baseVertices(pts []r3.Vec, inBase func(r3.Vec) bool) []uint64 {
-	bits := make([]uint64, (len(pts)+63)/64)
+func baseVertices(pts []r3.Vec, inBase func(r3.Vec) bool) pointBits {
+	bits := newPointBits(len(pts))
 	parallelRows(len(bits), func(w0, w1 int) {
 		for w := w0; w < w1; w++ {
 			var word uint64

@@ -277,59 +277,6 @@ func coarseGridDiff(a, b *coarseGrid) string {
 	return ""
 }
 
-// TestSectorFinderMatchesAtan2 checks sectorFinder.sector against the
-// arctangent formula it replaces, for every sector count the rim search
-// uses: on random directions, on the sector boundaries and a few units in
-// the last place either side of them, and on the axes with either sign
-// of zero.
-func TestSectorFinderMatchesAtan2(t *testing.T) {
-	rng := rand.New(rand.NewPCG(5, 6))
-	for ns := 24; ns <= 72; ns++ {
-		sf := newSectorFinder(ns)
-		want := func(du, dv float64) int {
-			th := math.Atan2(dv, du)
-			s := int((th + math.Pi) / (2 * math.Pi) * float64(ns))
-			return min(ns-1, max(0, s))
-		}
-		check := func(du, dv float64) {
-			if got, w := sf.sector(du, dv), want(du, dv); got != w {
-				t.Fatalf("%d sectors: sector(%v, %v) = %d, want %d", ns, du, dv, got, w)
-			}
-		}
-		for range 20000 {
-			r := math.Exp(rng.NormFloat64() * 5)
-			th := 2 * math.Pi * rng.Float64()
-			check(r*math.Cos(th), r*math.Sin(th))
-		}
-		for j := 0; j <= ns; j++ {
-			phi := -math.Pi + 2*math.Pi*float64(j)/float64(ns)
-			for _, r := range []float64{1e-9, 0.1, 3} {
-				x, y := r*math.Cos(phi), r*math.Sin(phi)
-				for _, dx := range []float64{-2, -1, 0, 1, 2} {
-					for _, dy := range []float64{-2, -1, 0, 1, 2} {
-						check(nudge(x, dx), nudge(y, dy))
-					}
-				}
-			}
-		}
-		z := math.Copysign(0, -1)
-		for _, d := range [][2]float64{{0, 0}, {z, 0}, {0, z}, {z, z}, {1, 0}, {1, z}, {-1, 0}, {-1, z}, {0, 1}, {z, 1}, {0, -1}, {z, -1}} {
-			check(d[0], d[1])
-		}
-	}
-}
-
-// nudge moves x by k units in the last place.
-func nudge(x, k float64) float64 {
-	for ; k > 0; k-- {
-		x = math.Nextafter(x, math.Inf(1))
-	}
-	for ; k < 0; k++ {
-		x = math.Nextafter(x, math.Inf(-1))
-	}
-	return x
-}
-
 // normalsFaceRef is normalsFace as it was: it tells the outer face from facet normals, point normals or,
 // for STL meshes without facet normals, the facet winding (counter-
 // clockwise seen from outside): the outer face's normals point to the hob,

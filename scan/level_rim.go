@@ -117,7 +117,7 @@ func rimSectors(rho, r0 float64) (ns int, ring float64) {
 // offset, in point order.
 func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *levelScratch) *annulus {
 	n := len(pts)
-	m := annulusMarks{f: f, uc: uc, vc: vc, in2: 0.81 * r0 * r0, lo2: rlo * rlo, hi2: rhi * rhi, bits: make([]uint64, (n+63)/64)}
+	m := annulusMarks{f: f, uc: uc, vc: vc, in2: 0.81 * r0 * r0, lo2: rlo * rlo, hi2: rhi * rhi, bits: newPointBits(n)}
 	// The parts cover whole words of the bit set, so that no two write
 	// to the same word.
 	wparts := rowParts(len(m.bits))
@@ -143,9 +143,8 @@ func annulusPoints(pts []r3.Vec, f *frame, uc, vc, r0, rlo, rhi float64, sc *lev
 	})
 	off := blockOffsets(cnt)
 	a.r, a.w, a.sec = sc.floats.get(off[parts], 0), sc.floats.get(off[parts], 0), make([]uint8, off[parts])
-	sf := newSectorFinder(a.ns)
 	parallel.Do(nTake, parts, func(k, t0, t1 int) {
-		m.fill(a, sf, pts, step, t0, t1, off[k])
+		m.fill(a, pts, step, t0, t1, off[k])
 	})
 	return a
 }
@@ -157,7 +156,7 @@ type annulusMarks struct {
 	f             *frame
 	uc, vc        float64
 	in2, lo2, hi2 float64
-	bits          []uint64
+	bits          pointBits
 }
 
 // radius2 returns the offsets (m) of p from the centre in the plane, its
@@ -190,97 +189,34 @@ func (m *annulusMarks) mark(pts []r3.Vec, w0, w1 int) (inner, ann int) {
 }
 
 // has returns 1 when point i is in the annulus, else 0.
-func (m *annulusMarks) has(i int) uint64 { return m.bits[i>>6] >> (i & 63) & 1 }
+func (m *annulusMarks) has(i int) uint64 { return m.bits.bit(i) }
 
 // fill writes the annulus points among pts[t·step] for t in [t0, t1) to
-// a's radii (m), heights (m) and sectors (sf's, a.ns of them) from index
-// o on, in point order.
-func (m *annulusMarks) fill(a *annulus, sf *sectorFinder, pts []r3.Vec, step, t0, t1, o int) {
+// a's radii (m), heights (m) and angular sectors (a.ns of equal angle,
+// the first starting at −π) from index o on, in point order.
+func (m *annulusMarks) fill(a *annulus, pts []r3.Vec, step, t0, t1, o int) {
+	fns := float64(a.ns)
 	for t := t0; t < t1; t++ {
 		if m.has(t*step) == 0 {
 			continue
 		}
 		du, dv, w, r2 := m.radius2(pts[t*step])
-		a.r[o], a.w[o], a.sec[o] = math.Sqrt(r2), w, uint8(sf.sector(du, dv))
+		th := math.Atan2(dv, du)
+		s := int((th + math.Pi) / (2 * math.Pi) * fns)
+		a.r[o], a.w[o], a.sec[o] = math.Sqrt(r2), w, uint8(min(a.ns-1, max(0, s)))
 		o++
 	}
 }
 
-// sectorFinder finds the angular sector of a direction (du, dv) among ns
-// sectors of equal angle, the first starting at −π: the sector
-// int((atan2(dv, du) + π)/(2π)·ns), clamped to [0, ns). Directions clear
-// of the sector boundaries take it from a table of pseudo-angles, which
-// needs no arctangent; those near a boundary are computed as written, so
-// the result is the same to the last case.
-type sectorFinder struct {
-	ns   int
-	cell []int8 // sector per pseudo-angle cell; −1 near a boundary
-}
+// pointBits is a set of point indices: bit i%64 of word i/64 for point i.
+// Parts that write whole words never share one.
+type pointBits []uint64
 
-// sectorCells is the number of pseudo-angle cells of a sectorFinder over
-// the pseudo-angle range [−2, 2]; sectorMargin is the pseudo-angle width
-// kept clear of each boundary (about as many radians; rounding errors in
-// the arctangent and the pseudo-angle are some 10⁻¹⁵).
-const (
-	sectorCells  = 8192
-	sectorMargin = 1e-6
-)
+// newPointBits returns an empty set for n points.
+func newPointBits(n int) pointBits { return make(pointBits, (n+63)/64) }
 
-// newSectorFinder returns the finder for ns sectors (at most 127).
-func newSectorFinder(ns int) *sectorFinder {
-	sf := &sectorFinder{ns: ns, cell: make([]int8, sectorCells)}
-	const scale = sectorCells / 4
-	bound := make([]float64, ns+1) // pseudo-angles of the boundaries
-	bound[0], bound[ns] = -2, 2
-	for j := 1; j < ns; j++ {
-		phi := -math.Pi + 2*math.Pi*float64(j)/float64(ns)
-		bound[j] = pseudoAngle(math.Cos(phi), math.Sin(phi))
-	}
-	s := 0
-	for c := range sf.cell {
-		mid := -2 + (float64(c)+0.5)/scale
-		for s < ns-1 && bound[s+1] < mid {
-			s++
-		}
-		sf.cell[c] = int8(s)
-	}
-	for _, b := range bound {
-		lo := max(0, int((b-sectorMargin+2)*scale))
-		hi := min(sectorCells-1, int((b+sectorMargin+2)*scale))
-		for c := lo; c <= hi; c++ {
-			sf.cell[c] = -1
-		}
-	}
-	return sf
-}
-
-// pseudoAngle returns a number in [−2, 2] that grows with the angle
-// atan2(y, x) over (−π, π] (the "diamond angle": the distance along the
-// diamond |x| + |y| = 1), for (x, y) not both zero.
-func pseudoAngle(x, y float64) float64 {
-	switch {
-	case y >= 0 && x >= 0:
-		return y / (x + y)
-	case y >= 0:
-		return 1 - x/(y-x)
-	case x < 0:
-		return -1 + x/(-x-y)
-	}
-	return y / (x - y)
-}
-
-// sector returns the sector of direction (du, dv).
-func (sf *sectorFinder) sector(du, dv float64) int {
-	if du != 0 || dv != 0 {
-		c := int((pseudoAngle(du, dv) + 2) * (sectorCells / 4))
-		if s := sf.cell[min(sectorCells-1, max(0, c))]; s >= 0 {
-			return int(s)
-		}
-	}
-	th := math.Atan2(dv, du)
-	s := int((th + math.Pi) / (2 * math.Pi) * float64(sf.ns))
-	return min(sf.ns-1, max(0, s))
-}
+// bit returns 1 when point i is in the set, else 0.
+func (b pointBits) bit(i int) uint64 { return b[i>>6] >> (i & 63) & 1 }
 
 // sumInts returns the sum of a.
 func sumInts(a []int) int {
