@@ -38,11 +38,15 @@ func writeReportHTML(dir string, res *Result, pics map[string][]byte) error {
 // zero ("0.000", not "-0.000").
 func num(v float64, prec int) string {
 	s := strconv.FormatFloat(v, 'f', prec, 64)
-	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
+	if strings.HasPrefix(s, "-") && zeroDigits(s[1:]) {
 		return s[1:]
 	}
 	return s
 }
+
+// zeroDigits reports whether the unsigned decimal s reads zero ("0",
+// "0.000").
+func zeroDigits(s string) bool { return strings.Trim(s, "0.") == "" }
 
 // scanPageView fills the report page of one scan; pics holds the SVG
 // pictures by name (gap, flux, rings).

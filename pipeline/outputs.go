@@ -325,7 +325,7 @@ func writeHeatSummary(b *strings.Builder, h *HeatReport) {
 // num does the rounding.
 func signedFixed(v float64, prec int) string {
 	s := num(v, prec)
-	if !strings.HasPrefix(s, "-") && strings.Trim(s, "0.") != "" {
+	if !strings.HasPrefix(s, "-") && !zeroDigits(s) {
 		return "+" + s
 	}
 	return s

@@ -751,7 +751,7 @@ func (rc *ringChart) write(w io.Writer, format string) error {
 // measured width: a browser without the chart's font (Liberation Serif)
 // draws the SVG's text in a wider one, and "heating zone edge" was cut
 // at the picture's edge in report.html (seen in Chromium with DejaVu
-// Sans, about 15 % wider).
+// Sans; wider by some 15 %, our estimate from the screenshot).
 const legendSlack = 1.25
 
 // layout returns the panels' canvases and their legends' canvases: the
