@@ -747,13 +747,6 @@ func (rc *ringChart) write(w io.Writer, format string) error {
 	return err
 }
 
-// legendSlack widens the ring chart's legend column beyond the legends'
-// measured width: a browser without the chart's font (Liberation Serif)
-// draws the SVG's text in a wider one, and "heating zone edge" was cut
-// at the picture's edge in report.html (seen in Chromium with DejaVu
-// Sans; wider by some 15 %, our estimate from the screenshot).
-const legendSlack = 1.25
-
 // layout returns the panels' canvases and their legends' canvases: the
 // legends sit in a column right of the panels, level with each panel's
 // data area, so they never cover a curve.
@@ -762,7 +755,7 @@ func (rc *ringChart) layout(dc draw.Canvas) (plots, legends [2]draw.Canvas) {
 		PadRight: vg.Points(8), PadY: vg.Points(10)}
 	var lw vg.Length
 	for k := range rc.legends {
-		lw = max(lw, legendSlack*rc.legends[k].Rectangle(dc).Size().X)
+		lw = max(lw, rc.legends[k].Rectangle(dc).Size().X)
 	}
 	left := draw.Crop(dc, 0, -(lw + vg.Points(8)), 0, 0)
 	cs := plot.Align([][]*plot.Plot{{rc.panels[0]}, {rc.panels[1]}}, tiles, left)
