@@ -44,6 +44,16 @@ func num(v float64, prec int) string {
 	return s
 }
 
+// numRange prints the range lo to hi with prec decimals as num does, or
+// one figure when both ends print the same ("121", not "121 to 121").
+func numRange(lo, hi float64, prec int) string {
+	a, b := num(lo, prec), num(hi, prec)
+	if a == b {
+		return a
+	}
+	return a + " to " + b
+}
+
 // zeroDigits reports whether the unsigned decimal s reads zero ("0",
 // "0.000").
 func zeroDigits(s string) bool { return strings.Trim(s, "0.") == "" }
@@ -205,7 +215,7 @@ func figureSections(rep *Report, t ToleranceJob) []html.Section {
 			{Label: "heating power lost", Value: num(h.LossPct, 1), Unit: "%", Note: "limit " + num(t.LossMaxPct, 1) + " %", Flag: h.LossPct > t.LossMaxPct},
 			{Label: "mean flux", Value: num(h.MeanFluxKWM2, 1), Unit: "kW/m²", Note: "flat twin " + num(h.FlatMeanFluxKWM2, 1) + " kW/m²"},
 			{Label: "across the gap: gas / radiation", Value: num(h.GasPct, 1) + " / " + num(h.RadiationPct, 1), Unit: "%"},
-			{Label: "base temperature", Value: num(h.BaseMinC, 0) + " to " + num(h.BaseMaxC, 0), Unit: "°C", Note: h.Mode + " mode, water at " + num(h.WaterC, 0) + " °C"},
+			{Label: "base temperature", Value: numRange(h.BaseMinC, h.BaseMaxC, 0), Unit: "°C", Note: h.Mode + " mode, water at " + num(h.WaterC, 0) + " °C"},
 		}
 		if h.GlassMaxC != nil && h.FlatGlassMaxC != nil {
 			fs = append(fs, F{Label: "glass top, hottest", Value: num(*h.GlassMaxC, 0), Unit: "°C", Note: "flat twin " + num(*h.FlatGlassMaxC, 0) + " °C"})

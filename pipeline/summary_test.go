@@ -113,6 +113,28 @@ func TestNumRoundsLikeFmt(t *testing.T) {
 	}
 }
 
+// TestNumRange: a range whose ends print alike is one figure (a report's
+// base temperature read "121 to 121 °C"); otherwise both ends, each
+// rounded as num rounds (so 120.5 and 121.5 print 120 and 122).
+func TestNumRange(t *testing.T) {
+	tests := []struct {
+		lo, hi float64
+		prec   int
+		want   string
+	}{
+		{120.6, 121.4, 0, "121"},
+		{117.2, 118.4, 0, "117 to 118"},
+		{120.5, 121.5, 0, "120 to 122"}, // halves to even, as num
+		{-0.0004, 0.0004, 3, "0.000"},   // no "-0.000 to 0.000"
+		{-0.25, 0.25, 2, "-0.25 to 0.25"},
+	}
+	for _, tt := range tests {
+		if got := numRange(tt.lo, tt.hi, tt.prec); got != tt.want {
+			t.Errorf("numRange(%v, %v, %d) = %q, want %q", tt.lo, tt.hi, tt.prec, got, tt.want)
+		}
+	}
+}
+
 // TestSummaryAndVerdictAgree checks that the summary's concavity and the
 // verdict's reason print the same digits for a stored value ending in a
 // halfway digit (found on a steep cone: "-1.769" above "-1.768").
