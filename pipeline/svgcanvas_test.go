@@ -3,23 +3,13 @@ package pipeline
 import (
 	"bytes"
 	"encoding/base64"
-	"errors"
-	"html"
 	"image"
 	"image/color"
 	"image/png"
-	"math"
 	"reflect"
 	"regexp"
-	"strconv"
-	"strings"
 	"testing"
-	"unicode/utf8"
 
-	"codeberg.org/go-fonts/liberation/liberationserifregular"
-	xfont "golang.org/x/image/font"
-	"golang.org/x/image/font/sfnt"
-	"golang.org/x/image/math/fixed"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/vgsvg"
 )
@@ -199,28 +189,20 @@ func BenchmarkEmbedRaster(b *testing.B) {
 // element.
 var svgTextLengthAttr = regexp.MustCompile(` textLength="[^"]*" lengthAdjust="spacingAndGlyphs"`)
 
-// svgText matches a text element as vgsvg writes it, with the text length
-// fastSVGCanvas may add: the length, the style and the escaped string.
-var svgText = regexp.MustCompile(`<text(?: textLength="([^"]*)" lengthAdjust="spacingAndGlyphs")? x="[^"]*" y="[^"]*" transform="[^"]*"\s*style="([^"]*)">([^<]*)</text>`)
+// svgTextElem matches a text element as vgsvg writes it, with the text
+// length svgfit may add: the length and the escaped string.
+var svgTextElem = regexp.MustCompile(`<text(?: textLength="([^"]*)" lengthAdjust="spacingAndGlyphs")? x="[^"]*" y="[^"]*" transform="[^"]*"\s*style="[^"]*">([^<]*)</text>`)
 
-// TestSVGTextLengths: every text element of a map's and a ring chart's
-// SVG carries, as textLength, the width its string has in the layout's
-// font at its size, so that a reader drawing it in another font fits it
-// into the same room (an empty string carries none). The reference width
-// is read from the font file by golang.org/x/image v0.30.0's sfnt
-// package (fontWidth), code apart from gonum/plot's; the tolerance is its
-// 1/64 pt steps per character plus the 5 significant digits written.
-func TestSVGTextLengths(t *testing.T) {
-	ttf, err := sfnt.Parse(liberationserifregular.TTF)
-	if err != nil {
-		t.Fatal(err)
-	}
+// TestPicturesFitText: every text element of a map's and a ring chart's
+// SVG carries a text length (svgfit; its tests check the widths against
+// the font file), so that a reader without the pictures' font keeps the
+// layout (a legend ran off the ring chart in Chromium on Debian).
+func TestPicturesFitText(t *testing.T) {
 	var rings []RingReport
 	for k := range 20 {
 		r := float64(k) * 5
 		rings = append(rings, RingReport{RInMM: r, ROutMM: r + 5, FluxKWM2: 60 - 3*float64(k), FlatFluxKWM2: 70, MeanGapMM: 0.02 * float64(k), MaxGapMM: 0.5})
 	}
-	fontSize := regexp.MustCompile(`font-size:([0-9.]+)px`)
 	docs := map[string]func(w *bytes.Buffer) error{
 		"map": func(w *bytes.Buffer) error { return WriteMap(w, fullMapSpec(), "svg") },
 		"ring chart": func(w *bytes.Buffer) error {
@@ -233,67 +215,15 @@ func TestSVGTextLengths(t *testing.T) {
 			if err := write(&doc); err != nil {
 				t.Fatal(err)
 			}
-			elems := svgText.FindAllSubmatch(doc.Bytes(), -1)
+			elems := svgTextElem.FindAllSubmatch(doc.Bytes(), -1)
 			if n := bytes.Count(doc.Bytes(), []byte("<text")); n != len(elems) || n < 5 {
 				t.Fatalf("%d text elements matched of %d (want all, at least 5)", len(elems), n)
 			}
 			for _, e := range elems {
-				str, style := html.UnescapeString(string(e[3])), string(e[2])
-				if !strings.Contains(style, "font-family:Liberation Serif;font-variant:normal;font-weight:normal;font-style:normal") {
-					t.Fatalf("%q: style %q, want Liberation Serif regular (the test's reference font)", str, style)
-				}
-				if str == "" {
-					if len(e[1]) != 0 {
-						t.Errorf("empty string with textLength %q", e[1])
-					}
-					continue
-				}
-				size, err := strconv.ParseFloat(fontSize.FindStringSubmatch(style)[1], 64)
-				if err != nil {
-					t.Fatal(err)
-				}
-				want := fontWidth(t, ttf, size, str)
-				got, err := strconv.ParseFloat(string(e[1]), 64)
-				if err != nil {
-					t.Fatalf("%q: textLength %q: %v", str, e[1], err)
-				}
-				if tol := float64(utf8.RuneCountInString(str))/64 + 1e-4*want; math.Abs(got-want) > tol {
-					t.Errorf("%q at %g px: textLength %g pt, the font's width %g pt (tolerance %.3g)", str, size, got, want, tol)
+				if len(e[2]) > 0 && len(e[1]) == 0 {
+					t.Errorf("text %q has no text length", e[2])
 				}
 			}
 		})
 	}
-}
-
-// fontWidth returns the width, pt, of str set in f at size pt: the sum of
-// its glyphs' advances and of the kern table's adjustments between
-// neighbours, each in 1/64 pt at that size, without hinting. (Not
-// through opentype.Face: its Kern, in x/image v0.30.0, gives the pair's
-// adjustment at 32 pixels per em whatever the face's size.)
-func fontWidth(t *testing.T, f *sfnt.Font, size float64, str string) float64 {
-	t.Helper()
-	var buf sfnt.Buffer
-	ppem := fixed.Int26_6(math.Round(size * 64))
-	var w fixed.Int26_6
-	prev := sfnt.GlyphIndex(0)
-	for k, r := range []rune(str) {
-		g, err := f.GlyphIndex(&buf, r)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if k > 0 {
-			kern, err := f.Kern(&buf, prev, g, ppem, xfont.HintingNone)
-			if err != nil && !errors.Is(err, sfnt.ErrNotFound) {
-				t.Fatal(err)
-			}
-			w += kern
-		}
-		adv, err := f.GlyphAdvance(&buf, g, ppem, xfont.HintingNone)
-		if err != nil {
-			t.Fatal(err)
-		}
-		w += adv
-		prev = g
-	}
-	return float64(w) / 64
 }

@@ -3,7 +3,6 @@ package repeat
 import (
 	"bytes"
 	"fmt"
-	"gapflux/internal/ticks"
 	"image/color"
 	"math"
 
@@ -12,7 +11,9 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
-	"gonum.org/v1/plot/vg/vgsvg"
+
+	"gapflux/internal/ticks"
+	"gapflux/pipeline/svgfit"
 )
 
 // Ink: results dark grey, their intervals lighter, the mean black and the
@@ -61,7 +62,7 @@ func (st *Study) Picture(format string) ([]byte, error) {
 	var c vg.CanvasWriterTo
 	switch format {
 	case "svg":
-		c = vgsvg.NewWith(vgsvg.UseWH(pictureW, h))
+		c = svgfit.New(pictureW, h)
 	case "png":
 		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(pictureW, h), vgimg.UseDPI(pictureDPI))}
 	default:

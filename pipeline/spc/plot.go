@@ -2,18 +2,21 @@ package spc
 
 import (
 	"fmt"
-	"gapflux/internal/ticks"
 	"image/color"
 	"io"
 	"math"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
-	"gonum.org/v1/plot/vg/vgsvg"
+
+	"gapflux/internal/ticks"
+	"gapflux/pipeline/svgfit"
 )
 
 // Labels name what a chart shows.
@@ -67,7 +70,7 @@ func (c *Chart) Write(w io.Writer, format string, l Labels) error {
 	case "png":
 		cw = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(pictureW, pictureH), vgimg.UseDPI(pictureDPI))}
 	case "svg":
-		cw = vgsvg.NewWith(vgsvg.UseWH(pictureW, pictureH))
+		cw = svgfit.New(pictureW, pictureH)
 	default:
 		return fmt.Errorf("picture format %q: want png or svg", format)
 	}
@@ -97,13 +100,15 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 		p.Title.Text += fmt.Sprintf(" (provisional limits: %d points)", c.Baseline)
 	}
 	p.Y.Label.Text = l.Unit
-	p.X.Label.Text = fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline; squares: out of control by Western Electric rules 1-4", c.Baseline)
+	parts := []string{fmt.Sprintf("point, in the order measured (dotted: end of the %d-point baseline", c.Baseline),
+		"squares: out of control by Western Electric rules 1-4"}
 	marked := markedOf(l.Mark, c.Values, 0)
 	if len(marked) > 0 {
-		p.X.Label.Text += "; rings: " + l.markName()
+		parts = append(parts, "rings: "+l.markName())
 	}
-	p.X.Label.Text += ")"
+	parts[len(parts)-1] += ")"
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
+	p.X.Label.Text = wrapLabel(parts, p.X.Label.TextStyle)
 	p.X.Tick.Marker, p.Y.Tick.Marker = intTicks{}, ticks.Distinct{}
 	n := len(c.Values)
 	lo, hi := c.LCL, c.UCL
@@ -139,6 +144,27 @@ func (c *Chart) individualsPanel(l Labels) (*plot.Plot, error) {
 	return p, addSignals(p, flagged)
 }
 
+// labelWidth is the widest an axis label's line may be: the picture less
+// an inch for the value axis, its label and the margins, so that a label
+// centred under the data area stays within the picture (a one-line label
+// ran past its right edge).
+const labelWidth = pictureW - vg.Inch
+
+// wrapLabel joins parts with "; " into lines no wider than labelWidth in
+// style sty, breaking only between parts (a part wider than that stands
+// on a line of its own).
+func wrapLabel(parts []string, sty text.Style) string {
+	var lines []string
+	for _, part := range parts {
+		if n := len(lines); n > 0 && sty.Width(lines[n-1]+"; "+part) <= labelWidth {
+			lines[n-1] += "; " + part
+			continue
+		}
+		lines = append(lines, part)
+	}
+	return strings.Join(lines, "\n")
+}
+
 // markName is what the axis labels call the marked points.
 func (l Labels) markName() string {
 	if l.MarkName == "" {
@@ -151,13 +177,14 @@ func (c *Chart) rangePanel(l Labels) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = "moving range"
 	p.Y.Label.Text = "moving range"
-	p.X.Label.Text = "point (squares: moving range above D4 x mean moving range"
+	parts := []string{"point (squares: moving range above D4 x mean moving range"}
 	marked := markedOf(l.Mark, c.MR, 1)
 	if len(marked) > 0 {
-		p.X.Label.Text += "; rings: moving ranges ending at " + l.markName()
+		parts = append(parts, "rings: moving ranges ending at "+l.markName())
 	}
-	p.X.Label.Text += "; lower limit 0)"
+	parts = append(parts, "lower limit 0)")
 	p.X.Label.TextStyle.Font.Size = vg.Points(8)
+	p.X.Label.Text = wrapLabel(parts, p.X.Label.TextStyle)
 	p.X.Tick.Marker, p.Y.Tick.Marker = intTicks{}, ticks.Distinct{}
 	n := len(c.Values)
 	hi := c.MRUCL

@@ -10,6 +10,9 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/vg"
 )
 
 // alternating returns n points 10.5, 9.5, 10.5, ...: mean 10, every moving
@@ -323,6 +326,54 @@ func TestWriteMarks(t *testing.T) {
 				t.Errorf("moving-range axis label names the rings: %v, want %v", got, tc.mrRings > 0)
 			}
 		})
+	}
+}
+
+// TestAxisLabelsFit: the axis labels below both panels, with and without
+// the rings' part, break between their parts into lines that fit the
+// picture less an inch (the individuals' label with its rings' part, 150
+// characters, ran past the picture's right edge in index.html), keep
+// every part, and every text of the SVG carries its width (svgfit).
+func TestAxisLabelsFit(t *testing.T) {
+	c, err := Individuals(append(alternating(20), 13), 20)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, mark := range [][]bool{nil, append(make([]bool, 20), true)} {
+		l := Labels{Title: "part P", Unit: "loss_pct (%)", Mark: mark, MarkName: "this batch's points"}
+		top, err := c.individualsPanel(l)
+		if err != nil {
+			t.Fatal(err)
+		}
+		bottom, err := c.rangePanel(l)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, p := range []*plot.Plot{top, bottom} {
+			label := p.X.Label.Text
+			lines := strings.Split(label, "\n")
+			if one := strings.Join(lines, "; "); len(lines) == 1 && p.X.Label.TextStyle.Width(one) > pictureW-vg.Inch {
+				t.Errorf("label %q is one line, %v wide", one, p.X.Label.TextStyle.Width(one))
+			}
+			for _, line := range lines {
+				if w := p.X.Label.TextStyle.Width(line); w > pictureW-vg.Inch {
+					t.Errorf("line %q is %v wide, more than %v", line, w, pictureW-vg.Inch)
+				}
+			}
+			if mark != nil && !strings.Contains(label, "rings:") {
+				t.Errorf("label %q does not name the rings", label)
+			}
+			if !strings.HasSuffix(label, ")") {
+				t.Errorf("label %q does not close its parenthesis", label)
+			}
+		}
+		var b bytes.Buffer
+		if err := c.Write(&b, "svg", l); err != nil {
+			t.Fatal(err)
+		}
+		if n, fit := strings.Count(b.String(), "<text"), strings.Count(b.String(), "<text textLength="); n < 10 || fit != n {
+			t.Errorf("%d of %d text elements carry their width", fit, n)
+		}
 	}
 }
 
