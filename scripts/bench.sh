@@ -5,8 +5,8 @@
 # with `gapflux synth` (a 2 M-point binary PLY with normals, 48 MB, and a
 # 1.3 M-triangle binary STL, 65 MB), runs `gapflux analyze --out` on each
 # RUNS times (default 3) and prints the median wall time, the median
-# user+sys CPU time, the peak resident set size and the median count of
-# minor page faults; then the stage benchmarks of the test suite (go test
+# user+sys CPU time and its system part, the peak resident set size and the
+# median count of minor page faults; then the stage benchmarks of the test suite (go test
 # -bench), unless STAGES=0.
 #
 # Needs bash and Go only. Run it from anywhere in the repository:
