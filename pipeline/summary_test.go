@@ -115,7 +115,9 @@ func TestNumRoundsLikeFmt(t *testing.T) {
 
 // TestNumRange: a range whose ends print alike is one figure (a report's
 // base temperature read "121 to 121 °C"); otherwise both ends, each
-// rounded as num rounds (so 120.5 and 121.5 print 120 and 122).
+// rounded as num rounds (so 120.5 and 121.5 print 120 and 122). The
+// expected ends are fmt's %.*f of each value, the reference of
+// TestNumRoundsLikeFmt (with "-0.000" read as "0.000").
 func TestNumRange(t *testing.T) {
 	tests := []struct {
 		lo, hi float64

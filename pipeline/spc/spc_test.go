@@ -12,7 +12,6 @@ import (
 	"testing"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/vg"
 )
 
 // alternating returns n points 10.5, 9.5, 10.5, ...: mean 10, every moving
@@ -330,8 +329,9 @@ func TestWriteMarks(t *testing.T) {
 }
 
 // TestAxisLabelsFit: the axis labels below both panels, with and without
-// the rings' part, break between their parts into lines that fit the
-// picture less an inch (the individuals' label with its rings' part, 150
+// the rings' part, break between their parts into lines that fit
+// labelWidth, the picture less an inch (our margin for the value axis;
+// the individuals' label with its rings' part, 150
 // characters, ran past the picture's right edge in index.html), keep
 // every part, and every text of the SVG carries its width (svgfit).
 func TestAxisLabelsFit(t *testing.T) {
@@ -352,12 +352,12 @@ func TestAxisLabelsFit(t *testing.T) {
 		for _, p := range []*plot.Plot{top, bottom} {
 			label := p.X.Label.Text
 			lines := strings.Split(label, "\n")
-			if one := strings.Join(lines, "; "); len(lines) == 1 && p.X.Label.TextStyle.Width(one) > pictureW-vg.Inch {
+			if one := strings.Join(lines, "; "); len(lines) == 1 && p.X.Label.TextStyle.Width(one) > labelWidth {
 				t.Errorf("label %q is one line, %v wide", one, p.X.Label.TextStyle.Width(one))
 			}
 			for _, line := range lines {
-				if w := p.X.Label.TextStyle.Width(line); w > pictureW-vg.Inch {
-					t.Errorf("line %q is %v wide, more than %v", line, w, pictureW-vg.Inch)
+				if w := p.X.Label.TextStyle.Width(line); w > labelWidth {
+					t.Errorf("line %q is %v wide, more than %v", line, w, labelWidth)
 				}
 			}
 			if mark != nil && !strings.Contains(label, "rings:") {
